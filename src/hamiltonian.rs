@@ -1,0 +1,309 @@
+//! Assembly: a model at one field and kz becomes a ladder-form operator
+//! H = sum_(j,k) A_jk ⊗ a^dagger^j a^k with d x d matrices A_jk, whose matrix elements over the
+//! truncated basis |n, alpha>, n = 0..N-1, are the exact principal submatrix P H P.
+//!
+//! # Formula
+//! A term c M kx^p ky^q kz^r B^f contributes c B^f kz^r (sqrt(2)... ) M w_jk / l_B^(p+q) to
+//! A_jk, where w_jk are the normal-ordered Weyl coefficients of [`crate::ladder::weyl_monomial`].
+//! The reference energy E_ref is subtracted from A_00 in double-double arithmetic, so that a
+//! rest energy m c^2 cancels exactly before anything is rounded.
+//!
+//! The basis order of the full matrix is orbital-major, index = n d + alpha, so the matrix is
+//! block-banded with d x d blocks and half-bandwidth `band` blocks, band = the highest in-plane
+//! degree of the model. Its element (m, alpha; n, beta) is
+//! sum over (j, k) with j - k = m - n of A_jk[alpha, beta] <m| a^dag^j a^k |n>.
+
+use crate::dd::Dd;
+use crate::error::{Error, Result};
+use crate::ladder::{ladder_element, weyl_monomial};
+use crate::matrix::SpinMatrix;
+use crate::model::Model;
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+use std::collections::BTreeMap;
+
+/// Where in parameter space a spectrum is computed.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize, serde::Deserialize)]
+pub struct FieldPoint {
+    /// Magnetic field along z, signed, in the model's field unit (T or B/B_c).
+    pub field: f64,
+    /// Wave number along the field, in the inverse length unit of the model.
+    pub kz: f64,
+}
+
+impl FieldPoint {
+    /// A point at field `field` and kz = 0.
+    pub fn field(field: f64) -> Self {
+        FieldPoint { field, kz: 0.0 }
+    }
+}
+
+/// One ladder operator a^dagger^j a^k with its spinor matrix.
+#[derive(Debug, Clone)]
+pub struct LadderOp {
+    /// Power of a^dagger.
+    pub j: u32,
+    /// Power of a.
+    pub k: u32,
+    /// Spinor matrix A_jk (rounded to double).
+    pub matrix: SpinMatrix,
+    /// Rounding remainder of A_jk (double-double low part), used by the precision refinement.
+    pub low: SpinMatrix,
+}
+
+impl LadderOp {
+    /// Orbital shift m - n = j - k produced by this operator.
+    pub fn shift(&self) -> i64 {
+        self.j as i64 - self.k as i64
+    }
+}
+
+/// A model assembled at one field and kz, in ladder form.
+#[derive(Debug, Clone)]
+pub struct LadderHamiltonian {
+    /// Number of spinor components d.
+    pub dim: usize,
+    /// Highest |j - k| among the operators (the band half-width in orbitals).
+    pub band: usize,
+    /// The operators, sorted by (j, k).
+    pub ops: Vec<LadderOp>,
+    /// Magnetic length in the model's length unit.
+    pub magnetic_length: f64,
+    /// The point it was assembled at.
+    pub point: FieldPoint,
+    /// Reference energy subtracted from the diagonal.
+    pub reference_energy: f64,
+    /// Sign of qB (+1 or -1).
+    pub sign_qb: f64,
+}
+
+impl LadderHamiltonian {
+    /// Assemble `model` at `point`, subtracting `reference_energy` from the diagonal.
+    ///
+    /// # Errors
+    /// [`Error::ZeroField`] for a zero or non-finite field; [`Error::BadNumber`] for a
+    /// non-finite kz or reference energy.
+    pub fn assemble(model: &Model, point: FieldPoint, reference_energy: f64) -> Result<Self> {
+        if !(point.field.is_finite() && point.field != 0.0) {
+            return Err(Error::ZeroField { field: point.field });
+        }
+        if !point.kz.is_finite() {
+            return Err(Error::BadNumber {
+                name: "kz".into(),
+                value: point.kz,
+                fix: "give a finite wave number".into(),
+            });
+        }
+        if !reference_energy.is_finite() {
+            return Err(Error::BadNumber {
+                name: "reference energy".into(),
+                value: reference_energy,
+                fix: "give a finite energy".into(),
+            });
+        }
+        let d = model.dim();
+        let sign_qb = (model.charge() * point.field).signum();
+        let lb = model.units().magnetic_length(point.field, model.charge());
+        // accumulate in double-double: (j,k) -> d*d entries of (re, im)
+        let mut acc: BTreeMap<(u32, u32), Vec<(Dd, Dd)>> = BTreeMap::new();
+        let mut weyl_cache: BTreeMap<(u32, u32), crate::ladder::NormalPoly> = BTreeMap::new();
+        for t in model.terms() {
+            let mono = t.monomial;
+            let poly = weyl_cache
+                .entry((mono.kx, mono.ky))
+                .or_insert_with(|| weyl_monomial(mono.kx, mono.ky, sign_qb))
+                .clone();
+            let scalar = t.coefficient
+                * point.kz.powi(mono.kz as i32)
+                * point.field.powi(mono.field as i32)
+                * lb.powi(-(mono.inplane_degree() as i32));
+            for (&(j, k), &w) in &poly.terms {
+                let entry = acc
+                    .entry((j, k))
+                    .or_insert_with(|| vec![(Dd::default(), Dd::default()); d * d]);
+                let f = scalar * w;
+                for r in 0..d {
+                    for c in 0..d {
+                        let m = t.matrix[(r, c)];
+                        if m == Complex64::new(0.0, 0.0) {
+                            continue;
+                        }
+                        let e = &mut entry[r * d + c];
+                        // complex product f*m with each part accumulated exactly
+                        e.0 = e.0 + Dd::prod(f.re, m.re) - Dd::prod(f.im, m.im);
+                        e.1 = e.1 + Dd::prod(f.re, m.im) + Dd::prod(f.im, m.re);
+                    }
+                }
+            }
+        }
+        if reference_energy != 0.0 {
+            let entry = acc
+                .entry((0, 0))
+                .or_insert_with(|| vec![(Dd::default(), Dd::default()); d * d]);
+            for a in 0..d {
+                entry[a * d + a].0 = entry[a * d + a].0 - Dd::from_f64(reference_energy);
+            }
+        }
+        let mut ops = Vec::new();
+        let mut band = 0usize;
+        for ((j, k), entries) in acc {
+            let matrix = DMatrix::from_fn(d, d, |r, c| {
+                let (re, im) = entries[r * d + c];
+                Complex64::new(re.hi, im.hi)
+            });
+            let low = DMatrix::from_fn(d, d, |r, c| {
+                let (re, im) = entries[r * d + c];
+                Complex64::new(re.lo, im.lo)
+            });
+            let scale = matrix.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            if scale == 0.0 {
+                continue;
+            }
+            band = band.max((j as i64 - k as i64).unsigned_abs() as usize);
+            ops.push(LadderOp { j, k, matrix, low });
+        }
+        Ok(LadderHamiltonian {
+            dim: d,
+            band,
+            ops,
+            magnetic_length: lb,
+            point,
+            reference_energy,
+            sign_qb,
+        })
+    }
+
+    /// Element <m, alpha| H |n, beta> of the infinite matrix (also valid beyond any cutoff).
+    #[inline]
+    pub fn element(&self, m: usize, alpha: usize, n: usize, beta: usize) -> Complex64 {
+        let shift = m as i64 - n as i64;
+        let mut sum = Complex64::new(0.0, 0.0);
+        for op in &self.ops {
+            if op.shift() == shift {
+                let a = op.matrix[(alpha, beta)];
+                if a.re != 0.0 || a.im != 0.0 {
+                    sum += a * ladder_element(op.j, op.k, n);
+                }
+            }
+        }
+        sum
+    }
+
+    /// The same element in double-double (hi and lo of real and imaginary parts), for the
+    /// precision refinement.
+    pub fn element_dd(
+        &self,
+        m: usize,
+        alpha: usize,
+        n: usize,
+        beta: usize,
+    ) -> crate::dd::DdComplex {
+        let shift = m as i64 - n as i64;
+        let mut re = Dd::default();
+        let mut im = Dd::default();
+        for op in &self.ops {
+            if op.shift() == shift {
+                let a = op.matrix[(alpha, beta)];
+                let lo = op.low[(alpha, beta)];
+                if a.re == 0.0 && a.im == 0.0 && lo.re == 0.0 && lo.im == 0.0 {
+                    continue;
+                }
+                let f = ladder_element(op.j, op.k, n);
+                re = re + Dd::prod(a.re, f) + Dd::prod(lo.re, f);
+                im = im + Dd::prod(a.im, f) + Dd::prod(lo.im, f);
+            }
+        }
+        crate::dd::DdComplex { re, im }
+    }
+
+    /// For every pair of components (alpha, beta), the orbital shifts m - n through which they
+    /// couple (used by the sector detection).
+    pub fn couplings(&self) -> Vec<(usize, usize, i64)> {
+        let mut out = Vec::new();
+        for op in &self.ops {
+            for a in 0..self.dim {
+                for b in 0..self.dim {
+                    let z = op.matrix[(a, b)];
+                    if z.re != 0.0 || z.im != 0.0 {
+                        out.push((a, b, op.shift()));
+                    }
+                }
+            }
+        }
+        out.sort_unstable();
+        out.dedup();
+        out
+    }
+
+    /// Whether every operator matrix is real (then every sector matrix is real).
+    pub fn is_real(&self) -> bool {
+        self.ops
+            .iter()
+            .all(|op| op.matrix.iter().all(|z| z.im == 0.0))
+    }
+
+    /// Largest absolute row sum of the truncated matrix (an upper bound of its 2-norm), used to
+    /// scale tolerances.
+    pub fn norm_bound(&self, cutoff: usize) -> f64 {
+        let d = self.dim;
+        let mut best: f64 = 0.0;
+        // the row sums grow with n: the largest ones sit at the top of the truncated space
+        let lo = cutoff.saturating_sub(self.band + 1);
+        for m in (lo..cutoff).chain(0..cutoff.min(self.band + 1)) {
+            for a in 0..d {
+                let mut s = 0.0;
+                let n0 = m.saturating_sub(self.band);
+                let n1 = (m + self.band).min(cutoff - 1);
+                for n in n0..=n1 {
+                    for b in 0..d {
+                        s += self.element(m, a, n, b).norm();
+                    }
+                }
+                best = best.max(s);
+            }
+        }
+        best
+    }
+
+    /// The full truncated matrix over n = 0..cutoff-1 in orbital-major order (index n d + alpha).
+    /// Dense: for oracles and small problems only.
+    pub fn dense(&self, cutoff: usize) -> DMatrix<Complex64> {
+        let d = self.dim;
+        let size = cutoff * d;
+        let mut h = DMatrix::zeros(size, size);
+        for n in 0..cutoff {
+            let m0 = n.saturating_sub(self.band);
+            let m1 = (n + self.band).min(cutoff - 1);
+            for m in m0..=m1 {
+                for a in 0..d {
+                    for b in 0..d {
+                        h[(m * d + a, n * d + b)] = self.element(m, a, n, b);
+                    }
+                }
+            }
+        }
+        h
+    }
+
+    /// Non-zero elements (row, col, value) of the truncated matrix in orbital-major order:
+    /// the sparse block-banded form, O(N d^2 band) entries.
+    pub fn triplets(&self, cutoff: usize) -> Vec<(usize, usize, Complex64)> {
+        let d = self.dim;
+        let mut out = Vec::new();
+        for n in 0..cutoff {
+            let m0 = n.saturating_sub(self.band);
+            let m1 = (n + self.band).min(cutoff - 1);
+            for m in m0..=m1 {
+                for a in 0..d {
+                    for b in 0..d {
+                        let z = self.element(m, a, n, b);
+                        if z.re != 0.0 || z.im != 0.0 {
+                            out.push((m * d + a, n * d + b, z));
+                        }
+                    }
+                }
+            }
+        }
+        out
+    }
+}
