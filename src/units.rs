@@ -16,14 +16,18 @@
 pub const SPEED_OF_LIGHT: f64 = 299_792_458.0;
 /// Planck constant h, J s (exact, CODATA 2018).
 pub const PLANCK: f64 = 6.626_070_15e-34;
-/// Reduced Planck constant hbar, J s (CODATA 2018).
-pub const HBAR: f64 = 1.054_571_817e-34;
+/// Reduced Planck constant hbar = h / (2 pi), J s (exact in the 2019 SI; CODATA 2018 lists it
+/// rounded as 1.054 571 817e-34). Derived here from h so that every derived constant is
+/// consistent to the last bit (a rounded hbar would shift Landau energies by 6e-10 relative).
+pub const HBAR: f64 = PLANCK / (2.0 * std::f64::consts::PI);
 /// Elementary charge e, C (exact, CODATA 2018).
 pub const ELEMENTARY_CHARGE: f64 = 1.602_176_634e-19;
 /// Electron mass m_e, kg (CODATA 2018).
 pub const ELECTRON_MASS: f64 = 9.109_383_701_5e-31;
-/// Bohr magneton mu_B = e hbar / (2 m_e), J/T (CODATA 2018).
-pub const BOHR_MAGNETON: f64 = 9.274_010_078_3e-24;
+/// Bohr magneton mu_B = e hbar / (2 m_e), J/T, derived from e, hbar and m_e so that
+/// hbar omega_c = 2 mu_B B holds exactly for the free electron; CODATA 2018 lists
+/// 9.274 010 078 3(28)e-24 J/T (checked in the tests).
+pub const BOHR_MAGNETON: f64 = ELEMENTARY_CHARGE * HBAR / (2.0 * ELECTRON_MASS);
 /// Electron g-factor, CODATA 2018 sign convention (negative: moment antiparallel to spin).
 ///
 /// ladderfan's Zeeman terms are written `+(g/2) mu_B B sigma_z`; for a free electron in that
@@ -131,5 +135,36 @@ impl Units {
             self.field_unit(),
             self.length_unit()
         )
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn rel(a: f64, b: f64) -> f64 {
+        ((a - b) / b).abs()
+    }
+
+    #[test]
+    fn derived_constants_match_codata_2018_listings() {
+        // Listed values: CODATA 2018 (Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021)).
+        assert!(rel(HBAR, 1.054_571_817e-34) < 1e-9);
+        assert!(rel(BOHR_MAGNETON, 9.274_010_078_3e-24) < 1e-9);
+        assert!(rel(BOHR_MAGNETON_MEV_PER_T, 5.788_381_806_0e-2) < 1e-9);
+        assert!(rel(ELECTRON_REST_ENERGY_MEV, 0.510_998_950_00e9) < 1e-9);
+        // e / m_e = 1.758 820 010 76e11 C/kg: the electron cyclotron frequency per tesla.
+        assert!(rel(ELEMENTARY_CHARGE / ELECTRON_MASS, 1.758_820_010_76e11) < 1e-9);
+        // hbar c = 197.326 980 4 MeV fm = 1.973 269 804e5 meV nm
+        assert!(rel(HBAR_C_MEV_NM, 1.973_269_804e5) < 1e-9);
+        // B_c = m^2 c^2/(e hbar) = 4.414e9 T (CODATA 2018 derived; common practice value)
+        assert!(rel(ELECTRON_CRITICAL_FIELD_T, 4.414_005e9) < 1e-6);
+    }
+
+    #[test]
+    fn magnetic_length_at_one_tesla() {
+        // l_B = sqrt(hbar/(e B)) = 25.6556 nm at 1 T (CODATA 2018 constants; common practice value)
+        assert!(rel(Units::Lab.magnetic_length(1.0, -1.0), 25.655_8) < 1e-4);
+        assert!(rel(Units::Natural.magnetic_length(0.25, 1.0), 2.0) < 1e-15);
     }
 }

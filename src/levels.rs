@@ -1,0 +1,106 @@
+//! Results: levels with labels and error bounds, and the spectrum that holds them.
+
+use crate::hamiltonian::FieldPoint;
+use crate::sectors::{SectorId, Symmetry};
+use crate::units::Units;
+use num_complex::Complex64;
+use serde::Serialize;
+
+/// Whether a level can be trusted at the requested tolerance.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Convergence {
+    /// The bound is below the tolerance.
+    Converged,
+    /// The bound exceeds the tolerance: the level belongs (at least partly) to the cutoff.
+    NotConverged,
+}
+
+/// One eigenvalue of the truncated problem with its labels and bound.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Level {
+    /// Energy relative to the spectrum's reference energy, in the model's energy unit.
+    pub energy: f64,
+    /// Rigorous bound (Krylov-Bogoliubov / Weinstein): the untruncated operator has an
+    /// eigenvalue within `bound` of `energy + reference`. Combines the exact norm of the part of
+    /// H v that leaves the truncated space with the in-space residual of the solver.
+    pub bound: f64,
+    /// Converged or not at the tolerance of the solve.
+    pub convergence: Convergence,
+    /// The sector (conserved quantity) the level belongs to.
+    pub sector: SectorId,
+    /// Dominant orbital index n (largest weight).
+    pub orbital: usize,
+    /// Dominant spinor component.
+    pub component: usize,
+    /// Branch for Klein-Gordon form (+1 particle, -1 antiparticle); 0 for direct Hamiltonians.
+    pub branch: i8,
+    /// Weight of the eigenvector on the highest `band` orbitals of the basis (a cutoff
+    /// artefact has weight of order 1 there).
+    pub top_weight: f64,
+}
+
+impl Level {
+    /// Whether the level is converged.
+    pub fn is_converged(&self) -> bool {
+        self.convergence == Convergence::Converged
+    }
+}
+
+/// An eigenvector restricted to its sector: coefficients on the states (n, alpha).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LevelVector {
+    /// States (orbital n, component alpha).
+    pub states: Vec<(usize, usize)>,
+    /// Unit-norm coefficients on those states.
+    pub coeffs: Vec<Complex64>,
+}
+
+/// A computed spectrum at one field point.
+#[derive(Debug, Clone, Serialize)]
+pub struct Spectrum {
+    /// Model name.
+    pub model: String,
+    /// Unit system of every number.
+    pub units: Units,
+    /// Field and kz.
+    pub point: FieldPoint,
+    /// Orbital cutoff N (orbitals n = 0..N-1 per component).
+    pub cutoff: usize,
+    /// Number of components d.
+    pub dim: usize,
+    /// Energies are reported relative to this (m c^2 for the relativistic models).
+    pub reference_energy: f64,
+    /// Magnetic length in the model's length unit.
+    pub magnetic_length: f64,
+    /// The conserved quantity found and used.
+    pub symmetry: Symmetry,
+    /// Relative tolerance used for the convergence flags.
+    pub tolerance: f64,
+    /// Energy scale the relative tolerance refers to (a typical Landau spacing).
+    pub energy_scale: f64,
+    /// Levels, ascending in energy.
+    pub levels: Vec<Level>,
+    /// Component weights, `dim` per level, in the order of `levels`.
+    pub weights: Vec<f64>,
+    /// Eigenvectors in the order of `levels`, if requested.
+    #[serde(skip)]
+    pub vectors: Option<Vec<LevelVector>>,
+}
+
+impl Spectrum {
+    /// Component weights of level `i` (sum 1).
+    pub fn weights_of(&self, i: usize) -> &[f64] {
+        &self.weights[i * self.dim..(i + 1) * self.dim]
+    }
+
+    /// Converged levels only.
+    pub fn converged(&self) -> impl Iterator<Item = &Level> {
+        self.levels.iter().filter(|l| l.is_converged())
+    }
+
+    /// Energies of all levels (relative to the reference energy).
+    pub fn energies(&self) -> Vec<f64> {
+        self.levels.iter().map(|l| l.energy).collect()
+    }
+}

@@ -1,0 +1,496 @@
+//! The solver: sector by sector, in parallel, with labels and bounds.
+//!
+//! # Paths and complexity
+//! * Exactly conserved J (e.g. 3+1 Dirac, 2D Dirac, Pauli): O(N) sectors of size s <= d, each a
+//!   dense solve of O(d^3): total O(N d^3) time, O(N d) memory, rayon-parallel over sectors.
+//! * J mod m conserved, or no symmetry: m (or 1) dense sectors of size s ~ N d / m, O(s^3) each
+//!   ([`dense`]), or the window solver for sectors too large to diagonalise densely.
+//!
+//! Results do not depend on the thread count: each sector is solved independently and the
+//! results are concatenated in sector order before a stable sort by energy.
+
+pub mod dense;
+pub mod refine;
+
+use crate::dd::DdComplex;
+use crate::error::{Error, Result};
+use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
+use crate::ladder::ladder_element;
+use crate::levels::{Convergence, Level, LevelVector, Spectrum};
+use crate::model::{Model, SpectrumForm};
+use crate::sectors::{SectorId, SectorPlan, Symmetry};
+pub use dense::Vectors;
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+use rayon::prelude::*;
+
+/// Which energy the levels are reported relative to.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum Reference {
+    /// The model's own reference energy (m c^2 for the relativistic models, else 0).
+    #[default]
+    Model,
+    /// Zero: absolute energies.
+    Zero,
+    /// A given energy in the model's unit.
+    Energy(f64),
+}
+
+/// Whether to split the basis by the conserved quantity.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Splitting {
+    /// Detect the conserved quantity and split (the fast path).
+    #[default]
+    Auto,
+    /// One sector holding everything (the dense oracle).
+    Off,
+}
+
+/// Arithmetic used for the eigenvalues.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Precision {
+    /// Double-double refinement of small sectors when the reference energy is non-zero
+    /// (levels near a rest energy), plain double otherwise.
+    #[default]
+    Auto,
+    /// Plain double precision.
+    Double,
+    /// Always refine small sectors (size <= [`REFINE_MAX_SECTOR`]) in double-double.
+    Extended,
+}
+
+/// Largest sector that the double-double refinement handles.
+pub const REFINE_MAX_SECTOR: usize = 16;
+
+/// Settings of a solve. `Settings::with_cutoff(N)` gives good defaults.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// Orbital cutoff N: orbitals n = 0..N-1 for every component.
+    pub cutoff: usize,
+    /// Reference energy for the reported levels.
+    pub reference: Reference,
+    /// Splitting by the conserved quantity.
+    pub splitting: Splitting,
+    /// Keep eigenvectors in the result.
+    pub vectors: Vectors,
+    /// Relative tolerance for the convergence flags: a level is converged when its bound is at
+    /// most `tolerance x max(|E|, energy scale)`.
+    pub tolerance: f64,
+    /// Arithmetic of the eigenvalues.
+    pub precision: Precision,
+    /// Largest dense sector (states) before the solve refuses with a memory error.
+    pub memory_limit_mib: u64,
+}
+
+impl Settings {
+    /// Defaults with the given cutoff: split, model reference, no vectors, tolerance 1e-9,
+    /// automatic precision, 4096 MiB.
+    pub fn with_cutoff(cutoff: usize) -> Self {
+        Settings {
+            cutoff,
+            reference: Reference::Model,
+            splitting: Splitting::Auto,
+            vectors: Vectors::Skip,
+            tolerance: 1e-9,
+            precision: Precision::Auto,
+            memory_limit_mib: 4096,
+        }
+    }
+}
+
+impl Default for Settings {
+    fn default() -> Self {
+        Settings::with_cutoff(200)
+    }
+}
+
+/// The untruncated part of a level that the truncated basis cannot see: the exact norm of the
+/// components of H v beyond orbital N-1.
+///
+/// # Formula
+/// r_out^2 = sum over m >= N and alpha of |sum_(n < N, beta) H_(m alpha, n beta) v_(n beta)|^2,
+/// where only states with n >= N - band contribute.
+pub fn leakage(
+    h: &LadderHamiltonian,
+    cutoff: usize,
+    states: &[(usize, usize)],
+    v: &[Complex64],
+) -> f64 {
+    let mut buckets: Vec<((usize, usize), Complex64)> = Vec::new();
+    for (idx, &(n, beta)) in states.iter().enumerate() {
+        if n + h.band < cutoff {
+            continue;
+        }
+        for op in &h.ops {
+            let shift = op.shift();
+            if shift <= 0 {
+                continue;
+            }
+            let m = n + shift as usize;
+            if m < cutoff {
+                continue;
+            }
+            let f = ladder_element(op.j, op.k, n);
+            for alpha in 0..h.dim {
+                let a = op.matrix[(alpha, beta)];
+                if a.re == 0.0 && a.im == 0.0 {
+                    continue;
+                }
+                let val = a * f * v[idx];
+                match buckets.iter_mut().find(|(key, _)| *key == (m, alpha)) {
+                    Some((_, acc)) => *acc += val,
+                    None => buckets.push(((m, alpha), val)),
+                }
+            }
+        }
+    }
+    buckets
+        .iter()
+        .map(|(_, z)| z.norm_sqr())
+        .sum::<f64>()
+        .sqrt()
+}
+
+struct SectorResult {
+    levels: Vec<Level>,
+    weights: Vec<f64>,
+    vectors: Vec<LevelVector>,
+}
+
+struct Job<'a> {
+    h: &'a LadderHamiltonian,
+    plan: &'a SectorPlan,
+    form: SpectrumForm,
+    reference: f64,
+    refine: bool,
+    keep_vectors: bool,
+    real: bool,
+}
+
+impl Job<'_> {
+    fn solve_sector(&self, id: SectorId, states: &mut Vec<(usize, usize)>) -> Result<SectorResult> {
+        self.plan.states(id, states);
+        let s = states.len();
+        let d = self.h.dim;
+        let cutoff = self.plan.cutoff;
+        let mut out = SectorResult {
+            levels: Vec::new(),
+            weights: Vec::new(),
+            vectors: Vec::new(),
+        };
+        if s == 0 {
+            return Ok(out);
+        }
+        let hs = DMatrix::from_fn(s, s, |r, c| {
+            let (m, a) = states[r];
+            let (n, b) = states[c];
+            let z = self.h.element(m, a, n, b);
+            if self.real {
+                Complex64::new(z.re, 0.0)
+            } else {
+                z
+            }
+        });
+        let eig = dense::eigh(&hs, Vectors::Compute)?;
+        let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
+            stage: "sector solve".into(),
+            detail: "eigenvectors missing".into(),
+        })?;
+        let top_from = cutoff.saturating_sub(self.h.band.max(1));
+        for (i, &lam0) in eig.values.iter().enumerate() {
+            let mut v: Vec<Complex64> = vecs.column(i).iter().copied().collect();
+            let mut lam = lam0;
+            let mut lam_lo = 0.0;
+            let mut in_res;
+            if self.refine && s <= REFINE_MAX_SECTOR {
+                let elem = |r: usize, c: usize| -> DdComplex {
+                    let (m, a) = states[r];
+                    let (n, b) = states[c];
+                    self.h.element_dd(m, a, n, b)
+                };
+                let rf = refine::refine(s, &elem, lam0, &v, 4);
+                lam = rf.value.hi;
+                lam_lo = rf.value.lo;
+                v = rf.vector;
+                in_res = rf.residual;
+            } else {
+                // in-space residual ||H v - lambda v||
+                let hv = &hs * nalgebra::DVector::from_column_slice(&v);
+                in_res = 0.0;
+                for r in 0..s {
+                    in_res += (hv[r] - v[r] * lam0).norm_sqr();
+                }
+                in_res = in_res.sqrt();
+            }
+            let out_res = leakage(self.h, cutoff, states, &v);
+            let r = (in_res * in_res + out_res * out_res).sqrt();
+            let mut w = vec![0.0; d];
+            let mut best = (0.0, 0usize, 0usize);
+            let mut top = 0.0;
+            for (idx, &(n, a)) in states.iter().enumerate() {
+                let p = v[idx].norm_sqr();
+                w[a] += p;
+                if p > best.0 {
+                    best = (p, n, a);
+                }
+                if n >= top_from {
+                    top += p;
+                }
+            }
+            let base = Level {
+                energy: 0.0,
+                bound: 0.0,
+                convergence: Convergence::NotConverged,
+                sector: id,
+                orbital: best.1,
+                component: best.2,
+                branch: 0,
+                top_weight: top,
+            };
+            match self.form {
+                SpectrumForm::Direct => {
+                    // lam is already relative to the reference (subtracted in assembly)
+                    out.levels.push(Level {
+                        energy: lam + lam_lo,
+                        bound: r,
+                        ..base
+                    });
+                    out.weights.extend_from_slice(&w);
+                }
+                SpectrumForm::KleinGordon { rest_energy } => {
+                    let lam_full = lam + lam_lo;
+                    for branch in [1i8, -1] {
+                        let e = kg_energy(lam_full, rest_energy, branch, self.reference);
+                        let ep = kg_energy(lam_full + r, rest_energy, branch, self.reference);
+                        let em = kg_energy(
+                            (lam_full - r).max(-0.5 * rest_energy),
+                            rest_energy,
+                            branch,
+                            self.reference,
+                        );
+                        let bound = (ep - e).abs().max((e - em).abs());
+                        out.levels.push(Level {
+                            energy: e,
+                            bound,
+                            branch,
+                            ..base
+                        });
+                        out.weights.extend_from_slice(&w);
+                        if self.keep_vectors {
+                            out.vectors.push(LevelVector {
+                                states: states.clone(),
+                                coeffs: v.clone(),
+                            });
+                        }
+                    }
+                    continue;
+                }
+            }
+            if self.keep_vectors {
+                out.vectors.push(LevelVector {
+                    states: states.clone(),
+                    coeffs: v,
+                });
+            }
+        }
+        Ok(out)
+    }
+}
+
+/// Energy of a Klein-Gordon branch relative to `reference`, from the eigenvalue lambda of the
+/// squared-form operator: E = branch sqrt(M^2 + 2 M lambda), M = m c^2, evaluated without
+/// cancellation as E - M = 2 lambda / (sqrt(1 + 2 lambda / M) + 1).
+pub fn kg_energy(lambda: f64, rest_energy: f64, branch: i8, reference: f64) -> f64 {
+    let x = 2.0 * lambda / rest_energy;
+    let excess = 2.0 * lambda / ((1.0 + x).max(0.0).sqrt() + 1.0); // E+ - M
+    if branch >= 0 {
+        excess + (rest_energy - reference)
+    } else {
+        -excess - (rest_energy + reference)
+    }
+}
+
+impl Spectrum {
+    /// Compute the Landau-level spectrum of `model` at `point` with `settings`.
+    ///
+    /// # Errors
+    /// [`Error::ZeroField`] for B = 0; [`Error::CutoffTooSmall`] when the cutoff does not exceed
+    /// the model's band; [`Error::MemoryLimit`] when a dense sector would exceed the limit.
+    ///
+    /// # Examples
+    /// ```
+    /// use ladderfan::{builtin, FieldPoint, Settings, Spectrum};
+    /// let model = builtin::schrodinger(builtin::MassParams { mass_ratio: 1.0, charge: -1.0 })?;
+    /// let spec = Spectrum::compute(&model, FieldPoint::field(1.0), &Settings::with_cutoff(40))?;
+    /// // hbar omega_c / 2 for a free electron at 1 T: 0.05788 meV (CODATA 2018: 2 mu_B B / 2)
+    /// assert!((spec.levels[0].energy - 0.057_883_8).abs() < 1e-6);
+    /// # Ok::<(), ladderfan::Error>(())
+    /// ```
+    pub fn compute(model: &Model, point: FieldPoint, settings: &Settings) -> Result<Spectrum> {
+        let reference = match settings.reference {
+            Reference::Model => model.reference_energy(),
+            Reference::Zero => 0.0,
+            Reference::Energy(e) => e,
+        };
+        if !(settings.tolerance.is_finite() && settings.tolerance > 0.0) {
+            return Err(Error::BadNumber {
+                name: "tolerance".into(),
+                value: settings.tolerance,
+                fix: "use a positive relative tolerance such as 1e-9".into(),
+            });
+        }
+        // The Klein-Gordon operator is assembled without shift; the reference enters the map.
+        let assembly_ref = match model.form() {
+            SpectrumForm::Direct => reference,
+            SpectrumForm::KleinGordon { .. } => 0.0,
+        };
+        let h = LadderHamiltonian::assemble(model, point, assembly_ref)?;
+        let needed = h.band + 1;
+        if settings.cutoff < needed {
+            return Err(Error::CutoffTooSmall {
+                cutoff: settings.cutoff,
+                needed,
+                why: format!("for a model whose terms reach ladder power {}", h.band),
+            });
+        }
+        let symmetry = match settings.splitting {
+            Splitting::Auto => Symmetry::detect(&h),
+            Splitting::Off => Symmetry::none(h.dim),
+        };
+        let plan = SectorPlan::new(symmetry, settings.cutoff);
+        let ids = plan.sectors();
+        // memory check for the largest sector
+        let mut buf = Vec::new();
+        let largest = ids
+            .iter()
+            .filter(|id| plan.symmetry.classes[id.class].modulus != 0)
+            .map(|&id| {
+                plan.states(id, &mut buf);
+                buf.len()
+            })
+            .max()
+            .unwrap_or(h.dim);
+        let need_mib = (largest as u64).pow(2) * 16 * 3 / (1 << 20);
+        if need_mib > settings.memory_limit_mib {
+            return Err(Error::MemoryLimit {
+                what: format!("a dense sector of {largest} states"),
+                needed_mib: need_mib,
+                limit_mib: settings.memory_limit_mib,
+            });
+        }
+        let refine = match settings.precision {
+            Precision::Double => false,
+            Precision::Extended => true,
+            Precision::Auto => assembly_ref != 0.0,
+        };
+        let job = Job {
+            h: &h,
+            plan: &plan,
+            form: model.form(),
+            reference,
+            refine,
+            keep_vectors: settings.vectors == Vectors::Compute,
+            real: h.is_real(),
+        };
+        let chunk = 512;
+        let parts: Vec<Result<SectorResult>> = ids
+            .par_chunks(chunk)
+            .map(|chunk_ids| {
+                let mut states = Vec::new();
+                let mut acc = SectorResult {
+                    levels: Vec::new(),
+                    weights: Vec::new(),
+                    vectors: Vec::new(),
+                };
+                for &id in chunk_ids {
+                    let r = job.solve_sector(id, &mut states)?;
+                    acc.levels.extend(r.levels);
+                    acc.weights.extend(r.weights);
+                    acc.vectors.extend(r.vectors);
+                }
+                Ok(acc)
+            })
+            .collect();
+        let mut levels = Vec::new();
+        let mut weights = Vec::new();
+        let mut vectors = Vec::new();
+        for p in parts {
+            let p = p?;
+            levels.extend(p.levels);
+            weights.extend(p.weights);
+            vectors.extend(p.vectors);
+        }
+        // stable sort by energy, carrying weights and vectors along
+        let d = h.dim;
+        let mut order: Vec<usize> = (0..levels.len()).collect();
+        order.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+        let levels: Vec<Level> = order.iter().map(|&i| levels[i]).collect();
+        let weights: Vec<f64> = order
+            .iter()
+            .flat_map(|&i| weights[i * d..(i + 1) * d].iter().copied())
+            .collect();
+        let vectors = if settings.vectors == Vectors::Compute {
+            let mut slots: Vec<Option<LevelVector>> = vectors.into_iter().map(Some).collect();
+            Some(
+                order
+                    .iter()
+                    .map(|&i| {
+                        slots[i].take().unwrap_or_else(|| LevelVector {
+                            states: vec![],
+                            coeffs: vec![],
+                        })
+                    })
+                    .collect(),
+            )
+        } else {
+            None
+        };
+        let energy_scale = energy_scale(&levels, d);
+        let mut spectrum = Spectrum {
+            model: model.name().to_string(),
+            units: model.units(),
+            point,
+            cutoff: settings.cutoff,
+            dim: d,
+            reference_energy: reference,
+            magnetic_length: h.magnetic_length,
+            symmetry: plan.symmetry.clone(),
+            tolerance: settings.tolerance,
+            energy_scale,
+            levels,
+            weights,
+            vectors,
+        };
+        flag_convergence(&mut spectrum);
+        Ok(spectrum)
+    }
+}
+
+/// A typical Landau spacing: the median of the non-zero |E| among the 2d+1 levels closest to
+/// the reference energy (1 if there are none).
+pub fn energy_scale(levels: &[Level], dim: usize) -> f64 {
+    let mut mags: Vec<f64> = levels.iter().map(|l| l.energy.abs()).collect();
+    mags.sort_by(f64::total_cmp);
+    let mut near: Vec<f64> = mags
+        .into_iter()
+        .take(2 * dim + 1)
+        .filter(|&x| x > f64::MIN_POSITIVE)
+        .collect();
+    if near.is_empty() {
+        return 1.0;
+    }
+    near.sort_by(f64::total_cmp);
+    near[near.len() / 2]
+}
+
+/// Set each level's convergence flag: converged when bound <= tolerance x max(|E|, scale).
+pub fn flag_convergence(s: &mut Spectrum) {
+    let (tol, scale) = (s.tolerance, s.energy_scale);
+    for l in &mut s.levels {
+        l.convergence = if l.bound <= tol * l.energy.abs().max(scale) {
+            Convergence::Converged
+        } else {
+            Convergence::NotConverged
+        };
+    }
+}
