@@ -15,17 +15,24 @@ use ladderfan::{FieldPoint, Settings, Spectrum, Splitting};
 use std::hint::black_box;
 
 fn point() -> FieldPoint {
-    FieldPoint { field: 1e-3, kz: 0.05 }
+    FieldPoint {
+        field: 1e-3,
+        kz: 0.05,
+    }
 }
 
 fn assembly(c: &mut Criterion) {
     let m = builtin::dirac(RelativisticParams::default()).expect("model");
     let mut g = c.benchmark_group("assembly");
-    g.bench_function("dirac", |b| b.iter(|| LadderHamiltonian::assemble(black_box(&m), point(), 1.0)));
+    g.bench_function("dirac", |b| {
+        b.iter(|| LadderHamiltonian::assemble(black_box(&m), point(), 1.0))
+    });
     g.finish();
     let h = LadderHamiltonian::assemble(&m, point(), 1.0).expect("assembly");
     let mut g = c.benchmark_group("sectors");
-    g.bench_function("detect_dirac", |b| b.iter(|| Symmetry::detect(black_box(&h))));
+    g.bench_function("detect_dirac", |b| {
+        b.iter(|| Symmetry::detect(black_box(&h)))
+    });
     g.finish();
 }
 
@@ -34,7 +41,10 @@ fn split_dirac(c: &mut Criterion) {
     let mut g = c.benchmark_group("split_dirac");
     g.sample_size(10);
     for n in [10_000usize, 100_000, 1_000_000] {
-        for (name, precision) in [("double", Precision::Double), ("refined", Precision::Extended)] {
+        for (name, precision) in [
+            ("double", Precision::Double),
+            ("refined", Precision::Extended),
+        ] {
             let mut s = Settings::with_cutoff(n);
             s.precision = precision;
             g.bench_with_input(BenchmarkId::new(name, n), &s, |b, s| {
@@ -51,7 +61,9 @@ fn dense_unsplit(c: &mut Criterion) {
     g.sample_size(10);
     let mut s = Settings::with_cutoff(500);
     s.splitting = Splitting::Off;
-    g.bench_function("dirac_4N_2000", |b| b.iter(|| Spectrum::compute(&m, point(), &s).expect("solve")));
+    g.bench_function("dirac_4N_2000", |b| {
+        b.iter(|| Spectrum::compute(&m, point(), &s).expect("solve"))
+    });
     g.finish();
 }
 

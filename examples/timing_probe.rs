@@ -6,13 +6,35 @@ fn main() -> Result<()> {
         let mut s = Settings::with_cutoff(1_000_000);
         s.precision = prec;
         let t = Instant::now();
-        let sp = Spectrum::compute(&m, FieldPoint { field: 1e-3, kz: 0.05 }, &s)?;
-        println!("{prec:?} N=1e6: {:.3} s, {} levels", t.elapsed().as_secs_f64(), sp.levels.len());
+        let sp = Spectrum::compute(
+            &m,
+            FieldPoint {
+                field: 1e-3,
+                kz: 0.05,
+            },
+            &s,
+        )?;
+        println!(
+            "{prec:?} N=1e6: {:.3} s, {} levels",
+            t.elapsed().as_secs_f64(),
+            sp.levels.len()
+        );
     }
     let mut s = Settings::with_cutoff(500);
     s.splitting = Splitting::Off;
     let t = Instant::now();
-    let sp = Spectrum::compute(&m, FieldPoint { field: 1e-3, kz: 0.05 }, &s)?;
-    println!("dense 2000: {:.3} s, {} levels", t.elapsed().as_secs_f64(), sp.levels.len());
+    let sp = Spectrum::compute(
+        &m,
+        FieldPoint {
+            field: 1e-3,
+            kz: 0.05,
+        },
+        &s,
+    )?;
+    println!(
+        "dense 2000: {:.3} s, {} levels",
+        t.elapsed().as_secs_f64(),
+        sp.levels.len()
+    );
     Ok(())
 }

@@ -30,7 +30,12 @@ fn random_model(d: usize, monos: &[(u32, u32, u32)], xs: &[f64], charge: f64) ->
     let mut b = Model::builder("random", d).charge(charge);
     for (i, &(kx, ky, kz)) in monos.iter().enumerate() {
         let m = hermitian(d, &xs[i % xs.len()..]);
-        b = b.term(&format!("t{i}"), 1.0 + i as f64, m, Monomial::new(kx, ky, kz));
+        b = b.term(
+            &format!("t{i}"),
+            1.0 + i as f64,
+            m,
+            Monomial::new(kx, ky, kz),
+        );
     }
     b.build().expect("Hermitian by construction")
 }

@@ -183,7 +183,12 @@ struct Job<'a> {
 }
 
 impl Job<'_> {
-    fn solve_sector(&self, id: SectorId, states: &mut Vec<(usize, usize)>, out: &mut SectorResult) -> Result<()> {
+    fn solve_sector(
+        &self,
+        id: SectorId,
+        states: &mut Vec<(usize, usize)>,
+        out: &mut SectorResult,
+    ) -> Result<()> {
         self.plan.states(id, states);
         let s = states.len();
         let d = self.h.dim;
@@ -276,9 +281,16 @@ impl Job<'_> {
             match self.form {
                 SpectrumForm::Direct => {
                     // lam is already relative to the reference (subtracted in assembly)
-                    out.levels.push(Level { energy: lam + lam_lo, bound: r, ..base });
+                    out.levels.push(Level {
+                        energy: lam + lam_lo,
+                        bound: r,
+                        ..base
+                    });
                     if self.keep_vectors {
-                        out.vectors.push(LevelVector { states: states.clone(), coeffs: v.clone() });
+                        out.vectors.push(LevelVector {
+                            states: states.clone(),
+                            coeffs: v.clone(),
+                        });
                     }
                 }
                 SpectrumForm::KleinGordon { rest_energy } => {
@@ -286,16 +298,29 @@ impl Job<'_> {
                     for branch in [1i8, -1] {
                         let e = kg_energy(lam_full, rest_energy, branch, self.reference);
                         let ep = kg_energy(lam_full + r, rest_energy, branch, self.reference);
-                        let em = kg_energy((lam_full - r).max(-0.5 * rest_energy), rest_energy, branch, self.reference);
+                        let em = kg_energy(
+                            (lam_full - r).max(-0.5 * rest_energy),
+                            rest_energy,
+                            branch,
+                            self.reference,
+                        );
                         let bound = (ep - e).abs().max((e - em).abs());
-                        out.levels.push(Level { energy: e, bound, branch, ..base });
+                        out.levels.push(Level {
+                            energy: e,
+                            bound,
+                            branch,
+                            ..base
+                        });
                         if branch == -1 {
                             // the second branch shares the weights of the first
                             let w: Vec<f64> = out.weights[w0..w0 + d].to_vec();
                             out.weights.extend_from_slice(&w);
                         }
                         if self.keep_vectors {
-                            out.vectors.push(LevelVector { states: states.clone(), coeffs: v.clone() });
+                            out.vectors.push(LevelVector {
+                                states: states.clone(),
+                                coeffs: v.clone(),
+                            });
                         }
                     }
                 }
