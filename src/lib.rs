@@ -2,6 +2,8 @@
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 pub mod builtin;
+pub mod catalogue;
+pub mod closed_form;
 pub mod dd;
 pub mod error;
 pub mod hamiltonian;
