@@ -445,3 +445,72 @@ fn unpaired_levels_are_counted_once_per_block() {
     let dense = dense_levels(&b, pt, 50, 1e-7 * s, (-0.5 * s, 0.5 * s));
     assert_eq!(dense.iter().filter(|e| e.abs() < 1e-9 * s).count(), 2);
 }
+
+#[test]
+fn for_model_works_for_a_model_rebuilt_from_name_and_parameters() {
+    // A model rebuilt term by term (as a model file would be) keeps its closed form, and the
+    // dispatcher returns exactly the typed function's list.
+    let orig = ok(catalogue::rashba(RashbaParams::default()));
+    let mut b = Model::builder(orig.name(), orig.dim())
+        .charge(orig.charge())
+        .units(orig.units());
+    for (k, v) in orig.params() {
+        b = b.param(k, *v);
+    }
+    for t in orig.terms() {
+        b = b.term_complex(&t.label, t.coefficient, t.matrix.clone(), t.monomial);
+    }
+    let rebuilt = ok(b.build());
+    let pt = FieldPoint::field(-2.5);
+    let typed = ok(closed_form::rashba(RashbaParams::default(), pt, 12));
+    let via = closed_form::for_model(&rebuilt, pt, 0.0, 12).unwrap_or_default();
+    assert_eq!(typed, via);
+    assert_eq!(typed.len(), 25);
+    // unknown parameters or units give None rather than a wrong formula
+    let wrong_units = ok(Model::builder("dirac", 1)
+        .units(Units::Lab)
+        .param("mass", 1.0)
+        .param("speed", 1.0)
+        .term(
+            "x",
+            1.0,
+            ladderfan::matrix::identity(1),
+            ladderfan::Monomial::ONE,
+        )
+        .build());
+    assert!(closed_form::for_model(&wrong_units, pt, 0.0, 3).is_none());
+}
+
+#[test]
+fn solver_keeps_dirac_levels_at_one_tesla_to_1e_10_of_the_spacing() {
+    // b = 1 T / B_c: hbar omega_c = b m c^2 ~ 2.3e-10 m c^2. Plain double precision of the
+    // eigenvalues (~1e-16 m c^2) would be ~1e-6 of the spacing; the library refines levels near
+    // the reference energy. Closed form: Rabi 1928 / Johnson & Lippmann 1949, cancellation-free.
+    let b = 1.0 / ladderfan::units::ELECTRON_CRITICAL_FIELD_T;
+    let model = ok(builtin::dirac(RelativisticParams::default()));
+    for q in [-1.0, 1.0] {
+        let model = ok(model.with_charge(q));
+        let pt = FieldPoint::field(b);
+        let spec = ok(Spectrum::compute(&model, pt, &Settings::with_cutoff(20)));
+        let want = closed_form::for_model(&model, pt, 1.0, 19).unwrap_or_default();
+        let mut expanded: Vec<f64> = Vec::new();
+        for l in want.iter().filter(|l| l.s > 0 && l.n <= 5) {
+            for _ in 0..l.multiplicity {
+                expanded.push(l.energy);
+            }
+        }
+        expanded.sort_by(f64::total_cmp);
+        let got: Vec<f64> = spec
+            .converged()
+            .map(|l| l.energy)
+            .filter(|e| *e > -0.5 && *e < 5.5 * b)
+            .collect();
+        assert_eq!(got.len(), expanded.len(), "{got:?} vs {expanded:?}");
+        let mut worst: f64 = 0.0;
+        for (g, w) in got.iter().zip(&expanded) {
+            worst = worst.max((g - w).abs() / b);
+        }
+        eprintln!("dirac at 1 T, q={q}: max deviation / hbar omega_c = {worst:.2e}");
+        assert!(worst <= TOL, "{worst:e}");
+    }
+}
