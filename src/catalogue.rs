@@ -147,6 +147,16 @@ impl Default for TiltedDiracParams {
 ///
 /// # Errors
 /// [`Error::BadNumber`] for a non-positive velocity, |w| >= v, or a valley other than ±1.
+///
+/// # Examples
+/// ```
+/// use ladderfan::{catalogue, closed_form, FieldPoint};
+/// let m = catalogue::tilted_dirac2d(catalogue::TiltedDiracParams::default())?; // beta = 0.4
+/// let l = closed_form::for_model(&m, FieldPoint::field(1.0), 0.0, 1).unwrap();
+/// let untilted = closed_form::dirac_energy_mev(1.0e5, 1.0, -1.0);
+/// assert!((l[2].energy / untilted - 0.84f64.powf(0.75)).abs() < 1e-14);
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
 pub fn tilted_dirac2d(p: TiltedDiracParams) -> Result<Model> {
     positive("velocity_m_per_s", p.velocity_m_per_s)?;
     finite("tilt_velocity_m_per_s", p.tilt_velocity_m_per_s)?;
