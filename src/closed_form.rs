@@ -633,7 +633,7 @@ pub fn bilayer(p: BilayerParams, point: FieldPoint, max_n: usize) -> Result<Vec<
     check_point(point)?;
     let w = cyclotron_energy_mev(p.mass_ratio, point.field, p.charge);
     let mut v = Vec::new();
-    for n in 0..=max_n.max(1) {
+    for n in 0..=max_n {
         if n < 2 {
             v.push(lvl(0.0, 1, n, 0, format!("n={n} zero")));
         } else {
