@@ -36,6 +36,8 @@
 // float_cmp is denied so that exact comparisons are always deliberate (`#[allow]` with a reason).
 
 pub mod builtin;
+pub mod catalogue;
+pub mod closed_form;
 pub mod dd;
 pub mod error;
 pub mod hamiltonian;
