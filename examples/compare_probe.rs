@@ -1,0 +1,136 @@
+//! Timing probe for `scripts/compare.py`: runs one ladderfan path on the 3+1 Dirac model
+//! (natural units, B = 1e-3 B_c, kz = 0.05, the point of `benches/engine.rs`), prints one JSON
+//! object with the timings and writes the eigenvalues (absolute energies, ascending, raw
+//! little-endian f64) to `--values FILE` for the agreement check against numpy.
+//!
+//! ```text
+//! compare_probe split N [--threads T] [--values FILE]   split sectors, labels and bounds
+//! compare_probe dense N [--threads T] [--values FILE] [--full]   one dense sector of 4N states
+//! ```
+//! Setup (model, assembly of the dense matrix) is not timed; each timing is the median of
+//! repeated runs (as many as fit in about 2 s, at least 1, at most 15). `dense ... --full` also
+//! times the complete unsplit `Spectrum::compute` (eigenvectors, bounds, labels).
+
+use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::solve::dense;
+use ladderfan::{builtin, FieldPoint, Settings, Spectrum, Splitting};
+use std::io::Write;
+use std::time::Instant;
+
+const POINT: FieldPoint = FieldPoint {
+    field: 1e-3,
+    kz: 0.05,
+};
+
+fn fail(msg: &str) -> ! {
+    eprintln!("compare_probe: {msg}");
+    std::process::exit(2)
+}
+
+/// Median wall time (s) of `f`, repeated while the total stays below ~2 s (1..=15 runs), and
+/// the result of the last run.
+fn timed<T>(mut f: impl FnMut() -> T) -> (f64, usize, T) {
+    let mut times = Vec::new();
+    let start = Instant::now();
+    let out = loop {
+        let t = Instant::now();
+        let r = f();
+        times.push(t.elapsed().as_secs_f64());
+        let total = start.elapsed().as_secs_f64();
+        if times.len() >= 15 || total > 2.0 {
+            break r;
+        }
+    };
+    times.sort_by(f64::total_cmp);
+    (times[times.len() / 2], times.len(), out)
+}
+
+fn write_values(path: Option<&str>, values: &[f64]) {
+    if let Some(p) = path {
+        let mut bytes = Vec::with_capacity(values.len() * 8);
+        for v in values {
+            bytes.extend_from_slice(&v.to_le_bytes());
+        }
+        let res = std::fs::File::create(p).and_then(|mut f| f.write_all(&bytes));
+        if let Err(e) = res {
+            fail(&format!("cannot write {p}: {e}"));
+        }
+    }
+}
+
+fn main() {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let (path, n) = match (args.first(), args.get(1).and_then(|s| s.parse::<usize>().ok())) {
+        (Some(p), Some(n)) => (p.clone(), n),
+        _ => fail("usage: compare_probe split|dense N [--threads T] [--values FILE]"),
+    };
+    let flag = |name: &str| {
+        args.iter()
+            .position(|a| a == name)
+            .and_then(|i| args.get(i + 1))
+            .map(String::as_str)
+    };
+    let threads = flag("--threads")
+        .map(|t| t.parse::<usize>().unwrap_or_else(|_| fail("bad --threads")))
+        .unwrap_or(0);
+    let values_path = flag("--values");
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .unwrap_or_else(|e| fail(&format!("thread pool: {e}")));
+    let threads = pool.current_num_threads();
+    let model = builtin::dirac(builtin::RelativisticParams::default())
+        .unwrap_or_else(|e| fail(&e.to_string()));
+    let json = pool.install(|| match path.as_str() {
+        "split" => {
+            let settings = Settings::with_cutoff(n);
+            let (t, reps, spec) = timed(|| {
+                Spectrum::compute(&model, POINT, &settings).unwrap_or_else(|e| fail(&e.to_string()))
+            });
+            let mut abs: Vec<f64> = spec
+                .levels
+                .iter()
+                .map(|l| l.energy + spec.reference_energy)
+                .collect();
+            abs.sort_by(f64::total_cmp);
+            write_values(values_path, &abs);
+            let converged = spec.converged().count();
+            serde_json::json!({
+                "path": "split", "cutoff": n, "size": 4 * n, "threads": threads,
+                "seconds": t, "repeats": reps, "levels": spec.levels.len(),
+                "converged": converged, "reference_energy": spec.reference_energy,
+                "what": "Spectrum::compute, split by J, labels and bounds, default precision",
+            })
+        }
+        "dense" => {
+            let h = LadderHamiltonian::assemble(&model, POINT, 0.0)
+                .unwrap_or_else(|e| fail(&e.to_string()));
+            let m = h.dense(n);
+            let (t_eigh, reps_eigh, eig) = timed(|| {
+                dense::eigh(&m, dense::Vectors::Skip).unwrap_or_else(|e| fail(&e.to_string()))
+            });
+            write_values(values_path, &eig.values);
+            let mut out = serde_json::json!({
+                "path": "dense", "cutoff": n, "size": 4 * n, "threads": threads,
+                "seconds": t_eigh, "repeats": reps_eigh,
+                "what": "solve::dense::eigh of the unsplit 4N x 4N matrix, values only",
+                "levels": eig.values.len(),
+            });
+            if args.iter().any(|a| a == "--full") {
+                let mut settings = Settings::with_cutoff(n);
+                settings.splitting = Splitting::Off;
+                let (t_full, reps_full, _) = timed(|| {
+                    Spectrum::compute(&model, POINT, &settings)
+                        .unwrap_or_else(|e| fail(&e.to_string()))
+                });
+                out["full_seconds"] = t_full.into();
+                out["full_repeats"] = reps_full.into();
+                out["full_what"] =
+                    "Spectrum::compute with Splitting::Off (eigenvectors, bounds, labels)".into();
+            }
+            out
+        }
+        other => fail(&format!("unknown path {other}; use split or dense")),
+    });
+    println!("{json}");
+}

@@ -1,0 +1,258 @@
+#!/usr/bin/env python3
+"""Side-by-side timing of ladderfan and numpy/scipy on the same matrices (run via compare.sh).
+
+Builds the truncated 3+1 Dirac Hamiltonian in numpy from its element formulas (natural units,
+m c^2 = c = hbar = 1, electron charge q = -1, B = 1e-3 B_c, kz = 0.05; orbital-major basis
+index n*4 + alpha), or reads it from a MatrixMarket file (--matrix, e.g. written by
+`ladderfan export`), times numpy.linalg.eigvalsh / eigh and scipy.linalg.eigvals_banded on it,
+runs the ladderfan probe (examples/compare_probe.rs) on the same problem, checks that the
+eigenvalues agree within a tolerance scaled by the matrix norm, and prints one table of times,
+ratios and peak memory, all measured in this run.
+
+Element formulas (independent of the Rust code; see src/builtin.rs and src/ladder.rs for the
+conventions they restate): H = c alpha.k + beta m c^2 with alpha_i = sigma_x (x) sigma_i,
+beta = sigma_z (x) 1; Peierls substitution with s = sign(qB), l_B = 1/sqrt(|q B|):
+kx = (a + a^dag)/(sqrt2 l_B), ky = -i s (a - a^dag)/(sqrt2 l_B), <n-1|a|n> = sqrt(n).
+
+Every case runs in its own process under GNU time (/usr/bin/time -v) for its peak resident
+memory. BLAS threads are pinned to 1 by compare.sh.
+"""
+import argparse
+import datetime
+import json
+import os
+import platform
+import re
+import subprocess
+import sys
+import tempfile
+import time
+
+FIELD = 1e-3  # B / B_c
+KZ = 0.05  # in m c / hbar
+CHARGE = -1.0
+
+
+def dirac_matrix(cutoff):
+    """Dense truncated 3+1 Dirac matrix (4 cutoff x 4 cutoff), real when it can be."""
+    import numpy as np
+
+    sx = np.array([[0, 1], [1, 0]], dtype=complex)
+    sy = np.array([[0, -1j], [1j, 0]], dtype=complex)
+    sz = np.array([[1, 0], [0, -1]], dtype=complex)
+    one = np.eye(2, dtype=complex)
+    ax, ay, az = np.kron(sx, sx), np.kron(sx, sy), np.kron(sx, sz)
+    beta = np.kron(sz, one)
+    s = np.sign(CHARGE * FIELD)
+    lb = 1.0 / np.sqrt(abs(CHARGE * FIELD))
+    c = 1.0 / (np.sqrt(2.0) * lb)
+    lower = c * (ax - 1j * s * ay)  # coefficient of a
+    raise_ = c * (ax + 1j * s * ay)  # coefficient of a^dag
+    diag = KZ * az + beta
+    d = 4
+    h = np.zeros((d * cutoff, d * cutoff), dtype=complex)
+    for n in range(cutoff):
+        h[n * d:(n + 1) * d, n * d:(n + 1) * d] = diag
+        if n >= 1:  # <n-1| a |n> = sqrt(n)
+            h[(n - 1) * d:n * d, n * d:(n + 1) * d] = lower * np.sqrt(n)
+        if n + 1 < cutoff:  # <n+1| a^dag |n> = sqrt(n+1)
+            h[(n + 1) * d:(n + 2) * d, n * d:(n + 1) * d] = raise_ * np.sqrt(n + 1)
+    if not np.allclose(h, h.conj().T, rtol=0, atol=1e-14):
+        raise SystemExit("compare.py: the numpy matrix is not Hermitian (formula error)")
+    if np.max(np.abs(h.imag)) == 0.0:
+        h = np.ascontiguousarray(h.real)
+    return h
+
+
+def load_matrix(args, cutoff):
+    if args.matrix:
+        import numpy as np
+        import scipy.io
+
+        h = scipy.io.mmread(args.matrix)
+        h = h.toarray() if hasattr(h, "toarray") else np.asarray(h)
+        if h.shape != (4 * cutoff, 4 * cutoff):
+            raise SystemExit(f"compare.py: {args.matrix} is {h.shape}, expected 4N = {4 * cutoff}")
+        if np.iscomplexobj(h) and np.max(np.abs(h.imag)) == 0.0:
+            h = np.ascontiguousarray(h.real)
+        return h
+    return dirac_matrix(cutoff)
+
+
+def timed(f):
+    """Median wall time of f() over as many runs as fit in ~2 s (1..15), and the last result."""
+    times, start = [], time.perf_counter()
+    while True:
+        t = time.perf_counter()
+        out = f()
+        times.append(time.perf_counter() - t)
+        if len(times) >= 15 or time.perf_counter() - start > 2.0:
+            break
+    times.sort()
+    return times[len(times) // 2], len(times), out
+
+
+def worker(args):
+    """One numpy/scipy timing in this process (called under /usr/bin/time)."""
+    import numpy as np
+    import scipy.linalg
+
+    h = load_matrix(args, args.cutoff)
+    kind = args.worker
+    if kind == "numpy-eigvalsh":
+        t, reps, w = timed(lambda: np.linalg.eigvalsh(h))
+        what = "numpy.linalg.eigvalsh (values only)"
+    elif kind == "numpy-eigh":
+        t, reps, (w, _) = timed(lambda: np.linalg.eigh(h))
+        what = "numpy.linalg.eigh (values and vectors)"
+    elif kind == "scipy-banded":
+        # lower band storage: ab[i - j, j] = h[i, j] for 0 <= i - j <= u
+        u = 7  # 4 components x 1 orbital coupling, minus 1 (a and a^dag couple n and n +- 1)
+        n = h.shape[0]
+        ab = np.zeros((u + 1, n), dtype=h.dtype)
+        for k in range(u + 1):
+            ab[k, : n - k] = np.diagonal(h, -k)
+        outside = np.tril(h, -(u + 1))
+        if np.any(outside != 0):
+            raise SystemExit("compare.py: matrix wider than the assumed band")
+        t, reps, w = timed(lambda: scipy.linalg.eigvals_banded(ab, lower=True))
+        what = "scipy.linalg.eigvals_banded (values only, half-bandwidth 7)"
+    else:
+        raise SystemExit(f"compare.py: unknown worker {kind}")
+    w = np.sort(np.asarray(w, dtype=float))
+    w.astype("<f8").tofile(args.values)
+    norm2 = float(np.max(np.abs(w)))
+    print(json.dumps({"path": kind, "seconds": t, "repeats": reps, "what": what,
+                      "size": h.shape[0], "threads": 1, "norm2": norm2,
+                      "dtype": str(h.dtype)}))
+
+
+def run_measured(cmd, env):
+    """Run cmd under GNU time -v; return (json from stdout, peak RSS in MiB or None)."""
+    gnu_time = "/usr/bin/time"
+    full = [gnu_time, "-v"] + cmd if os.path.exists(gnu_time) else cmd
+    p = subprocess.run(full, capture_output=True, text=True, env=env)
+    if p.returncode != 0:
+        sys.stderr.write(p.stderr)
+        raise SystemExit(f"compare.py: {' '.join(cmd)} failed ({p.returncode})")
+    m = re.search(r"Maximum resident set size \(kbytes\): (\d+)", p.stderr)
+    rss = int(m.group(1)) / 1024.0 if m else None
+    line = [x for x in p.stdout.splitlines() if x.startswith("{")][-1]
+    return json.loads(line), rss
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--probe", default="target/release/examples/compare_probe")
+    ap.add_argument("--matrix", help="MatrixMarket file of the split case's matrix (4N = 4000)")
+    ap.add_argument("--quick", action="store_true", help="small sizes: a smoke test")
+    ap.add_argument("--full", action="store_true",
+                    help="also time the complete unsplit Spectrum::compute at 4N = 2000")
+    ap.add_argument("--skip-window", action="store_true")
+    ap.add_argument("--json", help="also write the rows as JSON to this file")
+    ap.add_argument("--worker", help=argparse.SUPPRESS)
+    ap.add_argument("--cutoff", type=int, help=argparse.SUPPRESS)
+    ap.add_argument("--values", help=argparse.SUPPRESS)
+    args = ap.parse_args()
+    if args.worker:
+        return worker(args)
+
+    import numpy as np
+
+    env = dict(os.environ, OPENBLAS_NUM_THREADS="1", OMP_NUM_THREADS="1", MKL_NUM_THREADS="1")
+    nproc = os.cpu_count()
+    split_n, dense_n = (100, 50) if args.quick else (1000, 500)
+    tmp = tempfile.mkdtemp(prefix="ladderfan-compare-")
+    rows = []  # dicts: case, solver, threads, seconds, rss, values file
+    eps = np.finfo(float).eps
+
+    def py(kind, cutoff):
+        vals = os.path.join(tmp, f"{kind}-{cutoff}.bin")
+        cmd = [sys.executable, os.path.abspath(__file__), "--worker", kind,
+               "--cutoff", str(cutoff), "--values", vals]
+        if args.matrix and cutoff == split_n:
+            cmd += ["--matrix", args.matrix]
+        j, rss = run_measured(cmd, env)
+        return dict(j, rss=rss, values=vals, solver=kind)
+
+    def probe(path, cutoff, threads, extra=()):
+        vals = os.path.join(tmp, f"lf-{path}-{cutoff}-{threads}.bin")
+        cmd = [args.probe, path, str(cutoff), "--threads", str(threads), "--values", vals]
+        j, rss = run_measured(cmd + list(extra), env)
+        return dict(j, rss=rss, values=vals, solver=f"ladderfan {path}")
+
+    cases = []
+    # 1. split Dirac at 4N = 4 split_n
+    c1 = f"3+1 Dirac, 4N = {4 * split_n}"
+    base = py("numpy-eigvalsh", split_n)
+    cases.append((c1, base, [
+        py("numpy-eigh", split_n),
+        py("scipy-banded", split_n),
+        probe("split", split_n, 1),
+        probe("split", split_n, nproc),
+    ]))
+    # 2. one dense sector of 4N = 4 dense_n (the unsplit matrix)
+    c2 = f"dense sector, 4N = {4 * dense_n}"
+    base2 = py("numpy-eigvalsh", dense_n)
+    cases.append((c2, base2, [
+        py("numpy-eigh", dense_n),
+        probe("dense", dense_n, 1, ["--full"] if args.full else []),
+    ]))
+
+    def load(r):
+        return np.fromfile(r["values"], dtype="<f8")
+
+    ok = True
+    out_rows = []
+    for case, ref, others in cases:
+        wref = load(ref)
+        hnorm = float(np.max(np.abs(wref)))
+        # backward-stable dense solvers agree to a few eps ||H|| per eigenvalue; allow sqrt(size)
+        tol = 10.0 * np.sqrt(len(wref)) * eps * hnorm
+        for r in [ref] + others:
+            w = load(r)
+            if len(w) != len(wref):
+                print(f"MISMATCH {case} {r['solver']}: {len(w)} values vs {len(wref)}")
+                ok = False
+                dev = float("nan")
+            else:
+                dev = float(np.max(np.abs(w - wref)))
+                if not dev <= tol:
+                    print(f"MISMATCH {case} {r['solver']}: max |dE| = {dev:.3e} > tol {tol:.3e}")
+                    ok = False
+            out_rows.append({
+                "case": case, "solver": r["solver"], "what": r.get("what", ""),
+                "threads": r["threads"], "seconds": r["seconds"], "repeats": r["repeats"],
+                "speedup_vs_numpy_eigvalsh": ref["seconds"] / r["seconds"],
+                "peak_rss_mib": r["rss"], "max_dev_over_eps_norm": dev / (eps * hnorm),
+                "agrees": bool(dev <= tol),
+            })
+            if "full_seconds" in r:
+                out_rows.append(dict(out_rows[-1], solver="ladderfan dense, full compute",
+                                     what=r["full_what"], seconds=r["full_seconds"],
+                                     repeats=r["full_repeats"],
+                                     speedup_vs_numpy_eigvalsh=ref["seconds"] / r["full_seconds"]))
+
+    now = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    load_avg = os.getloadavg() if hasattr(os, "getloadavg") else (float("nan"),) * 3
+    print(f"# ladderfan vs numpy/scipy, {now}, nproc = {nproc}, "
+          f"load average {load_avg[0]:.1f}, {platform.machine()}, numpy {np.__version__}, "
+          f"BLAS threads 1")
+    print("| case | solver | threads | time (s) | numpy eigvalsh / this | peak RSS (MiB) "
+          "| max abs dE / (eps norm) |")
+    print("|---|---|---:|---:|---:|---:|---:|")
+    for r in out_rows:
+        rss = f"{r['peak_rss_mib']:.0f}" if r["peak_rss_mib"] is not None else "n/a"
+        print(f"| {r['case']} | {r['solver']} | {r['threads']} | {r['seconds']:.4g} "
+              f"| {r['speedup_vs_numpy_eigvalsh']:.3g} | {rss} "
+              f"| {r['max_dev_over_eps_norm']:.3g} |")
+    print("agreement:", "all eigenvalues agree" if ok else "MISMATCH (see above)")
+    if args.json:
+        with open(args.json, "w") as f:
+            json.dump({"date": now, "nproc": nproc, "load_average": load_avg, "rows": out_rows},
+                      f, indent=1)
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,34 @@
+#!/usr/bin/env bash
+# Side-by-side timing of ladderfan against numpy/scipy on the same matrices, measured in one run.
+#
+# Usage: scripts/compare.sh [--quick] [--skip-window]
+#   --quick        smaller sizes (a smoke test of the script, not for the docs)
+#   --skip-window  do not time the window solver at N = 1e5 / 1e6 even if it exists
+#
+# What it does:
+#  * creates a Python venv under target/compare-venv and installs numpy and scipy with pip;
+#  * installs GNU time (/usr/bin/time, Debian package `time`) if missing, for peak memory;
+#  * pins OpenBLAS / OpenMP / MKL to one thread (two OpenBLAS threads on a shared 2-core machine
+#    ran 3-4x slower when measured; one thread is also what one ladderfan sector solve uses);
+#  * builds examples/compare_probe.rs in release mode and runs scripts/compare.py, which times
+#    both sides, checks that the eigenvalues agree, and prints the table.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+VENV=target/compare-venv
+if [ ! -x "$VENV/bin/python" ]; then
+    python3 -m venv "$VENV"
+fi
+if ! "$VENV/bin/python" -c 'import numpy, scipy' 2>/dev/null; then
+    "$VENV/bin/pip" install --quiet --disable-pip-version-check numpy scipy
+fi
+if [ ! -x /usr/bin/time ]; then
+    if command -v apt-get >/dev/null; then
+        SUDO=""; [ "$(id -u)" -ne 0 ] && SUDO="sudo"
+        $SUDO apt-get install -y -qq time >/dev/null
+    else
+        echo "compare.sh: /usr/bin/time (GNU time) is missing; install it to get peak memory" >&2
+    fi
+fi
+export OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 MKL_NUM_THREADS=1
+cargo build --release --quiet --example compare_probe
+exec "$VENV/bin/python" scripts/compare.py --probe target/release/examples/compare_probe "$@"
