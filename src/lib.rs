@@ -44,6 +44,7 @@ pub mod levels;
 pub mod matrix;
 pub mod model;
 pub mod sectors;
+pub mod shard;
 pub mod solve;
 pub mod sweep;
 pub mod units;

@@ -1,0 +1,595 @@
+//! Scale-out by sharding a sweep: run shard K of N as an independent job (a batch scheduler's
+//! job array, a loop over machines, ...), then merge the N output tables into exactly the table
+//! one run gives. No scheduler of our own: a shard is a pure function of (K, N, the sweep).
+//!
+//! # Selection
+//! Shard K/N (1-based K) of a sweep of P points holds the contiguous block of point indices
+//! [floor((K-1) P / N), floor(K P / N)): blocks differ in size by at most one point, cover
+//! 0..P exactly once, and depend on nothing but K, N and P.
+//!
+//! # Shard tables
+//! A shard table is a CSV text as one run would write it for the whole sweep (leading `#`
+//! comment lines, one column line, data rows one per line), restricted to the rows of the
+//! shard's points, plus one first line describing the shard ([`ShardHeader::line`]):
+//!
+//! ```text
+//! # shard 2/4: points 251-500 of 1000; rows grouped by sector,branch,rank; keep groups with energy in [-1.5, 2.5]
+//! ```
+//!
+//! * `rows grouped by C1,C2,..` (optional): in the single-run table the rows are ordered by
+//!   these columns first and by point second. A key field is compared as a list of integers
+//!   when every `:`-separated part parses as one (so `0:10` sorts after `0:9`, `-1` before `0`),
+//!   else as text. Without it, the rows are in point order.
+//! * `keep groups with COL in [lo, hi]` (optional): the single run keeps only the groups
+//!   having at least one row with lo <= COL <= hi somewhere in the sweep. A shard cannot know
+//!   that, so it writes every group and the merge applies the rule over all shards.
+//!
+//! # Merge
+//! [`merge`] checks that the shards agree on N, P, the grouping, the filter, every other
+//! comment line and the column line, that every K in 1..=N is present exactly once, and that
+//! no value of the first column (the swept point) occurs in two shards; it then concatenates
+//! the data rows in shard order, stable-sorts them by group key (which keeps the point order
+//! inside a group), applies the filter, and returns the header without the shard line plus
+//! the rows, byte for byte as written by the shards.
+//!
+//! # Examples
+//! ```
+//! use ladderfan::shard::{merge, Shard, ShardHeader};
+//! let points: Vec<f64> = (1..=5).map(f64::from).collect();
+//! let table = |rows: &[f64]| -> String {
+//!     let mut t = String::from("# invented table\nfield,energy\n");
+//!     for b in rows {
+//!         t.push_str(&format!("{b:e},{:e}\n", 0.5 * b));
+//!     }
+//!     t
+//! };
+//! let single = table(&points);
+//! let mut shards = Vec::new();
+//! for k in 1..=2 {
+//!     let s: Shard = format!("{k}/2").parse()?;
+//!     let header = ShardHeader::new(s, points.len());
+//!     shards.push((format!("part{k}.csv"), header.attach(&table(s.select(&points)?))));
+//! }
+//! assert_eq!(merge(&shards)?, single);
+//! # Ok::<(), ladderfan::Error>(())
+//! ```
+
+use crate::error::{Error, Result};
+use std::collections::BTreeMap;
+use std::fmt;
+use std::ops::Range;
+use std::str::FromStr;
+
+/// Shard K of N (1-based K): which block of a sweep's points one job computes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub struct Shard {
+    /// K, 1-based: 1 <= index <= count.
+    pub index: usize,
+    /// N, the number of shards (>= 1).
+    pub count: usize,
+}
+
+impl Shard {
+    /// The whole sweep as one shard (1/1).
+    pub const WHOLE: Shard = Shard { index: 1, count: 1 };
+
+    /// Parse `K/N` (1 <= K <= N, decimal, surrounding spaces allowed).
+    ///
+    /// # Errors
+    /// [`Error::Parse`] (location `--shard`) for anything else, saying what is expected.
+    ///
+    /// # Examples
+    /// ```
+    /// use ladderfan::shard::Shard;
+    /// assert_eq!(Shard::parse("3/8")?, Shard { index: 3, count: 8 });
+    /// assert!(Shard::parse("0/8").is_err() && Shard::parse("9/8").is_err());
+    /// # Ok::<(), ladderfan::Error>(())
+    /// ```
+    pub fn parse(text: &str) -> Result<Shard> {
+        let bad = |why: &str| Error::Parse {
+            location: "--shard".into(),
+            message: format!(
+                "`{text}` is not a shard: {why}; write K/N with 1 <= K <= N, e.g. --shard 2/8"
+            ),
+        };
+        let (k, n) = text
+            .trim()
+            .split_once('/')
+            .ok_or_else(|| bad("no `/`"))?;
+        let k: usize = k
+            .trim()
+            .parse()
+            .map_err(|_| bad("K is not a whole number"))?;
+        let n: usize = n
+            .trim()
+            .parse()
+            .map_err(|_| bad("N is not a whole number"))?;
+        if n == 0 {
+            return Err(bad("N must be at least 1"));
+        }
+        if k == 0 || k > n {
+            return Err(bad("K must lie between 1 and N"));
+        }
+        Ok(Shard { index: k, count: n })
+    }
+
+    /// The block of point indices of this shard in a sweep of `total` points:
+    /// [floor((K-1) total / N), floor(K total / N)).
+    ///
+    /// # Errors
+    /// [`Error::BadNumber`] when N exceeds `total` (some shard would hold no point: use fewer
+    /// shards).
+    ///
+    /// # Examples
+    /// ```
+    /// use ladderfan::shard::Shard;
+    /// assert_eq!(Shard::parse("2/3")?.range(10)?, 3..6);
+    /// assert_eq!(Shard::parse("3/3")?.range(10)?, 6..10);
+    /// # Ok::<(), ladderfan::Error>(())
+    /// ```
+    pub fn range(&self, total: usize) -> Result<Range<usize>> {
+        if self.count > total {
+            return Err(Error::BadNumber {
+                name: "shard count N".into(),
+                value: self.count as f64,
+                fix: format!(
+                    "the sweep has only {total} points, so at most {total} shards are useful; \
+                     lower N or add points"
+                ),
+            });
+        }
+        // u128: total * index cannot overflow for any realistic (or unrealistic) sweep
+        let at = |k: usize| ((total as u128 * k as u128) / self.count as u128) as usize;
+        Ok(at(self.index - 1)..at(self.index))
+    }
+
+    /// The shard's block of `items` (see [`Shard::range`]).
+    ///
+    /// # Errors
+    /// As [`Shard::range`].
+    pub fn select<'a, T>(&self, items: &'a [T]) -> Result<&'a [T]> {
+        Ok(&items[self.range(items.len())?])
+    }
+}
+
+impl FromStr for Shard {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Shard> {
+        Shard::parse(s)
+    }
+}
+
+impl fmt::Display for Shard {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}/{}", self.index, self.count)
+    }
+}
+
+/// The single-run rule that keeps only the groups that enter a window somewhere in the sweep.
+#[derive(Debug, Clone, PartialEq)]
+pub struct KeepGroups {
+    /// Column compared with the window (parsed as a number).
+    pub column: String,
+    /// Lower end (inclusive).
+    pub lo: f64,
+    /// Upper end (inclusive).
+    pub hi: f64,
+}
+
+/// What the first line of a shard table says (see the module docs for the format).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShardHeader {
+    /// Which shard.
+    pub shard: Shard,
+    /// Points of the whole sweep (P).
+    pub total_points: usize,
+    /// Columns ordering the rows before the point order (empty: point order only).
+    pub group_by: Vec<String>,
+    /// Group filter applied by the merge, if any.
+    pub keep: Option<KeepGroups>,
+}
+
+const PREFIX: &str = "# shard ";
+
+impl ShardHeader {
+    /// A header for rows in point order without a group filter.
+    pub fn new(shard: Shard, total_points: usize) -> Self {
+        ShardHeader {
+            shard,
+            total_points,
+            group_by: Vec::new(),
+            keep: None,
+        }
+    }
+
+    /// The line, e.g. `# shard 2/4: points 3-4 of 8; rows grouped by a,b`. Points are
+    /// 1-based and inclusive for humans; a shard without points says `points none`.
+    pub fn line(&self) -> String {
+        let r = self.shard.range(self.total_points).unwrap_or(0..0);
+        let pts = if r.is_empty() {
+            "none".to_string()
+        } else {
+            format!("{}-{}", r.start + 1, r.end)
+        };
+        let mut s = format!(
+            "{PREFIX}{}: points {pts} of {}",
+            self.shard, self.total_points
+        );
+        if !self.group_by.is_empty() {
+            s.push_str(&format!("; rows grouped by {}", self.group_by.join(",")));
+        }
+        if let Some(k) = &self.keep {
+            s.push_str(&format!(
+                "; keep groups with {} in [{}, {}]",
+                k.column, k.lo, k.hi
+            ));
+        }
+        s
+    }
+
+    /// `table` with this header's line put first.
+    pub fn attach(&self, table: &str) -> String {
+        format!("{}\n{table}", self.line())
+    }
+
+    /// Parse a line written by [`ShardHeader::line`]; `Ok(None)` when the line is not a shard
+    /// line at all.
+    ///
+    /// # Errors
+    /// [`Error::Parse`] (location `where_`) for a shard line that does not follow the format.
+    pub fn parse_line(line: &str, where_: &str) -> Result<Option<ShardHeader>> {
+        let Some(rest) = line.strip_prefix(PREFIX) else {
+            return Ok(None);
+        };
+        let bad = |why: &str| Error::Parse {
+            location: where_.to_string(),
+            message: format!(
+                "malformed shard line ({why}): `{line}`; shard tables must come unedited from a \
+                 `--shard K/N` run"
+            ),
+        };
+        let (shard, rest) = rest.split_once(": points ").ok_or_else(|| bad("no `: points`"))?;
+        let shard = Shard::parse(shard).map_err(|_| bad("K/N"))?;
+        let mut parts = rest.split("; ");
+        let pts = parts.next().ok_or_else(|| bad("no points"))?;
+        let (block, total) = pts.split_once(" of ").ok_or_else(|| bad("no `of P`"))?;
+        let total: usize = total.parse().map_err(|_| bad("P"))?;
+        let mut h = ShardHeader::new(shard, total);
+        let expect = h.line();
+        for p in parts {
+            if let Some(cols) = p.strip_prefix("rows grouped by ") {
+                h.group_by = cols.split(',').map(str::to_string).collect();
+            } else if let Some(k) = p.strip_prefix("keep groups with ") {
+                let (col, win) = k.rsplit_once(" in [").ok_or_else(|| bad("keep window"))?;
+                let win = win.strip_suffix(']').ok_or_else(|| bad("keep window"))?;
+                let (lo, hi) = win.split_once(", ").ok_or_else(|| bad("keep window"))?;
+                h.keep = Some(KeepGroups {
+                    column: col.to_string(),
+                    lo: lo.parse().map_err(|_| bad("window lower end"))?,
+                    hi: hi.parse().map_err(|_| bad("window upper end"))?,
+                });
+            } else {
+                return Err(bad("unknown clause"));
+            }
+        }
+        // the point block must be the one K/N of P selects
+        let mut plain = expect;
+        plain.truncate(plain.find("; ").unwrap_or(plain.len()));
+        if plain != format!("{PREFIX}{}: points {block} of {total}", h.shard) {
+            return Err(bad("the point block is not the one K/N selects"));
+        }
+        Ok(Some(h))
+    }
+}
+
+/// One key field: integers compare numerically and before text.
+#[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord)]
+enum KeyPart {
+    Ints(Vec<i64>),
+    Text(String),
+}
+
+fn key_part(field: &str) -> KeyPart {
+    let ints: std::result::Result<Vec<i64>, _> = field.split(':').map(str::parse).collect();
+    match ints {
+        Ok(v) => KeyPart::Ints(v),
+        Err(_) => KeyPart::Text(field.to_string()),
+    }
+}
+
+fn fields(line: &str, where_: &str) -> Result<Vec<String>> {
+    let mut rdr = csv::ReaderBuilder::new()
+        .has_headers(false)
+        .from_reader(line.as_bytes());
+    match rdr.records().next() {
+        Some(Ok(r)) => Ok(r.iter().map(str::to_string).collect()),
+        Some(Err(e)) => Err(Error::Parse {
+            location: where_.to_string(),
+            message: format!("not a CSV row ({e})"),
+        }),
+        None => Ok(Vec::new()),
+    }
+}
+
+struct Parsed {
+    header: ShardHeader,
+    comments: Vec<String>,
+    columns: String,
+    rows: Vec<String>,
+}
+
+fn parse_table(name: &str, text: &str) -> Result<Parsed> {
+    let mut header = None;
+    let mut comments = Vec::new();
+    let mut columns = None;
+    let mut rows = Vec::new();
+    for (i, line) in text.lines().enumerate() {
+        let at = format!("{name}:{}", i + 1);
+        if columns.is_none() && line.starts_with('#') {
+            match ShardHeader::parse_line(line, &at)? {
+                Some(h) if header.is_none() => header = Some(h),
+                Some(_) => {
+                    return Err(Error::Parse {
+                        location: at,
+                        message: "a second shard line; merge the shard outputs, not merged tables"
+                            .into(),
+                    })
+                }
+                None => comments.push(line.to_string()),
+            }
+        } else if columns.is_none() {
+            columns = Some(line.to_string());
+        } else if !line.is_empty() {
+            rows.push(line.to_string());
+        }
+    }
+    let header = header.ok_or_else(|| Error::Parse {
+        location: name.to_string(),
+        message: "no `# shard K/N` line: this is not the output of a `--shard K/N` run".into(),
+    })?;
+    let columns = columns.ok_or_else(|| Error::Parse {
+        location: name.to_string(),
+        message: "no column line after the comment lines".into(),
+    })?;
+    Ok(Parsed {
+        header,
+        comments,
+        columns,
+        rows,
+    })
+}
+
+/// Merge shard tables `(name, text)` (any order) into the single-run table.
+///
+/// # Errors
+/// [`Error::Parse`] naming the file when a table is not a shard table, when the shards
+/// disagree (N, P, grouping, filter, comment or column lines; the first differing line is
+/// quoted), when a shard is missing or given twice, when a grouping/filter column does not
+/// exist or a filter value is not a number, or when a point (first column value) appears in
+/// two shards.
+///
+/// # Complexity
+/// O(R log R) for R data rows in total; memory O(total text).
+pub fn merge(tables: &[(String, String)]) -> Result<String> {
+    let first = tables.first().ok_or_else(|| Error::Parse {
+        location: "merge".into(),
+        message: "no shard tables given".into(),
+    })?;
+    let mut parsed: Vec<(String, Parsed)> = Vec::with_capacity(tables.len());
+    for (name, text) in tables {
+        parsed.push((name.clone(), parse_table(name, text)?));
+    }
+    let base = &parsed[0].1;
+    let (n, p) = (base.header.shard.count, base.header.total_points);
+    let mismatch = |name: &str, what: String| Error::Parse {
+        location: name.to_string(),
+        message: format!("{what} (compared with {}); these shards are not from one sweep", first.0),
+    };
+    for (name, t) in &parsed[1..] {
+        let h = &t.header;
+        if h.shard.count != n || h.total_points != p {
+            return Err(mismatch(
+                name,
+                format!(
+                    "shard {} of {} points, but {} of {p} points",
+                    h.shard, h.total_points, base.header.shard
+                ),
+            ));
+        }
+        if h.group_by != base.header.group_by || h.keep != base.header.keep {
+            return Err(mismatch(name, "different grouping or group filter".into()));
+        }
+        if t.columns != base.columns {
+            return Err(mismatch(name, format!("different column line `{}`", t.columns)));
+        }
+        if let Some((a, b)) = t
+            .comments
+            .iter()
+            .zip(&base.comments)
+            .find(|(a, b)| a != b)
+        {
+            return Err(mismatch(name, format!("header line `{a}` differs from `{b}`")));
+        }
+        if t.comments.len() != base.comments.len() {
+            return Err(mismatch(name, "a different number of header lines".into()));
+        }
+    }
+    // every K exactly once
+    let mut by_k: BTreeMap<usize, usize> = BTreeMap::new();
+    for (i, (name, t)) in parsed.iter().enumerate() {
+        if let Some(j) = by_k.insert(t.header.shard.index, i) {
+            return Err(Error::Parse {
+                location: name.clone(),
+                message: format!(
+                    "shard {} given twice (also {}); give each shard once",
+                    t.header.shard, parsed[j].0
+                ),
+            });
+        }
+    }
+    let missing: Vec<String> = (1..=n)
+        .filter(|k| !by_k.contains_key(k))
+        .map(|k| format!("{k}/{n}"))
+        .collect();
+    if !missing.is_empty() {
+        return Err(Error::Parse {
+            location: "merge".into(),
+            message: format!(
+                "shard(s) {} missing: every shard 1/{n}..{n}/{n} is needed for the {p} points",
+                missing.join(", ")
+            ),
+        });
+    }
+    let columns = fields(&base.columns, &format!("{}: column line", first.0))?;
+    let col_index = |c: &str| {
+        columns.iter().position(|x| x == c).ok_or_else(|| Error::Parse {
+            location: first.0.clone(),
+            message: format!("column `{c}` named in the shard line does not exist"),
+        })
+    };
+    let group_cols: Vec<usize> = base
+        .header
+        .group_by
+        .iter()
+        .map(|c| col_index(c))
+        .collect::<Result<_>>()?;
+    let keep = match &base.header.keep {
+        Some(k) => Some((col_index(&k.column)?, k.lo, k.hi)),
+        None => None,
+    };
+    // rows in shard order; keys; the point of each row belongs to one shard only
+    let mut point_owner: BTreeMap<String, usize> = BTreeMap::new();
+    let mut rows: Vec<(Vec<KeyPart>, Option<f64>, &str)> = Vec::new();
+    for &i in by_k.values() {
+        let (name, t) = &parsed[i];
+        for (r, line) in t.rows.iter().enumerate() {
+            let at = format!("{name}: data row {}", r + 1);
+            let f = fields(line, &at)?;
+            if f.len() != columns.len() {
+                return Err(Error::Parse {
+                    location: at,
+                    message: format!("{} fields, the column line has {}", f.len(), columns.len()),
+                });
+            }
+            let point = f[0].clone();
+            match point_owner.get(&point) {
+                Some(&o) if o != i => {
+                    return Err(Error::Parse {
+                        location: at,
+                        message: format!(
+                            "point {point} also appears in {}; shards must hold disjoint points",
+                            parsed[o].0
+                        ),
+                    })
+                }
+                _ => {
+                    point_owner.insert(point, i);
+                }
+            }
+            let key = group_cols.iter().map(|&c| key_part(&f[c])).collect();
+            let value = match keep {
+                Some((c, _, _)) => Some(f[c].trim().parse::<f64>().map_err(|_| Error::Parse {
+                    location: at.clone(),
+                    message: format!("`{}` in column {} is not a number", f[c], columns[c]),
+                })?),
+                None => None,
+            };
+            rows.push((key, value, line.as_str()));
+        }
+    }
+    rows.sort_by(|a, b| a.0.cmp(&b.0)); // stable: keeps shard (= point) order inside a group
+    let keep_group: Option<Vec<bool>> = keep.map(|(_, lo, hi)| {
+        // groups are contiguous after the sort: mark each row's group once
+        let mut flags = vec![false; rows.len()];
+        let mut start = 0;
+        while start < rows.len() {
+            let mut end = start;
+            while end < rows.len() && rows[end].0 == rows[start].0 {
+                end += 1;
+            }
+            let enters = rows[start..end]
+                .iter()
+                .any(|r| r.1.is_some_and(|v| v >= lo && v <= hi));
+            flags[start..end].iter_mut().for_each(|x| *x = enters);
+            start = end;
+        }
+        flags
+    });
+    let mut out = String::new();
+    for c in &base.comments {
+        out.push_str(c);
+        out.push('\n');
+    }
+    out.push_str(&base.columns);
+    out.push('\n');
+    for (i, r) in rows.iter().enumerate() {
+        if keep_group.as_ref().map_or(true, |k| k[i]) {
+            out.push_str(r.2);
+            out.push('\n');
+        }
+    }
+    Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn blocks_partition_the_points_and_differ_by_at_most_one() {
+        for total in [1usize, 2, 7, 10, 1000, 1001] {
+            for n in 1..=total.min(13) {
+                let mut next = 0;
+                let mut sizes = Vec::new();
+                for k in 1..=n {
+                    let r = Shard { index: k, count: n }.range(total).unwrap_or(0..0);
+                    assert_eq!(r.start, next, "total {total}, shard {k}/{n}");
+                    next = r.end;
+                    sizes.push(r.len());
+                }
+                assert_eq!(next, total);
+                let (lo, hi) = (sizes.iter().min(), sizes.iter().max());
+                assert!(hi.zip(lo).is_some_and(|(h, l)| h - l <= 1), "{sizes:?}");
+            }
+        }
+        assert!(Shard { index: 1, count: 5 }.range(4).is_err());
+    }
+
+    #[test]
+    fn parse_rejects_malformed_shards() {
+        for bad in ["", "3", "1/0", "0/3", "4/3", "a/3", "1/b", "-1/3", "1/3/5"] {
+            assert!(Shard::parse(bad).is_err(), "{bad} accepted");
+        }
+        assert_eq!(Shard::parse(" 7 / 9 ").ok(), Some(Shard { index: 7, count: 9 }));
+        assert_eq!(Shard::parse("2/5").map(|s| s.to_string()).ok(), Some("2/5".into()));
+    }
+
+    #[test]
+    fn shard_line_round_trips() {
+        let h = ShardHeader {
+            shard: Shard { index: 2, count: 3 },
+            total_points: 10,
+            group_by: vec!["sector".into(), "rank".into()],
+            keep: Some(KeepGroups {
+                column: "energy".into(),
+                lo: -0.1,
+                hi: 2.5e-7,
+            }),
+        };
+        let line = h.line();
+        assert_eq!(
+            line,
+            "# shard 2/3: points 4-6 of 10; rows grouped by sector,rank; keep groups with energy in [-0.1, 0.00000025]"
+        );
+        assert_eq!(ShardHeader::parse_line(&line, "t").ok().flatten(), Some(h));
+        assert!(ShardHeader::parse_line("# shard 2/3: points 4-7 of 10", "t").is_err());
+        assert!(matches!(ShardHeader::parse_line("# other", "t"), Ok(None)));
+    }
+
+    #[test]
+    fn integer_keys_sort_numerically() {
+        let mut v = ["0:10", "0:9", "-1", "1:-2", "x"].map(key_part).to_vec();
+        v.sort();
+        assert_eq!(v, ["-1", "0:9", "0:10", "1:-2", "x"].map(key_part).to_vec());
+    }
+}
