@@ -8,6 +8,7 @@ pub mod hamiltonian;
 pub mod ladder;
 pub mod levels;
 pub mod matrix;
+pub mod modelfile;
 pub mod model;
 pub mod sectors;
 pub mod solve;
