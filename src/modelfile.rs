@@ -48,10 +48,7 @@ use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::matrix::{self, SpinMatrix};
 use crate::model::{Model, Monomial};
 use crate::sectors::{SectorPlan, Symmetry};
-use crate::units::{
-    Units, ELECTRON_REST_ENERGY_MEV, HBAR2_OVER_2ME_MEV_NM2,
-    HBAR_C_MEV_NM,
-};
+use crate::units::{Units, ELECTRON_REST_ENERGY_MEV, HBAR2_OVER_2ME_MEV_NM2, HBAR_C_MEV_NM};
 use num_complex::Complex64;
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -179,6 +176,21 @@ pub fn load(path: &std::path::Path) -> Result<ModelFile> {
 /// the model or above the memory limit in `[defaults]`, a non-Hermitian sum of terms (the
 /// message names the monomial and the terms) and any other model inconsistency.
 pub fn parse(name: &str, text: &str) -> Result<ModelFile> {
+    parse_with_overrides(name, text, &[])
+}
+
+/// [`parse`] with parameter overrides `(name, value expression)` as given by `--set`: for a
+/// `builtin = ...` file they act as extra `[set]` entries, for a term file they replace
+/// `[parameters]` entries (which must exist). Locations in the file are kept.
+///
+/// # Errors
+/// As [`parse`]; an override naming no parameter or failing to evaluate is an
+/// [`Error::Parse`] located at `--set NAME`.
+pub fn parse_with_overrides(
+    name: &str,
+    text: &str,
+    overrides: &[(String, String)],
+) -> Result<ModelFile> {
     let src = Source { name, text };
     let raw: RawFile = toml::from_str(text).map_err(|e| {
         let location = match e.span() {
@@ -191,8 +203,8 @@ pub fn parse(name: &str, text: &str) -> Result<ModelFile> {
         }
     })?;
     let model = match &raw.builtin {
-        Some(b) => from_builtin(&src, &raw, b)?,
-        None => from_terms(&src, &raw)?,
+        Some(b) => from_builtin(&src, &raw, b, overrides)?,
+        None => from_terms(&src, &raw, overrides)?,
     };
     let defaults = read_defaults(&src, &raw, &model)?;
     Ok(ModelFile {
@@ -214,7 +226,12 @@ fn toml_message(m: &str) -> String {
     }
 }
 
-fn from_builtin(src: &Source, raw: &RawFile, b: &Spanned<String>) -> Result<Model> {
+fn from_builtin(
+    src: &Source,
+    raw: &RawFile,
+    b: &Spanned<String>,
+    overrides: &[(String, String)],
+) -> Result<Model> {
     // a built-in brings its own terms; term-level keys would be silently ignored, so refuse them
     let conflicts: [(&str, Option<Range<usize>>); 7] = [
         ("components", raw.components.as_ref().map(|s| s.span())),
@@ -231,11 +248,19 @@ fn from_builtin(src: &Source, raw: &RawFile, b: &Spanned<String>) -> Result<Mode
         ),
         (
             "term",
-            raw.term
-                .as_ref()
-                .and_then(|t| t.first().map(|x| x.span())),
+            raw.term.as_ref().and_then(|t| t.first().map(|x| x.span())),
         ),
     ];
+    if let Some(n) = &raw.name {
+        return Err(src.err(
+            &n.span(),
+            format!(
+                "key 'name' cannot be combined with builtin = \"{}\": a built-in keeps its name \
+                 (its closed form is found by it); remove the key or put it in 'description'",
+                b.get_ref()
+            ),
+        ));
+    }
     for (key, span) in conflicts {
         if let Some(span) = span {
             return Err(src.err(
@@ -288,14 +313,29 @@ fn from_builtin(src: &Source, raw: &RawFile, b: &Spanned<String>) -> Result<Mode
             values.insert(k.get_ref().clone(), x);
         }
     }
-    let mut model = (info.build)(&values).map_err(|e| src.err(&b.span(), e.to_string()))?;
-    if let Some(n) = &raw.name {
-        model.name = n.get_ref().clone();
+    for (k, v) in overrides {
+        let loc = format!("--set {k}");
+        if !info.params.iter().any(|p| p.name == k) {
+            return Err(Error::Parse {
+                location: loc,
+                message: format!(
+                    "built-in '{}' has no parameter '{k}'; its parameters are {}",
+                    info.name,
+                    info.params
+                        .iter()
+                        .map(|p| p.name)
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            });
+        }
+        let x = eval_expression(v, info.units, &BTreeMap::new(), &loc)?;
+        values.insert(k.clone(), x);
     }
-    Ok(model)
+    (info.build)(&values).map_err(|e| src.err(&b.span(), e.to_string()))
 }
 
-fn from_terms(src: &Source, raw: &RawFile) -> Result<Model> {
+fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Result<Model> {
     if let Some(set) = &raw.set {
         return Err(src.err(
             &set.span(),
@@ -336,11 +376,8 @@ fn from_terms(src: &Source, raw: &RawFile) -> Result<Model> {
         },
     };
     // parameters: numbers or expressions of other parameters, resolved in dependency order
-    let mut pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> = raw
-        .parameters
-        .iter()
-        .flat_map(|p| p.iter())
-        .collect();
+    let mut pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
+        raw.parameters.iter().flat_map(|p| p.iter()).collect();
     let mut ctx = ExprContext::new(units, BTreeMap::new());
     for (k, _) in &pending {
         let key = k.get_ref();
@@ -360,12 +397,32 @@ fn from_terms(src: &Source, raw: &RawFile) -> Result<Model> {
             ));
         }
     }
+    for (k, _) in overrides {
+        if !pending.iter().any(|(p, _)| p.get_ref() == k) {
+            return Err(Error::Parse {
+                location: format!("--set {k}"),
+                message: format!(
+                    "{} has no parameter '{k}' in [parameters]; its parameters are {}",
+                    src.name,
+                    pending
+                        .iter()
+                        .map(|(p, _)| p.get_ref().as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            });
+        }
+    }
     while !pending.is_empty() {
         let before = pending.len();
         let mut still = Vec::new();
         let mut last_err = None;
         for (k, v) in pending {
-            match real_value(src, v, &ctx, &format!("parameter {}", k.get_ref())) {
+            let value = match overrides.iter().find(|(o, _)| o == k.get_ref()) {
+                Some((o, expr)) => eval_expression(expr, units, &ctx.params, &format!("--set {o}")),
+                None => real_value(src, v, &ctx, &format!("parameter {}", k.get_ref())),
+            };
+            match value {
                 Ok(x) => {
                     ctx.params.insert(k.get_ref().clone(), x);
                 }
@@ -444,8 +501,16 @@ fn from_terms(src: &Source, raw: &RawFile) -> Result<Model> {
     }
     for (i, t) in terms.iter().enumerate() {
         let tr = t.get_ref();
-        let label = tr.label.clone().unwrap_or_else(|| format!("term {}", i + 1));
-        let coef = complex_value(src, &tr.coefficient, &ctx, &format!("coefficient of {label}"))?;
+        let label = tr
+            .label
+            .clone()
+            .unwrap_or_else(|| format!("term {}", i + 1));
+        let coef = complex_value(
+            src,
+            &tr.coefficient,
+            &ctx,
+            &format!("coefficient of {label}"),
+        )?;
         let m = matrix_value(src, &tr.matrix, &ctx, &label)?;
         if m.nrows() != d {
             return Err(src.err(
@@ -609,7 +674,12 @@ fn is_identifier(s: &str) -> bool {
         && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
 }
 
-fn real_value(src: &Source, v: &Spanned<toml::Value>, ctx: &ExprContext, what: &str) -> Result<f64> {
+fn real_value(
+    src: &Source,
+    v: &Spanned<toml::Value>,
+    ctx: &ExprContext,
+    what: &str,
+) -> Result<f64> {
     let x = scalar(src, v.get_ref(), &v.span(), ctx, what)?;
     Ok(x)
 }
@@ -631,9 +701,9 @@ fn scalar(
             return Err(src.err(
                 span,
                 format!(
-                    "{what} is a {}; give a number or an expression string such as \"0.5 * g * mu_B\"",
-                    other.type_str()
-                ),
+                "{what} is a {}; give a number or an expression string such as \"0.5 * g * mu_B\"",
+                other.type_str()
+            ),
             ))
         }
     };
@@ -1120,7 +1190,12 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             units: Units::Lab,
             source: "Landau, Z. Phys. 64, 629 (1930)",
             params: vec![
-                p("mass_ratio", mass.mass_ratio, "m_e", "effective mass m*/m_e"),
+                p(
+                    "mass_ratio",
+                    mass.mass_ratio,
+                    "m_e",
+                    "effective mass m*/m_e",
+                ),
                 p("charge", mass.charge, "e", "carrier charge, signed"),
             ],
             build: |v| {
@@ -1137,7 +1212,12 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             units: Units::Lab,
             source: "Landau, Z. Phys. 64, 629 (1930), plus the Zeeman term",
             params: vec![
-                p("mass_ratio", pauli.mass_ratio, "m_e", "effective mass m*/m_e"),
+                p(
+                    "mass_ratio",
+                    pauli.mass_ratio,
+                    "m_e",
+                    "effective mass m*/m_e",
+                ),
                 p(
                     "g_factor",
                     pauli.g_factor,
@@ -1175,8 +1255,9 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             },
         },
         BuiltinInfo {
-            name: "klein_gordon",
-            summary: "one component, squared form, E^2 = m^2c^4 + c^2 hbar^2 kz^2 + (2n+1) hbar c^2 |qB|",
+            name: "klein-gordon",
+            summary:
+                "one component, squared form, E^2 = m^2c^4 + c^2 hbar^2 kz^2 + (2n+1) hbar c^2 |qB|",
             units: Units::Natural,
             source: "Landau levels of the Klein-Gordon equation (common practice)",
             params: vec![
@@ -1200,8 +1281,18 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             source: "McClure, Phys. Rev. 104, 666 (1956) (Delta = 0)",
             params: vec![
                 p("velocity_m_per_s", d2.velocity_m_per_s, "m/s", "velocity v"),
-                p("mass_mev", d2.mass_mev, "meV", "mass term Delta (gap 2|Delta|)"),
-                p("valley", d2.valley as f64, "1", "valley index tau = +1 or -1"),
+                p(
+                    "mass_mev",
+                    d2.mass_mev,
+                    "meV",
+                    "mass term Delta (gap 2|Delta|)",
+                ),
+                p(
+                    "valley",
+                    d2.valley as f64,
+                    "1",
+                    "valley index tau = +1 or -1",
+                ),
                 p("charge", d2.charge, "e", "carrier charge, signed"),
             ],
             build: |v| {
@@ -1221,7 +1312,12 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             source: "Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983)",
             params: vec![
                 p("velocity_m_per_s", w.velocity_m_per_s, "m/s", "velocity v"),
-                p("chirality", w.chirality as f64, "1", "chirality chi = +1 or -1"),
+                p(
+                    "chirality",
+                    w.chirality as f64,
+                    "1",
+                    "chirality chi = +1 or -1",
+                ),
                 p("charge", w.charge, "e", "carrier charge, signed"),
             ],
             build: |v| {
@@ -1393,12 +1489,17 @@ monomial = "1"
     #[test]
     fn problems_are_located_and_explained() {
         let m = msg("components = 2\nfoo = 1\n");
-        assert!(m.starts_with("t.toml:2:1:") && m.contains("unknown field"), "{m}");
-        let m = msg("components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"x⊗z\"\nmonomial = \"1\"\n");
+        assert!(
+            m.starts_with("t.toml:2:1:") && m.contains("unknown field"),
+            "{m}"
+        );
+        let m =
+            msg("components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"x⊗z\"\nmonomial = \"1\"\n");
         assert!(m.starts_with("t.toml:4:10:") && m.contains("4x4"), "{m}");
         let m = msg("components = 2\n[[term]]\nlabel = \"hop\"\ncoefficient = 1\nmatrix = \"+\"\nmonomial = \"kx\"\n");
         assert!(m.contains("not Hermitian") && m.contains("hop"), "{m}");
-        let m = msg("components = 1\n[[term]]\ncoefficient = nan\nmatrix = \"0\"\nmonomial = \"1\"\n");
+        let m =
+            msg("components = 1\n[[term]]\ncoefficient = nan\nmatrix = \"0\"\nmonomial = \"1\"\n");
         assert!(m.starts_with("t.toml:3:15:") && m.contains("finite"), "{m}");
     }
 
@@ -1408,6 +1509,9 @@ monomial = "1"
             .unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(f.model.param("mass"), Some(5.0));
         let m = msg("builtin = \"dirac2d\"\n[set]\nmass = 5\n");
-        assert!(m.starts_with("t.toml:3:1:") && m.contains("mass_mev"), "{m}");
+        assert!(
+            m.starts_with("t.toml:3:1:") && m.contains("mass_mev"),
+            "{m}"
+        );
     }
 }
