@@ -221,8 +221,14 @@ fn toml_message(m: &str) -> String {
         format!("{one_line}; remove or rename the key (see docs/modelfile.md)")
     } else if one_line.starts_with("missing field") {
         format!("{one_line}; add the key")
+    } else if one_line.starts_with("invalid type") {
+        let fixed = one_line
+            .replace("expected i64", "expected an integer")
+            .replace("expected f64", "expected a number")
+            .replace("expected a string", "expected a quoted string");
+        format!("{fixed}; change the value's type")
     } else {
-        one_line
+        format!("TOML syntax: {one_line}")
     }
 }
 
@@ -332,7 +338,23 @@ fn from_builtin(
         let x = eval_expression(v, info.units, &BTreeMap::new(), &loc)?;
         values.insert(k.clone(), x);
     }
-    (info.build)(&values).map_err(|e| src.err(&b.span(), e.to_string()))
+    (info.build)(&values).map_err(|e| {
+        // point at the [set] entry a range error names, else at the built-in's name
+        let span = match &e {
+            Error::BadNumber { name, .. } => raw
+                .set
+                .as_ref()
+                .and_then(|set| {
+                    set.get_ref()
+                        .iter()
+                        .find(|(k, _)| k.get_ref() == name)
+                        .map(|(_, v)| v.span())
+                })
+                .unwrap_or_else(|| b.span()),
+            _ => b.span(),
+        };
+        src.err(&span, format!("built-in '{}': {e}", info.name))
+    })
 }
 
 fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Result<Model> {
@@ -433,7 +455,25 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
             }
         }
         if still.len() == before {
-            // nothing resolved this round: report the first failure (unknown name or a cycle)
+            // nothing resolved this round: a cycle if an expression names another pending
+            // parameter, else the first failure (an unknown name, a syntax error)
+            let names: Vec<&str> = still.iter().map(|(k, _)| k.get_ref().as_str()).collect();
+            let cyclic = still.iter().find(|(_, v)| match v.get_ref() {
+                toml::Value::String(e) => tokenize(e).is_ok_and(|t| {
+                    t.iter()
+                        .any(|x| matches!(x, Tok::Ident(n) if names.contains(&n.as_str())))
+                }),
+                _ => false,
+            });
+            if let Some((k, _)) = cyclic {
+                return Err(src.err(
+                    &k.span(),
+                    format!(
+                        "parameters {} refer to each other in a cycle; give one of them a number",
+                        names.join(", ")
+                    ),
+                ));
+            }
             return Err(last_err.unwrap_or_else(|| src.err(&whole, "unresolvable parameters")));
         }
         pending = still;
@@ -638,7 +678,7 @@ pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: 
     let mib = memory_estimate_mib(model, cutoff, field)?;
     if mib > memory_limit_mib {
         return Err(Error::MemoryLimit {
-            what: format!("the largest dense sector at cutoff {cutoff}"),
+            what: format!("a solve at cutoff {cutoff} (largest dense sector plus the levels)"),
             needed_mib: mib,
             limit_mib: memory_limit_mib,
         });
@@ -646,9 +686,9 @@ pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: 
     Ok(())
 }
 
-/// Memory in MiB the solver needs for the largest dense sector of `model` at `cutoff`
-/// (3 complex s x s matrices of 16 bytes per entry), after splitting by the conserved quantity
-/// found at `field`.
+/// Memory in MiB the solver needs at `cutoff`: the largest dense sector after splitting by the
+/// conserved quantity found at `field` (3 complex s x s matrices of 16 bytes per entry) plus the
+/// N d levels of the result (labels, bound and d weights each).
 ///
 /// # Errors
 /// [`Error::ZeroField`] for a zero or non-finite field.
@@ -665,7 +705,14 @@ pub fn memory_estimate_mib(model: &Model, cutoff: usize, field: f64) -> Result<u
         })
         .max()
         .unwrap_or(model.dim() as u64);
-    Ok(largest.saturating_mul(largest).saturating_mul(48) / (1 << 20))
+    let d = model.dim() as u64;
+    // the result holds every level: ~96 bytes of labels and bounds plus d weights each
+    let levels = (cutoff as u64).saturating_mul(d).saturating_mul(96 + 8 * d);
+    Ok(largest
+        .saturating_mul(largest)
+        .saturating_mul(48)
+        .saturating_add(levels)
+        / (1 << 20))
 }
 
 fn is_identifier(s: &str) -> bool {

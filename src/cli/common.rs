@@ -666,10 +666,21 @@ pub fn fmt_num(x: f64, sig: usize) -> String {
     }
 }
 
+/// Which levels a table shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shown {
+    /// Only converged levels (the default).
+    Converged,
+    /// Converged and unconverged levels (cutoff artefacts included).
+    All,
+}
+
 /// Indices of the `count` levels closest to the reference energy (all when `count` is 0),
-/// returned in ascending energy order.
-pub fn nearest_levels(s: &Spectrum, count: usize) -> Vec<usize> {
-    let mut idx: Vec<usize> = (0..s.levels.len()).collect();
+/// among the converged levels unless `shown` is [`Shown::All`], in ascending energy order.
+pub fn nearest_levels(s: &Spectrum, count: usize, shown: Shown) -> Vec<usize> {
+    let mut idx: Vec<usize> = (0..s.levels.len())
+        .filter(|&i| shown == Shown::All || s.levels[i].is_converged())
+        .collect();
     if count > 0 && count < idx.len() {
         idx.sort_by(|&a, &b| {
             s.levels[a]

@@ -79,7 +79,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
     };
     let s = super::levels::compute(&lm, &r)?;
-    let idx = common::nearest_levels(&s, 11);
+    let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
     let sweep_args = SweepArgs {
         points: 80,
         grid: common::Grid::Linear,

@@ -20,6 +20,9 @@ pub struct LevelsArgs {
     /// Number of levels to show, those closest to the reference energy (0: all).
     #[arg(long, default_value_t = 20)]
     pub count: usize,
+    /// Also show levels that are not converged (cutoff artefacts; flagged NO).
+    #[arg(long)]
+    pub show_unconverged: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -102,13 +105,18 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     ));
     out.push_str(&format!("symmetry: {}\n", s.symmetry.describe()));
     out.push_str(&format!(
-        "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference), {} converged in total\n\n",
+        "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference), {} converged in total{}\n\n",
         u.energy_unit(),
         s.reference_energy,
         u.energy_unit(),
         idx.len(),
         s.levels.len(),
-        s.converged().count()
+        s.converged().count(),
+        if idx.iter().all(|&i| s.levels[i].is_converged()) {
+            " (unconverged cutoff artefacts hidden; --show-unconverged lists them)"
+        } else {
+            ""
+        }
     ));
     let mut rows = vec![vec!["sector".to_string(), "n".into(), "component".into()]];
     if kg {
@@ -196,7 +204,12 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
     let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
     let s = compute(&lm, &r)?;
-    let idx = nearest_levels(&s, a.count);
+    let shown = if a.show_unconverged {
+        common::Shown::All
+    } else {
+        common::Shown::Converged
+    };
+    let idx = nearest_levels(&s, a.count, shown);
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();

@@ -199,11 +199,22 @@ pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
     Ok((lo, hi))
 }
 
-/// Keep the tracks that enter the window at some point.
+/// Keep the tracks that enter the window at some point, and their values within the window
+/// widened by half its width on either side (so curves leave the plot frame cleanly).
 pub fn in_window(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
+    let margin = 0.5 * (hi - lo);
     tracks
         .into_iter()
         .filter(|t| t.energies.iter().flatten().any(|&e| e >= lo && e <= hi))
+        .map(|mut t| {
+            for (e, b) in t.energies.iter_mut().zip(t.bounds.iter_mut()) {
+                if e.is_some_and(|v| v < lo - margin || v > hi + margin) {
+                    *e = None;
+                    *b = None;
+                }
+            }
+            t
+        })
         .collect()
 }
 
@@ -277,7 +288,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                 }
             ),
             format!(
-                "energies in {} relative to {}; window [{}, {}]; only converged values",
+                "energies in {} relative to {}; window [{}, {}] (values kept up to half a window beyond); only converged values",
                 u.energy_unit(),
                 j.reference_energy,
                 j.window.0,
