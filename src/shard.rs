@@ -92,10 +92,7 @@ impl Shard {
                 "`{text}` is not a shard: {why}; write K/N with 1 <= K <= N, e.g. --shard 2/8"
             ),
         };
-        let (k, n) = text
-            .trim()
-            .split_once('/')
-            .ok_or_else(|| bad("no `/`"))?;
+        let (k, n) = text.trim().split_once('/').ok_or_else(|| bad("no `/`"))?;
         let k: usize = k
             .trim()
             .parse()
@@ -248,7 +245,9 @@ impl ShardHeader {
                  `--shard K/N` run"
             ),
         };
-        let (shard, rest) = rest.split_once(": points ").ok_or_else(|| bad("no `: points`"))?;
+        let (shard, rest) = rest
+            .split_once(": points ")
+            .ok_or_else(|| bad("no `: points`"))?;
         let shard = Shard::parse(shard).map_err(|_| bad("K/N"))?;
         let mut parts = rest.split("; ");
         let pts = parts.next().ok_or_else(|| bad("no points"))?;
@@ -383,7 +382,10 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
     let (n, p) = (base.header.shard.count, base.header.total_points);
     let mismatch = |name: &str, what: String| Error::Parse {
         location: name.to_string(),
-        message: format!("{what} (compared with {}); these shards are not from one sweep", first.0),
+        message: format!(
+            "{what} (compared with {}); these shards are not from one sweep",
+            first.0
+        ),
     };
     for (name, t) in &parsed[1..] {
         let h = &t.header;
@@ -400,15 +402,16 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
             return Err(mismatch(name, "different grouping or group filter".into()));
         }
         if t.columns != base.columns {
-            return Err(mismatch(name, format!("different column line `{}`", t.columns)));
+            return Err(mismatch(
+                name,
+                format!("different column line `{}`", t.columns),
+            ));
         }
-        if let Some((a, b)) = t
-            .comments
-            .iter()
-            .zip(&base.comments)
-            .find(|(a, b)| a != b)
-        {
-            return Err(mismatch(name, format!("header line `{a}` differs from `{b}`")));
+        if let Some((a, b)) = t.comments.iter().zip(&base.comments).find(|(a, b)| a != b) {
+            return Err(mismatch(
+                name,
+                format!("header line `{a}` differs from `{b}`"),
+            ));
         }
         if t.comments.len() != base.comments.len() {
             return Err(mismatch(name, "a different number of header lines".into()));
@@ -442,10 +445,13 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
     }
     let columns = fields(&base.columns, &format!("{}: column line", first.0))?;
     let col_index = |c: &str| {
-        columns.iter().position(|x| x == c).ok_or_else(|| Error::Parse {
-            location: first.0.clone(),
-            message: format!("column `{c}` named in the shard line does not exist"),
-        })
+        columns
+            .iter()
+            .position(|x| x == c)
+            .ok_or_else(|| Error::Parse {
+                location: first.0.clone(),
+                message: format!("column `{c}` named in the shard line does not exist"),
+            })
     };
     let group_cols: Vec<usize> = base
         .header
@@ -560,8 +566,14 @@ mod tests {
         for bad in ["", "3", "1/0", "0/3", "4/3", "a/3", "1/b", "-1/3", "1/3/5"] {
             assert!(Shard::parse(bad).is_err(), "{bad} accepted");
         }
-        assert_eq!(Shard::parse(" 7 / 9 ").ok(), Some(Shard { index: 7, count: 9 }));
-        assert_eq!(Shard::parse("2/5").map(|s| s.to_string()).ok(), Some("2/5".into()));
+        assert_eq!(
+            Shard::parse(" 7 / 9 ").ok(),
+            Some(Shard { index: 7, count: 9 })
+        );
+        assert_eq!(
+            Shard::parse("2/5").map(|s| s.to_string()).ok(),
+            Some("2/5".into())
+        );
     }
 
     #[test]

@@ -87,6 +87,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         emax: Some(80.0),
         count: 16,
         threads: None,
+        shard: None,
     };
     let values = common::grid_values("--b-min", 0.25, 10.0, sweep_args.points, sweep_args.grid)?;
     let plan = Plan {

@@ -17,6 +17,7 @@ pub mod dispersion;
 pub mod export;
 pub mod fan;
 pub mod levels;
+pub mod merge;
 pub mod models;
 pub mod sweep;
 
@@ -50,6 +51,8 @@ pub enum Command {
     Export(export::ExportArgs),
     /// An invented gapped Dirac film: table, fan diagram SVG and CSV in a few seconds.
     Demo(demo::DemoArgs),
+    /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
+    Merge(merge::MergeArgs),
 }
 
 /// Run one command.
@@ -61,6 +64,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Models(a) => models::run(&a),
         Command::Export(a) => export::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Merge(a) => merge::run(&a),
     }
 }
 

@@ -8,6 +8,7 @@ use super::common::{
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -37,6 +38,11 @@ pub struct SweepArgs {
     /// Worker threads for the sweep (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
+    /// Compute only shard K of N (1-based) of the points, e.g. as one task of a job array;
+    /// needs --out. Join the N CSV files with `ladderfan merge OUT.csv SHARD.csv...` into
+    /// exactly the single-run table.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
 }
 
 /// What is swept.
@@ -202,10 +208,19 @@ pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
 /// Keep the tracks that enter the window at some point, and their values within the window
 /// widened by half its width on either side (so curves leave the plot frame cleanly).
 pub fn in_window(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
+    let entering = tracks
+        .into_iter()
+        .filter(|t| t.energies.iter().flatten().any(|&e| e >= lo && e <= hi))
+        .collect();
+    trim_to_margin(entering, (lo, hi))
+}
+
+/// Drop the values of every track lying more than half a window outside it (a shard keeps
+/// every track: whether a track enters the window is decided over all shards by the merge).
+pub fn trim_to_margin(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
     let margin = 0.5 * (hi - lo);
     tracks
         .into_iter()
-        .filter(|t| t.energies.iter().flatten().any(|&e| e >= lo && e <= hi))
         .map(|mut t| {
             for (e, b) in t.energies.iter_mut().zip(t.bounds.iter_mut()) {
                 if e.is_some_and(|v| v < lo - margin || v > hi + margin) {
@@ -486,16 +501,69 @@ pub struct Outcome {
     pub json: SweepJson,
     /// Closed-form curves, if the model has a closed form.
     pub closed: Option<Vec<Vec<(f64, f64)>>>,
+    /// Set for a `--shard K/N` run: only the CSV of the shard's points is written.
+    pub shard: Option<ShardHeader>,
 }
 
 /// Solve, track and select.
 pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
-    let spectra = solve_points(lm, &plan.points, &settings, plan.command, a.threads)?;
-    let reference = &spectra[plan.reference_point];
+    let shard = match &a.shard {
+        Some(text) => Some(Shard::parse(text)?),
+        None => None,
+    };
+    let total = plan.points.len();
+    let block = match shard {
+        Some(s) => s.range(total)?,
+        None => 0..total,
+    };
+    let spectra = solve_points(
+        lm,
+        &plan.points[block.clone()],
+        &settings,
+        plan.command,
+        a.threads,
+    )?;
+    // the reference point sets the window; a shard without it solves it once more
+    let outside;
+    let reference = if block.contains(&plan.reference_point) {
+        &spectra[plan.reference_point - block.start]
+    } else {
+        outside = Spectrum::compute(&lm.model, plan.points[plan.reference_point], &settings)?;
+        &outside
+    };
     let win = window(a, reference)?;
-    let tracks = in_window(track(lm, &spectra, plan.reference_point), win);
+    let local_reference = plan.reference_point.wrapping_sub(block.start);
+    let mut tracks = track(lm, &spectra, local_reference);
+    if shard.is_some() {
+        // place the shard's values at their indices in the whole sweep
+        for t in &mut tracks {
+            let mut e = vec![None; total];
+            let mut b = vec![None; total];
+            e[block.clone()].copy_from_slice(&t.energies);
+            b[block.clone()].copy_from_slice(&t.bounds);
+            t.energies = e;
+            t.bounds = b;
+        }
+    }
+    let shard_header = shard.map(|s| {
+        let e = lm.model.units().energy_unit().replace(' ', "");
+        ShardHeader {
+            shard: s,
+            total_points: total,
+            group_by: vec!["sector".into(), "branch".into(), "rank".into()],
+            keep: Some(KeepGroups {
+                column: format!("energy_{e}"),
+                lo: win.0,
+                hi: win.1,
+            }),
+        }
+    });
+    let tracks = match shard {
+        Some(_) => trim_to_margin(tracks, win),
+        None => in_window(tracks, win),
+    };
     let closed = closed_form_curves(
         lm,
         &plan.points,
@@ -525,11 +593,31 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         reference_point: plan.reference_point,
         tracks,
     };
-    Ok(Outcome { json, closed })
+    Ok(Outcome {
+        json,
+        closed,
+        shard: shard_header,
+    })
 }
 
 /// Write the files (if `--out`) and print the result.
 pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+    if let Some(h) = &o.shard {
+        let Some(dir) = &output.out else {
+            return Err(bad_flag(
+                "--shard",
+                "a shard run writes its CSV for `ladderfan merge`: give --out DIR",
+            ));
+        };
+        let mut files = common::OutputFiles::default();
+        files.add(&format!("{stem}.csv"), h.attach(&csv(lm, &o.json)?));
+        let written = files.write_all(dir)?;
+        let mut text = format!("{}\n", h.line().trim_start_matches("# "));
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+        return common::emit(&text);
+    }
     let mut written = Vec::new();
     if let Some(dir) = &output.out {
         let mut files = common::OutputFiles::default();
