@@ -50,17 +50,20 @@ def dirac_matrix(cutoff):
     raise_ = c * (ax + 1j * s * ay)  # coefficient of a^dag
     diag = KZ * az + beta
     d = 4
-    h = np.zeros((d * cutoff, d * cutoff), dtype=complex)
+    blocks = (lower, raise_, diag)
+    # fill a real matrix when every block is real (as here): half the memory, real LAPACK
+    real = all(np.max(np.abs(b.imag)) == 0.0 for b in blocks)
+    if real:
+        lower, raise_, diag = (np.ascontiguousarray(b.real) for b in blocks)
+    h = np.zeros((d * cutoff, d * cutoff), dtype=float if real else complex)
     for n in range(cutoff):
         h[n * d:(n + 1) * d, n * d:(n + 1) * d] = diag
         if n >= 1:  # <n-1| a |n> = sqrt(n)
             h[(n - 1) * d:n * d, n * d:(n + 1) * d] = lower * np.sqrt(n)
         if n + 1 < cutoff:  # <n+1| a^dag |n> = sqrt(n+1)
             h[(n + 1) * d:(n + 2) * d, n * d:(n + 1) * d] = raise_ * np.sqrt(n + 1)
-    if not np.allclose(h, h.conj().T, rtol=0, atol=1e-14):
+    if not np.array_equal(h, h.conj().T):
         raise SystemExit("compare.py: the numpy matrix is not Hermitian (formula error)")
-    if np.max(np.abs(h.imag)) == 0.0:
-        h = np.ascontiguousarray(h.real)
     return h
 
 
