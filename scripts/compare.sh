@@ -10,8 +10,9 @@
 #  * installs GNU time (/usr/bin/time, Debian package `time`) if missing, for peak memory;
 #  * pins OpenBLAS / OpenMP / MKL to one thread (two OpenBLAS threads on a shared 2-core machine
 #    ran 3-4x slower when measured; one thread is also what one ladderfan sector solve uses);
-#  * builds examples/compare_probe.rs in release mode and runs scripts/compare.py, which times
-#    both sides, checks that the eigenvalues agree, and prints the table.
+#  * builds examples/compare_probe.rs in release mode and runs scripts/compare.py, which checks
+#    its numpy matrix against `ladderfan export`, times both sides, checks that the eigenvalues
+#    agree, and prints the table.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 VENV=target/compare-venv
@@ -31,4 +32,7 @@ if [ ! -x /usr/bin/time ]; then
 fi
 export OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 MKL_NUM_THREADS=1
 cargo build --release --quiet --example compare_probe
-exec "$VENV/bin/python" scripts/compare.py --probe target/release/examples/compare_probe "$@"
+# the CLI only exports the matrix for the cross-check (not timed): the dev build is enough
+cargo build --quiet --bin ladderfan
+exec "$VENV/bin/python" scripts/compare.py --probe target/release/examples/compare_probe \
+    --ladderfan target/debug/ladderfan "$@"
