@@ -6,6 +6,7 @@
 //! ```text
 //! compare_probe split N [--threads T] [--values FILE]   split sectors, labels and bounds
 //! compare_probe dense N [--threads T] [--values FILE] [--full]   one dense sector of 4N states
+//! compare_probe sweep P [--threads T] [--rounds R]   P-point sweep, 1 thread vs T, alternately
 //! ```
 //! Setup (model, assembly of the dense matrix) is not timed; each timing is the median of
 //! repeated runs (as many as fit in about 2 s, at least 1, at most 15). `dense ... --full` also
@@ -58,9 +59,25 @@ fn write_values(path: Option<&str>, values: &[f64]) {
     }
 }
 
+/// CPU seconds (user + system) used by this process so far, from /proc/self/stat (Linux;
+/// clock ticks of 1/100 s, the kernel's USER_HZ on common configurations); NaN elsewhere.
+fn cpu_seconds() -> f64 {
+    let Ok(stat) = std::fs::read_to_string("/proc/self/stat") else {
+        return f64::NAN;
+    };
+    // fields after the parenthesised command name: state is field 3, utime 14, stime 15
+    let rest = stat.rsplit_once(')').map_or("", |x| x.1);
+    let f: Vec<&str> = rest.split_whitespace().collect();
+    let tick = |i: usize| f.get(i).and_then(|x| x.parse::<f64>().ok()).unwrap_or(f64::NAN);
+    (tick(11) + tick(12)) / 100.0
+}
+
 fn main() {
     let args: Vec<String> = std::env::args().skip(1).collect();
-    let (path, n) = match (args.first(), args.get(1).and_then(|s| s.parse::<usize>().ok())) {
+    let (path, n) = match (
+        args.first(),
+        args.get(1).and_then(|s| s.parse::<usize>().ok()),
+    ) {
         (Some(p), Some(n)) => (p.clone(), n),
         _ => fail("usage: compare_probe split|dense N [--threads T] [--values FILE]"),
     };
@@ -130,7 +147,70 @@ fn main() {
             }
             out
         }
-        other => fail(&format!("unknown path {other}; use split or dense")),
+        "sweep" => {
+            // n field points of the split model at cutoff 1000, alternately in a 1-thread and
+            // a `threads`-thread pool (alternating shares out the load of a busy machine)
+            let fields = ladderfan::sweep::grid(1e-3, 1e-2, n, ladderfan::sweep::Spacing::Log)
+                .unwrap_or_else(|e| fail(&e.to_string()));
+            let points: Vec<FieldPoint> = fields
+                .iter()
+                .map(|&field| FieldPoint { field, kz: 0.05 })
+                .collect();
+            let settings = Settings::with_cutoff(1000);
+            let serial = rayon::ThreadPoolBuilder::new()
+                .num_threads(1)
+                .build()
+                .unwrap_or_else(|e| fail(&format!("thread pool: {e}")));
+            let cpu0 = std::cell::Cell::new(0.0);
+            let run = |p: &rayon::ThreadPool| {
+                let c = cpu_seconds();
+                let t = Instant::now();
+                let r = p
+                    .install(|| ladderfan::sweep::run(&model, &points, &settings))
+                    .unwrap_or_else(|e| fail(&e.to_string()));
+                cpu0.set(cpu_seconds() - c);
+                (t.elapsed().as_secs_f64(), r)
+            };
+            let rounds = flag("--rounds")
+                .and_then(|r| r.parse::<usize>().ok())
+                .unwrap_or(5);
+            let (mut t1, mut tp) = (Vec::new(), Vec::new());
+            let (mut c1, mut cp) = (0.0, 0.0);
+            let mut identical = true;
+            for _ in 0..rounds {
+                let (a, ra) = run(&serial);
+                c1 += cpu0.get();
+                let (b, rb) = run(&pool);
+                cp += cpu0.get();
+                t1.push(a);
+                tp.push(b);
+                // determinism claim of the sweep: the same operations in the same order
+                identical &= ra.len() == rb.len()
+                    && ra.iter().zip(&rb).all(|(x, y)| {
+                        x.levels.len() == y.levels.len()
+                            && x.levels.iter().zip(&y.levels).all(|(l, r)| {
+                                l.energy.to_bits() == r.energy.to_bits()
+                                    && l.bound.to_bits() == r.bound.to_bits()
+                                    && l.sector == r.sector
+                            })
+                    });
+            }
+            t1.sort_by(f64::total_cmp);
+            tp.sort_by(f64::total_cmp);
+            let med = |v: &[f64]| v[v.len() / 2];
+            serde_json::json!({
+                "path": "sweep", "points": n, "cutoff": 1000, "threads": threads,
+                "rounds": rounds,
+                "serial_min": t1[0], "serial_median": med(&t1),
+                "parallel_min": tp[0], "parallel_median": med(&tp),
+                "speedup_min": t1[0] / tp[0], "speedup_median": med(&t1) / med(&tp),
+                "identical_to_serial": identical,
+                "cpu_serial": c1 / rounds as f64, "cpu_parallel": cp / rounds as f64,
+                "cpu_note": "process CPU seconds per run (user + system, /proc/self/stat)",
+                "what": "sweep::run over n points (3+1 Dirac, N = 1000), 1 thread vs `threads`",
+            })
+        }
+        other => fail(&format!("unknown path {other}; use split, dense or sweep")),
     });
     println!("{json}");
 }

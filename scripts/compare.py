@@ -225,6 +225,11 @@ def main():
         probe("dense", dense_n, 1, ["--full"] if args.full else []),
     ]))
 
+    # 3. a sweep of many points: 1 thread vs all cores, alternating, same inputs
+    sweep_points = 100 if args.quick else 1000
+    sw, sw_rss = run_measured([args.probe, "sweep", str(sweep_points), "--threads", str(nproc),
+                               "--rounds", "3"], env)
+
     def load(r):
         return np.fromfile(r["values"], dtype="<f8")
 
@@ -272,13 +277,21 @@ def main():
         print(f"| {r['case']} | {r['solver']} | {r['threads']} | {r['seconds']:.4g} "
               f"| {r['speedup_vs_numpy_eigvalsh']:.3g} | {rss} "
               f"| {r['max_dev_over_eps_norm']:.3g} |")
+    print(f"sweep of {sweep_points} points (3+1 Dirac, N = 1000 each): 1 thread "
+          f"{sw['serial_median']:.3g} s, {nproc} threads {sw['parallel_median']:.3g} s "
+          f"(medians of {sw['rounds']} alternating rounds), speed-up "
+          f"{sw['speedup_median']:.2f}x (best runs {sw['speedup_min']:.2f}x); CPU seconds per "
+          f"run {sw['cpu_serial']:.3g} (1 thread) vs {sw['cpu_parallel']:.3g} ({nproc} threads); "
+          f"identical to serial: {'yes' if sw['identical_to_serial'] else 'NO'}; "
+          f"peak RSS {sw_rss if sw_rss is None else round(sw_rss)} MiB")
+    ok = ok and sw["identical_to_serial"]
     print("matrix:", matrix_check)
     print("agreement:", "all eigenvalues agree within 10 sqrt(size) eps norm"
           if ok else "MISMATCH (see above)")
     if args.json:
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,
-                       "matrix_check": matrix_check, "rows": out_rows},
+                       "matrix_check": matrix_check, "sweep": sw, "rows": out_rows},
                       f, indent=1)
     return 0 if ok else 1
 

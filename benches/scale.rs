@@ -1,0 +1,94 @@
+//! Criterion benches of how the work scales (setup is never timed):
+//!
+//! * `dense_sector`: one dense Hermitian eigen-solve (values only) of the unsplit 3+1 Dirac
+//!   matrix, sizes 500, 1000, 2000 (and 4000 with `LADDERFAN_BENCH_4000=1`: minutes per sample
+//!   on a shared 2-core machine).
+//! * `sweep_1000`: 1000 field points of the split 3+1 Dirac model (N = 1000), serially in a
+//!   1-thread rayon pool and in a 2-thread pool, same inputs. Before timing, the 2-thread
+//!   result is checked to equal the serial one exactly (the sweep's determinism claim: each
+//!   point runs the same operations in the same order whatever the thread count).
+//!
+//! Run: `cargo bench --bench scale` (or `-- sweep_1000` for one group).
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use ladderfan::builtin::{self, RelativisticParams};
+use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::solve::dense::{self, Vectors};
+use ladderfan::{sweep, FieldPoint, Settings};
+use std::hint::black_box;
+use std::time::Duration;
+
+fn point() -> FieldPoint {
+    FieldPoint {
+        field: 1e-3,
+        kz: 0.05,
+    }
+}
+
+fn dense_sector(c: &mut Criterion) {
+    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let h = LadderHamiltonian::assemble(&m, point(), 0.0).expect("assembly");
+    let mut g = c.benchmark_group("dense_sector");
+    g.sample_size(10);
+    g.warm_up_time(Duration::from_millis(500));
+    let mut sizes = vec![500usize, 1000, 2000];
+    if std::env::var_os("LADDERFAN_BENCH_4000").is_some() {
+        sizes.push(4000);
+    }
+    for size in sizes {
+        let mat = h.dense(size / 4);
+        g.bench_with_input(BenchmarkId::new("eigh_values", size), &mat, |b, mat| {
+            b.iter(|| dense::eigh(black_box(mat), Vectors::Skip).expect("eigh"))
+        });
+    }
+    g.finish();
+}
+
+fn sweep_1000(c: &mut Criterion) {
+    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let fields = sweep::grid(1e-3, 1e-2, 1000, sweep::Spacing::Log).expect("grid");
+    let points: Vec<FieldPoint> = fields
+        .iter()
+        .map(|&field| FieldPoint { field, kz: 0.05 })
+        .collect();
+    let settings = Settings::with_cutoff(1000);
+    let pool = |n: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .expect("pool")
+    };
+    let (serial, parallel) = (pool(1), pool(2));
+    let a = serial
+        .install(|| sweep::run(&m, &points, &settings))
+        .expect("serial sweep");
+    let b = parallel
+        .install(|| sweep::run(&m, &points, &settings))
+        .expect("parallel sweep");
+    let same = a.len() == b.len()
+        && a.iter().zip(&b).all(|(x, y)| {
+            x.levels.len() == y.levels.len()
+                && x.levels.iter().zip(&y.levels).all(|(l, r)| {
+                    l.energy.to_bits() == r.energy.to_bits()
+                        && l.bound.to_bits() == r.bound.to_bits()
+                        && l.sector == r.sector
+                })
+        });
+    assert!(
+        same,
+        "a 2-thread sweep differs from the serial one: thread-count dependence"
+    );
+    eprintln!("sweep_1000: 2-thread result identical to serial (energies, bounds, sectors)");
+    let mut g = c.benchmark_group("sweep_1000");
+    g.sample_size(10);
+    g.warm_up_time(Duration::from_millis(500));
+    for (name, p) in [("threads_1", &serial), ("threads_2", &parallel)] {
+        g.bench_function(name, |bench| {
+            bench.iter(|| p.install(|| sweep::run(&m, black_box(&points), &settings)))
+        });
+    }
+    g.finish();
+}
+
+criterion_group!(benches, sweep_1000, dense_sector);
+criterion_main!(benches);
