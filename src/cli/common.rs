@@ -433,24 +433,19 @@ pub fn grid_values(
             format!("{points} points is more than 100000; use fewer points"),
         ));
     }
-    let t = |i: usize| i as f64 / (points - 1) as f64;
-    match grid {
-        Grid::Linear => Ok((0..points).map(|i| from + (to - from) * t(i)).collect()),
-        Grid::Log => {
-            if from == 0.0 || to == 0.0 || from.signum() != to.signum() {
-                return Err(bad_flag(
-                    "--grid",
-                    format!(
-                        "a log grid from {from} to {to} is impossible; both ends need the same sign and neither may be 0 (or use --grid linear)"
-                    ),
-                ));
-            }
-            let (a, b) = (from.abs().ln(), to.abs().ln());
-            Ok((0..points)
-                .map(|i| from.signum() * (a + (b - a) * t(i)).exp())
-                .collect())
-        }
+    let spacing = match grid {
+        Grid::Linear => ladderfan::sweep::Spacing::Linear,
+        Grid::Log => ladderfan::sweep::Spacing::Log,
+    };
+    if grid == Grid::Log && (from == 0.0 || to == 0.0 || from.signum() != to.signum()) {
+        return Err(bad_flag(
+            "--grid",
+            format!(
+                "a log grid from {from} to {to} is impossible; both ends need the same sign and neither may be 0 (or use --grid linear)"
+            ),
+        ));
     }
+    Ok(ladderfan::sweep::grid(from, to, points, spacing)?)
 }
 
 /// JSON view of one level.

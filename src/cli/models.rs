@@ -76,7 +76,11 @@ pub fn run(a: &ModelsArgs) -> CliResult {
     let mut s = String::new();
     for m in &e {
         s.push_str(&format!("{}: {}\n", m.name, m.summary));
-        s.push_str(&format!("  units: {:?} ({})\n", m.units, m.units_header).to_lowercase());
+        let system = match m.units {
+            ladderfan::units::Units::Lab => "lab",
+            ladderfan::units::Units::Natural => "natural",
+        };
+        s.push_str(&format!("  units: {system} ({})\n", m.units_header));
         s.push_str(&format!("  source: {}\n", m.source));
         let mut rows = vec![vec![
             "  parameter".to_string(),
@@ -87,8 +91,8 @@ pub fn run(a: &ModelsArgs) -> CliResult {
         for p in &m.parameters {
             rows.push(vec![
                 format!("  {}", p.name),
-                common::fmt_num(p.default, 6),
-                p.unit.into(),
+                p.default.to_string(),
+                format!("[{}]", p.unit),
                 p.meaning.into(),
             ]);
         }
