@@ -584,6 +584,20 @@ pub struct Outcome {
 
 /// Solve, track and select.
 pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
+    // flag problems first: a bad window must not cost a sweep
+    for (flag, v) in [("--emin", a.emin), ("--emax", a.emax)] {
+        if let Some(v) = v {
+            common::finite_flag(flag, v)?;
+        }
+    }
+    if let (Some(lo), Some(hi)) = (a.emin, a.emax) {
+        if lo >= hi {
+            return Err(bad_flag(
+                "--emin",
+                format!("the energy window [{lo}, {hi}] is empty; give --emin below --emax"),
+            ));
+        }
+    }
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
     let spectra = solve_points(lm, &plan.points, &settings, plan.command, a.threads)?;
