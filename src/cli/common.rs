@@ -579,7 +579,7 @@ impl UnitsJson {
 pub fn csv_header(lm: &LoadedModel, what: &str, extra: &[String]) -> String {
     let mut s = format!("# ladderfan {} {what}\n", env!("CARGO_PKG_VERSION"));
     s.push_str(&format!(
-        "# model: {} ({}), {} components, charge {} e\n",
+        "# model: {} ({}), {} component(s), charge {} e\n",
         lm.model.name(),
         lm.origin,
         lm.model.dim(),
@@ -709,5 +709,24 @@ impl SymmetryJson {
             exact: s.symmetry.is_exact(),
             classes: s.symmetry.clone(),
         }
+    }
+}
+
+/// The inverse length unit, e.g. `1/nm` or `1/(hbar/(m c))`.
+pub fn inverse_length(u: ladderfan::units::Units) -> String {
+    let l = u.length_unit();
+    if l.contains('/') || l.contains(' ') {
+        format!("1/({l})")
+    } else {
+        format!("1/{l}")
+    }
+}
+
+/// A branch label for tables: `+1`/`-1` for Klein-Gordon branches, `0` otherwise.
+pub fn branch_text(b: i8) -> String {
+    if b == 0 {
+        "0".into()
+    } else {
+        format!("{b:+}")
     }
 }

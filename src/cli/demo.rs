@@ -81,14 +81,14 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let s = super::levels::compute(&lm, &r)?;
     let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
     let sweep_args = SweepArgs {
-        points: 80,
+        points: Some(80),
         grid: common::Grid::Linear,
         emin: Some(-80.0),
         emax: Some(80.0),
         count: 16,
         threads: None,
     };
-    let values = common::grid_values("--b-min", 0.25, 10.0, sweep_args.points, sweep_args.grid)?;
+    let values = common::grid_values("--b-min", 0.25, 10.0, 80, sweep_args.grid)?;
     let plan = Plan {
         command: "fan",
         swept: Swept::Field,

@@ -18,9 +18,9 @@ use std::time::{Duration, Instant};
 /// Flags shared by every sweep.
 #[derive(Debug, Clone, Args)]
 pub struct SweepArgs {
-    /// Number of sweep points.
-    #[arg(long, default_value_t = 60)]
-    pub points: usize,
+    /// Number of sweep points (default: 60 for fan, 61 for dispersion so that kz = 0 is one).
+    #[arg(long)]
+    pub points: Option<usize>,
     /// Grid spacing.
     #[arg(long, value_enum, default_value_t = common::Grid::Linear)]
     pub grid: common::Grid,
@@ -350,10 +350,10 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
     let u = lm.model.units();
     let (xname, xunit) = match j.swept {
         Swept::Field => ("field", u.field_unit().to_string()),
-        Swept::Kz => ("kz", format!("1/{}", u.length_unit())),
+        Swept::Kz => ("kz", common::inverse_length(u)),
     };
     let fixed = match j.swept {
-        Swept::Field => format!("kz {} 1/{}", j.kz.unwrap_or(0.0), u.length_unit()),
+        Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
         Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
     };
     let header = csv_header(
@@ -414,7 +414,7 @@ pub fn svg(
     let u = lm.model.units();
     let x_label = match j.swept {
         Swept::Field => format!("B [{}]", u.field_unit()),
-        Swept::Kz => format!("kz [1/{}]", u.length_unit()),
+        Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
     let mut curves: Vec<Curve> = j
         .tracks
@@ -483,7 +483,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.values.last().copied().unwrap_or(0.0),
         match j.swept {
             Swept::Field => u.field_unit().to_string(),
-            Swept::Kz => format!("1/{}", u.length_unit()),
+            Swept::Kz => common::inverse_length(u),
         }
     );
     s.push_str(&format!(
@@ -533,7 +533,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
             });
         rows.push(vec![
             t.sector.clone(),
-            format!("{:+}", t.branch),
+            common::branch_text(t.branch),
             t.rank.to_string(),
             t.orbital.map(|n| n.to_string()).unwrap_or_default(),
             t.energies[j.reference_point]
