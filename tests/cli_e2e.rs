@@ -1015,3 +1015,40 @@ fn table_output_is_aligned_and_labelled() {
     assert!(ends.windows(2).all(|w| w[0] == w[1]));
     assert!(rows.iter().all(|l| l.trim_end().ends_with("yes")));
 }
+
+#[test]
+fn the_worked_example_of_docs_modelfile_runs_and_matches_its_closed_form() {
+    let doc =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/modelfile.md"))
+            .unwrap_or_else(|e| panic!("{e}"));
+    let block: String = doc
+        .split("```toml\n")
+        .nth(1)
+        .and_then(|b| b.split("```").next())
+        .unwrap_or_else(|| panic!("no toml block"))
+        .to_string();
+    let dir = scratch("doc-example");
+    std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{e}"));
+    let file = dir.join("invented-film.toml");
+    std::fs::write(&file, block).unwrap_or_else(|e| panic!("{e}"));
+    let j = json(&[
+        "levels",
+        "--model",
+        &file.display().to_string(),
+        "--count",
+        "11",
+        "--json",
+    ]);
+    // Delta(B) = delta + (g_mass/2) mu_B B; massive 2D Dirac levels with that mass:
+    // E_n = ±sqrt(Delta^2 + 2 n hbar^2 v^2 / l_B^2), n = 0 at -Delta for q = -1, B > 0
+    // (McClure, Phys. Rev. 104, 666 (1956) for the massless case).
+    let field = 5.0;
+    let delta = 6.0 + 0.5 * 3.0 * mu_b() * field;
+    let w = hbar_v(4.2e5) / l_b_nm(field);
+    let mut expected = vec![-delta];
+    for n in 1..=5 {
+        let e = (delta * delta + 2.0 * n as f64 * w * w).sqrt();
+        expected.extend([e, -e]);
+    }
+    assert_same_set(&converged_energies(&j), &expected, 1e-9 * w);
+}
