@@ -32,8 +32,6 @@
 //!   is labelled by its sector, dominant orbital n and component.
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
-#![deny(clippy::float_cmp)]
-// float_cmp is denied so that exact comparisons are always deliberate (`#[allow]` with a reason).
 
 pub mod builtin;
 pub mod catalogue;
