@@ -37,9 +37,10 @@
 //! ```
 //! let text = "components = 1\n[[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"kx^2\"\n\
 //!             [[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"ky^2\"\n";
-//! let file = ladderfan::modelfile::parse("m.toml", text).unwrap();
+//! let file = ladderfan::modelfile::parse("m.toml", text)?;
 //! assert_eq!(file.model.dim(), 1);
 //! assert_eq!(file.model.band(), 2);
+//! # Ok::<(), ladderfan::Error>(())
 //! ```
 
 use crate::builtin;
@@ -876,8 +877,9 @@ fn matrix_value(
 /// # Examples
 /// ```
 /// use ladderfan::modelfile::parse_monomial;
-/// let m = parse_monomial("kx^2 * ky B").unwrap();
+/// let m = parse_monomial("kx^2 * ky B")?;
 /// assert_eq!((m.kx, m.ky, m.kz, m.field), (2, 1, 0, 1));
+/// # Ok::<(), String>(())
 /// ```
 pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
     let mut m = Monomial::ONE;
@@ -1539,8 +1541,9 @@ pub fn builtin_names() -> Vec<&'static str> {
 /// use std::collections::BTreeMap;
 /// let mut v = BTreeMap::new();
 /// v.insert("mass_mev".to_string(), 5.0);
-/// let m = ladderfan::modelfile::build_builtin("dirac2d", &v).unwrap();
+/// let m = ladderfan::modelfile::build_builtin("dirac2d", &v)?;
 /// assert_eq!(m.param("mass"), Some(5.0));
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model> {
     let info = builtin_info(name).ok_or_else(|| Error::Parse {
@@ -1577,8 +1580,9 @@ pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model
 /// # Examples
 /// ```
 /// use ladderfan::units::Units;
-/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x").unwrap();
+/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x")?;
 /// assert!((x - 1.0).abs() < 1e-15);
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn eval_expression(
     expr: &str,

@@ -140,8 +140,9 @@ fn runs(points: &[(f64, f64)], (y0, y1): (f64, f64)) -> Vec<Vec<(f64, f64)>> {
 ///     title: "t".into(), x_label: "B [T]".into(), y_label: "E [meV]".into(),
 ///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)] }],
 ///     y_range: None, notes: vec![],
-/// }).unwrap();
+/// })?;
 /// assert!(svg.starts_with("<svg") && svg.contains("B [T]"));
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn line_plot(p: &LinePlot) -> Result<String> {
     let (x0, x1) = padded_x(range(
@@ -288,6 +289,7 @@ pub fn level_diagram(d: &LevelDiagram) -> Result<String> {
         chart
             .configure_mesh()
             .x_desc("dominant orbital n")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc(format!("E [{}]", d.energy_unit))
             .light_line_style(WHITE.mix(0.0))
             .label_style(("sans-serif", 15))
