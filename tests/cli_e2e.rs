@@ -1052,3 +1052,39 @@ fn the_worked_example_of_docs_modelfile_runs_and_matches_its_closed_form() {
     }
     assert_same_set(&converged_energies(&j), &expected, 1e-9 * w);
 }
+
+#[test]
+fn every_builtin_fan_agrees_with_its_closed_form() {
+    // ladderfan::closed_form holds the published formula of each built-in (sources there); the
+    // fan compares every converged level in the window with it, both ways, at every field.
+    let models = json(&["models", "--json"]);
+    let names: Vec<String> = models
+        .as_array()
+        .unwrap_or_else(|| panic!("list"))
+        .iter()
+        .filter_map(|m| m["name"].as_str().map(String::from))
+        .collect();
+    assert!(names.len() >= 11);
+    for name in &names {
+        let j = json(&[
+            "fan",
+            "--builtin",
+            name,
+            "--points",
+            "4",
+            "--cutoff",
+            "60",
+            "--json",
+        ]);
+        let c = &j["closed_form"];
+        assert_eq!(c["passed"], true, "{name}: {c}");
+        assert!(
+            c["computed_compared"].as_u64().unwrap_or(0) >= 8,
+            "{name}: {c}"
+        );
+        assert!(
+            c["expected_compared"].as_u64().unwrap_or(0) >= 4,
+            "{name}: {c}"
+        );
+    }
+}

@@ -674,3 +674,30 @@ pub fn verdict(c: Option<&ClosedFormCheck>) -> CliResult {
         _ => Ok(()),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_closed_form_disagreement_is_a_verification_failure() {
+        let mut c = ClosedFormCheck {
+            model: "m".into(),
+            computed_compared: 3,
+            expected_compared: 3,
+            max_deviation: 1e-3,
+            worst_ratio: 5.0,
+            passed: false,
+        };
+        let e = verdict(Some(&c))
+            .err()
+            .unwrap_or_else(|| panic!("no error"));
+        assert_eq!(e.exit_code(), common::EXIT_VERIFICATION);
+        assert!(e
+            .message()
+            .starts_with("verification failed: computed levels of m deviate"));
+        c.passed = true;
+        assert!(verdict(Some(&c)).is_ok());
+        assert!(verdict(None).is_ok());
+    }
+}
