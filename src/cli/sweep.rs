@@ -516,7 +516,13 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         format!("E min [{}]", u.energy_unit()),
         format!("E max [{}]", u.energy_unit()),
     ]];
-    let mut tracks: Vec<&Track> = j.tracks.iter().collect();
+    // the table lists the tracks inside the window at the reference point
+    let (lo, hi) = j.window;
+    let mut tracks: Vec<&Track> = j
+        .tracks
+        .iter()
+        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
+        .collect();
     tracks.sort_by(|a, b| {
         let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
         let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
@@ -545,10 +551,11 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
     }
     s.push('\n');
     s.push_str(&common::table(&rows));
-    if tracks.len() > MAX_ROWS {
+    let hidden = j.tracks.len() - tracks.len().min(MAX_ROWS);
+    if hidden > 0 {
         s.push_str(&format!(
-            "... {} more (see --json or --out)\n",
-            tracks.len() - MAX_ROWS
+            "({hidden} more tracks, outside the window at {} or beyond {MAX_ROWS} rows: see --json or --out)\n",
+            fmt_num(x_ref, 6)
         ));
     }
     s
