@@ -47,6 +47,7 @@ pub mod sectors;
 pub mod solve;
 pub mod sweep;
 pub mod units;
+pub mod verify;
 
 pub use error::{Error, Result};
 pub use hamiltonian::FieldPoint;
