@@ -43,6 +43,8 @@ pub mod ladder;
 pub mod levels;
 pub mod matrix;
 pub mod model;
+pub mod modelfile;
+pub mod plot;
 pub mod sectors;
 pub mod solve;
 pub mod sweep;
