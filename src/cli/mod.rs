@@ -19,6 +19,7 @@ pub mod fan;
 pub mod levels;
 pub mod models;
 pub mod sweep;
+pub mod verify;
 
 use clap::{Parser, Subcommand};
 use common::{CliError, CliResult, EXIT_BAD_INPUT, EXIT_VERIFICATION};
@@ -50,6 +51,9 @@ pub enum Command {
     Export(export::ExportArgs),
     /// An invented gapped Dirac film: table, fan diagram SVG and CSV in a few seconds.
     Demo(demo::DemoArgs),
+    /// Check a level formula (or a CSV of expected levels) against the exact spectrum, level
+    /// by level: exit 0 pass, 1 fail, 2 bad input.
+    Verify(verify::VerifyArgs),
 }
 
 /// Run one command.
@@ -61,6 +65,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Models(a) => models::run(&a),
         Command::Export(a) => export::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Verify(a) => verify::run(&a),
     }
 }
 

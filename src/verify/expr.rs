@@ -136,6 +136,9 @@ fn lookup_function(name: &str) -> Option<(&'static str, Func)> {
 pub struct Scope {
     names: Vec<String>,
     values: Vec<f64>,
+    /// The first `reserved` names are fixed variables and constants that parameters never
+    /// shadow.
+    reserved: usize,
 }
 
 /// Index of `n` in every scope from [`Scope::for_model`].
@@ -149,6 +152,7 @@ impl Scope {
         Scope {
             names: Vec::new(),
             values: Vec::new(),
+            reserved: 0,
         }
     }
 
@@ -161,6 +165,15 @@ impl Scope {
         self.names.push(name.to_string());
         self.values.push(value);
         self.names.len() - 1
+    }
+
+    /// Add a model parameter: as `NAME` unless that is one of the fixed names of
+    /// [`Scope::for_model`] (n, s, B, e, ...), and always as `param_NAME`.
+    pub fn add_parameter(&mut self, name: &str, value: f64) {
+        if self.names[..self.reserved].iter().all(|x| x != name) {
+            self.set(name, value);
+        }
+        self.set(&format!("param_{name}"), value);
     }
 
     /// Index of a variable.
@@ -235,12 +248,9 @@ impl Scope {
                 s.set("mu_B", bohr_magneton(Units::Natural));
             }
         }
-        let reserved = s.names.len();
+        s.reserved = s.names.len();
         for (k, &v) in model.params() {
-            if s.names[..reserved].iter().all(|x| x != k) {
-                s.set(k, v);
-            }
-            s.set(&format!("param_{k}"), v);
+            s.add_parameter(k, v);
         }
         s
     }

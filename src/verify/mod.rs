@@ -576,6 +576,9 @@ pub struct LevelFormula {
     pub cases: Vec<(String, String)>,
     /// Multiplicity expression (flag `--multiplicity`, default 1).
     pub multiplicity: Option<String>,
+    /// Extra named values, added like model parameters (e.g. the command line's parameter
+    /// names of a built-in model, `mass_mev`, `velocity_m_per_s`).
+    pub variables: Vec<(String, f64)>,
 }
 
 struct CompiledFormula {
@@ -588,7 +591,10 @@ struct CompiledFormula {
 
 impl CompiledFormula {
     fn new(model: &Model, point: FieldPoint, f: &LevelFormula) -> Result<Self> {
-        let scope = Scope::for_model(model, point);
+        let mut scope = Scope::for_model(model, point);
+        for (k, v) in &f.variables {
+            scope.add_parameter(k, *v);
+        }
         let formula = Expr::parse(&f.formula, &scope, "--formula")?;
         let n0 = match &f.n0 {
             Some(t) => Some(Expr::parse(t, &scope, "--formula-n0")?),
@@ -940,7 +946,7 @@ impl Verdict {
         match self.outcome {
             Outcome::Pass => format!(
                 "verdict: PASS: all {agree} levels in the window agree (worst |deviation| \
-                 {:.2e} {unit} = {:.2} of the allowed){extra}",
+                 {:.2e} {unit} = {:.1e} of the allowed){extra}",
                 self.worst_deviation, self.worst_fraction_of_allowed
             ),
             Outcome::Fail => format!(
