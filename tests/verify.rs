@@ -91,7 +91,14 @@ fn from_formula(
     ns: &[i64],
     ss: &[i8],
 ) -> ExpectedList {
-    ok(ExpectedList::from_formula(m, pt, Reference::Zero, f, ns, ss))
+    ok(ExpectedList::from_formula(
+        m,
+        pt,
+        Reference::Zero,
+        f,
+        ns,
+        ss,
+    ))
 }
 
 /// Every model of src/builtin.rs and src/catalogue.rs with a cutoff that converges its low
@@ -129,7 +136,12 @@ fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
             lab_kz,
             60,
         ),
-        ("dirac", ok(builtin::dirac(RelativisticParams::default())), nat, 60),
+        (
+            "dirac",
+            ok(builtin::dirac(RelativisticParams::default())),
+            nat,
+            60,
+        ),
         (
             "klein-gordon",
             ok(builtin::klein_gordon(RelativisticParams::default())),
@@ -262,9 +274,7 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
         (
             "tilted-dirac2d",
             LevelFormula {
-                formula: format!(
-                    "s*(1 - (tilt_velocity/velocity)^2)^(3/4)*sqrt(2*n)*{hv}/l_B"
-                ),
+                formula: format!("s*(1 - (tilt_velocity/velocity)^2)^(3/4)*sqrt(2*n)*{hv}/l_B"),
                 n0: Some("0".into()),
                 ..Default::default()
             },
@@ -556,13 +566,15 @@ fn omitted_dirac2d_zero_level_is_an_unmatched_numerical_level() {
         assert_eq!(v.disagreeing().count(), 0, "{}", describe(&v));
         assert!(v.missing_expected.is_empty());
         assert_eq!(v.unmatched_numerical.len(), 1, "{}", describe(&v));
-        let e0 = valley as f64 * (-1.0 * field).signum() * mass;
+        let e0 = valley as f64 * (-field).signum() * mass; // q = -1
         assert!(
             (v.unmatched_numerical[0].energy - e0).abs() < 1e-6,
             "{} vs {e0}",
             v.unmatched_numerical[0].energy
         );
-        assert!(v.verdict_line("meV").contains("1 numerical level(s) have no expected partner"));
+        assert!(v
+            .verdict_line("meV")
+            .contains("1 numerical level(s) have no expected partner"));
     }
 }
 
@@ -632,7 +644,9 @@ fn relativistic_levels_at_one_tesla_pass_with_the_rounding_allowance() {
     let list = from_formula(&m, pt, &f, &range(0, 10), &[-1, 1]);
     let v = run(&m, pt, 40, &list);
     assert_eq!(v.outcome, Outcome::Fail, "{}", describe(&v));
-    assert!(v.disagreeing().any(|p| p.expected.n == 1 && p.expected.s == 1));
+    assert!(v
+        .disagreeing()
+        .any(|p| p.expected.n == 1 && p.expected.s == 1));
 }
 
 #[test]
@@ -640,7 +654,10 @@ fn formula_errors_are_reported_with_their_location() {
     let m = ok(builtin::dirac2d(Dirac2dParams::default()));
     let pt = FieldPoint::field(1.0);
     for (f, want) in [
-        (formula("s*sqrt(mas^2)"), "--formula: column 8: unknown variable 'mas'"),
+        (
+            formula("s*sqrt(mas^2)"),
+            "--formula: column 8: unknown variable 'mas'",
+        ),
         (formula("sqrt(-1 - n)"), "gives NaN at n = 0"),
         (
             LevelFormula {
@@ -671,8 +688,8 @@ fn empty_window_is_inconclusive_not_a_pass() {
     let m = ok(builtin::schrodinger(MassParams::default()));
     let pt = FieldPoint::field(1.0);
     let s = spectrum(&m, pt, 40);
-    let list = ExpectedList::from_levels(Vec::new(), 0.0)
-        .with_window(verify::Window::closed(1e6, 2e6));
+    let list =
+        ExpectedList::from_levels(Vec::new(), 0.0).with_window(verify::Window::closed(1e6, 2e6));
     let v = ok(verify::check(&s, &list, &VerifySettings::default()));
     assert_eq!(v.outcome, Outcome::Inconclusive);
     assert_eq!(v.exit_code(), 1);
@@ -797,7 +814,10 @@ fn cli_failing_formula_exits_one_and_lists_the_forgotten_level() {
     assert_eq!(v["verdict"]["outcome"], "fail");
     // the dropped Zeeman term (g/2) mu_B B, g = 2 (built-in default): every pair disagrees by it
     let z = BOHR_MAGNETON_MEV_PER_T * 3.0;
-    let pairs = v["verdict"]["pairs"].as_array().cloned().unwrap_or_default();
+    let pairs = v["verdict"]["pairs"]
+        .as_array()
+        .cloned()
+        .unwrap_or_default();
     assert_eq!(pairs.len(), 22);
     for p in &pairs {
         assert_eq!(p["agreement"], "disagrees");
@@ -820,23 +840,56 @@ fn cli_csv_and_bad_input() {
     }
     let p = path.display().to_string();
     let (code, out, err) = ladderfan(&[
-        "verify", "--builtin", "schrodinger", "--field", "2", "--cutoff", "40", "--expected", &p,
+        "verify",
+        "--builtin",
+        "schrodinger",
+        "--field",
+        "2",
+        "--cutoff",
+        "40",
+        "--expected",
+        &p,
     ]);
     assert_eq!(code, 0, "{out}\n{err}");
     assert!(out.contains("verdict: PASS: all 9 levels"), "{out}");
     // bad input: exit 2 with one located error line
     for (args, want) in [
         (
-            vec!["verify", "--builtin", "schrodinger", "--formula", "n +", "--n", "0..3"],
+            vec![
+                "verify",
+                "--builtin",
+                "schrodinger",
+                "--formula",
+                "n +",
+                "--n",
+                "0..3",
+            ],
             "--formula: column",
         ),
         (
-            vec!["verify", "--builtin", "schrodinger", "--formula", "n", "--n", "3..1"],
+            vec![
+                "verify",
+                "--builtin",
+                "schrodinger",
+                "--formula",
+                "n",
+                "--n",
+                "3..1",
+            ],
             "--n",
         ),
-        (vec!["verify", "--builtin", "schrodinger"], "nothing to verify"),
         (
-            vec!["verify", "--builtin", "schrodinger", "--expected", "/no/such/file.csv"],
+            vec!["verify", "--builtin", "schrodinger"],
+            "nothing to verify",
+        ),
+        (
+            vec![
+                "verify",
+                "--builtin",
+                "schrodinger",
+                "--expected",
+                "/no/such/file.csv",
+            ],
             "/no/such/file.csv",
         ),
     ] {

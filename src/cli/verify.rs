@@ -26,23 +26,53 @@ pub struct VerifyArgs {
     pub solve: SolveArgs,
     /// The expected energy E(n, s) as an expression (see docs/verify.md), e.g.
     /// "s*sqrt(2*n)*hbar*velocity*metre/second/l_B".
-    #[arg(long, value_name = "EXPR", conflicts_with = "expected", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "EXPR",
+        conflicts_with = "expected",
+        allow_hyphen_values = true
+    )]
     pub formula: Option<String>,
     /// A separate expression for the n = 0 level, evaluated once (with s = 0).
-    #[arg(long, value_name = "EXPR", requires = "formula", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "EXPR",
+        requires = "formula",
+        allow_hyphen_values = true
+    )]
     pub formula_n0: Option<String>,
     /// A conditional case "CONDITION => EXPR", tried in order before --formula (repeatable),
     /// e.g. "n < 2 => if(s > 0, 0, none)".
-    #[arg(long = "case", value_name = "COND => EXPR", requires = "formula", allow_hyphen_values = true)]
+    #[arg(
+        long = "case",
+        value_name = "COND => EXPR",
+        requires = "formula",
+        allow_hyphen_values = true
+    )]
     pub cases: Vec<String>,
     /// Multiplicity of each level as an expression (default 1), e.g. "if(n == 0, 1, 2)".
-    #[arg(long, value_name = "EXPR", requires = "formula", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "EXPR",
+        requires = "formula",
+        allow_hyphen_values = true
+    )]
     pub multiplicity: Option<String>,
     /// Landau indices: a range with both ends included (0..40) and/or a list (0,1,5).
-    #[arg(long = "n", value_name = "RANGE", requires = "formula", allow_hyphen_values = true)]
+    #[arg(
+        long = "n",
+        value_name = "RANGE",
+        requires = "formula",
+        allow_hyphen_values = true
+    )]
     pub n_values: Option<String>,
     /// Values of the spin or branch sign s (default 0), e.g. -1,1.
-    #[arg(long = "s", value_name = "LIST", requires = "formula", allow_hyphen_values = true)]
+    #[arg(
+        long = "s",
+        value_name = "LIST",
+        requires = "formula",
+        allow_hyphen_values = true
+    )]
     pub s_values: Option<String>,
     /// CSV of expected levels instead of a formula: header row with `energy` and optionally
     /// `n`, `s`, `multiplicity`, `label`.
@@ -192,7 +222,10 @@ pub fn run(args: &VerifyArgs) -> CliResult {
                 .into_iter()
                 .map(|s| {
                     i8::try_from(s).map_err(|_| {
-                        bad_flag("--s", format!("s = {s} is out of range; use small integers"))
+                        bad_flag(
+                            "--s",
+                            format!("s = {s} is out of range; use small integers"),
+                        )
                     })
                 })
                 .collect::<CliResult<_>>()?;
@@ -236,12 +269,10 @@ pub fn run(args: &VerifyArgs) -> CliResult {
             let list = ExpectedList::from_csv(&text, &name, origin_energy)?;
             (list, format!("file {name}"))
         }
-        _ => {
-            return Err(bad_flag(
-                "--formula",
-                "nothing to verify; pass --formula EXPR --n RANGE [--s LIST] or --expected FILE.csv",
-            ))
-        }
+        _ => return Err(bad_flag(
+            "--formula",
+            "nothing to verify; pass --formula EXPR --n RANGE [--s LIST] or --expected FILE.csv",
+        )),
     };
     if let Some(w) = &args.window {
         list = list.with_window(parse_window(w)?);
@@ -256,9 +287,10 @@ pub fn run(args: &VerifyArgs) -> CliResult {
         ..VerifySettings::default()
     };
     let verdict = verify::check(&spectrum, &list, &settings).map_err(|e| match e {
-        Error::BadNumber { name, value, fix } => {
-            bad_flag(&format!("--{}", name.replace('_', "-").replace(' ', "-")), format!("{value}: {fix}"))
-        }
+        Error::BadNumber { name, value, fix } => bad_flag(
+            &format!("--{}", name.replace(['_', ' '], "-")),
+            format!("{value}: {fix}"),
+        ),
         other => CliError::Input(other),
     })?;
     let unit = lm.model.units().energy_unit();
@@ -277,7 +309,14 @@ pub fn run(args: &VerifyArgs) -> CliResult {
             verdict: verdict.clone(),
         })?;
     } else {
-        emit(&report(&lm, &spectrum, &list, &source, &verdict, args.only_failures))?;
+        emit(&report(
+            &lm,
+            &spectrum,
+            &list,
+            &source,
+            &verdict,
+            args.only_failures,
+        ))?;
     }
     match verdict.outcome {
         Outcome::Pass => Ok(()),

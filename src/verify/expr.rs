@@ -598,9 +598,7 @@ impl Parser<'_> {
                     None => {
                         self.pos = start;
                         let known = self.scope.names().join(", ");
-                        Err(self.err(&format!(
-                            "unknown variable '{name}'; known names: {known}"
-                        )))
+                        Err(self.err(&format!("unknown variable '{name}'; known names: {known}")))
                     }
                 },
             };
@@ -690,9 +688,9 @@ impl Parser<'_> {
         };
         if let Some(c) = self.src.get(self.pos) {
             if c.is_ascii_alphabetic() || *c == b'_' {
-                return Err(self.err(
-                    "a number runs into a name; write the product with '*' (e.g. 2*n)",
-                ));
+                return Err(
+                    self.err("a number runs into a name; write the product with '*' (e.g. 2*n)")
+                );
             }
         }
         Ok(Node::Num(x))
@@ -791,7 +789,10 @@ mod tests {
         let s = Scope::for_model(&m, FieldPoint::field(1.0));
         let get = |k: &str| s.get(k).unwrap_or(f64::NAN);
         let r = get("hbar").powi(2) / (2.0 * get("m_e"));
-        assert!((r / crate::units::HBAR2_OVER_2ME_MEV_NM2 - 1.0).abs() < 1e-14, "{r}");
+        assert!(
+            (r / crate::units::HBAR2_OVER_2ME_MEV_NM2 - 1.0).abs() < 1e-14,
+            "{r}"
+        );
         let w = get("hbar") * get("e") / get("m_e");
         assert!((w / (2.0 * get("mu_B")) - 1.0).abs() < 1e-14, "{w}");
         // 1e6 m/s = 1 nm/fs

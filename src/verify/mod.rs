@@ -37,6 +37,11 @@
 pub mod expr;
 pub mod matching;
 
+/// The Rust example of docs/verify.md, compiled and run as a doc test so that it stays true.
+#[cfg(doctest)]
+#[doc = include_str!("../../docs/verify.md")]
+pub struct VerifyDocDoctests;
+
 use crate::closed_form::{self, ExpectedLevel};
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
@@ -150,7 +155,7 @@ fn resolve_origin(model: &Model, origin: Reference) -> f64 {
 }
 
 fn level_label(n: i64, s: i8, n_only: bool) -> String {
-    if n_only {
+    if n_only || s == 0 {
         format!("n={n}")
     } else {
         format!("n={n} s={s:+}")
@@ -160,7 +165,10 @@ fn level_label(n: i64, s: i8, n_only: bool) -> String {
 impl ExpectedList {
     /// A plain list; energies are E - `origin`. The window is [lowest, highest] energy.
     pub fn from_levels(levels: Vec<ExpectedLevel>, origin: f64) -> Self {
-        let lo = levels.iter().map(|l| l.energy).fold(f64::INFINITY, f64::min);
+        let lo = levels
+            .iter()
+            .map(|l| l.energy)
+            .fold(f64::INFINITY, f64::min);
         let hi = levels
             .iter()
             .map(|l| l.energy)
@@ -471,12 +479,9 @@ impl ExpectedList {
             let line = rec.position().map(|p| p.line()).unwrap_or(0);
             let field = |c: usize| rec.get(c).unwrap_or("");
             let number = |c: usize, what: &str| -> Result<f64> {
-                field(c).parse::<f64>().map_err(|_| {
-                    perr(
-                        line,
-                        format!("{what} '{}' is not a number", field(c)),
-                    )
-                })
+                field(c)
+                    .parse::<f64>()
+                    .map_err(|_| perr(line, format!("{what} '{}' is not a number", field(c))))
             };
             let energy = number(energy_col, "energy")?;
             if !energy.is_finite() {
@@ -754,7 +759,9 @@ pub fn parse_int_list(text: &str, flag: &str) -> Result<Vec<i64>> {
                 )));
             }
             if b - a >= 1_000_000 {
-                return Err(err(format!("the range {part} has more than 1000000 values")));
+                return Err(err(format!(
+                    "the range {part} has more than 1000000 values"
+                )));
             }
             out.extend(a..=b);
         } else {
@@ -1072,8 +1079,7 @@ pub fn check(
     let mut checked: Vec<ExpectedState> = Vec::new();
     let mut not_checked = 0;
     for st in states {
-        if inside(st.energy, guard + st.allowance) && in_converged_range(st.energy, st.allowance)
-        {
+        if inside(st.energy, guard + st.allowance) && in_converged_range(st.energy, st.allowance) {
             checked.push(st);
         } else {
             not_checked += 1;
@@ -1216,8 +1222,16 @@ pub fn check(
         Edge::Include(b) | Edge::Exclude(b) => b + shift,
     };
     let window = (
-        if cut_below { lo_edge.max(conv_lo) } else { lo_edge },
-        if cut_above { hi_edge.min(conv_hi) } else { hi_edge },
+        if cut_below {
+            lo_edge.max(conv_lo)
+        } else {
+            lo_edge
+        },
+        if cut_above {
+            hi_edge.min(conv_hi)
+        } else {
+            hi_edge
+        },
     );
     Ok(Verdict {
         outcome,
@@ -1254,7 +1268,9 @@ mod tests {
     #[test]
     fn beyond_window_closes_each_branch_on_its_side() {
         // two branches: s = +1 increasing (1 + n), s = -1 decreasing (-1 - n)
-        let w = beyond_window(&[0, 1, 2], &[-1, 1], 2, |n, s| Some(s as f64 * (1.0 + n as f64)));
+        let w = beyond_window(&[0, 1, 2], &[-1, 1], 2, |n, s| {
+            Some(s as f64 * (1.0 + n as f64))
+        });
         assert_eq!(w.lower, Edge::Exclude(-4.0));
         assert_eq!(w.upper, Edge::Exclude(4.0));
         // one increasing branch only: the lower side stays open
