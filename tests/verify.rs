@@ -208,9 +208,11 @@ fn every_catalogue_closed_form_passes_at_both_signs_of_qb() {
             let v = run(&model, p, cutoff, &list);
             assert_pass(&v, &format!("{what} B={}", p.field), 8);
             eprintln!(
-                "{what:<15} B={:+}: {} pairs, worst |dev| {:.1e} = {:.1e} of the scale",
+                "{what:<15} B={:+}: {} pairs, {} unresolved, {} not checked, worst |dev| {:.1e} = {:.1e} of the scale",
                 p.field,
                 v.pairs.len(),
+                v.unresolved_expected.len(),
+                v.not_checked,
                 v.worst_deviation,
                 v.worst_deviation / v.energy_scale
             );
@@ -898,4 +900,67 @@ fn cli_csv_and_bad_input() {
         assert!(err.contains(want), "{args:?}: {err}");
         assert_eq!(err.lines().count(), 1, "{err}");
     }
+}
+
+#[test]
+fn doubly_listed_zero_level_is_not_excused_by_the_cutoff_artefact() {
+    // Massless 2D Dirac: s*sqrt(2n) hbar v / l_B for s = ±1 lists n = 0 twice, the spectrum
+    // has one zero level (McClure 1956); the second zero eigenvalue of the truncated matrix
+    // lives on the top orbital (a cutoff artefact) and must not count as a partner.
+    let m = ok(builtin::dirac2d(Dirac2dParams::default()));
+    let pt = FieldPoint::field(3.0);
+    let f = formula("s*sqrt(2*n)*hbar*velocity*metre/second/l_B");
+    let list = from_formula(&m, pt, &f, &range(0, 30), &[-1, 1]);
+    let s = spectrum(&m, pt, 100);
+    // the artefact is there: an unconverged level at 0 (both zero modes are exact zeros)
+    assert!(s
+        .levels
+        .iter()
+        .any(|l| !l.is_converged() && l.energy.abs() < 1e-9));
+    let v = ok(verify::check(&s, &list, &VerifySettings::default()));
+    assert_eq!(v.outcome, Outcome::Fail, "{}", describe(&v));
+    assert_eq!(v.missing_expected.len(), 1, "{}", describe(&v));
+    assert_eq!(v.missing_expected[0].expected.n, 0);
+    assert!(v.unresolved_expected.is_empty());
+}
+
+#[test]
+fn a_level_with_only_an_unconverged_candidate_makes_the_verdict_inconclusive() {
+    // Landau 1930 levels; the numerical n = 3 level is marked unconverged by hand (as if the
+    // cutoff had not resolved it): the formula is not verified there, so no PASS.
+    let m = ok(builtin::schrodinger(MassParams::default()));
+    let pt = FieldPoint::field(2.0);
+    let w = cyclotron_energy_mev(1.0, 2.0, -1.0);
+    let list = ok(ExpectedList::from_fn(
+        &m,
+        pt,
+        Reference::Zero,
+        &range(0, 10),
+        &[0],
+        |v| Some(w * (v.n as f64 + 0.5)),
+    ));
+    let mut s = spectrum(&m, pt, 40);
+    assert_pass(
+        &ok(verify::check(&s, &list, &VerifySettings::default())),
+        "schrodinger",
+        11,
+    );
+    let i = s
+        .levels
+        .iter()
+        .position(|l| (l.energy - 3.5 * w).abs() < 1e-9 * w)
+        .unwrap_or(usize::MAX);
+    s.levels[i].convergence = ladderfan::levels::Convergence::NotConverged;
+    s.levels[i].bound = 1e-3 * w;
+    s.levels[i].top_weight = 0.0;
+    let v = ok(verify::check(&s, &list, &VerifySettings::default()));
+    assert_eq!(v.outcome, Outcome::Inconclusive, "{}", describe(&v));
+    assert_eq!(v.unresolved_expected.len(), 1);
+    assert_eq!(v.unresolved_expected[0].expected.n, 3);
+    assert_eq!(v.exit_code(), 1);
+    // as a cutoff artefact (weight on the top orbitals) it is no candidate: the level is missing
+    s.levels[i].top_weight = 0.9;
+    let v = ok(verify::check(&s, &list, &VerifySettings::default()));
+    assert_eq!(v.outcome, Outcome::Fail, "{}", describe(&v));
+    assert_eq!(v.missing_expected.len(), 1);
 }
