@@ -324,7 +324,7 @@ pub fn run(args: &VerifyArgs) -> CliResult {
             "the expected levels do not match the spectrum (see the verdict line)".into(),
         )),
         Outcome::Inconclusive => Err(CliError::Verification(
-            "nothing could be compared (see the verdict line)".into(),
+            "not every expected level could be compared (see the verdict line)".into(),
         )),
     }
 }
