@@ -964,3 +964,27 @@ fn a_level_with_only_an_unconverged_candidate_makes_the_verdict_inconclusive() {
     assert_eq!(v.outcome, Outcome::Fail, "{}", describe(&v));
     assert_eq!(v.missing_expected.len(), 1);
 }
+
+#[test]
+fn cli_model_file_parameters_are_formula_variables() {
+    // tests/data/pauli_zeeman.toml: [parameters] m = 0.2, g = -4.4 (invented); Landau 1930 plus
+    // the Zeeman term, written with the file's own parameter names
+    let file = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/data/pauli_zeeman.toml");
+    let (code, out, err) = ladderfan(&[
+        "verify",
+        "--model",
+        file,
+        "--field",
+        "4",
+        "--cutoff",
+        "60",
+        "--formula",
+        "hbar*e*abs(q*B)/(m*m_e)*(n + 1/2) + s*g/2*mu_B*B",
+        "--n",
+        "0..20",
+        "--s",
+        "-1,1",
+    ]);
+    assert_eq!(code, 0, "{out}\n{err}");
+    assert!(out.contains("verdict: PASS: all 42 levels"), "{out}");
+}
