@@ -375,9 +375,11 @@ fn report(
         }
     ));
     out.push_str(&format!(
-        "window checked: [{}, {}] {unit}; allowed |deviation| = bound + {:e} x {} {unit} + rounding\n\n",
+        "window checked: {}{}, {}{} {unit}; allowed |deviation| = bound + {:e} x {} {unit} + rounding\n\n",
+        if v.window_ends_included.0 { "[" } else { "(" },
         fmt_edge(v.window.0),
         fmt_edge(v.window.1),
+        if v.window_ends_included.1 { "]" } else { ")" },
         v.tolerance,
         fmt_num(v.energy_scale, 6)
     ));

@@ -902,6 +902,9 @@ pub struct Verdict {
     pub tolerance: f64,
     /// The window checked, relative to the reference energy (infinite: open).
     pub window: (f64, f64),
+    /// Whether each end of `window` is itself inside (a listed or converged level); false for
+    /// an open side and for an end that is the first level the expected list does not cover.
+    pub window_ends_included: (bool, bool),
     /// Pairs, ascending in expected energy; agreeing and disagreeing.
     pub pairs: Vec<Pair>,
     /// Converged numerical levels in the window that no expected level accounts for.
@@ -1237,17 +1240,15 @@ pub fn check(
         Edge::Open => f64::INFINITY,
         Edge::Include(b) | Edge::Exclude(b) => b + shift,
     };
+    let lo_clip = cut_below && conv_lo >= lo_edge;
+    let hi_clip = cut_above && conv_hi <= hi_edge;
     let window = (
-        if cut_below {
-            lo_edge.max(conv_lo)
-        } else {
-            lo_edge
-        },
-        if cut_above {
-            hi_edge.min(conv_hi)
-        } else {
-            hi_edge
-        },
+        if lo_clip { conv_lo } else { lo_edge },
+        if hi_clip { conv_hi } else { hi_edge },
+    );
+    let window_ends_included = (
+        lo_clip || matches!(expected.window.lower, Edge::Include(_)),
+        hi_clip || matches!(expected.window.upper, Edge::Include(_)),
     );
     Ok(Verdict {
         outcome,
@@ -1255,6 +1256,7 @@ pub fn check(
         energy_scale: scale,
         tolerance: settings.tolerance,
         window,
+        window_ends_included,
         pairs,
         unmatched_numerical,
         missing_expected,
