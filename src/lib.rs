@@ -43,6 +43,7 @@ pub mod ladder;
 pub mod levels;
 pub mod matrix;
 pub mod model;
+pub mod observables;
 pub mod sectors;
 pub mod solve;
 pub mod sweep;
