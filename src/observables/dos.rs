@@ -224,6 +224,57 @@ pub fn from_per_cm2(units: Units, per_cm2_value: f64) -> f64 {
     per_cm2_value / per_cm2(units, 1.0)
 }
 
+/// Whether the model's spectrum is bounded below, judged from its classical band structure at
+/// large in-plane k: the terms of the highest in-plane degree p (field-independent, kz = 0),
+/// H_p(theta) = sum c M cos^a(theta) sin^b(theta), must be positive semi-definite at every
+/// direction theta (sampled at 72 angles). Odd p (Dirac-like) is never bounded: H_p(theta + pi)
+/// = -H_p(theta). Klein-Gordon-form models have both branches and are not bounded below.
+///
+/// # Examples
+/// ```
+/// use ladderfan::builtin;
+/// use ladderfan::observables::dos::bounded_below;
+/// assert!(bounded_below(&builtin::schrodinger(builtin::MassParams::default())?));
+/// assert!(!bounded_below(&builtin::dirac2d(builtin::Dirac2dParams::default())?));
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn bounded_below(model: &Model) -> bool {
+    if let crate::model::SpectrumForm::KleinGordon { .. } = model.form() {
+        return false;
+    }
+    let lead = model
+        .terms()
+        .iter()
+        .filter(|t| t.monomial.field == 0 && t.monomial.kz == 0)
+        .map(|t| t.monomial.inplane_degree())
+        .max()
+        .unwrap_or(0);
+    if lead == 0 {
+        return true;
+    }
+    let d = model.dim();
+    for k in 0..72 {
+        let th = k as f64 * std::f64::consts::PI / 36.0;
+        let (c, s) = (th.cos(), th.sin());
+        let mut h = nalgebra::DMatrix::<num_complex::Complex64>::zeros(d, d);
+        for t in model.terms() {
+            let m = t.monomial;
+            if m.field == 0 && m.kz == 0 && m.inplane_degree() == lead {
+                h += &t.matrix * (t.coefficient * c.powi(m.kx as i32) * s.powi(m.ky as i32));
+            }
+        }
+        let scale = h.iter().map(|z| z.norm()).fold(0.0, f64::max);
+        if scale == 0.0 {
+            continue;
+        }
+        let eig = nalgebra::SymmetricEigen::new(h).eigenvalues;
+        if eig.iter().any(|&e| e < -1e-12 * scale) {
+            return false;
+        }
+    }
+    true
+}
+
 /// The converged levels of one spectrum, with everything needed for densities: the states per
 /// level and area, the line shape and its width at this field.
 #[derive(Debug, Clone, Serialize)]
@@ -242,9 +293,8 @@ pub struct LevelDensity {
     pub energies: Vec<f64>,
     /// Lowest and highest converged energy: outside this window levels are missing.
     pub window: (f64, f64),
-    /// Whether the lowest level of the truncated spectrum is converged (the spectrum is bounded
-    /// below within the basis, as for a single parabolic band) or not (a Dirac sea truncated by
-    /// the cutoff).
+    /// Whether the model's spectrum is bounded below ([`bounded_below`]): a band that is empty
+    /// at neutrality, rather than a Dirac sea truncated by the cutoff.
     pub bounded_below: bool,
     /// The broadening.
     pub broadening: Broadening,
@@ -269,11 +319,7 @@ impl LevelDensity {
         };
         let landau =
             landau_degeneracy_per_area(spectrum.units, spectrum.point.field, model.charge());
-        let bounded_below = spectrum
-            .levels
-            .first()
-            .map(|l| l.is_converged())
-            .unwrap_or(false);
+        let bounded_below = bounded_below(model);
         Ok(LevelDensity {
             units: spectrum.units,
             field: spectrum.point.field,

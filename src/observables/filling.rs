@@ -53,8 +53,8 @@ pub fn thermal_energy(units: Units, temperature_k: f64) -> f64 {
 /// Where the carrier density is counted from.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
 pub enum Neutrality {
-    /// [`Neutrality::EmptyBand`] when the lowest level of the truncated spectrum is converged
-    /// (a spectrum bounded below, such as a parabolic band), otherwise
+    /// [`Neutrality::EmptyBand`] when the model's spectrum is bounded below
+    /// ([`super::dos::bounded_below`]: a parabolic band, say), otherwise
     /// [`Neutrality::Energy`] at the absolute energy zero (the Dirac point of the built-in Dirac
     /// models, the middle of the gap of the relativistic ones).
     #[default]
@@ -361,20 +361,27 @@ pub fn fermi_level(
             });
         }
     }
-    let mut hi = hi;
+    // In a gap n(mu) is flat (to rounding): take the middle of the interval where
+    // |n(mu) - target| <= 1e-12 of one level's capacity, found by two bisections.
+    let slack = 1e-12 * density.per_level;
     let scale = lo.abs().max(hi.abs()).max(w);
-    for _ in 0..200 {
-        let mid = 0.5 * (lo + hi);
-        if n_at(mid) < target {
-            lo = mid;
-        } else {
-            hi = mid;
+    let bisect = |mut a: f64, mut b: f64, below: &dyn Fn(f64) -> bool| {
+        for _ in 0..200 {
+            let mid = 0.5 * (a + b);
+            if below(mid) {
+                a = mid;
+            } else {
+                b = mid;
+            }
+            if b - a <= 1e-14 * scale {
+                break;
+            }
         }
-        if hi - lo <= 1e-14 * scale {
-            break;
-        }
-    }
-    let mu = 0.5 * (lo + hi);
+        0.5 * (a + b)
+    };
+    let mu_lo = bisect(lo, hi, &|m| n_at(m) < target - slack);
+    let mu_hi = bisect(mu_lo, hi, &|m| n_at(m) <= target + slack);
+    let mu = 0.5 * (mu_lo + mu_hi);
     let n = n_at(mu);
     let landau = landau_degeneracy_per_area(spectrum.units, spectrum.point.field, model.charge());
     Ok(FermiSolution {

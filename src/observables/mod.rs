@@ -32,6 +32,7 @@
 //! let sol = fermi_level(&m, &spec, &fs)?;
 //! let lines = transitions(&m, &spec, &sol.occupation, &OpticsSettings::default())?;
 //! // Kohn (1961): one cyclotron line at hbar omega_c = 2 mu_B B = 0.2315 meV (CODATA 2018)
+//! assert!(!lines.is_empty());
 //! assert!(lines.iter().all(|t| (t.energy - 0.231_535_27).abs() < 1e-6));
 //! # Ok::<(), ladderfan::Error>(())
 //! ```
