@@ -74,7 +74,7 @@ impl Neutrality {
             Neutrality::EmptyBand => None,
             Neutrality::Energy(e) => Some(e),
             Neutrality::Auto if density.bounded_below => None,
-            Neutrality::Auto => Some(-spectrum.reference_energy),
+            Neutrality::Auto => Some(0.0 - spectrum.reference_energy),
         }
     }
 }
