@@ -33,7 +33,7 @@ pub struct FermiArgs {
     pub shape: ShapeFlag,
     /// Broadening width in the model's energy unit (default: 5 % of the typical Landau spacing
     /// at --field).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub width: Option<f64>,
     /// Let the width grow as sqrt(|B| / B_REF) (B_REF in the model's field unit).
     #[arg(long, value_name = "B_REF")]
@@ -45,7 +45,7 @@ pub struct FermiArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub filling: Option<f64>,
     /// Temperature in kelvin (Fermi-Dirac occupation).
-    #[arg(long, default_value_t = 0.0)]
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub temperature: f64,
     /// Charge neutrality: `auto` (empty band for spectra bounded below, else E = 0 absolute),
     /// `empty`, or an energy in the model's unit relative to the reference energy.
@@ -309,7 +309,7 @@ pub fn run(a: &DosArgs) -> CliResult {
         let b_max = common::finite_flag("--b-max", b_max)?;
         let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
         let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-        if values.iter().any(|&b| b == 0.0) || b_min.signum() != b_max.signum() {
+        if values.contains(&0.0) || b_min.signum() != b_max.signum() {
             return Err(bad_flag(
                 "--b-min",
                 "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",

@@ -155,7 +155,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
             let b_max = common::finite_flag("--b-max", b_max)?;
             let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
             let v = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-            if v.iter().any(|&b| b == 0.0) || b_min.signum() != b_max.signum() {
+            if v.contains(&0.0) || b_min.signum() != b_max.signum() {
                 return Err(bad_flag(
                     "--b-min",
                     "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
