@@ -9,7 +9,9 @@ use ladderfan::observables::dos::{
 use ladderfan::observables::filling::{
     fermi_level, fermi_sweep, thermal_energy, FermiSettings, Neutrality,
 };
-use ladderfan::observables::labels::{matrix_expectation, pattern_expectation, tracks};
+use ladderfan::observables::labels::{
+    matrix_expectation, orbital_content, pattern_expectation, tracks,
+};
 use ladderfan::observables::optics::{
     transition_sweep, transitions, OpticsSettings, Polarisation, VelocityOperator,
 };
@@ -96,8 +98,8 @@ fn massless_dirac_transitions_change_abs_n_by_one() {
     let m = dirac(v, -1.0);
     let spec = Spectrum::compute(&m, FieldPoint::field(field), &with_vectors(200)).unwrap();
     let e1 = dirac_e1_mev(v, field);
-    // Fermi level half way up to the first level: n = 1/2 of a level's (4-fold) degeneracy
-    // above neutrality plus the half of the zero level -> filling factor 1 (per valley pair)
+    // filling factor 1 from neutrality: the zero level (declared degeneracy 2, half filled at
+    // neutrality) becomes full, so the Fermi level lies in the gap between 0 and E1
     let landau = landau_degeneracy_per_area(Units::Lab, field, -1.0);
     let fs = FermiSettings {
         carrier_density: 1.0 * landau,
@@ -106,8 +108,6 @@ fn massless_dirac_transitions_change_abs_n_by_one() {
         neutrality: Neutrality::Auto,
     };
     let sol = fermi_level(&m, &spec, &fs).unwrap();
-    // with degeneracy 2 the zero level (half filled at neutrality) is full at nu = 1:
-    // the Fermi level lies in the gap between 0 and E1
     assert!(
         sol.fermi_energy > 0.1 * e1 && sol.fermi_energy < 0.9 * e1,
         "{sol:?}"
@@ -532,6 +532,29 @@ fn spin_and_pseudospin_expectations() {
         }
     }
     assert!(pattern_expectation(&s, &[1.0]).is_err());
+    // orbital content: massless Dirac level n >= 1 has equal weight on orbitals n and n - 1
+    // (McClure 1956), so <n> = |n| - 1/2 with spread 1/2; the zero level is orbital 0 only
+    let mut sv = Settings::with_cutoff(50);
+    sv.vectors = Vectors::Compute;
+    let s = Spectrum::compute(&d, FieldPoint::field(1.0), &sv).unwrap();
+    let oc = orbital_content(&s).unwrap();
+    for (l, o) in s.levels.iter().zip(&oc) {
+        if !l.is_converged() {
+            continue;
+        }
+        let (n, _) = dirac_index(l.energy, e1);
+        let n = n.unsigned_abs() as f64;
+        if n == 0.0 {
+            assert!(o.mean.abs() < 1e-12 && o.spread < 1e-6);
+        } else {
+            assert!((o.mean - (n - 0.5)).abs() < 1e-10, "{l:?} {o:?}");
+            assert!((o.spread - 0.5).abs() < 1e-10, "{l:?} {o:?}");
+        }
+    }
+    assert!(orbital_content(
+        &Spectrum::compute(&d, FieldPoint::field(1.0), &Settings::with_cutoff(10)).unwrap()
+    )
+    .is_err());
 }
 
 #[test]
