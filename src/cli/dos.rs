@@ -379,13 +379,13 @@ fn summary(lm: &LoadedModel, j: &DosJson) -> String {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let mut s = format!(
-        "model: {} ({}), field {} {}, kz {} 1/{}, cutoff {}\n",
+        "model: {} ({}), field {} {}, kz {} {}, cutoff {}\n",
         lm.model.name(),
         lm.origin,
         j.field,
         u.field_unit(),
         j.kz,
-        u.length_unit(),
+        u.wavenumber_unit(),
         j.cutoff
     );
     s.push_str(&format!(
@@ -409,6 +409,12 @@ fn summary(lm: &LoadedModel, j: &DosJson) -> String {
         fmt_num(j.dos.first().map(|p| p.0).unwrap_or(0.0), 6),
         fmt_num(j.dos.last().map(|p| p.0).unwrap_or(0.0), 6)
     ));
+    if lm.model.terms().iter().any(|t| t.monomial.kz > 0) {
+        s.push_str(&format!(
+            "a 3D model: densities are per area of the kz = {} sheet, not integrated over kz\n",
+            j.kz
+        ));
+    }
     if let Some(f) = &j.fermi {
         s.push_str(&format!(
             "density {} cm^-2 at {} K: Fermi level {} {eu}, filling factor {}, DOS there {} /({eu} cm^2), neutrality {}\n",

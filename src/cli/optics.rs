@@ -276,11 +276,11 @@ fn summary(lm: &LoadedModel, j: &OpticsJson, count: usize) -> String {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let mut s = format!(
-        "model: {} ({}), kz {} 1/{}, cutoff {}, T = {} K\n{CONVENTION}\n",
+        "model: {} ({}), kz {} {}, cutoff {}, T = {} K\n{CONVENTION}\n",
         lm.model.name(),
         lm.origin,
         j.kz,
-        u.length_unit(),
+        u.wavenumber_unit(),
         j.cutoff,
         j.temperature_k
     );
