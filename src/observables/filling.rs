@@ -5,8 +5,8 @@
 //!   potential mu and temperature T: o_l = int L(E - E_l) f(E - mu) dE with the Fermi-Dirac
 //!   function f(x) = 1/(exp(x/kT) + 1); at T = 0, o_l = C(mu - E_l), the cumulative line.
 //! * Carrier density measured from charge neutrality at energy E_cnp ([`Neutrality`]):
-//!   n(mu) = g |qB|/h sum_l (o_l - theta(E_cnp - E_l)), with theta(0) = 1/2, summed over the
-//!   converged levels. For a Dirac-like model (E_cnp at the Dirac point) this is electrons above
+//!   n(mu) = g |qB|/h sum_l (o_l - theta(E_cnp - E_l)), with theta(0) = 1/2 (a level within
+//!   1e-9 line widths of E_cnp counts as sitting at it), summed over the converged levels. For a Dirac-like model (E_cnp at the Dirac point) this is electrons above
 //!   the neutrality point minus holes below it, negative for hole doping; a level sitting exactly
 //!   at E_cnp (the n = 0 level of a massless Dirac model) is half filled at neutrality. For a
 //!   single band ([`Neutrality::EmptyBand`]) it is simply the number of occupied states.
@@ -233,12 +233,14 @@ pub fn carrier_density(
     occupation: &Occupation,
     neutrality: Option<f64>,
 ) -> f64 {
+    // a level within 1e-9 line widths of the neutrality energy sits at it (rounding)
+    let at = 1e-9 * density.width;
     let mut sum = 0.0;
     for &el in &density.energies {
         let filled_at_neutrality = match neutrality {
             None => 0.0,
+            Some(e0) if (el - e0).abs() <= at => 0.5,
             Some(e0) if el < e0 => 1.0,
-            Some(e0) if el == e0 => 0.5,
             Some(_) => 0.0,
         };
         sum += occupation.of_level(el) - filled_at_neutrality;
