@@ -701,3 +701,49 @@ fn cli_optics_kohn_line_and_bad_flags() {
     ]);
     assert_eq!(code, 2, "{err}");
 }
+
+#[test]
+fn relativistic_dirac_optics_in_natural_units() {
+    // 3+1 Dirac, natural units: v_x = c alpha_x and alpha_x^2 = 1, so sum_f |<f|v_x|i>|^2 = c^2
+    // = 1 for every level (closure; Dirac 1928). Levels E^2 = 1 + 2 nu b at kz = 0 (Johnson &
+    // Lippmann, Phys. Rev. 76, 828 (1949)); intraband transitions change nu by one.
+    let m = builtin::dirac(builtin::RelativisticParams::default()).unwrap();
+    let b = 0.1;
+    let spec = Spectrum::compute(&m, FieldPoint::field(b), &with_vectors(40)).unwrap();
+    let vecs = spec.vectors.as_ref().unwrap();
+    let vop = VelocityOperator::new(&m, spec.point).unwrap();
+    assert_eq!(vop.unit(), "c");
+    for i in (0..spec.levels.len()).step_by(11) {
+        let applied = vop.apply(&vecs[i]);
+        let sx: f64 = vecs.iter().map(|f| applied.project(f).x.norm_sqr()).sum();
+        assert!((sx - 1.0).abs() < 1e-10, "level {i}: {sx}");
+    }
+    // filling 1.5: nu = 0 (one state) full, nu = 1 (two states) half full
+    let fs = FermiSettings {
+        carrier_density: 1.5 * landau_degeneracy_per_area(Units::Natural, b, -1.0),
+        temperature_k: 0.0,
+        broadening: Broadening::gaussian(1e-3),
+        neutrality: Neutrality::Auto,
+    };
+    let sol = fermi_level(&m, &spec, &fs).unwrap();
+    assert_eq!(sol.neutrality_energy, Some(-1.0)); // absolute zero, mid-gap
+    let opts = OpticsSettings {
+        max_energy: Some(1.0),
+        ..OpticsSettings::default()
+    };
+    let lines = transitions(&m, &spec, &sol.occupation, &opts).unwrap();
+    let nu_of = |e: f64| ((e + 1.0).powi(2) - 1.0) / (2.0 * b);
+    let mut seen = [false; 2];
+    for t in &lines {
+        let (ni, nf) = (nu_of(t.from_energy), nu_of(t.to_energy));
+        assert!((ni - ni.round()).abs() < 1e-8 && (nf - nf.round()).abs() < 1e-8);
+        assert_eq!((nf.round() - ni.round()).abs(), 1.0, "{t:?}");
+        if ni.round() <= 1.0 {
+            seen[ni.round() as usize] = true;
+        }
+    }
+    assert!(
+        seen[0] && seen[1],
+        "0 -> 1 and 1 -> 2 lines expected: {lines:?}"
+    );
+}

@@ -11,8 +11,9 @@
 //!   at E_cnp (the n = 0 level of a massless Dirac model) is half filled at neutrality. For a
 //!   single band ([`Neutrality::EmptyBand`]) it is simply the number of occupied states.
 //! * Filling factor nu = n h / (|q| e B) = n / (|qB|/h): carriers per Landau degeneracy, without
-//!   the model's extra degeneracy g (so graphene-like models with g = 2 per valley show
-//!   nu = 2, 6, 10 ... per valley pair, as is common practice).
+//!   dividing out the model's extra degeneracy g: a massless Dirac model with g = 2 has its
+//!   gaps at nu = ±1, ±3, ±5, ... = ±g (k + 1/2); graphene's ±2, ±6, ±10 need g = 4 (spin and
+//!   valley), as is common practice.
 //! * The Fermi level solves n(mu) = n_target by bisection (n is non-decreasing in mu).
 //!
 //! # Units
