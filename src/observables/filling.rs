@@ -14,7 +14,9 @@
 //!   dividing out the model's extra degeneracy g: a massless Dirac model with g = 2 has its
 //!   gaps at nu = ±1, ±3, ±5, ... = ±g (k + 1/2); graphene's ±2, ±6, ±10 need g = 4 (spin and
 //!   valley), as is common practice.
-//! * The Fermi level solves n(mu) = n_target by bisection (n is non-decreasing in mu).
+//! * The Fermi level solves n(mu) = n_target by bisection (n is non-decreasing in mu); when the
+//!   target falls in a gap (n flat over an interval, as at T = 0 with narrow lines), the middle
+//!   of that interval is returned.
 //!
 //! # Units
 //! Densities in 1/(length unit)^2 (1/nm^2 for lab models; see [`super::dos::per_cm2`]),
