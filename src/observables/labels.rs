@@ -207,9 +207,9 @@ pub fn matrix_expectation(spectrum: &Spectrum, matrix: &SpinMatrix) -> Result<Ve
 /// Orbital content of a level.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct OrbitalContent {
-    /// Mean orbital index <n>.
+    /// Mean orbital index `<n>`.
     pub mean: f64,
-    /// Spread sqrt(<n^2> - <n>^2).
+    /// Spread `sqrt(<n^2> - <n>^2)`.
     pub spread: f64,
     /// Orbital of largest weight (as in [`crate::Level::orbital`]).
     pub dominant: usize,
