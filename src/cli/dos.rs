@@ -357,7 +357,7 @@ pub fn run(a: &DosArgs) -> CliResult {
         if !sweep_points.is_empty() {
             files.add("fermi.csv", fermi_csv(&lm, &json)?);
             let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
-            files.add("fermi.svg", fermi_svg(&lm, &json, &spectra)?);
+            files.add("fermi.svg", fermi_svg(&lm, &json, &spectra, &broadening)?);
         }
         written = files.write_all(dir)?;
     }
@@ -587,7 +587,12 @@ fn fermi_csv(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
     csv_text(&header, &rec)
 }
 
-fn fermi_svg(lm: &LoadedModel, j: &DosJson, spectra: &[&Spectrum]) -> CliResult<String> {
+fn fermi_svg(
+    lm: &LoadedModel,
+    j: &DosJson,
+    spectra: &[&Spectrum],
+    broadening: &Broadening,
+) -> CliResult<String> {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let ef: Vec<(f64, f64)> = j
@@ -617,7 +622,11 @@ fn fermi_svg(lm: &LoadedModel, j: &DosJson, spectra: &[&Spectrum]) -> CliResult<
             points: t
                 .points
                 .iter()
-                .map(|p| (p.field, if p.converged { p.energy } else { f64::NAN }))
+                .map(|p| {
+                    // outside the frame: break the line (plotters would clamp it to the border)
+                    let inside = p.converged && p.energy > ylo && p.energy < yhi;
+                    (p.field, if inside { p.energy } else { f64::NAN })
+                })
                 .collect(),
         })
         .collect();
@@ -634,14 +643,21 @@ fn fermi_svg(lm: &LoadedModel, j: &DosJson, spectra: &[&Spectrum]) -> CliResult<
         y_range: Some((ylo, yhi)),
         notes: vec![
             format!(
-                "solid: Fermi level, n = {} cm^-2, T = {} K, {:?} width {} {eu}",
+                "solid: Fermi level, n = {} cm^-2, T = {} K, {:?} width {}",
                 fmt_num(
                     j.fermi_sweep.first().map(|f| f.density_cm2).unwrap_or(0.0),
                     4
                 ),
                 j.temperature_k,
                 j.shape,
-                fmt_num(j.width, 4)
+                match broadening.scaling {
+                    WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width, 4)),
+                    WidthScaling::SqrtField { reference_field } => format!(
+                        "{} {eu} x sqrt(B / {reference_field} {})",
+                        fmt_num(broadening.width, 4),
+                        u.field_unit()
+                    ),
+                }
             ),
             "dashed: Landau levels (converged)".into(),
         ],
