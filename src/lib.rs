@@ -44,6 +44,7 @@ pub mod levels;
 pub mod matrix;
 pub mod model;
 pub mod modelfile;
+pub mod observables;
 pub mod plot;
 pub mod sectors;
 pub mod solve;
