@@ -1,5 +1,5 @@
 //! Model files: a TOML description of a model (ours; the key names are documented in
-//! `docs/modelfile.md`), turned into a validated [`Model`].
+//! the README (section Model files)), turned into a validated [`Model`].
 //!
 //! A file either describes a model term by term:
 //!
@@ -220,7 +220,7 @@ pub fn parse_with_overrides(
 fn toml_message(m: &str) -> String {
     let one_line = m.split_whitespace().collect::<Vec<_>>().join(" ");
     if one_line.starts_with("unknown field") {
-        format!("{one_line}; remove or rename the key (see docs/modelfile.md)")
+        format!("{one_line}; remove or rename the key (see the README, section Model files)")
     } else if one_line.starts_with("missing field") {
         format!("{one_line}; add the key")
     } else if one_line.starts_with("invalid type") {

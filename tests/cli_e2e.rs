@@ -1017,10 +1017,9 @@ fn table_output_is_aligned_and_labelled() {
 }
 
 #[test]
-fn the_worked_example_of_docs_modelfile_runs_and_matches_its_closed_form() {
-    let doc =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/modelfile.md"))
-            .unwrap_or_else(|e| panic!("{e}"));
+fn the_worked_example_in_the_readme_runs_and_matches_its_closed_form() {
+    let doc = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md"))
+        .unwrap_or_else(|e| panic!("{e}"));
     let block: String = doc
         .split("```toml\n")
         .nth(1)

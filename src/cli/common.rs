@@ -69,7 +69,7 @@ pub fn bad_flag(flag: &str, message: impl Into<String>) -> CliError {
 /// Where the model comes from: a file or a built-in with overrides.
 #[derive(Debug, Clone, Args)]
 pub struct ModelArgs {
-    /// Model file (TOML; see docs/modelfile.md).
+    /// Model file (TOML; see the README, section Model files).
     #[arg(long, value_name = "FILE", conflicts_with = "builtin")]
     pub model: Option<PathBuf>,
     /// Built-in model by name (list them with `ladderfan models`).

@@ -14,12 +14,15 @@
 pub mod common;
 pub mod demo;
 pub mod dispersion;
+pub mod dos;
 pub mod export;
 pub mod fan;
 pub mod levels;
 pub mod merge;
 pub mod models;
+pub mod optics;
 pub mod sweep;
+pub mod verify;
 
 use clap::{Parser, Subcommand};
 use common::{CliError, CliResult, EXIT_BAD_INPUT, EXIT_VERIFICATION};
@@ -51,6 +54,13 @@ pub enum Command {
     Export(export::ExportArgs),
     /// An invented gapped Dirac film: table, fan diagram SVG and CSV in a few seconds.
     Demo(demo::DemoArgs),
+    /// Density of states, Fermi level and filling factor (and the Fermi level against B).
+    Dos(dos::DosArgs),
+    /// Allowed magneto-optical transitions at one field, or their fan against B.
+    Optics(optics::OpticsArgs),
+    /// Check a level formula (or a CSV of expected levels) against the exact spectrum, level
+    /// by level: exit 0 pass, 1 fail, 2 bad input.
+    Verify(verify::VerifyArgs),
     /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
     Merge(merge::MergeArgs),
 }
@@ -64,6 +74,9 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Models(a) => models::run(&a),
         Command::Export(a) => export::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Dos(a) => dos::run(&a),
+        Command::Optics(a) => optics::run(&a),
+        Command::Verify(a) => verify::run(&a),
         Command::Merge(a) => merge::run(&a),
     }
 }
