@@ -68,7 +68,11 @@ fn cpu_seconds() -> f64 {
     // fields after the parenthesised command name: state is field 3, utime 14, stime 15
     let rest = stat.rsplit_once(')').map_or("", |x| x.1);
     let f: Vec<&str> = rest.split_whitespace().collect();
-    let tick = |i: usize| f.get(i).and_then(|x| x.parse::<f64>().ok()).unwrap_or(f64::NAN);
+    let tick = |i: usize| {
+        f.get(i)
+            .and_then(|x| x.parse::<f64>().ok())
+            .unwrap_or(f64::NAN)
+    };
     (tick(11) + tick(12)) / 100.0
 }
 
@@ -195,6 +199,33 @@ fn main() {
                             })
                     });
             }
+            // control: independent pure arithmetic of a similar total, in the same two pools,
+            // alternating; its speed-up is what this machine grants two threads right now
+            let spin = |p: &rayon::ThreadPool| {
+                use rayon::prelude::*;
+                let t = Instant::now();
+                let s: f64 = p.install(|| {
+                    (0..n)
+                        .into_par_iter()
+                        .map(|i| {
+                            let mut x = i as f64;
+                            for _ in 0..400_000 {
+                                x = std::hint::black_box(x * 0.999_999 + 1e-3);
+                            }
+                            x
+                        })
+                        .sum()
+                });
+                std::hint::black_box(s);
+                t.elapsed().as_secs_f64()
+            };
+            let (mut s1, mut sp) = (Vec::new(), Vec::new());
+            for _ in 0..rounds {
+                s1.push(spin(&serial));
+                sp.push(spin(&pool));
+            }
+            s1.sort_by(f64::total_cmp);
+            sp.sort_by(f64::total_cmp);
             t1.sort_by(f64::total_cmp);
             tp.sort_by(f64::total_cmp);
             let med = |v: &[f64]| v[v.len() / 2];
@@ -205,6 +236,9 @@ fn main() {
                 "parallel_min": tp[0], "parallel_median": med(&tp),
                 "speedup_min": t1[0] / tp[0], "speedup_median": med(&t1) / med(&tp),
                 "identical_to_serial": identical,
+                "control_serial_median": med(&s1), "control_parallel_median": med(&sp),
+                "control_speedup_median": med(&s1) / med(&sp),
+                "control_note": "independent arithmetic loops, same pools: the speed-up the machine grants",
                 "cpu_serial": c1 / rounds as f64, "cpu_parallel": cp / rounds as f64,
                 "cpu_note": "process CPU seconds per run (user + system, /proc/self/stat)",
                 "what": "sweep::run over n points (3+1 Dirac, N = 1000), 1 thread vs `threads`",

@@ -368,7 +368,8 @@ def main():
           f"(medians of {sw['rounds']} alternating rounds), speed-up "
           f"{sw['speedup_median']:.2f}x (best runs {sw['speedup_min']:.2f}x); CPU seconds per "
           f"run {sw['cpu_serial']:.3g} (1 thread) vs {sw['cpu_parallel']:.3g} ({nproc} threads); "
-          f"identical to serial: {'yes' if sw['identical_to_serial'] else 'NO'}; "
+          f"identical to serial: {'yes' if sw['identical_to_serial'] else 'NO'}; control "
+          f"(independent arithmetic, same pools) speed-up {sw['control_speedup_median']:.2f}x; "
           f"peak RSS {sw_rss if sw_rss is None else round(sw_rss)} MiB")
     ok = ok and sw["identical_to_serial"]
     if window_note:
