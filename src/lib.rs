@@ -11,6 +11,7 @@ pub mod matrix;
 pub mod model;
 pub mod sectors;
 pub mod solve;
+pub mod trust;
 pub mod units;
 pub use error::{Error, Result};
 pub use hamiltonian::FieldPoint;

@@ -165,6 +165,8 @@ struct Job<'a> {
     refine: bool,
     keep_vectors: bool,
     real: bool,
+    /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
+    tolerance: f64,
 }
 
 impl Job<'_> {
@@ -191,7 +193,18 @@ impl Job<'_> {
                 z
             }
         });
-        let eig = dense::eigh(&hs, Vectors::Compute)?;
+        let mut eig = dense::eigh(&hs, Vectors::Compute)?;
+        // trust: rotate degenerate clusters so cutoff artefacts separate (src/trust/cluster.rs)
+        if let Some(vectors) = eig.vectors.as_mut() {
+            crate::trust::cluster::separate_leaking(
+                self.h,
+                cutoff,
+                states,
+                &mut eig.values,
+                vectors,
+                self.tolerance,
+            );
+        }
         let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
@@ -240,6 +253,8 @@ impl Job<'_> {
             let base = Level {
                 energy: 0.0,
                 bound: 0.0,
+                kato_temple: None,
+                leakage: out_res,
                 convergence: Convergence::NotConverged,
                 sector: id,
                 orbital: best.1,
@@ -391,6 +406,7 @@ impl Spectrum {
             refine,
             keep_vectors: settings.vectors == Vectors::Compute,
             real: h.is_real(),
+            tolerance: settings.tolerance,
         };
         let chunk = 512;
         let parts: Vec<Result<SectorResult>> = ids
@@ -462,6 +478,7 @@ impl Spectrum {
             vectors,
         };
         flag_convergence(&mut spectrum);
+        crate::trust::bounds::apply_kato_temple(&mut spectrum); // trust: sharper bounds
         Ok(spectrum)
     }
 }
