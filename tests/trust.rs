@@ -1,0 +1,625 @@
+//! Trustworthy numbers: bounds contain the closed forms, cutoff artefacts are flagged (also on
+//! the unsplit path, which needs the cluster rotation), window completeness, convergence study
+//! and the automatic cutoff.
+//!
+//! The closed forms are written inline below, each with its source, until
+//! `ladderfan::closed_form` lands on main.
+
+use ladderfan::builtin::{self, Dirac2dParams, MassParams, PauliParams, RelativisticParams, WeylParams};
+use ladderfan::matrix::{identity, pauli};
+use ladderfan::trust::converge::{
+    auto, doubling, is_cutoff_artefact, study, AutoSettings, NeededCutoff, ReferenceKind, Selection,
+};
+use ladderfan::trust::report::{study_csv, study_json, study_svg, CSV_COLUMNS};
+use ladderfan::trust::window::{check_spectrum, EnergyWindow};
+use ladderfan::units::{hbar_v_mev_nm, Units, BOHR_MAGNETON_MEV_PER_T, HBAR2_OVER_2ME_MEV_NM2};
+use ladderfan::{Error, FieldPoint, Model, Monomial, Settings, Spectrum, Splitting};
+use proptest::prelude::*;
+use proptest::test_runner::{Config, FileFailurePersistence, RngSeed};
+
+/// Rounding allowance for comparing a computed eigenvalue with a closed form evaluated in
+/// double precision: the matrix elements themselves carry relative rounding of a few eps
+/// (common practice: a small multiple of eps times the energy scale).
+fn rounding(e: f64, scale: f64) -> f64 {
+    64.0 * f64::EPSILON * (e.abs() + scale)
+}
+
+/// A closed-form level: energy relative to the reference energy and the highest orbital
+/// index its eigenvector uses (it is exact in the truncated basis when that is below N).
+#[derive(Debug, Clone, Copy)]
+struct Exact {
+    energy: f64,
+    top_orbital: usize,
+}
+
+/// The models of the catalogue with closed forms.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Kind {
+    Schrodinger,
+    Pauli,
+    Dirac,
+    KleinGordon,
+    Dirac2dMassless,
+    Dirac2dGapped,
+    Weyl,
+    Bilayer,
+}
+
+const ALL: [Kind; 8] = [
+    Kind::Schrodinger,
+    Kind::Pauli,
+    Kind::Dirac,
+    Kind::KleinGordon,
+    Kind::Dirac2dMassless,
+    Kind::Dirac2dGapped,
+    Kind::Weyl,
+    Kind::Bilayer,
+];
+
+/// Bilayer (chiral, quadratic) model, two components, lab units, invented mass 0.035 m_e:
+/// H = -(hbar^2/2m) [[0, (kx - i ky)^2], [(kx + i ky)^2, 0]]
+///   = -(hbar^2/2m) [(kx^2 - ky^2) sigma_x + 2 kx ky sigma_y].
+fn bilayer(charge: f64) -> Model {
+    let c = -HBAR2_OVER_2ME_MEV_NM2 / BILAYER_MASS;
+    let (sx, sy) = match (pauli("x"), pauli("y")) {
+        (Ok(x), Ok(y)) => (x, y),
+        _ => panic!("pauli specs x and y are valid"),
+    };
+    Model::builder("bilayer-test", 2)
+        .charge(charge)
+        .units(Units::Lab)
+        .term("kx^2 sx", c, sx.clone(), Monomial::new(2, 0, 0))
+        .term("-ky^2 sx", -c, sx, Monomial::new(0, 2, 0))
+        .term("2 kx ky sy", 2.0 * c, sy, Monomial::new(1, 1, 0))
+        .build()
+        .expect("bilayer test model is Hermitian")
+}
+const BILAYER_MASS: f64 = 0.035;
+
+/// Invented parameters for each kind.
+fn model(kind: Kind, charge: f64) -> Model {
+    let r = match kind {
+        Kind::Schrodinger => builtin::schrodinger(MassParams {
+            mass_ratio: 0.067,
+            charge,
+        }),
+        Kind::Pauli => builtin::pauli(PauliParams {
+            mass_ratio: 0.2,
+            g_factor: -0.44,
+            charge,
+        }),
+        Kind::Dirac => builtin::dirac(RelativisticParams {
+            charge,
+            ..Default::default()
+        }),
+        Kind::KleinGordon => builtin::klein_gordon(RelativisticParams {
+            charge,
+            ..Default::default()
+        }),
+        Kind::Dirac2dMassless => builtin::dirac2d(Dirac2dParams {
+            charge,
+            ..Default::default()
+        }),
+        Kind::Dirac2dGapped => builtin::dirac2d(Dirac2dParams {
+            mass_mev: 12.5,
+            valley: -1,
+            charge,
+            ..Default::default()
+        }),
+        Kind::Weyl => builtin::weyl(WeylParams {
+            charge,
+            ..Default::default()
+        }),
+        Kind::Bilayer => return bilayer(charge),
+    };
+    r.expect("invented parameters are valid")
+}
+
+/// Closed-form levels for orbitals up to `n_max` (each degenerate level listed once per state).
+fn exact_levels(kind: Kind, m: &Model, p: FieldPoint, n_max: usize) -> Vec<Exact> {
+    let q = m.charge();
+    let qb = (q * p.field).abs();
+    let s = (q * p.field).signum();
+    let kz = p.kz;
+    let mut out = Vec::new();
+    let mut push = |energy: f64, top_orbital: usize| out.push(Exact { energy, top_orbital });
+    match kind {
+        // Landau 1930: hbar omega_c (n + 1/2) + hbar^2 kz^2 / 2m, hbar omega_c = 2 mu_B |qB| / (m/m_e)
+        Kind::Schrodinger | Kind::Pauli => {
+            let mr = m.param("mass_ratio").unwrap_or(f64::NAN);
+            let w = 2.0 * BOHR_MAGNETON_MEV_PER_T * qb / mr;
+            let ekz = HBAR2_OVER_2ME_MEV_NM2 / mr * kz * kz;
+            for n in 0..=n_max {
+                let e = w * (n as f64 + 0.5) + ekz;
+                if kind == Kind::Schrodinger {
+                    push(e, n);
+                } else {
+                    // Pauli: + s (g/2) mu_B B (the model's Zeeman convention, builtin.rs)
+                    let z = 0.5 * m.param("g").unwrap_or(f64::NAN) * BOHR_MAGNETON_MEV_PER_T * p.field;
+                    push(e + z, n);
+                    push(e - z, n);
+                }
+            }
+        }
+        Kind::Bilayer => {
+            // McCann & Fal'ko, Phys. Rev. Lett. 96, 086805 (2006): E = ± hbar omega_c sqrt(n (n-1)),
+            // n >= 2, and two zero levels (n = 0, 1); omega_c = |qB| / m.
+            let w = 2.0 * BOHR_MAGNETON_MEV_PER_T * qb / BILAYER_MASS;
+            push(0.0, 0);
+            push(0.0, 1);
+            for n in 2..=n_max {
+                let e = w * ((n * (n - 1)) as f64).sqrt();
+                push(e, n);
+                push(-e, n);
+            }
+        }
+        Kind::Dirac | Kind::KleinGordon => {
+            // Dirac: Rabi 1928; Johnson & Lippmann, Phys. Rev. 76, 828 (1949):
+            // E^2 = m^2 c^4 + c^2 kz^2 + 2 nu c^2 |qB| (natural units, hbar = 1), nu = 0 once,
+            // nu >= 1 twice, both signs. Klein-Gordon: (2n + 1) instead of 2 nu, each once.
+            let mass = m.param("mass").unwrap_or(f64::NAN);
+            let c = m.param("speed").unwrap_or(f64::NAN);
+            let big_m = mass * c * c;
+            for n in 0..=n_max {
+                let x = match kind {
+                    Kind::Dirac => 2.0 * n as f64,
+                    _ => 2.0 * n as f64 + 1.0,
+                };
+                let excess2 = c * c * kz * kz + x * c * c * qb; // E^2 - M^2
+                let e = (big_m * big_m + excess2).sqrt();
+                let up = excess2 / (e + big_m); // E - M without cancellation
+                let down = -e - big_m;
+                let copies = if kind == Kind::Dirac && n > 0 { 2 } else { 1 };
+                for _ in 0..copies {
+                    push(up, n);
+                    push(down, n);
+                }
+            }
+        }
+        Kind::Dirac2dMassless | Kind::Dirac2dGapped | Kind::Weyl => {
+            // McClure, Phys. Rev. 104, 666 (1956) and builtin.rs conventions:
+            // E = ± sqrt(Delta^2 + 2 n (hbar v)^2 / l_B^2), n >= 1; n = 0 at tau sign(qB) Delta.
+            // Weyl (Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983)): Delta -> hbar v kz,
+            // n = 0 at chi sign(qB) hbar v kz.
+            let hv = hbar_v_mev_nm(m.param("velocity").unwrap_or(f64::NAN));
+            let lb = Units::Lab.magnetic_length(p.field, q);
+            let (delta, sign0) = match kind {
+                Kind::Weyl => (hv * kz, m.param("chirality").unwrap_or(f64::NAN)),
+                _ => (
+                    m.param("mass").unwrap_or(f64::NAN),
+                    m.param("valley").unwrap_or(f64::NAN),
+                ),
+            };
+            push(sign0 * s * delta, 0);
+            for n in 1..=n_max {
+                let e = (delta * delta + 2.0 * n as f64 * hv * hv / (lb * lb)).sqrt();
+                push(e, n);
+                push(-e, n);
+            }
+        }
+    }
+    out
+}
+
+fn field_for(kind: Kind, magnitude: f64) -> f64 {
+    match kind {
+        // natural units: B in units of B_c
+        Kind::Dirac | Kind::KleinGordon => magnitude * 1e-2,
+        _ => magnitude,
+    }
+}
+
+fn kz_for(kind: Kind, x: f64) -> f64 {
+    match kind {
+        Kind::Dirac | Kind::KleinGordon => 0.05 * x,
+        Kind::Schrodinger | Kind::Pauli | Kind::Weyl => 0.02 * x,
+        _ => 0.0,
+    }
+}
+
+/// Every level is within its bound (and within its Kato-Temple bound, when reported) of the
+/// nearest closed-form value; returns how many levels had a bound below the tolerance.
+fn check_bounds_contain(spec: &Spectrum, exact: &[Exact]) -> usize {
+    let mut converged = 0;
+    for l in &spec.levels {
+        let nearest = exact
+            .iter()
+            .map(|x| x.energy)
+            .min_by(|a, b| (a - l.energy).abs().total_cmp(&(b - l.energy).abs()))
+            .expect("closed-form list is non-empty");
+        let err = (l.energy - nearest).abs();
+        let slack = rounding(nearest, spec.energy_scale);
+        assert!(
+            err <= l.bound + slack,
+            "level {:.15e} (sector {:?}, n {}) is {err:e} from the closed form {nearest:.15e}, outside its bound {:e}",
+            l.energy,
+            l.sector,
+            l.orbital,
+            l.bound
+        );
+        if let Some(kt) = l.kato_temple {
+            assert!(
+                err <= kt + slack,
+                "level {:.15e}: error {err:e} exceeds its Kato-Temple bound {kt:e} (residual bound {:e})",
+                l.energy,
+                l.bound
+            );
+        }
+        if l.is_converged() {
+            converged += 1;
+        }
+    }
+    converged
+}
+
+/// Artefacts flagged, genuine levels not: for every distinct closed-form energy whose states
+/// all live below orbital N - 2, the number of converged levels at that energy equals its
+/// multiplicity (an artefact at a physical energy would add one, a flagged genuine level
+/// would remove one).
+fn check_flags(kind: Kind, spec: &Spectrum, exact: &[Exact]) {
+    let n = spec.cutoff;
+    let tol = |e: f64| 1e-7 * e.abs().max(spec.energy_scale);
+    let mut done: Vec<f64> = Vec::new();
+    for x in exact {
+        if done.iter().any(|&d| (d - x.energy).abs() <= tol(x.energy)) {
+            continue;
+        }
+        done.push(x.energy);
+        let same: Vec<&Exact> = exact
+            .iter()
+            .filter(|y| (y.energy - x.energy).abs() <= tol(x.energy))
+            .collect();
+        if same.iter().any(|y| y.top_orbital + 3 > n) {
+            continue;
+        }
+        let found: Vec<_> = spec
+            .levels
+            .iter()
+            .filter(|l| l.is_converged() && (l.energy - x.energy).abs() <= tol(x.energy))
+            .collect();
+        assert_eq!(
+            found.len(),
+            same.len(),
+            "{kind:?} cutoff {n} splitting: energy {:.12e} has multiplicity {} but {} converged levels: {:?}",
+            x.energy,
+            same.len(),
+            found.len(),
+            spec.levels
+                .iter()
+                .filter(|l| (l.energy - x.energy).abs() <= tol(x.energy))
+                .map(|l| (l.bound, l.leakage, l.orbital, l.top_weight))
+                .collect::<Vec<_>>()
+        );
+    }
+}
+
+fn solve(kind: Kind, charge: f64, point: FieldPoint, cutoff: usize, split: Splitting) -> (Model, Spectrum) {
+    let m = model(kind, charge);
+    let settings = Settings {
+        splitting: split,
+        ..Settings::with_cutoff(cutoff)
+    };
+    let s = Spectrum::compute(&m, point, &settings).expect("solve succeeds");
+    (m, s)
+}
+
+proptest! {
+    #![proptest_config(Config {
+        cases: 48,
+        rng_seed: RngSeed::Fixed(0x7275_7374),
+        failure_persistence: Some(Box::new(FileFailurePersistence::WithSource("proptest-regressions"))),
+        ..Config::default()
+    })]
+
+    /// For random fields, charges, kz and models, the closed-form value lies inside the
+    /// reported (residual and Kato-Temple) bound of its matched level, and the low levels are
+    /// actually converged (so the check is not vacuous).
+    #[test]
+    fn closed_form_inside_bound(
+        k in 0usize..ALL.len(),
+        magnitude in 0.3f64..30.0,
+        negative_field in any::<bool>(),
+        charge in prop_oneof![Just(-1.0f64), Just(1.0), Just(-2.0)],
+        kz in -1.0f64..1.0,
+        cutoff in 12usize..40,
+        off in any::<bool>(),
+    ) {
+        let kind = ALL[k];
+        let field = field_for(kind, magnitude) * if negative_field { -1.0 } else { 1.0 };
+        let point = FieldPoint { field, kz: kz_for(kind, kz) };
+        let split = if off { Splitting::Off } else { Splitting::Auto };
+        let (m, spec) = solve(kind, charge, point, cutoff, split);
+        let exact = exact_levels(kind, &m, point, 2 * cutoff + 4);
+        let converged = check_bounds_contain(&spec, &exact);
+        // every closed-form level well inside the basis is found converged
+        let inside = exact.iter().filter(|x| x.top_orbital + 3 <= cutoff).count();
+        prop_assert!(converged >= inside, "{kind:?}: {converged} converged levels < {inside} complete closed-form levels");
+        check_flags(kind, &spec, &exact);
+    }
+}
+
+/// The massless 2D Dirac model at equal cutoffs has exactly one artefact: a second zero level,
+/// flagged, while the genuine n = 0 level and every other complete level are converged —
+/// on the split path and on the unsplit path (which needs the cluster rotation).
+#[test]
+fn massless_dirac_artefact_flagged_on_both_paths() {
+    for split in [Splitting::Auto, Splitting::Off] {
+        let n = 30;
+        let (m, spec) = solve(Kind::Dirac2dMassless, -1.0, FieldPoint::field(2.0), n, split);
+        let scale = spec.energy_scale;
+        let zeros: Vec<_> = spec.levels.iter().filter(|l| l.energy.abs() < 1e-9 * scale).collect();
+        assert_eq!(zeros.len(), 2, "{split:?}: two zero levels expected (genuine n = 0 and the artefact)");
+        let flagged: Vec<_> = zeros.iter().filter(|l| !l.is_converged()).collect();
+        assert_eq!(flagged.len(), 1, "{split:?}: exactly one zero level must be flagged: {zeros:?}");
+        // the flagged one leaks past the cutoff; the genuine one does not
+        assert!(flagged[0].leakage > 0.1 * scale, "{split:?}: artefact leakage {}", flagged[0].leakage);
+        assert!(is_cutoff_artefact(flagged[0]), "{split:?}: artefact top weight {}", flagged[0].top_weight);
+        // genuine levels: 2 (N - 1) + 1 of them are complete, all converged; the artefact is the rest
+        let converged = spec.converged().count();
+        assert_eq!(converged, 2 * (n - 1) + 1, "{split:?}");
+        assert_eq!(spec.levels.len() - converged, 1, "{split:?}");
+        let exact = exact_levels(Kind::Dirac2dMassless, &m, spec.point, 2 * n);
+        check_bounds_contain(&spec, &exact);
+        check_flags(Kind::Dirac2dMassless, &spec, &exact);
+    }
+}
+
+/// Artefacts are flagged in every model of the catalogue, on both paths: the number of
+/// converged levels at each physical energy equals its multiplicity.
+#[test]
+fn artefacts_flagged_in_every_model() {
+    for kind in ALL {
+        for split in [Splitting::Auto, Splitting::Off] {
+            for charge in [-1.0, 1.0] {
+                let point = FieldPoint {
+                    field: field_for(kind, 3.0),
+                    kz: kz_for(kind, 0.4),
+                };
+                let (m, spec) = solve(kind, charge, point, 24, split);
+                let exact = exact_levels(kind, &m, point, 60);
+                check_bounds_contain(&spec, &exact);
+                check_flags(kind, &spec, &exact);
+            }
+        }
+    }
+}
+
+/// Gapped 2D Dirac: the artefact sits at the other valley's n = 0 energy (-tau sign(qB) Delta)
+/// and is flagged; the genuine n = 0 level at +tau sign(qB) Delta is converged.
+#[test]
+fn gapped_dirac_artefact_at_other_valley_energy() {
+    for split in [Splitting::Auto, Splitting::Off] {
+        let (m, spec) = solve(Kind::Dirac2dGapped, -1.0, FieldPoint::field(4.0), 20, split);
+        let delta = m.param("mass").expect("mass");
+        // n = 0 at tau sign(qB) Delta (McClure 1956; builtin.rs conventions); q = -1, B > 0
+        let e0 = m.param("valley").expect("valley") * (m.charge() * spec.point.field).signum() * delta;
+        let at = |e: f64| -> Vec<_> {
+            spec.levels.iter().filter(|l| (l.energy - e).abs() < 1e-9 * delta).copied().collect()
+        };
+        let genuine = at(e0);
+        let other = at(-e0);
+        assert_eq!(genuine.len(), 1);
+        assert!(genuine[0].is_converged());
+        assert_eq!(other.len(), 1, "{split:?}: one artefact at the other valley's n = 0 energy");
+        assert!(!other[0].is_converged());
+    }
+}
+
+/// Kato-Temple is sharper than the residual bound for an unconverged genuine level of a
+/// model without exact J (isotropic Schrodinger plus an invented cubic-anisotropy k^4 term,
+/// conserving only J mod 4), and it still contains the reference value from a much larger
+/// cutoff.
+#[test]
+fn kato_temple_sharper_and_contains() {
+    let m = anharmonic();
+    let p = FieldPoint::field(5.0);
+    let small = Spectrum::compute(&m, p, &Settings::with_cutoff(24)).expect("solve");
+    let big = Spectrum::compute(&m, p, &Settings::with_cutoff(400)).expect("solve");
+    let mut checked = 0;
+    for l in small.levels.iter().filter(|l| !is_cutoff_artefact(l)) {
+        let Some(kt) = l.kato_temple else { continue };
+        let r = big
+            .levels
+            .iter()
+            .filter(|b| b.sector == l.sector)
+            .min_by(|a, b| (a.energy - l.energy).abs().total_cmp(&(b.energy - l.energy).abs()))
+            .expect("same sector at larger cutoff");
+        let err = (r.energy - l.energy).abs();
+        let slack = r.bound + rounding(l.energy, small.energy_scale);
+        assert!(err <= kt + slack, "level {}: error {err:e} > KT {kt:e}", l.energy);
+        assert!(err <= l.bound + slack);
+        if l.bound > 1e-6 && l.bound < 0.01 * small.energy_scale {
+            // an unconverged genuine level, its residual well inside the gap: the reference is far sharper than the error
+            assert!(r.bound < 1e-3 * err.max(1e-300) || err < 1e-12);
+            assert!(kt < 0.1 * l.bound, "KT {kt:e} not sharper than residual {:e}", l.bound);
+            checked += 1;
+        }
+    }
+    assert!(checked >= 3, "only {checked} unconverged levels had a Kato-Temple bound");
+}
+
+/// Schrodinger (m = 0.067 m_e) plus an invented cubic-anisotropy term lambda (kx^4 + ky^4),
+/// lambda = 2e4 meV nm^4 (comparable to hbar omega_c l_B^4 at 5 T): no exact J, so levels
+/// converge only gradually with the cutoff.
+fn anharmonic() -> Model {
+    let c = HBAR2_OVER_2ME_MEV_NM2 / 0.067;
+    let one = identity(1);
+    Model::builder("anharmonic-test", 1)
+        .charge(-1.0)
+        .term("kx^2", c, one.clone(), Monomial::new(2, 0, 0))
+        .term("ky^2", c, one.clone(), Monomial::new(0, 2, 0))
+        .term("kx^4", 2.0e4, one.clone(), Monomial::new(4, 0, 0))
+        .term("ky^4", 2.0e4, one, Monomial::new(0, 4, 0))
+        .build()
+        .expect("valid model")
+}
+
+/// A 2D Dirac band bent back by -c k^2 (invented c = 1 meV nm^2, hbar v = 658 meV nm):
+/// E_+(k) = hbar v k - c k^2 re-enters the window [-50, 50] meV at k* = (hbar v +
+/// sqrt((hbar v)^2 - 200 c)) / (2c) (root of hbar v k - c k^2 = 50), far beyond the cutoff's
+/// reach; the check names the window and the band there. Plain 2D Dirac gives no warning.
+#[test]
+fn window_reentry_detected() {
+    let hv = hbar_v_mev_nm(1.0e6);
+    let c = 1.0;
+    let base = builtin::dirac2d(Dirac2dParams::default()).expect("valid");
+    let mut b = Model::builder("bent-dirac", 2).charge(-1.0);
+    for t in base.terms() {
+        b = b.term_complex(&t.label, t.coefficient, t.matrix.clone(), t.monomial);
+    }
+    let bent = b
+        .term("-c kx^2", -c, identity(2), Monomial::new(2, 0, 0))
+        .term("-c ky^2", -c, identity(2), Monomial::new(0, 2, 0))
+        .build()
+        .expect("valid");
+    let p = FieldPoint::field(1.0);
+    let window = EnergyWindow::new(-50.0, 50.0).expect("window");
+    let spec = Spectrum::compute(&bent, p, &Settings::with_cutoff(200)).expect("solve");
+    let warnings = check_spectrum(&bent, &spec, window).expect("check");
+    assert_eq!(warnings.len(), 1, "{warnings:?}");
+    let w = &warnings[0];
+    assert_eq!(w.band, 1);
+    let k_star = (hv + (hv * hv - 200.0 * c).sqrt()) / (2.0 * c);
+    assert!((w.wave_number - k_star).abs() < 0.05 * k_star, "{} vs {k_star}", w.wave_number);
+    assert!(w.message.contains("[-50, 50]") && w.message.contains("band 1"), "{}", w.message);
+    let lb = spec.magnetic_length;
+    assert!((w.orbital_estimate / (0.5 * (k_star * lb).powi(2)) - 1.0).abs() < 0.1);
+    // the plain model: nothing re-enters
+    let spec0 = Spectrum::compute(&base, p, &Settings::with_cutoff(200)).expect("solve");
+    assert!(check_spectrum(&base, &spec0, window).expect("check").is_empty());
+}
+
+/// The automatic cutoff meets its tolerance against the closed forms for every model of the
+/// catalogue: each selected level is within tol x max(|E|, scale) (+ rounding) of a closed
+/// form and within its own bound.
+#[test]
+fn auto_meets_tolerance_for_every_model() {
+    let tol = 1e-9;
+    for kind in ALL {
+        for split in [Splitting::Auto, Splitting::Off] {
+            let m = model(kind, -1.0);
+            let p = FieldPoint {
+                field: field_for(kind, 2.0),
+                kz: kz_for(kind, 0.3),
+            };
+            let mut a = AutoSettings::new(Selection::Nearest { target: 0.0, count: 20 }, tol);
+            a.base.splitting = split;
+            let res = auto(&m, p, &a).expect("auto converges");
+            assert_eq!(res.selected.len(), 20);
+            let exact = exact_levels(kind, &m, p, 4 * res.cutoff);
+            for &i in &res.selected {
+                let l = &res.spectrum.levels[i];
+                let nearest = exact
+                    .iter()
+                    .map(|x| x.energy)
+                    .min_by(|a, b| (a - l.energy).abs().total_cmp(&(b - l.energy).abs()))
+                    .expect("non-empty");
+                let err = (l.energy - nearest).abs();
+                let slack = rounding(nearest, res.spectrum.energy_scale);
+                let tol_abs = tol * l.energy.abs().max(res.spectrum.energy_scale);
+                assert!(err <= tol_abs + slack, "{kind:?} {split:?}: error {err:e} above tolerance {tol_abs:e}");
+                assert!(err <= l.bound + slack);
+            }
+            assert!(res.warnings.is_empty(), "{kind:?}: {:?}", res.warnings);
+            assert!(res.first_converged_cutoff <= res.cutoff);
+        }
+    }
+}
+
+/// Gradual convergence: the automatic cutoff on the anharmonic model reaches the tolerance
+/// against a much larger cutoff, grows past the start, and reports the cost.
+#[test]
+fn auto_converges_gradually_and_reports_cost() {
+    let m = anharmonic();
+    let p = FieldPoint::field(5.0);
+    let tol = 1e-10;
+    let res = auto(&m, p, &AutoSettings::new(Selection::Nearest { target: 0.0, count: 6 }, tol)).expect("auto");
+    assert!(res.cutoff > 16 && res.history.len() >= 3, "{:?}", res.history);
+    assert_eq!(res.matrix_dimension, res.cutoff);
+    assert!(res.seconds >= 0.0);
+    let big = Spectrum::compute(&m, p, &Settings::with_cutoff(4 * res.cutoff)).expect("solve");
+    for &i in &res.selected {
+        let l = &res.spectrum.levels[i];
+        let r = big
+            .levels
+            .iter()
+            .min_by(|a, b| (a.energy - l.energy).abs().total_cmp(&(b.energy - l.energy).abs()))
+            .expect("non-empty");
+        let tol_abs = tol * l.energy.abs().max(res.spectrum.energy_scale);
+        assert!((l.energy - r.energy).abs() <= tol_abs + r.bound);
+    }
+}
+
+/// The automatic cutoff stops with clear errors when the tolerance cannot be met.
+#[test]
+fn auto_errors_are_clear() {
+    let m = anharmonic();
+    let p = FieldPoint::field(5.0);
+    let mut a = AutoSettings::new(Selection::Nearest { target: 0.0, count: 6 }, 1e-12);
+    a.max_cutoff = 30;
+    match auto(&m, p, &a) {
+        Err(e @ Error::NotConverged { .. }) => {
+            let msg = e.to_string();
+            assert!(msg.contains("max_cutoff") && msg.contains("not converged"), "{msg}");
+        }
+        other => panic!("expected NotConverged, got {other:?}"),
+    }
+    // a tolerance below rounding is never met; without exact J the sectors are dense and
+    // grow as N/4, so a 1 MiB limit stops the growth
+    let mut a = AutoSettings::new(Selection::Nearest { target: 0.0, count: 6 }, 1e-17);
+    a.memory_limit_mib = 1;
+    match auto(&m, p, &a) {
+        Err(e @ Error::MemoryLimit { .. }) => {
+            let msg = e.to_string();
+            assert!(msg.contains("memory limit") && msg.contains("not met"), "{msg}");
+        }
+        other => panic!("expected MemoryLimit, got {other:?}"),
+    }
+    let a = AutoSettings::new(Selection::Nearest { target: 0.0, count: 6 }, -1.0);
+    assert!(matches!(auto(&m, p, &a), Err(Error::BadNumber { .. })));
+}
+
+/// Study: doubling cutoffs, tracked levels, rates, needed cutoffs, tables and plot.
+#[test]
+fn study_tables_and_plot() {
+    let m = anharmonic();
+    let p = FieldPoint::field(5.0);
+    let base = Settings {
+        tolerance: 1e-10,
+        ..Settings::default()
+    };
+    let cutoffs = doubling(12, 5);
+    assert_eq!(cutoffs, vec![12, 24, 48, 96, 192]);
+    let st = study(&m, p, &base, &cutoffs, Selection::Nearest { target: 0.0, count: 4 }, None).expect("study");
+    assert_eq!(st.levels.len(), 4);
+    for l in &st.levels {
+        assert_eq!(l.entries.len(), 5);
+        assert_eq!(l.exact, ReferenceKind::LargestCutoff);
+        // the actual error against the largest cutoff is within the bound (+ the reference's own bound)
+        let last_bound = l.entries[4].bound.expect("matched");
+        for e in &l.entries {
+            let (err, b) = (e.actual_error.expect("matched"), e.bound.expect("matched"));
+            assert!(err <= b + last_bound + rounding(l.reference_value, 1.0));
+        }
+        // the change decays
+        let rate = l.change_rate_per_orbital.expect("two changes");
+        assert!(rate > 0.0, "rate {rate}");
+        assert!(matches!(l.needed_cutoff, NeededCutoff::Observed(_) | NeededCutoff::Extrapolated(_)));
+    }
+    let csv = study_csv(&st).expect("csv");
+    let mut lines = csv.lines();
+    assert_eq!(lines.next().map(|h| h.split(',').count()), Some(CSV_COLUMNS.len()));
+    assert_eq!(lines.count(), 4 * 5);
+    let json = study_json(&st).expect("json");
+    let v: serde_json::Value = serde_json::from_str(&json).expect("valid JSON");
+    assert_eq!(v["levels"].as_array().map(|a| a.len()), Some(4));
+    let path = std::env::temp_dir().join(format!("ladderfan-trust-study-{}.svg", std::process::id()));
+    study_svg(&st, &path).expect("svg");
+    let svg = std::fs::read_to_string(&path).expect("read back");
+    assert!(svg.starts_with("<svg") && svg.contains("cutoff N"));
+    let _ = std::fs::remove_file(&path);
+    // with exact values, the actual error is measured against them
+    let exact: Vec<f64> = st.levels.iter().map(|l| l.reference_value).collect();
+    let st2 = study(&m, p, &base, &cutoffs, Selection::Nearest { target: 0.0, count: 4 }, Some(&exact)).expect("study");
+    assert!(st2.levels.iter().all(|l| l.exact == ReferenceKind::Exact));
+}
