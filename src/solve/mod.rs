@@ -477,8 +477,8 @@ impl Spectrum {
             weights,
             vectors,
         };
+        crate::trust::bounds::finish(&mut spectrum); // trust: Kato-Temple, rounding floor
         flag_convergence(&mut spectrum);
-        crate::trust::bounds::apply_kato_temple(&mut spectrum); // trust: sharper bounds
         Ok(spectrum)
     }
 }

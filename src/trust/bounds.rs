@@ -26,8 +26,16 @@
 //! [`crate::trust::window`]), and a sector that the cutoff cuts in two can hide its missing
 //! partner. When in doubt use the residual bound, which needs no assumption.
 //!
-//! A rounding floor max(in-space residual, 2 eps |E|) is added: the eigenvalue is stored in
+//! A rounding floor max(in-space residual, 4 eps |E|) is added: the eigenvalue is stored in
 //! floating point and the solver's own backward error is not squared by the argument.
+//!
+//! # Rounding floor of the residual bound
+//! [`finish`] also adds 4 eps |E| to [`Level::bound`]: the stored energy is a double (half an
+//! ulp, eps/2 |E|, from the exact eigenvalue of the assembled operator even when the solver
+//! worked in double-double), and the coefficients of the assembled operator (magnetic length,
+//! products of parameters) carry a few ulps of relative rounding that move the eigenvalue by
+//! about as much. Without the floor a double-double refined level reports a bound of 1e-30
+//! that its own stored value cannot honour.
 //!
 //! Klein-Gordon levels (branch ±1) are energies of E^2 = m^2c^4 + 2 m c^2 lambda, not
 //! eigenvalues of a self-adjoint H on the same space; they get no Kato-Temple bound.
@@ -60,6 +68,20 @@ pub fn kato_temple(residual: f64, room_below: f64, room_above: f64) -> Option<f6
         Some(residual * residual / delta)
     } else {
         None
+    }
+}
+
+/// Relative rounding allowance (units of eps) of a stored energy; see the module docs.
+pub const ROUNDING_ULPS: f64 = 4.0;
+
+/// Post-process the bounds of a freshly solved spectrum: Kato-Temple bounds
+/// ([`apply_kato_temple`]) from the residual bounds, then the rounding floor
+/// ROUNDING_ULPS eps |E| added to every residual bound. Call before setting the convergence
+/// flags.
+pub fn finish(spectrum: &mut Spectrum) {
+    apply_kato_temple(spectrum);
+    for l in &mut spectrum.levels {
+        l.bound += ROUNDING_ULPS * f64::EPSILON * l.energy.abs();
     }
 }
 
@@ -113,5 +135,5 @@ fn lower_edge(l: &Level) -> f64 {
 /// residual and the rounding of the stored energy.
 fn rounding_floor(l: &Level) -> f64 {
     let in_space = (l.bound * l.bound - l.leakage * l.leakage).max(0.0).sqrt();
-    in_space.max(2.0 * f64::EPSILON * l.energy.abs())
+    in_space.max(ROUNDING_ULPS * f64::EPSILON * l.energy.abs())
 }

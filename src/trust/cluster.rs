@@ -93,7 +93,8 @@ pub fn cluster_width(values: &[f64], relative_tolerance: f64, dim: usize) -> f64
     } else {
         near[near.len() / 2]
     };
-    (relative_tolerance.min(MAX_RELATIVE_WIDTH) * scale).max(ROUNDOFF_WIDTH * f64::EPSILON * largest)
+    (relative_tolerance.min(MAX_RELATIVE_WIDTH) * scale)
+        .max(ROUNDOFF_WIDTH * f64::EPSILON * largest)
 }
 
 /// Runs of consecutive (ascending) eigenvalues whose neighbours differ by at most `width`;

@@ -234,7 +234,14 @@ pub fn study(
     let mut seconds = Vec::with_capacity(cutoffs.len());
     for &n in &cutoffs {
         let t0 = Instant::now();
-        let s = Spectrum::compute(model, point, &Settings { cutoff: n, ..base.clone() })?;
+        let s = Spectrum::compute(
+            model,
+            point,
+            &Settings {
+                cutoff: n,
+                ..base.clone()
+            },
+        )?;
         seconds.push(t0.elapsed().as_secs_f64());
         spectra.push(s);
     }
@@ -251,7 +258,9 @@ pub fn study(
     for (t, &i) in picked.iter().enumerate() {
         let top = &last.levels[i];
         let (reference_value, kind) = match exact {
-            Some(values) if !values.is_empty() => (nearest(values, top.energy), ReferenceKind::Exact),
+            Some(values) if !values.is_empty() => {
+                (nearest(values, top.energy), ReferenceKind::Exact)
+            }
             _ => (top.energy, ReferenceKind::LargestCutoff),
         };
         let mut entries = Vec::with_capacity(spectra.len());
@@ -391,6 +400,29 @@ fn needed(entries: &[StudyEntry], tol_abs: f64) -> NeededCutoff {
     }
 }
 
+/// Which bound the automatic cutoff requires below the tolerance.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum BoundChoice {
+    /// The residual (Weinstein) bound: needs no assumption (the default).
+    #[default]
+    Residual,
+    /// The Kato-Temple bound where available, else the residual bound: far sharper for
+    /// levels that converge gradually, but it assumes that the truncated solve sees every
+    /// level of the sector near the level (see [`crate::trust::bounds`]).
+    KatoTemple,
+}
+
+impl BoundChoice {
+    /// The bound of `level` this choice uses.
+    pub fn of(self, level: &Level) -> f64 {
+        match self {
+            BoundChoice::Residual => level.bound,
+            BoundChoice::KatoTemple => level.best_bound(),
+        }
+    }
+}
+
 /// Settings of the automatic cutoff.
 #[derive(Debug, Clone, PartialEq)]
 pub struct AutoSettings {
@@ -406,6 +438,8 @@ pub struct AutoSettings {
     pub max_cutoff: usize,
     /// Memory limit in MiB for one solve (dense sectors and the stored levels).
     pub memory_limit_mib: u64,
+    /// Which bound must meet the tolerance.
+    pub bound: BoundChoice,
     /// Everything else (reference energy, splitting, precision); its cutoff, tolerance and
     /// memory limit are overridden.
     pub base: Settings,
@@ -413,7 +447,7 @@ pub struct AutoSettings {
 
 impl AutoSettings {
     /// Defaults for a selection and tolerance: start at 16 orbitals, doubling, at most 2^22
-    /// orbitals, 4096 MiB.
+    /// orbitals, 4096 MiB, residual bound.
     pub fn new(selection: Selection, tolerance: f64) -> Self {
         AutoSettings {
             selection,
@@ -422,6 +456,7 @@ impl AutoSettings {
             growth: 2.0,
             max_cutoff: 1 << 22,
             memory_limit_mib: 4096,
+            bound: BoundChoice::Residual,
             base: Settings::default(),
         }
     }
@@ -504,8 +539,9 @@ fn levels_mib(model: &Model, cutoff: usize) -> u64 {
     ((cutoff * d * branches * per_level) as u64) >> 20
 }
 
-/// Grow the cutoff until every genuine level of the selection has a residual bound below
-/// the relative tolerance, confirmed by the next cutoff (see the module docs).
+/// Grow the cutoff until every genuine level of the selection has a bound (residual by
+/// default, see [`BoundChoice`]) below the relative tolerance, confirmed by the next cutoff
+/// (see the module docs).
 ///
 /// # Errors
 /// [`Error::NotConverged`] when the cutoff would exceed `max_cutoff` (the message names the
@@ -598,7 +634,7 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
         let mut worst: f64 = 0.0;
         for &i in &picked {
             let l = &spectrum.levels[i];
-            let ratio = l.bound / absolute_tolerance(&spectrum, l, settings.tolerance);
+            let ratio = settings.bound.of(l) / absolute_tolerance(&spectrum, l, settings.tolerance);
             worst = worst.max(ratio);
             if ratio > 1.0 {
                 unconverged += 1;
@@ -608,9 +644,16 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
             unconverged += count.saturating_sub(picked.len());
         }
         let all_ok = unconverged == 0;
-        let agrees = previous
-            .as_ref()
-            .is_some_and(|(ps, pp, _)| selections_agree(ps, pp, &spectrum, &picked, settings.tolerance));
+        let agrees = previous.as_ref().is_some_and(|(ps, pp, _)| {
+            selections_agree(
+                ps,
+                pp,
+                &spectrum,
+                &picked,
+                settings.tolerance,
+                settings.bound,
+            )
+        });
         history.push(AutoStep {
             cutoff,
             matrix_dimension: cutoff * model.dim(),
@@ -622,12 +665,16 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
         });
         let prev_ok = previous.as_ref().is_some_and(|p| p.2);
         if all_ok && agrees && prev_ok {
-            let first_converged_cutoff = history
-                .iter()
-                .rev()
-                .take_while(|h| h.unconverged == 0)
-                .last()
-                .map_or(cutoff, |h| h.cutoff);
+            // earliest step from which on every step met the tolerance and each later step
+            // confirmed its predecessor
+            let mut first = history.len() - 1;
+            while first > 0
+                && history[first - 1].unconverged == 0
+                && history[first].agrees_with_previous
+            {
+                first -= 1;
+            }
+            let first_converged_cutoff = history[first].cutoff;
             let warnings = match settings.selection.window_in(&spectrum, &picked) {
                 Some(w) => check_spectrum(model, &spectrum, w)?,
                 None => Vec::new(),
@@ -651,11 +698,18 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
 
 /// Same number of selected levels, and each pair (in energy order) within the sum of their
 /// bounds plus the tolerance.
-fn selections_agree(a: &Spectrum, pa: &[usize], b: &Spectrum, pb: &[usize], tol: f64) -> bool {
+fn selections_agree(
+    a: &Spectrum,
+    pa: &[usize],
+    b: &Spectrum,
+    pb: &[usize],
+    tol: f64,
+    bound: BoundChoice,
+) -> bool {
     pa.len() == pb.len()
         && pa.iter().zip(pb).all(|(&i, &j)| {
             let (la, lb) = (&a.levels[i], &b.levels[j]);
             (la.energy - lb.energy).abs()
-                <= la.bound + lb.bound + absolute_tolerance(b, lb, tol)
+                <= bound.of(la) + bound.of(lb) + absolute_tolerance(b, lb, tol)
         })
 }

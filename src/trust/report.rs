@@ -70,8 +70,7 @@ pub fn study_csv(study: &Study) -> Result<String> {
     let bytes = w
         .into_inner()
         .map_err(|e| Error::Unsupported(format!("cannot format the CSV table: {e}")))?;
-    String::from_utf8(bytes)
-        .map_err(|e| Error::Unsupported(format!("CSV table is not UTF-8: {e}")))
+    String::from_utf8(bytes).map_err(|e| Error::Unsupported(format!("CSV table is not UTF-8: {e}")))
 }
 
 /// The study as pretty-printed JSON (the serde form of [`Study`]).
@@ -102,7 +101,9 @@ pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
         .filter(|v| v.is_finite() && *v > 0.0)
         .collect();
     let (Some(&n_min), Some(&n_max)) = (study.cutoffs.first(), study.cutoffs.last()) else {
-        return Err(Error::Unsupported("the study has no cutoffs to plot".into()));
+        return Err(Error::Unsupported(
+            "the study has no cutoffs to plot".into(),
+        ));
     };
     if values.is_empty() {
         return Err(Error::Unsupported(
@@ -121,7 +122,10 @@ pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
     let x_hi = (n_max as f64 * 1.2).max(n_min as f64 + 1.0);
     let mut chart = ChartBuilder::on(&root)
         .caption(
-            format!("{}: bound (solid) and actual error (dashed) vs cutoff", study.model),
+            format!(
+                "{}: bound (solid) and actual error (dashed) vs cutoff",
+                study.model
+            ),
             ("sans-serif", 20),
         )
         .margin(15)
@@ -159,9 +163,16 @@ pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
             .draw_series(LineSeries::new(bound, color.stroke_width(2)))
             .map_err(|e| io(e.to_string()))?
             .label(label)
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2)));
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
+            });
         chart
-            .draw_series(DashedLineSeries::new(err.clone(), 6, 4, color.stroke_width(1)))
+            .draw_series(DashedLineSeries::new(
+                err.clone(),
+                6,
+                4,
+                color.stroke_width(1),
+            ))
             .map_err(|e| io(e.to_string()))?;
         chart
             .draw_series(err.into_iter().map(|p| Circle::new(p, 3, color.filled())))

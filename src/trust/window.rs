@@ -58,9 +58,7 @@ impl EnergyWindow {
             return Err(Error::BadNumber {
                 name: "energy window".into(),
                 value: upper - lower,
-                fix: format!(
-                    "give finite edges with lower <= upper (got [{lower}, {upper}])"
-                ),
+                fix: format!("give finite edges with lower <= upper (got [{lower}, {upper}])"),
             });
         }
         Ok(EnergyWindow { lower, upper })
@@ -112,7 +110,11 @@ fn bloch(model: &Model, kx: f64, ky: f64, point: FieldPoint) -> DMatrix<Complex6
 /// Band energies relative to `reference` at one k, ascending per branch.
 fn energies(model: &Model, kx: f64, ky: f64, point: FieldPoint, reference: f64) -> Vec<f64> {
     let h = bloch(model, kx, ky, point);
-    let mut ev: Vec<f64> = nalgebra::SymmetricEigen::new(h).eigenvalues.iter().copied().collect();
+    let mut ev: Vec<f64> = nalgebra::SymmetricEigen::new(h)
+        .eigenvalues
+        .iter()
+        .copied()
+        .collect();
     ev.sort_by(f64::total_cmp);
     match model.form() {
         SpectrumForm::Direct => ev.iter().map(|e| e - reference).collect(),
@@ -172,7 +174,7 @@ pub fn check_window(
                 if !(window.contains(eb) || straddle) {
                     continue;
                 }
-                let better = found[b].as_ref().is_none_or(|w| k < w.wave_number);
+                let better = found[b].as_ref().map_or(true, |w| k < w.wave_number);
                 if better {
                     let n_est = 0.5 * (k * magnetic_length).powi(2);
                     found[b] = Some(WindowWarning {
