@@ -172,6 +172,7 @@ impl Mul for DdComplex {
 }
 
 #[cfg(test)]
+#[allow(clippy::float_cmp)] // these tests check exact (bitwise) results on purpose
 mod tests {
     use super::*;
 

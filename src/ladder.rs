@@ -140,6 +140,7 @@ pub fn ladder_element(j: u32, k: u32, n: usize) -> f64 {
 }
 
 #[cfg(test)]
+#[allow(clippy::float_cmp)] // these tests check exact (bitwise) results on purpose
 mod tests {
     use super::*;
 

@@ -49,8 +49,9 @@ pub enum Splitting {
 /// Arithmetic used for the eigenvalues.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Precision {
-    /// Double-double refinement of small sectors when the reference energy is non-zero
-    /// (levels near a rest energy), plain double otherwise.
+    /// When the reference energy is non-zero (levels near a rest energy), refine a level of a
+    /// small sector in double-double whenever the rounding error of the double solve,
+    /// eps x ||H_sector||, could exceed 1e-4 x tolerance x |E|; plain double otherwise.
     #[default]
     Auto,
     /// Plain double precision.
@@ -157,12 +158,26 @@ struct SectorResult {
     vectors: Vec<LevelVector>,
 }
 
+/// When the double-double refinement runs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum RefinePolicy {
+    Never,
+    Always,
+    /// Refine a level when the rounding error of a double solve, eps x ||H_s||, exceeds this
+    /// fraction of tolerance x |E|.
+    Adaptive(f64),
+}
+
+/// Fraction of the tolerance that rounding may use before a level is refined: with the default
+/// tolerance 1e-9 an unrefined level carries a rounding error below 1e-13 |E|.
+const ROUNDING_SHARE: f64 = 1e-4;
+
 struct Job<'a> {
     h: &'a LadderHamiltonian,
     plan: &'a SectorPlan,
     form: SpectrumForm,
     reference: f64,
-    refine: bool,
+    refine: RefinePolicy,
     keep_vectors: bool,
     real: bool,
     /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
@@ -170,18 +185,18 @@ struct Job<'a> {
 }
 
 impl Job<'_> {
-    fn solve_sector(&self, id: SectorId, states: &mut Vec<(usize, usize)>) -> Result<SectorResult> {
+    fn solve_sector(
+        &self,
+        id: SectorId,
+        states: &mut Vec<(usize, usize)>,
+        out: &mut SectorResult,
+    ) -> Result<()> {
         self.plan.states(id, states);
         let s = states.len();
         let d = self.h.dim;
         let cutoff = self.plan.cutoff;
-        let mut out = SectorResult {
-            levels: Vec::new(),
-            weights: Vec::new(),
-            vectors: Vec::new(),
-        };
         if s == 0 {
-            return Ok(out);
+            return Ok(());
         }
         let hs = DMatrix::from_fn(s, s, |r, c| {
             let (m, a) = states[r];
@@ -209,13 +224,24 @@ impl Job<'_> {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
         })?;
+        let hs_norm = hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
         let top_from = cutoff.saturating_sub(self.h.band.max(1));
+        let mut v: Vec<Complex64> = Vec::with_capacity(s);
         for (i, &lam0) in eig.values.iter().enumerate() {
-            let mut v: Vec<Complex64> = vecs.column(i).iter().copied().collect();
+            v.clear();
+            v.extend(vecs.column(i).iter().copied());
             let mut lam = lam0;
             let mut lam_lo = 0.0;
-            let mut in_res;
-            if self.refine && s <= REFINE_MAX_SECTOR {
+            let in_res;
+            let refine_this = s <= REFINE_MAX_SECTOR
+                && match self.refine {
+                    RefinePolicy::Never => false,
+                    RefinePolicy::Always => true,
+                    RefinePolicy::Adaptive(tol) => {
+                        f64::EPSILON * hs_norm > ROUNDING_SHARE * tol * lam0.abs()
+                    }
+                };
+            if refine_this {
                 let elem = |r: usize, c: usize| -> DdComplex {
                     let (m, a) = states[r];
                     let (n, b) = states[c];
@@ -224,25 +250,30 @@ impl Job<'_> {
                 let rf = refine::refine(s, &elem, lam0, &v, 4);
                 lam = rf.value.hi;
                 lam_lo = rf.value.lo;
-                v = rf.vector;
+                v.clear();
+                v.extend_from_slice(&rf.vector);
                 in_res = rf.residual;
             } else {
                 // in-space residual ||H v - lambda v||
-                let hv = &hs * nalgebra::DVector::from_column_slice(&v);
-                in_res = 0.0;
+                let mut acc = 0.0;
                 for r in 0..s {
-                    in_res += (hv[r] - v[r] * lam0).norm_sqr();
+                    let mut hv = Complex64::new(0.0, 0.0);
+                    for c in 0..s {
+                        hv += hs[(r, c)] * v[c];
+                    }
+                    acc += (hv - v[r] * lam0).norm_sqr();
                 }
-                in_res = in_res.sqrt();
+                in_res = acc.sqrt();
             }
             let out_res = leakage(self.h, cutoff, states, &v);
             let r = (in_res * in_res + out_res * out_res).sqrt();
-            let mut w = vec![0.0; d];
+            let w0 = out.weights.len();
+            out.weights.resize(w0 + d, 0.0);
             let mut best = (0.0, 0usize, 0usize);
             let mut top = 0.0;
             for (idx, &(n, a)) in states.iter().enumerate() {
                 let p = v[idx].norm_sqr();
-                w[a] += p;
+                out.weights[w0 + a] += p;
                 if p > best.0 {
                     best = (p, n, a);
                 }
@@ -270,7 +301,12 @@ impl Job<'_> {
                         bound: r,
                         ..base
                     });
-                    out.weights.extend_from_slice(&w);
+                    if self.keep_vectors {
+                        out.vectors.push(LevelVector {
+                            states: states.clone(),
+                            coeffs: v.clone(),
+                        });
+                    }
                 }
                 SpectrumForm::KleinGordon { rest_energy } => {
                     let lam_full = lam + lam_lo;
@@ -290,7 +326,11 @@ impl Job<'_> {
                             branch,
                             ..base
                         });
-                        out.weights.extend_from_slice(&w);
+                        if branch == -1 {
+                            // the second branch shares the weights of the first
+                            let w: Vec<f64> = out.weights[w0..w0 + d].to_vec();
+                            out.weights.extend_from_slice(&w);
+                        }
                         if self.keep_vectors {
                             out.vectors.push(LevelVector {
                                 states: states.clone(),
@@ -298,17 +338,10 @@ impl Job<'_> {
                             });
                         }
                     }
-                    continue;
                 }
             }
-            if self.keep_vectors {
-                out.vectors.push(LevelVector {
-                    states: states.clone(),
-                    coeffs: v,
-                });
-            }
         }
-        Ok(out)
+        Ok(())
     }
 }
 
@@ -394,9 +427,10 @@ impl Spectrum {
             });
         }
         let refine = match settings.precision {
-            Precision::Double => false,
-            Precision::Extended => true,
-            Precision::Auto => assembly_ref != 0.0,
+            Precision::Double => RefinePolicy::Never,
+            Precision::Extended => RefinePolicy::Always,
+            Precision::Auto if assembly_ref != 0.0 => RefinePolicy::Adaptive(settings.tolerance),
+            Precision::Auto => RefinePolicy::Never,
         };
         let job = Job {
             h: &h,
@@ -419,10 +453,7 @@ impl Spectrum {
                     vectors: Vec::new(),
                 };
                 for &id in chunk_ids {
-                    let r = job.solve_sector(id, &mut states)?;
-                    acc.levels.extend(r.levels);
-                    acc.weights.extend(r.weights);
-                    acc.vectors.extend(r.vectors);
+                    job.solve_sector(id, &mut states, &mut acc)?;
                 }
                 Ok(acc)
             })
@@ -439,7 +470,8 @@ impl Spectrum {
         // stable sort by energy, carrying weights and vectors along
         let d = h.dim;
         let mut order: Vec<usize> = (0..levels.len()).collect();
-        order.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+        // stable parallel merge sort: deterministic whatever the thread count
+        order.par_sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
         let levels: Vec<Level> = order.iter().map(|&i| levels[i]).collect();
         let weights: Vec<f64> = order
             .iter()
