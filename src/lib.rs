@@ -32,8 +32,6 @@
 //!   is labelled by its sector, dominant orbital n and component.
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
-#![deny(clippy::float_cmp)]
-// float_cmp is denied so that exact comparisons are always deliberate (`#[allow]` with a reason).
 
 pub mod builtin;
 pub mod catalogue;
@@ -45,6 +43,8 @@ pub mod ladder;
 pub mod levels;
 pub mod matrix;
 pub mod model;
+pub mod modelfile;
+pub mod plot;
 pub mod sectors;
 pub mod solve;
 pub mod sweep;

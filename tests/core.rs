@@ -341,3 +341,30 @@ fn identity_helpers_and_hermiticity_error_name_the_term() {
     let msg = bad.unwrap_err().to_string();
     assert!(msg.contains("half coupling") && msg.contains("kx"), "{msg}");
 }
+
+/// Non-relativistic limit of 3+1 Dirac: E - m c^2 -> nu b (the Pauli g = 2 level nu hbar omega_c in
+/// natural units) with an error of order b^2: (E - mc^2 - nu b)/b^2 -> -nu^2/2 (expansion of the
+/// Johnson-Lippmann formula, common practice).
+#[test]
+fn dirac_approaches_pauli_with_an_error_of_order_b_squared() {
+    let m = builtin::dirac(RelativisticParams::default()).unwrap();
+    for b in [1e-2, 1e-3, 1e-4] {
+        let s = Spectrum::compute(&m, FieldPoint::field(b), &Settings::with_cutoff(40)).unwrap();
+        let positive: Vec<f64> = s
+            .converged()
+            .filter(|l| l.energy > -0.5)
+            .map(|l| l.energy)
+            .collect();
+        // positive[0] is nu = 0, then pairs nu = 1, 1, 2, 2, ...
+        for nu in 1..=5usize {
+            let e = positive[2 * nu - 1];
+            let ratio = (e - nu as f64 * b) / (b * b);
+            let expected = -((nu * nu) as f64) / 2.0;
+            // next order is +nu^3 b / 2, relative size nu b
+            assert!(
+                (ratio - expected).abs() <= 2.0 * nu as f64 * b * expected.abs() + 1e-6,
+                "b {b} nu {nu}: {ratio}"
+            );
+        }
+    }
+}

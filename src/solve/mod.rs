@@ -266,7 +266,14 @@ impl Job<'_> {
                 in_res = acc.sqrt();
             }
             let out_res = leakage(self.h, cutoff, states, &v);
-            let r = (in_res * in_res + out_res * out_res).sqrt();
+            // rounding floor: the residuals above are themselves computed in floating point
+            let rounding = if refine_this {
+                2.0 * f64::EPSILON * (lam + lam_lo).abs()
+                    + s as f64 * f64::EPSILON * f64::EPSILON * hs_norm
+            } else {
+                2.0 * s as f64 * f64::EPSILON * hs_norm
+            };
+            let r = (in_res * in_res + out_res * out_res).sqrt() + rounding;
             let w0 = out.weights.len();
             out.weights.resize(w0 + d, 0.0);
             let mut best = (0.0, 0usize, 0usize);

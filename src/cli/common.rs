@@ -1,0 +1,718 @@
+//! Helpers shared by every command: model loading, solve flags, output (stdout, JSON, atomic
+//! files) and the mapping of errors to exit codes.
+
+use clap::{Args, ValueEnum};
+use ladderfan::modelfile::{self, FileDefaults, DEFAULT_CUTOFF, DEFAULT_MEMORY_LIMIT_MIB};
+use ladderfan::{Error, FieldPoint, Model, Settings, Spectrum};
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::io::{IsTerminal, Write};
+use std::path::{Path, PathBuf};
+
+/// Exit code for a run whose verification (closed form, convergence) failed.
+pub const EXIT_VERIFICATION: i32 = 1;
+/// Exit code for bad input (model file, flags, values).
+pub const EXIT_BAD_INPUT: i32 = 2;
+
+/// What can end a command.
+#[derive(Debug)]
+pub enum CliError {
+    /// Bad input or a library error caused by it (exit 2).
+    Input(Error),
+    /// The computation ran but a check failed (exit 1).
+    Verification(String),
+    /// stdout was closed (e.g. piped into `head`): stop quietly (exit 0).
+    BrokenPipe,
+}
+
+impl From<Error> for CliError {
+    fn from(e: Error) -> Self {
+        CliError::Input(e)
+    }
+}
+
+impl CliError {
+    /// Exit code: 1 for verification failures and numerical failures, 2 for bad input.
+    pub fn exit_code(&self) -> i32 {
+        match self {
+            CliError::Verification(_) => EXIT_VERIFICATION,
+            CliError::Input(Error::NotConverged { .. } | Error::Numerical { .. }) => {
+                EXIT_VERIFICATION
+            }
+            CliError::Input(_) => EXIT_BAD_INPUT,
+            CliError::BrokenPipe => 0,
+        }
+    }
+
+    /// The one-line message (without the `ladderfan: error: ` prefix).
+    pub fn message(&self) -> String {
+        let m = match self {
+            CliError::Input(e) => e.to_string(),
+            CliError::Verification(m) => format!("verification failed: {m}"),
+            CliError::BrokenPipe => String::new(),
+        };
+        m.split_whitespace().collect::<Vec<_>>().join(" ")
+    }
+}
+
+/// Result of a command.
+pub type CliResult<T = ()> = std::result::Result<T, CliError>;
+
+/// A bad flag value, located at the flag.
+pub fn bad_flag(flag: &str, message: impl Into<String>) -> CliError {
+    CliError::Input(Error::Parse {
+        location: flag.into(),
+        message: message.into(),
+    })
+}
+
+/// Where the model comes from: a file or a built-in with overrides.
+#[derive(Debug, Clone, Args)]
+pub struct ModelArgs {
+    /// Model file (TOML; see docs/modelfile.md).
+    #[arg(long, value_name = "FILE", conflicts_with = "builtin")]
+    pub model: Option<PathBuf>,
+    /// Built-in model by name (list them with `ladderfan models`).
+    #[arg(long, value_name = "NAME")]
+    pub builtin: Option<String>,
+    /// Override a parameter: `--set key=value` (repeatable; value may be an expression).
+    /// With --model it overrides a [set] entry of a built-in file or a [parameters] entry.
+    #[arg(long = "set", value_name = "KEY=VALUE")]
+    pub set: Vec<String>,
+}
+
+/// Field, kz and truncation flags.
+#[derive(Debug, Clone, Args)]
+pub struct SolveArgs {
+    /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
+    #[arg(long, allow_negative_numbers = true)]
+    pub field: Option<f64>,
+    /// Wave number along the field, in 1/length of the model's units.
+    #[arg(long, allow_negative_numbers = true)]
+    pub kz: Option<f64>,
+    #[command(flatten)]
+    pub trunc: TruncArgs,
+}
+
+/// Truncation flags.
+#[derive(Debug, Clone, Args)]
+pub struct TruncArgs {
+    /// Orbital cutoff N (orbitals n = 0..N-1 per component).
+    #[arg(long)]
+    pub cutoff: Option<usize>,
+    /// Memory limit for one dense sector, MiB.
+    #[arg(long, value_name = "MIB")]
+    pub memory_limit_mib: Option<u64>,
+}
+
+/// Output flags every command takes.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Print a machine-readable JSON result on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+}
+
+/// A model ready to solve, with where it came from and the file's solve defaults.
+#[derive(Debug, Clone)]
+pub struct LoadedModel {
+    /// The model.
+    pub model: Model,
+    /// Solve defaults from the file.
+    pub defaults: FileDefaults,
+    /// `file PATH` or `builtin NAME` with overrides, for headers.
+    pub origin: String,
+}
+
+fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
+    items
+        .iter()
+        .map(|s| {
+            let (k, v) = s.split_once('=').ok_or_else(|| {
+                bad_flag(
+                    "--set",
+                    format!("'{s}' is not KEY=VALUE; write e.g. --set mass_mev=5"),
+                )
+            })?;
+            let (k, v) = (k.trim(), v.trim());
+            if k.is_empty() || v.is_empty() {
+                return Err(bad_flag(
+                    "--set",
+                    format!("'{s}' has an empty key or value; write e.g. --set mass_mev=5"),
+                ));
+            }
+            Ok((k.to_string(), v.to_string()))
+        })
+        .collect()
+}
+
+/// Load the model from `--model FILE` or `--builtin NAME`, applying `--set` overrides.
+///
+/// With `--model`, a `builtin = ...` file takes the overrides as extra `[set]` entries, a term
+/// file as replacements of `[parameters]` entries (which must exist).
+pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
+    let sets = parse_set(&args.set)?;
+    match (&args.model, &args.builtin) {
+        (Some(path), _) => {
+            let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
+                action: "read model file".into(),
+                path: path.display().to_string(),
+                source,
+            })?;
+            let name = path.display().to_string();
+            let f = modelfile::parse_with_overrides(&name, &text, &sets)?;
+            let mut origin = format!("file {name}");
+            if !sets.is_empty() {
+                origin.push_str(&format!(" with {}", args.set.join(", ")));
+            }
+            Ok(LoadedModel {
+                model: f.model,
+                defaults: f.defaults,
+                origin,
+            })
+        }
+        (None, Some(name)) => {
+            let info = modelfile::builtin_info(name).ok_or_else(|| {
+                bad_flag(
+                    "--builtin",
+                    format!(
+                        "unknown built-in model '{name}'; choose one of {} (see `ladderfan models`)",
+                        modelfile::builtin_names().join(", ")
+                    ),
+                )
+            })?;
+            let mut values = BTreeMap::new();
+            for (k, v) in &sets {
+                let x = modelfile::eval_expression(
+                    v,
+                    info.units,
+                    &BTreeMap::new(),
+                    &format!("--set {k}"),
+                )?;
+                values.insert(k.clone(), x);
+            }
+            let model = modelfile::build_builtin(name, &values)?;
+            let mut origin = format!("builtin {name}");
+            if !sets.is_empty() {
+                origin.push_str(&format!(" with {}", args.set.join(", ")));
+            }
+            Ok(LoadedModel {
+                model,
+                defaults: FileDefaults::default(),
+                origin,
+            })
+        }
+        (None, None) => Err(bad_flag(
+            "--model",
+            "no model given; pass --model FILE or --builtin NAME (e.g. --builtin dirac2d)",
+        )),
+    }
+}
+
+/// Resolved solve settings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Resolved {
+    /// Field.
+    pub field: f64,
+    /// kz.
+    pub kz: f64,
+    /// Cutoff.
+    pub cutoff: usize,
+    /// Memory limit, MiB.
+    pub memory_limit_mib: u64,
+}
+
+impl Resolved {
+    /// Solver settings for these values.
+    pub fn settings(&self) -> Settings {
+        let mut s = Settings::with_cutoff(self.cutoff);
+        s.memory_limit_mib = self.memory_limit_mib;
+        s
+    }
+    /// The field point.
+    pub fn point(&self) -> FieldPoint {
+        FieldPoint {
+            field: self.field,
+            kz: self.kz,
+        }
+    }
+}
+
+/// Check a finite flag value.
+pub fn finite_flag(flag: &str, v: f64) -> CliResult<f64> {
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(bad_flag(
+            flag,
+            format!("{v} is not a finite number; give a finite value"),
+        ))
+    }
+}
+
+/// Combine flags with the file's defaults (flags win), validate, and check the cutoff
+/// against the model's band and the memory limit.
+pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult<Resolved> {
+    let field = finite_flag(
+        "--field",
+        a.field.or(lm.defaults.field).unwrap_or(default_field),
+    )?;
+    if field == 0.0 {
+        return Err(bad_flag(
+            "--field",
+            "the field is 0; Landau levels need a non-zero magnetic field (pass e.g. --field 1)",
+        ));
+    }
+    let kz = finite_flag("--kz", a.kz.or(lm.defaults.kz).unwrap_or(0.0))?;
+    let (cutoff, memory_limit_mib) = resolve_trunc(lm, &a.trunc, field)?;
+    Ok(Resolved {
+        field,
+        kz,
+        cutoff,
+        memory_limit_mib,
+    })
+}
+
+/// Cutoff and memory limit from flags and file defaults, checked at `field`.
+pub fn resolve_trunc(lm: &LoadedModel, t: &TruncArgs, field: f64) -> CliResult<(usize, u64)> {
+    let cutoff = t.cutoff.or(lm.defaults.cutoff).unwrap_or(DEFAULT_CUTOFF);
+    let limit = t
+        .memory_limit_mib
+        .or(lm.defaults.memory_limit_mib)
+        .unwrap_or(DEFAULT_MEMORY_LIMIT_MIB);
+    if limit == 0 {
+        return Err(bad_flag(
+            "--memory-limit-mib",
+            "0 MiB; give a positive limit",
+        ));
+    }
+    check_cutoff_flag(lm, cutoff, field, limit)?;
+    Ok((cutoff, limit))
+}
+
+/// The default field of a model's unit system when neither flag nor file gives one:
+/// 5 T in lab units, 0.1 B_c in natural units.
+pub fn default_field(m: &Model) -> f64 {
+    match m.units() {
+        ladderfan::units::Units::Lab => 5.0,
+        ladderfan::units::Units::Natural => 0.1,
+    }
+}
+
+/// Cutoff and memory check with the error located at `--cutoff`.
+pub fn check_cutoff_flag(lm: &LoadedModel, cutoff: usize, field: f64, limit: u64) -> CliResult {
+    modelfile::check_cutoff(&lm.model, cutoff, field, limit).map_err(|e| match e {
+        e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
+            bad_flag("--cutoff", e.to_string())
+        }
+        other => CliError::Input(other),
+    })
+}
+
+/// Write to stdout; a closed pipe ends the command quietly.
+pub fn emit(text: &str) -> CliResult {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(CliError::BrokenPipe),
+        Err(e) => Err(CliError::Input(Error::Io {
+            action: "write".into(),
+            path: "stdout".into(),
+            source: e,
+        })),
+    }
+}
+
+/// Serialise `value` as pretty JSON and print it.
+pub fn emit_json<T: Serialize>(value: &T) -> CliResult {
+    let mut s = serde_json::to_string_pretty(value).map_err(|e| {
+        CliError::Input(Error::Unsupported(format!(
+            "cannot serialise the result: {e}"
+        )))
+    })?;
+    s.push('\n');
+    emit(&s)
+}
+
+/// Files to write into `--out`: name and content. Written only after every computation has
+/// succeeded, each through a temporary name and a rename.
+#[derive(Debug, Default)]
+pub struct OutputFiles {
+    files: Vec<(String, Vec<u8>)>,
+}
+
+impl OutputFiles {
+    /// Queue a file.
+    pub fn add(&mut self, name: &str, content: impl Into<Vec<u8>>) {
+        self.files.push((name.to_string(), content.into()));
+    }
+
+    /// Write every queued file into `dir` (created if missing). Returns the written paths.
+    pub fn write_all(self, dir: &Path) -> CliResult<Vec<PathBuf>> {
+        std::fs::create_dir_all(dir).map_err(|source| Error::Io {
+            action: "create output directory".into(),
+            path: dir.display().to_string(),
+            source,
+        })?;
+        let mut written = Vec::new();
+        for (name, content) in &self.files {
+            let path = dir.join(name);
+            write_atomic(&path, content)?;
+            written.push(path);
+        }
+        Ok(written)
+    }
+}
+
+/// Write `content` to `path` whole or not at all: a temporary file in the same directory,
+/// flushed and synced, then renamed over the target. On failure the temporary is removed.
+pub fn write_atomic(path: &Path, content: &[u8]) -> CliResult {
+    let dir = path.parent().unwrap_or(Path::new("."));
+    let file_name = path
+        .file_name()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "out".into());
+    let tmp = dir.join(format!(".{file_name}.tmp-{}", std::process::id()));
+    let io_err = |source: std::io::Error| {
+        CliError::Input(Error::Io {
+            action: "write".into(),
+            path: path.display().to_string(),
+            source,
+        })
+    };
+    let result = (|| -> std::io::Result<()> {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(content)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if let Err(e) = result {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(io_err(e));
+    }
+    Ok(())
+}
+
+/// Whether progress bars may be drawn: both stderr and stdout are terminals.
+pub fn interactive() -> bool {
+    std::io::stderr().is_terminal() && std::io::stdout().is_terminal()
+}
+
+/// Grid spacing of a sweep.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Grid {
+    /// Evenly spaced values.
+    Linear,
+    /// Evenly spaced logarithms (all values of one sign, none zero).
+    Log,
+}
+
+/// `points` values from `from` to `to` on `grid`.
+pub fn grid_values(
+    flag: &str,
+    from: f64,
+    to: f64,
+    points: usize,
+    grid: Grid,
+) -> CliResult<Vec<f64>> {
+    finite_flag(flag, from)?;
+    finite_flag(flag, to)?;
+    if points < 2 {
+        return Err(bad_flag(
+            "--points",
+            format!("{points} points; a sweep needs at least 2"),
+        ));
+    }
+    if points > 100_000 {
+        return Err(bad_flag(
+            "--points",
+            format!("{points} points is more than 100000; use fewer points"),
+        ));
+    }
+    let t = |i: usize| i as f64 / (points - 1) as f64;
+    match grid {
+        Grid::Linear => Ok((0..points).map(|i| from + (to - from) * t(i)).collect()),
+        Grid::Log => {
+            if from == 0.0 || to == 0.0 || from.signum() != to.signum() {
+                return Err(bad_flag(
+                    "--grid",
+                    format!(
+                        "a log grid from {from} to {to} is impossible; both ends need the same sign and neither may be 0 (or use --grid linear)"
+                    ),
+                ));
+            }
+            let (a, b) = (from.abs().ln(), to.abs().ln());
+            Ok((0..points)
+                .map(|i| from.signum() * (a + (b - a) * t(i)).exp())
+                .collect())
+        }
+    }
+}
+
+/// JSON view of one level.
+#[derive(Debug, Clone, Serialize)]
+pub struct LevelJson {
+    /// Energy relative to the reference energy.
+    pub energy: f64,
+    /// Error bound on the energy.
+    pub bound: f64,
+    /// Converged at the solve's tolerance.
+    pub converged: bool,
+    /// Sector label `class:J`.
+    pub sector: String,
+    /// Component class index.
+    pub sector_class: usize,
+    /// J, J mod m or 0.
+    pub sector_label: i64,
+    /// Branch (Klein-Gordon form: +1/-1; else 0).
+    pub branch: i8,
+    /// Dominant orbital n.
+    pub orbital: usize,
+    /// Dominant component index.
+    pub component: usize,
+    /// Dominant component name.
+    pub component_name: String,
+    /// Rank within the (sector, branch) by ascending energy.
+    pub rank: usize,
+}
+
+/// Ranks of the levels within their (sector, branch), by ascending energy (levels are sorted
+/// by energy already).
+pub fn ranks(s: &Spectrum) -> Vec<usize> {
+    let mut count: BTreeMap<(usize, i64, i8), usize> = BTreeMap::new();
+    s.levels
+        .iter()
+        .map(|l| {
+            let c = count
+                .entry((l.sector.class, l.sector.label, l.branch))
+                .or_insert(0);
+            *c += 1;
+            *c - 1
+        })
+        .collect()
+}
+
+/// JSON view of the levels with indices `idx`.
+pub fn levels_json(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelJson> {
+    let r = ranks(s);
+    idx.iter()
+        .map(|&i| {
+            let l = &s.levels[i];
+            LevelJson {
+                energy: l.energy,
+                bound: l.bound,
+                converged: l.is_converged(),
+                sector: format!("{}:{}", l.sector.class, l.sector.label),
+                sector_class: l.sector.class,
+                sector_label: l.sector.label,
+                branch: l.branch,
+                orbital: l.orbital,
+                component: l.component,
+                component_name: model
+                    .component_names()
+                    .get(l.component)
+                    .cloned()
+                    .unwrap_or_default(),
+                rank: r[i],
+            }
+        })
+        .collect()
+}
+
+/// The header every JSON result starts with.
+#[derive(Debug, Clone, Serialize)]
+pub struct ModelJson {
+    /// Model name.
+    pub name: String,
+    /// Where it came from.
+    pub origin: String,
+    /// Components.
+    pub components: usize,
+    /// Carrier charge in e.
+    pub charge: f64,
+    /// Parameters.
+    pub parameters: BTreeMap<String, f64>,
+}
+
+impl ModelJson {
+    /// From a loaded model.
+    pub fn new(lm: &LoadedModel) -> Self {
+        ModelJson {
+            name: lm.model.name().to_string(),
+            origin: lm.origin.clone(),
+            components: lm.model.dim(),
+            charge: lm.model.charge(),
+            parameters: lm.model.params().clone(),
+        }
+    }
+}
+
+/// Units block of every JSON result.
+#[derive(Debug, Clone, Serialize)]
+pub struct UnitsJson {
+    /// `lab` or `natural`.
+    pub system: ladderfan::units::Units,
+    /// `Units::header()`.
+    pub header: String,
+    /// Energy unit.
+    pub energy: String,
+    /// Length unit.
+    pub length: String,
+    /// Field unit.
+    pub field: String,
+}
+
+impl UnitsJson {
+    /// For a model.
+    pub fn new(m: &Model) -> Self {
+        let u = m.units();
+        UnitsJson {
+            system: u,
+            header: u.header(),
+            energy: u.energy_unit().into(),
+            length: u.length_unit().into(),
+            field: u.field_unit().into(),
+        }
+    }
+}
+
+/// `#` comment lines for CSV headers: tool, model, origin, units and extra lines.
+pub fn csv_header(lm: &LoadedModel, what: &str, extra: &[String]) -> String {
+    let mut s = format!("# ladderfan {} {what}\n", env!("CARGO_PKG_VERSION"));
+    s.push_str(&format!(
+        "# model: {} ({}), {} components, charge {} e\n",
+        lm.model.name(),
+        lm.origin,
+        lm.model.dim(),
+        lm.model.charge()
+    ));
+    if !lm.model.params().is_empty() {
+        let p: Vec<String> = lm
+            .model
+            .params()
+            .iter()
+            .map(|(k, v)| format!("{k} = {v}"))
+            .collect();
+        s.push_str(&format!("# parameters: {}\n", p.join(", ")));
+    }
+    s.push_str(&format!("# units: {}\n", lm.model.units().header()));
+    for e in extra {
+        s.push_str(&format!("# {e}\n"));
+    }
+    s
+}
+
+/// Format rows as an aligned text table (first row is the header; numeric-looking cells right-aligned).
+pub fn table(rows: &[Vec<String>]) -> String {
+    let ncol = rows.iter().map(Vec::len).max().unwrap_or(0);
+    let mut width = vec![0; ncol];
+    for r in rows {
+        for (i, c) in r.iter().enumerate() {
+            width[i] = width[i].max(c.chars().count());
+        }
+    }
+    let mut s = String::new();
+    for r in rows {
+        let cells: Vec<String> = r
+            .iter()
+            .enumerate()
+            .map(|(i, c)| {
+                let numeric = c
+                    .chars()
+                    .next()
+                    .is_some_and(|ch| ch.is_ascii_digit() || ch == '-' || ch == '+');
+                if numeric {
+                    format!("{c:>w$}", w = width[i])
+                } else {
+                    format!("{c:<w$}", w = width[i])
+                }
+            })
+            .collect();
+        s.push_str(cells.join("  ").trim_end());
+        s.push('\n');
+    }
+    s
+}
+
+/// CSV text of `records` (header row first) after the `#` header lines.
+pub fn csv_text(header: &str, records: &[Vec<String>]) -> CliResult<String> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    for r in records {
+        w.write_record(r)
+            .map_err(|e| CliError::Input(Error::Unsupported(format!("csv: {e}"))))?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| CliError::Input(Error::Unsupported(format!("csv: {e}"))))?;
+    Ok(format!("{header}{}", String::from_utf8_lossy(&bytes)))
+}
+
+/// A number with `sig` significant digits: fixed notation for moderate magnitudes, else
+/// scientific.
+pub fn fmt_num(x: f64, sig: usize) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let mag = x.abs().log10().floor() as i32;
+    if (-3..6).contains(&mag) {
+        let decimals = (sig as i32 - 1 - mag).max(0) as usize;
+        format!("{x:.decimals$}")
+    } else {
+        format!("{x:.prec$e}", prec = sig.saturating_sub(1))
+    }
+}
+
+/// Which levels a table shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shown {
+    /// Only converged levels (the default).
+    Converged,
+    /// Converged and unconverged levels (cutoff artefacts included).
+    All,
+}
+
+/// Indices of the `count` levels closest to the reference energy (all when `count` is 0),
+/// among the converged levels unless `shown` is [`Shown::All`], in ascending energy order.
+pub fn nearest_levels(s: &Spectrum, count: usize, shown: Shown) -> Vec<usize> {
+    let mut idx: Vec<usize> = (0..s.levels.len())
+        .filter(|&i| shown == Shown::All || s.levels[i].is_converged())
+        .collect();
+    if count > 0 && count < idx.len() {
+        idx.sort_by(|&a, &b| {
+            s.levels[a]
+                .energy
+                .abs()
+                .total_cmp(&s.levels[b].energy.abs())
+                .then(a.cmp(&b))
+        });
+        idx.truncate(count);
+        idx.sort_unstable();
+    }
+    idx
+}
+
+/// JSON view of the symmetry found.
+#[derive(Debug, Clone, Serialize)]
+pub struct SymmetryJson {
+    /// Human-readable description.
+    pub description: String,
+    /// Whether J is exactly conserved in every class (sectors of at most d states).
+    pub exact: bool,
+    /// The classes.
+    pub classes: ladderfan::sectors::Symmetry,
+}
+
+impl SymmetryJson {
+    /// From a spectrum.
+    pub fn new(s: &Spectrum) -> Self {
+        SymmetryJson {
+            description: s.symmetry.describe(),
+            exact: s.symmetry.is_exact(),
+            classes: s.symmetry.clone(),
+        }
+    }
+}

@@ -1,0 +1,143 @@
+//! `ladderfan demo` (also what a bare `ladderfan` runs): an invented scenario, a hypothetical
+//! gapped Dirac film, solved at one field and over a field sweep; prints a table and writes a
+//! fan diagram SVG, CSV files and the model file into `--out`.
+
+use super::common::{self, CliResult, LoadedModel};
+use super::sweep::{self, Plan, SweepArgs, Swept};
+use clap::Args;
+use ladderfan::{modelfile, FieldPoint};
+use serde::Serialize;
+use std::path::PathBuf;
+
+/// The demo's model file. Every number is INVENTED for the demonstration; it describes no
+/// real material.
+pub const DEMO_MODEL: &str = r#"# ladderfan demo model: a hypothetical gapped Dirac film.
+# INVENTED parameters (no real material): velocity 4.6e5 m/s, mass term 9 meV (gap 18 meV).
+description = "hypothetical gapped Dirac film (invented parameters)"
+builtin = "dirac2d"
+
+[set]
+velocity_m_per_s = 4.6e5   # invented
+mass_mev = 9.0             # invented: half of the gap, meV
+valley = 1
+charge = -1
+
+[defaults]
+field = 6.0    # T
+cutoff = 200
+"#;
+
+/// Flags of `ladderfan demo`.
+#[derive(Debug, Clone, Args)]
+pub struct DemoArgs {
+    /// Directory for the demo's files.
+    #[arg(long, value_name = "DIR", default_value = "ladderfan-demo")]
+    pub out: PathBuf,
+    /// Print a JSON result on stdout instead of the text.
+    #[arg(long)]
+    pub json: bool,
+}
+
+impl Default for DemoArgs {
+    fn default() -> Self {
+        DemoArgs {
+            out: PathBuf::from("ladderfan-demo"),
+            json: false,
+        }
+    }
+}
+
+/// The JSON result of the demo.
+#[derive(Debug, Serialize)]
+pub struct DemoJson {
+    /// Always `demo`.
+    pub command: &'static str,
+    /// Levels at the demo field.
+    pub levels: super::levels::LevelsJson,
+    /// The fan sweep.
+    pub fan: sweep::SweepJson,
+    /// Closed-form check, when available.
+    pub closed_form_check: Option<String>,
+    /// Files written.
+    pub files: Vec<String>,
+}
+
+/// Run the demo.
+pub fn run(a: &DemoArgs) -> CliResult {
+    let f = modelfile::parse("demo-model.toml", DEMO_MODEL)?;
+    let lm = LoadedModel {
+        model: f.model,
+        defaults: f.defaults,
+        origin: "invented demo: hypothetical gapped Dirac film".into(),
+    };
+    let field = lm.defaults.field.unwrap_or(6.0);
+    let cutoff = lm.defaults.cutoff.unwrap_or(modelfile::DEFAULT_CUTOFF);
+    let r = common::Resolved {
+        field,
+        kz: 0.0,
+        cutoff,
+        memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
+    };
+    let s = super::levels::compute(&lm, &r)?;
+    let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
+    let sweep_args = SweepArgs {
+        points: 80,
+        grid: common::Grid::Linear,
+        emin: Some(-80.0),
+        emax: Some(80.0),
+        count: 16,
+        threads: None,
+    };
+    let values = common::grid_values("--b-min", 0.25, 10.0, sweep_args.points, sweep_args.grid)?;
+    let plan = Plan {
+        command: "fan",
+        swept: Swept::Field,
+        points: values
+            .iter()
+            .map(|&field| FieldPoint { field, kz: 0.0 })
+            .collect(),
+        reference_point: values.len() - 1,
+        values,
+        cutoff,
+        memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
+    };
+    let o = sweep::execute(&lm, &plan, &sweep_args)?;
+    let closed_form_check: Option<String> = None;
+    let mut files = common::OutputFiles::default();
+    files.add("model.toml", DEMO_MODEL);
+    files.add("levels.csv", super::levels::to_csv(&lm, &s, &idx)?);
+    files.add("fan.csv", sweep::csv(&lm, &o.json)?);
+    files.add("fan.svg", sweep::svg(&lm, &o.json, o.closed.as_deref())?);
+    let written: Vec<String> = files
+        .write_all(&a.out)?
+        .iter()
+        .map(|p| p.display().to_string())
+        .collect();
+    if a.json {
+        return common::emit_json(&DemoJson {
+            command: "demo",
+            levels: super::levels::to_json(&lm, &s, &idx),
+            fan: o.json,
+            closed_form_check,
+            files: written,
+        });
+    }
+    let mut text = String::from(
+        "ladderfan demo: a hypothetical gapped Dirac film with INVENTED parameters\n\
+         (velocity 4.6e5 m/s, mass term 9 meV); see model.toml in the output directory.\n\n",
+    );
+    text.push_str(&super::levels::to_table(&lm, &s, &idx));
+    text.push_str(&format!(
+        "\nfan: {} fields from 0.25 to 10 T, {} levels tracked in [-80, 80] meV\n",
+        o.json.values.len(),
+        o.json.tracks.len()
+    ));
+    match &closed_form_check {
+        Some(c) => text.push_str(&format!("closed form: {c}\n")),
+        None => text.push_str("closed form: check not available in this build\n"),
+    }
+    for w in &written {
+        text.push_str(&format!("wrote {w}\n"));
+    }
+    common::emit(&text)
+}

@@ -1,0 +1,242 @@
+//! `ladderfan levels`: the spectrum at one field and kz as a labelled table.
+
+use super::common::{
+    self, csv_header, csv_text, emit, emit_json, fmt_num, levels_json, load_model, nearest_levels,
+    CliResult, LevelJson, LoadedModel, ModelArgs, ModelJson, OutputArgs, OutputFiles, Resolved,
+    SolveArgs, SymmetryJson, UnitsJson,
+};
+use clap::Args;
+use ladderfan::model::SpectrumForm;
+use ladderfan::Spectrum;
+use serde::Serialize;
+
+/// Flags of `ladderfan levels`.
+#[derive(Debug, Clone, Args)]
+pub struct LevelsArgs {
+    #[command(flatten)]
+    pub model: ModelArgs,
+    #[command(flatten)]
+    pub solve: SolveArgs,
+    /// Number of levels to show, those closest to the reference energy (0: all).
+    #[arg(long, default_value_t = 20)]
+    pub count: usize,
+    /// Also show levels that are not converged (cutoff artefacts; flagged NO).
+    #[arg(long)]
+    pub show_unconverged: bool,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// The JSON result of `levels`.
+#[derive(Debug, Serialize)]
+pub struct LevelsJson {
+    /// Always `levels`.
+    pub command: &'static str,
+    /// The model.
+    pub model: ModelJson,
+    /// Units of every number.
+    pub units: UnitsJson,
+    /// Field.
+    pub field: f64,
+    /// kz.
+    pub kz: f64,
+    /// Orbital cutoff.
+    pub cutoff: usize,
+    /// Energies are relative to this.
+    pub reference_energy: f64,
+    /// Magnetic length.
+    pub magnetic_length: f64,
+    /// Relative tolerance of the convergence flags.
+    pub tolerance: f64,
+    /// Symmetry found.
+    pub symmetry: SymmetryJson,
+    /// Number of levels computed.
+    pub levels_total: usize,
+    /// Number of converged levels.
+    pub levels_converged: usize,
+    /// The levels shown, ascending in energy.
+    pub levels: Vec<LevelJson>,
+}
+
+/// Compute the spectrum for resolved settings.
+pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
+    Ok(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
+}
+
+/// The JSON result for a spectrum and the shown level indices.
+pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
+    LevelsJson {
+        command: "levels",
+        model: ModelJson::new(lm),
+        units: UnitsJson::new(&lm.model),
+        field: s.point.field,
+        kz: s.point.kz,
+        cutoff: s.cutoff,
+        reference_energy: s.reference_energy,
+        magnetic_length: s.magnetic_length,
+        tolerance: s.tolerance,
+        symmetry: SymmetryJson::new(s),
+        levels_total: s.levels.len(),
+        levels_converged: s.converged().count(),
+        levels: levels_json(&lm.model, s, idx),
+    }
+}
+
+/// The aligned text table with a header block.
+pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
+    let u = lm.model.units();
+    let kg = matches!(lm.model.form(), SpectrumForm::KleinGordon { .. });
+    let mut out = format!(
+        "model: {} ({}), {} components, charge {} e\n",
+        lm.model.name(),
+        lm.origin,
+        lm.model.dim(),
+        lm.model.charge()
+    );
+    out.push_str(&format!(
+        "field {} {}, kz {} 1/{}, cutoff {}, magnetic length {} {}\n",
+        s.point.field,
+        u.field_unit(),
+        s.point.kz,
+        u.length_unit(),
+        s.cutoff,
+        fmt_num(s.magnetic_length, 6),
+        u.length_unit()
+    ));
+    out.push_str(&format!("symmetry: {}\n", s.symmetry.describe()));
+    out.push_str(&format!(
+        "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference), {} converged in total{}\n\n",
+        u.energy_unit(),
+        s.reference_energy,
+        u.energy_unit(),
+        idx.len(),
+        s.levels.len(),
+        s.converged().count(),
+        if idx.iter().all(|&i| s.levels[i].is_converged()) {
+            " (unconverged cutoff artefacts hidden; --show-unconverged lists them)"
+        } else {
+            ""
+        }
+    ));
+    let mut rows = vec![vec!["sector".to_string(), "n".into(), "component".into()]];
+    if kg {
+        rows[0].push("branch".into());
+    }
+    rows[0].extend([
+        format!("energy [{}]", u.energy_unit()),
+        format!("bound [{}]", u.energy_unit()),
+        "converged".into(),
+    ]);
+    for l in levels_json(&lm.model, s, idx) {
+        let mut r = vec![
+            l.sector.clone(),
+            l.orbital.to_string(),
+            if l.component_name.is_empty() {
+                l.component.to_string()
+            } else {
+                l.component_name.clone()
+            },
+        ];
+        if kg {
+            r.push(format!("{:+}", l.branch));
+        }
+        r.extend([
+            fmt_num(l.energy, 10),
+            format!("{:.2e}", l.bound),
+            if l.converged { "yes" } else { "NO" }.into(),
+        ]);
+        rows.push(r);
+    }
+    out.push_str(&common::table(&rows));
+    out
+}
+
+/// CSV of the shown levels, with `#` header lines stating the model and the units.
+pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String> {
+    let u = lm.model.units();
+    let header = csv_header(
+        lm,
+        "levels",
+        &[
+            format!(
+                "field {} {}, kz {} 1/{}, cutoff {}",
+                s.point.field,
+                u.field_unit(),
+                s.point.kz,
+                u.length_unit(),
+                s.cutoff
+            ),
+            format!(
+                "energies relative to {} {}",
+                s.reference_energy,
+                u.energy_unit()
+            ),
+            format!("symmetry: {}", s.symmetry.describe()),
+        ],
+    );
+    let mut rec = vec![vec![
+        "sector".to_string(),
+        "branch".into(),
+        "rank".into(),
+        "orbital".into(),
+        "component".into(),
+        format!("energy_{}", u.energy_unit().replace(' ', "")),
+        format!("bound_{}", u.energy_unit().replace(' ', "")),
+        "converged".into(),
+    ]];
+    for l in levels_json(&lm.model, s, idx) {
+        rec.push(vec![
+            l.sector,
+            l.branch.to_string(),
+            l.rank.to_string(),
+            l.orbital.to_string(),
+            l.component_name,
+            format!("{:e}", l.energy),
+            format!("{:e}", l.bound),
+            l.converged.to_string(),
+        ]);
+    }
+    csv_text(&header, &rec)
+}
+
+/// Run `ladderfan levels`.
+pub fn run(a: &LevelsArgs) -> CliResult {
+    let lm = load_model(&a.model)?;
+    let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
+    let s = compute(&lm, &r)?;
+    let shown = if a.show_unconverged {
+        common::Shown::All
+    } else {
+        common::Shown::Converged
+    };
+    let idx = nearest_levels(&s, a.count, shown);
+    let mut written = Vec::new();
+    if let Some(dir) = &a.output.out {
+        let mut files = OutputFiles::default();
+        files.add("levels.csv", to_csv(&lm, &s, &idx)?);
+        let svg = ladderfan::plot::level_diagram(&ladderfan::plot::LevelDiagram {
+            title: format!(
+                "{}: levels at {} {}",
+                lm.model.name(),
+                s.point.field,
+                lm.model.units().field_unit()
+            ),
+            energy_unit: lm.model.units().energy_unit().to_string(),
+            levels: idx
+                .iter()
+                .map(|&i| (s.levels[i].orbital as f64, s.levels[i].energy))
+                .collect(),
+        })?;
+        files.add("levels.svg", svg);
+        written = files.write_all(dir)?;
+    }
+    if a.output.json {
+        emit_json(&to_json(&lm, &s, &idx))
+    } else {
+        let mut text = to_table(&lm, &s, &idx);
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+        emit(&text)
+    }
+}

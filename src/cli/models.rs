@@ -1,0 +1,102 @@
+//! `ladderfan models`: the built-in models, their parameters with defaults, and sources.
+
+use super::common::{self, emit, emit_json, CliResult};
+use clap::Args;
+use ladderfan::modelfile;
+use serde::Serialize;
+
+/// Flags of `ladderfan models`.
+#[derive(Debug, Clone, Args)]
+pub struct ModelsArgs {
+    /// Print JSON instead of the text listing.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// One parameter in the listing.
+#[derive(Debug, Serialize)]
+pub struct ParamJson {
+    /// Name for `--set` and `[set]`.
+    pub name: &'static str,
+    /// Default value.
+    pub default: f64,
+    /// Unit.
+    pub unit: &'static str,
+    /// Meaning.
+    pub meaning: &'static str,
+}
+
+/// One model in the listing.
+#[derive(Debug, Serialize)]
+pub struct ModelEntry {
+    /// Name for `--builtin` and `builtin = ...`.
+    pub name: &'static str,
+    /// The Hamiltonian.
+    pub summary: &'static str,
+    /// Unit system.
+    pub units: ladderfan::units::Units,
+    /// Units header.
+    pub units_header: String,
+    /// Source of the closed form.
+    pub source: &'static str,
+    /// Parameters.
+    pub parameters: Vec<ParamJson>,
+}
+
+/// The listing.
+pub fn entries() -> Vec<ModelEntry> {
+    modelfile::builtins()
+        .into_iter()
+        .map(|b| ModelEntry {
+            name: b.name,
+            summary: b.summary,
+            units: b.units,
+            units_header: b.units.header(),
+            source: b.source,
+            parameters: b
+                .params
+                .iter()
+                .map(|p| ParamJson {
+                    name: p.name,
+                    default: p.default,
+                    unit: p.unit,
+                    meaning: p.meaning,
+                })
+                .collect(),
+        })
+        .collect()
+}
+
+/// Run `ladderfan models`.
+pub fn run(a: &ModelsArgs) -> CliResult {
+    let e = entries();
+    if a.json {
+        return emit_json(&e);
+    }
+    let mut s = String::new();
+    for m in &e {
+        s.push_str(&format!("{}: {}\n", m.name, m.summary));
+        s.push_str(&format!("  units: {:?} ({})\n", m.units, m.units_header).to_lowercase());
+        s.push_str(&format!("  source: {}\n", m.source));
+        let mut rows = vec![vec![
+            "  parameter".to_string(),
+            "default".into(),
+            "unit".into(),
+            "meaning".into(),
+        ]];
+        for p in &m.parameters {
+            rows.push(vec![
+                format!("  {}", p.name),
+                common::fmt_num(p.default, 6),
+                p.unit.into(),
+                p.meaning.into(),
+            ]);
+        }
+        s.push_str(&common::table(&rows));
+        s.push('\n');
+    }
+    s.push_str(
+        "use one with --builtin NAME [--set KEY=VALUE ...] or builtin = \"NAME\" in a model file\n",
+    );
+    emit(&s)
+}

@@ -1,0 +1,552 @@
+//! Sweeps shared by `fan` and `dispersion`: parallel solves over points, tracking of levels by
+//! label across the sweep, window selection and the CSV/JSON/SVG views.
+
+use super::common::{
+    self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel, ModelJson,
+    SymmetryJson, UnitsJson,
+};
+use clap::Args;
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::{FieldPoint, Settings, Spectrum};
+use rayon::prelude::*;
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+/// Flags shared by every sweep.
+#[derive(Debug, Clone, Args)]
+pub struct SweepArgs {
+    /// Number of sweep points.
+    #[arg(long, default_value_t = 60)]
+    pub points: usize,
+    /// Grid spacing.
+    #[arg(long, value_enum, default_value_t = common::Grid::Linear)]
+    pub grid: common::Grid,
+    /// Lower end of the energy window of the plotted/listed levels (default: from the levels
+    /// closest to the reference energy at the end point).
+    #[arg(long, allow_negative_numbers = true)]
+    pub emin: Option<f64>,
+    /// Upper end of the energy window.
+    #[arg(long, allow_negative_numbers = true)]
+    pub emax: Option<f64>,
+    /// How many levels (closest to the reference energy at the end point) set the default window.
+    #[arg(long, default_value_t = 16)]
+    pub count: usize,
+    /// Worker threads for the sweep (default: all cores). Results do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
+}
+
+/// What is swept.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Swept {
+    /// The magnetic field.
+    Field,
+    /// kz.
+    Kz,
+}
+
+/// Label of a tracked level: (component class, sector label, branch, rank within the sector).
+pub type TrackKey = (usize, i64, i8, usize);
+
+/// One tracked level across the sweep (None where it was not converged or not present).
+#[derive(Debug, Clone, Serialize)]
+pub struct Track {
+    /// Sector `class:J`.
+    pub sector: String,
+    /// Component class.
+    pub sector_class: usize,
+    /// J, J mod m or 0.
+    pub sector_label: i64,
+    /// Branch (Klein-Gordon form) or 0.
+    pub branch: i8,
+    /// Rank within (sector, branch) by ascending energy.
+    pub rank: usize,
+    /// Dominant orbital at the reference point of the sweep.
+    pub orbital: Option<usize>,
+    /// Dominant component name at the reference point.
+    pub component: Option<String>,
+    /// Energies per sweep point (null: not converged there).
+    pub energies: Vec<Option<f64>>,
+    /// Bounds per sweep point.
+    pub bounds: Vec<Option<f64>>,
+}
+
+/// Solve at every point, in parallel over points; the result order is the point order, and
+/// each point's spectrum does not depend on the number of threads.
+pub fn solve_points(
+    lm: &LoadedModel,
+    points: &[FieldPoint],
+    settings: &Settings,
+    what: &str,
+    threads: Option<usize>,
+) -> CliResult<Vec<Spectrum>> {
+    let start = Instant::now();
+    let bar = ProgressBar::hidden();
+    bar.set_length(points.len() as u64);
+    bar.set_style(
+        ProgressStyle::with_template("{msg} [{bar:40}] {pos}/{len} points, eta {eta}")
+            .map_err(|e| CliError::Input(ladderfan::Error::Unsupported(e.to_string())))?
+            .progress_chars("=> "),
+    );
+    bar.set_message(what.to_string());
+    let interactive = common::interactive();
+    let shown = AtomicBool::new(false);
+    let work = || -> Vec<ladderfan::Result<Spectrum>> {
+        points
+            .par_iter()
+            .map(|p| {
+                let r = Spectrum::compute(&lm.model, *p, settings);
+                bar.inc(1);
+                if interactive
+                    && start.elapsed() > Duration::from_millis(800)
+                    && shown
+                        .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
+                        .is_ok()
+                {
+                    bar.set_draw_target(ProgressDrawTarget::stderr());
+                }
+                r
+            })
+            .collect()
+    };
+    let results = match threads {
+        None => work(),
+        Some(0) => return Err(bad_flag("--threads", "0 threads; give at least 1")),
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
+            .install(work),
+    };
+    bar.finish_and_clear();
+    let spectra = results.into_iter().collect::<ladderfan::Result<Vec<_>>>()?;
+    let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
+    eprintln!(
+        "{what}: {} points, {levels} levels, {:.2} s",
+        points.len(),
+        start.elapsed().as_secs_f64()
+    );
+    Ok(spectra)
+}
+
+/// Follow every label across the sweep. Only converged values are kept.
+pub fn track(lm: &LoadedModel, spectra: &[Spectrum], reference: usize) -> Vec<Track> {
+    let mut map: BTreeMap<TrackKey, Track> = BTreeMap::new();
+    let np = spectra.len();
+    for (i, s) in spectra.iter().enumerate() {
+        let ranks = common::ranks(s);
+        for (l, &rank) in s.levels.iter().zip(&ranks) {
+            let key = (l.sector.class, l.sector.label, l.branch, rank);
+            let t = map.entry(key).or_insert_with(|| Track {
+                sector: format!("{}:{}", l.sector.class, l.sector.label),
+                sector_class: l.sector.class,
+                sector_label: l.sector.label,
+                branch: l.branch,
+                rank,
+                orbital: None,
+                component: None,
+                energies: vec![None; np],
+                bounds: vec![None; np],
+            });
+            if l.is_converged() {
+                t.energies[i] = Some(l.energy);
+                t.bounds[i] = Some(l.bound);
+            }
+            if i == reference {
+                t.orbital = Some(l.orbital);
+                t.component = lm.model.component_names().get(l.component).cloned();
+            }
+        }
+    }
+    map.into_values().collect()
+}
+
+/// The energy window: flags if given, else the span of the `count` converged levels closest to
+/// the reference energy at the reference point, padded by 10 %.
+pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
+    let mut near: Vec<f64> = reference.converged().map(|l| l.energy).collect();
+    near.sort_by(|x, y| x.abs().total_cmp(&y.abs()));
+    near.truncate(a.count.max(1));
+    let (lo, hi) = near
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+            (a.min(e), b.max(e))
+        });
+    let (lo, hi) = if lo.is_finite() {
+        let pad = 0.1 * (hi - lo).max(reference.energy_scale);
+        (lo - pad, hi + pad)
+    } else {
+        (-reference.energy_scale, reference.energy_scale)
+    };
+    let lo = match a.emin {
+        Some(v) => common::finite_flag("--emin", v)?,
+        None => lo,
+    };
+    let hi = match a.emax {
+        Some(v) => common::finite_flag("--emax", v)?,
+        None => hi,
+    };
+    if lo >= hi {
+        return Err(bad_flag(
+            "--emin",
+            format!("the energy window [{lo}, {hi}] is empty; give --emin below --emax"),
+        ));
+    }
+    Ok((lo, hi))
+}
+
+/// Keep the tracks that enter the window at some point, and their values within the window
+/// widened by half its width on either side (so curves leave the plot frame cleanly).
+pub fn in_window(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
+    let margin = 0.5 * (hi - lo);
+    tracks
+        .into_iter()
+        .filter(|t| t.energies.iter().flatten().any(|&e| e >= lo && e <= hi))
+        .map(|mut t| {
+            for (e, b) in t.energies.iter_mut().zip(t.bounds.iter_mut()) {
+                if e.is_some_and(|v| v < lo - margin || v > hi + margin) {
+                    *e = None;
+                    *b = None;
+                }
+            }
+            t
+        })
+        .collect()
+}
+
+/// Closed-form overlay curves for the swept points, if the model has a closed form.
+pub fn closed_form_curves(
+    lm: &LoadedModel,
+    points: &[FieldPoint],
+    xs: &[f64],
+    reference_energy: f64,
+    (lo, hi): (f64, f64),
+) -> Option<Vec<Vec<(f64, f64)>>> {
+    let _ = (lm, points, xs, reference_energy, lo, hi);
+    None
+}
+
+/// Everything a sweep produced.
+#[derive(Debug, Serialize)]
+pub struct SweepJson {
+    /// `fan` or `dispersion`.
+    pub command: &'static str,
+    /// The model.
+    pub model: ModelJson,
+    /// Units of every number.
+    pub units: UnitsJson,
+    /// Which quantity is swept.
+    pub swept: Swept,
+    /// Grid spacing.
+    pub grid: common::Grid,
+    /// The swept values.
+    pub values: Vec<f64>,
+    /// The fixed field (dispersion) or null.
+    pub field: Option<f64>,
+    /// The fixed kz (fan) or null.
+    pub kz: Option<f64>,
+    /// Orbital cutoff.
+    pub cutoff: usize,
+    /// Energies are relative to this.
+    pub reference_energy: f64,
+    /// Symmetry found at the reference point.
+    pub symmetry: SymmetryJson,
+    /// Energy window of the listed tracks.
+    pub window: (f64, f64),
+    /// Index of the point that set the labels' orbital/component and the default window.
+    pub reference_point: usize,
+    /// The tracked levels entering the window.
+    pub tracks: Vec<Track>,
+}
+
+/// CSV (long format: one row per point and track) with `#` header lines.
+pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
+    let u = lm.model.units();
+    let (xname, xunit) = match j.swept {
+        Swept::Field => ("field", u.field_unit().to_string()),
+        Swept::Kz => ("kz", format!("1/{}", u.length_unit())),
+    };
+    let fixed = match j.swept {
+        Swept::Field => format!("kz {} 1/{}", j.kz.unwrap_or(0.0), u.length_unit()),
+        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
+    };
+    let header = csv_header(
+        lm,
+        j.command,
+        &[
+            format!(
+                "{fixed}, cutoff {}, {} {} points ({xname} in {xunit})",
+                j.cutoff,
+                j.values.len(),
+                match j.grid {
+                    common::Grid::Linear => "linear",
+                    common::Grid::Log => "log",
+                }
+            ),
+            format!(
+                "energies in {} relative to {}; window [{}, {}] (values kept up to half a window beyond); only converged values",
+                u.energy_unit(),
+                j.reference_energy,
+                j.window.0,
+                j.window.1
+            ),
+            "track label = sector class:J, branch, rank within the sector".into(),
+        ],
+    );
+    let e = u.energy_unit().replace(' ', "");
+    let mut rec = vec![vec![
+        xname.to_string(),
+        "sector".into(),
+        "branch".into(),
+        "rank".into(),
+        format!("energy_{e}"),
+        format!("bound_{e}"),
+    ]];
+    for t in &j.tracks {
+        for (i, x) in j.values.iter().enumerate() {
+            if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
+                rec.push(vec![
+                    format!("{x:e}"),
+                    t.sector.clone(),
+                    t.branch.to_string(),
+                    t.rank.to_string(),
+                    format!("{en:e}"),
+                    format!("{b:e}"),
+                ]);
+            }
+        }
+    }
+    csv_text(&header, &rec)
+}
+
+/// The SVG plot of the tracks, with the closed form dashed when given.
+pub fn svg(
+    lm: &LoadedModel,
+    j: &SweepJson,
+    closed: Option<&[Vec<(f64, f64)>]>,
+) -> CliResult<String> {
+    let u = lm.model.units();
+    let x_label = match j.swept {
+        Swept::Field => format!("B [{}]", u.field_unit()),
+        Swept::Kz => format!("kz [1/{}]", u.length_unit()),
+    };
+    let mut curves: Vec<Curve> = j
+        .tracks
+        .iter()
+        .map(|t| Curve {
+            color_key: (t.sector_label.unsigned_abs() as usize) * 3 + t.sector_class,
+            stroke: Stroke::Solid,
+            points: j
+                .values
+                .iter()
+                .zip(&t.energies)
+                .map(|(&x, e)| (x, e.unwrap_or(f64::NAN)))
+                .collect(),
+        })
+        .collect();
+    let mut notes = vec![format!(
+        "{} ({}), cutoff {}; colour: sector",
+        lm.model.name(),
+        lm.origin,
+        j.cutoff
+    )];
+    if let Some(cf) = closed {
+        for c in cf {
+            curves.push(Curve {
+                color_key: 0,
+                stroke: Stroke::Dashed,
+                points: c.clone(),
+            });
+        }
+        notes.push("dashed: closed form".into());
+    }
+    let reference = if j.reference_energy != 0.0 {
+        format!(" - {}", fmt_num(j.reference_energy, 6))
+    } else {
+        String::new()
+    };
+    let title = match j.swept {
+        Swept::Field => format!("Landau fan: {}", lm.model.name()),
+        Swept::Kz => format!(
+            "Dispersion at {} {}: {}",
+            j.field.unwrap_or(0.0),
+            u.field_unit(),
+            lm.model.name()
+        ),
+    };
+    Ok(ladderfan::plot::line_plot(&LinePlot {
+        title,
+        x_label,
+        y_label: format!("E{reference} [{}]", u.energy_unit()),
+        curves,
+        y_range: Some(j.window),
+        notes,
+    })?)
+}
+
+/// Human-readable summary: the tracks at the reference point.
+pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
+    let u = lm.model.units();
+    let mut s = format!(
+        "model: {} ({}), cutoff {}, {} points from {} to {} ({})\n",
+        lm.model.name(),
+        lm.origin,
+        j.cutoff,
+        j.values.len(),
+        j.values.first().copied().unwrap_or(0.0),
+        j.values.last().copied().unwrap_or(0.0),
+        match j.swept {
+            Swept::Field => u.field_unit().to_string(),
+            Swept::Kz => format!("1/{}", u.length_unit()),
+        }
+    );
+    s.push_str(&format!(
+        "symmetry: {}\n{} tracked levels in the window [{}, {}] {}\n",
+        j.symmetry.description,
+        j.tracks.len(),
+        fmt_num(j.window.0, 6),
+        fmt_num(j.window.1, 6),
+        u.energy_unit()
+    ));
+    let x_ref = j.values[j.reference_point];
+    let mut rows = vec![vec![
+        "sector".to_string(),
+        "branch".into(),
+        "rank".into(),
+        "n".into(),
+        format!("E at {} [{}]", fmt_num(x_ref, 6), u.energy_unit()),
+        format!("E min [{}]", u.energy_unit()),
+        format!("E max [{}]", u.energy_unit()),
+    ]];
+    let mut tracks: Vec<&Track> = j.tracks.iter().collect();
+    tracks.sort_by(|a, b| {
+        let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        ea.total_cmp(&eb)
+    });
+    const MAX_ROWS: usize = 40;
+    for t in tracks.iter().take(MAX_ROWS) {
+        let (lo, hi) = t
+            .energies
+            .iter()
+            .flatten()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+                (a.min(e), b.max(e))
+            });
+        rows.push(vec![
+            t.sector.clone(),
+            format!("{:+}", t.branch),
+            t.rank.to_string(),
+            t.orbital.map(|n| n.to_string()).unwrap_or_default(),
+            t.energies[j.reference_point]
+                .map(|e| fmt_num(e, 8))
+                .unwrap_or_else(|| "-".into()),
+            fmt_num(lo, 8),
+            fmt_num(hi, 8),
+        ]);
+    }
+    s.push('\n');
+    s.push_str(&common::table(&rows));
+    if tracks.len() > MAX_ROWS {
+        s.push_str(&format!(
+            "... {} more (see --json or --out)\n",
+            tracks.len() - MAX_ROWS
+        ));
+    }
+    s
+}
+
+/// A sweep to run: the swept values and the field points they map to.
+#[derive(Debug, Clone)]
+pub struct Plan {
+    /// `fan` or `dispersion`.
+    pub command: &'static str,
+    /// What is swept.
+    pub swept: Swept,
+    /// Swept values.
+    pub values: Vec<f64>,
+    /// Points, one per value.
+    pub points: Vec<FieldPoint>,
+    /// Index of the reference point (labels and default window).
+    pub reference_point: usize,
+    /// Cutoff and memory limit.
+    pub cutoff: usize,
+    /// Memory limit, MiB.
+    pub memory_limit_mib: u64,
+}
+
+/// A finished sweep: JSON view and closed-form overlay.
+#[derive(Debug)]
+pub struct Outcome {
+    /// The result.
+    pub json: SweepJson,
+    /// Closed-form curves, if the model has a closed form.
+    pub closed: Option<Vec<Vec<(f64, f64)>>>,
+}
+
+/// Solve, track and select.
+pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
+    let mut settings = Settings::with_cutoff(plan.cutoff);
+    settings.memory_limit_mib = plan.memory_limit_mib;
+    let spectra = solve_points(lm, &plan.points, &settings, plan.command, a.threads)?;
+    let reference = &spectra[plan.reference_point];
+    let win = window(a, reference)?;
+    let tracks = in_window(track(lm, &spectra, plan.reference_point), win);
+    let closed = closed_form_curves(
+        lm,
+        &plan.points,
+        &plan.values,
+        reference.reference_energy,
+        win,
+    );
+    let json = SweepJson {
+        command: plan.command,
+        model: ModelJson::new(lm),
+        units: UnitsJson::new(&lm.model),
+        swept: plan.swept,
+        grid: a.grid,
+        values: plan.values.clone(),
+        field: match plan.swept {
+            Swept::Kz => Some(plan.points[0].field),
+            Swept::Field => None,
+        },
+        kz: match plan.swept {
+            Swept::Field => Some(plan.points[0].kz),
+            Swept::Kz => None,
+        },
+        cutoff: plan.cutoff,
+        reference_energy: reference.reference_energy,
+        symmetry: SymmetryJson::new(reference),
+        window: win,
+        reference_point: plan.reference_point,
+        tracks,
+    };
+    Ok(Outcome { json, closed })
+}
+
+/// Write the files (if `--out`) and print the result.
+pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+    let mut written = Vec::new();
+    if let Some(dir) = &output.out {
+        let mut files = common::OutputFiles::default();
+        files.add(&format!("{stem}.csv"), csv(lm, &o.json)?);
+        files.add(
+            &format!("{stem}.svg"),
+            svg(lm, &o.json, o.closed.as_deref())?,
+        );
+        written = files.write_all(dir)?;
+    }
+    if output.json {
+        common::emit_json(&o.json)
+    } else {
+        let mut text = summary(lm, &o.json);
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+        common::emit(&text)
+    }
+}

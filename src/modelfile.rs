@@ -1,0 +1,1564 @@
+//! Model files: a TOML description of a model (ours; the key names are documented in
+//! `docs/modelfile.md`), turned into a validated [`Model`].
+//!
+//! A file either describes a model term by term:
+//!
+//! ```toml
+//! name = "invented-film"
+//! components = 2
+//! charge = -1
+//! units = "lab"
+//!
+//! [parameters]
+//! hv = 276.4      # hbar v in meV nm (invented)
+//! half_gap = 12   # meV (invented)
+//!
+//! [[term]]
+//! coefficient = "hv"
+//! matrix = "x"
+//! monomial = "kx"
+//!
+//! [[term]]
+//! coefficient = "hv"
+//! matrix = "y"
+//! monomial = "ky"
+//!
+//! [[term]]
+//! coefficient = "half_gap"
+//! matrix = "z"
+//! monomial = "1"
+//! ```
+//!
+//! or refers to a built-in model by name with overrides (`builtin = "dirac2d"` and a `[set]`
+//! table). Every problem is reported as one [`Error::Parse`] whose location is
+//! `file:line:column` and whose message says what to fix.
+//!
+//! # Examples
+//! ```
+//! let text = "components = 1\n[[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"kx^2\"\n\
+//!             [[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"ky^2\"\n";
+//! let file = ladderfan::modelfile::parse("m.toml", text).unwrap();
+//! assert_eq!(file.model.dim(), 1);
+//! assert_eq!(file.model.band(), 2);
+//! ```
+
+use crate::builtin;
+use crate::error::{Error, Result};
+use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
+use crate::matrix::{self, SpinMatrix};
+use crate::model::{Model, Monomial};
+use crate::sectors::{SectorPlan, Symmetry};
+use crate::units::{Units, ELECTRON_REST_ENERGY_MEV, HBAR2_OVER_2ME_MEV_NM2, HBAR_C_MEV_NM};
+use num_complex::Complex64;
+use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::ops::Range;
+use toml::Spanned;
+
+/// Default orbital cutoff when neither the file nor the command line gives one.
+pub const DEFAULT_CUTOFF: usize = 200;
+/// Default memory limit in MiB for one dense sector.
+pub const DEFAULT_MEMORY_LIMIT_MIB: u64 = 4096;
+
+/// Solve defaults a file may carry (`[defaults]` table); command-line flags override them.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct FileDefaults {
+    /// Magnetic field in the model's field unit.
+    pub field: Option<f64>,
+    /// kz in the model's inverse length unit.
+    pub kz: Option<f64>,
+    /// Orbital cutoff.
+    pub cutoff: Option<usize>,
+    /// Memory limit in MiB.
+    pub memory_limit_mib: Option<u64>,
+}
+
+/// A parsed and validated model file.
+#[derive(Debug, Clone)]
+pub struct ModelFile {
+    /// The model.
+    pub model: Model,
+    /// Solve defaults from the `[defaults]` table.
+    pub defaults: FileDefaults,
+    /// Free-text description (`description` key), if any.
+    pub description: Option<String>,
+    /// The built-in the file refers to, if any.
+    pub builtin: Option<String>,
+}
+
+/// Where a problem sits: a file with its source text, for `file:line:column` locations.
+#[derive(Debug, Clone, Copy)]
+pub struct Source<'a> {
+    /// File name as shown to the user.
+    pub name: &'a str,
+    /// Full text.
+    pub text: &'a str,
+}
+
+impl Source<'_> {
+    /// `file:line:column` (1-based) of a byte offset.
+    pub fn location(&self, offset: usize) -> String {
+        let offset = offset.min(self.text.len());
+        let before = self.text.get(..offset).unwrap_or(self.text);
+        let line = before.matches('\n').count() + 1;
+        let col = before
+            .rsplit('\n')
+            .next()
+            .map(|s| s.chars().count())
+            .unwrap_or(0)
+            + 1;
+        format!("{}:{line}:{col}", self.name)
+    }
+
+    fn err(&self, span: &Range<usize>, message: impl Into<String>) -> Error {
+        Error::Parse {
+            location: self.location(span.start),
+            message: message.into(),
+        }
+    }
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFile {
+    name: Option<Spanned<String>>,
+    description: Option<String>,
+    builtin: Option<Spanned<String>>,
+    set: Option<Spanned<BTreeMap<Spanned<String>, Spanned<toml::Value>>>>,
+    components: Option<Spanned<i64>>,
+    charge: Option<Spanned<toml::Value>>,
+    units: Option<Spanned<String>>,
+    component_names: Option<Spanned<Vec<String>>>,
+    degeneracy: Option<Spanned<i64>>,
+    reference_energy: Option<Spanned<toml::Value>>,
+    parameters: Option<BTreeMap<Spanned<String>, Spanned<toml::Value>>>,
+    term: Option<Vec<Spanned<RawTerm>>>,
+    defaults: Option<Spanned<RawDefaults>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawTerm {
+    label: Option<String>,
+    coefficient: Spanned<toml::Value>,
+    matrix: Spanned<toml::Value>,
+    monomial: Spanned<String>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawDefaults {
+    field: Option<Spanned<toml::Value>>,
+    kz: Option<Spanned<toml::Value>>,
+    cutoff: Option<Spanned<i64>>,
+    memory_limit_mib: Option<Spanned<i64>>,
+}
+
+/// Read and parse a model file from disk.
+///
+/// # Errors
+/// [`Error::Io`] when the file cannot be read; otherwise as [`parse`].
+pub fn load(path: &std::path::Path) -> Result<ModelFile> {
+    let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
+        action: "read model file".into(),
+        path: path.display().to_string(),
+        source,
+    })?;
+    parse(&path.display().to_string(), &text)
+}
+
+/// Parse and validate a model file's text. `name` is used in error locations.
+///
+/// # Errors
+/// [`Error::Parse`] (location `name:line:column`) for TOML syntax errors, unknown keys, a
+/// missing key, a wrong matrix shape, an unknown Pauli factor, an unknown parameter or function
+/// in an expression, a non-finite number, a zero field or a cutoff that is below the band of
+/// the model or above the memory limit in `[defaults]`, a non-Hermitian sum of terms (the
+/// message names the monomial and the terms) and any other model inconsistency.
+pub fn parse(name: &str, text: &str) -> Result<ModelFile> {
+    parse_with_overrides(name, text, &[])
+}
+
+/// [`parse`] with parameter overrides `(name, value expression)` as given by `--set`: for a
+/// `builtin = ...` file they act as extra `[set]` entries, for a term file they replace
+/// `[parameters]` entries (which must exist). Locations in the file are kept.
+///
+/// # Errors
+/// As [`parse`]; an override naming no parameter or failing to evaluate is an
+/// [`Error::Parse`] located at `--set NAME`.
+pub fn parse_with_overrides(
+    name: &str,
+    text: &str,
+    overrides: &[(String, String)],
+) -> Result<ModelFile> {
+    let src = Source { name, text };
+    let raw: RawFile = toml::from_str(text).map_err(|e| {
+        let location = match e.span() {
+            Some(s) => src.location(s.start),
+            None => name.to_string(),
+        };
+        Error::Parse {
+            location,
+            message: toml_message(e.message()),
+        }
+    })?;
+    let model = match &raw.builtin {
+        Some(b) => from_builtin(&src, &raw, b, overrides)?,
+        None => from_terms(&src, &raw, overrides)?,
+    };
+    let defaults = read_defaults(&src, &raw, &model)?;
+    Ok(ModelFile {
+        model,
+        defaults,
+        description: raw.description.clone(),
+        builtin: raw.builtin.as_ref().map(|b| b.get_ref().clone()),
+    })
+}
+
+fn toml_message(m: &str) -> String {
+    let one_line = m.split_whitespace().collect::<Vec<_>>().join(" ");
+    if one_line.starts_with("unknown field") {
+        format!("{one_line}; remove or rename the key (see docs/modelfile.md)")
+    } else if one_line.starts_with("missing field") {
+        format!("{one_line}; add the key")
+    } else if one_line.starts_with("invalid type") {
+        let fixed = one_line
+            .replace("expected i64", "expected an integer")
+            .replace("expected f64", "expected a number")
+            .replace("expected a string", "expected a quoted string");
+        format!("{fixed}; change the value's type")
+    } else {
+        format!("TOML syntax: {one_line}")
+    }
+}
+
+fn from_builtin(
+    src: &Source,
+    raw: &RawFile,
+    b: &Spanned<String>,
+    overrides: &[(String, String)],
+) -> Result<Model> {
+    // a built-in brings its own terms; term-level keys would be silently ignored, so refuse them
+    let conflicts: [(&str, Option<Range<usize>>); 7] = [
+        ("components", raw.components.as_ref().map(|s| s.span())),
+        ("charge", raw.charge.as_ref().map(|s| s.span())),
+        ("units", raw.units.as_ref().map(|s| s.span())),
+        (
+            "component_names",
+            raw.component_names.as_ref().map(|s| s.span()),
+        ),
+        ("degeneracy", raw.degeneracy.as_ref().map(|s| s.span())),
+        (
+            "reference_energy",
+            raw.reference_energy.as_ref().map(|s| s.span()),
+        ),
+        (
+            "term",
+            raw.term.as_ref().and_then(|t| t.first().map(|x| x.span())),
+        ),
+    ];
+    if let Some(n) = &raw.name {
+        return Err(src.err(
+            &n.span(),
+            format!(
+                "key 'name' cannot be combined with builtin = \"{}\": a built-in keeps its name \
+                 (its closed form is found by it); remove the key or put it in 'description'",
+                b.get_ref()
+            ),
+        ));
+    }
+    for (key, span) in conflicts {
+        if let Some(span) = span {
+            return Err(src.err(
+                &span,
+                format!(
+                    "key '{key}' cannot be combined with builtin = \"{}\"; change the built-in's \
+                     parameters in [set] instead, or describe the whole model with [[term]]",
+                    b.get_ref()
+                ),
+            ));
+        }
+    }
+    if let Some(p) = raw.parameters.as_ref().and_then(|p| p.keys().next()) {
+        return Err(src.err(
+            &p.span(),
+            "[parameters] belongs to a model described by [[term]]; with builtin = ... put \
+             overrides in [set]",
+        ));
+    }
+    let info = builtin_info(b.get_ref()).ok_or_else(|| {
+        src.err(
+            &b.span(),
+            format!(
+                "unknown built-in model '{}'; choose one of {}",
+                b.get_ref(),
+                builtin_names().join(", ")
+            ),
+        )
+    })?;
+    let mut values = BTreeMap::new();
+    if let Some(set) = &raw.set {
+        let ctx = ExprContext::new(Units::Lab, BTreeMap::new());
+        for (k, v) in set.get_ref() {
+            if !info.params.iter().any(|p| p.name == k.get_ref()) {
+                return Err(src.err(
+                    &k.span(),
+                    format!(
+                        "built-in '{}' has no parameter '{}'; its parameters are {}",
+                        info.name,
+                        k.get_ref(),
+                        info.params
+                            .iter()
+                            .map(|p| p.name)
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                ));
+            }
+            let x = real_value(src, v, &ctx, &format!("[set] {}", k.get_ref()))?;
+            values.insert(k.get_ref().clone(), x);
+        }
+    }
+    for (k, v) in overrides {
+        let loc = format!("--set {k}");
+        if !info.params.iter().any(|p| p.name == k) {
+            return Err(Error::Parse {
+                location: loc,
+                message: format!(
+                    "built-in '{}' has no parameter '{k}'; its parameters are {}",
+                    info.name,
+                    info.params
+                        .iter()
+                        .map(|p| p.name)
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            });
+        }
+        let x = eval_expression(v, info.units, &BTreeMap::new(), &loc)?;
+        values.insert(k.clone(), x);
+    }
+    (info.build)(&values).map_err(|e| {
+        // point at the [set] entry a range error names, else at the built-in's name
+        let span = match &e {
+            Error::BadNumber { name, .. } => raw
+                .set
+                .as_ref()
+                .and_then(|set| {
+                    set.get_ref()
+                        .iter()
+                        .find(|(k, _)| k.get_ref() == name)
+                        .map(|(_, v)| v.span())
+                })
+                .unwrap_or_else(|| b.span()),
+            _ => b.span(),
+        };
+        src.err(&span, format!("built-in '{}': {e}", info.name))
+    })
+}
+
+fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Result<Model> {
+    if let Some(set) = &raw.set {
+        return Err(src.err(
+            &set.span(),
+            "[set] overrides the parameters of a built-in; add builtin = \"NAME\" or move the \
+             values to [parameters]",
+        ));
+    }
+    let whole = 0..0;
+    let comps = raw.components.as_ref().ok_or_else(|| {
+        src.err(
+            &whole,
+            "missing key 'components' (number of spinor components); add e.g. components = 2, \
+             or refer to a built-in with builtin = \"NAME\"",
+        )
+    })?;
+    let d = *comps.get_ref();
+    if !(1..=64).contains(&d) {
+        return Err(src.err(
+            &comps.span(),
+            format!("components = {d}; give a number of spinor components between 1 and 64"),
+        ));
+    }
+    let d = d as usize;
+    let units = match &raw.units {
+        None => Units::Lab,
+        Some(u) => match u.get_ref().as_str() {
+            "lab" => Units::Lab,
+            "natural" => Units::Natural,
+            other => {
+                return Err(src.err(
+                    &u.span(),
+                    format!(
+                        "units = \"{other}\" is unknown; use \"lab\" (meV, nm, T) or \"natural\" \
+                         (m c^2, hbar/(m c), B_c)"
+                    ),
+                ))
+            }
+        },
+    };
+    // parameters: numbers or expressions of other parameters, resolved in dependency order
+    let mut pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
+        raw.parameters.iter().flat_map(|p| p.iter()).collect();
+    let mut ctx = ExprContext::new(units, BTreeMap::new());
+    for (k, _) in &pending {
+        let key = k.get_ref();
+        if !is_identifier(key) {
+            return Err(src.err(
+                &k.span(),
+                format!(
+                    "parameter name '{key}' is not an identifier; use letters, digits and _ \
+                     (not starting with a digit)"
+                ),
+            ));
+        }
+        if ctx.constant(key).is_some() || FUNCTIONS.contains(&key.as_str()) {
+            return Err(src.err(
+                &k.span(),
+                format!("parameter name '{key}' is a built-in constant or function; rename it"),
+            ));
+        }
+    }
+    for (k, _) in overrides {
+        if !pending.iter().any(|(p, _)| p.get_ref() == k) {
+            return Err(Error::Parse {
+                location: format!("--set {k}"),
+                message: format!(
+                    "{} has no parameter '{k}' in [parameters]; its parameters are {}",
+                    src.name,
+                    pending
+                        .iter()
+                        .map(|(p, _)| p.get_ref().as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            });
+        }
+    }
+    while !pending.is_empty() {
+        let before = pending.len();
+        let mut still = Vec::new();
+        let mut last_err = None;
+        for (k, v) in pending {
+            let value = match overrides.iter().find(|(o, _)| o == k.get_ref()) {
+                Some((o, expr)) => eval_expression(expr, units, &ctx.params, &format!("--set {o}")),
+                None => real_value(src, v, &ctx, &format!("parameter {}", k.get_ref())),
+            };
+            match value {
+                Ok(x) => {
+                    ctx.params.insert(k.get_ref().clone(), x);
+                }
+                Err(e) => {
+                    last_err = Some(e);
+                    still.push((k, v));
+                }
+            }
+        }
+        if still.len() == before {
+            // nothing resolved this round: a cycle if an expression names another pending
+            // parameter, else the first failure (an unknown name, a syntax error)
+            let names: Vec<&str> = still.iter().map(|(k, _)| k.get_ref().as_str()).collect();
+            let cyclic = still.iter().find(|(_, v)| match v.get_ref() {
+                toml::Value::String(e) => tokenize(e).is_ok_and(|t| {
+                    t.iter()
+                        .any(|x| matches!(x, Tok::Ident(n) if names.contains(&n.as_str())))
+                }),
+                _ => false,
+            });
+            if let Some((k, _)) = cyclic {
+                return Err(src.err(
+                    &k.span(),
+                    format!(
+                        "parameters {} refer to each other in a cycle; give one of them a number",
+                        names.join(", ")
+                    ),
+                ));
+            }
+            return Err(last_err.unwrap_or_else(|| src.err(&whole, "unresolvable parameters")));
+        }
+        pending = still;
+    }
+    let charge = match &raw.charge {
+        None => -1.0,
+        Some(c) => {
+            let q = real_value(src, c, &ctx, "charge")?;
+            if q == 0.0 {
+                return Err(src.err(
+                    &c.span(),
+                    "charge = 0: a neutral carrier has no Landau levels; use -1 (electron) or +1 \
+                     (hole, positron), in units of e",
+                ));
+            }
+            q
+        }
+    };
+    let name = raw
+        .name
+        .as_ref()
+        .map(|n| n.get_ref().clone())
+        .unwrap_or_else(|| {
+            std::path::Path::new(src.name)
+                .file_stem()
+                .map(|s| s.to_string_lossy().into_owned())
+                .unwrap_or_else(|| "model".into())
+        });
+    let mut b = Model::builder(&name, d).charge(charge).units(units);
+    for (k, v) in &ctx.params {
+        b = b.param(k, *v);
+    }
+    if let Some(names) = &raw.component_names {
+        if names.get_ref().len() != d {
+            return Err(src.err(
+                &names.span(),
+                format!(
+                    "component_names has {} names for {d} components; give one name per component",
+                    names.get_ref().len()
+                ),
+            ));
+        }
+        let refs: Vec<&str> = names.get_ref().iter().map(String::as_str).collect();
+        b = b.component_names(&refs);
+    }
+    if let Some(g) = &raw.degeneracy {
+        let g0 = *g.get_ref();
+        if !(1..=u32::MAX as i64).contains(&g0) {
+            return Err(src.err(
+                &g.span(),
+                format!("degeneracy = {g0}; give a positive integer (1 unless spin or valley copies are not among the components)"),
+            ));
+        }
+        b = b.degeneracy(g0 as u32);
+    }
+    if let Some(r) = &raw.reference_energy {
+        b = b.reference_energy(real_value(src, r, &ctx, "reference_energy")?);
+    }
+    let terms = raw.term.as_deref().unwrap_or(&[]);
+    if terms.is_empty() {
+        return Err(src.err(
+            &whole,
+            "the model has no [[term]] tables; add at least one term with coefficient, matrix and monomial",
+        ));
+    }
+    for (i, t) in terms.iter().enumerate() {
+        let tr = t.get_ref();
+        let label = tr
+            .label
+            .clone()
+            .unwrap_or_else(|| format!("term {}", i + 1));
+        let coef = complex_value(
+            src,
+            &tr.coefficient,
+            &ctx,
+            &format!("coefficient of {label}"),
+        )?;
+        let m = matrix_value(src, &tr.matrix, &ctx, &label)?;
+        if m.nrows() != d {
+            return Err(src.err(
+                &tr.matrix.span(),
+                format!(
+                    "matrix of {label} is {}x{} but the model has {d} components; give a {d}x{d} \
+                     matrix{}",
+                    m.nrows(),
+                    m.ncols(),
+                    if d.is_power_of_two() {
+                        format!(" (a Pauli string of {} factors)", d.ilog2())
+                    } else {
+                        String::new()
+                    }
+                ),
+            ));
+        }
+        let mono = parse_monomial(tr.monomial.get_ref())
+            .map_err(|msg| src.err(&tr.monomial.span(), format!("monomial of {label}: {msg}")))?;
+        if mono.inplane_degree() > crate::model::MAX_INPLANE_DEGREE {
+            return Err(src.err(
+                &tr.monomial.span(),
+                format!(
+                    "monomial of {label} has in-plane degree {}; keep kx + ky powers at or below {}",
+                    mono.inplane_degree(),
+                    crate::model::MAX_INPLANE_DEGREE
+                ),
+            ));
+        }
+        b = b.term_complex(&label, coef, m, mono);
+    }
+    b.build().map_err(|e| {
+        // point at the first term the message names, else at the first term
+        let msg = e.to_string();
+        let span = match &e {
+            Error::NotHermitian { terms: names, .. } => terms
+                .iter()
+                .enumerate()
+                .find(|(i, t)| {
+                    let l = t
+                        .get_ref()
+                        .label
+                        .clone()
+                        .unwrap_or_else(|| format!("term {}", i + 1));
+                    names.split(", ").any(|n| n == l)
+                })
+                .map(|(_, t)| t.span()),
+            _ => None,
+        }
+        .unwrap_or_else(|| terms[0].span());
+        src.err(&span, msg)
+    })
+}
+
+fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefaults> {
+    let mut out = FileDefaults::default();
+    let Some(d) = &raw.defaults else {
+        return Ok(out);
+    };
+    let d = d.get_ref();
+    let ctx = ExprContext::new(model.units(), model.params().clone());
+    if let Some(f) = &d.field {
+        let b = real_value(src, f, &ctx, "[defaults] field")?;
+        if b == 0.0 {
+            return Err(src.err(
+                &f.span(),
+                "field = 0: Landau levels need a non-zero magnetic field; give e.g. field = 1",
+            ));
+        }
+        out.field = Some(b);
+    }
+    if let Some(k) = &d.kz {
+        out.kz = Some(real_value(src, k, &ctx, "[defaults] kz")?);
+    }
+    if let Some(m) = &d.memory_limit_mib {
+        let v = *m.get_ref();
+        if v < 1 {
+            return Err(src.err(
+                &m.span(),
+                format!("memory_limit_mib = {v}; give a positive number of MiB"),
+            ));
+        }
+        out.memory_limit_mib = Some(v as u64);
+    }
+    if let Some(c) = &d.cutoff {
+        let v = *c.get_ref();
+        if v < 1 {
+            return Err(src.err(
+                &c.span(),
+                format!("cutoff = {v}; give a positive number of orbitals"),
+            ));
+        }
+        let v = v as usize;
+        check_cutoff(
+            model,
+            v,
+            out.field.unwrap_or(1.0),
+            out.memory_limit_mib.unwrap_or(DEFAULT_MEMORY_LIMIT_MIB),
+        )
+        .map_err(|e| src.err(&c.span(), e.to_string()))?;
+        out.cutoff = Some(v);
+    }
+    Ok(out)
+}
+
+/// Check that `cutoff` suits `model`: at least band + 1 orbitals (the solver's minimum: every
+/// term must fit inside the truncated basis) and a largest dense sector within
+/// `memory_limit_mib` (estimated as in the solver: 3 complex s x s matrices).
+///
+/// # Errors
+/// [`Error::CutoffTooSmall`], [`Error::MemoryLimit`]; [`Error::ZeroField`] for a zero field.
+pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: u64) -> Result<()> {
+    let needed = model.band() + 1;
+    if cutoff < needed {
+        return Err(Error::CutoffTooSmall {
+            cutoff,
+            needed,
+            why: format!(
+                "for a model whose terms reach in-plane degree {} (ladder power {})",
+                model.band(),
+                model.band()
+            ),
+        });
+    }
+    let mib = memory_estimate_mib(model, cutoff, field)?;
+    if mib > memory_limit_mib {
+        return Err(Error::MemoryLimit {
+            what: format!("a solve at cutoff {cutoff} (largest dense sector plus the levels)"),
+            needed_mib: mib,
+            limit_mib: memory_limit_mib,
+        });
+    }
+    Ok(())
+}
+
+/// Memory in MiB the solver needs at `cutoff`: the largest dense sector after splitting by the
+/// conserved quantity found at `field` (3 complex s x s matrices of 16 bytes per entry) plus the
+/// N d levels of the result (labels, bound and d weights each).
+///
+/// # Errors
+/// [`Error::ZeroField`] for a zero or non-finite field.
+pub fn memory_estimate_mib(model: &Model, cutoff: usize, field: f64) -> Result<u64> {
+    let h = LadderHamiltonian::assemble(model, FieldPoint { field, kz: 0.0 }, 0.0)?;
+    let plan = SectorPlan::new(Symmetry::detect(&h), cutoff);
+    let mut buf = Vec::new();
+    let largest = plan
+        .sectors()
+        .into_iter()
+        .map(|id| {
+            plan.states(id, &mut buf);
+            buf.len() as u64
+        })
+        .max()
+        .unwrap_or(model.dim() as u64);
+    let d = model.dim() as u64;
+    // the result holds every level: ~96 bytes of labels and bounds plus d weights each
+    let levels = (cutoff as u64).saturating_mul(d).saturating_mul(96 + 8 * d);
+    Ok(largest
+        .saturating_mul(largest)
+        .saturating_mul(48)
+        .saturating_add(levels)
+        / (1 << 20))
+}
+
+fn is_identifier(s: &str) -> bool {
+    let mut c = s.chars();
+    matches!(c.next(), Some(ch) if ch.is_ascii_alphabetic() || ch == '_')
+        && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
+}
+
+fn real_value(
+    src: &Source,
+    v: &Spanned<toml::Value>,
+    ctx: &ExprContext,
+    what: &str,
+) -> Result<f64> {
+    let x = scalar(src, v.get_ref(), &v.span(), ctx, what)?;
+    Ok(x)
+}
+
+fn scalar(
+    src: &Source,
+    v: &toml::Value,
+    span: &Range<usize>,
+    ctx: &ExprContext,
+    what: &str,
+) -> Result<f64> {
+    let x = match v {
+        toml::Value::Integer(i) => *i as f64,
+        toml::Value::Float(f) => *f,
+        toml::Value::String(s) => ctx
+            .eval(s)
+            .map_err(|m| src.err(span, format!("{what}: in \"{s}\": {m}")))?,
+        other => {
+            return Err(src.err(
+                span,
+                format!(
+                "{what} is a {}; give a number or an expression string such as \"0.5 * g * mu_B\"",
+                other.type_str()
+            ),
+            ))
+        }
+    };
+    if !x.is_finite() {
+        return Err(src.err(
+            span,
+            format!("{what} is {x}, not a finite number; give a finite value"),
+        ));
+    }
+    Ok(x)
+}
+
+fn complex_scalar(
+    src: &Source,
+    v: &toml::Value,
+    span: &Range<usize>,
+    ctx: &ExprContext,
+    what: &str,
+) -> Result<Complex64> {
+    match v {
+        toml::Value::Array(a) => {
+            if a.len() != 2 {
+                return Err(src.err(
+                    span,
+                    format!(
+                        "{what}: a complex number is written [re, im]; this array has {} entries",
+                        a.len()
+                    ),
+                ));
+            }
+            Ok(Complex64::new(
+                scalar(src, &a[0], span, ctx, what)?,
+                scalar(src, &a[1], span, ctx, what)?,
+            ))
+        }
+        _ => Ok(Complex64::new(scalar(src, v, span, ctx, what)?, 0.0)),
+    }
+}
+
+fn complex_value(
+    src: &Source,
+    v: &Spanned<toml::Value>,
+    ctx: &ExprContext,
+    what: &str,
+) -> Result<Complex64> {
+    complex_scalar(src, v.get_ref(), &v.span(), ctx, what)
+}
+
+fn matrix_value(
+    src: &Source,
+    v: &Spanned<toml::Value>,
+    ctx: &ExprContext,
+    label: &str,
+) -> Result<SpinMatrix> {
+    let span = v.span();
+    match v.get_ref() {
+        toml::Value::String(s) => {
+            matrix::pauli(s).map_err(|e| src.err(&span, format!("matrix of {label}: {e}")))
+        }
+        toml::Value::Array(rows) => {
+            let mut out: Vec<Vec<Complex64>> = Vec::new();
+            for (r, row) in rows.iter().enumerate() {
+                let toml::Value::Array(entries) = row else {
+                    return Err(src.err(
+                        &span,
+                        format!(
+                            "matrix of {label}: row {} is not an array; write rows as [[a, b], [c, d]] \
+                             with complex entries as [re, im]",
+                            r + 1
+                        ),
+                    ));
+                };
+                let mut out_row = Vec::new();
+                for (c, e) in entries.iter().enumerate() {
+                    out_row.push(complex_scalar(
+                        src,
+                        e,
+                        &span,
+                        ctx,
+                        &format!("matrix of {label}, entry ({}, {})", r + 1, c + 1),
+                    )?);
+                }
+                out.push(out_row);
+            }
+            let n = out.len();
+            if n == 0 || out.iter().any(|r| r.len() != n) {
+                return Err(src.err(
+                    &span,
+                    format!(
+                        "matrix of {label} is not square (rows of lengths {:?}); give as many \
+                         entries in each row as there are rows",
+                        out.iter().map(Vec::len).collect::<Vec<_>>()
+                    ),
+                ));
+            }
+            matrix::from_rows(&out).map_err(|e| src.err(&span, e.to_string()))
+        }
+        other => Err(src.err(
+            &span,
+            format!(
+                "matrix of {label} is a {}; give a Pauli string such as \"x⊗z\" or explicit rows",
+                other.type_str()
+            ),
+        )),
+    }
+}
+
+/// Parse a monomial such as `"1"`, `"kx"`, `"kx^2 ky"`, `"kx*ky"`, `"kz^2"`, `"B"` or `"kz B"`.
+///
+/// # Errors
+/// A message naming the unknown factor or bad power.
+///
+/// # Examples
+/// ```
+/// use ladderfan::modelfile::parse_monomial;
+/// let m = parse_monomial("kx^2 * ky B").unwrap();
+/// assert_eq!((m.kx, m.ky, m.kz, m.field), (2, 1, 0, 1));
+/// ```
+pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
+    let mut m = Monomial::ONE;
+    let mut any = false;
+    for f in s.split(|c: char| c.is_whitespace() || c == '*' || c == '·') {
+        if f.is_empty() {
+            continue;
+        }
+        any = true;
+        if f == "1" {
+            continue;
+        }
+        let (base, pow) = match f.split_once('^') {
+            Some((b, p)) => (
+                b,
+                p.parse::<u32>().map_err(|_| {
+                    format!("power '{p}' in '{f}' is not a non-negative integer; write e.g. kx^2")
+                })?,
+            ),
+            None => (f, 1),
+        };
+        let slot = match base {
+            "kx" => &mut m.kx,
+            "ky" => &mut m.ky,
+            "kz" => &mut m.kz,
+            "B" => &mut m.field,
+            _ => {
+                return Err(format!(
+                    "unknown factor '{base}'; use kx, ky, kz and B with integer powers, or \"1\""
+                ))
+            }
+        };
+        *slot += pow;
+    }
+    if !any {
+        return Err("empty monomial; write \"1\" for a constant term".into());
+    }
+    if m.field > 1 {
+        return Err(format!(
+            "B^{}: terms may be at most linear in the field B",
+            m.field
+        ));
+    }
+    Ok(m)
+}
+
+/// Functions an expression may call.
+pub const FUNCTIONS: [&str; 8] = ["sqrt", "abs", "exp", "ln", "sin", "cos", "tan", "hbar_v"];
+
+/// Names, values and meanings of the constants available in expressions, for `units`.
+///
+/// `mu_B` is the Bohr magneton (meV/T, or 1/2 in natural units), `hbar2_2me` is
+/// hbar^2/(2 m_e) (meV nm^2, or 1/2), `hbar_c` is hbar c (meV nm, or 1), `me_c2` is the
+/// electron rest energy (meV, or 1); all from CODATA 2018 via [`crate::units`].
+pub fn constants(units: Units) -> [(&'static str, f64, &'static str); 5] {
+    let lab = units == Units::Lab;
+    [
+        ("pi", std::f64::consts::PI, "pi"),
+        (
+            "mu_B",
+            builtin::bohr_magneton(units),
+            "Bohr magneton (energy per field unit)",
+        ),
+        (
+            "hbar2_2me",
+            if lab { HBAR2_OVER_2ME_MEV_NM2 } else { 0.5 },
+            "hbar^2/(2 m_e) (energy x length^2)",
+        ),
+        (
+            "hbar_c",
+            if lab { HBAR_C_MEV_NM } else { 1.0 },
+            "hbar c (energy x length)",
+        ),
+        (
+            "me_c2",
+            if lab { ELECTRON_REST_ENERGY_MEV } else { 1.0 },
+            "electron rest energy",
+        ),
+    ]
+}
+
+struct ExprContext {
+    units: Units,
+    params: BTreeMap<String, f64>,
+}
+
+impl ExprContext {
+    fn new(units: Units, params: BTreeMap<String, f64>) -> Self {
+        ExprContext { units, params }
+    }
+    fn constant(&self, name: &str) -> Option<f64> {
+        constants(self.units)
+            .iter()
+            .find(|c| c.0 == name)
+            .map(|c| c.1)
+    }
+    fn lookup(&self, name: &str) -> Option<f64> {
+        self.params
+            .get(name)
+            .copied()
+            .or_else(|| self.constant(name))
+    }
+    fn call(&self, f: &str, x: f64) -> std::result::Result<f64, String> {
+        Ok(match f {
+            "sqrt" => x.sqrt(),
+            "abs" => x.abs(),
+            "exp" => x.exp(),
+            "ln" => x.ln(),
+            "sin" => x.sin(),
+            "cos" => x.cos(),
+            "tan" => x.tan(),
+            "hbar_v" => match self.units {
+                Units::Lab => crate::units::hbar_v_mev_nm(x),
+                Units::Natural => x / crate::units::SPEED_OF_LIGHT,
+            },
+            _ => {
+                return Err(format!(
+                    "unknown function '{f}'; available: {}",
+                    FUNCTIONS.join(", ")
+                ))
+            }
+        })
+    }
+    fn eval(&self, s: &str) -> std::result::Result<f64, String> {
+        let toks = tokenize(s)?;
+        let mut p = ExprParser {
+            toks: &toks,
+            pos: 0,
+            ctx: self,
+        };
+        let v = p.expr()?;
+        if p.pos != toks.len() {
+            return Err(format!("unexpected '{}'", toks[p.pos].text()));
+        }
+        Ok(v)
+    }
+}
+
+#[derive(Debug, Clone, PartialEq)]
+enum Tok {
+    Num(f64),
+    Ident(String),
+    Op(char),
+}
+
+impl Tok {
+    fn text(&self) -> String {
+        match self {
+            Tok::Num(x) => x.to_string(),
+            Tok::Ident(s) => s.clone(),
+            Tok::Op(c) => c.to_string(),
+        }
+    }
+}
+
+fn tokenize(s: &str) -> std::result::Result<Vec<Tok>, String> {
+    let chars: Vec<char> = s.chars().collect();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < chars.len() {
+        let c = chars[i];
+        if c.is_whitespace() {
+            i += 1;
+        } else if c.is_ascii_digit() || c == '.' {
+            let start = i;
+            while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
+                i += 1;
+            }
+            if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') {
+                let mut j = i + 1;
+                if j < chars.len() && (chars[j] == '+' || chars[j] == '-') {
+                    j += 1;
+                }
+                if j < chars.len() && chars[j].is_ascii_digit() {
+                    i = j;
+                    while i < chars.len() && chars[i].is_ascii_digit() {
+                        i += 1;
+                    }
+                }
+            }
+            let text: String = chars[start..i].iter().collect();
+            let v = text
+                .parse::<f64>()
+                .map_err(|_| format!("'{text}' is not a number"))?;
+            out.push(Tok::Num(v));
+        } else if c.is_ascii_alphabetic() || c == '_' {
+            let start = i;
+            while i < chars.len() && (chars[i].is_ascii_alphanumeric() || chars[i] == '_') {
+                i += 1;
+            }
+            out.push(Tok::Ident(chars[start..i].iter().collect()));
+        } else if "+-*/^()".contains(c) {
+            out.push(Tok::Op(c));
+            i += 1;
+        } else {
+            return Err(format!(
+                "unexpected character '{c}'; expressions use numbers, parameter names, + - * / ^ and ()"
+            ));
+        }
+    }
+    if out.is_empty() {
+        return Err("empty expression; give a number or a parameter name".into());
+    }
+    Ok(out)
+}
+
+struct ExprParser<'a> {
+    toks: &'a [Tok],
+    pos: usize,
+    ctx: &'a ExprContext,
+}
+
+impl ExprParser<'_> {
+    fn peek(&self) -> Option<&Tok> {
+        self.toks.get(self.pos)
+    }
+    fn eat(&mut self, c: char) -> bool {
+        if self.peek() == Some(&Tok::Op(c)) {
+            self.pos += 1;
+            true
+        } else {
+            false
+        }
+    }
+    fn expr(&mut self) -> std::result::Result<f64, String> {
+        let mut v = self.product()?;
+        loop {
+            if self.eat('+') {
+                v += self.product()?;
+            } else if self.eat('-') {
+                v -= self.product()?;
+            } else {
+                return Ok(v);
+            }
+        }
+    }
+    fn product(&mut self) -> std::result::Result<f64, String> {
+        let mut v = self.unary()?;
+        loop {
+            if self.eat('*') {
+                v *= self.unary()?;
+            } else if self.eat('/') {
+                v /= self.unary()?;
+            } else {
+                return Ok(v);
+            }
+        }
+    }
+    fn unary(&mut self) -> std::result::Result<f64, String> {
+        if self.eat('-') {
+            return Ok(-self.unary()?);
+        }
+        if self.eat('+') {
+            return self.unary();
+        }
+        let base = self.atom()?;
+        if self.eat('^') {
+            let e = self.unary()?;
+            return Ok(base.powf(e));
+        }
+        Ok(base)
+    }
+    fn atom(&mut self) -> std::result::Result<f64, String> {
+        match self.peek().cloned() {
+            Some(Tok::Num(x)) => {
+                self.pos += 1;
+                Ok(x)
+            }
+            Some(Tok::Ident(name)) => {
+                self.pos += 1;
+                if self.eat('(') {
+                    let x = self.expr()?;
+                    if !self.eat(')') {
+                        return Err(format!("missing ')' after the argument of {name}("));
+                    }
+                    return self.ctx.call(&name, x);
+                }
+                self.ctx.lookup(&name).ok_or_else(|| {
+                    let mut known: Vec<String> = self.ctx.params.keys().cloned().collect();
+                    known.extend(constants(self.ctx.units).iter().map(|c| c.0.to_string()));
+                    format!(
+                        "unknown name '{name}'; define it in [parameters] or use one of: {}",
+                        known.join(", ")
+                    )
+                })
+            }
+            Some(Tok::Op('(')) => {
+                self.pos += 1;
+                let x = self.expr()?;
+                if !self.eat(')') {
+                    return Err("missing ')'".into());
+                }
+                Ok(x)
+            }
+            Some(t) => Err(format!("unexpected '{}'", t.text())),
+            None => Err("expression ends too early".into()),
+        }
+    }
+}
+
+/// One parameter of a built-in model, as a model file's `[set]` table and `--set` name it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BuiltinParam {
+    /// Name used in `[set]` / `--set`.
+    pub name: &'static str,
+    /// Default value.
+    pub default: f64,
+    /// Unit of the value.
+    pub unit: &'static str,
+    /// Meaning.
+    pub meaning: &'static str,
+}
+
+/// A built-in model as the file format and the command line know it.
+#[derive(Debug, Clone)]
+pub struct BuiltinInfo {
+    /// Name used in `builtin = "..."` and `--builtin`.
+    pub name: &'static str,
+    /// One-line description of the Hamiltonian.
+    pub summary: &'static str,
+    /// Unit system.
+    pub units: Units,
+    /// Published source of the closed form the model is checked against.
+    pub source: &'static str,
+    /// Parameters with their defaults.
+    pub params: Vec<BuiltinParam>,
+    /// Constructor from parameter overrides (absent names take their defaults).
+    pub build: fn(&BTreeMap<String, f64>) -> Result<Model>,
+}
+
+fn get(v: &BTreeMap<String, f64>, name: &str, default: f64) -> f64 {
+    v.get(name).copied().unwrap_or(default)
+}
+
+fn sign_i8(name: &str, x: f64) -> Result<i8> {
+    if x == 1.0 || x == -1.0 {
+        Ok(x as i8)
+    } else {
+        Err(Error::BadNumber {
+            name: name.into(),
+            value: x,
+            fix: "it must be +1 or -1".into(),
+        })
+    }
+}
+
+fn p(name: &'static str, default: f64, unit: &'static str, meaning: &'static str) -> BuiltinParam {
+    BuiltinParam {
+        name,
+        default,
+        unit,
+        meaning,
+    }
+}
+
+/// Every built-in model with its parameters, defaults and sources.
+pub fn builtins() -> Vec<BuiltinInfo> {
+    let mass = builtin::MassParams::default();
+    let pauli = builtin::PauliParams::default();
+    let rel = builtin::RelativisticParams::default();
+    let d2 = builtin::Dirac2dParams::default();
+    let w = builtin::WeylParams::default();
+    vec![
+        BuiltinInfo {
+            name: "schrodinger",
+            summary: "one component, H = hbar^2 k^2 / (2 m*)",
+            units: Units::Lab,
+            source: "Landau, Z. Phys. 64, 629 (1930)",
+            params: vec![
+                p(
+                    "mass_ratio",
+                    mass.mass_ratio,
+                    "m_e",
+                    "effective mass m*/m_e",
+                ),
+                p("charge", mass.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::MassParams::default();
+                builtin::schrodinger(builtin::MassParams {
+                    mass_ratio: get(v, "mass_ratio", d.mass_ratio),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "pauli",
+            summary: "two components, H = hbar^2 k^2 / (2 m*) + (g/2) mu_B B sigma_z",
+            units: Units::Lab,
+            source: "Landau, Z. Phys. 64, 629 (1930), plus the Zeeman term",
+            params: vec![
+                p(
+                    "mass_ratio",
+                    pauli.mass_ratio,
+                    "m_e",
+                    "effective mass m*/m_e",
+                ),
+                p(
+                    "g_factor",
+                    pauli.g_factor,
+                    "1",
+                    "g in H_Z = +(g/2) mu_B B sigma_z (free electron +2.0023)",
+                ),
+                p("charge", pauli.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::PauliParams::default();
+                builtin::pauli(builtin::PauliParams {
+                    mass_ratio: get(v, "mass_ratio", d.mass_ratio),
+                    g_factor: get(v, "g_factor", d.g_factor),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "dirac",
+            summary: "four components (3+1 Dirac), H = c alpha.hbar k + beta m c^2, natural units",
+            units: Units::Natural,
+            source: "Rabi, Z. Phys. 49, 507 (1928); Johnson & Lippmann, Phys. Rev. 76, 828 (1949)",
+            params: vec![
+                p("mass", rel.mass, "m_e", "rest mass"),
+                p("speed", rel.speed, "c", "speed of light (or velocity)"),
+                p("charge", rel.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::RelativisticParams::default();
+                builtin::dirac(builtin::RelativisticParams {
+                    mass: get(v, "mass", d.mass),
+                    speed: get(v, "speed", d.speed),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "klein-gordon",
+            summary:
+                "one component, squared form, E^2 = m^2c^4 + c^2 hbar^2 kz^2 + (2n+1) hbar c^2 |qB|",
+            units: Units::Natural,
+            source: "Landau levels of the Klein-Gordon equation (common practice)",
+            params: vec![
+                p("mass", rel.mass, "m_e", "rest mass"),
+                p("speed", rel.speed, "c", "speed of light"),
+                p("charge", rel.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::RelativisticParams::default();
+                builtin::klein_gordon(builtin::RelativisticParams {
+                    mass: get(v, "mass", d.mass),
+                    speed: get(v, "speed", d.speed),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "dirac2d",
+            summary: "two components, H = hbar v (tau kx sigma_x + ky sigma_y) + Delta sigma_z",
+            units: Units::Lab,
+            source: "McClure, Phys. Rev. 104, 666 (1956) (Delta = 0)",
+            params: vec![
+                p("velocity_m_per_s", d2.velocity_m_per_s, "m/s", "velocity v"),
+                p(
+                    "mass_mev",
+                    d2.mass_mev,
+                    "meV",
+                    "mass term Delta (gap 2|Delta|)",
+                ),
+                p(
+                    "valley",
+                    d2.valley as f64,
+                    "1",
+                    "valley index tau = +1 or -1",
+                ),
+                p("charge", d2.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::Dirac2dParams::default();
+                builtin::dirac2d(builtin::Dirac2dParams {
+                    velocity_m_per_s: get(v, "velocity_m_per_s", d.velocity_m_per_s),
+                    mass_mev: get(v, "mass_mev", d.mass_mev),
+                    valley: sign_i8("valley", get(v, "valley", d.valley as f64))?,
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "weyl",
+            summary: "two components, H = chi hbar v k.sigma (3D Weyl node)",
+            units: Units::Lab,
+            source: "Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983)",
+            params: vec![
+                p("velocity_m_per_s", w.velocity_m_per_s, "m/s", "velocity v"),
+                p(
+                    "chirality",
+                    w.chirality as f64,
+                    "1",
+                    "chirality chi = +1 or -1",
+                ),
+                p("charge", w.charge, "e", "carrier charge, signed"),
+            ],
+            build: |v| {
+                let d = builtin::WeylParams::default();
+                builtin::weyl(builtin::WeylParams {
+                    velocity_m_per_s: get(v, "velocity_m_per_s", d.velocity_m_per_s),
+                    chirality: sign_i8("chirality", get(v, "chirality", d.chirality as f64))?,
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+    ]
+}
+
+/// The built-in called `name`, if any.
+pub fn builtin_info(name: &str) -> Option<BuiltinInfo> {
+    builtins().into_iter().find(|b| b.name == name)
+}
+
+/// Names of every built-in.
+pub fn builtin_names() -> Vec<&'static str> {
+    builtins().iter().map(|b| b.name).collect()
+}
+
+/// Build the built-in `name` with overrides; names absent from `values` take their defaults.
+///
+/// # Errors
+/// [`Error::Parse`] (location `--builtin` / `--set`) for an unknown model or parameter; the
+/// constructor's errors for out-of-range values.
+///
+/// # Examples
+/// ```
+/// use std::collections::BTreeMap;
+/// let mut v = BTreeMap::new();
+/// v.insert("mass_mev".to_string(), 5.0);
+/// let m = ladderfan::modelfile::build_builtin("dirac2d", &v).unwrap();
+/// assert_eq!(m.param("mass"), Some(5.0));
+/// ```
+pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model> {
+    let info = builtin_info(name).ok_or_else(|| Error::Parse {
+        location: "--builtin".into(),
+        message: format!(
+            "unknown built-in model '{name}'; choose one of {} (or list them with `ladderfan models`)",
+            builtin_names().join(", ")
+        ),
+    })?;
+    for k in values.keys() {
+        if !info.params.iter().any(|p| p.name == k) {
+            return Err(Error::Parse {
+                location: "--set".into(),
+                message: format!(
+                    "built-in '{name}' has no parameter '{k}'; its parameters are {}",
+                    info.params
+                        .iter()
+                        .map(|p| p.name)
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            });
+        }
+    }
+    (info.build)(values)
+}
+
+/// Evaluate a numeric expression with the constants of `units` and the given parameters
+/// (used by `--set key=EXPR`).
+///
+/// # Errors
+/// [`Error::Parse`] at `location` naming the unknown name or syntax problem.
+///
+/// # Examples
+/// ```
+/// use ladderfan::units::Units;
+/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x").unwrap();
+/// assert!((x - 1.0).abs() < 1e-15);
+/// ```
+pub fn eval_expression(
+    expr: &str,
+    units: Units,
+    params: &BTreeMap<String, f64>,
+    location: &str,
+) -> Result<f64> {
+    let ctx = ExprContext::new(units, params.clone());
+    let x = ctx.eval(expr).map_err(|m| Error::Parse {
+        location: location.into(),
+        message: format!("in \"{expr}\": {m}"),
+    })?;
+    if !x.is_finite() {
+        return Err(Error::Parse {
+            location: location.into(),
+            message: format!("\"{expr}\" is {x}, not a finite number; give a finite value"),
+        });
+    }
+    Ok(x)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn msg(text: &str) -> String {
+        match parse("t.toml", text) {
+            Ok(_) => String::from("parsed"),
+            Err(e) => e.to_string(),
+        }
+    }
+
+    #[test]
+    fn expressions_follow_precedence() {
+        let ctx = ExprContext::new(Units::Lab, BTreeMap::from([("a".to_string(), 3.0)]));
+        assert_eq!(ctx.eval("1 + 2 * a ^ 2").ok(), Some(19.0));
+        assert_eq!(ctx.eval("-a^2").ok(), Some(-9.0));
+        assert_eq!(ctx.eval("1/2").ok(), Some(0.5));
+        assert_eq!(ctx.eval("(1 + a) / 2e1").ok(), Some(0.2));
+        assert_eq!(ctx.eval("sqrt(4 * a * a)").ok(), Some(6.0));
+        assert!(ctx.eval("b").is_err());
+        assert!(ctx.eval("1 +").is_err());
+    }
+
+    #[test]
+    fn locations_are_line_and_column() {
+        let s = Source {
+            name: "f",
+            text: "ab\ncdé\nx",
+        };
+        assert_eq!(s.location(0), "f:1:1");
+        assert_eq!(s.location(4), "f:2:2");
+        assert_eq!(s.location(s.text.len() - 1), "f:3:1");
+    }
+
+    #[test]
+    fn dirac_film_matches_the_builtin_elementwise() {
+        let text = r#"
+components = 2
+[parameters]
+v = 1e6
+hv = "hbar_v(v)"
+m = 5
+[[term]]
+coefficient = "hv"
+matrix = "x"
+monomial = "kx"
+[[term]]
+coefficient = "hv"
+matrix = [[0, [0, -1]], [[0, 1], 0]]
+monomial = "ky"
+[[term]]
+coefficient = "m"
+matrix = "z"
+monomial = "1"
+"#;
+        let f = parse("t.toml", text).unwrap_or_else(|e| panic!("{e}"));
+        let b = builtin::dirac2d(builtin::Dirac2dParams {
+            mass_mev: 5.0,
+            ..Default::default()
+        })
+        .unwrap_or_else(|e| panic!("{e}"));
+        let p = FieldPoint {
+            field: 3.0,
+            kz: 0.0,
+        };
+        let h1 = LadderHamiltonian::assemble(&f.model, p, 0.0).unwrap_or_else(|e| panic!("{e}"));
+        let h2 = LadderHamiltonian::assemble(&b, p, 0.0).unwrap_or_else(|e| panic!("{e}"));
+        let (a, c) = (h1.dense(6), h2.dense(6));
+        let scale = c.iter().map(|z| z.norm()).fold(0.0, f64::max);
+        assert!((a - c).iter().all(|z| z.norm() <= 1e-13 * scale));
+    }
+
+    #[test]
+    fn problems_are_located_and_explained() {
+        let m = msg("components = 2\nfoo = 1\n");
+        assert!(
+            m.starts_with("t.toml:2:1:") && m.contains("unknown field"),
+            "{m}"
+        );
+        let m =
+            msg("components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"x⊗z\"\nmonomial = \"1\"\n");
+        assert!(m.starts_with("t.toml:4:10:") && m.contains("4x4"), "{m}");
+        let m = msg("components = 2\n[[term]]\nlabel = \"hop\"\ncoefficient = 1\nmatrix = \"+\"\nmonomial = \"kx\"\n");
+        assert!(m.contains("not Hermitian") && m.contains("hop"), "{m}");
+        let m =
+            msg("components = 1\n[[term]]\ncoefficient = nan\nmatrix = \"0\"\nmonomial = \"1\"\n");
+        assert!(m.starts_with("t.toml:3:15:") && m.contains("finite"), "{m}");
+    }
+
+    #[test]
+    fn builtin_with_overrides() {
+        let f = parse("b.toml", "builtin = \"dirac2d\"\n[set]\nmass_mev = 5\n")
+            .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(f.model.param("mass"), Some(5.0));
+        let m = msg("builtin = \"dirac2d\"\n[set]\nmass = 5\n");
+        assert!(
+            m.starts_with("t.toml:3:1:") && m.contains("mass_mev"),
+            "{m}"
+        );
+    }
+}
