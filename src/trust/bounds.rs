@@ -28,14 +28,8 @@
 //!
 //! A rounding floor max(in-space residual, 4 eps |E|) is added: the eigenvalue is stored in
 //! floating point and the solver's own backward error is not squared by the argument.
-//!
-//! # Rounding floor of the residual bound
-//! [`finish`] also adds 4 eps |E| to [`Level::bound`]: the stored energy is a double (half an
-//! ulp, eps/2 |E|, from the exact eigenvalue of the assembled operator even when the solver
-//! worked in double-double), and the coefficients of the assembled operator (magnetic length,
-//! products of parameters) carry a few ulps of relative rounding that move the eigenvalue by
-//! about as much. Without the floor a double-double refined level reports a bound of 1e-30
-//! that its own stored value cannot honour.
+//! The in-space residual is recovered as sqrt(bound^2 - leakage^2); the solver's own
+//! rounding floor (see [`crate::solve`]) is part of `bound` and so part of that floor too.
 //!
 //! Klein-Gordon levels (branch ±1) are energies of E^2 = m^2c^4 + 2 m c^2 lambda, not
 //! eigenvalues of a self-adjoint H on the same space; they get no Kato-Temple bound.
@@ -71,18 +65,15 @@ pub fn kato_temple(residual: f64, room_below: f64, room_above: f64) -> Option<f6
     }
 }
 
-/// Relative rounding allowance (units of eps) of a stored energy; see the module docs.
+/// Relative rounding allowance (units of eps) of a stored energy: a double holds the
+/// eigenvalue to half an ulp, and the assembled coefficients (magnetic length, products of
+/// parameters) carry a few ulps of relative rounding that move it by about as much.
 pub const ROUNDING_ULPS: f64 = 4.0;
 
-/// Post-process the bounds of a freshly solved spectrum: Kato-Temple bounds
-/// ([`apply_kato_temple`]) from the residual bounds, then the rounding floor
-/// ROUNDING_ULPS eps |E| added to every residual bound. Call before setting the convergence
-/// flags.
+/// Post-process the bounds of a freshly solved spectrum (called by the solver before it sets
+/// the convergence flags): the Kato-Temple bounds ([`apply_kato_temple`]).
 pub fn finish(spectrum: &mut Spectrum) {
     apply_kato_temple(spectrum);
-    for l in &mut spectrum.levels {
-        l.bound += ROUNDING_ULPS * f64::EPSILON * l.energy.abs();
-    }
 }
 
 /// Fill [`Level::kato_temple`] for every level of `spectrum` (see the module docs for the

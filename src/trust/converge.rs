@@ -7,17 +7,21 @@
 //! largest cutoff, or against exact values when given), the observed rate at which the change
 //! decays, and the cutoff needed for a tolerance.
 //!
+//! The residual bound includes the solver's rounding floor, which grows with the norm of the
+//! truncated operator (for a k^4 term as N^2): at large cutoffs the bound of a low level can
+//! rise again, dominated by rounding rather than truncation. The table shows it; the needed
+//! cutoff is the first one that meets the tolerance.
+//!
 //! Tracking: a level is matched, within its own sector (the sector label does not depend on
 //! the cutoff), to the level minimising |E - E_tracked| + bound, each level used once; the
 //! bound term prefers genuine levels over cutoff artefacts at the same energy.
 //!
 //! Rates: with changes c_k = |E(N_k) - E(N_(k-1))|, the last two changes above rounding noise
-//! (100 eps |E|) give the
-//! algebraic exponent p = ln(c_(k-1)/c_k) / ln(N_k/N_(k-1)) (c ~ N^-p) and the geometric rate
-//! per orbital kappa = ln(c_(k-1)/c_k) / (N_k - N_(k-1)) (c ~ e^(-kappa N)). The cutoff needed
-//! for a tolerance is the smallest studied cutoff from which on the residual bound stays below
-//! it, or else an extrapolation of the bound with the geometric rate of its own last two
-//! values.
+//! (100 eps |E|) give the algebraic exponent p = ln(c_(k-1)/c_k) / ln(N_k/N_(k-1))
+//! (c ~ N^-p) and the geometric rate per orbital kappa = ln(c_(k-1)/c_k) / (N_k - N_(k-1))
+//! (c ~ e^(-kappa N)). The cutoff needed for a tolerance is the smallest studied cutoff whose
+//! residual bound is below it, or else an extrapolation of the bound with the geometric rate
+//! of its own last two values.
 //!
 //! # Automatic cutoff
 //! [`auto`] grows the cutoff geometrically until every genuine level of the selection (energy
@@ -177,7 +181,7 @@ pub enum ReferenceKind {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum NeededCutoff {
-    /// Met within the study: the smallest studied cutoff from which on the bound stays below.
+    /// Met within the study: the smallest studied cutoff whose bound is below the tolerance.
     Observed(usize),
     /// Extrapolated from the decay of the bound.
     Extrapolated(usize),
@@ -366,17 +370,11 @@ fn rates(entries: &[StudyEntry]) -> (Option<f64>, Option<f64>) {
 }
 
 fn needed(entries: &[StudyEntry], tol_abs: f64) -> NeededCutoff {
-    let ok = |e: &StudyEntry| e.bound.is_some_and(|b| b <= tol_abs);
-    let mut first_ok = None;
-    for (k, e) in entries.iter().enumerate().rev() {
-        if ok(e) {
-            first_ok = Some(k);
-        } else {
-            break;
-        }
-    }
-    if let Some(k) = first_ok {
-        return NeededCutoff::Observed(entries[k].cutoff);
+    if let Some(e) = entries
+        .iter()
+        .find(|e| e.bound.is_some_and(|b| b <= tol_abs))
+    {
+        return NeededCutoff::Observed(e.cutoff);
     }
     let b: Vec<(usize, f64)> = entries
         .iter()
