@@ -14,8 +14,8 @@ use ladderfan::catalogue::{
 use ladderfan::closed_form;
 use ladderfan::matrix::identity;
 use ladderfan::trust::converge::{
-    auto, doubling, is_cutoff_artefact, study, AutoSettings, BoundChoice, NeededCutoff,
-    ReferenceKind, Selection,
+    auto, doubling, is_cutoff_artefact, study, AutoSettings, BoundChoice, ExactValues,
+    NeededCutoff, ReferenceKind, Selection,
 };
 use ladderfan::trust::report::{study_csv, study_json, study_svg, CSV_COLUMNS};
 use ladderfan::trust::window::{check_spectrum, EnergyWindow};
@@ -702,7 +702,7 @@ fn study_tables_and_plot() {
             target: 0.0,
             count: 4,
         },
-        None,
+        ExactValues::ClosedFormIfKnown,
     )
     .expect("study");
     assert_eq!(st.levels.len(), 4);
@@ -750,7 +750,7 @@ fn study_tables_and_plot() {
             target: 0.0,
             count: 4,
         },
-        Some(&exact),
+        ExactValues::Given(&exact),
     )
     .expect("study");
     assert!(st2.levels.iter().all(|l| l.exact == ReferenceKind::Exact));
@@ -877,4 +877,57 @@ fn measure_auto_cutoffs() {
             );
         }
     }
+}
+
+/// A study of a model with a closed form measures the actual error against it: the tilted
+/// cone (Goerbig et al., Phys. Rev. B 78, 045415 (2008), via `closed_form`) converges
+/// gradually, and at every cutoff the closed form lies within the residual bound.
+#[test]
+fn study_against_closed_form() {
+    let m = model(Kind::Tilted, -1.0);
+    let p = FieldPoint::field(3.0);
+    let st = study(
+        &m,
+        p,
+        &Settings::default(),
+        &doubling(6, 4),
+        Selection::Nearest {
+            target: 0.0,
+            count: 5,
+        },
+        ExactValues::ClosedFormIfKnown,
+    )
+    .expect("study");
+    assert_eq!(st.levels.len(), 5);
+    let exact = exact_levels(Kind::Tilted, &m, p, 200);
+    let mut decaying = 0;
+    for l in &st.levels {
+        assert_eq!(l.exact, ReferenceKind::Exact);
+        for e in &l.entries {
+            // the bound promises an eigenvalue near the matched level (not necessarily the
+            // tracked one when the match at a small cutoff is another level)
+            let (en, b) = (e.energy.expect("matched"), e.bound.expect("matched"));
+            let nearest = exact
+                .iter()
+                .map(|x| x.energy)
+                .min_by(|a, b| (a - en).abs().total_cmp(&(b - en).abs()))
+                .expect("non-empty");
+            let err = (en - nearest).abs();
+            assert!(
+                err <= b + rounding(nearest, 1.0),
+                "cutoff {}: error {err:e} > bound {b:e}",
+                e.cutoff
+            );
+        }
+        let first = l.entries[0].actual_error.expect("matched");
+        let last = l.entries[3].actual_error.expect("matched");
+        if first > 1e-9 && last < 1e-3 * first {
+            decaying += 1;
+        }
+    }
+    assert!(
+        decaying >= 3,
+        "only {decaying} levels show convergence: {}",
+        ladderfan::trust::report::study_csv(&st).unwrap_or_default()
+    );
 }

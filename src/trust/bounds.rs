@@ -16,15 +16,17 @@
 //! # How the gap is obtained, and what it assumes
 //! H commutes with the conserved quantity of the sector (exact J, J mod m, or the component
 //! class), so the bounds hold for H restricted to the sector and only levels of the same
-//! sector are neighbours. For a level i, alpha = max over lower neighbours j of E_j + b_j and
-//! beta = min over upper neighbours of E_j - b_j, b_j being the neighbour's residual bound:
-//! the neighbours' eigenvalues lie outside (alpha, beta). The Kato-Temple bound is reported
-//! only when the level has neighbours on both sides and delta > r (the residual interval
-//! fits inside the gap). It assumes that no eigenvalue of the untruncated operator hides
-//! between computed neighbours, i.e. that the truncated solve sees every level of the sector
-//! near rho; a band that re-enters the energy window beyond the cutoff breaks this (see
-//! [`crate::trust::window`]), and a sector that the cutoff cuts in two can hide its missing
-//! partner. When in doubt use the residual bound, which needs no assumption.
+//! sector are neighbours. For a level i, alpha = E_lo + b_lo and beta = E_hi - b_hi, where lo
+//! and hi are the nearest levels of the sector below and above (cutoff artefacts, weight >= 1/2
+//! on the top orbitals, excluded) and b their residual bounds: the neighbours' eigenvalues lie
+//! outside (alpha, beta). The Kato-Temple bound is reported only when the level has such
+//! neighbours on both sides and delta > r (the residual interval fits inside the gap).
+//!
+//! This assumes that the eigenvalues of the untruncated operator near rho are exactly those
+//! the computed genuine levels stand for: none hides between neighbours, and artefacts do not
+//! stand for one. A band that re-enters the energy window beyond the cutoff breaks this (see
+//! [`crate::trust::window`]), and so can a sector that the cutoff cuts short. When in doubt use
+//! the residual bound, which needs no assumption.
 //!
 //! A rounding floor max(in-space residual, 4 eps |E|) is added: the eigenvalue is stored in
 //! floating point and the solver's own backward error is not squared by the argument.
@@ -42,6 +44,7 @@
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
 use crate::levels::{Level, Spectrum};
+use crate::trust::converge::is_cutoff_artefact;
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
@@ -91,14 +94,16 @@ pub fn apply_kato_temple(spectrum: &mut Spectrum) {
         // idx is ascending in energy because levels are sorted
         for (pos, &i) in idx.iter().enumerate() {
             let li = &spectrum.levels[i];
+            let genuine = |j: &&usize| !is_cutoff_artefact(&spectrum.levels[**j]);
             let below = idx[..pos]
                 .iter()
-                .map(|&j| upper_edge(&spectrum.levels[j]))
-                .fold(f64::NEG_INFINITY, f64::max);
+                .rev()
+                .find(genuine)
+                .map_or(f64::NEG_INFINITY, |&j| upper_edge(&spectrum.levels[j]));
             let above = idx[pos + 1..]
                 .iter()
-                .map(|&j| lower_edge(&spectrum.levels[j]))
-                .fold(f64::INFINITY, f64::min);
+                .find(genuine)
+                .map_or(f64::INFINITY, |&j| lower_edge(&spectrum.levels[j]));
             results[i] = kato_temple(li.bound, li.energy - below, above - li.energy)
                 .map(|kt| kt + rounding_floor(li));
         }

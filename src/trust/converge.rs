@@ -208,10 +208,23 @@ pub struct Study {
     pub seconds: Vec<f64>,
 }
 
+/// Where the actual error of a study is measured from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ExactValues<'a> {
+    /// The closed form of [`crate::closed_form::for_model`] when the model has one, else the
+    /// energy at the largest cutoff.
+    ClosedFormIfKnown,
+    /// Always the energy at the largest cutoff.
+    LargestCutoff,
+    /// These exact energies (relative to the reference energy); each tracked level is
+    /// compared with the nearest one.
+    Given(&'a [f64]),
+}
+
 /// Run a convergence study of `model` at `point` over `cutoffs` (sorted ascending, duplicates
 /// removed) with the other settings from `base`, following the levels that `selection` picks
-/// at the largest cutoff. `exact`, when given, lists exact energies (relative to the reference
-/// energy): each tracked level's actual error is then measured against the nearest one.
+/// at the largest cutoff. `exact` says what the actual error is measured against; a tracked
+/// level is compared with the nearest exact value.
 ///
 /// # Errors
 /// [`Error::Unsupported`] for an empty cutoff list; any error of [`Spectrum::compute`].
@@ -224,7 +237,7 @@ pub fn study(
     base: &Settings,
     cutoffs: &[usize],
     selection: Selection,
-    exact: Option<&[f64]>,
+    exact: ExactValues<'_>,
 ) -> Result<Study> {
     let mut cutoffs = cutoffs.to_vec();
     cutoffs.sort_unstable();
@@ -252,6 +265,14 @@ pub fn study(
     let last = &spectra[spectra.len() - 1];
     debug_assert_eq!(last.cutoff, largest);
     let picked = selection.pick(last);
+    let closed: Option<Vec<f64>> = match exact {
+        ExactValues::ClosedFormIfKnown => {
+            crate::closed_form::for_model(model, point, last.reference_energy, 2 * largest + 8)
+                .map(|v| v.iter().map(|l| l.energy).collect())
+        }
+        ExactValues::LargestCutoff => None,
+        ExactValues::Given(v) => Some(v.to_vec()),
+    };
     let tol = base.tolerance;
     let mut levels = Vec::with_capacity(picked.len());
     // matches[k][t] = index into spectra[k].levels of tracked level t
@@ -261,7 +282,7 @@ pub fn study(
     }
     for (t, &i) in picked.iter().enumerate() {
         let top = &last.levels[i];
-        let (reference_value, kind) = match exact {
+        let (reference_value, kind) = match closed.as_deref() {
             Some(values) if !values.is_empty() => {
                 (nearest(values, top.energy), ReferenceKind::Exact)
             }
