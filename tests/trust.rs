@@ -931,3 +931,112 @@ fn study_against_closed_form() {
         ladderfan::trust::report::study_csv(&st).unwrap_or_default()
     );
 }
+
+/// End to end: `ladderfan converge` in both modes, JSON and files, and its exit codes.
+#[test]
+fn cli_converge_end_to_end() {
+    use std::process::Command;
+    let bin = env!("CARGO_BIN_EXE_ladderfan");
+    let dir = std::env::temp_dir().join(format!("ladderfan-trust-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    // the anharmonic test model as a model file: hbar^2/2m* for m* = 0.067 m_e
+    // (38.0998 meV nm^2 / 0.067, CODATA 2018 via units.rs) and the invented lambda
+    let file = dir.join("anharmonic.toml");
+    let c = HBAR2_OVER_2ME_MEV_NM2 / 0.067;
+    let mut toml = format!(
+        "name = \"invented-anharmonic\"\ncomponents = 1\ncharge = -1\nunits = \"lab\"\n\n[parameters]\nc = {c}\nlam = 2.0e4\n"
+    );
+    for (label, coef, mono) in [
+        ("kx2", "c", "kx^2"),
+        ("ky2", "c", "ky^2"),
+        ("kx4", "lam", "kx^4"),
+        ("ky4", "lam", "ky^4"),
+    ] {
+        toml.push_str(&format!(
+            "\n[[term]]\nlabel = \"{label}\"\ncoefficient = \"{coef}\"\nmatrix = [[1]]\nmonomial = \"{mono}\"\n"
+        ));
+    }
+    std::fs::write(&file, toml).expect("write model file");
+    let model_arg = file.to_str().expect("utf-8 path");
+    // study with JSON on stdout and files in --out
+    let out_dir = dir.join("out");
+    let o = Command::new(bin)
+        .args([
+            "converge",
+            "--model",
+            model_arg,
+            "--field",
+            "5",
+            "--count",
+            "3",
+            "--cutoffs",
+            "12,24,48",
+            "--json",
+            "--out",
+        ])
+        .arg(&out_dir)
+        .output()
+        .expect("run");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON on stdout");
+    assert_eq!(v["mode"], "study");
+    assert_eq!(v["study"]["levels"].as_array().map(|a| a.len()), Some(3));
+    assert_eq!(v["study"]["cutoffs"], serde_json::json!([12, 24, 48]));
+    for f in ["converge.csv", "converge.json", "converge.svg"] {
+        assert!(out_dir.join(f).exists(), "{f} written");
+    }
+    // auto: the same model reaches 1e-9 and agrees with the library's automatic mode
+    let o = Command::new(bin)
+        .args([
+            "converge", "--model", model_arg, "--field", "5", "--count", "5", "--mode", "auto",
+            "--json",
+        ])
+        .output()
+        .expect("run");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON on stdout");
+    let lib = auto(
+        &anharmonic(),
+        FieldPoint::field(5.0),
+        &AutoSettings::new(
+            Selection::Nearest {
+                target: 0.0,
+                count: 5,
+            },
+            1e-9,
+        ),
+    )
+    .expect("auto");
+    assert_eq!(v["cutoff"].as_u64(), Some(lib.cutoff as u64));
+    // a tolerance that cannot be met within --max-cutoff: exit code 1 and a clear message
+    let o = Command::new(bin)
+        .args([
+            "converge",
+            "--model",
+            model_arg,
+            "--field",
+            "5",
+            "--mode",
+            "auto",
+            "--tolerance",
+            "1e-13",
+            "--max-cutoff",
+            "100",
+        ])
+        .output()
+        .expect("run");
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("not met") && err.contains("max_cutoff"),
+        "{err}"
+    );
+    // a malformed window: exit code 2, located at the flag
+    let o = Command::new(bin)
+        .args(["converge", "--builtin", "dirac2d", "--window", "1,2,3"])
+        .output()
+        .expect("run");
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--window"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -12,6 +12,7 @@
 //! or 1 (verification failed).
 
 pub mod common;
+pub mod converge;
 pub mod demo;
 pub mod dispersion;
 pub mod export;
@@ -34,8 +35,8 @@ pub struct Cli {
     pub command: Option<Command>,
 }
 
-/// Every command. Planned additions (separate files, added by their authors): `converge`,
-/// `verify`, `dos`, `optics`, `merge`.
+/// Every command. Planned additions (separate files, added by their authors): `verify`,
+/// `dos`, `optics`, `merge`.
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Levels at one field and kz: a labelled table with error bounds.
@@ -50,6 +51,8 @@ pub enum Command {
     Export(export::ExportArgs),
     /// An invented gapped Dirac film: table, fan diagram SVG and CSV in a few seconds.
     Demo(demo::DemoArgs),
+    /// Convergence in the cutoff: a study over cutoffs, or the cutoff a tolerance needs.
+    Converge(converge::ConvergeArgs),
 }
 
 /// Run one command.
@@ -61,6 +64,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Models(a) => models::run(&a),
         Command::Export(a) => export::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Converge(a) => converge::run(&a),
     }
 }
 

@@ -85,14 +85,26 @@ pub fn study_json(study: &Study) -> Result<String> {
 /// How many tracked levels the plot shows at most (the lowest in energy).
 pub const PLOT_MAX_LEVELS: usize = 8;
 
-/// Write an SVG plot of residual bound (solid lines) and actual error (dashed, with markers)
+/// Write the SVG plot of [`study_svg_string`] to `path`.
+///
+/// # Errors
+/// [`Error::Io`] when the file cannot be written; the errors of [`study_svg_string`].
+pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
+    let svg = study_svg_string(study)?;
+    std::fs::write(path, svg).map_err(|source| Error::Io {
+        action: "write".into(),
+        path: path.display().to_string(),
+        source,
+    })
+}
+
+/// An SVG plot of residual bound (solid lines) and actual error (dashed, with markers)
 /// against the cutoff, both axes logarithmic, for up to [`PLOT_MAX_LEVELS`] tracked levels.
 /// Zero errors are drawn at the bottom of the axis (the smallest positive value / 10).
 ///
 /// # Errors
-/// [`Error::Io`] when the file cannot be written; [`Error::Unsupported`] when the study has no
-/// plottable value.
-pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
+/// [`Error::Unsupported`] when the study has no plottable value or drawing fails.
+pub fn study_svg_string(study: &Study) -> Result<String> {
     let shown = &study.levels[..study.levels.len().min(PLOT_MAX_LEVELS)];
     let values: Vec<f64> = shown
         .iter()
@@ -112,78 +124,77 @@ pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
     }
     let floor = values.iter().copied().fold(f64::INFINITY, f64::min) / 10.0;
     let top = values.iter().copied().fold(0.0, f64::max) * 10.0;
-    let io = |e: String| Error::Io {
-        action: "write".into(),
-        path: path.display().to_string(),
-        source: std::io::Error::other(e),
-    };
-    let root = SVGBackend::new(path, (900, 600)).into_drawing_area();
-    root.fill(&WHITE).map_err(|e| io(e.to_string()))?;
-    let x_hi = (n_max as f64 * 1.2).max(n_min as f64 + 1.0);
-    let mut chart = ChartBuilder::on(&root)
-        .caption(
-            format!(
-                "{}: bound (solid) and actual error (dashed) vs cutoff",
-                study.model
-            ),
-            ("sans-serif", 20),
-        )
-        .margin(15)
-        .x_label_area_size(45)
-        .y_label_area_size(80)
-        .build_cartesian_2d(
-            ((n_min as f64 / 1.2).max(0.5)..x_hi).log_scale(),
-            (floor..top).log_scale(),
-        )
-        .map_err(|e| io(e.to_string()))?;
-    chart
-        .configure_mesh()
-        .x_desc("cutoff N (orbitals)")
-        .y_desc(format!("error ({})", study.energy_unit))
-        .y_label_formatter(&|y| format!("{y:.0e}"))
-        .draw()
-        .map_err(|e| io(e.to_string()))?;
-    for (t, l) in shown.iter().enumerate() {
-        let color = Palette99::pick(t).to_rgba();
-        let bound: Vec<(f64, f64)> = l
-            .entries
-            .iter()
-            .filter_map(|e| e.bound.map(|b| (e.cutoff as f64, b.max(floor))))
-            .collect();
-        let err: Vec<(f64, f64)> = l
-            .entries
-            .iter()
-            .filter_map(|e| e.actual_error.map(|a| (e.cutoff as f64, a.max(floor))))
-            .collect();
-        let label = format!(
-            "E = {:.6e} (sector {}:{})",
-            l.reference_value, l.sector.class, l.sector.label
-        );
-        chart
-            .draw_series(LineSeries::new(bound, color.stroke_width(2)))
-            .map_err(|e| io(e.to_string()))?
-            .label(label)
-            .legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
-            });
-        chart
-            .draw_series(DashedLineSeries::new(
-                err.clone(),
-                6,
-                4,
-                color.stroke_width(1),
-            ))
+    let io = |e: String| Error::Unsupported(format!("cannot draw the convergence plot: {e}"));
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (900, 600)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| io(e.to_string()))?;
+        let x_hi = (n_max as f64 * 1.2).max(n_min as f64 + 1.0);
+        let mut chart = ChartBuilder::on(&root)
+            .caption(
+                format!(
+                    "{}: bound (solid) and actual error (dashed) vs cutoff",
+                    study.model
+                ),
+                ("sans-serif", 20),
+            )
+            .margin(15)
+            .x_label_area_size(45)
+            .y_label_area_size(80)
+            .build_cartesian_2d(
+                ((n_min as f64 / 1.2).max(0.5)..x_hi).log_scale(),
+                (floor..top).log_scale(),
+            )
             .map_err(|e| io(e.to_string()))?;
         chart
-            .draw_series(err.into_iter().map(|p| Circle::new(p, 3, color.filled())))
+            .configure_mesh()
+            .x_desc("cutoff N (orbitals)")
+            .y_desc(format!("error ({})", study.energy_unit))
+            .y_label_formatter(&|y| format!("{y:.0e}"))
+            .draw()
             .map_err(|e| io(e.to_string()))?;
+        for (t, l) in shown.iter().enumerate() {
+            let color = Palette99::pick(t).to_rgba();
+            let bound: Vec<(f64, f64)> = l
+                .entries
+                .iter()
+                .filter_map(|e| e.bound.map(|b| (e.cutoff as f64, b.max(floor))))
+                .collect();
+            let err: Vec<(f64, f64)> = l
+                .entries
+                .iter()
+                .filter_map(|e| e.actual_error.map(|a| (e.cutoff as f64, a.max(floor))))
+                .collect();
+            let label = format!(
+                "E = {:.6e} (sector {}:{})",
+                l.reference_value, l.sector.class, l.sector.label
+            );
+            chart
+                .draw_series(LineSeries::new(bound, color.stroke_width(2)))
+                .map_err(|e| io(e.to_string()))?
+                .label(label)
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
+                });
+            chart
+                .draw_series(DashedLineSeries::new(
+                    err.clone(),
+                    6,
+                    4,
+                    color.stroke_width(1),
+                ))
+                .map_err(|e| io(e.to_string()))?;
+            chart
+                .draw_series(err.into_iter().map(|p| Circle::new(p, 3, color.filled())))
+                .map_err(|e| io(e.to_string()))?;
+        }
+        chart
+            .configure_series_labels()
+            .background_style(WHITE.mix(0.8))
+            .border_style(BLACK)
+            .draw()
+            .map_err(|e| io(e.to_string()))?;
+        root.present().map_err(|e| io(e.to_string()))?;
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(BLACK)
-        .draw()
-        .map_err(|e| io(e.to_string()))?;
-    root.present().map_err(|e| io(e.to_string()))?;
-    Ok(())
+    Ok(svg)
 }
