@@ -34,6 +34,10 @@ pub struct Level {
     /// components of H v beyond orbital N-1 ([`crate::solve::leakage`]). Large for cutoff
     /// artefacts.
     pub leakage: f64,
+    /// The other part: the in-space residual ||P H P v - E v|| of the solver plus its rounding
+    /// floor (for the Klein-Gordon form, of the squared operator). Not squared by the
+    /// Kato-Temple argument, so it floors that bound.
+    pub in_space_residual: f64,
     /// Converged or not at the tolerance of the solve.
     pub convergence: Convergence,
     /// The sector (conserved quantity) the level belongs to.

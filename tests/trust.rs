@@ -518,6 +518,18 @@ fn window_reentry_detected() {
     );
     let lb = spec.magnetic_length;
     assert!((w.orbital_estimate / (0.5 * (k_star * lb).powi(2)) - 1.0).abs() < 0.1);
+    // a study over that window carries the same warning
+    let st = study(
+        &bent,
+        p,
+        &Settings::default(),
+        &[50, 100],
+        Selection::Window(window),
+        ExactValues::LargestCutoff,
+    )
+    .expect("study");
+    assert_eq!(st.warnings.len(), 1);
+    assert_eq!(st.warnings[0].band, 1);
     // the plain model: nothing re-enters
     let spec0 = Spectrum::compute(&base, p, &Settings::with_cutoff(200)).expect("solve");
     assert!(check_spectrum(&base, &spec0, window)

@@ -279,6 +279,9 @@ pub fn study_table(st: &Study, origin: &str) -> String {
         rows.push(r);
     }
     out.push_str(&common::table(&rows));
+    for w in &st.warnings {
+        out.push_str(&format!("warning: {}\n", w.message));
+    }
     out
 }
 

@@ -293,6 +293,7 @@ impl Job<'_> {
                 bound: 0.0,
                 kato_temple: None,
                 leakage: out_res,
+                in_space_residual: in_res + rounding,
                 convergence: Convergence::NotConverged,
                 sector: id,
                 orbital: best.1,

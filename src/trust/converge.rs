@@ -206,6 +206,9 @@ pub struct Study {
     pub levels: Vec<TrackedLevel>,
     /// Seconds spent per cutoff.
     pub seconds: Vec<f64>,
+    /// Bands re-entering the selection's window beyond the largest cutoff
+    /// ([`crate::trust::window`]).
+    pub warnings: Vec<WindowWarning>,
 }
 
 /// Where the actual error of a study is measured from.
@@ -324,7 +327,12 @@ pub fn study(
             needed_cutoff,
         });
     }
+    let warnings = match selection.window_in(last, &picked) {
+        Some(w) => check_spectrum(model, last, w)?,
+        None => Vec::new(),
+    };
     Ok(Study {
+        warnings,
         model: model.name().to_string(),
         point,
         cutoffs,

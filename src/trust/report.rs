@@ -98,7 +98,8 @@ pub fn study_svg(study: &Study, path: &Path) -> Result<()> {
     })
 }
 
-/// An SVG plot of residual bound (solid lines) and actual error (dashed, with markers)
+/// An SVG plot of residual bound (solid lines), Kato-Temple bound (dotted) and actual error
+/// (dashed, with markers)
 /// against the cutoff, both axes logarithmic, for up to [`PLOT_MAX_LEVELS`] tracked levels.
 /// Zero errors are drawn at the bottom of the axis (the smallest positive value / 10).
 ///
@@ -108,7 +109,11 @@ pub fn study_svg_string(study: &Study) -> Result<String> {
     let shown = &study.levels[..study.levels.len().min(PLOT_MAX_LEVELS)];
     let values: Vec<f64> = shown
         .iter()
-        .flat_map(|l| l.entries.iter().flat_map(|e| [e.bound, e.actual_error]))
+        .flat_map(|l| {
+            l.entries
+                .iter()
+                .flat_map(|e| [e.bound, e.actual_error, e.kato_temple])
+        })
         .flatten()
         .filter(|v| v.is_finite() && *v > 0.0)
         .collect();
@@ -133,7 +138,7 @@ pub fn study_svg_string(study: &Study) -> Result<String> {
         let mut chart = ChartBuilder::on(&root)
             .caption(
                 format!(
-                    "{}: bound (solid) and actual error (dashed) vs cutoff",
+                    "{}: bound (solid), Kato-Temple (dotted), actual error (dashed, dots)",
                     study.model
                 ),
                 ("sans-serif", 20),
@@ -149,6 +154,8 @@ pub fn study_svg_string(study: &Study) -> Result<String> {
         chart
             .configure_mesh()
             .x_desc("cutoff N (orbitals)")
+            .x_labels(8)
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc(format!("error ({})", study.energy_unit))
             .y_label_formatter(&|y| format!("{y:.0e}"))
             .draw()
@@ -176,6 +183,14 @@ pub fn study_svg_string(study: &Study) -> Result<String> {
                 .legend(move |(x, y)| {
                     PathElement::new(vec![(x, y), (x + 20, y)], color.stroke_width(2))
                 });
+            let kt: Vec<(f64, f64)> = l
+                .entries
+                .iter()
+                .filter_map(|e| e.kato_temple.map(|k| (e.cutoff as f64, k.max(floor))))
+                .collect();
+            chart
+                .draw_series(DashedLineSeries::new(kt, 2, 3, color.stroke_width(1)))
+                .map_err(|e| io(e.to_string()))?;
             chart
                 .draw_series(DashedLineSeries::new(
                     err.clone(),
