@@ -126,14 +126,22 @@ impl Units {
         }
     }
 
-    /// One-line description for output headers, e.g. `energy meV, length nm, field T`.
+    /// Name of the wave-number unit (inverse length) as printed in headers.
+    pub fn wavenumber_unit(self) -> &'static str {
+        match self {
+            Units::Lab => "1/nm",
+            Units::Natural => "m c/hbar",
+        }
+    }
+
+    /// One-line description for output headers, e.g. `energy meV, length nm, field T, kz 1/nm`.
     pub fn header(self) -> String {
         format!(
-            "energy {}, length {}, field {}, kz 1/{}",
+            "energy {}, length {}, field {}, kz {}",
             self.energy_unit(),
             self.length_unit(),
             self.field_unit(),
-            self.length_unit()
+            self.wavenumber_unit()
         )
     }
 }
