@@ -572,7 +572,9 @@ fn levels_mib(model: &Model, cutoff: usize) -> u64 {
 ///
 /// # Errors
 /// [`Error::NotConverged`] when the cutoff would exceed `max_cutoff` (the message names the
-/// worst level and its bound); [`Error::MemoryLimit`] when the next solve would exceed the
+/// worst level and its bound), or at once when an unconverged level's in-space residual and
+/// rounding floor alone exceed its tolerance (that floor grows with the cutoff, so growing
+/// cannot help); [`Error::MemoryLimit`] when the next solve would exceed the
 /// memory limit; [`Error::BadNumber`] for a non-positive tolerance, a growth factor <= 1 or a
 /// count of zero; any error of [`Spectrum::compute`].
 ///
@@ -659,13 +661,31 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
         let picked = settings.selection.pick(&spectrum);
         let mut unconverged = 0;
         let mut worst: f64 = 0.0;
+        let mut floor_limited: Option<(f64, f64, f64)> = None;
         for &i in &picked {
             let l = &spectrum.levels[i];
-            let ratio = settings.bound.of(l) / absolute_tolerance(&spectrum, l, settings.tolerance);
+            let tol_abs = absolute_tolerance(&spectrum, l, settings.tolerance);
+            let ratio = settings.bound.of(l) / tol_abs;
             worst = worst.max(ratio);
             if ratio > 1.0 {
                 unconverged += 1;
+                if l.in_space_residual > tol_abs {
+                    floor_limited = Some((l.energy, l.in_space_residual, tol_abs));
+                }
             }
+        }
+        if let Some((e, floor, tol_abs)) = floor_limited {
+            // the solver's own residual and rounding floor grow with the cutoff (with the
+            // norm and size of the truncated matrix): a larger cutoff cannot help
+            return Err(Error::NotConverged {
+                tolerance: settings.tolerance,
+                detail: format!(
+                    "at a cutoff of {cutoff} orbitals the level at {e:.10e} has an in-space residual and \
+                     rounding floor of {floor:.3e}, above its absolute tolerance {tol_abs:.3e}; this floor \
+                     grows with the cutoff, so loosen the tolerance, or use the split path \
+                     (Splitting::Auto) whose small sectors keep it low"
+                ),
+            });
         }
         if let Selection::Nearest { count, .. } = settings.selection {
             unconverged += count.saturating_sub(picked.len());
