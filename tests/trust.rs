@@ -664,15 +664,34 @@ fn auto_errors_are_clear() {
         }
         other => panic!("expected NotConverged, got {other:?}"),
     }
-    // a tolerance below rounding is never met; without exact J the sectors are dense and
-    // grow as N/4, so a 1 MiB limit stops the growth
-    let mut a = AutoSettings::new(
+    // a tolerance below the solver's rounding floor: stops at once, saying why
+    let a = AutoSettings::new(
         Selection::Nearest {
             target: 0.0,
             count: 6,
         },
         1e-17,
     );
+    match auto(&m, p, &a) {
+        Err(e @ Error::NotConverged { .. }) => {
+            let msg = e.to_string();
+            assert!(
+                msg.contains("rounding floor") && msg.contains("loosen the tolerance"),
+                "{msg}"
+            );
+        }
+        other => panic!("expected NotConverged, got {other:?}"),
+    }
+    // without exact J the sectors are dense (N/4 states here): starting at 2048 orbitals
+    // (512-state sectors, about 12 MiB) under a 1 MiB limit stops with a memory error
+    let mut a = AutoSettings::new(
+        Selection::Nearest {
+            target: 0.0,
+            count: 6,
+        },
+        1e-9,
+    );
+    a.start_cutoff = 2048;
     a.memory_limit_mib = 1;
     match auto(&m, p, &a) {
         Err(e @ Error::MemoryLimit { .. }) => {
@@ -1035,9 +1054,9 @@ fn cli_converge_end_to_end() {
             "--mode",
             "auto",
             "--tolerance",
-            "1e-13",
+            "1e-11",
             "--max-cutoff",
-            "100",
+            "20",
         ])
         .output()
         .expect("run");

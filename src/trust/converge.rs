@@ -675,6 +675,13 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
             }
         }
         if let Some((e, floor, tol_abs)) = floor_limited {
+            let advice = match settings.base.splitting {
+                crate::solve::Splitting::Off => {
+                    "loosen the tolerance, or use the split path (Splitting::Auto) whose small \
+                     sectors keep it low"
+                }
+                _ => "loosen the tolerance",
+            };
             // the solver's own residual and rounding floor grow with the cutoff (with the
             // norm and size of the truncated matrix): a larger cutoff cannot help
             return Err(Error::NotConverged {
@@ -682,8 +689,7 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
                 detail: format!(
                     "at a cutoff of {cutoff} orbitals the level at {e:.10e} has an in-space residual and \
                      rounding floor of {floor:.3e}, above its absolute tolerance {tol_abs:.3e}; this floor \
-                     grows with the cutoff, so loosen the tolerance, or use the split path \
-                     (Splitting::Auto) whose small sectors keep it low"
+                     grows with the cutoff, so {advice}"
                 ),
             });
         }
