@@ -44,12 +44,14 @@ pub mod levels;
 pub mod matrix;
 pub mod model;
 pub mod modelfile;
+pub mod observables;
 pub mod plot;
 pub mod sectors;
 pub mod solve;
 pub mod sweep;
 pub mod trust;
 pub mod units;
+pub mod verify;
 
 pub use error::{Error, Result};
 pub use hamiltonian::FieldPoint;

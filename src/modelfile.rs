@@ -1,5 +1,5 @@
 //! Model files: a TOML description of a model (ours; the key names are documented in
-//! `docs/modelfile.md`), turned into a validated [`Model`].
+//! the README (section Model files)), turned into a validated [`Model`].
 //!
 //! A file either describes a model term by term:
 //!
@@ -37,12 +37,14 @@
 //! ```
 //! let text = "components = 1\n[[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"kx^2\"\n\
 //!             [[term]]\ncoefficient = 2.0\nmatrix = [[1]]\nmonomial = \"ky^2\"\n";
-//! let file = ladderfan::modelfile::parse("m.toml", text).unwrap();
+//! let file = ladderfan::modelfile::parse("m.toml", text)?;
 //! assert_eq!(file.model.dim(), 1);
 //! assert_eq!(file.model.band(), 2);
+//! # Ok::<(), ladderfan::Error>(())
 //! ```
 
 use crate::builtin;
+use crate::catalogue;
 use crate::error::{Error, Result};
 use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::matrix::{self, SpinMatrix};
@@ -218,7 +220,7 @@ pub fn parse_with_overrides(
 fn toml_message(m: &str) -> String {
     let one_line = m.split_whitespace().collect::<Vec<_>>().join(" ");
     if one_line.starts_with("unknown field") {
-        format!("{one_line}; remove or rename the key (see docs/modelfile.md)")
+        format!("{one_line}; remove or rename the key (see the README, section Model files)")
     } else if one_line.starts_with("missing field") {
         format!("{one_line}; add the key")
     } else if one_line.starts_with("invalid type") {
@@ -502,6 +504,15 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
                 .map(|s| s.to_string_lossy().into_owned())
                 .unwrap_or_else(|| "model".into())
         });
+    if let (Some(n), true) = (&raw.name, builtin_names().contains(&name.as_str())) {
+        return Err(src.err(
+            &n.span(),
+            format!(
+                "name \"{name}\" is reserved for the built-in model (its closed form is looked up \
+                 by name); use builtin = \"{name}\" with [set], or choose another name"
+            ),
+        ));
+    }
     let mut b = Model::builder(&name, d).charge(charge).units(units);
     for (k, v) in &ctx.params {
         b = b.param(k, *v);
@@ -866,8 +877,9 @@ fn matrix_value(
 /// # Examples
 /// ```
 /// use ladderfan::modelfile::parse_monomial;
-/// let m = parse_monomial("kx^2 * ky B").unwrap();
+/// let m = parse_monomial("kx^2 * ky B")?;
 /// assert_eq!((m.kx, m.ky, m.kz, m.field), (2, 1, 0, 1));
+/// # Ok::<(), String>(())
 /// ```
 pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
     let mut m = Monomial::ONE;
@@ -1202,6 +1214,7 @@ fn get(v: &BTreeMap<String, f64>, name: &str, default: f64) -> f64 {
     v.get(name).copied().unwrap_or(default)
 }
 
+#[allow(clippy::float_cmp)] // a sign parameter must be exactly +1 or -1
 fn sign_i8(name: &str, x: f64) -> Result<i8> {
     if x == 1.0 || x == -1.0 {
         Ok(x as i8)
@@ -1223,7 +1236,8 @@ fn p(name: &'static str, default: f64, unit: &'static str, meaning: &'static str
     }
 }
 
-/// Every built-in model with its parameters, defaults and sources.
+/// Every built-in model ([`crate::builtin`] and [`crate::catalogue`]) with its parameters,
+/// defaults and sources.
 pub fn builtins() -> Vec<BuiltinInfo> {
     let mass = builtin::MassParams::default();
     let pauli = builtin::PauliParams::default();
@@ -1235,7 +1249,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "schrodinger",
             summary: "one component, H = hbar^2 k^2 / (2 m*)",
             units: Units::Lab,
-            source: "Landau, Z. Phys. 64, 629 (1930)",
+            source: "L. Landau, Z. Phys. 64, 629 (1930) (journal details from memory)",
             params: vec![
                 p(
                     "mass_ratio",
@@ -1257,7 +1271,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "pauli",
             summary: "two components, H = hbar^2 k^2 / (2 m*) + (g/2) mu_B B sigma_z",
             units: Units::Lab,
-            source: "Landau, Z. Phys. 64, 629 (1930), plus the Zeeman term",
+            source: "Landau 1930 with the spin term of W. Pauli, Z. Phys. 43, 601 (1927) (journal details from memory)",
             params: vec![
                 p(
                     "mass_ratio",
@@ -1286,7 +1300,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "dirac",
             summary: "four components (3+1 Dirac), H = c alpha.hbar k + beta m c^2, natural units",
             units: Units::Natural,
-            source: "Rabi, Z. Phys. 49, 507 (1928); Johnson & Lippmann, Phys. Rev. 76, 828 (1949)",
+            source: "I. I. Rabi, Z. Phys. 49, 507 (1928) (from memory); M. H. Johnson & B. A. Lippmann, Phys. Rev. 76, 828 (1949)",
             params: vec![
                 p("mass", rel.mass, "m_e", "rest mass"),
                 p("speed", rel.speed, "c", "speed of light (or velocity)"),
@@ -1306,7 +1320,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             summary:
                 "one component, squared form, E^2 = m^2c^4 + c^2 hbar^2 kz^2 + (2n+1) hbar c^2 |qB|",
             units: Units::Natural,
-            source: "Landau levels of the Klein-Gordon equation (common practice)",
+            source: "Landau quantization of the Klein-Gordon equation, the spinless analogue of Rabi 1928 (common practice)",
             params: vec![
                 p("mass", rel.mass, "m_e", "rest mass"),
                 p("speed", rel.speed, "c", "speed of light"),
@@ -1325,7 +1339,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "dirac2d",
             summary: "two components, H = hbar v (tau kx sigma_x + ky sigma_y) + Delta sigma_z",
             units: Units::Lab,
-            source: "McClure, Phys. Rev. 104, 666 (1956) (Delta = 0)",
+            source: "J. W. McClure, Phys. Rev. 104, 666 (1956) (massless case)",
             params: vec![
                 p("velocity_m_per_s", d2.velocity_m_per_s, "m/s", "velocity v"),
                 p(
@@ -1356,7 +1370,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "weyl",
             summary: "two components, H = chi hbar v k.sigma (3D Weyl node)",
             units: Units::Lab,
-            source: "Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983)",
+            source: "H. B. Nielsen & M. Ninomiya, Phys. Lett. B 130, 389 (1983) (chiral level)",
             params: vec![
                 p("velocity_m_per_s", w.velocity_m_per_s, "m/s", "velocity v"),
                 p(
@@ -1372,6 +1386,133 @@ pub fn builtins() -> Vec<BuiltinInfo> {
                 builtin::weyl(builtin::WeylParams {
                     velocity_m_per_s: get(v, "velocity_m_per_s", d.velocity_m_per_s),
                     chirality: sign_i8("chirality", get(v, "chirality", d.chirality as f64))?,
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        // the wider catalogue (crate::catalogue); defaults there are invented illustrations
+        BuiltinInfo {
+            name: "dirac-amm",
+            summary: "four components, 3+1 Dirac with an anomalous moment kappa mu_B B beta Sigma_z, natural units",
+            units: Units::Natural,
+            source: "I. M. Ternov, V. G. Bagrov & V. Ch. Zhukovskii (1966) (from memory, not confirmed)",
+            params: {
+                let d = catalogue::DiracAmmParams::default();
+                vec![
+                    p("mass", d.mass, "m_e", "rest mass"),
+                    p("speed", d.speed, "c", "speed of light"),
+                    p("anomaly_kappa", d.anomaly_kappa, "1", "anomalous moment kappa in mu_B (invented default)"),
+                    p("charge", d.charge, "e", "carrier charge, signed"),
+                ]
+            },
+            build: |v| {
+                let d = catalogue::DiracAmmParams::default();
+                catalogue::dirac_amm(catalogue::DiracAmmParams {
+                    mass: get(v, "mass", d.mass),
+                    speed: get(v, "speed", d.speed),
+                    anomaly_kappa: get(v, "anomaly_kappa", d.anomaly_kappa),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "tilted-dirac2d",
+            summary: "two components, H = hbar w kx + hbar v (tau kx sigma_x + ky sigma_y), |w| < v",
+            units: Units::Lab,
+            source: "M. O. Goerbig, J.-N. Fuchs, G. Montambaux & F. Piechon, Phys. Rev. B 78, 045415 (2008)",
+            params: {
+                let d = catalogue::TiltedDiracParams::default();
+                vec![
+                    p("velocity_m_per_s", d.velocity_m_per_s, "m/s", "cone velocity v (invented default)"),
+                    p("tilt_velocity_m_per_s", d.tilt_velocity_m_per_s, "m/s", "tilt velocity w along x"),
+                    p("valley", d.valley as f64, "1", "valley index tau = +1 or -1"),
+                    p("charge", d.charge, "e", "carrier charge, signed"),
+                ]
+            },
+            build: |v| {
+                let d = catalogue::TiltedDiracParams::default();
+                catalogue::tilted_dirac2d(catalogue::TiltedDiracParams {
+                    velocity_m_per_s: get(v, "velocity_m_per_s", d.velocity_m_per_s),
+                    tilt_velocity_m_per_s: get(v, "tilt_velocity_m_per_s", d.tilt_velocity_m_per_s),
+                    valley: sign_i8("valley", get(v, "valley", d.valley as f64))?,
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "rashba",
+            summary: "two components, H = hbar^2 k^2/(2 m*) + alpha (ky sigma_x - kx sigma_y) + (g/2) mu_B B sigma_z",
+            units: Units::Lab,
+            source: "Yu. A. Bychkov & E. I. Rashba, J. Phys. C 17, 6039 (1984) (from memory, not confirmed)",
+            params: {
+                let d = catalogue::RashbaParams::default();
+                vec![
+                    p("mass_ratio", d.mass_ratio, "m_e", "effective mass m*/m_e (invented default)"),
+                    p("rashba_mev_nm", d.rashba_mev_nm, "meV nm", "Rashba coefficient alpha"),
+                    p("g_factor", d.g_factor, "1", "g in +(g/2) mu_B B sigma_z"),
+                    p("charge", d.charge, "e", "carrier charge, signed"),
+                ]
+            },
+            build: |v| {
+                let d = catalogue::RashbaParams::default();
+                catalogue::rashba(catalogue::RashbaParams {
+                    mass_ratio: get(v, "mass_ratio", d.mass_ratio),
+                    rashba_mev_nm: get(v, "rashba_mev_nm", d.rashba_mev_nm),
+                    g_factor: get(v, "g_factor", d.g_factor),
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "bilayer",
+            summary: "two components, chiral bilayer: H = -(hbar^2/2m) [(kx^2 - ky^2) sigma_x + 2 tau kx ky sigma_y]",
+            units: Units::Lab,
+            source: "E. McCann & V. I. Fal'ko, Phys. Rev. Lett. 96, 086805 (2006)",
+            params: {
+                let d = catalogue::BilayerParams::default();
+                vec![
+                    p("mass_ratio", d.mass_ratio, "m_e", "effective mass m/m_e (invented default)"),
+                    p("valley", d.valley as f64, "1", "valley index tau = +1 or -1"),
+                    p("charge", d.charge, "e", "carrier charge, signed"),
+                ]
+            },
+            build: |v| {
+                let d = catalogue::BilayerParams::default();
+                catalogue::bilayer(catalogue::BilayerParams {
+                    mass_ratio: get(v, "mass_ratio", d.mass_ratio),
+                    valley: sign_i8("valley", get(v, "valley", d.valley as f64))?,
+                    charge: get(v, "charge", d.charge),
+                })
+            },
+        },
+        BuiltinInfo {
+            name: "bhz",
+            summary: "four components (E1 up, H1 up, E1 down, H1 down), BHZ quantum-well model with Zeeman terms",
+            units: Units::Lab,
+            source: "B. A. Bernevig, T. L. Hughes & S.-C. Zhang, Science 314, 1757 (2006)",
+            params: {
+                let d = catalogue::BhzParams::default();
+                vec![
+                    p("a_mev_nm", d.a_mev_nm, "meV nm", "A, linear coupling (invented default)"),
+                    p("b_mev_nm2", d.b_mev_nm2, "meV nm^2", "B, curvature of the mass term"),
+                    p("c_mev", d.c_mev, "meV", "C, energy offset"),
+                    p("d_mev_nm2", d.d_mev_nm2, "meV nm^2", "D, particle-hole asymmetric curvature"),
+                    p("m_mev", d.m_mev, "meV", "M, mass (M B > 0: inverted)"),
+                    p("g_e", d.g_e, "1", "g-factor of the E1 band"),
+                    p("g_h", d.g_h, "1", "g-factor of the H1 band"),
+                    p("charge", d.charge, "e", "carrier charge, signed"),
+                ]
+            },
+            build: |v| {
+                let d = catalogue::BhzParams::default();
+                catalogue::bhz(catalogue::BhzParams {
+                    a_mev_nm: get(v, "a_mev_nm", d.a_mev_nm),
+                    b_mev_nm2: get(v, "b_mev_nm2", d.b_mev_nm2),
+                    c_mev: get(v, "c_mev", d.c_mev),
+                    d_mev_nm2: get(v, "d_mev_nm2", d.d_mev_nm2),
+                    m_mev: get(v, "m_mev", d.m_mev),
+                    g_e: get(v, "g_e", d.g_e),
+                    g_h: get(v, "g_h", d.g_h),
                     charge: get(v, "charge", d.charge),
                 })
             },
@@ -1400,8 +1541,9 @@ pub fn builtin_names() -> Vec<&'static str> {
 /// use std::collections::BTreeMap;
 /// let mut v = BTreeMap::new();
 /// v.insert("mass_mev".to_string(), 5.0);
-/// let m = ladderfan::modelfile::build_builtin("dirac2d", &v).unwrap();
+/// let m = ladderfan::modelfile::build_builtin("dirac2d", &v)?;
 /// assert_eq!(m.param("mass"), Some(5.0));
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model> {
     let info = builtin_info(name).ok_or_else(|| Error::Parse {
@@ -1438,8 +1580,9 @@ pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model
 /// # Examples
 /// ```
 /// use ladderfan::units::Units;
-/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x").unwrap();
+/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x")?;
 /// assert!((x - 1.0).abs() < 1e-15);
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn eval_expression(
     expr: &str,

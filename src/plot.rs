@@ -73,16 +73,53 @@ fn range(values: impl Iterator<Item = f64>) -> (f64, f64) {
         })
 }
 
-/// Split a curve at non-finite values into drawable runs.
-fn runs(points: &[(f64, f64)]) -> Vec<Vec<(f64, f64)>> {
+/// Split a curve at non-finite values into drawable runs, and clip it to the band
+/// y0 <= y <= y1: a segment that crosses the band edge ends (or starts) at the crossing point,
+/// found by linear interpolation, so no line is drawn outside the frame.
+fn runs(points: &[(f64, f64)], (y0, y1): (f64, f64)) -> Vec<Vec<(f64, f64)>> {
     let mut out = Vec::new();
-    let mut cur = Vec::new();
-    for &(x, y) in points {
-        if x.is_finite() && y.is_finite() {
-            cur.push((x, y));
-        } else if !cur.is_empty() {
-            out.push(std::mem::take(&mut cur));
+    let mut cur: Vec<(f64, f64)> = Vec::new();
+    let inside = |y: f64| y >= y0 && y <= y1;
+    let cross = |a: (f64, f64), b: (f64, f64), edge: f64| {
+        let t = (edge - a.1) / (b.1 - a.1);
+        (a.0 + t * (b.0 - a.0), edge)
+    };
+    let edge_between = |a: f64, b: f64| {
+        if (a - y1) * (b - y1) <= 0.0 {
+            y1
+        } else {
+            y0
         }
+    };
+    let mut prev: Option<(f64, f64)> = None;
+    for &(x, y) in points {
+        if !(x.is_finite() && y.is_finite()) {
+            if !cur.is_empty() {
+                out.push(std::mem::take(&mut cur));
+            }
+            prev = None;
+            continue;
+        }
+        let p = (x, y);
+        match prev {
+            Some(q) if inside(q.1) && inside(y) => cur.push(p),
+            Some(q) if inside(q.1) => {
+                cur.push(cross(q, p, edge_between(q.1, y)));
+                out.push(std::mem::take(&mut cur));
+            }
+            Some(q) if inside(y) => {
+                cur.push(cross(q, p, edge_between(q.1, y)));
+                cur.push(p);
+            }
+            // both outside: the segment may still pass through the band
+            Some(q) if (q.1 < y0 && y > y1) || (q.1 > y1 && y < y0) => {
+                out.push(vec![cross(q, p, y0), cross(q, p, y1)]);
+            }
+            Some(_) => {}
+            None if inside(y) => cur.push(p),
+            None => {}
+        }
+        prev = Some(p);
     }
     if !cur.is_empty() {
         out.push(cur);
@@ -103,8 +140,9 @@ fn runs(points: &[(f64, f64)]) -> Vec<Vec<(f64, f64)>> {
 ///     title: "t".into(), x_label: "B [T]".into(), y_label: "E [meV]".into(),
 ///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)] }],
 ///     y_range: None, notes: vec![],
-/// }).unwrap();
+/// })?;
 /// assert!(svg.starts_with("<svg") && svg.contains("B [T]"));
+/// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn line_plot(p: &LinePlot) -> Result<String> {
     let (x0, x1) = padded_x(range(
@@ -121,8 +159,29 @@ pub fn line_plot(p: &LinePlot) -> Result<String> {
     {
         let root = SVGBackend::with_string(&mut svg, SIZE).into_drawing_area();
         root.fill(&WHITE).map_err(plot_err)?;
-        let mut chart = ChartBuilder::on(&root)
-            .caption(&p.title, ("sans-serif", 22))
+        // title and notes in a band above the chart, so they never cover a curve
+        let band = 40 + 18 * p.notes.len() as u32;
+        let (top, body) = root.split_vertically(band);
+        top.draw(&Text::new(
+            p.title.clone(),
+            (SIZE.0 as i32 / 2, 12),
+            TextStyle::from(("sans-serif", 22).into_font()).pos(
+                plotters::style::text_anchor::Pos::new(
+                    plotters::style::text_anchor::HPos::Center,
+                    plotters::style::text_anchor::VPos::Top,
+                ),
+            ),
+        ))
+        .map_err(plot_err)?;
+        for (i, note) in p.notes.iter().enumerate() {
+            top.draw(&Text::new(
+                note.clone(),
+                (100, 40 + 18 * i as i32),
+                ("sans-serif", 14).into_font().color(&BLACK.mix(0.8)),
+            ))
+            .map_err(plot_err)?;
+        }
+        let mut chart = ChartBuilder::on(&body)
             .margin(18)
             .x_label_area_size(50)
             .y_label_area_size(80)
@@ -137,18 +196,11 @@ pub fn line_plot(p: &LinePlot) -> Result<String> {
             .axis_desc_style(("sans-serif", 17))
             .draw()
             .map_err(plot_err)?;
-        let clip = |v: &[(f64, f64)]| -> Vec<(f64, f64)> {
-            // keep points slightly outside so lines leave the frame instead of stopping short
-            let (lo, hi) = (y0 - (y1 - y0), y1 + (y1 - y0));
-            v.iter()
-                .map(|&(x, y)| (x, if y < lo || y > hi { f64::NAN } else { y }))
-                .collect()
-        };
         for c in &p.curves {
-            for run in runs(&clip(&c.points)) {
+            for run in runs(&c.points, (y0, y1)) {
                 match c.stroke {
                     Stroke::Solid => {
-                        let color = Palette99::pick(c.color_key).stroke_width(2);
+                        let color = palette(c.color_key).stroke_width(2);
                         if run.len() == 1 {
                             chart
                                 .draw_series(std::iter::once(Circle::new(
@@ -165,23 +217,35 @@ pub fn line_plot(p: &LinePlot) -> Result<String> {
                     }
                     Stroke::Dashed => {
                         chart
-                            .draw_series(DashedLineSeries::new(run, 6, 4, BLACK.stroke_width(1)))
+                            .draw_series(DashedLineSeries::new(
+                                run,
+                                5,
+                                5,
+                                BLACK.mix(0.7).stroke_width(1),
+                            ))
                             .map_err(plot_err)?;
                     }
                 }
             }
         }
-        for (i, note) in p.notes.iter().enumerate() {
-            root.draw(&Text::new(
-                note.clone(),
-                (100, 60 + 18 * i as i32),
-                ("sans-serif", 14).into_font().color(&BLACK.mix(0.8)),
-            ))
-            .map_err(plot_err)?;
-        }
         root.present().map_err(plot_err)?;
     }
     Ok(svg)
+}
+
+/// Eight strong, distinguishable colours (no pale ones, which a dashed overlay would hide).
+fn palette(key: usize) -> RGBColor {
+    const COLORS: [RGBColor; 8] = [
+        RGBColor(31, 119, 180),
+        RGBColor(214, 39, 40),
+        RGBColor(44, 160, 44),
+        RGBColor(148, 103, 189),
+        RGBColor(255, 127, 14),
+        RGBColor(23, 190, 207),
+        RGBColor(140, 86, 75),
+        RGBColor(227, 119, 194),
+    ];
+    COLORS[key % COLORS.len()]
 }
 
 fn padded_x((a, b): (f64, f64)) -> (f64, f64) {
@@ -225,6 +289,7 @@ pub fn level_diagram(d: &LevelDiagram) -> Result<String> {
         chart
             .configure_mesh()
             .x_desc("dominant orbital n")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc(format!("E [{}]", d.energy_unit))
             .light_line_style(WHITE.mix(0.0))
             .label_style(("sans-serif", 15))
@@ -247,8 +312,25 @@ mod tests {
 
     #[test]
     fn broken_curves_split_into_runs() {
-        let r = runs(&[(0.0, 1.0), (1.0, f64::NAN), (2.0, 3.0), (3.0, 4.0)]);
+        let r = runs(
+            &[(0.0, 1.0), (1.0, f64::NAN), (2.0, 3.0), (3.0, 4.0)],
+            (0.0, 10.0),
+        );
         assert_eq!(r, vec![vec![(0.0, 1.0)], vec![(2.0, 3.0), (3.0, 4.0)]]);
+    }
+
+    #[test]
+    fn curves_are_clipped_at_the_frame() {
+        // y = 2x from x = 0 to 3 leaves the band [0, 4] at x = 2
+        let r = runs(&[(0.0, 0.0), (1.0, 2.0), (3.0, 6.0)], (0.0, 4.0));
+        assert_eq!(r, vec![vec![(0.0, 0.0), (1.0, 2.0), (2.0, 4.0)]]);
+        // entering from below: y = 2x - 2 from x = 0 enters at x = 1
+        let r = runs(&[(0.0, -2.0), (2.0, 2.0)], (0.0, 4.0));
+        assert_eq!(r, vec![vec![(1.0, 0.0), (2.0, 2.0)]]);
+        // crossing the whole band in one segment
+        let r = runs(&[(0.0, -4.0), (4.0, 8.0)], (0.0, 4.0));
+        assert_eq!(r.len(), 1);
+        assert!((r[0][0].0 - 4.0 / 3.0).abs() < 1e-12 && (r[0][1].0 - 8.0 / 3.0).abs() < 1e-12);
     }
 
     #[test]

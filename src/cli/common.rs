@@ -69,7 +69,7 @@ pub fn bad_flag(flag: &str, message: impl Into<String>) -> CliError {
 /// Where the model comes from: a file or a built-in with overrides.
 #[derive(Debug, Clone, Args)]
 pub struct ModelArgs {
-    /// Model file (TOML; see docs/modelfile.md).
+    /// Model file (TOML; see the README, section Model files).
     #[arg(long, value_name = "FILE", conflicts_with = "builtin")]
     pub model: Option<PathBuf>,
     /// Built-in model by name (list them with `ladderfan models`).
@@ -351,49 +351,97 @@ impl OutputFiles {
     }
 
     /// Write every queued file into `dir` (created if missing). Returns the written paths.
+    ///
+    /// All files are first written in full under temporary names; only when every one of them
+    /// succeeded are they renamed to their final names. On any failure the temporaries are
+    /// removed, files already renamed by this call are deleted again, and a directory this call
+    /// created is removed, so a failed run leaves no file behind.
     pub fn write_all(self, dir: &Path) -> CliResult<Vec<PathBuf>> {
+        let existed = dir.exists();
         std::fs::create_dir_all(dir).map_err(|source| Error::Io {
             action: "create output directory".into(),
             path: dir.display().to_string(),
             source,
         })?;
-        let mut written = Vec::new();
+        let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
+        let cleanup = |staged: &[(PathBuf, PathBuf)]| {
+            for (tmp, _) in staged {
+                let _ = std::fs::remove_file(tmp);
+            }
+            if !existed {
+                let _ = std::fs::remove_dir(dir);
+            }
+        };
         for (name, content) in &self.files {
             let path = dir.join(name);
-            write_atomic(&path, content)?;
-            written.push(path);
+            match write_temp(&path, content) {
+                Ok(tmp) => staged.push((tmp, path)),
+                Err(e) => {
+                    cleanup(&staged);
+                    return Err(e);
+                }
+            }
+        }
+        let mut written = Vec::new();
+        for (i, (tmp, path)) in staged.iter().enumerate() {
+            if let Err(source) = std::fs::rename(tmp, path) {
+                // undo this run's renamed files too: a failed run leaves none of its files
+                for p in &written {
+                    let _ = std::fs::remove_file(p);
+                }
+                cleanup(&staged[i..]);
+                return Err(CliError::Input(Error::Io {
+                    action: "write".into(),
+                    path: path.display().to_string(),
+                    source,
+                }));
+            }
+            written.push(path.clone());
         }
         Ok(written)
     }
 }
 
-/// Write `content` to `path` whole or not at all: a temporary file in the same directory,
-/// flushed and synced, then renamed over the target. On failure the temporary is removed.
-pub fn write_atomic(path: &Path, content: &[u8]) -> CliResult {
+/// Write `content` in full to a temporary file next to `path` (flushed and synced) and return
+/// its name; on failure nothing is left behind.
+fn write_temp(path: &Path, content: &[u8]) -> CliResult<PathBuf> {
     let dir = path.parent().unwrap_or(Path::new("."));
     let file_name = path
         .file_name()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_else(|| "out".into());
     let tmp = dir.join(format!(".{file_name}.tmp-{}", std::process::id()));
-    let io_err = |source: std::io::Error| {
+    let result = (|| -> std::io::Result<()> {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(content)?;
+        f.sync_all()
+    })();
+    match result {
+        Ok(()) => Ok(tmp),
+        Err(source) => {
+            let _ = std::fs::remove_file(&tmp);
+            Err(CliError::Input(Error::Io {
+                action: "write".into(),
+                path: path.display().to_string(),
+                source,
+            }))
+        }
+    }
+}
+
+/// Write `content` to `path` whole or not at all: a temporary file in the same directory,
+/// then a rename over the target.
+#[allow(dead_code)] // shared helper for commands that write a single file outside --out
+pub fn write_atomic(path: &Path, content: &[u8]) -> CliResult {
+    let tmp = write_temp(path, content)?;
+    std::fs::rename(&tmp, path).map_err(|source| {
+        let _ = std::fs::remove_file(&tmp);
         CliError::Input(Error::Io {
             action: "write".into(),
             path: path.display().to_string(),
             source,
         })
-    };
-    let result = (|| -> std::io::Result<()> {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(content)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
-    })();
-    if let Err(e) = result {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(io_err(e));
-    }
-    Ok(())
+    })
 }
 
 /// Whether progress bars may be drawn: both stderr and stdout are terminals.
@@ -433,24 +481,19 @@ pub fn grid_values(
             format!("{points} points is more than 100000; use fewer points"),
         ));
     }
-    let t = |i: usize| i as f64 / (points - 1) as f64;
-    match grid {
-        Grid::Linear => Ok((0..points).map(|i| from + (to - from) * t(i)).collect()),
-        Grid::Log => {
-            if from == 0.0 || to == 0.0 || from.signum() != to.signum() {
-                return Err(bad_flag(
-                    "--grid",
-                    format!(
-                        "a log grid from {from} to {to} is impossible; both ends need the same sign and neither may be 0 (or use --grid linear)"
-                    ),
-                ));
-            }
-            let (a, b) = (from.abs().ln(), to.abs().ln());
-            Ok((0..points)
-                .map(|i| from.signum() * (a + (b - a) * t(i)).exp())
-                .collect())
-        }
+    let spacing = match grid {
+        Grid::Linear => ladderfan::sweep::Spacing::Linear,
+        Grid::Log => ladderfan::sweep::Spacing::Log,
+    };
+    if grid == Grid::Log && (from == 0.0 || to == 0.0 || from.signum() != to.signum()) {
+        return Err(bad_flag(
+            "--grid",
+            format!(
+                "a log grid from {from} to {to} is impossible; both ends need the same sign and neither may be 0 (or use --grid linear)"
+            ),
+        ));
     }
+    Ok(ladderfan::sweep::grid(from, to, points, spacing)?)
 }
 
 /// JSON view of one level.
@@ -564,6 +607,8 @@ pub struct UnitsJson {
     pub length: String,
     /// Field unit.
     pub field: String,
+    /// Wave-number (kz) unit.
+    pub wavenumber: String,
 }
 
 impl UnitsJson {
@@ -576,6 +621,7 @@ impl UnitsJson {
             energy: u.energy_unit().into(),
             length: u.length_unit().into(),
             field: u.field_unit().into(),
+            wavenumber: u.wavenumber_unit().into(),
         }
     }
 }
@@ -584,7 +630,7 @@ impl UnitsJson {
 pub fn csv_header(lm: &LoadedModel, what: &str, extra: &[String]) -> String {
     let mut s = format!("# ladderfan {} {what}\n", env!("CARGO_PKG_VERSION"));
     s.push_str(&format!(
-        "# model: {} ({}), {} components, charge {} e\n",
+        "# model: {} ({}), {} component(s), charge {} e\n",
         lm.model.name(),
         lm.origin,
         lm.model.dim(),
@@ -714,5 +760,85 @@ impl SymmetryJson {
             exact: s.symmetry.is_exact(),
             classes: s.symmetry.clone(),
         }
+    }
+}
+
+/// The wave-number unit of a unit system, e.g. `1/nm` or `m c/hbar`.
+pub fn inverse_length(u: ladderfan::units::Units) -> String {
+    u.wavenumber_unit().to_string()
+}
+
+/// A branch label for tables: `+1`/`-1` for Klein-Gordon branches, `0` otherwise.
+pub fn branch_text(b: i8) -> String {
+    if b == 0 {
+        "0".into()
+    } else {
+        format!("{b:+}")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn scratch(name: &str) -> PathBuf {
+        let d =
+            std::env::temp_dir().join(format!("ladderfan-common-{}-{name}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&d);
+        d
+    }
+
+    fn names(dir: &Path) -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(dir)
+            .into_iter()
+            .flatten()
+            .flatten()
+            .map(|e| e.file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+
+    #[test]
+    fn output_files_are_written_whole() {
+        let d = scratch("ok");
+        let mut f = OutputFiles::default();
+        f.add("a.csv", "1,2\n");
+        f.add("b.svg", "<svg/>");
+        let w = f
+            .write_all(&d)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(w.len(), 2);
+        assert_eq!(names(&d), vec!["a.csv", "b.svg"]);
+        assert_eq!(
+            std::fs::read_to_string(d.join("a.csv")).ok().as_deref(),
+            Some("1,2\n")
+        );
+        write_atomic(&d.join("a.csv"), b"3").unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(
+            std::fs::read_to_string(d.join("a.csv")).ok().as_deref(),
+            Some("3")
+        );
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn a_failed_write_leaves_no_file_behind() {
+        // the second target is an existing directory: its rename fails after the first file
+        // was staged; nothing new may remain
+        let d = scratch("fail");
+        std::fs::create_dir_all(d.join("b.svg").join("inside")).unwrap_or_else(|e| panic!("{e}"));
+        let mut f = OutputFiles::default();
+        f.add("a.csv", "1,2\n");
+        f.add("b.svg", "<svg/>");
+        let r = f.write_all(&d);
+        assert!(r.is_err());
+        let left = names(&d);
+        assert_eq!(
+            left,
+            vec!["b.svg"],
+            "only the pre-existing directory may remain"
+        );
+        let _ = std::fs::remove_dir_all(&d);
     }
 }

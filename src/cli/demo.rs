@@ -56,8 +56,8 @@ pub struct DemoJson {
     pub levels: super::levels::LevelsJson,
     /// The fan sweep.
     pub fan: sweep::SweepJson,
-    /// Closed-form check, when available.
-    pub closed_form_check: Option<String>,
+    /// Closed-form check at the demo field (the fan's own check is in `fan`).
+    pub closed_form_check: Option<sweep::ClosedFormCheck>,
     /// Files written.
     pub files: Vec<String>,
 }
@@ -81,14 +81,14 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let s = super::levels::compute(&lm, &r)?;
     let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
     let sweep_args = SweepArgs {
-        points: 80,
+        points: Some(80),
         grid: common::Grid::Linear,
         emin: Some(-80.0),
         emax: Some(80.0),
         count: 16,
         threads: None,
     };
-    let values = common::grid_values("--b-min", 0.25, 10.0, sweep_args.points, sweep_args.grid)?;
+    let values = common::grid_values("--b-min", 0.25, 10.0, 80, sweep_args.grid)?;
     let plan = Plan {
         command: "fan",
         swept: Swept::Field,
@@ -102,7 +102,8 @@ pub fn run(a: &DemoArgs) -> CliResult {
         memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
     };
     let o = sweep::execute(&lm, &plan, &sweep_args)?;
-    let closed_form_check: Option<String> = None;
+    let win = (-80.0, 80.0);
+    let closed_form_check = sweep::closed_form_check(&lm, &[&s], win);
     let mut files = common::OutputFiles::default();
     files.add("model.toml", DEMO_MODEL);
     files.add("levels.csv", super::levels::to_csv(&lm, &s, &idx)?);
@@ -114,13 +115,16 @@ pub fn run(a: &DemoArgs) -> CliResult {
         .map(|p| p.display().to_string())
         .collect();
     if a.json {
-        return common::emit_json(&DemoJson {
+        let fan_check = o.json.closed_form.clone();
+        common::emit_json(&DemoJson {
             command: "demo",
             levels: super::levels::to_json(&lm, &s, &idx),
             fan: o.json,
-            closed_form_check,
+            closed_form_check: closed_form_check.clone(),
             files: written,
-        });
+        })?;
+        sweep::verdict(closed_form_check.as_ref())?;
+        return sweep::verdict(fan_check.as_ref());
     }
     let mut text = String::from(
         "ladderfan demo: a hypothetical gapped Dirac film with INVENTED parameters\n\
@@ -132,12 +136,27 @@ pub fn run(a: &DemoArgs) -> CliResult {
         o.json.values.len(),
         o.json.tracks.len()
     ));
-    match &closed_form_check {
-        Some(c) => text.push_str(&format!("closed form: {c}\n")),
-        None => text.push_str("closed form: check not available in this build\n"),
+    // closed form: E_n = ±sqrt(Delta^2 + 2 n hbar^2 v^2 / l_B^2), n = 0 at tau sign(qB) Delta
+    // (ladderfan::closed_form::dirac2d; McClure 1956 for Delta = 0)
+    for (what, c) in [
+        ("at 6 T", &closed_form_check),
+        ("over the fan", &o.json.closed_form),
+    ] {
+        match c {
+            Some(c) => text.push_str(&format!(
+                "closed-form check {what}: {} ({} computed and {} closed-form levels, max deviation {:.2e} meV)\n",
+                if c.passed { "passed" } else { "FAILED" },
+                c.computed_compared,
+                c.expected_compared,
+                c.max_deviation
+            )),
+            None => text.push_str(&format!("closed-form check {what}: not available\n")),
+        }
     }
     for w in &written {
         text.push_str(&format!("wrote {w}\n"));
     }
-    common::emit(&text)
+    common::emit(&text)?;
+    sweep::verdict(closed_form_check.as_ref())?;
+    sweep::verdict(o.json.closed_form.as_ref())
 }

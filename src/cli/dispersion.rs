@@ -44,7 +44,13 @@ pub fn plan(lm: &common::LoadedModel, a: &DispersionArgs) -> CliResult<Plan> {
     let lb = lm.model.units().magnetic_length(field, lm.model.charge());
     let kz_max = common::finite_flag("--kz-max", a.kz_max.unwrap_or(3.0 / lb))?;
     let kz_min = common::finite_flag("--kz-min", a.kz_min.unwrap_or(-kz_max))?;
-    let values = common::grid_values("--kz-min", kz_min, kz_max, a.sweep.points, a.sweep.grid)?;
+    let values = common::grid_values(
+        "--kz-min",
+        kz_min,
+        kz_max,
+        a.sweep.points.unwrap_or(61),
+        a.sweep.grid,
+    )?;
     let reference_point = values
         .iter()
         .enumerate()

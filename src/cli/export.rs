@@ -230,11 +230,11 @@ pub fn run(a: &ExportArgs) -> CliResult {
         ),
         format!("units: {}", u.header()),
         format!(
-            "field {} {}, kz {} 1/{}, cutoff {}, absolute energies (no reference subtracted)",
+            "field {} {}, kz {} {}, cutoff {}, absolute energies (no reference subtracted)",
             r.field,
             u.field_unit(),
             r.kz,
-            u.length_unit(),
+            common::inverse_length(u),
             r.cutoff
         ),
     ];

@@ -36,7 +36,13 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
     let b_max = common::finite_flag("--b-max", a.b_max.unwrap_or(default_max))?;
     let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 20.0))?;
     let kz = common::finite_flag("--kz", a.kz.or(lm.defaults.kz).unwrap_or(0.0))?;
-    let values = common::grid_values("--b-min", b_min, b_max, a.sweep.points, a.sweep.grid)?;
+    let values = common::grid_values(
+        "--b-min",
+        b_min,
+        b_max,
+        a.sweep.points.unwrap_or(60),
+        a.sweep.grid,
+    )?;
     if let Some(i) = values.iter().position(|&b| b == 0.0) {
         return Err(bad_flag(
             "--b-min",

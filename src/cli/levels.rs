@@ -87,18 +87,18 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     let u = lm.model.units();
     let kg = matches!(lm.model.form(), SpectrumForm::KleinGordon { .. });
     let mut out = format!(
-        "model: {} ({}), {} components, charge {} e\n",
+        "model: {} ({}), {} component(s), charge {} e\n",
         lm.model.name(),
         lm.origin,
         lm.model.dim(),
         lm.model.charge()
     );
     out.push_str(&format!(
-        "field {} {}, kz {} 1/{}, cutoff {}, magnetic length {} {}\n",
+        "field {} {}, kz {} {}, cutoff {}, magnetic length {} {}\n",
         s.point.field,
         u.field_unit(),
         s.point.kz,
-        u.length_unit(),
+        common::inverse_length(u),
         s.cutoff,
         fmt_num(s.magnetic_length, 6),
         u.length_unit()
@@ -138,7 +138,7 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
             },
         ];
         if kg {
-            r.push(format!("{:+}", l.branch));
+            r.push(common::branch_text(l.branch));
         }
         r.extend([
             fmt_num(l.energy, 10),
@@ -159,11 +159,11 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         "levels",
         &[
             format!(
-                "field {} {}, kz {} 1/{}, cutoff {}",
+                "field {} {}, kz {} {}, cutoff {}",
                 s.point.field,
                 u.field_unit(),
                 s.point.kz,
-                u.length_unit(),
+                common::inverse_length(u),
                 s.cutoff
             ),
             format!(

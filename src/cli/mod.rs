@@ -15,11 +15,14 @@ pub mod common;
 pub mod converge;
 pub mod demo;
 pub mod dispersion;
+pub mod dos;
 pub mod export;
 pub mod fan;
 pub mod levels;
 pub mod models;
+pub mod optics;
 pub mod sweep;
+pub mod verify;
 
 use clap::{Parser, Subcommand};
 use common::{CliError, CliResult, EXIT_BAD_INPUT, EXIT_VERIFICATION};
@@ -35,8 +38,7 @@ pub struct Cli {
     pub command: Option<Command>,
 }
 
-/// Every command. Planned additions (separate files, added by their authors): `verify`,
-/// `dos`, `optics`, `merge`.
+/// Every command. Planned additions (separate files, added by their authors): `merge`.
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Levels at one field and kz: a labelled table with error bounds.
@@ -51,6 +53,13 @@ pub enum Command {
     Export(export::ExportArgs),
     /// An invented gapped Dirac film: table, fan diagram SVG and CSV in a few seconds.
     Demo(demo::DemoArgs),
+    /// Density of states, Fermi level and filling factor (and the Fermi level against B).
+    Dos(dos::DosArgs),
+    /// Allowed magneto-optical transitions at one field, or their fan against B.
+    Optics(optics::OpticsArgs),
+    /// Check a level formula (or a CSV of expected levels) against the exact spectrum, level
+    /// by level: exit 0 pass, 1 fail, 2 bad input.
+    Verify(verify::VerifyArgs),
     /// Convergence in the cutoff: a study over cutoffs, or the cutoff a tolerance needs.
     Converge(converge::ConvergeArgs),
 }
@@ -64,6 +73,9 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Models(a) => models::run(&a),
         Command::Export(a) => export::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Dos(a) => dos::run(&a),
+        Command::Optics(a) => optics::run(&a),
+        Command::Verify(a) => verify::run(&a),
         Command::Converge(a) => converge::run(&a),
     }
 }

@@ -11,6 +11,40 @@ pub struct ModelsArgs {
     /// Print JSON instead of the text listing.
     #[arg(long)]
     pub json: bool,
+    /// Directory for models.csv (one row per model parameter).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<std::path::PathBuf>,
+}
+
+/// CSV listing: one row per (model, parameter); the units of each model in its own column.
+pub fn to_csv(e: &[ModelEntry]) -> CliResult<String> {
+    let header = format!(
+        "# ladderfan {} models\n# units: per model, see the units column (Units::header of its unit system)\n",
+        env!("CARGO_PKG_VERSION")
+    );
+    let mut rec = vec![vec![
+        "model".to_string(),
+        "units".into(),
+        "parameter".into(),
+        "default".into(),
+        "unit".into(),
+        "meaning".into(),
+        "source".into(),
+    ]];
+    for m in e {
+        for p in &m.parameters {
+            rec.push(vec![
+                m.name.into(),
+                m.units_header.clone(),
+                p.name.into(),
+                p.default.to_string(),
+                p.unit.into(),
+                p.meaning.into(),
+                m.source.into(),
+            ]);
+        }
+    }
+    common::csv_text(&header, &rec)
 }
 
 /// One parameter in the listing.
@@ -70,13 +104,23 @@ pub fn entries() -> Vec<ModelEntry> {
 /// Run `ladderfan models`.
 pub fn run(a: &ModelsArgs) -> CliResult {
     let e = entries();
+    let mut written = Vec::new();
+    if let Some(dir) = &a.out {
+        let mut files = common::OutputFiles::default();
+        files.add("models.csv", to_csv(&e)?);
+        written = files.write_all(dir)?;
+    }
     if a.json {
         return emit_json(&e);
     }
     let mut s = String::new();
     for m in &e {
         s.push_str(&format!("{}: {}\n", m.name, m.summary));
-        s.push_str(&format!("  units: {:?} ({})\n", m.units, m.units_header).to_lowercase());
+        let system = match m.units {
+            ladderfan::units::Units::Lab => "lab",
+            ladderfan::units::Units::Natural => "natural",
+        };
+        s.push_str(&format!("  units: {system} ({})\n", m.units_header));
         s.push_str(&format!("  source: {}\n", m.source));
         let mut rows = vec![vec![
             "  parameter".to_string(),
@@ -87,8 +131,8 @@ pub fn run(a: &ModelsArgs) -> CliResult {
         for p in &m.parameters {
             rows.push(vec![
                 format!("  {}", p.name),
-                common::fmt_num(p.default, 6),
-                p.unit.into(),
+                p.default.to_string(),
+                format!("[{}]", p.unit),
                 p.meaning.into(),
             ]);
         }
@@ -98,5 +142,8 @@ pub fn run(a: &ModelsArgs) -> CliResult {
     s.push_str(
         "use one with --builtin NAME [--set KEY=VALUE ...] or builtin = \"NAME\" in a model file\n",
     );
+    for p in written {
+        s.push_str(&format!("wrote {}\n", p.display()));
+    }
     emit(&s)
 }

@@ -7,9 +7,9 @@ use super::common::{
 };
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use ladderfan::closed_form;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::{FieldPoint, Settings, Spectrum};
-use rayon::prelude::*;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -18,9 +18,9 @@ use std::time::{Duration, Instant};
 /// Flags shared by every sweep.
 #[derive(Debug, Clone, Args)]
 pub struct SweepArgs {
-    /// Number of sweep points.
-    #[arg(long, default_value_t = 60)]
-    pub points: usize,
+    /// Number of sweep points (default: 60 for fan, 61 for dispersion so that kz = 0 is one).
+    #[arg(long)]
+    pub points: Option<usize>,
     /// Grid spacing.
     #[arg(long, value_enum, default_value_t = common::Grid::Linear)]
     pub grid: common::Grid,
@@ -95,24 +95,18 @@ pub fn solve_points(
     bar.set_message(what.to_string());
     let interactive = common::interactive();
     let shown = AtomicBool::new(false);
-    let work = || -> Vec<ladderfan::Result<Spectrum>> {
-        points
-            .par_iter()
-            .map(|p| {
-                let r = Spectrum::compute(&lm.model, *p, settings);
-                bar.inc(1);
-                if interactive
-                    && start.elapsed() > Duration::from_millis(800)
-                    && shown
-                        .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
-                        .is_ok()
-                {
-                    bar.set_draw_target(ProgressDrawTarget::stderr());
-                }
-                r
-            })
-            .collect()
+    let tick = || {
+        bar.inc(1);
+        if interactive
+            && start.elapsed() > Duration::from_millis(800)
+            && shown
+                .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
+                .is_ok()
+        {
+            bar.set_draw_target(ProgressDrawTarget::stderr());
+        }
     };
+    let work = || ladderfan::sweep::run_with(&lm.model, points, settings, &tick);
     let results = match threads {
         None => work(),
         Some(0) => return Err(bad_flag("--threads", "0 threads; give at least 1")),
@@ -123,7 +117,7 @@ pub fn solve_points(
             .install(work),
     };
     bar.finish_and_clear();
-    let spectra = results.into_iter().collect::<ladderfan::Result<Vec<_>>>()?;
+    let spectra = results?;
     let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
@@ -218,16 +212,102 @@ pub fn in_window(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
         .collect()
 }
 
-/// Closed-form overlay curves for the swept points, if the model has a closed form.
+/// Closed-form overlay curves for the swept points, if the model has a closed form
+/// ([`ladderfan::closed_form::for_model`]): one curve per closed-form label, values outside the
+/// window (widened by half its width) dropped.
 pub fn closed_form_curves(
     lm: &LoadedModel,
     points: &[FieldPoint],
     xs: &[f64],
     reference_energy: f64,
+    cutoff: usize,
     (lo, hi): (f64, f64),
 ) -> Option<Vec<Vec<(f64, f64)>>> {
-    let _ = (lm, points, xs, reference_energy, lo, hi);
-    None
+    let margin = 0.5 * (hi - lo);
+    let mut curves: BTreeMap<(i64, i8, String), Vec<(f64, f64)>> = BTreeMap::new();
+    for (i, (p, &x)) in points.iter().zip(xs).enumerate() {
+        let levels = closed_form::for_model(&lm.model, *p, reference_energy, cutoff)?;
+        for l in levels {
+            let c = curves
+                .entry((l.n, l.s, l.label.clone()))
+                .or_insert_with(|| vec![(f64::NAN, f64::NAN); points.len()]);
+            let keep = l.energy >= lo - margin && l.energy <= hi + margin;
+            c[i] = (x, if keep { l.energy } else { f64::NAN });
+        }
+    }
+    Some(
+        curves
+            .into_values()
+            .filter(|c| c.iter().any(|&(_, e)| e >= lo && e <= hi))
+            .collect(),
+    )
+}
+
+/// Outcome of comparing computed levels with a closed form at one or more points.
+#[derive(Debug, Clone, Serialize)]
+pub struct ClosedFormCheck {
+    /// Source named by the closed form module (the model's published formula).
+    pub model: String,
+    /// Computed converged levels compared (each with its nearest closed-form value).
+    pub computed_compared: usize,
+    /// Closed-form levels with index n below a quarter of the cutoff looked up among the
+    /// computed levels.
+    pub expected_compared: usize,
+    /// Largest |E_computed - E_closed form| found, energy unit of the model.
+    pub max_deviation: f64,
+    /// Largest deviation divided by its tolerance (pass when <= 1).
+    pub worst_ratio: f64,
+    /// Whether every comparison is within tolerance.
+    pub passed: bool,
+}
+
+/// Compare converged levels in the window with the closed form, both ways: every computed
+/// level must sit on a closed-form value, and every closed-form level with n < cutoff/4 inside
+/// the window must be found. Tolerance per level: 1e-9 x max(|E|, energy scale) + its bound.
+/// `None` when the model has no closed form.
+pub fn closed_form_check(
+    lm: &LoadedModel,
+    spectra: &[&Spectrum],
+    (lo, hi): (f64, f64),
+) -> Option<ClosedFormCheck> {
+    let mut out = ClosedFormCheck {
+        model: lm.model.name().to_string(),
+        computed_compared: 0,
+        expected_compared: 0,
+        max_deviation: 0.0,
+        worst_ratio: 0.0,
+        passed: true,
+    };
+    for s in spectra {
+        let expected = closed_form::for_model(&lm.model, s.point, s.reference_energy, s.cutoff)?;
+        let tol = |e: f64, bound: f64| 1e-9 * e.abs().max(s.energy_scale) + bound;
+        let mut note = |dev: f64, t: f64| {
+            out.max_deviation = out.max_deviation.max(dev);
+            out.worst_ratio = out.worst_ratio.max(dev / t);
+        };
+        for l in s.converged().filter(|l| l.energy >= lo && l.energy <= hi) {
+            let dev = expected
+                .iter()
+                .map(|x| (x.energy - l.energy).abs())
+                .fold(f64::INFINITY, f64::min);
+            note(dev, tol(l.energy, l.bound));
+            out.computed_compared += 1;
+        }
+        let deep = (s.cutoff / 4) as i64;
+        for x in expected
+            .iter()
+            .filter(|x| x.n < deep && x.energy > lo && x.energy < hi)
+        {
+            let (dev, bound) = s
+                .converged()
+                .map(|l| ((l.energy - x.energy).abs(), l.bound))
+                .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a });
+            note(dev, tol(x.energy, bound));
+            out.expected_compared += 1;
+        }
+    }
+    out.passed = out.worst_ratio <= 1.0;
+    Some(out)
 }
 
 /// Everything a sweep produced.
@@ -259,6 +339,8 @@ pub struct SweepJson {
     pub window: (f64, f64),
     /// Index of the point that set the labels' orbital/component and the default window.
     pub reference_point: usize,
+    /// Comparison with the model's closed form over every point, when it has one.
+    pub closed_form: Option<ClosedFormCheck>,
     /// The tracked levels entering the window.
     pub tracks: Vec<Track>,
 }
@@ -268,10 +350,10 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
     let u = lm.model.units();
     let (xname, xunit) = match j.swept {
         Swept::Field => ("field", u.field_unit().to_string()),
-        Swept::Kz => ("kz", format!("1/{}", u.length_unit())),
+        Swept::Kz => ("kz", common::inverse_length(u)),
     };
     let fixed = match j.swept {
-        Swept::Field => format!("kz {} 1/{}", j.kz.unwrap_or(0.0), u.length_unit()),
+        Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
         Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
     };
     let header = csv_header(
@@ -332,7 +414,7 @@ pub fn svg(
     let u = lm.model.units();
     let x_label = match j.swept {
         Swept::Field => format!("B [{}]", u.field_unit()),
-        Swept::Kz => format!("kz [1/{}]", u.length_unit()),
+        Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
     let mut curves: Vec<Curve> = j
         .tracks
@@ -401,7 +483,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.values.last().copied().unwrap_or(0.0),
         match j.swept {
             Swept::Field => u.field_unit().to_string(),
-            Swept::Kz => format!("1/{}", u.length_unit()),
+            Swept::Kz => common::inverse_length(u),
         }
     );
     s.push_str(&format!(
@@ -412,6 +494,18 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         fmt_num(j.window.1, 6),
         u.energy_unit()
     ));
+    match &j.closed_form {
+        Some(c) => s.push_str(&format!(
+            "closed form: {} ({} computed and {} closed-form levels compared, max deviation {:.2e} {}, {} of tolerance)\n",
+            if c.passed { "agrees" } else { "DISAGREES" },
+            c.computed_compared,
+            c.expected_compared,
+            c.max_deviation,
+            u.energy_unit(),
+            fmt_num(c.worst_ratio, 3)
+        )),
+        None => s.push_str("closed form: none known for this model\n"),
+    }
     let x_ref = j.values[j.reference_point];
     let mut rows = vec![vec![
         "sector".to_string(),
@@ -422,7 +516,13 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         format!("E min [{}]", u.energy_unit()),
         format!("E max [{}]", u.energy_unit()),
     ]];
-    let mut tracks: Vec<&Track> = j.tracks.iter().collect();
+    // the table lists the tracks inside the window at the reference point
+    let (lo, hi) = j.window;
+    let mut tracks: Vec<&Track> = j
+        .tracks
+        .iter()
+        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
+        .collect();
     tracks.sort_by(|a, b| {
         let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
         let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
@@ -439,7 +539,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
             });
         rows.push(vec![
             t.sector.clone(),
-            format!("{:+}", t.branch),
+            common::branch_text(t.branch),
             t.rank.to_string(),
             t.orbital.map(|n| n.to_string()).unwrap_or_default(),
             t.energies[j.reference_point]
@@ -451,10 +551,11 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
     }
     s.push('\n');
     s.push_str(&common::table(&rows));
-    if tracks.len() > MAX_ROWS {
+    let hidden = j.tracks.len() - tracks.len().min(MAX_ROWS);
+    if hidden > 0 {
         s.push_str(&format!(
-            "... {} more (see --json or --out)\n",
-            tracks.len() - MAX_ROWS
+            "({hidden} more tracks, outside the window at {} or beyond {MAX_ROWS} rows: see --json or --out)\n",
+            fmt_num(x_ref, 6)
         ));
     }
     s
@@ -490,6 +591,20 @@ pub struct Outcome {
 
 /// Solve, track and select.
 pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
+    // flag problems first: a bad window must not cost a sweep
+    for (flag, v) in [("--emin", a.emin), ("--emax", a.emax)] {
+        if let Some(v) = v {
+            common::finite_flag(flag, v)?;
+        }
+    }
+    if let (Some(lo), Some(hi)) = (a.emin, a.emax) {
+        if lo >= hi {
+            return Err(bad_flag(
+                "--emin",
+                format!("the energy window [{lo}, {hi}] is empty; give --emin below --emax"),
+            ));
+        }
+    }
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
     let spectra = solve_points(lm, &plan.points, &settings, plan.command, a.threads)?;
@@ -501,8 +616,11 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         &plan.points,
         &plan.values,
         reference.reference_energy,
+        plan.cutoff,
         win,
     );
+    let all: Vec<&Spectrum> = spectra.iter().collect();
+    let check = closed_form_check(lm, &all, win);
     let json = SweepJson {
         command: plan.command,
         model: ModelJson::new(lm),
@@ -523,6 +641,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         symmetry: SymmetryJson::new(reference),
         window: win,
         reference_point: plan.reference_point,
+        closed_form: check,
         tracks,
     };
     Ok(Outcome { json, closed })
@@ -541,12 +660,51 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
         written = files.write_all(dir)?;
     }
     if output.json {
-        common::emit_json(&o.json)
+        common::emit_json(&o.json)?;
     } else {
         let mut text = summary(lm, &o.json);
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }
-        common::emit(&text)
+        common::emit(&text)?;
+    }
+    verdict(o.json.closed_form.as_ref())
+}
+
+/// Exit status of a closed-form comparison: a disagreement is a failed verification.
+pub fn verdict(c: Option<&ClosedFormCheck>) -> CliResult {
+    match c {
+        Some(c) if !c.passed => Err(CliError::Verification(format!(
+            "computed levels of {} deviate from the closed form by up to {:e} ({} times the tolerance)",
+            c.model, c.max_deviation, c.worst_ratio
+        ))),
+        _ => Ok(()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_closed_form_disagreement_is_a_verification_failure() {
+        let mut c = ClosedFormCheck {
+            model: "m".into(),
+            computed_compared: 3,
+            expected_compared: 3,
+            max_deviation: 1e-3,
+            worst_ratio: 5.0,
+            passed: false,
+        };
+        let e = verdict(Some(&c))
+            .err()
+            .unwrap_or_else(|| panic!("no error"));
+        assert_eq!(e.exit_code(), common::EXIT_VERIFICATION);
+        assert!(e
+            .message()
+            .starts_with("verification failed: computed levels of m deviate"));
+        c.passed = true;
+        assert!(verdict(Some(&c)).is_ok());
+        assert!(verdict(None).is_ok());
     }
 }

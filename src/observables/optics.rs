@@ -1,0 +1,468 @@
+//! Magneto-optical transitions from the velocity operator's matrix elements.
+//!
+//! # Velocity operator
+//! v = (i/hbar)[H, r] = (1/hbar) dH/dk. With the Peierls substitution the kinetic wave numbers
+//! obey [kx, x] = -i, [ky, x] = 0, so the commutator acts as a derivation on every factor of a
+//! Weyl-ordered word, and averaging over the words gives
+//! d/dkx Weyl(kx^p ky^q) = p Weyl(kx^(p-1) ky^q) (and likewise for ky). [`velocity_model`]
+//! differentiates each term this way into a derived [`Model`] with the same components, whose
+//! operator is hbar v (energy x length: meV nm for lab models), and assembles it with
+//! [`LadderHamiltonian::assemble`]. Terms linear in B or in kz keep those factors. Matrix
+//! elements are converted to velocities at the edge: m/s for lab models
+//! (v = (hbar v)[meV nm] / (hbar x 1 m/s)[meV nm]), units of c for natural-unit models.
+//!
+//! # Transitions and polarisations
+//! Light with time factor e^{-i omega t} and polarisation vector e couples through e . v; the
+//! absorption from level i to level f (E_f > E_i) is proportional to |<f| e . v |i>|^2 times the
+//! occupation difference o_i - o_f ([`super::filling::Occupation`]). Reported per transition:
+//! linear x and y, and circular e_± = (x ± i y)/sqrt 2, i.e. (v_x ± i v_y)/sqrt 2 (sigma+ and
+//! sigma-; B along +z). Selection rules are not imposed: a transition is listed when its
+//! weighted strength exceeds a fraction of the largest one, so the rules come out of the matrix
+//! elements.
+//!
+//! The oscillator strength 2 m_e |<f|v_x|i>|^2 / (E_f - E_i) (free-electron mass m_e; the
+//! reference particle's mass in natural units) obeys the Thomas-Reiche-Kuhn f-sum rule
+//! sum_f f_fi = m_e/m* for a parabolic band of mass m* (sum over all f, with the sign of
+//! E_f - E_i).
+//!
+//! Only models in the direct form are supported (the squared Klein-Gordon operator is not a
+//! Hamiltonian whose k-derivative is a velocity).
+
+use super::filling::{fermi_level, FermiSettings, FermiSolution, Occupation};
+use super::labels::{track_keys, TrackKey};
+use crate::error::{Error, Result};
+use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
+use crate::ladder::ladder_element;
+use crate::levels::{LevelVector, Spectrum};
+use crate::model::{Model, Monomial, SpectrumForm};
+use crate::solve::{Settings, Vectors};
+use crate::units::{hbar_v_mev_nm, Units, ELECTRON_MASS, MEV};
+use num_complex::Complex64;
+use serde::Serialize;
+use std::collections::HashMap;
+
+/// A direction in the plane.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Direction {
+    /// Along x.
+    X,
+    /// Along y.
+    Y,
+}
+
+/// The derived model hbar v_dir = dH/dk_dir (see the module docs), or `None` when no term
+/// depends on k_dir (the velocity vanishes).
+///
+/// # Errors
+/// [`Error::Unsupported`] for a Klein-Gordon-form model; [`Error::InvalidModel`] /
+/// [`Error::NotHermitian`] cannot occur for a valid model (the derivative of a Hermitian sum
+/// with real factors p is Hermitian) but are passed on.
+///
+/// # Examples
+/// ```
+/// use ladderfan::{builtin, Monomial};
+/// use ladderfan::observables::optics::{velocity_model, Direction};
+/// let m = builtin::schrodinger(builtin::MassParams::default())?;
+/// let vx = velocity_model(&m, Direction::X)?.expect("kx terms");
+/// // d/dkx (c kx^2) = 2 c kx, c = hbar^2/2m_e = 38.0998 meV nm^2 (CODATA 2018)
+/// assert_eq!(vx.terms()[0].monomial, Monomial::KX);
+/// assert!((vx.terms()[0].coefficient.re - 2.0 * 38.099_821).abs() < 1e-4);
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn velocity_model(model: &Model, direction: Direction) -> Result<Option<Model>> {
+    if let SpectrumForm::KleinGordon { .. } = model.form() {
+        return Err(Error::Unsupported(format!(
+            "model '{}' is in the squared Klein-Gordon form, whose k-derivative is not a velocity; \
+             optics needs a model in the direct (Hamiltonian) form such as the 3+1 Dirac model",
+            model.name()
+        )));
+    }
+    let names: Vec<&str> = model.component_names().iter().map(|s| s.as_str()).collect();
+    let tag = match direction {
+        Direction::X => "x",
+        Direction::Y => "y",
+    };
+    let mut b = Model::builder(&format!("{} hbar v_{tag}", model.name()), model.dim())
+        .charge(model.charge())
+        .units(model.units())
+        .degeneracy(model.degeneracy())
+        .component_names(&names);
+    let mut any = false;
+    for t in model.terms() {
+        let m = t.monomial;
+        let (p, mono) = match direction {
+            Direction::X if m.kx > 0 => (m.kx, Monomial { kx: m.kx - 1, ..m }),
+            Direction::Y if m.ky > 0 => (m.ky, Monomial { ky: m.ky - 1, ..m }),
+            _ => continue,
+        };
+        any = true;
+        b = b.term_complex(
+            &format!("d/dk{tag} ({})", t.label),
+            t.coefficient * p as f64,
+            t.matrix.clone(),
+            mono,
+        );
+    }
+    if any {
+        b.build().map(Some)
+    } else {
+        Ok(None)
+    }
+}
+
+/// Matrix element of the velocity between two levels, in m/s (lab) or units of c (natural).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VelocityElement {
+    /// <f| v_x |i>.
+    pub x: Complex64,
+    /// <f| v_y |i>.
+    pub y: Complex64,
+}
+
+impl VelocityElement {
+    /// <f| (v_x + i v_y)/sqrt 2 |i>: sigma+.
+    pub fn plus(&self) -> Complex64 {
+        (self.x + Complex64::i() * self.y) * std::f64::consts::FRAC_1_SQRT_2
+    }
+    /// <f| (v_x - i v_y)/sqrt 2 |i>: sigma-.
+    pub fn minus(&self) -> Complex64 {
+        (self.x - Complex64::i() * self.y) * std::f64::consts::FRAC_1_SQRT_2
+    }
+}
+
+/// The velocity operator assembled at one field point.
+#[derive(Debug, Clone)]
+pub struct VelocityOperator {
+    x: Option<LadderHamiltonian>,
+    y: Option<LadderHamiltonian>,
+    /// Factor from the assembled hbar v (energy x length) to the reported velocity.
+    to_velocity: f64,
+    units: Units,
+}
+
+/// A velocity applied to one level vector: (n, alpha) -> amplitude, for x and y, in the
+/// reported velocity unit. Includes components beyond the cutoff.
+#[derive(Debug, Clone, Default)]
+pub struct AppliedVelocity {
+    x: HashMap<(usize, usize), Complex64>,
+    y: HashMap<(usize, usize), Complex64>,
+}
+
+impl AppliedVelocity {
+    /// <f| v |i> for the level vector f.
+    pub fn project(&self, f: &LevelVector) -> VelocityElement {
+        let dot = |map: &HashMap<(usize, usize), Complex64>| {
+            f.states
+                .iter()
+                .zip(&f.coeffs)
+                .filter_map(|(s, c)| map.get(s).map(|z| c.conj() * z))
+                .sum::<Complex64>()
+        };
+        VelocityElement {
+            x: dot(&self.x),
+            y: dot(&self.y),
+        }
+    }
+
+    /// (<i|v_x^2|i>, <i|v_y^2|i>) = squared norms of v_x|i>, v_y|i> in the untruncated space.
+    pub fn norms_squared(&self) -> (f64, f64) {
+        let n = |map: &HashMap<(usize, usize), Complex64>| map.values().map(|z| z.norm_sqr()).sum();
+        (n(&self.x), n(&self.y))
+    }
+}
+
+fn apply(h: &LadderHamiltonian, v: &LevelVector, scale: f64) -> HashMap<(usize, usize), Complex64> {
+    let mut out: HashMap<(usize, usize), Complex64> = HashMap::new();
+    for (&(n, beta), &c) in v.states.iter().zip(&v.coeffs) {
+        for op in &h.ops {
+            let f = ladder_element(op.j, op.k, n);
+            if f == 0.0 {
+                continue;
+            }
+            let m = (n as i64 + op.shift()) as usize;
+            for alpha in 0..h.dim {
+                let a = op.matrix[(alpha, beta)];
+                if a.re == 0.0 && a.im == 0.0 {
+                    continue;
+                }
+                *out.entry((m, alpha)).or_default() += a * (f * scale) * c;
+            }
+        }
+    }
+    out
+}
+
+impl VelocityOperator {
+    /// Assemble v_x and v_y of `model` at `point`.
+    ///
+    /// # Errors
+    /// As [`velocity_model`] and [`LadderHamiltonian::assemble`].
+    pub fn new(model: &Model, point: FieldPoint) -> Result<Self> {
+        let build = |d| -> Result<Option<LadderHamiltonian>> {
+            match velocity_model(model, d)? {
+                Some(vm) => Ok(Some(LadderHamiltonian::assemble(&vm, point, 0.0)?)),
+                None => Ok(None),
+            }
+        };
+        let to_velocity = match model.units() {
+            Units::Lab => 1.0 / hbar_v_mev_nm(1.0),
+            Units::Natural => 1.0,
+        };
+        Ok(VelocityOperator {
+            x: build(Direction::X)?,
+            y: build(Direction::Y)?,
+            to_velocity,
+            units: model.units(),
+        })
+    }
+
+    /// Name of the velocity unit: `m/s` (lab) or `c` (natural).
+    pub fn unit(&self) -> &'static str {
+        match self.units {
+            Units::Lab => "m/s",
+            Units::Natural => "c",
+        }
+    }
+
+    /// v_x |i> and v_y |i>.
+    ///
+    /// # Complexity
+    /// O(s x ops x d) for a vector on s states.
+    pub fn apply(&self, i: &LevelVector) -> AppliedVelocity {
+        AppliedVelocity {
+            x: self
+                .x
+                .as_ref()
+                .map(|h| apply(h, i, self.to_velocity))
+                .unwrap_or_default(),
+            y: self
+                .y
+                .as_ref()
+                .map(|h| apply(h, i, self.to_velocity))
+                .unwrap_or_default(),
+        }
+    }
+
+    /// <f| v |i>.
+    pub fn element(&self, f: &LevelVector, i: &LevelVector) -> VelocityElement {
+        self.apply(i).project(f)
+    }
+}
+
+/// Dominant circular polarisation of a transition.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Polarisation {
+    /// Only sigma+ (the sigma- strength is below 1e-6 of it).
+    SigmaPlus,
+    /// Only sigma-.
+    SigmaMinus,
+    /// Both circular components (elliptic or linear).
+    Mixed,
+}
+
+/// What to list.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct OpticsSettings {
+    /// Largest transition energy listed (model energy unit), or `None` for all.
+    pub max_energy: Option<f64>,
+    /// A transition is listed when its weighted strength (|v_x|^2 + |v_y|^2)(o_i - o_f) is
+    /// above this fraction of the largest one (default 1e-8: forbidden transitions have
+    /// matrix elements at the rounding level, ~1e-30 relative).
+    pub min_relative_strength: f64,
+}
+
+impl Default for OpticsSettings {
+    fn default() -> Self {
+        OpticsSettings {
+            max_energy: None,
+            min_relative_strength: 1e-8,
+        }
+    }
+}
+
+/// One allowed transition i -> f, E_f > E_i.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Transition {
+    /// Index of the initial level in the spectrum.
+    pub from: usize,
+    /// Index of the final level.
+    pub to: usize,
+    /// Track label of the initial level.
+    pub from_key: TrackKey,
+    /// Track label of the final level.
+    pub to_key: TrackKey,
+    /// Dominant orbital of the initial level.
+    pub from_orbital: usize,
+    /// Dominant orbital of the final level.
+    pub to_orbital: usize,
+    /// Initial level energy.
+    pub from_energy: f64,
+    /// Final level energy.
+    pub to_energy: f64,
+    /// Transition energy E_f - E_i (model energy unit).
+    pub energy: f64,
+    /// Occupation difference o_i - o_f.
+    pub occupation_difference: f64,
+    /// Velocity matrix element <f|v|i> (m/s or c).
+    pub velocity: VelocityElement,
+    /// |<f|v_x|i>|^2 (o_i - o_f), velocity unit squared.
+    pub strength_x: f64,
+    /// |<f|v_y|i>|^2 (o_i - o_f).
+    pub strength_y: f64,
+    /// |<f|(v_x + i v_y)/sqrt2|i>|^2 (o_i - o_f): sigma+.
+    pub strength_plus: f64,
+    /// |<f|(v_x - i v_y)/sqrt2|i>|^2 (o_i - o_f): sigma-.
+    pub strength_minus: f64,
+    /// (strength_x + strength_y) relative to the largest transition of the list (0..1).
+    pub relative_strength: f64,
+    /// Oscillator strength 2 m_e |<f|v_x|i>|^2 / (E_f - E_i), without occupations.
+    pub oscillator_strength_x: f64,
+    /// Dominant circular polarisation.
+    pub polarisation: Polarisation,
+}
+
+/// 2 m |v|^2 / dE, dimensionless, in the model's units.
+fn oscillator(units: Units, v2: f64, de: f64) -> f64 {
+    match units {
+        Units::Lab => 2.0 * ELECTRON_MASS * v2 / (de * MEV),
+        Units::Natural => 2.0 * v2 / de,
+    }
+}
+
+/// The allowed transitions between converged levels of `spectrum` (computed with eigenvectors),
+/// weighted with the occupations of `occupation`, strongest first within ascending energy.
+///
+/// # Errors
+/// [`Error::Unsupported`] when the spectrum has no eigenvectors or the model is in
+/// Klein-Gordon form; errors of [`VelocityOperator::new`].
+///
+/// # Complexity
+/// O(L s ops d) to apply v to L converged levels of sector size s, plus O(L^2 s) projections.
+pub fn transitions(
+    model: &Model,
+    spectrum: &Spectrum,
+    occupation: &Occupation,
+    settings: &OpticsSettings,
+) -> Result<Vec<Transition>> {
+    let vecs = spectrum.vectors.as_deref().ok_or_else(|| {
+        Error::Unsupported(
+            "transitions need eigenvectors: compute the spectrum with Settings.vectors = \
+             Vectors::Compute"
+                .into(),
+        )
+    })?;
+    let vop = VelocityOperator::new(model, spectrum.point)?;
+    let keys = track_keys(spectrum);
+    let conv: Vec<usize> = (0..spectrum.levels.len())
+        .filter(|&i| spectrum.levels[i].is_converged())
+        .collect();
+    let occ: Vec<f64> = conv
+        .iter()
+        .map(|&i| occupation.of_level(spectrum.levels[i].energy))
+        .collect();
+    let mut out = Vec::new();
+    for (a, &i) in conv.iter().enumerate() {
+        let applied = vop.apply(&vecs[i]);
+        let ei = spectrum.levels[i].energy;
+        for (b, &f) in conv.iter().enumerate() {
+            let ef = spectrum.levels[f].energy;
+            let de = ef - ei;
+            if de <= 0.0 || settings.max_energy.is_some_and(|m| de > m) {
+                continue;
+            }
+            let dw = occ[a] - occ[b];
+            if dw <= 0.0 {
+                continue;
+            }
+            let v = applied.project(&vecs[f]);
+            let (sx, sy) = (v.x.norm_sqr() * dw, v.y.norm_sqr() * dw);
+            let (sp, sm) = (v.plus().norm_sqr() * dw, v.minus().norm_sqr() * dw);
+            let lf = &spectrum.levels[f];
+            let li = &spectrum.levels[i];
+            out.push(Transition {
+                from: i,
+                to: f,
+                from_key: keys[i],
+                to_key: keys[f],
+                from_orbital: li.orbital,
+                to_orbital: lf.orbital,
+                from_energy: ei,
+                to_energy: ef,
+                energy: de,
+                occupation_difference: dw,
+                velocity: v,
+                strength_x: sx,
+                strength_y: sy,
+                strength_plus: sp,
+                strength_minus: sm,
+                relative_strength: 0.0,
+                oscillator_strength_x: oscillator(spectrum.units, v.x.norm_sqr(), de),
+                polarisation: if sm <= 1e-6 * sp {
+                    Polarisation::SigmaPlus
+                } else if sp <= 1e-6 * sm {
+                    Polarisation::SigmaMinus
+                } else {
+                    Polarisation::Mixed
+                },
+            });
+        }
+    }
+    let max = out
+        .iter()
+        .map(|t| t.strength_x + t.strength_y)
+        .fold(0.0, f64::max);
+    out.retain(|t| t.strength_x + t.strength_y > settings.min_relative_strength * max);
+    for t in &mut out {
+        t.relative_strength = (t.strength_x + t.strength_y) / max;
+    }
+    out.sort_by(|p, q| {
+        p.energy
+            .total_cmp(&q.energy)
+            .then(q.relative_strength.total_cmp(&p.relative_strength))
+    });
+    Ok(out)
+}
+
+/// Transitions at one field of a sweep.
+#[derive(Debug, Clone)]
+pub struct TransitionPoint {
+    /// Field.
+    pub field: f64,
+    /// Fermi level and filling at this field.
+    pub fermi: FermiSolution,
+    /// The allowed transitions.
+    pub transitions: Vec<Transition>,
+}
+
+/// The transition-energy fan: at each point, the Fermi level for the fixed carrier density and
+/// the allowed transitions (eigenvectors are computed whatever `settings.vectors` says).
+/// Transitions of different points with the same (from_key, to_key) are one line of the fan.
+///
+/// # Errors
+/// As [`crate::Spectrum::compute`], [`fermi_level`] and [`transitions`] at any point.
+pub fn transition_sweep(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    fermi: &FermiSettings,
+    optics: &OpticsSettings,
+) -> Result<Vec<TransitionPoint>> {
+    use rayon::prelude::*;
+    let mut s = settings.clone();
+    s.vectors = Vectors::Compute;
+    points
+        .par_iter()
+        .map(|&p| {
+            let spec = Spectrum::compute(model, p, &s)?;
+            let sol = fermi_level(model, &spec, fermi)?;
+            let tr = transitions(model, &spec, &sol.occupation, optics)?;
+            Ok(TransitionPoint {
+                field: p.field,
+                fermi: sol,
+                transitions: tr,
+            })
+        })
+        .collect()
+}
