@@ -2,7 +2,7 @@
 //!
 //! * Every built-in and catalogue model: its closed form (src/closed_form.rs, each formula with
 //!   its published source) passes through the API, at both signs of qB.
-//! * The same physics typed as expressions of the verify language (docs/verify.md) and as Rust
+//! * The same physics typed as expressions of the verify language (the README, section Verifying a level formula) and as Rust
 //!   closures passes: Landau 1930 (Schrodinger, Pauli), Rabi 1928 / Johnson & Lippmann 1949
 //!   (3+1 Dirac), McClure 1956 (2D Dirac), Nielsen & Ninomiya 1983 (Weyl chiral level),
 //!   Goerbig et al. PRB 78, 045415 (2008) (tilted cone), Bychkov & Rashba 1984 (Rashba),

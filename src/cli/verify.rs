@@ -1,6 +1,6 @@
 //! `ladderfan verify`: check a level formula (or a CSV of expected levels) against the exact
 //! spectrum, level by level; exit 0 when it passes, 1 when it fails, 2 for bad input.
-//! The expression syntax is documented in docs/verify.md.
+//! The expression syntax is documented in the README, section Verifying a level formula.
 
 use super::common::{
     self, bad_flag, emit, emit_json, fmt_num, load_model, CliError, CliResult, LoadedModel,
@@ -24,7 +24,7 @@ pub struct VerifyArgs {
     pub model: ModelArgs,
     #[command(flatten)]
     pub solve: SolveArgs,
-    /// The expected energy E(n, s) as an expression (see docs/verify.md), e.g.
+    /// The expected energy E(n, s) as an expression (see the README, section Verifying a level formula), e.g.
     /// "s*sqrt(2*n)*hbar*velocity*metre/second/l_B".
     #[arg(
         long,

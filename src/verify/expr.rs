@@ -2,7 +2,7 @@
 //! of the model's unit system, arithmetic, comparisons and a few functions. Everything is a
 //! double; there is no integer division (`1/2` is 0.5).
 //!
-//! The full syntax is documented in `docs/verify.md`; in short:
+//! The full syntax is documented in the README (section Verifying a level formula); in short:
 //!
 //! * numbers `2`, `0.5`, `1e-6`; variables and constants by name (see [`Scope::for_model`]);
 //! * `+ - * /`, `^` (power, right-associative, binds tighter than a unary minus:

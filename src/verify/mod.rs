@@ -3,7 +3,7 @@
 //!
 //! The expected levels come as an [`ExpectedList`]: from a Rust closure over the quantum
 //! numbers ([`ExpectedList::from_fn`]), from formulas in the small expression language of
-//! [`expr`] ([`ExpectedList::from_formula`], documented in `docs/verify.md`), from a list or a
+//! [`expr`] ([`ExpectedList::from_formula`], documented in the README (section Verifying a level formula)), from a list or a
 //! CSV file ([`ExpectedList::from_levels`], [`ExpectedList::from_csv`]), or from the crate's
 //! own closed forms ([`ExpectedList::from_closed_form`]).
 //!
@@ -36,11 +36,6 @@
 
 pub mod expr;
 pub mod matching;
-
-/// The Rust example of docs/verify.md, compiled and run as a doc test so that it stays true.
-#[cfg(doctest)]
-#[doc = include_str!("../../docs/verify.md")]
-pub struct VerifyDocDoctests;
 
 use crate::closed_form::{self, ExpectedLevel};
 use crate::error::{Error, Result};
@@ -300,7 +295,7 @@ impl ExpectedList {
         })
     }
 
-    /// Levels from formulas in the expression language of [`expr`] (see `docs/verify.md`).
+    /// Levels from formulas in the expression language of [`expr`] (see the README (section Verifying a level formula)).
     ///
     /// For every n in `ns` and s in `ss`: the first case whose condition holds gives the
     /// energy, else `formula.formula`; when `formula.n0` is given, n = 0 is evaluated once,
@@ -569,7 +564,7 @@ fn beyond_window(
     }
 }
 
-/// Level formulas as text, in the expression language of [`expr`] (see `docs/verify.md`).
+/// Level formulas as text, in the expression language of [`expr`] (see the README (section Verifying a level formula)).
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct LevelFormula {
     /// The energy E(n, s) (flag `--formula`).
