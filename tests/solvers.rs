@@ -88,7 +88,10 @@ fn check_dense(h: &DMatrix<Complex64>) {
     let v = got.vectors.unwrap();
     let gram = v.adjoint() * &v;
     let ortho = (gram - DMatrix::<Complex64>::identity(s, s)).norm();
-    assert!(ortho <= 1e-13 * (s as f64).max(4.0), "size {s}: ||V^H V - I|| = {ortho}");
+    assert!(
+        ortho <= 1e-13 * (s as f64).max(4.0),
+        "size {s}: ||V^H V - I|| = {ortho}"
+    );
     for k in 0..s {
         let x = v.column(k);
         let r = (h * x - x * Complex64::new(got.values[k], 0.0)).norm();
@@ -127,9 +130,16 @@ fn dense_2x2_closed_form_has_no_cancellation() {
         assert!((e.values[1] - (1.0 + shift)).abs() <= 4e-16);
         let v = e.vectors.unwrap();
         // the small component of the eigenvector of the upper level: |c|/(a-d) to first order
-        let small = if a > d { v[(1, 1)].norm() } else { v[(0, 1)].norm() };
+        let small = if a > d {
+            v[(1, 1)].norm()
+        } else {
+            v[(0, 1)].norm()
+        };
         let expect = c.norm() / 2.0;
-        assert!((small - expect).abs() <= 1e-12 * expect, "{small} vs {expect}");
+        assert!(
+            (small - expect).abs() <= 1e-12 * expect,
+            "{small} vs {expect}"
+        );
     }
     // degenerate diagonal, no coupling: r = 0
     let h = DMatrix::from_row_slice(
@@ -170,7 +180,12 @@ fn warping_model(rashba: bool) -> Model {
         .term("D kx^2 sz", d, pauli("z").unwrap(), Monomial::new(2, 0, 0))
         .term("D ky^2 sz", d, pauli("z").unwrap(), Monomial::new(0, 2, 0))
         .term("W kx^3 sz", w, pauli("z").unwrap(), Monomial::new(3, 0, 0))
-        .term("-3W kx ky^2 sz", -3.0 * w, pauli("z").unwrap(), Monomial::new(1, 2, 0));
+        .term(
+            "-3W kx ky^2 sz",
+            -3.0 * w,
+            pauli("z").unwrap(),
+            Monomial::new(1, 2, 0),
+        );
     b = if rashba {
         b.term("A kx sy", a, pauli("y").unwrap(), Monomial::KX)
             .term("-A ky sx", -a, pauli("x").unwrap(), Monomial::KY)
@@ -220,7 +235,11 @@ fn banded_product_factorisation_and_inertia_match_dense() {
         lu.solve_in_place(&mut z).unwrap();
         let zd = nalgebra::DVector::from_vec(z);
         let r = &dense * &zd - &zd * Complex64::new(sigma, 0.0) - &xd;
-        assert!(r.norm() <= 1e-12 * scale * zd.norm(), "LU residual {}", r.norm());
+        assert!(
+            r.norm() <= 1e-12 * scale * zd.norm(),
+            "LU residual {}",
+            r.norm()
+        );
         if let Some(lur) = band.lu_real(sigma).unwrap() {
             let mut zr: Vec<f64> = x.iter().map(|c| c.re).collect();
             lur.solve_in_place(&mut zr).unwrap();
@@ -276,7 +295,11 @@ fn window_nearest_matches_dense_oracle_on_warping_model() {
                     e.values[k],
                     want[k]
                 );
-                assert!(e.residuals[k] <= 1e-9 * norm);
+                assert!(
+                    e.residuals[k] <= 1e-9 * norm,
+                    "residual {} norm {norm} target {target} rashba {rashba}",
+                    e.residuals[k]
+                );
             }
             check_vectors(&dense, &e.values, &e.vectors, 1e-9 * norm);
         }
@@ -288,8 +311,12 @@ fn window_in_window_matches_dense_oracle() {
     let (band, dense) = model_matrix(false, 300);
     let values = oracle(&dense);
     let norm = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let (lo, hi) = (-45.0, 30.0);
-    let want: Vec<f64> = values.iter().copied().filter(|&v| v >= lo && v < hi).collect();
+    let (lo, hi) = (-200.0, 150.0);
+    let want: Vec<f64> = values
+        .iter()
+        .copied()
+        .filter(|&v| v >= lo && v < hi)
+        .collect();
     assert!(want.len() > 5, "window should hold several levels");
     let e = in_window(&band, lo, hi, 500).unwrap();
     assert_eq!(e.values.len(), want.len());

@@ -235,9 +235,7 @@ fn faer_real(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
             })
         }
         Vectors::Compute => {
-            let e = m
-                .self_adjoint_eigen(faer::Side::Lower)
-                .map_err(evd_error)?;
+            let e = m.self_adjoint_eigen(faer::Side::Lower).map_err(evd_error)?;
             let (u, d) = (e.U(), e.S().column_vector());
             let values = (0..s).map(|k| d[k]).collect();
             let v = DMatrix::from_fn(s, s, |i, j| Complex64::new(u[(i, j)], 0.0));
@@ -273,9 +271,7 @@ fn faer_complex(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> 
             })
         }
         Vectors::Compute => {
-            let e = m
-                .self_adjoint_eigen(faer::Side::Lower)
-                .map_err(evd_error)?;
+            let e = m.self_adjoint_eigen(faer::Side::Lower).map_err(evd_error)?;
             let (u, d) = (e.U(), e.S().column_vector());
             let values = (0..s).map(|k| d[k].re).collect();
             let v = DMatrix::from_fn(s, s, |i, j| {

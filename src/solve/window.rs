@@ -108,12 +108,57 @@ pub fn nearest(h: &BandedHermitian, target: f64, count: usize) -> Result<WindowE
     }
     let norm = h.norm_bound().max(f64::MIN_POSITIVE);
     if h.is_real() {
-        let (lu, sigma) = factor_near::<f64>(h, target, norm)?;
-        search(h, &lu, target, sigma, count, norm)
+        nearest_t::<f64>(h, target, count, norm)
     } else {
-        let (lu, sigma) = factor_near::<Complex64>(h, target, norm)?;
-        search(h, &lu, target, sigma, count, norm)
+        nearest_t::<Complex64>(h, target, count, norm)
     }
+}
+
+/// Offsets (in units of the distance of the farthest wanted eigenvalue) by which the shift is
+/// moved off the target when an eigenvalue sits almost exactly on it.
+const SHIFT_OFFSETS: [f64; 3] = [0.05, -0.037, 0.11];
+
+fn nearest_t<T: Scalar>(
+    h: &BandedHermitian,
+    target: f64,
+    count: usize,
+    norm: f64,
+) -> Result<WindowEigen> {
+    let mut sigma = target;
+    let mut extra = 0;
+    for attempt in 0..=SHIFT_OFFSETS.len() {
+        let (lu, s) = factor_near::<T>(h, sigma, norm)?;
+        match search(h, &lu, target, s, count, extra, norm)? {
+            Search::Done(w) => return Ok(w),
+            Search::ShiftTooClose { radius } => {
+                if attempt == SHIFT_OFFSETS.len() {
+                    break;
+                }
+                // an eigenvalue sits on the shift: (H - sigma)^(-1) is so ill-conditioned that
+                // the others cannot converge; move the shift off it and ask for a few more
+                sigma = target + SHIFT_OFFSETS[attempt] * radius;
+                extra = 2;
+            }
+        }
+    }
+    Err(Error::NotConverged {
+        tolerance: TOL,
+        detail: format!(
+            "eigenvalues sit almost on every shift tried near {target}; move the target slightly"
+        ),
+    })
+}
+
+/// Outcome of one shift-invert search.
+enum Search {
+    Done(WindowEigen),
+    ShiftTooClose { radius: f64 },
+}
+
+/// Outcome of one Krylov–Schur run.
+enum Krylov<T> {
+    Done(Vec<DVector<T>>),
+    ShiftTooClose { radius: f64 },
 }
 
 /// All eigenvalues of `h` in [lo, hi), ascending, with eigenvectors and residual norms; an
@@ -217,26 +262,33 @@ fn search<T: Scalar>(
     target: f64,
     sigma: f64,
     count: usize,
+    extra: usize,
     norm: f64,
-) -> Result<WindowEigen> {
+) -> Result<Search> {
     let n = h.size();
     let mut rng = SplitMix(0x1a2b_3c4d_5e6f_7081);
     let mut found: Vec<Found<T>> = Vec::new();
-    let mut want = count;
+    let mut want = (count + extra).min(n);
     for round in 0..MAX_ROUNDS {
-        let locked: Vec<&DVector<T>> = found.iter().map(|f| &f.vector).collect();
+        let locked: Vec<DVector<T>> = found.iter().map(|f| f.vector.clone()).collect();
+        let locked: Vec<&DVector<T>> = locked.iter().collect();
         let room = n - locked.len();
         if room == 0 {
             break;
         }
-        let pairs = krylov_schur(lu, n, want.min(room), &locked, &mut rng)?;
-        drop(locked);
-        for y in pairs {
-            let mut f = rayleigh(h, y);
+        let pairs = match krylov_schur(lu, n, want.min(room), &locked, &mut rng)? {
+            Krylov::Done(p) => p,
+            Krylov::ShiftTooClose { radius } => return Ok(Search::ShiftTooClose { radius }),
+        };
+        for mut f in refine(h, lu, pairs, &locked)? {
             f.round = round;
             found.push(f);
         }
-        found.sort_by(|a, b| (a.value - target).abs().total_cmp(&(b.value - target).abs()));
+        found.sort_by(|a, b| {
+            (a.value - target)
+                .abs()
+                .total_cmp(&(b.value - target).abs())
+        });
         found.truncate(count);
         if round > 0 && !found.iter().any(|f| f.round == round) {
             return Err(Error::NotConverged {
@@ -271,12 +323,12 @@ fn search<T: Scalar>(
         let z = found[j].vector[i];
         Complex64::new(z.real(), z.imaginary())
     });
-    Ok(WindowEigen {
+    Ok(Search::Done(WindowEigen {
         values: found.iter().map(|f| f.value).collect(),
         residuals: found.iter().map(|f| f.residual).collect(),
         vectors,
         shift: sigma,
-    })
+    }))
 }
 
 /// Distance from target of the `count`-th nearest found value (infinity if fewer).
@@ -314,6 +366,60 @@ fn missing_count<T: Scalar>(
     Ok(inner.saturating_sub(within))
 }
 
+/// One step of subspace iteration with Rayleigh–Ritz in H: X' = (H - sigma)^(-1) X,
+/// orthonormalised (also against `locked`), then the eigenvectors of X'^H H X'. It damps the
+/// components far from sigma left by the Lanczos rounding (they dominate ||H x - lambda x||
+/// because ||H|| is large there). Each vector keeps the better of the refined and the original
+/// pair (smaller explicit residual).
+fn refine<T: Scalar>(
+    h: &BandedHermitian,
+    lu: &BandedLu<T>,
+    xs: Vec<DVector<T>>,
+    locked: &[&DVector<T>],
+) -> Result<Vec<Found<T>>> {
+    let n = h.size();
+    let k = xs.len();
+    let mut q = DMatrix::<T>::zeros(n, k);
+    let mut cols = 0;
+    for x in &xs {
+        let mut w = x.clone();
+        lu.solve_unchecked(w.as_mut_slice());
+        orthogonalize(&mut w, locked, &q, cols);
+        let nw = w.norm();
+        if nw == 0.0 || !nw.is_finite() {
+            continue;
+        }
+        q.set_column(cols, &(w / T::from_real(nw)));
+        cols += 1;
+    }
+    let old: Vec<Found<T>> = xs.into_iter().map(|x| rayleigh(h, x)).collect();
+    if cols < k {
+        return Ok(old);
+    }
+    let mut hq = DMatrix::<T>::zeros(n, k);
+    for c in 0..k {
+        let mut y = vec![T::zero(); n];
+        h.mul_into(q.column(c).into_owned().as_slice(), &mut y);
+        hq.set_column(c, &DVector::from_vec(y));
+    }
+    let g = q.ad_mul(&hq);
+    let gc = DMatrix::from_fn(k, k, |i, j| {
+        let z = g[(i, j)];
+        Complex64::new(z.real(), z.imaginary())
+    });
+    let eig = eigh(&gc, Vectors::Compute)?;
+    let y = eig
+        .vectors
+        .ok_or_else(|| breakdown("no Rayleigh-Ritz vectors"))?;
+    let yt = DMatrix::from_fn(k, k, |i, j| T::from_c64(y[(i, j)]));
+    let x_new = &q * &yt;
+    let new: Vec<Found<T>> = (0..k)
+        .map(|c| rayleigh(h, x_new.column(c).into_owned()))
+        .collect();
+    let worst = |v: &[Found<T>]| v.iter().map(|f| f.residual).fold(0.0, f64::max);
+    Ok(if worst(&new) <= worst(&old) { new } else { old })
+}
+
 /// Rayleigh quotient and explicit residual of a unit vector in H.
 fn rayleigh<T: Scalar>(h: &BandedHermitian, x: DVector<T>) -> Found<T> {
     let n = x.len();
@@ -338,7 +444,7 @@ fn krylov_schur<T: Scalar>(
     want: usize,
     locked: &[&DVector<T>],
     rng: &mut SplitMix,
-) -> Result<Vec<DVector<T>>> {
+) -> Result<Krylov<T>> {
     let room = n - locked.len();
     let mmax = (2 * want + 10).max(want + 30).min(room);
     let mut v = DMatrix::<T>::zeros(n, mmax + 1);
@@ -393,21 +499,30 @@ fn krylov_schur<T: Scalar>(
         let mut order: Vec<usize> = (0..m).collect();
         order.sort_by(|&a, &b| eig.values[b].abs().total_cmp(&eig.values[a].abs()));
         let k = want.min(m);
-        let converged = order[..k].iter().all(|&i| {
-            (beta * y[(m - 1, i)].norm()) <= TOL * eig.values[i].abs()
-        }) || m < mmax;
+        let converged = order[..k]
+            .iter()
+            .all(|&i| (beta * y[(m - 1, i)].norm()) <= TOL * eig.values[i].abs())
+            || m < mmax;
         let to_t = |z: Complex64| T::from_c64(z);
         if converged {
             let vm = v.columns(0, m);
-            return Ok(order[..k]
-                .iter()
-                .map(|&i| {
-                    let yi = DVector::from_fn(m, |r, _| to_t(y[(r, i)]));
-                    let x = &vm * yi;
-                    let nx = x.norm();
-                    x / T::from_real(nx)
-                })
-                .collect());
+            return Ok(Krylov::Done(
+                order[..k]
+                    .iter()
+                    .map(|&i| {
+                        let yi = DVector::from_fn(m, |r, _| to_t(y[(r, i)]));
+                        let x = &vm * yi;
+                        let nx = x.norm();
+                        x / T::from_real(nx)
+                    })
+                    .collect(),
+            ));
+        }
+        // an eigenvalue (almost) on the shift: its theta dwarfs the others so much that the
+        // rounding floor eps * theta_max of the Lanczos residuals exceeds TOL * theta_k
+        let (t_max, t_k) = (eig.values[order[0]].abs(), eig.values[order[k - 1]].abs());
+        if t_max * f64::EPSILON * 64.0 > TOL * t_k {
+            return Ok(Krylov::ShiftTooClose { radius: 1.0 / t_k });
         }
         restarts += 1;
         if restarts > MAX_RESTARTS {
