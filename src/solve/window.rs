@@ -384,7 +384,7 @@ fn refine<T: Scalar>(
     for x in &xs {
         let mut w = x.clone();
         lu.solve_unchecked(w.as_mut_slice());
-        orthogonalize(&mut w, locked, &q, cols);
+        orthogonalize(&mut w, locked, &q, cols, None);
         let nw = w.norm();
         if nw == 0.0 || !nw.is_finite() {
             continue;
@@ -447,80 +447,92 @@ fn krylov_schur<T: Scalar>(
 ) -> Result<Krylov<T>> {
     let room = n - locked.len();
     let mmax = (2 * want + 10).max(want + 30).min(room);
+    let k = want.min(mmax);
     let mut v = DMatrix::<T>::zeros(n, mmax + 1);
     let mut tm = DMatrix::<T>::zeros(mmax, mmax);
     // start vector: random, in the complement of the locked vectors
     let mut w = random_vector::<T>(n, rng);
-    orthogonalize(&mut w, locked, &v, 0);
+    orthogonalize(&mut w, locked, &v, 0, None);
     let nw = w.norm();
     if nw == 0.0 {
         return Err(breakdown("the start vector lies in the locked subspace"));
     }
     v.set_column(0, &(w / T::from_real(nw)));
     let mut start = 0;
-    let mut beta = 0.0;
     let mut restarts = 0;
     loop {
-        let mut m = mmax;
-        for j in start..mmax {
+        let mut beta;
+        let mut j = start;
+        let (m, values, y, order) = loop {
             let mut w: DVector<T> = v.column(j).into_owned();
             lu.solve_unchecked(w.as_mut_slice());
             let scale = w.norm();
-            let hcol = orthogonalize(&mut w, locked, &v, j + 1);
+            // three-term part first (cheap), then the full pass on the small remainder;
+            // right after a restart column j couples to all kept vectors, so no local part
+            let local = if j == start && j > 0 {
+                None
+            } else {
+                Some((j.saturating_sub(1), j))
+            };
+            let hcol = orthogonalize(&mut w, locked, &v, j + 1, local);
             for i in 0..j {
                 tm[(i, j)] = hcol[i];
                 tm[(j, i)] = hcol[i].conjugate();
             }
             tm[(j, j)] = T::from_real(hcol[j].real());
             beta = w.norm();
+            let mut exhausted = false;
             if beta <= 1e-13 * scale.max(f64::MIN_POSITIVE) {
                 // invariant subspace found: continue with a fresh direction, coupling 0
                 beta = 0.0;
                 let mut r = random_vector::<T>(n, rng);
-                orthogonalize(&mut r, locked, &v, j + 1);
-                orthogonalize(&mut r, locked, &v, j + 1);
+                orthogonalize(&mut r, locked, &v, j + 1, None);
                 let nr = r.norm();
                 if nr <= 1e-10 * (n as f64).sqrt() || j + 1 == room {
-                    m = j + 1;
-                    break;
+                    exhausted = true;
+                } else {
+                    v.set_column(j + 1, &(r / T::from_real(nr)));
                 }
-                v.set_column(j + 1, &(r / T::from_real(nr)));
             } else {
                 v.set_column(j + 1, &(w / T::from_real(beta)));
             }
-        }
-        // Ritz pairs of the projected matrix
-        let tsub = DMatrix::from_fn(m, m, |i, j| {
-            let z = tm[(i, j)];
-            Complex64::new(z.real(), z.imaginary())
-        });
-        let eig = eigh(&tsub, Vectors::Compute)?;
-        let y = eig.vectors.ok_or_else(|| breakdown("no Ritz vectors"))?;
-        let mut order: Vec<usize> = (0..m).collect();
-        order.sort_by(|&a, &b| eig.values[b].abs().total_cmp(&eig.values[a].abs()));
-        let k = want.min(m);
-        let converged = order[..k]
-            .iter()
-            .all(|&i| (beta * y[(m - 1, i)].norm()) <= TOL * eig.values[i].abs())
-            || m < mmax;
-        let to_t = |z: Complex64| T::from_c64(z);
-        if converged {
-            let vm = v.columns(0, m);
-            return Ok(Krylov::Done(
-                order[..k]
+            let m = j + 1;
+            // Ritz pairs: at a full basis, and every few steps once k of them can exist
+            if exhausted || m == mmax || (m >= k + 4 && (m - start) % 4 == 0) {
+                let tsub = DMatrix::from_fn(m, m, |r, c| {
+                    let z = tm[(r, c)];
+                    Complex64::new(z.real(), z.imaginary())
+                });
+                let eig = eigh(&tsub, Vectors::Compute)?;
+                let y = eig.vectors.ok_or_else(|| breakdown("no Ritz vectors"))?;
+                let values = eig.values;
+                let mut order: Vec<usize> = (0..m).collect();
+                order.sort_by(|&a, &b| values[b].abs().total_cmp(&values[a].abs()));
+                let kk = k.min(m);
+                let converged = order[..kk]
                     .iter()
-                    .map(|&i| {
-                        let yi = DVector::from_fn(m, |r, _| to_t(y[(r, i)]));
-                        let x = &vm * yi;
-                        let nx = x.norm();
-                        x / T::from_real(nx)
-                    })
-                    .collect(),
-            ));
-        }
+                    .all(|&i| (beta * y[(m - 1, i)].norm()) <= TOL * values[i].abs());
+                if converged || exhausted {
+                    let ysel = DMatrix::from_fn(m, kk, |r, c| T::from_c64(y[(r, order[c])]));
+                    let x = v.columns(0, m) * ysel;
+                    return Ok(Krylov::Done(
+                        x.column_iter()
+                            .map(|c| {
+                                let nx = c.norm();
+                                c.into_owned() / T::from_real(nx)
+                            })
+                            .collect(),
+                    ));
+                }
+                if m == mmax {
+                    break (m, values, y, order);
+                }
+            }
+            j += 1;
+        };
         // an eigenvalue (almost) on the shift: its theta dwarfs the others so much that the
         // rounding floor eps * theta_max of the Lanczos residuals exceeds TOL * theta_k
-        let (t_max, t_k) = (eig.values[order[0]].abs(), eig.values[order[k - 1]].abs());
+        let (t_max, t_k) = (values[order[0]].abs(), values[order[k - 1]].abs());
         if t_max * f64::EPSILON * 64.0 > TOL * t_k {
             return Ok(Krylov::ShiftTooClose { radius: 1.0 / t_k });
         }
@@ -537,7 +549,7 @@ fn krylov_schur<T: Scalar>(
         }
         // contract to `keep` Ritz vectors plus the residual vector
         let keep = ((m + k) / 2).max(k).min(m - 1);
-        let ykeep = DMatrix::from_fn(m, keep, |r, c| to_t(y[(r, order[c])]));
+        let ykeep = DMatrix::from_fn(m, keep, |r, c| T::from_c64(y[(r, order[c])]));
         let u = v.columns(0, m) * &ykeep;
         let resid = v.column(m).into_owned();
         v.columns_mut(0, keep).copy_from(&u);
@@ -545,8 +557,8 @@ fn krylov_schur<T: Scalar>(
         tm.fill(T::zero());
         for c in 0..keep {
             let i = order[c];
-            tm[(c, c)] = T::from_real(eig.values[i]);
-            let b = T::from_real(beta) * to_t(y[(m - 1, i)]);
+            tm[(c, c)] = T::from_real(values[i]);
+            let b = T::from_real(beta) * T::from_c64(y[(m - 1, i)]);
             tm[(keep, c)] = b;
             tm[(c, keep)] = b.conjugate();
         }
@@ -554,16 +566,30 @@ fn krylov_schur<T: Scalar>(
     }
 }
 
-/// Orthogonalise `w` against the locked vectors and the first `cols` columns of `v`, twice
-/// (classical Gram–Schmidt twice); returns the projections on the columns of `v`.
+/// Orthogonalise `w` against the locked vectors and the first `cols` columns of `v` by
+/// classical Gram–Schmidt with the DGKS safeguard (a repeated pass only when the previous one
+/// removed more than 1 - 1/sqrt(2) of the norm; Daniel, Gragg, Kaufman and Stewart, Math.
+/// Comp. 30, 772 (1976)); returns the projections on the columns of `v`. With
+/// `local = Some((p, j))` the projections on columns p and j (the Lanczos three-term part) are
+/// removed first, so that the full pass acts on a small remainder and rarely needs repeating.
 fn orthogonalize<T: Scalar>(
     w: &mut DVector<T>,
     locked: &[&DVector<T>],
     v: &DMatrix<T>,
     cols: usize,
+    local: Option<(usize, usize)>,
 ) -> Vec<T> {
     let mut h = vec![T::zero(); cols];
-    for _pass in 0..2 {
+    if let Some((p, j)) = local {
+        let idx: &[usize] = if p == j { &[j] } else { &[p, j] };
+        for &i in idx {
+            let c = v.column(i).dotc(w);
+            w.axpy(-c, &v.column(i), T::one());
+            h[i] += c;
+        }
+    }
+    let mut before = w.norm();
+    for _pass in 0..3 {
         for x in locked {
             let c = x.dotc(w);
             w.axpy(-c, *x, T::one());
@@ -576,6 +602,11 @@ fn orthogonalize<T: Scalar>(
                 *hi += *ci;
             }
         }
+        let after = w.norm();
+        if after > std::f64::consts::FRAC_1_SQRT_2 * before {
+            break;
+        }
+        before = after;
     }
     h
 }
