@@ -218,7 +218,8 @@ impl BandedHermitian {
     /// column is zero (sigma is an eigenvalue to machine precision: move it slightly).
     ///
     /// # Complexity
-    /// Time O(n b^2) (about 2 n b^2 complex multiply-adds), memory 16 n (4 b + 1) bytes.
+    /// Time O(n b^2) (about 2 n b^2 complex multiply-adds), memory 16 n (3 b + 1) bytes
+    /// (16 n (4 b + 1) during the factorisation).
     pub fn lu(&self, sigma: f64) -> Result<BandedLu<Complex64>> {
         BandedLu::factor(self, sigma)
     }
@@ -230,7 +231,7 @@ impl BandedHermitian {
     /// As [`BandedHermitian::lu`].
     ///
     /// # Complexity
-    /// Time O(n b^2), memory 8 n (4 b + 1) bytes.
+    /// Time O(n b^2), memory 8 n (3 b + 1) bytes (8 n (4 b + 1) during the factorisation).
     pub fn lu_real(&self, sigma: f64) -> Result<Option<BandedLu<f64>>> {
         if self.real {
             BandedLu::factor(self, sigma).map(Some)
@@ -343,7 +344,7 @@ fn check_finite(name: &str, x: f64) -> Result<()> {
 pub struct BandedLu<T: Scalar> {
     n: usize,
     b: usize,
-    /// Row k of U holds columns k..=k+2b at `k*(3b+1) + (j + b - k)`.
+    /// Row k of U holds columns k..=k+2b at `k*(2b+1) + (j - k)`.
     u: Vec<T>,
     /// Multipliers of step k at `k*b + (i - k - 1)`, i in k+1..=k+b.
     mult: Vec<T>,
@@ -417,6 +418,13 @@ impl<T: Scalar> BandedLu<T> {
                 }
             }
         }
+        // keep only U's 2b + 1 columns a row: row k moves from k*w + b to k*(2b+1)
+        let wu = 2 * b + 1;
+        for k in 0..n {
+            u.copy_within(k * w + b..k * w + b + wu, k * wu);
+        }
+        u.truncate(n * wu);
+        u.shrink_to_fit();
         Ok(BandedLu {
             n,
             b,
@@ -458,7 +466,7 @@ impl<T: Scalar> BandedLu<T> {
 
     pub(crate) fn solve_unchecked(&self, x: &mut [T]) {
         let (n, b) = (self.n, self.b);
-        let w = 3 * b + 1;
+        let wu = 2 * b + 1;
         for k in 0..n {
             let p = self.piv[k];
             if p != k {
@@ -473,7 +481,7 @@ impl<T: Scalar> BandedLu<T> {
         }
         for k in (0..n).rev() {
             let jmax = (k + 2 * b).min(n - 1);
-            let row = &self.u[k * w + b..k * w + b + (jmax - k) + 1];
+            let row = &self.u[k * wu..k * wu + (jmax - k) + 1];
             let mut s = x[k];
             for (uj, &xj) in row.iter().skip(1).zip(x[k + 1..=jmax].iter()) {
                 s -= *uj * xj;
