@@ -192,10 +192,7 @@ impl BandedHermitian {
     /// y = H x for slices of length n (caller checks).
     pub(crate) fn mul_into<T: Scalar>(&self, x: &[T], y: &mut [T]) {
         let w = self.b + 1;
-        for (i, yi) in y.iter_mut().enumerate() {
-            let _ = i;
-            *yi = T::zero();
-        }
+        y.iter_mut().for_each(|yi| *yi = T::zero());
         for i in 0..self.n {
             let row = &self.data[i * w..(i + 1) * w];
             let j0 = i.saturating_sub(self.b);
@@ -474,9 +471,9 @@ impl<T: Scalar> BandedLu<T> {
             }
             let xk = x[k];
             let last = (k + b).min(n - 1);
-            for i in k + 1..=last {
-                let l = self.mult[k * b + (i - k - 1)];
-                x[i] -= l * xk;
+            let mult = &self.mult[k * b..k * b + (last - k)];
+            for (xi, &l) in x[k + 1..=last].iter_mut().zip(mult) {
+                *xi -= l * xk;
             }
         }
         for k in (0..n).rev() {
