@@ -310,6 +310,27 @@ fn window_nearest_matches_dense_oracle_on_warping_model() {
 }
 
 #[test]
+fn window_target_exactly_on_an_eigenvalue() {
+    // (H - target)^(-1) is then singular to machine precision: the solver must move its shift
+    // off the target and still return the levels nearest the target
+    let (band, dense) = model_matrix(false, 300);
+    let values = oracle(&dense);
+    let norm = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    let i0 = values.iter().position(|&v| v > 40.0).unwrap();
+    let target = values[i0];
+    let e = nearest(&band, target, 6).unwrap();
+    let want = nearest_oracle(&values, target, 6);
+    assert!(
+        e.shift != target,
+        "the shift should have been moved off the eigenvalue"
+    );
+    for k in 0..6 {
+        assert!((e.values[k] - want[k]).abs() <= 1e-10 * norm);
+    }
+    check_vectors(&dense, &e.values, &e.vectors, 1e-9 * norm);
+}
+
+#[test]
 fn window_in_window_matches_dense_oracle() {
     let (band, dense) = model_matrix(false, 300);
     let values = oracle(&dense);
