@@ -6,14 +6,20 @@
 //! 1. factor H - sigma I = P^T L U once ([`BandedHermitian::lu`], partial pivoting), in real
 //!    arithmetic when H is real;
 //! 2. run Lanczos on the Hermitian operator (H - sigma I)^(-1), whose largest eigenvalues
-//!    theta = 1/(lambda - sigma) belong to the lambda nearest sigma; each step orthogonalises
-//!    twice (classical Gram–Schmidt, twice is enough) against the whole basis; when the basis
+//!    theta = 1/(lambda - sigma) belong to the lambda nearest sigma; each step removes the
+//!    three-term part, then orthogonalises against the whole basis by classical Gram–Schmidt,
+//!    repeated only when the DGKS test asks for it (full reorthogonalisation); when the basis
 //!    reaches m vectors it is contracted to the (m + k)/2 wanted Ritz vectors plus the
 //!    residual vector (Krylov–Schur restart) and expanded again;
 //! 3. a Ritz pair (theta, y) has residual |beta_m y_m| in the inverted problem; it is accepted
 //!    when this is below 1e-10 |theta|; the vector x = V y then gets the Rayleigh quotient
 //!    lambda = x^H H x and the explicit residual ||H x - lambda x|| (an eigenvalue of H lies
-//!    within it: Parlett, The Symmetric Eigenvalue Problem, 1980, Thm 4.5.1);
+//!    within it: Parlett, The Symmetric Eigenvalue Problem, 1980, Thm 4.5.1); before that,
+//!    one block step of subspace iteration with Rayleigh–Ritz in H damps the far-from-sigma
+//!    components that rounding leaves in the Ritz vectors (they dominate the residual, since
+//!    ||H|| is large there);
+//!    if an eigenvalue sits almost exactly on the target, the shift is moved off it by a few
+//!    per cent of the search radius and two more pairs are computed;
 //! 4. completeness: Sylvester inertia counts ([`BandedHermitian::inertia`]) around the target
 //!    tell how many eigenvalues lie nearer than the farthest one found; if some are missing
 //!    (a degenerate pair, which a single Krylov sequence sees only once), the found vectors are
@@ -22,14 +28,15 @@
 //! Why not Sturm bisection plus inverse iteration: bisection needs one O(n b^2) factorisation
 //! per halving, about 40 per eigenvalue to reach 1e-12, against one factorisation plus m
 //! O(n b) solves here; with the cost of one inertia count measured in
-//! `examples/window_timing.rs` (n = 2e5, b = 7, 20 levels), bisection would take about 4-7
-//! times longer than this solver, before even computing eigenvectors.
+//! `examples/window_timing.rs` (n = 2e5 and 2e6, b = 7, 20 levels; a shared, loaded
+//! machine), bisection would take about 4-10 times longer than this solver, before even
+//! computing eigenvectors.
 //!
 //! # Complexity
 //! One factorisation O(n b^2), then per Lanczos step one O(n b) solve and O(n m) for the
-//! reorthogonalisation; in all O(n b^2 + (r + 1) n m^2) for r restarts (two for the
-//! 20 levels of `examples/window_timing.rs`), plus two O(n b^2) inertia counts. Memory O(n b) for the factors plus
-//! O(n m) for the basis, m = max(2k + 10, k + 30) capped at n.
+//! reorthogonalisation; in all O(n b^2 + (r + 1) n m^2) for r restarts (two for the 20
+//! levels of `examples/window_timing.rs`), plus two O(n b^2) inertia counts. Memory O(n b)
+//! for the factors plus O(n m) for the basis, m = max(2k + 10, k + 30) capped at n.
 //!
 //! # References
 //! G. W. Stewart, "A Krylov–Schur algorithm for large eigenproblems", SIAM J. Matrix Anal.
