@@ -63,8 +63,9 @@ pub struct Inertia {
 
 impl BandedHermitian {
     /// Build the n x n Hermitian matrix with half-bandwidth `b` from its lower band:
-    /// `f(i, j)` is called for j in i.saturating_sub(b)..=i. Only the real part of diagonal
-    /// elements is used (a Hermitian matrix has a real diagonal).
+    /// `f(i, j)` is called for j in i.saturating_sub(b)..=i (b above n - 1 is reduced to
+    /// n - 1). Only the real part of diagonal elements is used (a Hermitian matrix has a real
+    /// diagonal).
     ///
     /// # Errors
     /// [`Error::BadNumber`] when n = 0 or an element is not finite.
