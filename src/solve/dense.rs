@@ -10,11 +10,14 @@
 //!   r = hypot(delta, |c|): lambda = m -/+ r. The eigenvectors are built from |delta| + r, which
 //!   never cancels, so they are accurate to rounding for every input.
 //! - sizes 3 and 4: nalgebra's fixed-size `SymmetricEigen` on `Matrix3`/`Matrix4` (stack
-//!   storage, no allocation: the fastest path for tiny blocks).
+//!   storage; measured in `examples/window_timing.rs` on a loaded machine at 2.5 s and 4.2 s
+//!   per million solves with vectors, on par with nalgebra's dynamic solver).
 //! - size >= 5: faer's self-adjoint eigensolver (Householder tridiagonalisation, then a
 //!   divide-and-conquer/QR tridiagonal solver), in real arithmetic (faer `Mat<f64>`) when every
-//!   imaginary part of the lower triangle is exactly zero — a real symmetric solve is about four
-//!   times cheaper — and in complex arithmetic otherwise.
+//!   imaginary part of the lower triangle is exactly zero — a real symmetric solve measured
+//!   5-8 times cheaper at sizes 500-2000 — and in complex arithmetic otherwise. faer measured
+//!   3-11 times faster than nalgebra's dynamic solver for values only and 14-50 times faster
+//!   with vectors at those sizes.
 //!
 //! # Complexity
 //! O(s^3) time and O(s^2) memory for a sector of size s (about (4/3) s^3 flops for the
