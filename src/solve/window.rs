@@ -377,7 +377,7 @@ fn missing_count<T: Scalar>(
 /// orthonormalised (also against `locked`), then the eigenvectors of X'^H H X'. It damps the
 /// components far from sigma left by the Lanczos rounding (they dominate ||H x - lambda x||
 /// because ||H|| is large there; measured: residuals drop by orders of magnitude). The Lanczos
-/// pairs are kept only when the refined block loses rank or overflows.
+/// pairs are kept when the refined block loses rank or has the larger worst residual.
 fn refine<T: Scalar>(
     h: &BandedHermitian,
     lu: &BandedLu<T>,
@@ -423,15 +423,20 @@ fn refine<T: Scalar>(
     let new: Vec<Found<T>> = (0..k)
         .map(|c| rayleigh(h, x_new.column(c).into_owned()))
         .collect();
-    if new
-        .iter()
-        .all(|f| f.residual.is_finite() && f.value.is_finite())
-    {
-        Ok(new)
-    } else {
-        // the refined block is unusable (overflow): keep the Lanczos pairs
-        Ok(xs.into_iter().map(|x| rayleigh(h, x)).collect())
-    }
+    // keep whichever block has the smaller worst residual: the step can lose accuracy when an
+    // eigenvalue sits almost on sigma (its huge 1/(lambda - sigma) amplifies rounding)
+    let worst =
+        |v: &[Found<T>]| {
+            v.iter().map(|f| f.residual).fold(0.0, |a: f64, r| {
+                if r.is_nan() {
+                    f64::INFINITY
+                } else {
+                    a.max(r)
+                }
+            })
+        };
+    let old: Vec<Found<T>> = xs.into_iter().map(|x| rayleigh(h, x)).collect();
+    Ok(if worst(&old) < worst(&new) { old } else { new })
 }
 
 /// Rayleigh quotient and explicit residual of a unit vector in H.
