@@ -531,6 +531,13 @@ fn krylov_schur<T: Scalar>(
                 let converged = order[..kk]
                     .iter()
                     .all(|&i| (beta * y[(m - 1, i)].norm()) <= TOL * values[i].abs());
+                // an eigenvalue (almost) on the shift: its theta dwarfs the others so much that
+                // the rounding of the solves (about eps * theta_max) swamps TOL * theta_k, and
+                // even a "converged" Ritz estimate cannot be trusted
+                let (t_max, t_k) = (values[order[0]].abs(), values[order[kk - 1]].abs());
+                if !exhausted && t_max * f64::EPSILON * 64.0 > TOL * t_k {
+                    return Ok(Krylov::ShiftTooClose { radius: 1.0 / t_k });
+                }
                 if converged || exhausted {
                     let ysel = DMatrix::from_fn(m, kk, |r, c| T::from_c64(y[(r, order[c])]));
                     let x = v.columns(0, m) * ysel;
@@ -549,12 +556,6 @@ fn krylov_schur<T: Scalar>(
             }
             j += 1;
         };
-        // an eigenvalue (almost) on the shift: its theta dwarfs the others so much that the
-        // rounding floor eps * theta_max of the Lanczos residuals exceeds TOL * theta_k
-        let (t_max, t_k) = (values[order[0]].abs(), values[order[k - 1]].abs());
-        if t_max * f64::EPSILON * 64.0 > TOL * t_k {
-            return Ok(Krylov::ShiftTooClose { radius: 1.0 / t_k });
-        }
         restarts += 1;
         if restarts > MAX_RESTARTS {
             return Err(Error::NotConverged {
