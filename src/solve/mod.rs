@@ -9,8 +9,10 @@
 //! Results do not depend on the thread count: each sector is solved independently and the
 //! results are concatenated in sector order before a stable sort by energy.
 
+pub mod banded;
 pub mod dense;
 pub mod refine;
+pub mod window;
 
 use crate::dd::DdComplex;
 use crate::error::{Error, Result};
