@@ -25,6 +25,19 @@ pub struct Level {
     /// eigenvalue within `bound` of `energy + reference`. Combines the exact norm of the part of
     /// H v that leaves the truncated space with the in-space residual of the solver.
     pub bound: f64,
+    /// Kato-Temple bound r^2 / gap (plus a rounding floor), sharper than `bound` when the
+    /// distance `gap` from `energy` to the nearest other eigenvalue of the same sector (each
+    /// neighbour widened by its own bound) is known and positive; `None` otherwise. Filled by
+    /// [`crate::trust::bounds::apply_kato_temple`]; see there for the conditions.
+    pub kato_temple: Option<f64>,
+    /// The part of `bound` that comes from leaving the truncated space: the exact norm of the
+    /// components of H v beyond orbital N-1 ([`crate::solve::leakage`]). Large for cutoff
+    /// artefacts.
+    pub leakage: f64,
+    /// The other part: the in-space residual ||P H P v - E v|| of the solver plus its rounding
+    /// floor (for the Klein-Gordon form, of the squared operator). Not squared by the
+    /// Kato-Temple argument, so it floors that bound.
+    pub in_space_residual: f64,
     /// Converged or not at the tolerance of the solve.
     pub convergence: Convergence,
     /// The sector (conserved quantity) the level belongs to.
@@ -44,6 +57,12 @@ impl Level {
     /// Whether the level is converged.
     pub fn is_converged(&self) -> bool {
         self.convergence == Convergence::Converged
+    }
+
+    /// The sharpest rigorous bound available: the Kato-Temple bound when known, else the
+    /// residual bound (never more than `bound`).
+    pub fn best_bound(&self) -> f64 {
+        self.kato_temple.map_or(self.bound, |kt| kt.min(self.bound))
     }
 }
 

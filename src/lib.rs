@@ -50,6 +50,7 @@ pub mod sectors;
 pub mod shard;
 pub mod solve;
 pub mod sweep;
+pub mod trust;
 pub mod units;
 pub mod verify;
 

@@ -12,6 +12,7 @@
 //! or 1 (verification failed).
 
 pub mod common;
+pub mod converge;
 pub mod demo;
 pub mod dispersion;
 pub mod dos;
@@ -38,8 +39,7 @@ pub struct Cli {
     pub command: Option<Command>,
 }
 
-/// Every command. Planned additions (separate files, added by their authors): `converge`,
-/// `verify`, `dos`, `optics`, `merge`.
+/// Every command. Planned additions (separate files, added by their authors): `merge`.
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Levels at one field and kz: a labelled table with error bounds.
@@ -61,6 +61,8 @@ pub enum Command {
     /// Check a level formula (or a CSV of expected levels) against the exact spectrum, level
     /// by level: exit 0 pass, 1 fail, 2 bad input.
     Verify(verify::VerifyArgs),
+    /// Convergence in the cutoff: a study over cutoffs, or the cutoff a tolerance needs.
+    Converge(converge::ConvergeArgs),
     /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
     Merge(merge::MergeArgs),
 }
@@ -77,6 +79,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Dos(a) => dos::run(&a),
         Command::Optics(a) => optics::run(&a),
         Command::Verify(a) => verify::run(&a),
+        Command::Converge(a) => converge::run(&a),
         Command::Merge(a) => merge::run(&a),
     }
 }

@@ -9,8 +9,10 @@
 //! Results do not depend on the thread count: each sector is solved independently and the
 //! results are concatenated in sector order before a stable sort by energy.
 
+pub mod banded;
 pub mod dense;
 pub mod refine;
+pub mod window;
 
 use crate::dd::DdComplex;
 use crate::error::{Error, Result};
@@ -180,6 +182,8 @@ struct Job<'a> {
     refine: RefinePolicy,
     keep_vectors: bool,
     real: bool,
+    /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
+    tolerance: f64,
 }
 
 impl Job<'_> {
@@ -206,7 +210,18 @@ impl Job<'_> {
                 z
             }
         });
-        let eig = dense::eigh(&hs, Vectors::Compute)?;
+        let mut eig = dense::eigh(&hs, Vectors::Compute)?;
+        // trust: rotate degenerate clusters so cutoff artefacts separate (src/trust/cluster.rs)
+        if let Some(vectors) = eig.vectors.as_mut() {
+            crate::trust::cluster::separate_leaking(
+                self.h,
+                cutoff,
+                states,
+                &mut eig.values,
+                vectors,
+                self.tolerance,
+            );
+        }
         let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
@@ -278,6 +293,9 @@ impl Job<'_> {
             let base = Level {
                 energy: 0.0,
                 bound: 0.0,
+                kato_temple: None,
+                leakage: out_res,
+                in_space_residual: in_res + rounding,
                 convergence: Convergence::NotConverged,
                 sector: id,
                 orbital: best.1,
@@ -432,6 +450,7 @@ impl Spectrum {
             refine,
             keep_vectors: settings.vectors == Vectors::Compute,
             real: h.is_real(),
+            tolerance: settings.tolerance,
         };
         let chunk = 512;
         let parts: Vec<Result<SectorResult>> = ids
@@ -500,6 +519,7 @@ impl Spectrum {
             weights,
             vectors,
         };
+        crate::trust::bounds::finish(&mut spectrum); // trust: Kato-Temple, rounding floor
         flag_convergence(&mut spectrum);
         Ok(spectrum)
     }

@@ -1,0 +1,516 @@
+//! `ladderfan converge`: how the levels depend on the cutoff, and the cutoff a tolerance needs.
+//!
+//! Two modes ([`Mode`]):
+//! * `study` (default): solve at a list of cutoffs (`--cutoffs 25,50,100`, or `--steps`
+//!   doublings ending at `--cutoff`), follow the selected levels, and tabulate bounds, the decay
+//!   rate of the change between cutoffs and the cutoff needed for `--tolerance`. The actual
+//!   error is measured against the closed form when the model has one, else against the
+//!   largest cutoff. `--out DIR` writes `converge.csv`, `converge.json` and `converge.svg`.
+//! * `auto`: grow the cutoff from `--cutoff` until every selected level meets `--tolerance`
+//!   (confirmed by the next cutoff), up to `--max-cutoff` and `--memory-limit-mib`; exits with
+//!   code 1 and a clear message when the tolerance cannot be met.
+//!
+//! The selection is `--window LO,HI` (energies relative to the reference energy) or the
+//! `--count` levels nearest `--target`.
+
+use super::common::{
+    self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
+    ModelArgs, ModelJson, OutputArgs, OutputFiles, SolveArgs, TruncArgs, UnitsJson,
+};
+use clap::{Args, ValueEnum};
+use ladderfan::trust::converge::{
+    auto, study, AutoResult, AutoSettings, AutoStep, BoundChoice, ExactValues, NeededCutoff,
+    Selection, Study,
+};
+use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
+use ladderfan::trust::window::{EnergyWindow, WindowWarning};
+use ladderfan::Settings;
+use serde::Serialize;
+
+/// What `converge` does.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Mode {
+    /// Tabulate the selected levels over a list of cutoffs.
+    Study,
+    /// Grow the cutoff until the selected levels meet the tolerance.
+    Auto,
+}
+
+/// Which bound the automatic mode requires below the tolerance.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum BoundFlag {
+    /// Residual (Weinstein) bound: no assumption.
+    Residual,
+    /// Kato-Temple bound where available: sharper, assumes no level hides between neighbours.
+    KatoTemple,
+}
+
+/// Flags of `ladderfan converge`.
+#[derive(Debug, Clone, Args)]
+pub struct ConvergeArgs {
+    #[command(flatten)]
+    pub model: ModelArgs,
+    /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
+    #[arg(long, allow_negative_numbers = true)]
+    pub field: Option<f64>,
+    /// Wave number along the field, in 1/length of the model's units.
+    #[arg(long, allow_negative_numbers = true)]
+    pub kz: Option<f64>,
+    /// study: tabulate over cutoffs; auto: grow the cutoff until the tolerance is met.
+    #[arg(long, value_enum, default_value_t = Mode::Study)]
+    pub mode: Mode,
+    /// Cutoffs of a study, comma-separated (e.g. 25,50,100); overrides --cutoff and --steps.
+    #[arg(long, value_delimiter = ',', value_name = "N,N,...")]
+    pub cutoffs: Vec<usize>,
+    /// study: the largest cutoff of the doubling list; auto: the first cutoff tried.
+    #[arg(long)]
+    pub cutoff: Option<usize>,
+    /// Number of cutoffs of a study's doubling list (cutoff / 2^(steps-1), ..., cutoff).
+    #[arg(long, default_value_t = 5)]
+    pub steps: u32,
+    /// auto: the largest cutoff allowed.
+    #[arg(long, default_value_t = 1 << 20)]
+    pub max_cutoff: usize,
+    /// Memory limit for one solve, MiB.
+    #[arg(long, value_name = "MIB")]
+    pub memory_limit_mib: Option<u64>,
+    /// Relative tolerance: a level is converged when its bound is at most
+    /// tolerance x max(|E|, typical Landau spacing).
+    #[arg(long, default_value_t = 1e-9)]
+    pub tolerance: f64,
+    /// Energy window LO,HI relative to the reference energy (model's energy unit); replaces
+    /// --count/--target.
+    #[arg(
+        long,
+        value_delimiter = ',',
+        allow_negative_numbers = true,
+        value_name = "LO,HI"
+    )]
+    pub window: Vec<f64>,
+    /// Number of levels to follow, those nearest --target.
+    #[arg(long, default_value_t = 10)]
+    pub count: usize,
+    /// Target energy relative to the reference energy for --count.
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    pub target: f64,
+    /// auto: which bound must meet the tolerance.
+    #[arg(long, value_enum, default_value_t = BoundFlag::Residual)]
+    pub bound: BoundFlag,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+fn selection(a: &ConvergeArgs) -> CliResult<Selection> {
+    match a.window.as_slice() {
+        [] => {
+            if a.count == 0 {
+                return Err(bad_flag("--count", "0 levels; follow at least one level"));
+            }
+            Ok(Selection::Nearest {
+                target: common::finite_flag("--target", a.target)?,
+                count: a.count,
+            })
+        }
+        [lo, hi] => Ok(Selection::Window(
+            EnergyWindow::new(*lo, *hi).map_err(|e| bad_flag("--window", e.to_string()))?,
+        )),
+        other => Err(bad_flag(
+            "--window",
+            format!(
+                "{} values given; write two energies LO,HI (e.g. --window -50,50)",
+                other.len()
+            ),
+        )),
+    }
+}
+
+/// The cutoff list of a study: `--cutoffs`, else `--steps` halvings of `top`.
+fn study_cutoffs(a: &ConvergeArgs, top: usize) -> CliResult<Vec<usize>> {
+    if !a.cutoffs.is_empty() {
+        return Ok(a.cutoffs.clone());
+    }
+    if a.steps == 0 || a.steps > 20 {
+        return Err(bad_flag("--steps", "give between 1 and 20 cutoffs"));
+    }
+    let mut v: Vec<usize> = (0..a.steps).map(|k| top >> k).filter(|&n| n > 0).collect();
+    v.reverse();
+    Ok(v)
+}
+
+/// The JSON result of a study.
+#[derive(Debug, Serialize)]
+pub struct StudyJson<'a> {
+    /// Always `converge`.
+    pub command: &'static str,
+    /// `study`.
+    pub mode: &'static str,
+    /// The model.
+    pub model: ModelJson,
+    /// Units of every number.
+    pub units: UnitsJson,
+    /// The study.
+    pub study: &'a Study,
+}
+
+/// One selected level of an automatic run.
+#[derive(Debug, Serialize)]
+pub struct AutoLevelJson {
+    /// Energy relative to the reference energy.
+    pub energy: f64,
+    /// Residual bound.
+    pub bound: f64,
+    /// Kato-Temple bound, when available.
+    pub kato_temple: Option<f64>,
+    /// Sector `class:label`.
+    pub sector: String,
+    /// Dominant orbital.
+    pub orbital: usize,
+    /// Dominant component.
+    pub component: usize,
+}
+
+/// The JSON result of an automatic run.
+#[derive(Debug, Serialize)]
+pub struct AutoJson<'a> {
+    /// Always `converge`.
+    pub command: &'static str,
+    /// `auto`.
+    pub mode: &'static str,
+    /// The model.
+    pub model: ModelJson,
+    /// Units of every number.
+    pub units: UnitsJson,
+    /// Field.
+    pub field: f64,
+    /// kz.
+    pub kz: f64,
+    /// Relative tolerance met.
+    pub tolerance: f64,
+    /// Final cutoff.
+    pub cutoff: usize,
+    /// First cutoff that met the tolerance (confirmed by the final one).
+    pub first_converged_cutoff: usize,
+    /// Matrix dimension N d at the final cutoff.
+    pub matrix_dimension: usize,
+    /// Total seconds.
+    pub seconds: f64,
+    /// Energies are relative to this.
+    pub reference_energy: f64,
+    /// The steps.
+    pub history: &'a [AutoStep],
+    /// The selected levels at the final cutoff.
+    pub levels: Vec<AutoLevelJson>,
+    /// Bands re-entering the window beyond the cutoff.
+    pub warnings: &'a [WindowWarning],
+}
+
+fn needed(n: NeededCutoff) -> String {
+    match n {
+        NeededCutoff::Observed(c) => c.to_string(),
+        NeededCutoff::Extrapolated(c) => format!("~{c}"),
+        NeededCutoff::Unknown => "?".into(),
+    }
+}
+
+fn opt_sci(x: Option<f64>) -> String {
+    x.map_or_else(|| "-".into(), |v| format!("{v:.2e}"))
+}
+
+/// The study as an aligned table: one row per tracked level, the bound at each cutoff, the
+/// actual error at the second-largest cutoff, rates and the needed cutoff.
+pub fn study_table(st: &Study, origin: &str) -> String {
+    let mut out = format!(
+        "model: {} ({}), field {}, kz {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
+         energies in {} relative to the reference energy\n\
+         actual error against {}; p: change ~ N^-p, kappa: change ~ exp(-kappa N); ~N: extrapolated\n\n",
+        st.model,
+        origin,
+        st.point.field,
+        st.point.kz,
+        st.cutoffs,
+        st.tolerance,
+        st.energy_unit,
+        if st.levels.iter().any(|l| l.exact == ladderfan::trust::converge::ReferenceKind::Exact) {
+            "the closed form"
+        } else {
+            "the largest cutoff"
+        }
+    );
+    let mut header = vec![
+        "sector".to_string(),
+        "orbital".into(),
+        format!("energy [{}]", st.energy_unit),
+    ];
+    for n in &st.cutoffs {
+        header.push(format!("bound N={n}"));
+    }
+    let penultimate = st.cutoffs.len().saturating_sub(2);
+    header.extend([
+        format!(
+            "error N={}",
+            st.cutoffs.get(penultimate).copied().unwrap_or(0)
+        ),
+        "p".into(),
+        "kappa".into(),
+        "needed N".into(),
+    ]);
+    let mut rows = vec![header];
+    for l in &st.levels {
+        let mut r = vec![
+            format!("{}:{}", l.sector.class, l.sector.label),
+            l.orbital.to_string(),
+            fmt_num(l.reference_value, 12),
+        ];
+        for e in &l.entries {
+            r.push(opt_sci(e.bound));
+        }
+        r.push(opt_sci(
+            l.entries.get(penultimate).and_then(|e| e.actual_error),
+        ));
+        r.push(
+            l.change_exponent
+                .map_or_else(|| "-".into(), |p| format!("{p:.2}")),
+        );
+        r.push(
+            l.change_rate_per_orbital
+                .map_or_else(|| "-".into(), |k| format!("{k:.3}")),
+        );
+        r.push(needed(l.needed_cutoff));
+        rows.push(r);
+    }
+    out.push_str(&common::table(&rows));
+    for w in &st.warnings {
+        out.push_str(&format!("warning: {}\n", w.message));
+    }
+    out
+}
+
+/// The automatic run as text: summary, steps, selected levels, warnings.
+pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> String {
+    let s = &res.spectrum;
+    let mut out = format!(
+        "model: {} ({}), field {}, kz {}\ntolerance {tol:e} met at cutoff {} (first met at {}, confirmed), \
+         matrix dimension {}, {:.3} s in total\nenergies in {unit} relative to {}\n\n",
+        s.model,
+        origin,
+        s.point.field,
+        s.point.kz,
+        res.cutoff,
+        res.first_converged_cutoff,
+        res.matrix_dimension,
+        res.seconds,
+        s.reference_energy
+    );
+    let mut rows = vec![vec![
+        "cutoff".to_string(),
+        "matrix dim".into(),
+        "selected".into(),
+        "unconverged".into(),
+        "worst bound/tol".into(),
+        "agrees".into(),
+        "seconds".into(),
+    ]];
+    for h in &res.history {
+        rows.push(vec![
+            h.cutoff.to_string(),
+            h.matrix_dimension.to_string(),
+            h.selected.to_string(),
+            h.unconverged.to_string(),
+            format!("{:.2e}", h.worst_bound_over_tolerance),
+            if h.agrees_with_previous { "yes" } else { "no" }.into(),
+            format!("{:.4}", h.seconds),
+        ]);
+    }
+    out.push_str(&common::table(&rows));
+    out.push('\n');
+    let mut rows = vec![vec![
+        "sector".to_string(),
+        "orbital".into(),
+        format!("energy [{unit}]"),
+        format!("bound [{unit}]"),
+        format!("Kato-Temple [{unit}]"),
+    ]];
+    for &i in &res.selected {
+        let l = &s.levels[i];
+        rows.push(vec![
+            format!("{}:{}", l.sector.class, l.sector.label),
+            l.orbital.to_string(),
+            fmt_num(l.energy, 12),
+            format!("{:.2e}", l.bound),
+            opt_sci(l.kato_temple),
+        ]);
+    }
+    out.push_str(&common::table(&rows));
+    for w in &res.warnings {
+        out.push_str(&format!("warning: {}\n", w.message));
+    }
+    out
+}
+
+fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> AutoJson<'a> {
+    let s = &res.spectrum;
+    AutoJson {
+        command: "converge",
+        mode: "auto",
+        model: ModelJson::new(lm),
+        units: UnitsJson::new(&lm.model),
+        field: s.point.field,
+        kz: s.point.kz,
+        tolerance: tol,
+        cutoff: res.cutoff,
+        first_converged_cutoff: res.first_converged_cutoff,
+        matrix_dimension: res.matrix_dimension,
+        seconds: res.seconds,
+        reference_energy: s.reference_energy,
+        history: &res.history,
+        levels: res
+            .selected
+            .iter()
+            .map(|&i| {
+                let l = &s.levels[i];
+                AutoLevelJson {
+                    energy: l.energy,
+                    bound: l.bound,
+                    kato_temple: l.kato_temple,
+                    sector: format!("{}:{}", l.sector.class, l.sector.label),
+                    orbital: l.orbital,
+                    component: l.component,
+                }
+            })
+            .collect(),
+        warnings: &res.warnings,
+    }
+}
+
+fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
+    let unit = lm.model.units().energy_unit().replace(' ', "");
+    let s = &res.spectrum;
+    let header = csv_header(
+        lm,
+        "converge --mode auto",
+        &[format!(
+            "field {}, kz {}, final cutoff {}, first converged cutoff {}, energies relative to {}",
+            s.point.field, s.point.kz, res.cutoff, res.first_converged_cutoff, s.reference_energy
+        )],
+    );
+    let mut rec = vec![vec![
+        "sector".to_string(),
+        "orbital".into(),
+        "component".into(),
+        format!("energy_{unit}"),
+        format!("bound_{unit}"),
+        format!("kato_temple_{unit}"),
+    ]];
+    for &i in &res.selected {
+        let l = &s.levels[i];
+        rec.push(vec![
+            format!("{}:{}", l.sector.class, l.sector.label),
+            l.orbital.to_string(),
+            l.component.to_string(),
+            format!("{:e}", l.energy),
+            format!("{:e}", l.bound),
+            l.kato_temple.map_or_else(String::new, |k| format!("{k:e}")),
+        ]);
+    }
+    csv_text(&header, &rec)
+}
+
+/// Run `ladderfan converge`.
+pub fn run(a: &ConvergeArgs) -> CliResult {
+    let lm = load_model(&a.model)?;
+    let sel = selection(a)?;
+    if !(a.tolerance.is_finite() && a.tolerance > 0.0) {
+        return Err(bad_flag(
+            "--tolerance",
+            format!("{} is not a positive number; use e.g. 1e-9", a.tolerance),
+        ));
+    }
+    let top_default = match a.mode {
+        Mode::Study => 256,
+        Mode::Auto => 16,
+    };
+    let requested = a
+        .cutoffs
+        .iter()
+        .copied()
+        .max()
+        .or(a.cutoff)
+        .unwrap_or(top_default);
+    // validate field, kz, cutoff and memory limit through the shared resolver
+    let solve = SolveArgs {
+        field: a.field,
+        kz: a.kz,
+        trunc: TruncArgs {
+            cutoff: Some(requested),
+            memory_limit_mib: a.memory_limit_mib,
+        },
+    };
+    let r = common::resolve(&lm, &solve, common::default_field(&lm.model))?;
+    let mut base = Settings::with_cutoff(r.cutoff);
+    base.tolerance = a.tolerance;
+    base.memory_limit_mib = r.memory_limit_mib;
+    let unit = lm.model.units().energy_unit();
+    match a.mode {
+        Mode::Study => {
+            let cutoffs = study_cutoffs(a, requested)?;
+            let st = study(
+                &lm.model,
+                r.point(),
+                &base,
+                &cutoffs,
+                sel,
+                ExactValues::ClosedFormIfKnown,
+            )?;
+            let mut written = Vec::new();
+            if let Some(dir) = &a.output.out {
+                let mut files = OutputFiles::default();
+                files.add("converge.csv", study_csv(&st)?);
+                files.add("converge.json", study_json(&st)?);
+                files.add("converge.svg", study_svg_string(&st)?);
+                written = files.write_all(dir)?;
+            }
+            if a.output.json {
+                emit_json(&StudyJson {
+                    command: "converge",
+                    mode: "study",
+                    model: ModelJson::new(&lm),
+                    units: UnitsJson::new(&lm.model),
+                    study: &st,
+                })
+            } else {
+                let mut text = study_table(&st, &lm.origin);
+                for p in written {
+                    text.push_str(&format!("wrote {}\n", p.display()));
+                }
+                emit(&text)
+            }
+        }
+        Mode::Auto => {
+            let mut s = AutoSettings::new(sel, a.tolerance);
+            s.start_cutoff = r.cutoff;
+            s.max_cutoff = a.max_cutoff;
+            s.memory_limit_mib = r.memory_limit_mib;
+            s.bound = match a.bound {
+                BoundFlag::Residual => BoundChoice::Residual,
+                BoundFlag::KatoTemple => BoundChoice::KatoTemple,
+            };
+            s.base = base;
+            let res = auto(&lm.model, r.point(), &s)?;
+            let mut written = Vec::new();
+            if let Some(dir) = &a.output.out {
+                let mut files = OutputFiles::default();
+                files.add("converge-auto.csv", auto_csv(&lm, &res)?);
+                written = files.write_all(dir)?;
+            }
+            if a.output.json {
+                emit_json(&auto_json(&lm, &res, a.tolerance))
+            } else {
+                let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
+                for p in written {
+                    text.push_str(&format!("wrote {}\n", p.display()));
+                }
+                emit(&text)
+            }
+        }
+    }
+}

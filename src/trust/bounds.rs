@@ -1,0 +1,145 @@
+//! Per-level error bounds: the residual (Weinstein / Krylov-Bogoliubov) bound and the sharper
+//! Kato-Temple bound.
+//!
+//! # Formulas
+//! For a unit vector v with Rayleigh quotient rho = <v, H v> and residual r = ||H v - rho v||
+//! (here r^2 = in-space residual^2 + leakage^2, the leakage being the exact norm of the part of
+//! H v beyond orbital N-1):
+//!
+//! * residual bound: the self-adjoint H has an eigenvalue in [rho - r, rho + r]
+//!   (Weinstein 1934; Krylov & Bogoliubov 1929). Stored as [`Level::bound`].
+//! * Kato-Temple bound: if the open interval (alpha, beta) contains rho and exactly one
+//!   eigenvalue lambda of H, then rho - r^2/(beta - rho) <= lambda <= rho + r^2/(rho - alpha),
+//!   so |lambda - rho| <= r^2 / delta with delta = min(rho - alpha, beta - rho) (Temple 1928;
+//!   Kato 1949). Stored as [`Level::kato_temple`].
+//!
+//! # How the gap is obtained, and what it assumes
+//! H commutes with the conserved quantity of the sector (exact J, J mod m, or the component
+//! class), so the bounds hold for H restricted to the sector and only levels of the same
+//! sector are neighbours. For a level i, alpha = E_lo + b_lo and beta = E_hi - b_hi, where lo
+//! and hi are the nearest levels of the sector below and above (cutoff artefacts, weight >= 1/2
+//! on the top orbitals, excluded) and b their residual bounds: the neighbours' eigenvalues lie
+//! outside (alpha, beta). A side without such a neighbour counts as free of eigenvalues
+//! (alpha = -inf or beta = +inf; Temple's one-sided case). The Kato-Temple bound is reported
+//! only when the level has a neighbour on at least one side and delta > r (the residual
+//! interval fits inside the gap).
+//!
+//! This assumes that the eigenvalues of the untruncated operator near rho are exactly those
+//! the computed genuine levels stand for: none hides between neighbours or beyond the
+//! outermost genuine level of the sector, and artefacts do not stand for one. A band that
+//! re-enters the energy window beyond the cutoff breaks this (see [`crate::trust::window`]),
+//! and so can a sector that the cutoff cuts short. When in doubt use the residual bound, which
+//! needs no assumption. The tests check the Kato-Temple bound against the closed forms of the
+//! whole catalogue, on the split and the unsplit path.
+//!
+//! A floor max(in-space residual, 4 eps |E|) is added ([`Level::in_space_residual`], which
+//! includes the solver's rounding floor): the stored energy is not exactly the Rayleigh
+//! quotient of its vector (they differ by at most the in-space residual), and it is rounded.
+//!
+//! Klein-Gordon levels (branch ±1) are energies of E^2 = m^2c^4 + 2 m c^2 lambda, not
+//! eigenvalues of a self-adjoint H on the same space; they get no Kato-Temple bound.
+//!
+//! # References
+//! (Titles, volumes and pages from memory; the inequalities themselves are textbook results,
+//! e.g. B. N. Parlett, "The Symmetric Eigenvalue Problem", ch. 10, also from memory.)
+//! * D. H. Weinstein, "Modified Ritz method", Proc. Natl. Acad. Sci. USA 20, 529 (1934).
+//! * N. Krylov & N. Bogoliubov (1929), the same residual bound (from memory).
+//! * G. Temple, "The theory of Rayleigh's principle as applied to continuous systems",
+//!   Proc. R. Soc. Lond. A 119, 276 (1928).
+//! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
+
+use crate::levels::{Level, Spectrum};
+use crate::trust::converge::is_cutoff_artefact;
+use std::collections::BTreeMap;
+
+/// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
+/// nearest neighbouring eigenvalue intervals below (`room_below` = rho - alpha) and above
+/// (`room_above` = beta - rho; infinite when that side is free); `None` unless both rooms
+/// exceed r and at least one is finite.
+///
+/// # Examples
+/// ```
+/// use ladderfan::trust::bounds::kato_temple;
+/// // r = 1e-4, nearest other eigenvalue interval 0.5 away: bound 2e-8
+/// let kt = kato_temple(1e-4, 0.5, 0.7).expect("gap is open");
+/// assert!((kt - 2e-8).abs() < 1e-20);
+/// assert!(kato_temple(1e-4, 1e-5, 0.7).is_none());
+/// // one-sided (Temple): nothing below
+/// assert!(kato_temple(1e-4, f64::INFINITY, 0.5).is_some());
+/// assert!(kato_temple(1e-4, f64::INFINITY, f64::INFINITY).is_none());
+/// ```
+pub fn kato_temple(residual: f64, room_below: f64, room_above: f64) -> Option<f64> {
+    let delta = room_below.min(room_above);
+    if delta.is_finite() && delta > residual && residual.is_finite() {
+        Some(residual * residual / delta)
+    } else {
+        None
+    }
+}
+
+/// Relative rounding allowance (units of eps) of a stored energy: a double holds the
+/// eigenvalue to half an ulp, and the assembled coefficients (magnetic length, products of
+/// parameters) carry a few ulps of relative rounding that move it by about as much.
+pub const ROUNDING_ULPS: f64 = 4.0;
+
+/// Post-process the bounds of a freshly solved spectrum (called by the solver before it sets
+/// the convergence flags): the Kato-Temple bounds ([`apply_kato_temple`]).
+pub fn finish(spectrum: &mut Spectrum) {
+    apply_kato_temple(spectrum);
+}
+
+/// Fill [`Level::kato_temple`] for every level of `spectrum` (see the module docs for the
+/// gap, the floor and the assumptions). Levels must be sorted by energy.
+///
+/// # Complexity
+/// O(L) for L levels after grouping by sector.
+pub fn apply_kato_temple(spectrum: &mut Spectrum) {
+    let mut by_sector: BTreeMap<_, Vec<usize>> = BTreeMap::new();
+    for (i, l) in spectrum.levels.iter().enumerate() {
+        l_push(&mut by_sector, l, i);
+    }
+    let mut results = vec![None; spectrum.levels.len()];
+    for idx in by_sector.values() {
+        // idx is ascending in energy because levels are sorted
+        for (pos, &i) in idx.iter().enumerate() {
+            let li = &spectrum.levels[i];
+            let genuine = |j: &&usize| !is_cutoff_artefact(&spectrum.levels[**j]);
+            let below = idx[..pos]
+                .iter()
+                .rev()
+                .find(genuine)
+                .map_or(f64::NEG_INFINITY, |&j| upper_edge(&spectrum.levels[j]));
+            let above = idx[pos + 1..]
+                .iter()
+                .find(genuine)
+                .map_or(f64::INFINITY, |&j| lower_edge(&spectrum.levels[j]));
+            results[i] = kato_temple(li.bound, li.energy - below, above - li.energy)
+                .map(|kt| kt + rounding_floor(li));
+        }
+    }
+    for (l, kt) in spectrum.levels.iter_mut().zip(results) {
+        l.kato_temple = kt;
+    }
+}
+
+fn l_push(map: &mut BTreeMap<crate::sectors::SectorId, Vec<usize>>, l: &Level, i: usize) {
+    if l.branch == 0 {
+        map.entry(l.sector).or_default().push(i);
+    }
+}
+
+fn upper_edge(l: &Level) -> f64 {
+    l.energy + l.bound
+}
+
+fn lower_edge(l: &Level) -> f64 {
+    l.energy - l.bound
+}
+
+/// The part of the error that the Kato-Temple argument does not square: the stored energy E
+/// differs from the Rayleigh quotient of its vector by at most the in-space residual
+/// (Cauchy-Schwarz), and from the exact eigenvalue of the assembled operator by its rounding.
+fn rounding_floor(l: &Level) -> f64 {
+    l.in_space_residual
+        .max(ROUNDING_ULPS * f64::EPSILON * l.energy.abs())
+}
