@@ -3,6 +3,9 @@
 //! * `dense_sector`: one dense Hermitian eigen-solve (values only) of the unsplit 3+1 Dirac
 //!   matrix, sizes 500, 1000, 2000 (and 4000 with `LADDERFAN_BENCH_4000=1`: minutes per sample
 //!   on a shared 2-core machine).
+//! * `window`: the 20 levels nearest 1.01 m c^2 of the unsplit 3+1 Dirac band matrix (4N
+//!   states, half-bandwidth 7) by the shift-invert window solver, N = 1e4 and 1e5 (and 1e6
+//!   with `LADDERFAN_BENCH_1E6=1`: about a minute per sample).
 //! * `sweep_1000`: 1000 field points of the split 3+1 Dirac model (N = 1000), serially in a
 //!   1-thread rayon pool and in a 2-thread pool, same inputs. Before timing, the 2-thread
 //!   result is checked to equal the serial one exactly (the sweep's determinism claim: each
@@ -13,7 +16,9 @@
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use ladderfan::builtin::{self, RelativisticParams};
 use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::solve::banded::BandedHermitian;
 use ladderfan::solve::dense::{self, Vectors};
+use ladderfan::solve::window;
 use ladderfan::{sweep, FieldPoint, Settings};
 use std::hint::black_box;
 use std::time::Duration;
@@ -39,6 +44,30 @@ fn dense_sector(c: &mut Criterion) {
         let mat = h.dense(size / 4);
         g.bench_with_input(BenchmarkId::new("eigh_values", size), &mat, |b, mat| {
             b.iter(|| dense::eigh(black_box(mat), Vectors::Skip).expect("eigh"))
+        });
+    }
+    g.finish();
+}
+
+fn window_solver(c: &mut Criterion) {
+    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let h = LadderHamiltonian::assemble(&m, point(), 0.0).expect("assembly");
+    let d = h.dim;
+    let half = d * (h.band + 1) - 1;
+    let mut g = c.benchmark_group("window");
+    g.sample_size(10);
+    g.warm_up_time(Duration::from_millis(500));
+    let mut cutoffs = vec![10_000usize, 100_000];
+    if std::env::var_os("LADDERFAN_BENCH_1E6").is_some() {
+        cutoffs.push(1_000_000);
+    }
+    for n in cutoffs {
+        let band = BandedHermitian::from_fn(n * d, half, |i, j| {
+            h.element(i / d, i % d, j / d, j % d)
+        })
+        .expect("band matrix");
+        g.bench_with_input(BenchmarkId::new("nearest_20", n), &band, |b, band| {
+            b.iter(|| window::nearest(black_box(band), 1.01, 20).expect("window"))
         });
     }
     g.finish();
@@ -90,5 +119,5 @@ fn sweep_1000(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, sweep_1000, dense_sector);
+criterion_group!(benches, sweep_1000, dense_sector, window_solver);
 criterion_main!(benches);

@@ -7,13 +7,16 @@
 //! compare_probe split N [--threads T] [--values FILE]   split sectors, labels and bounds
 //! compare_probe dense N [--threads T] [--values FILE] [--full]   one dense sector of 4N states
 //! compare_probe sweep P [--threads T] [--rounds R]   P-point sweep, 1 thread vs T, alternately
+//! compare_probe window N [--target E] [--count K] [--values FILE]   K levels nearest E (1.01)
+//!                                                  of the unsplit 4N-state band matrix
 //! ```
 //! Setup (model, assembly of the dense matrix) is not timed; each timing is the median of
 //! repeated runs (as many as fit in about 2 s, at least 1, at most 15). `dense ... --full` also
 //! times the complete unsplit `Spectrum::compute` (eigenvectors, bounds, labels).
 
 use ladderfan::hamiltonian::LadderHamiltonian;
-use ladderfan::solve::dense;
+use ladderfan::solve::banded::BandedHermitian;
+use ladderfan::solve::{dense, window};
 use ladderfan::{builtin, FieldPoint, Settings, Spectrum, Splitting};
 use std::io::Write;
 use std::time::Instant;
@@ -244,7 +247,39 @@ fn main() {
                 "what": "sweep::run over n points (3+1 Dirac, N = 1000), 1 thread vs `threads`",
             })
         }
-        other => fail(&format!("unknown path {other}; use split, dense or sweep")),
+        "window" => {
+            // the unsplit matrix of 4N states as a band matrix (half-bandwidth 4 (band + 1) - 1
+            // in the orbital-major order), then the `count` eigenvalues nearest `target`
+            let h = LadderHamiltonian::assemble(&model, POINT, 0.0)
+                .unwrap_or_else(|e| fail(&e.to_string()));
+            let d = h.dim;
+            let half = d * (h.band + 1) - 1;
+            let target = flag("--target")
+                .and_then(|t| t.parse::<f64>().ok())
+                .unwrap_or(1.01);
+            let count = flag("--count")
+                .and_then(|t| t.parse::<usize>().ok())
+                .unwrap_or(20);
+            let t0 = Instant::now();
+            let band = BandedHermitian::from_fn(n * d, half, |i, j| {
+                h.element(i / d, i % d, j / d, j % d)
+            })
+            .unwrap_or_else(|e| fail(&e.to_string()));
+            let build = t0.elapsed().as_secs_f64();
+            let (t, reps, eig) = timed(|| {
+                window::nearest(&band, target, count).unwrap_or_else(|e| fail(&e.to_string()))
+            });
+            write_values(values_path, &eig.values);
+            let max_res = eig.residuals.iter().copied().fold(0.0, f64::max);
+            serde_json::json!({
+                "path": "window", "cutoff": n, "size": d * n, "threads": threads,
+                "seconds": t, "repeats": reps, "build_seconds": build,
+                "target": target, "count": count, "max_residual": max_res,
+                "half_bandwidth": half,
+                "what": "solve::window::nearest on the unsplit band matrix (values, vectors, residuals)",
+            })
+        }
+        other => fail(&format!("unknown path {other}; use split, dense, sweep or window")),
     });
     println!("{json}");
 }
