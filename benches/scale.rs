@@ -62,10 +62,9 @@ fn window_solver(c: &mut Criterion) {
         cutoffs.push(1_000_000);
     }
     for n in cutoffs {
-        let band = BandedHermitian::from_fn(n * d, half, |i, j| {
-            h.element(i / d, i % d, j / d, j % d)
-        })
-        .expect("band matrix");
+        let band =
+            BandedHermitian::from_fn(n * d, half, |i, j| h.element(i / d, i % d, j / d, j % d))
+                .expect("band matrix");
         g.bench_with_input(BenchmarkId::new("nearest_20", n), &band, |b, band| {
             b.iter(|| window::nearest(black_box(band), 1.01, 20).expect("window"))
         });
