@@ -273,7 +273,8 @@ impl Job<'_> {
                 2.0 * f64::EPSILON * (lam + lam_lo).abs()
                     + s as f64 * f64::EPSILON * f64::EPSILON * hs_norm
             } else {
-                2.0 * s as f64 * f64::EPSILON * hs_norm
+                // backward-stable dense solvers: eigenvalue error of order eps ||H||_2 <= eps ||H||_F
+                4.0 * f64::EPSILON * hs_norm
             };
             let r = (in_res * in_res + out_res * out_res).sqrt() + rounding;
             let w0 = out.weights.len();
