@@ -114,8 +114,14 @@ pub fn eigh(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
             },
         }),
         2 => Ok(eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors)),
-        3 if real => Ok(fixed_real(Matrix3::from_fn(|i, j| lower(h, i, j).re), vectors)),
-        4 if real => Ok(fixed_real(Matrix4::from_fn(|i, j| lower(h, i, j).re), vectors)),
+        3 if real => Ok(fixed_real(
+            Matrix3::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+        )),
+        4 if real => Ok(fixed_real(
+            Matrix4::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+        )),
         3 => {
             let m = Matrix3::from_fn(|i, j| lower(h, i, j));
             Ok(fixed(m, vectors))
