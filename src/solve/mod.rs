@@ -568,7 +568,8 @@ impl Spectrum {
             target: settings.target,
             dense_max: settings.dense_max,
         };
-        let chunk = 512;
+        // many small sectors: chunks amortise the scheduling; few large ones: one per task
+        let chunk = (ids.len() / (8 * rayon::current_num_threads())).clamp(1, 512);
         let parts: Vec<Result<SectorResult>> = ids
             .par_chunks(chunk)
             .map(|chunk_ids| {
