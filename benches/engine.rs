@@ -51,15 +51,19 @@ fn split_dirac(c: &mut Criterion) {
                 nalgebra::Matrix4::from_fn(|r, c| h.element(st[r].0, st[r].1, st[c].0, st[c].1))
             })
             .collect();
-        g.bench_with_input(BenchmarkId::new("bare_loop_4x4", n), &blocks, |b, blocks| {
-            b.iter(|| {
-                let mut acc = 0.0;
-                for m4 in blocks {
-                    acc += nalgebra::SymmetricEigen::new(*m4).eigenvalues[0];
-                }
-                acc
-            })
-        });
+        g.bench_with_input(
+            BenchmarkId::new("bare_loop_4x4", n),
+            &blocks,
+            |b, blocks| {
+                b.iter(|| {
+                    let mut acc = 0.0;
+                    for m4 in blocks {
+                        acc += nalgebra::SymmetricEigen::new(*m4).eigenvalues[0];
+                    }
+                    acc
+                })
+            },
+        );
     }
     for n in [10_000usize, 100_000, 1_000_000] {
         for (name, precision) in [
