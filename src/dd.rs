@@ -3,8 +3,8 @@
 //!
 //! # References
 //! T. J. Dekker, "A floating-point technique for extending the available precision",
-//! Numer. Math. 18, 224 (1971); D. E. Knuth, TAOCP vol. 2 (TwoSum). TwoProd uses the fused
-//! multiply-add (`f64::mul_add`), exact for finite inputs without overflow.
+//! Numer. Math. 18, 224 (1971); D. E. Knuth, TAOCP vol. 2 (TwoSum). TwoProd uses the
+//! fused-multiply-add-free splitting of Dekker (1971), exact for finite inputs far from overflow.
 
 use num_complex::Complex64;
 use std::ops::{Add, Mul, Neg, Sub};
@@ -32,10 +32,24 @@ fn quick_two_sum(a: f64, b: f64) -> (f64, f64) {
     (s, b - (s - a))
 }
 
+/// Veltkamp split: a = hi + lo with hi holding the upper 26 bits (exact).
+#[inline]
+fn split(a: f64) -> (f64, f64) {
+    const SPLITTER: f64 = 134_217_729.0; // 2^27 + 1
+    let t = SPLITTER * a;
+    let hi = t - (t - a);
+    (hi, a - hi)
+}
+
+/// Dekker's TwoProd: p + e = a * b exactly (no fused multiply-add needed, so it stays fast on
+/// targets where `mul_add` is a library call). Valid while |a b| is far from overflow.
 #[inline]
 fn two_prod(a: f64, b: f64) -> (f64, f64) {
     let p = a * b;
-    (p, a.mul_add(b, -p))
+    let (ah, al) = split(a);
+    let (bh, bl) = split(b);
+    let e = ((ah * bh - p) + ah * bl + al * bh) + al * bl;
+    (p, e)
 }
 
 impl Dd {

@@ -58,7 +58,7 @@ pub use error::{Error, Result};
 pub use hamiltonian::FieldPoint;
 pub use levels::{Level, Spectrum};
 pub use model::{Model, Monomial};
-pub use solve::{Reference, Settings, Splitting, Vectors};
+pub use solve::{Reference, Settings, Splitting, Target, Vectors};
 
 /// The README's Rust snippet, compiled and run as a doc test so that it stays true.
 #[cfg(doctest)]

@@ -218,15 +218,17 @@ fn opt_sci(x: Option<f64>) -> String {
 
 /// The study as an aligned table: one row per tracked level, the bound at each cutoff, the
 /// actual error at the second-largest cutoff, rates and the needed cutoff.
-pub fn study_table(st: &Study, origin: &str) -> String {
+pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> String {
     let mut out = format!(
-        "model: {} ({}), field {}, kz {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
+        "model: {} ({}), field {} {}, kz {} {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
          energies in {} relative to the reference energy\n\
          actual error against {}; p: change ~ N^-p, kappa: change ~ exp(-kappa N); ~N: extrapolated\n\n",
         st.model,
         origin,
         st.point.field,
+        units.field_unit(),
         st.point.kz,
+        units.wavenumber_unit(),
         st.cutoffs,
         st.tolerance,
         st.energy_unit,
@@ -289,12 +291,14 @@ pub fn study_table(st: &Study, origin: &str) -> String {
 pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> String {
     let s = &res.spectrum;
     let mut out = format!(
-        "model: {} ({}), field {}, kz {}\ntolerance {tol:e} met at cutoff {} (first met at {}, confirmed), \
+        "model: {} ({}), field {} {}, kz {} {}\ntolerance {tol:e} met at cutoff {} (first met at {}, confirmed), \
          matrix dimension {}, {:.3} s in total\nenergies in {unit} relative to {}\n\n",
         s.model,
         origin,
         s.point.field,
+        s.units.field_unit(),
         s.point.kz,
+        s.units.wavenumber_unit(),
         res.cutoff,
         res.first_converged_cutoff,
         res.matrix_dimension,
@@ -389,8 +393,14 @@ fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
         lm,
         "converge --mode auto",
         &[format!(
-            "field {}, kz {}, final cutoff {}, first converged cutoff {}, energies relative to {}",
-            s.point.field, s.point.kz, res.cutoff, res.first_converged_cutoff, s.reference_energy
+            "field {} {}, kz {} {}, final cutoff {}, first converged cutoff {}, energies relative to {}",
+            s.point.field,
+            s.units.field_unit(),
+            s.point.kz,
+            s.units.wavenumber_unit(),
+            res.cutoff,
+            res.first_converged_cutoff,
+            s.reference_energy
         )],
     );
     let mut rec = vec![vec![
@@ -478,7 +488,7 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                     study: &st,
                 })
             } else {
-                let mut text = study_table(&st, &lm.origin);
+                let mut text = study_table(&st, &lm.origin, lm.model.units());
                 for p in written {
                     text.push_str(&format!("wrote {}\n", p.display()));
                 }

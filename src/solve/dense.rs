@@ -114,6 +114,14 @@ pub fn eigh(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
             },
         }),
         2 => Ok(eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors)),
+        3 if real => Ok(fixed_real(
+            Matrix3::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+        )),
+        4 if real => Ok(fixed_real(
+            Matrix4::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+        )),
         3 => {
             let m = Matrix3::from_fn(|i, j| lower(h, i, j));
             Ok(fixed(m, vectors))
@@ -213,6 +221,30 @@ where
             }
         }
     }
+}
+
+/// Fixed-size path in real arithmetic (a real symmetric sector: about 4x cheaper than complex).
+fn fixed_real<D>(m: nalgebra::OMatrix<f64, D, D>, vectors: Vectors) -> DenseEigen
+where
+    D: nalgebra::DimSub<nalgebra::U1>,
+    nalgebra::DefaultAllocator: nalgebra::allocator::Allocator<D, D>
+        + nalgebra::allocator::Allocator<D>
+        + nalgebra::allocator::Allocator<nalgebra::DimDiff<D, nalgebra::U1>>
+        + nalgebra::allocator::Allocator<D, nalgebra::DimDiff<D, nalgebra::U1>>
+        + nalgebra::allocator::Allocator<nalgebra::DimDiff<D, nalgebra::U1>, D>,
+{
+    let s = m.nrows();
+    let e = SymmetricEigen::new(m);
+    let mut order: Vec<usize> = (0..s).collect();
+    order.sort_by(|&x, &y| e.eigenvalues[x].total_cmp(&e.eigenvalues[y]));
+    let values = order.iter().map(|&k| e.eigenvalues[k]).collect();
+    let vectors = match vectors {
+        Vectors::Compute => Some(DMatrix::from_fn(s, s, |i, j| {
+            Complex64::new(e.eigenvectors[(i, order[j])], 0.0)
+        })),
+        Vectors::Skip => None,
+    };
+    DenseEigen { values, vectors }
 }
 
 fn evd_error(e: faer::linalg::evd::EvdError) -> Error {

@@ -62,6 +62,16 @@ pub enum Precision {
     Extended,
 }
 
+/// Default largest sector diagonalised densely when only some levels are wanted.
+pub const DENSE_MAX_DEFAULT: usize = 3000;
+
+/// Most levels the window solver may return from one sector for a [`Target::Window`].
+pub const WINDOW_MAX_LEVELS: usize = 2000;
+
+/// Largest sector whose levels get an explicit in-space residual (larger ones rely on the
+/// backward stability of the dense solver, O(eps ||H||), inside the rounding floor).
+pub const EXPLICIT_RESIDUAL_MAX_SECTOR: usize = 64;
+
 /// Largest sector that the double-double refinement handles.
 pub const REFINE_MAX_SECTOR: usize = 16;
 
@@ -83,6 +93,34 @@ pub struct Settings {
     pub precision: Precision,
     /// Largest dense sector (states) before the solve refuses with a memory error.
     pub memory_limit_mib: u64,
+    /// Which levels are wanted: all, an energy window, or the levels nearest an energy.
+    pub target: Target,
+    /// Sectors larger than this (states) use the window solver when `target` is not
+    /// [`Target::All`]; smaller ones are diagonalised densely and then filtered.
+    pub dense_max: usize,
+}
+
+/// Which levels a solve returns. Energies are relative to the reference energy, in the model's
+/// energy unit.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum Target {
+    /// Every eigenvalue of the truncated problem.
+    #[default]
+    All,
+    /// The levels with lo <= E <= hi.
+    Window {
+        /// Lower end.
+        lo: f64,
+        /// Upper end.
+        hi: f64,
+    },
+    /// The `count` levels nearest `energy`.
+    Nearest {
+        /// Target energy.
+        energy: f64,
+        /// How many levels.
+        count: usize,
+    },
 }
 
 impl Settings {
@@ -97,6 +135,8 @@ impl Settings {
             tolerance: 1e-9,
             precision: Precision::Auto,
             memory_limit_mib: 4096,
+            target: Target::All,
+            dense_max: DENSE_MAX_DEFAULT,
         }
     }
 }
@@ -184,6 +224,8 @@ struct Job<'a> {
     real: bool,
     /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
     tolerance: f64,
+    target: Target,
+    dense_max: usize,
 }
 
 impl Job<'_> {
@@ -200,7 +242,7 @@ impl Job<'_> {
         if s == 0 {
             return Ok(());
         }
-        let hs = DMatrix::from_fn(s, s, |r, c| {
+        let element = |r: usize, c: usize| -> Complex64 {
             let (m, a) = states[r];
             let (n, b) = states[c];
             let z = self.h.element(m, a, n, b);
@@ -209,8 +251,30 @@ impl Job<'_> {
             } else {
                 z
             }
-        });
-        let mut eig = dense::eigh(&hs, Vectors::Compute)?;
+        };
+        let windowed = s > self.dense_max && self.target != Target::All;
+        let (mut eig, hs, hs_norm, window_residuals) = if windowed {
+            let hbw = self.plan.half_bandwidth(id, self.h.band).min(s - 1);
+            let banded = banded::BandedHermitian::from_fn(s, hbw, element)?;
+            let w = match self.target {
+                Target::Nearest { energy, count } => {
+                    window::nearest(&banded, energy, count.min(s))?
+                }
+                Target::Window { lo, hi } => window::in_window(&banded, lo, hi, WINDOW_MAX_LEVELS)?,
+                Target::All => unreachable!("the window path is only taken for a partial target"),
+            };
+            let norm = banded.norm_bound();
+            let eig = dense::DenseEigen {
+                values: w.values,
+                vectors: Some(w.vectors),
+            };
+            (eig, None, norm, Some(w.residuals))
+        } else {
+            let hs = DMatrix::from_fn(s, s, element);
+            let eig = dense::eigh(&hs, Vectors::Compute)?;
+            let norm = hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
+            (eig, Some(hs), norm, None)
+        };
         // trust: rotate degenerate clusters so cutoff artefacts separate (src/trust/cluster.rs)
         if let Some(vectors) = eig.vectors.as_mut() {
             crate::trust::cluster::separate_leaking(
@@ -226,7 +290,6 @@ impl Job<'_> {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
         })?;
-        let hs_norm = hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
         let top_from = cutoff.saturating_sub(self.h.band.max(1));
         let mut v: Vec<Complex64> = Vec::with_capacity(s);
         for (i, &lam0) in eig.values.iter().enumerate() {
@@ -255,15 +318,24 @@ impl Job<'_> {
                 v.clear();
                 v.extend_from_slice(&rf.vector);
                 in_res = rf.residual;
+            } else if let Some(res) = &window_residuals {
+                // the window solver's own residual ||H v - lambda v||
+                in_res = res[i];
+            } else if s > EXPLICIT_RESIDUAL_MAX_SECTOR {
+                // backward-stable dense solver: ||H v - lambda v|| = O(eps ||H||), covered by the
+                // rounding floor below; an explicit residual would cost O(s^2) per level
+                in_res = 0.0;
             } else {
                 // in-space residual ||H v - lambda v||
                 let mut acc = 0.0;
-                for r in 0..s {
-                    let mut hv = Complex64::new(0.0, 0.0);
-                    for c in 0..s {
-                        hv += hs[(r, c)] * v[c];
+                if let Some(hs) = &hs {
+                    for r in 0..s {
+                        let mut hv = Complex64::new(0.0, 0.0);
+                        for c in 0..s {
+                            hv += hs[(r, c)] * v[c];
+                        }
+                        acc += (hv - v[r] * lam0).norm_sqr();
                     }
-                    acc += (hv - v[r] * lam0).norm_sqr();
                 }
                 in_res = acc.sqrt();
             }
@@ -273,7 +345,8 @@ impl Job<'_> {
                 2.0 * f64::EPSILON * (lam + lam_lo).abs()
                     + s as f64 * f64::EPSILON * f64::EPSILON * hs_norm
             } else {
-                2.0 * s as f64 * f64::EPSILON * hs_norm
+                // backward-stable dense solvers: eigenvalue error of order eps ||H||_2 <= eps ||H||_F
+                4.0 * f64::EPSILON * hs_norm
             };
             let r = (in_res * in_res + out_res * out_res).sqrt() + rounding;
             let w0 = out.weights.len();
@@ -397,6 +470,31 @@ impl Spectrum {
                 fix: "use a positive relative tolerance such as 1e-9".into(),
             });
         }
+        match settings.target {
+            Target::All => {}
+            Target::Window { lo, hi } => {
+                if !(lo.is_finite() && hi.is_finite() && lo < hi) {
+                    return Err(Error::BadNumber {
+                        name: "energy window".into(),
+                        value: if lo.is_finite() { hi } else { lo },
+                        fix: format!("give finite ends with lo < hi (got {lo} .. {hi})"),
+                    });
+                }
+            }
+            Target::Nearest { energy, count } => {
+                if !energy.is_finite() || count == 0 {
+                    return Err(Error::BadNumber {
+                        name: "target".into(),
+                        value: if energy.is_finite() {
+                            count as f64
+                        } else {
+                            energy
+                        },
+                        fix: "give a finite target energy and a count of at least 1".into(),
+                    });
+                }
+            }
+        }
         // The Klein-Gordon operator is assembled without shift; the reference enters the map.
         let assembly_ref = match model.form() {
             SpectrumForm::Direct => reference,
@@ -428,10 +526,26 @@ impl Spectrum {
             })
             .max()
             .unwrap_or(h.dim);
-        let need_mib = (largest as u64).pow(2) * 16 * 3 / (1 << 20);
+        let windowed = largest > settings.dense_max && settings.target != Target::All;
+        let need_mib = if windowed {
+            // banded matrix + its LU (about 4 b + 4 numbers a row) + a Krylov basis of ~3 count
+            let wanted = match settings.target {
+                Target::Nearest { count, .. } => count,
+                _ => WINDOW_MAX_LEVELS.min(64),
+            };
+            let hbw = (h.band + 2) * h.dim;
+            largest as u64 * (4 * hbw as u64 + 4 + 3 * wanted as u64 + 20) * 16 / (1 << 20)
+        } else {
+            (largest as u64).pow(2) * 16 * 3 / (1 << 20)
+        };
         if need_mib > settings.memory_limit_mib {
+            let kind = if windowed {
+                "a window solve of a sector of"
+            } else {
+                "a dense sector of"
+            };
             return Err(Error::MemoryLimit {
-                what: format!("a dense sector of {largest} states"),
+                what: format!("{kind} {largest} states"),
                 needed_mib: need_mib,
                 limit_mib: settings.memory_limit_mib,
             });
@@ -451,8 +565,11 @@ impl Spectrum {
             keep_vectors: settings.vectors == Vectors::Compute,
             real: h.is_real(),
             tolerance: settings.tolerance,
+            target: settings.target,
+            dense_max: settings.dense_max,
         };
-        let chunk = 512;
+        // many small sectors: chunks amortise the scheduling; few large ones: one per task
+        let chunk = (ids.len() / (8 * rayon::current_num_threads())).clamp(1, 512);
         let parts: Vec<Result<SectorResult>> = ids
             .par_chunks(chunk)
             .map(|chunk_ids| {
@@ -482,6 +599,7 @@ impl Spectrum {
         let mut order: Vec<usize> = (0..levels.len()).collect();
         // stable parallel merge sort: deterministic whatever the thread count
         order.par_sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+        select_target(&mut order, &levels, settings.target);
         let levels: Vec<Level> = order.iter().map(|&i| levels[i]).collect();
         let weights: Vec<f64> = order
             .iter()
@@ -522,6 +640,27 @@ impl Spectrum {
         crate::trust::bounds::finish(&mut spectrum); // trust: Kato-Temple, rounding floor
         flag_convergence(&mut spectrum);
         Ok(spectrum)
+    }
+}
+
+/// Keep only the levels the target asks for, preserving the ascending order of `order`.
+fn select_target(order: &mut Vec<usize>, levels: &[Level], target: Target) {
+    match target {
+        Target::All => {}
+        Target::Window { lo, hi } => {
+            order.retain(|&i| levels[i].energy >= lo && levels[i].energy <= hi)
+        }
+        Target::Nearest { energy, count } => {
+            let mut by_distance: Vec<usize> = (0..order.len()).collect();
+            by_distance.sort_by(|&a, &b| {
+                let da = (levels[order[a]].energy - energy).abs();
+                let db = (levels[order[b]].energy - energy).abs();
+                da.total_cmp(&db).then(a.cmp(&b))
+            });
+            let mut chosen: Vec<usize> = by_distance.into_iter().take(count).collect();
+            chosen.sort_unstable();
+            *order = chosen.into_iter().map(|k| order[k]).collect();
+        }
     }
 }
 
