@@ -8,8 +8,8 @@
 //! |---|---|
 //! | `0` or `i` | identity |
 //! | `x`, `y`, `z` | sigma_x, sigma_y, sigma_z |
-//! | `+` | sigma_+ = (sigma_x + i sigma_y)/2 = [[0,1],[0,0]] |
-//! | `-` | sigma_- = (sigma_x - i sigma_y)/2 = [[0,0],[1,0]] |
+//! | `+` | sigma_+ = (sigma_x + i sigma_y)/2 = `[[0,1],[0,0]]` |
+//! | `-` | sigma_- = (sigma_x - i sigma_y)/2 = `[[0,0],[1,0]]` |
 //! | `u`, `d` | projectors (1 + sigma_z)/2, (1 - sigma_z)/2 |
 //!
 //! Separators `⊗`, `*`, ` ` and `.` are ignored, so `"x⊗z"`, `"x*z"` and `"xz"` are all
