@@ -217,7 +217,7 @@ impl Default for Dirac2dParams {
 /// [`crate::Error::BadNumber`] for a non-positive velocity or a valley other than ±1.
 pub fn dirac2d(p: Dirac2dParams) -> Result<Model> {
     positive("velocity_m_per_s", p.velocity_m_per_s)?;
-    valley_sign("valley", p.valley)?;
+    unit_sign("valley", p.valley)?;
     let hv = crate::units::hbar_v_mev_nm(p.velocity_m_per_s);
     Model::builder("dirac2d", 2)
         .charge(p.charge)
@@ -268,7 +268,7 @@ impl Default for WeylParams {
 /// [`crate::Error::BadNumber`] for a non-positive velocity or a chirality other than ±1.
 pub fn weyl(p: WeylParams) -> Result<Model> {
     positive("velocity_m_per_s", p.velocity_m_per_s)?;
-    valley_sign("chirality", p.chirality)?;
+    unit_sign("chirality", p.chirality)?;
     let hv = crate::units::hbar_v_mev_nm(p.velocity_m_per_s) * p.chirality as f64;
     Model::builder("weyl", 2)
         .charge(p.charge)
@@ -291,7 +291,8 @@ pub fn bohr_magneton(units: Units) -> f64 {
     }
 }
 
-fn positive(name: &str, v: f64) -> Result<()> {
+/// Parameter check shared by the model constructors: positive and finite.
+pub(crate) fn positive(name: &str, v: f64) -> Result<()> {
     if v.is_finite() && v > 0.0 {
         Ok(())
     } else {
@@ -303,7 +304,21 @@ fn positive(name: &str, v: f64) -> Result<()> {
     }
 }
 
-fn valley_sign(name: &str, v: i8) -> Result<()> {
+/// Parameter check shared by the model constructors: finite.
+pub(crate) fn finite(name: &str, v: f64) -> Result<()> {
+    if v.is_finite() {
+        Ok(())
+    } else {
+        Err(crate::Error::BadNumber {
+            name: name.into(),
+            value: v,
+            fix: "it must be a finite number".into(),
+        })
+    }
+}
+
+/// Parameter check shared by the model constructors: a sign +1 or -1 (valley, chirality).
+pub(crate) fn unit_sign(name: &str, v: i8) -> Result<()> {
     if v == 1 || v == -1 {
         Ok(())
     } else {

@@ -12,41 +12,7 @@ use crate::matrix::{identity, pauli_const};
 use crate::model::{Model, Monomial};
 use crate::units::{hbar_v_mev_nm, Units, HBAR2_OVER_2ME_MEV_NM2};
 
-fn positive(name: &str, v: f64) -> Result<()> {
-    if v.is_finite() && v > 0.0 {
-        Ok(())
-    } else {
-        Err(Error::BadNumber {
-            name: name.into(),
-            value: v,
-            fix: "it must be a positive finite number".into(),
-        })
-    }
-}
-
-fn finite(name: &str, v: f64) -> Result<()> {
-    if v.is_finite() {
-        Ok(())
-    } else {
-        Err(Error::BadNumber {
-            name: name.into(),
-            value: v,
-            fix: "it must be a finite number".into(),
-        })
-    }
-}
-
-fn unit_sign(name: &str, v: i8) -> Result<()> {
-    if v == 1 || v == -1 {
-        Ok(())
-    } else {
-        Err(Error::BadNumber {
-            name: name.into(),
-            value: v as f64,
-            fix: "it must be +1 or -1".into(),
-        })
-    }
-}
+use crate::builtin::{finite, positive, unit_sign};
 
 /// Parameters of the 3+1 Dirac model with an anomalous magnetic moment, natural units
 /// (m c^2 = 1, hbar/(m c) = 1, B in B_c).

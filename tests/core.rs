@@ -61,20 +61,6 @@ fn point_for(model: &Model) -> FieldPoint {
     }
 }
 
-/// Invented two-band model with a cubic warping term: no exact conserved J, only J mod 3.
-fn warped() -> Model {
-    Model::builder("warped (invented)", 2)
-        .term("mass", 20.0, pauli("z").unwrap(), Monomial::ONE)
-        .term("kx2", 400.0, pauli("z").unwrap(), Monomial::new(2, 0, 0))
-        .term("ky2", 400.0, pauli("z").unwrap(), Monomial::new(0, 2, 0))
-        .term("vx", 300.0, pauli("x").unwrap(), Monomial::KX)
-        .term("vy", 300.0, pauli("y").unwrap(), Monomial::KY)
-        .term("w1", 900.0, pauli("z").unwrap(), Monomial::new(3, 0, 0))
-        .term("w2", -2700.0, pauli("z").unwrap(), Monomial::new(1, 2, 0))
-        .build()
-        .unwrap()
-}
-
 #[test]
 fn split_spectrum_equals_the_dense_unsplit_one_for_every_builtin_and_both_charges() {
     for q in [-1.0, 1.0] {

@@ -2,22 +2,10 @@
 //! the levels in a window (or nearest a target) come from shift-invert Lanczos on the banded
 //! sector matrix; the dense path is the oracle (same levels to 1e-10 of the matrix scale).
 
-use ladderfan::matrix::pauli;
-use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum, Splitting, Target};
+mod common;
 
-/// Invented two-band model with cubic warping (conserves only J mod 3).
-fn warped() -> Model {
-    Model::builder("warped (invented)", 2)
-        .term("mass", 20.0, pauli("z").unwrap(), Monomial::ONE)
-        .term("kx2", 400.0, pauli("z").unwrap(), Monomial::new(2, 0, 0))
-        .term("ky2", 400.0, pauli("z").unwrap(), Monomial::new(0, 2, 0))
-        .term("vx", 300.0, pauli("x").unwrap(), Monomial::KX)
-        .term("vy", 300.0, pauli("y").unwrap(), Monomial::KY)
-        .term("w1", 900.0, pauli("z").unwrap(), Monomial::new(3, 0, 0))
-        .term("w2", -2700.0, pauli("z").unwrap(), Monomial::new(1, 2, 0))
-        .build()
-        .unwrap()
-}
+use common::warped;
+use ladderfan::{FieldPoint, Settings, Spectrum, Splitting, Target};
 
 fn solve(target: Target, dense_max: usize, splitting: Splitting) -> Spectrum {
     let mut s = Settings::with_cutoff(450);

@@ -160,6 +160,28 @@ pub fn leakage(
     v: &[Complex64],
 ) -> f64 {
     let mut buckets: Vec<((usize, usize), Complex64)> = Vec::new();
+    for_each_outside(h, cutoff, states, v, |key, val| {
+        match buckets.iter_mut().find(|(k, _)| *k == key) {
+            Some((_, acc)) => *acc += val,
+            None => buckets.push((key, val)),
+        }
+    });
+    buckets
+        .iter()
+        .map(|(_, z)| z.norm_sqr())
+        .sum::<f64>()
+        .sqrt()
+}
+
+/// Visit every contribution H_(m alpha, n beta) v_(n beta) with m >= N (the part of H v beyond
+/// the cutoff) as `(key (m, alpha), value)`; keys repeat and must be summed by the caller.
+pub fn for_each_outside(
+    h: &LadderHamiltonian,
+    cutoff: usize,
+    states: &[(usize, usize)],
+    v: &[Complex64],
+    mut visit: impl FnMut((usize, usize), Complex64),
+) {
     for (idx, &(n, beta)) in states.iter().enumerate() {
         if n + h.band < cutoff {
             continue;
@@ -179,19 +201,10 @@ pub fn leakage(
                 if a.re == 0.0 && a.im == 0.0 {
                     continue;
                 }
-                let val = a * f * v[idx];
-                match buckets.iter_mut().find(|(key, _)| *key == (m, alpha)) {
-                    Some((_, acc)) => *acc += val,
-                    None => buckets.push(((m, alpha), val)),
-                }
+                visit((m, alpha), a * f * v[idx]);
             }
         }
     }
-    buckets
-        .iter()
-        .map(|(_, z)| z.norm_sqr())
-        .sum::<f64>()
-        .sqrt()
 }
 
 struct SectorResult {

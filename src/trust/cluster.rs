@@ -20,7 +20,6 @@
 //! O(k s band d + k^2 (s + band d) + k^3) per cluster of k vectors of length s.
 
 use crate::hamiltonian::LadderHamiltonian;
-use crate::ladder::ladder_element;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::collections::BTreeMap;
@@ -46,29 +45,9 @@ pub fn outside_part(
     v: &[Complex64],
 ) -> BTreeMap<(usize, usize), Complex64> {
     let mut out: BTreeMap<(usize, usize), Complex64> = BTreeMap::new();
-    for (idx, &(n, beta)) in states.iter().enumerate() {
-        if n + h.band < cutoff {
-            continue;
-        }
-        for op in &h.ops {
-            let shift = op.shift();
-            if shift <= 0 {
-                continue;
-            }
-            let m = n + shift as usize;
-            if m < cutoff {
-                continue;
-            }
-            let f = ladder_element(op.j, op.k, n);
-            for alpha in 0..h.dim {
-                let a = op.matrix[(alpha, beta)];
-                if a.re == 0.0 && a.im == 0.0 {
-                    continue;
-                }
-                *out.entry((m, alpha)).or_default() += a * f * v[idx];
-            }
-        }
-    }
+    crate::solve::for_each_outside(h, cutoff, states, v, |key, val| {
+        *out.entry(key).or_default() += val;
+    });
     out
 }
 

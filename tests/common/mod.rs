@@ -1,7 +1,8 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
-use ladderfan::{FieldPoint, Model, Settings, Spectrum, Splitting};
+use ladderfan::matrix::pauli;
+use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum, Splitting};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
@@ -34,4 +35,18 @@ pub fn split_and_unsplit(model: &Model, point: FieldPoint, cutoff: usize) -> (Ve
         .expect("unsplit solve")
         .energies();
     (a, b)
+}
+
+/// Invented two-band model with a cubic warping term: no exact conserved J, only J mod 3.
+pub fn warped() -> Model {
+    Model::builder("warped (invented)", 2)
+        .term("mass", 20.0, pauli("z").unwrap(), Monomial::ONE)
+        .term("kx2", 400.0, pauli("z").unwrap(), Monomial::new(2, 0, 0))
+        .term("ky2", 400.0, pauli("z").unwrap(), Monomial::new(0, 2, 0))
+        .term("vx", 300.0, pauli("x").unwrap(), Monomial::KX)
+        .term("vy", 300.0, pauli("y").unwrap(), Monomial::KY)
+        .term("w1", 900.0, pauli("z").unwrap(), Monomial::new(3, 0, 0))
+        .term("w2", -2700.0, pauli("z").unwrap(), Monomial::new(1, 2, 0))
+        .build()
+        .unwrap()
 }
