@@ -21,6 +21,27 @@ fn main() -> Result<()> {
         t.elapsed().as_secs_f64(),
         sp.levels.len()
     );
+    // split vs unsplit dense at 4N = 2000 (N = 500), same model and point, same run
+    let p = FieldPoint {
+        field: 1e-3,
+        kz: 0.05,
+    };
+    let mut split = Settings::with_cutoff(500);
+    split.precision = solve::Precision::Double;
+    let mut unsplit = split.clone();
+    unsplit.splitting = Splitting::Off;
+    let t = Instant::now();
+    for _ in 0..100 {
+        Spectrum::compute(&m, p, &split)?;
+    }
+    let t_split = t.elapsed().as_secs_f64() / 100.0;
+    let t = Instant::now();
+    Spectrum::compute(&m, p, &unsplit)?;
+    let t_dense = t.elapsed().as_secs_f64();
+    println!(
+        "N=500: split {t_split:.5} s, dense unsplit 2000 {t_dense:.3} s, ratio {:.0}",
+        t_dense / t_split
+    );
     // invented two-band model with cubic warping (J mod 3 only)
     let w = Model::builder("warped (invented)", 2)
         .term("mass", 20.0, pauli("z")?, Monomial::ONE)
