@@ -609,9 +609,15 @@ impl Spectrum {
         }
         // stable sort by energy, carrying weights and vectors along
         let d = h.dim;
-        let mut order: Vec<usize> = (0..levels.len()).collect();
-        // stable parallel merge sort: deterministic whatever the thread count
-        order.par_sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+        // sort contiguous (energy, index) keys; ties are broken by the index, so the order is a
+        // total order and the result is the same whatever the thread count
+        let mut keys: Vec<(f64, usize)> = levels
+            .iter()
+            .enumerate()
+            .map(|(i, l)| (l.energy, i))
+            .collect();
+        keys.par_sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        let mut order: Vec<usize> = keys.into_iter().map(|(_, i)| i).collect();
         select_target(&mut order, &levels, settings.target);
         let levels: Vec<Level> = order.iter().map(|&i| levels[i]).collect();
         let weights: Vec<f64> = order
