@@ -21,6 +21,7 @@ use crate::ladder::ladder_element;
 use crate::levels::{Convergence, Level, LevelVector, Spectrum};
 use crate::model::{Model, SpectrumForm};
 use crate::sectors::{SectorId, SectorPlan, Symmetry};
+use crate::trust::bounds::{kato_temple_sector, SectorEdges};
 pub use dense::Vectors;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -304,6 +305,7 @@ impl Job<'_> {
             detail: "eigenvectors missing".into(),
         })?;
         let top_from = cutoff.saturating_sub(self.h.band.max(1));
+        let first_level = out.levels.len();
         let mut v: Vec<Complex64> = Vec::with_capacity(s);
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
@@ -437,6 +439,13 @@ impl Job<'_> {
                 }
             }
         }
+        // trust: Kato-Temple bounds from this sector's own neighbours (src/trust/bounds.rs)
+        let edges = if windowed {
+            SectorEdges::Partial
+        } else {
+            SectorEdges::Complete
+        };
+        kato_temple_sector(&mut out.levels[first_level..], edges);
         Ok(())
     }
 }
@@ -656,7 +665,7 @@ impl Spectrum {
             weights,
             vectors,
         };
-        crate::trust::bounds::finish(&mut spectrum); // trust: Kato-Temple, rounding floor
+
         flag_convergence(&mut spectrum);
         Ok(spectrum)
     }

@@ -82,49 +82,77 @@ pub fn kato_temple(residual: f64, room_below: f64, room_above: f64) -> Option<f6
 /// parameters) carry a few ulps of relative rounding that move it by about as much.
 pub const ROUNDING_ULPS: f64 = 4.0;
 
-/// Post-process the bounds of a freshly solved spectrum (called by the solver before it sets
-/// the convergence flags): the Kato-Temple bounds ([`apply_kato_temple`]).
+/// Post-process the bounds of an assembled spectrum: the Kato-Temple bounds
+/// ([`apply_kato_temple`]). [`crate::Spectrum::compute`] already fills them sector by sector
+/// ([`kato_temple_sector`]); call this after changing bounds by hand.
 pub fn finish(spectrum: &mut Spectrum) {
     apply_kato_temple(spectrum);
 }
 
 /// Fill [`Level::kato_temple`] for every level of `spectrum` (see the module docs for the
-/// gap, the floor and the assumptions). Levels must be sorted by energy.
+/// gap, the floor and the assumptions). Levels must be sorted by energy and hold complete
+/// sectors (no energy window applied).
 ///
 /// # Complexity
-/// O(L) for L levels after grouping by sector.
+/// O(L log L) for L levels (grouping by sector).
 pub fn apply_kato_temple(spectrum: &mut Spectrum) {
     let mut by_sector: BTreeMap<_, Vec<usize>> = BTreeMap::new();
     for (i, l) in spectrum.levels.iter().enumerate() {
-        l_push(&mut by_sector, l, i);
-    }
-    let mut results = vec![None; spectrum.levels.len()];
-    for idx in by_sector.values() {
-        // idx is ascending in energy because levels are sorted
-        for (pos, &i) in idx.iter().enumerate() {
-            let li = &spectrum.levels[i];
-            let genuine = |j: &&usize| !is_cutoff_artefact(&spectrum.levels[**j]);
-            let below = idx[..pos]
-                .iter()
-                .rev()
-                .find(genuine)
-                .map_or(f64::NEG_INFINITY, |&j| upper_edge(&spectrum.levels[j]));
-            let above = idx[pos + 1..]
-                .iter()
-                .find(genuine)
-                .map_or(f64::INFINITY, |&j| lower_edge(&spectrum.levels[j]));
-            results[i] = kato_temple(li.bound, li.energy - below, above - li.energy)
-                .map(|kt| kt + rounding_floor(li));
+        if l.branch == 0 {
+            by_sector.entry(l.sector).or_default().push(i);
         }
     }
-    for (l, kt) in spectrum.levels.iter_mut().zip(results) {
-        l.kato_temple = kt;
+    for idx in by_sector.values() {
+        let mut group: Vec<Level> = idx.iter().map(|&i| spectrum.levels[i]).collect();
+        kato_temple_sector(&mut group, SectorEdges::Complete);
+        for (&i, l) in idx.iter().zip(group) {
+            spectrum.levels[i].kato_temple = l.kato_temple;
+        }
     }
 }
 
-fn l_push(map: &mut BTreeMap<crate::sectors::SectorId, Vec<usize>>, l: &Level, i: usize) {
-    if l.branch == 0 {
-        map.entry(l.sector).or_default().push(i);
+/// Whether the levels of a sector are all of its eigenvalues, or only those a window solver
+/// returned (then the outermost levels have an unknown neighbour and get no Kato-Temple bound).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SectorEdges {
+    /// Every eigenvalue of the sector is present.
+    Complete,
+    /// Only a contiguous run of the sector's eigenvalues is present.
+    Partial,
+}
+
+/// Kato-Temple bounds for the levels of ONE sector (any order; direct-form levels, branch 0).
+/// The gap on each side is measured to the nearest genuine neighbour widened by its own bound.
+///
+/// # Complexity
+/// O(s log s) for s levels.
+pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
+    let mut idx: Vec<usize> = (0..levels.len())
+        .filter(|&i| levels[i].branch == 0)
+        .collect();
+    idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+    let mut results = vec![None; levels.len()];
+    let last = idx.len().saturating_sub(1);
+    for (pos, &i) in idx.iter().enumerate() {
+        if edges == SectorEdges::Partial && (pos == 0 || pos == last) {
+            continue;
+        }
+        let genuine = |j: &&usize| !is_cutoff_artefact(&levels[**j]);
+        let below = idx[..pos]
+            .iter()
+            .rev()
+            .find(genuine)
+            .map_or(f64::NEG_INFINITY, |&j| upper_edge(&levels[j]));
+        let above = idx[pos + 1..]
+            .iter()
+            .find(genuine)
+            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
+        let li = &levels[i];
+        results[i] = kato_temple(li.bound, li.energy - below, above - li.energy)
+            .map(|kt| kt + rounding_floor(li));
+    }
+    for (l, kt) in levels.iter_mut().zip(results) {
+        l.kato_temple = kt;
     }
 }
 
