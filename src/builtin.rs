@@ -8,7 +8,7 @@
 
 use crate::error::Result;
 use crate::matrix::{identity, pauli_const};
-use crate::model::{Model, Monomial};
+use crate::model::{Model, ModelBuilder, Monomial};
 use crate::units::{Units, BOHR_MAGNETON_MEV_PER_T, HBAR2_OVER_2ME_MEV_NM2};
 
 /// Parameters of the effective-mass (Schrodinger) model, lab units.
@@ -133,9 +133,17 @@ impl Default for RelativisticParams {
 /// # Errors
 /// [`crate::Error::BadNumber`] for a non-positive mass or speed.
 pub fn dirac(p: RelativisticParams) -> Result<Model> {
+    dirac_builder("dirac", p)?.build()
+}
+
+/// The 3+1 Dirac terms c alpha . hbar k + beta m c^2 (natural units, Dirac representation) on a
+/// builder named `name`, validated; shared by [`dirac`] and the catalogue's variants, which add
+/// their own terms.
+pub(crate) fn dirac_builder(name: &str, p: RelativisticParams) -> Result<ModelBuilder> {
     positive("mass", p.mass)?;
     positive("speed", p.speed)?;
-    Model::builder("dirac", 4)
+    let mc2 = p.mass * p.speed * p.speed;
+    Ok(Model::builder(name, 4)
         .charge(p.charge)
         .units(Units::Natural)
         .param("mass", p.mass)
@@ -144,14 +152,8 @@ pub fn dirac(p: RelativisticParams) -> Result<Model> {
         .term("c alpha_x kx", p.speed, pauli_const("x⊗x"), Monomial::KX)
         .term("c alpha_y ky", p.speed, pauli_const("x⊗y"), Monomial::KY)
         .term("c alpha_z kz", p.speed, pauli_const("x⊗z"), Monomial::KZ)
-        .term(
-            "beta m c^2",
-            p.mass * p.speed * p.speed,
-            pauli_const("z⊗0"),
-            Monomial::ONE,
-        )
-        .reference_energy(p.mass * p.speed * p.speed)
-        .build()
+        .term("beta m c^2", mc2, pauli_const("z⊗0"), Monomial::ONE)
+        .reference_energy(mc2))
 }
 
 /// Klein-Gordon model in its squared form, one component, natural units.

@@ -12,7 +12,7 @@ use crate::matrix::{identity, pauli_const};
 use crate::model::{Model, Monomial};
 use crate::units::{hbar_v_mev_nm, Units, HBAR2_OVER_2ME_MEV_NM2};
 
-use crate::builtin::{finite, positive, unit_sign};
+use crate::builtin::{dirac_builder, finite, positive, unit_sign, RelativisticParams};
 
 /// Parameters of the 3+1 Dirac model with an anomalous magnetic moment, natural units
 /// (m c^2 = 1, hbar/(m c) = 1, B in B_c).
@@ -54,28 +54,20 @@ impl Default for DiracAmmParams {
 /// # Errors
 /// [`Error::BadNumber`] for a non-positive mass or speed or a non-finite kappa.
 pub fn dirac_amm(p: DiracAmmParams) -> Result<Model> {
-    positive("mass", p.mass)?;
-    positive("speed", p.speed)?;
     finite("anomaly_kappa", p.anomaly_kappa)?;
-    let mc2 = p.mass * p.speed * p.speed;
-    Model::builder("dirac-amm", 4)
-        .charge(p.charge)
-        .units(Units::Natural)
-        .param("mass", p.mass)
-        .param("speed", p.speed)
+    let base = RelativisticParams {
+        mass: p.mass,
+        speed: p.speed,
+        charge: p.charge,
+    };
+    dirac_builder("dirac-amm", base)?
         .param("kappa", p.anomaly_kappa)
-        .component_names(&["u_up", "u_down", "l_up", "l_down"])
-        .term("c alpha_x kx", p.speed, pauli_const("x⊗x"), Monomial::KX)
-        .term("c alpha_y ky", p.speed, pauli_const("x⊗y"), Monomial::KY)
-        .term("c alpha_z kz", p.speed, pauli_const("x⊗z"), Monomial::KZ)
-        .term("beta m c^2", mc2, pauli_const("z⊗0"), Monomial::ONE)
         .term(
             "kappa mu_B B beta Sigma_z",
             p.anomaly_kappa * bohr_magneton(Units::Natural),
             pauli_const("z⊗z"),
             Monomial::B,
         )
-        .reference_energy(mc2)
         .build()
 }
 

@@ -114,22 +114,26 @@ pub fn eigh(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
             },
         }),
         2 => Ok(eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors)),
-        3 if real => Ok(fixed_real(
+        3 if real => Ok(fixed(
             Matrix3::from_fn(|i, j| lower(h, i, j).re),
             vectors,
+            real_to_c,
         )),
-        4 if real => Ok(fixed_real(
+        4 if real => Ok(fixed(
             Matrix4::from_fn(|i, j| lower(h, i, j).re),
             vectors,
+            real_to_c,
         )),
-        3 => {
-            let m = Matrix3::from_fn(|i, j| lower(h, i, j));
-            Ok(fixed(m, vectors))
-        }
-        4 => {
-            let m = Matrix4::from_fn(|i, j| lower(h, i, j));
-            Ok(fixed(m, vectors))
-        }
+        3 => Ok(fixed(
+            Matrix3::from_fn(|i, j| lower(h, i, j)),
+            vectors,
+            |z| z,
+        )),
+        4 => Ok(fixed(
+            Matrix4::from_fn(|i, j| lower(h, i, j)),
+            vectors,
+            |z| z,
+        )),
         _ if real => faer_real(h, vectors),
         _ => faer_complex(h, vectors),
     }
@@ -189,9 +193,15 @@ fn eigh2(a: f64, c: Complex64, d: f64, vectors: Vectors) -> DenseEigen {
     DenseEigen { values, vectors }
 }
 
-/// nalgebra fixed-size path (sizes 3 and 4), sorted ascending.
-fn fixed<D>(m: nalgebra::OMatrix<Complex64, D, D>, vectors: Vectors) -> DenseEigen
+/// nalgebra fixed-size path (sizes 3 and 4), sorted ascending; `T` is f64 for a real
+/// symmetric sector (about 4x cheaper) or Complex64, and `to_c` widens a vector entry.
+fn fixed<T, D>(
+    m: nalgebra::OMatrix<T, D, D>,
+    vectors: Vectors,
+    to_c: impl Fn(T) -> Complex64,
+) -> DenseEigen
 where
+    T: nalgebra::ComplexField<RealField = f64>,
     D: nalgebra::DimSub<nalgebra::U1>,
     nalgebra::DefaultAllocator: nalgebra::allocator::Allocator<D, D>
         + nalgebra::allocator::Allocator<D>
@@ -200,51 +210,27 @@ where
         + nalgebra::allocator::Allocator<nalgebra::DimDiff<D, nalgebra::U1>, D>,
 {
     let s = m.nrows();
-    match vectors {
-        Vectors::Skip => {
-            let mut values: Vec<f64> = m.symmetric_eigenvalues().iter().copied().collect();
-            values.sort_by(f64::total_cmp);
-            DenseEigen {
-                values,
-                vectors: None,
-            }
-        }
-        Vectors::Compute => {
-            let e = SymmetricEigen::new(m);
-            let mut order: Vec<usize> = (0..s).collect();
-            order.sort_by(|&x, &y| e.eigenvalues[x].total_cmp(&e.eigenvalues[y]));
-            let values = order.iter().map(|&k| e.eigenvalues[k]).collect();
-            let v = DMatrix::from_fn(s, s, |i, j| e.eigenvectors[(i, order[j])]);
-            DenseEigen {
-                values,
-                vectors: Some(v),
-            }
-        }
+    if vectors == Vectors::Skip {
+        let mut values: Vec<f64> = m.symmetric_eigenvalues().iter().copied().collect();
+        values.sort_by(f64::total_cmp);
+        return DenseEigen {
+            values,
+            vectors: None,
+        };
     }
-}
-
-/// Fixed-size path in real arithmetic (a real symmetric sector: about 4x cheaper than complex).
-fn fixed_real<D>(m: nalgebra::OMatrix<f64, D, D>, vectors: Vectors) -> DenseEigen
-where
-    D: nalgebra::DimSub<nalgebra::U1>,
-    nalgebra::DefaultAllocator: nalgebra::allocator::Allocator<D, D>
-        + nalgebra::allocator::Allocator<D>
-        + nalgebra::allocator::Allocator<nalgebra::DimDiff<D, nalgebra::U1>>
-        + nalgebra::allocator::Allocator<D, nalgebra::DimDiff<D, nalgebra::U1>>
-        + nalgebra::allocator::Allocator<nalgebra::DimDiff<D, nalgebra::U1>, D>,
-{
-    let s = m.nrows();
     let e = SymmetricEigen::new(m);
     let mut order: Vec<usize> = (0..s).collect();
     order.sort_by(|&x, &y| e.eigenvalues[x].total_cmp(&e.eigenvalues[y]));
     let values = order.iter().map(|&k| e.eigenvalues[k]).collect();
-    let vectors = match vectors {
-        Vectors::Compute => Some(DMatrix::from_fn(s, s, |i, j| {
-            Complex64::new(e.eigenvectors[(i, order[j])], 0.0)
-        })),
-        Vectors::Skip => None,
-    };
-    DenseEigen { values, vectors }
+    let v = DMatrix::from_fn(s, s, |i, j| to_c(e.eigenvectors[(i, order[j])].clone()));
+    DenseEigen {
+        values,
+        vectors: Some(v),
+    }
+}
+
+fn real_to_c(x: f64) -> Complex64 {
+    Complex64::new(x, 0.0)
 }
 
 fn evd_error(e: faer::linalg::evd::EvdError) -> Error {
