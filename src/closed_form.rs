@@ -63,17 +63,7 @@ fn sorted(mut v: Vec<ExpectedLevel>) -> Vec<ExpectedLevel> {
 }
 
 fn check_point(point: FieldPoint) -> Result<()> {
-    if !(point.field.is_finite() && point.field != 0.0) {
-        return Err(Error::ZeroField { field: point.field });
-    }
-    if !point.kz.is_finite() {
-        return Err(Error::BadNumber {
-            name: "kz".into(),
-            value: point.kz,
-            fix: "give a finite wave number".into(),
-        });
-    }
-    Ok(())
+    point.validate()
 }
 
 fn sign(x: f64) -> f64 {

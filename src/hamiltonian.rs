@@ -36,6 +36,25 @@ impl FieldPoint {
     pub fn field(field: f64) -> Self {
         FieldPoint { field, kz: 0.0 }
     }
+
+    /// Check that the point can carry Landau levels.
+    ///
+    /// # Errors
+    /// [`Error::ZeroField`] for a zero or non-finite field; [`Error::BadNumber`] for a
+    /// non-finite kz.
+    pub fn validate(&self) -> Result<()> {
+        if !(self.field.is_finite() && self.field != 0.0) {
+            return Err(Error::ZeroField { field: self.field });
+        }
+        if !self.kz.is_finite() {
+            return Err(Error::BadNumber {
+                name: "kz".into(),
+                value: self.kz,
+                fix: "give a finite wave number".into(),
+            });
+        }
+        Ok(())
+    }
 }
 
 /// One ladder operator a^dagger^j a^k with its spinor matrix.
@@ -84,16 +103,7 @@ impl LadderHamiltonian {
     /// [`Error::ZeroField`] for a zero or non-finite field; [`Error::BadNumber`] for a
     /// non-finite kz or reference energy.
     pub fn assemble(model: &Model, point: FieldPoint, reference_energy: f64) -> Result<Self> {
-        if !(point.field.is_finite() && point.field != 0.0) {
-            return Err(Error::ZeroField { field: point.field });
-        }
-        if !point.kz.is_finite() {
-            return Err(Error::BadNumber {
-                name: "kz".into(),
-                value: point.kz,
-                fix: "give a finite wave number".into(),
-            });
-        }
+        point.validate()?;
         if !reference_energy.is_finite() {
             return Err(Error::BadNumber {
                 name: "reference energy".into(),
