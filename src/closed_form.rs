@@ -89,7 +89,7 @@ fn sign_label(s: i8) -> &'static str {
 ///
 /// # Examples
 /// ```
-/// // 2 nu b for nu = 1 at B = 1 T (b = 1/4.414e9): the naive form loses 7 digits.
+/// // 2 nu b for nu = 1 at B = 1 T (b = 1/4.414e9, CODATA 2018 B_c): the naive form loses 7 digits.
 /// let b = 1.0 / 4.414e9;
 /// let e = ladderfan::closed_form::rest_excess(1.0, 2.0 * b);
 /// assert!((e / b - (1.0 - b / 2.0)).abs() < 1e-15);
@@ -118,7 +118,7 @@ pub fn cyclotron_energy_mev(mass_ratio: f64, field_t: f64, charge: f64) -> f64 {
 /// massless 2D Dirac cone.
 ///
 /// # Formula
-/// sqrt(2) hbar v / l_B = sqrt(2 hbar |qB|) v; 36.3 meV at 1 T for v = 1e6 m/s.
+/// sqrt(2) hbar v / l_B = sqrt(2 hbar |qB|) v; 36.3 meV at 1 T for v = 1e6 m/s (common practice value).
 ///
 /// # Examples
 /// ```
@@ -149,7 +149,7 @@ pub fn dirac_energy_mev(velocity_m_per_s: f64, field_t: f64, charge: f64) -> f64
 /// use ladderfan::{builtin, closed_form, FieldPoint};
 /// let m = builtin::dirac2d(builtin::Dirac2dParams::default())?;
 /// let levels = closed_form::for_model(&m, FieldPoint::field(1.0), 0.0, 2).unwrap();
-/// // massless: 0, ±36.3, ±51.3 meV at 1 T
+/// // massless: 0, ±36.3, ±51.3 meV at 1 T (common practice values for v = 1e6 m/s)
 /// assert_eq!(levels.len(), 5);
 /// assert!((levels[4].energy - 36.28 * 2f64.sqrt()).abs() < 0.02);
 /// # Ok::<(), ladderfan::Error>(())
