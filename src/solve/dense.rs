@@ -74,6 +74,23 @@ pub struct DenseEigen {
 /// assert!((e.values[0] - 0.0).abs() < 1e-15 && (e.values[1] - 2.0).abs() < 1e-15);
 /// ```
 pub fn eigh(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
+    let mut out = DenseEigen {
+        values: Vec::new(),
+        vectors: None,
+    };
+    eigh_into(h, vectors, &mut out)?;
+    Ok(out)
+}
+
+/// [`eigh`] writing into `out`, whose buffers are reused when their sizes fit: for the millions
+/// of tiny sectors of a split solve this saves the heap allocations of a fresh result.
+///
+/// # Errors
+/// As [`eigh`]; on error `out` is left in an unspecified but valid state.
+///
+/// # Complexity
+/// As [`eigh`].
+pub fn eigh_into(h: &DMatrix<Complex64>, vectors: Vectors, out: &mut DenseEigen) -> Result<()> {
     let s = h.nrows();
     if h.ncols() != s {
         return Err(Error::BadNumber {
@@ -98,44 +115,41 @@ pub fn eigh(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> {
             }
         }
     }
+    out.values.clear();
+    let want = vectors == Vectors::Compute;
     match s {
-        0 => Ok(DenseEigen {
-            values: Vec::new(),
-            vectors: match vectors {
-                Vectors::Compute => Some(DMatrix::zeros(0, 0)),
-                Vectors::Skip => None,
-            },
-        }),
-        1 => Ok(DenseEigen {
-            values: vec![h[(0, 0)].re],
-            vectors: match vectors {
-                Vectors::Compute => Some(DMatrix::from_element(1, 1, Complex64::new(1.0, 0.0))),
-                Vectors::Skip => None,
-            },
-        }),
-        2 => Ok(eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors)),
-        3 if real => Ok(fixed(
+        0 | 1 => {
+            if s == 1 {
+                out.values.push(h[(0, 0)].re);
+            }
+            out.vectors = want.then(|| DMatrix::from_element(s, s, Complex64::new(1.0, 0.0)));
+        }
+        2 => eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors, out),
+        3 if real => fixed(
             Matrix3::from_fn(|i, j| lower(h, i, j).re),
             vectors,
             real_to_c,
-        )),
-        4 if real => Ok(fixed(
+            out,
+        ),
+        4 if real => fixed(
             Matrix4::from_fn(|i, j| lower(h, i, j).re),
             vectors,
             real_to_c,
-        )),
-        3 => Ok(fixed(
-            Matrix3::from_fn(|i, j| lower(h, i, j)),
-            vectors,
-            |z| z,
-        )),
-        4 => Ok(fixed(
-            Matrix4::from_fn(|i, j| lower(h, i, j)),
-            vectors,
-            |z| z,
-        )),
-        _ if real => faer_real(h, vectors),
-        _ => faer_complex(h, vectors),
+            out,
+        ),
+        3 => fixed(Matrix3::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
+        4 => fixed(Matrix4::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
+        _ if real => *out = faer_real(h, vectors)?,
+        _ => *out = faer_complex(h, vectors)?,
+    }
+    Ok(())
+}
+
+/// A reusable s x s output matrix: `slot`'s matrix when its shape fits, else a new one.
+fn reuse(slot: &mut Option<DMatrix<Complex64>>, s: usize) -> DMatrix<Complex64> {
+    match slot.take() {
+        Some(m) if m.shape() == (s, s) => m,
+        _ => DMatrix::zeros(s, s),
     }
 }
 
@@ -151,46 +165,46 @@ fn lower(h: &DMatrix<Complex64>, i: usize, j: usize) -> Complex64 {
     }
 }
 
-/// Closed form for [[a, c], [conj(c), d]], a and d real.
-fn eigh2(a: f64, c: Complex64, d: f64, vectors: Vectors) -> DenseEigen {
+/// Closed form for [[a, c], [conj(c), d]], a and d real, written into `out`.
+fn eigh2(a: f64, c: Complex64, d: f64, vectors: Vectors, out: &mut DenseEigen) {
     let m = 0.5 * a + 0.5 * d;
     let delta = 0.5 * a - 0.5 * d;
     let cabs = c.norm();
     let r = delta.hypot(cabs);
-    let values = vec![m - r, m + r];
-    let vectors = match vectors {
-        Vectors::Skip => None,
-        Vectors::Compute => {
-            let one = Complex64::new(1.0, 0.0);
-            let zero = Complex64::new(0.0, 0.0);
-            let mut v = DMatrix::from_element(2, 2, zero);
-            if r == 0.0 {
-                v[(0, 0)] = one;
-                v[(1, 1)] = one;
-            } else {
-                // t = |delta| + r >= r > 0 never cancels
-                let t = delta.abs() + r;
-                let norm = t.hypot(cabs);
-                let tn = Complex64::new(t / norm, 0.0);
-                let cn = c / norm;
-                if delta >= 0.0 {
-                    // lower: (-c, t), upper: (t, conj c)
-                    v[(0, 0)] = -cn;
-                    v[(1, 0)] = tn;
-                    v[(0, 1)] = tn;
-                    v[(1, 1)] = cn.conj();
-                } else {
-                    // lower: (t, -conj c), upper: (c, t)
-                    v[(0, 0)] = tn;
-                    v[(1, 0)] = -cn.conj();
-                    v[(0, 1)] = cn;
-                    v[(1, 1)] = tn;
-                }
-            }
-            Some(v)
+    out.values.extend_from_slice(&[m - r, m + r]);
+    if vectors == Vectors::Skip {
+        out.vectors = None;
+        return;
+    }
+    let one = Complex64::new(1.0, 0.0);
+    let zero = Complex64::new(0.0, 0.0);
+    let mut v = reuse(&mut out.vectors, 2);
+    if r == 0.0 {
+        v[(0, 0)] = one;
+        v[(1, 0)] = zero;
+        v[(0, 1)] = zero;
+        v[(1, 1)] = one;
+    } else {
+        // t = |delta| + r >= r > 0 never cancels
+        let t = delta.abs() + r;
+        let norm = t.hypot(cabs);
+        let tn = Complex64::new(t / norm, 0.0);
+        let cn = c / norm;
+        if delta >= 0.0 {
+            // lower: (-c, t), upper: (t, conj c)
+            v[(0, 0)] = -cn;
+            v[(1, 0)] = tn;
+            v[(0, 1)] = tn;
+            v[(1, 1)] = cn.conj();
+        } else {
+            // lower: (t, -conj c), upper: (c, t)
+            v[(0, 0)] = tn;
+            v[(1, 0)] = -cn.conj();
+            v[(0, 1)] = cn;
+            v[(1, 1)] = tn;
         }
-    };
-    DenseEigen { values, vectors }
+    }
+    out.vectors = Some(v);
 }
 
 /// nalgebra fixed-size path (sizes 3 and 4), sorted ascending; `T` is f64 for a real
@@ -199,8 +213,8 @@ fn fixed<T, D>(
     m: nalgebra::OMatrix<T, D, D>,
     vectors: Vectors,
     to_c: impl Fn(T) -> Complex64,
-) -> DenseEigen
-where
+    out: &mut DenseEigen,
+) where
     T: nalgebra::ComplexField<RealField = f64>,
     D: nalgebra::DimSub<nalgebra::U1>,
     nalgebra::DefaultAllocator: nalgebra::allocator::Allocator<D, D>
@@ -211,22 +225,24 @@ where
 {
     let s = m.nrows();
     if vectors == Vectors::Skip {
-        let mut values: Vec<f64> = m.symmetric_eigenvalues().iter().copied().collect();
-        values.sort_by(f64::total_cmp);
-        return DenseEigen {
-            values,
-            vectors: None,
-        };
+        out.values.extend(m.symmetric_eigenvalues().iter().copied());
+        out.values.sort_by(f64::total_cmp);
+        out.vectors = None;
+        return;
     }
     let e = SymmetricEigen::new(m);
-    let mut order: Vec<usize> = (0..s).collect();
+    // ascending order of at most 4 values, on the stack
+    let mut order = [0usize, 1, 2, 3];
+    let order = &mut order[..s];
     order.sort_by(|&x, &y| e.eigenvalues[x].total_cmp(&e.eigenvalues[y]));
-    let values = order.iter().map(|&k| e.eigenvalues[k]).collect();
-    let v = DMatrix::from_fn(s, s, |i, j| to_c(e.eigenvectors[(i, order[j])].clone()));
-    DenseEigen {
-        values,
-        vectors: Some(v),
+    out.values.extend(order.iter().map(|&k| e.eigenvalues[k]));
+    let mut v = reuse(&mut out.vectors, s);
+    for (j, &k) in order.iter().enumerate() {
+        for i in 0..s {
+            v[(i, j)] = to_c(e.eigenvectors[(i, k)].clone());
+        }
     }
+    out.vectors = Some(v);
 }
 
 fn real_to_c(x: f64) -> Complex64 {

@@ -208,6 +208,15 @@ pub fn for_each_outside(
     }
 }
 
+/// Buffers of one chunk of sectors, reused from sector to sector (no heap allocation per
+/// sector once their sizes fit).
+struct Scratch {
+    states: Vec<(usize, usize)>,
+    hs: DMatrix<Complex64>,
+    eig: dense::DenseEigen,
+    v: Vec<Complex64>,
+}
+
 struct SectorResult {
     levels: Vec<Level>,
     weights: Vec<f64>,
@@ -246,10 +255,12 @@ impl Job<'_> {
     fn solve_sector(
         &self,
         id: SectorId,
-        states: &mut Vec<(usize, usize)>,
+        scratch: &mut Scratch,
         out: &mut SectorResult,
     ) -> Result<()> {
+        let Scratch { states, hs, eig, v } = scratch;
         self.plan.states(id, states);
+        let states: &[(usize, usize)] = states;
         let s = states.len();
         let d = self.h.dim;
         let cutoff = self.plan.cutoff;
@@ -267,7 +278,7 @@ impl Job<'_> {
             }
         };
         let windowed = s > self.dense_max && self.target != Target::All;
-        let (mut eig, hs, hs_norm, window_residuals) = if windowed {
+        let (have_hs, hs_norm, window_residuals) = if windowed {
             let hbw = self.plan.half_bandwidth(id, self.h.band).min(s - 1);
             let banded = banded::BandedHermitian::from_fn(s, hbw, element)?;
             let w = match self.target {
@@ -278,16 +289,22 @@ impl Job<'_> {
                 Target::All => unreachable!("the window path is only taken for a partial target"),
             };
             let norm = banded.norm_bound();
-            let eig = dense::DenseEigen {
-                values: w.values,
-                vectors: Some(w.vectors),
-            };
-            (eig, None, norm, Some(w.residuals))
+            eig.values = w.values;
+            eig.vectors = Some(w.vectors);
+            (false, norm, Some(w.residuals))
         } else {
-            let hs = DMatrix::from_fn(s, s, element);
-            let eig = dense::eigh(&hs, Vectors::Compute)?;
+            // the sector matrix and the eigen-solve reuse the chunk's buffers when sizes fit
+            if hs.shape() != (s, s) {
+                *hs = DMatrix::zeros(s, s);
+            }
+            for c in 0..s {
+                for r in 0..s {
+                    hs[(r, c)] = element(r, c);
+                }
+            }
+            dense::eigh_into(hs, Vectors::Compute, eig)?;
             let norm = hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
-            (eig, Some(hs), norm, None)
+            (true, norm, None)
         };
         // trust: rotate degenerate clusters so cutoff artefacts separate (src/trust/cluster.rs)
         if let Some(vectors) = eig.vectors.as_mut() {
@@ -306,7 +323,6 @@ impl Job<'_> {
         })?;
         let top_from = cutoff.saturating_sub(self.h.band.max(1));
         let first_level = out.levels.len();
-        let mut v: Vec<Complex64> = Vec::with_capacity(s);
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
             v.extend(vecs.column(i).iter().copied());
@@ -327,7 +343,7 @@ impl Job<'_> {
                     let (n, b) = states[c];
                     self.h.element_dd(m, a, n, b)
                 };
-                let rf = refine::refine(s, &elem, lam0, &v, 4);
+                let rf = refine::refine(s, &elem, lam0, v, 4);
                 lam = rf.value.hi;
                 lam_lo = rf.value.lo;
                 v.clear();
@@ -343,7 +359,7 @@ impl Job<'_> {
             } else {
                 // in-space residual ||H v - lambda v||
                 let mut acc = 0.0;
-                if let Some(hs) = &hs {
+                if have_hs {
                     for r in 0..s {
                         let mut hv = Complex64::new(0.0, 0.0);
                         for c in 0..s {
@@ -354,7 +370,7 @@ impl Job<'_> {
                 }
                 in_res = acc.sqrt();
             }
-            let out_res = leakage(self.h, cutoff, states, &v);
+            let out_res = leakage(self.h, cutoff, states, v);
             // rounding floor: the residuals above are themselves computed in floating point
             let rounding = if refine_this {
                 2.0 * f64::EPSILON * (lam + lam_lo).abs()
@@ -401,7 +417,7 @@ impl Job<'_> {
                     });
                     if self.keep_vectors {
                         out.vectors.push(LevelVector {
-                            states: states.clone(),
+                            states: states.to_vec(),
                             coeffs: v.clone(),
                         });
                     }
@@ -431,7 +447,7 @@ impl Job<'_> {
                         }
                         if self.keep_vectors {
                             out.vectors.push(LevelVector {
-                                states: states.clone(),
+                                states: states.to_vec(),
                                 coeffs: v.clone(),
                             });
                         }
@@ -590,67 +606,120 @@ impl Spectrum {
             target: settings.target,
             dense_max: settings.dense_max,
         };
+        let branches = match model.form() {
+            SpectrumForm::Direct => 1,
+            SpectrumForm::KleinGordon { .. } => 2,
+        };
         // many small sectors: chunks amortise the scheduling; few large ones: one per task
         let chunk = (ids.len() / (8 * rayon::current_num_threads())).clamp(1, 512);
-        let parts: Vec<Result<SectorResult>> = ids
+        let parts_raw: Vec<Result<SectorResult>> = ids
             .par_chunks(chunk)
             .map(|chunk_ids| {
-                let mut states = Vec::new();
+                let mut scratch = Scratch {
+                    states: Vec::new(),
+                    hs: DMatrix::zeros(0, 0),
+                    eig: dense::DenseEigen {
+                        values: Vec::new(),
+                        vectors: None,
+                    },
+                    v: Vec::new(),
+                };
+                // exact-J sectors hold at most one state per component: reserve for them, so
+                // the chunk's vectors never regrow (regrowth copies into fresh pages)
+                let expected: usize = chunk_ids
+                    .iter()
+                    .map(|id| {
+                        let c = &plan.symmetry.classes[id.class];
+                        if c.modulus == 0 {
+                            c.components.len() * branches
+                        } else {
+                            0
+                        }
+                    })
+                    .sum();
                 let mut acc = SectorResult {
-                    levels: Vec::new(),
-                    weights: Vec::new(),
+                    levels: Vec::with_capacity(expected),
+                    weights: Vec::with_capacity(expected * h.dim),
                     vectors: Vec::new(),
                 };
                 for &id in chunk_ids {
-                    job.solve_sector(id, &mut states, &mut acc)?;
+                    job.solve_sector(id, &mut scratch, &mut acc)?;
                 }
                 Ok(acc)
             })
             .collect();
-        let mut levels = Vec::new();
-        let mut weights = Vec::new();
-        let mut vectors = Vec::new();
-        for p in parts {
-            let p = p?;
-            levels.extend(p.levels);
-            weights.extend(p.weights);
-            vectors.extend(p.vectors);
+        let mut parts: Vec<SectorResult> = Vec::with_capacity(parts_raw.len());
+        for p in parts_raw {
+            parts.push(p?);
         }
-        // stable sort by energy, carrying weights and vectors along
         let d = h.dim;
-        // sort contiguous (energy, index) keys; ties are broken by the index, so the order is a
-        // total order and the result is the same whatever the thread count
-        let mut keys: Vec<(f64, usize)> = levels
-            .iter()
+        // Sort contiguous (energy, part, index) keys; ties are broken by the position, so the
+        // order is total and the result is the same whatever the thread count. The levels are
+        // then gathered straight from the per-chunk parts: no unsorted concatenation is ever
+        // built (at 4e6 levels each extra pass over fresh memory costs ~0.1 s in page faults).
+        let total: usize = parts.iter().map(|p| p.levels.len()).sum();
+        if total > u32::MAX as usize || parts.len() > u32::MAX as usize {
+            return Err(Error::MemoryLimit {
+                what: format!("{total} levels in one solve (at most 2^32)"),
+                needed_mib: (total * std::mem::size_of::<Level>()) as u64 >> 20,
+                limit_mib: settings.memory_limit_mib,
+            });
+        }
+        // each chunk writes its keys into its own slice of one array, in parallel
+        let mut keys: Vec<SortKey> = vec![SortKey(0); total];
+        let mut slices = Vec::with_capacity(parts.len());
+        let mut rest = keys.as_mut_slice();
+        for p in &parts {
+            let (head, tail) = rest.split_at_mut(p.levels.len());
+            slices.push(head);
+            rest = tail;
+        }
+        slices
+            .into_par_iter()
+            .zip(parts.par_iter())
             .enumerate()
-            .map(|(i, l)| (l.energy, i))
+            .for_each(|(pi, (slice, p))| {
+                for (i, (k, l)) in slice.iter_mut().zip(&p.levels).enumerate() {
+                    *k = SortKey::new(l.energy, pi as u32, i as u32);
+                }
+            });
+        keys.par_sort_unstable();
+        select_target(&mut keys, settings.target);
+        // the typical spacing comes from the sorted energies, so the convergence flags are set
+        // during the gather (no extra pass over the levels)
+        let energy_scale = energy_scale_sorted(&keys, d);
+        let tolerance = settings.tolerance;
+        let levels: Vec<Level> = keys
+            .par_iter()
+            .map(|k| {
+                let mut l = parts[k.part()].levels[k.index()];
+                l.convergence = convergence_of(&l, tolerance, energy_scale);
+                l
+            })
             .collect();
-        keys.par_sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-        let mut order: Vec<usize> = keys.into_iter().map(|(_, i)| i).collect();
-        select_target(&mut order, &levels, settings.target);
-        let levels: Vec<Level> = order.iter().map(|&i| levels[i]).collect();
-        let weights: Vec<f64> = order
-            .iter()
-            .flat_map(|&i| weights[i * d..(i + 1) * d].iter().copied())
-            .collect();
+        let mut weights = vec![0.0; keys.len() * d];
+        weights
+            .par_chunks_mut(d.max(1))
+            .zip(keys.par_iter())
+            .for_each(|(w, k)| {
+                let i = k.index();
+                w.copy_from_slice(&parts[k.part()].weights[i * d..(i + 1) * d]);
+            });
         let vectors = if settings.vectors == Vectors::Compute {
-            let mut slots: Vec<Option<LevelVector>> = vectors.into_iter().map(Some).collect();
+            let empty = || LevelVector {
+                states: Vec::new(),
+                coeffs: Vec::new(),
+            };
             Some(
-                order
-                    .iter()
-                    .map(|&i| {
-                        slots[i].take().unwrap_or_else(|| LevelVector {
-                            states: vec![],
-                            coeffs: vec![],
-                        })
-                    })
+                keys.iter()
+                    .map(|k| std::mem::replace(&mut parts[k.part()].vectors[k.index()], empty()))
                     .collect(),
             )
         } else {
             None
         };
-        let energy_scale = energy_scale(&levels, d);
-        let mut spectrum = Spectrum {
+        drop(parts);
+        let spectrum = Spectrum {
             model: model.name().to_string(),
             units: model.units(),
             point,
@@ -665,58 +734,167 @@ impl Spectrum {
             weights,
             vectors,
         };
-
-        flag_convergence(&mut spectrum);
         Ok(spectrum)
     }
 }
 
-/// Keep only the levels the target asks for, preserving the ascending order of `order`.
-fn select_target(order: &mut Vec<usize>, levels: &[Level], target: Target) {
+/// Sort key of a level: its energy mapped to an unsigned integer with the order of
+/// `f64::total_cmp` in the high 64 bits, and its position (chunk, index in the chunk) in the low
+/// 64, so that one integer comparison orders by energy and breaks ties by position.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+struct SortKey(u128);
+
+impl SortKey {
+    const SIGN: u64 = 1 << 63;
+
+    fn new(energy: f64, part: u32, index: u32) -> Self {
+        let b = energy.to_bits();
+        let ordered = if b & Self::SIGN != 0 {
+            !b
+        } else {
+            b | Self::SIGN
+        };
+        SortKey((u128::from(ordered) << 64) | (u128::from(part) << 32) | u128::from(index))
+    }
+
+    fn energy(self) -> f64 {
+        let o = (self.0 >> 64) as u64;
+        f64::from_bits(if o & Self::SIGN != 0 {
+            o & !Self::SIGN
+        } else {
+            !o
+        })
+    }
+
+    fn part(self) -> usize {
+        ((self.0 >> 32) as u32) as usize
+    }
+
+    fn index(self) -> usize {
+        (self.0 as u32) as usize
+    }
+}
+
+/// Keep only the levels the target asks for, preserving the ascending order of `keys`.
+fn select_target(keys: &mut Vec<SortKey>, target: Target) {
     match target {
         Target::All => {}
-        Target::Window { lo, hi } => {
-            order.retain(|&i| levels[i].energy >= lo && levels[i].energy <= hi)
-        }
+        Target::Window { lo, hi } => keys.retain(|k| k.energy() >= lo && k.energy() <= hi),
         Target::Nearest { energy, count } => {
-            let mut by_distance: Vec<usize> = (0..order.len()).collect();
+            let mut by_distance: Vec<usize> = (0..keys.len()).collect();
             by_distance.sort_by(|&a, &b| {
-                let da = (levels[order[a]].energy - energy).abs();
-                let db = (levels[order[b]].energy - energy).abs();
+                let da = (keys[a].energy() - energy).abs();
+                let db = (keys[b].energy() - energy).abs();
                 da.total_cmp(&db).then(a.cmp(&b))
             });
             let mut chosen: Vec<usize> = by_distance.into_iter().take(count).collect();
             chosen.sort_unstable();
-            *order = chosen.into_iter().map(|k| order[k]).collect();
+            *keys = chosen.into_iter().map(|k| keys[k]).collect();
         }
     }
 }
 
 /// A typical Landau spacing: the median of the non-zero |E| among the 2d+1 levels closest to
-/// the reference energy (1 if there are none).
+/// the reference energy (1 if there are none). Any order of `levels`.
+///
+/// # Complexity
+/// O(L) for L levels (a selection, not a sort).
 pub fn energy_scale(levels: &[Level], dim: usize) -> f64 {
     let mut mags: Vec<f64> = levels.iter().map(|l| l.energy.abs()).collect();
-    mags.sort_by(f64::total_cmp);
-    let mut near: Vec<f64> = mags
-        .into_iter()
-        .take(2 * dim + 1)
-        .filter(|&x| x > f64::MIN_POSITIVE)
-        .collect();
-    if near.is_empty() {
-        return 1.0;
+    median_of_smallest_nonzero(&mut mags, 2 * dim + 1).unwrap_or(1.0)
+}
+
+/// [`energy_scale`] for sort keys in ascending order of energy: the 2d+1 smallest |E| are
+/// read outward from the zero crossing, in O(log L + d).
+fn energy_scale_sorted(keys: &[SortKey], dim: usize) -> f64 {
+    let take = (2 * dim + 1).min(keys.len());
+    let mut hi = keys.partition_point(|k| k.energy() < 0.0);
+    let mut lo = hi; // keys[lo..hi] are taken
+    let mut near = Vec::with_capacity(take);
+    while near.len() < take {
+        let below = (lo > 0).then(|| keys[lo - 1].energy().abs());
+        let above = keys.get(hi).map(|k| k.energy().abs());
+        match (below, above) {
+            (Some(b), Some(a)) if b <= a => {
+                near.push(b);
+                lo -= 1;
+            }
+            (_, Some(a)) => {
+                near.push(a);
+                hi += 1;
+            }
+            (Some(b), None) => {
+                near.push(b);
+                lo -= 1;
+            }
+            (None, None) => break,
+        }
     }
-    near.sort_by(f64::total_cmp);
-    near[near.len() / 2]
+    median_of_smallest_nonzero(&mut near, take).unwrap_or(1.0)
+}
+
+/// Median of the entries above the smallest positive normal number among the `take` smallest
+/// entries of `mags` (non-negative magnitudes, reordered in place); `None` when there is none.
+///
+/// # Complexity
+/// O(len + take log take).
+pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Option<f64> {
+    let take = take.min(mags.len());
+    if take < mags.len() {
+        mags.select_nth_unstable_by(take, f64::total_cmp);
+    }
+    let near = &mut mags[..take];
+    near.sort_unstable_by(f64::total_cmp);
+    let first = near.partition_point(|&x| x <= f64::MIN_POSITIVE);
+    let nonzero = &near[first..];
+    (!nonzero.is_empty()).then(|| nonzero[nonzero.len() / 2])
 }
 
 /// Set each level's convergence flag: converged when bound <= tolerance x max(|E|, scale).
 pub fn flag_convergence(s: &mut Spectrum) {
     let (tol, scale) = (s.tolerance, s.energy_scale);
     for l in &mut s.levels {
-        l.convergence = if l.bound <= tol * l.energy.abs().max(scale) {
-            Convergence::Converged
-        } else {
-            Convergence::NotConverged
-        };
+        l.convergence = convergence_of(l, tol, scale);
+    }
+}
+
+/// Converged when bound <= tolerance x max(|E|, scale).
+fn convergence_of(l: &Level, tolerance: f64, scale: f64) -> Convergence {
+    if l.bound <= tolerance * l.energy.abs().max(scale) {
+        Convergence::Converged
+    } else {
+        Convergence::NotConverged
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::SortKey;
+
+    #[test]
+    fn sort_key_orders_like_total_cmp_and_round_trips() {
+        let xs = [
+            -f64::INFINITY,
+            -1e300,
+            -1.0,
+            -f64::MIN_POSITIVE,
+            -0.0,
+            0.0,
+            5e-324,
+            1.0,
+            1.0 + f64::EPSILON,
+            f64::INFINITY,
+        ];
+        for (i, &a) in xs.iter().enumerate() {
+            let ka = SortKey::new(a, 7, 9);
+            assert_eq!(ka.energy().to_bits(), a.to_bits());
+            assert_eq!((ka.part(), ka.index()), (7, 9));
+            for &b in &xs[i + 1..] {
+                assert!(ka < SortKey::new(b, 0, 0), "{a} < {b}");
+            }
+        }
+        // equal energies: the position decides
+        assert!(SortKey::new(2.0, 1, 5) < SortKey::new(2.0, 2, 0));
+        assert!(SortKey::new(2.0, 1, 5) < SortKey::new(2.0, 1, 6));
     }
 }

@@ -127,16 +127,37 @@ pub enum SectorEdges {
 /// # Complexity
 /// O(s log s) for s levels.
 pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
-    let mut idx: Vec<usize> = (0..levels.len())
-        .filter(|&i| levels[i].branch == 0)
-        .collect();
-    idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
-    let mut results = vec![None; levels.len()];
+    // small sectors (the split paths: millions of them) use a stack buffer
+    let mut small = [0usize; 32];
+    let mut large = Vec::new();
+    let idx: &mut [usize] = if levels.len() <= small.len() {
+        &mut small[..levels.len()]
+    } else {
+        large.resize(levels.len(), 0);
+        &mut large
+    };
+    let mut count = 0;
+    for (i, l) in levels.iter_mut().enumerate() {
+        l.kato_temple = None;
+        if l.branch == 0 {
+            idx[count] = i;
+            count += 1;
+        }
+    }
+    let idx = &mut idx[..count];
+    // the solvers return ascending energies; sort only when they are not
+    if idx
+        .windows(2)
+        .any(|w| levels[w[0]].energy > levels[w[1]].energy)
+    {
+        idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+    }
     let last = idx.len().saturating_sub(1);
     for (pos, &i) in idx.iter().enumerate() {
         if edges == SectorEdges::Partial && (pos == 0 || pos == last) {
             continue;
         }
+        // only energy, bound and top weight of the neighbours are read, never kato_temple
         let genuine = |j: &&usize| !is_cutoff_artefact(&levels[**j]);
         let below = idx[..pos]
             .iter()
@@ -148,11 +169,8 @@ pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
             .find(genuine)
             .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
         let li = &levels[i];
-        results[i] = kato_temple(li.bound, li.energy - below, above - li.energy)
+        levels[i].kato_temple = kato_temple(li.bound, li.energy - below, above - li.energy)
             .map(|kt| kt + rounding_floor(li));
-    }
-    for (l, kt) in levels.iter_mut().zip(results) {
-        l.kato_temple = kt;
     }
 }
 

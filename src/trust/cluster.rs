@@ -58,20 +58,20 @@ pub fn outside_part(
 /// of the non-zero |lambda| among the 2d+1 eigenvalues closest to zero (the same typical
 /// spacing as [`crate::solve::energy_scale`]).
 pub fn cluster_width(values: &[f64], relative_tolerance: f64, dim: usize) -> f64 {
-    let mut mags: Vec<f64> = values.iter().map(|x| x.abs()).collect();
-    mags.sort_by(f64::total_cmp);
-    let largest = mags.last().copied().unwrap_or(0.0);
-    let near: Vec<f64> = mags
-        .iter()
-        .copied()
-        .take(2 * dim + 1)
-        .filter(|&x| x > f64::MIN_POSITIVE)
-        .collect();
-    let scale = if near.is_empty() {
-        largest
+    let largest = values.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+    // small sectors (the split paths: millions of them) use a stack buffer
+    let mut small = [0.0f64; 32];
+    let mut large = Vec::new();
+    let mags: &mut [f64] = if values.len() <= small.len() {
+        &mut small[..values.len()]
     } else {
-        near[near.len() / 2]
+        large.resize(values.len(), 0.0);
+        &mut large
     };
+    for (m, x) in mags.iter_mut().zip(values) {
+        *m = x.abs();
+    }
+    let scale = crate::solve::median_of_smallest_nonzero(mags, 2 * dim + 1).unwrap_or(largest);
     (relative_tolerance.min(MAX_RELATIVE_WIDTH) * scale)
         .max(ROUNDOFF_WIDTH * f64::EPSILON * largest)
 }
@@ -108,6 +108,11 @@ pub fn separate_leaking(
     vectors: &mut DMatrix<Complex64>,
     relative_tolerance: f64,
 ) {
+    // only states within the band of the cutoff can couple past it: a sector without such a
+    // state leaks nothing, whatever the rotation (the common case: deep sectors of a split solve)
+    if states.iter().all(|&(n, _)| n + h.band < cutoff) {
+        return;
+    }
     let width = cluster_width(values, relative_tolerance, h.dim);
     for range in clusters(values, width) {
         let k = range.len();

@@ -1,0 +1,68 @@
+//! Split 3+1 Dirac path against a bare loop of 4x4 eigen-solves, timed alternately in one run
+//! (release build; a measurement, not a test; skipped by CI).
+//!
+//! ```text
+//! cargo run --release --example split_timing -- [N] [ROUNDS]
+//! ```
+//! Prints, per round, the bare loop of N - 1 fixed-size 4x4 Hermitian solves with vectors (one
+//! thread, matrices built outside the timed region, as in `benches/engine.rs`) and
+//! `Spectrum::compute` on the same model and point with double precision and with the default
+//! precision, then the medians and the ratios split / bare.
+use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::solve::Precision;
+use ladderfan::*;
+use std::hint::black_box;
+use std::time::Instant;
+
+fn median(mut v: Vec<f64>) -> f64 {
+    v.sort_by(f64::total_cmp);
+    v[v.len() / 2]
+}
+
+fn main() -> Result<()> {
+    let mut args = std::env::args().skip(1);
+    let n: usize = args
+        .next()
+        .and_then(|a| a.parse().ok())
+        .unwrap_or(1_000_000);
+    let rounds: usize = args.next().and_then(|a| a.parse().ok()).unwrap_or(5);
+    let m = builtin::dirac(builtin::RelativisticParams::default())?;
+    let point = FieldPoint {
+        field: 1e-3,
+        kz: 0.05,
+    };
+    let h = LadderHamiltonian::assemble(&m, point, 1.0)?;
+    let blocks: Vec<nalgebra::Matrix4<num_complex::Complex64>> = (1..n)
+        .map(|j| {
+            let st = [(j - 1, 0usize), (j, 1), (j - 1, 2), (j, 3)];
+            nalgebra::Matrix4::from_fn(|r, c| h.element(st[r].0, st[r].1, st[c].0, st[c].1))
+        })
+        .collect();
+    let mut double = Settings::with_cutoff(n);
+    double.precision = Precision::Double;
+    let auto = Settings::with_cutoff(n);
+    let (mut tb, mut td, mut ta) = (Vec::new(), Vec::new(), Vec::new());
+    for _ in 0..rounds {
+        let t = Instant::now();
+        let mut acc = 0.0;
+        for m4 in &blocks {
+            acc += nalgebra::SymmetricEigen::new(*m4).eigenvalues[0];
+        }
+        black_box(acc);
+        tb.push(t.elapsed().as_secs_f64());
+        let t = Instant::now();
+        black_box(Spectrum::compute(&m, point, &double)?);
+        td.push(t.elapsed().as_secs_f64());
+        let t = Instant::now();
+        black_box(Spectrum::compute(&m, point, &auto)?);
+        ta.push(t.elapsed().as_secs_f64());
+    }
+    let (b, d, a) = (median(tb), median(td), median(ta));
+    println!(
+        "N = {n}, {} threads, medians of {rounds}: bare 4x4 loop (1 thread) {b:.3} s, split double {d:.3} s ({:.2}x), split default precision {a:.3} s ({:.2}x)",
+        rayon::current_num_threads(),
+        d / b,
+        a / b
+    );
+    Ok(())
+}
