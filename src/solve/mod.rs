@@ -69,6 +69,10 @@ pub const DENSE_MAX_DEFAULT: usize = 3000;
 /// Most levels the window solver may return from one sector for a [`Target::Window`].
 pub const WINDOW_MAX_LEVELS: usize = 2000;
 
+/// Fewest levels one task of the final gather handles: small spectra (one point of a sweep,
+/// where the points already run in parallel) are gathered without splitting.
+const GATHER_GRAIN: usize = 1 << 14;
+
 /// Largest sector whose levels get an explicit in-space residual (larger ones rely on the
 /// backward stability of the dense solver, O(eps ||H||), inside the rounding floor).
 pub const EXPLICIT_RESIDUAL_MAX_SECTOR: usize = 64;
@@ -693,6 +697,7 @@ impl Spectrum {
         let tolerance = settings.tolerance;
         let levels: Vec<Level> = keys
             .par_iter()
+            .with_min_len(GATHER_GRAIN)
             .map(|k| {
                 let mut l = parts[k.part()].levels[k.index()];
                 l.convergence = convergence_of(&l, tolerance, energy_scale);
@@ -703,6 +708,7 @@ impl Spectrum {
         weights
             .par_chunks_mut(d.max(1))
             .zip(keys.par_iter())
+            .with_min_len(GATHER_GRAIN)
             .for_each(|(w, k)| {
                 let i = k.index();
                 w.copy_from_slice(&parts[k.part()].weights[i * d..(i + 1) * d]);
