@@ -361,8 +361,8 @@ fn faer_complex(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> 
 /// eigenvalue computations", J. Comput. Appl. Math. 27 (1989); the LAPACK routines
 /// xSYTRD/xHETRD and xLATRD (Anderson et al., LAPACK Users' Guide, 3rd ed., SIAM 1999).
 mod blocked {
-    use faer::linalg::matmul::triangular::{self as tri, BlockStructure};
     use faer::linalg::matmul::matmul;
+    use faer::linalg::matmul::triangular::{self as tri, BlockStructure};
     use faer::{Accum, MatMut, MatRef, Par};
     use num_complex::Complex64;
     use std::ops::{Add, AddAssign, Mul, Neg, Sub, SubAssign};
@@ -480,13 +480,8 @@ mod blocked {
                         ];
                         let z = simd.$splat(zero);
                         let mut acc = [z, z, z, z];
-                        for (((((yy, xx), p0), p1), p2), p3) in yh
-                            .iter_mut()
-                            .zip(xh)
-                            .zip(a0h)
-                            .zip(a1h)
-                            .zip(a2h)
-                            .zip(a3h)
+                        for (((((yy, xx), p0), p1), p2), p3) in
+                            yh.iter_mut().zip(xh).zip(a0h).zip(a1h).zip(a2h).zip(a3h)
                         {
                             let mut v = simd.$fma(*p0, xv[0], *yy);
                             v = simd.$fma(*p1, xv[1], v);
@@ -503,13 +498,8 @@ mod blocked {
                             simd.$sum(acc[2]),
                             simd.$sum(acc[3]),
                         ];
-                        for (((((yy, xx), p0), p1), p2), p3) in yt
-                            .iter_mut()
-                            .zip(xt)
-                            .zip(a0t)
-                            .zip(a1t)
-                            .zip(a2t)
-                            .zip(a3t)
+                        for (((((yy, xx), p0), p1), p2), p3) in
+                            yt.iter_mut().zip(xt).zip(a0t).zip(a1t).zip(a2t).zip(a3t)
                         {
                             *yy += *p0 * x[j] + *p1 * x[j + 1] + *p2 * x[j + 2] + *p3 * x[j + 3];
                             sums[0] += p0.cj() * *xx;
@@ -578,8 +568,8 @@ mod blocked {
                 let (left, right) = a.split_at_mut(q * n);
                 let v = MatRef::from_column_major_slice(&left[p * n..], n, jb).subrows(q, n - q);
                 let wr = MatRef::from_column_major_slice(&wb[..], m, jb).subrows(jb, m - jb);
-                let mut a22 = MatMut::from_column_major_slice_mut(right, n, n - q)
-                    .subrows_mut(q, n - q);
+                let mut a22 =
+                    MatMut::from_column_major_slice_mut(right, n, n - q).subrows_mut(q, n - q);
                 let minus_one = T::of_re(-1.0);
                 tri::matmul(
                     a22.as_mut(),
@@ -689,15 +679,44 @@ mod blocked {
             let v = &ar[c * n + c + 1..c * n + n];
             T::hemv(ar, n, c + 1, v, wcol);
             if j > 0 {
-                let ap = MatRef::from_column_major_slice(&ar[p * n..(p + j) * n], n, j).subrows(c + 1, len);
+                let ap = MatRef::from_column_major_slice(&ar[p * n..(p + j) * n], n, j)
+                    .subrows(c + 1, len);
                 let wp = MatRef::from_column_major_slice(&wl[..], m, j).subrows(r0, len);
                 let vm = MatRef::from_column_major_slice(v, len, 1);
                 let mut tmp = faer::Mat::<T>::zeros(j, 1);
                 let mut wc = MatMut::from_column_major_slice_mut(wcol, len, 1);
-                matmul(tmp.as_mut(), Accum::Replace, wp.adjoint(), vm, one, Par::Seq);
-                matmul(wc.as_mut(), Accum::Add, ap, tmp.as_ref(), minus_one, Par::Seq);
-                matmul(tmp.as_mut(), Accum::Replace, ap.adjoint(), vm, one, Par::Seq);
-                matmul(wc.as_mut(), Accum::Add, wp, tmp.as_ref(), minus_one, Par::Seq);
+                matmul(
+                    tmp.as_mut(),
+                    Accum::Replace,
+                    wp.adjoint(),
+                    vm,
+                    one,
+                    Par::Seq,
+                );
+                matmul(
+                    wc.as_mut(),
+                    Accum::Add,
+                    ap,
+                    tmp.as_ref(),
+                    minus_one,
+                    Par::Seq,
+                );
+                matmul(
+                    tmp.as_mut(),
+                    Accum::Replace,
+                    ap.adjoint(),
+                    vm,
+                    one,
+                    Par::Seq,
+                );
+                matmul(
+                    wc.as_mut(),
+                    Accum::Add,
+                    wp,
+                    tmp.as_ref(),
+                    minus_one,
+                    Par::Seq,
+                );
             }
             let ti = T::of_re(t_inv);
             let mut dot = T::of_re(0.0);
@@ -791,5 +810,188 @@ mod blocked {
         }
         let values = (0..n).map(|k| s[k].re_part()).collect();
         Ok((values, u))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// SplitMix64 (Steele, Lea and Flood, OOPSLA 2014), uniform in [-1, 1).
+    struct Rng(u64);
+    impl Rng {
+        fn next(&mut self) -> f64 {
+            self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+            let mut z = self.0;
+            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+            z ^= z >> 31;
+            (z >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0
+        }
+    }
+
+    fn random_hermitian(s: usize, complex: bool, rng: &mut Rng) -> DMatrix<Complex64> {
+        let mut h = DMatrix::zeros(s, s);
+        for j in 0..s {
+            for i in j..s {
+                let re = rng.next();
+                let im = if i == j || !complex { 0.0 } else { rng.next() };
+                h[(i, j)] = Complex64::new(re, im);
+                h[(j, i)] = Complex64::new(re, -im);
+            }
+        }
+        h
+    }
+
+    /// P diag(d) P with the Householder reflector P = I - 2 u u^H / |u|^2 (unitary and
+    /// Hermitian): a dense Hermitian matrix whose spectrum is exactly d by construction.
+    fn known_spectrum(d: &[f64], complex: bool, rng: &mut Rng) -> DMatrix<Complex64> {
+        let s = d.len();
+        let u: Vec<Complex64> = (0..s)
+            .map(|_| Complex64::new(rng.next(), if complex { rng.next() } else { 0.0 }))
+            .collect();
+        let n2: f64 = u.iter().map(|z| z.norm_sqr()).sum();
+        let p = DMatrix::from_fn(s, s, |i, j| {
+            let delta = if i == j { 1.0 } else { 0.0 };
+            Complex64::new(delta, 0.0) - u[i] * u[j].conj() * (2.0 / n2)
+        });
+        let dm = DMatrix::from_fn(s, s, |i, j| {
+            Complex64::new(if i == j { d[i] } else { 0.0 }, 0.0)
+        });
+        let h = &p * dm * &p;
+        // exactly Hermitian (the product is only to rounding)
+        DMatrix::from_fn(s, s, |i, j| {
+            if i > j {
+                h[(i, j)]
+            } else if i == j {
+                Complex64::new(h[(i, i)].re, 0.0)
+            } else {
+                h[(j, i)].conj()
+            }
+        })
+    }
+
+    /// Checks values against `want` (ascending) and vectors by residual and orthogonality,
+    /// tolerances scaled by ||H||_F and the size.
+    fn check(h: &DMatrix<Complex64>, e: &DenseEigen, want: &[f64]) {
+        let s = h.nrows();
+        let norm = h.norm().max(1.0);
+        let tol = 1e-13 * norm * (s as f64).sqrt();
+        assert_eq!(e.values.len(), s);
+        for k in 0..s {
+            assert!(
+                (e.values[k] - want[k]).abs() <= tol,
+                "size {s} value {k}: {} vs {}",
+                e.values[k],
+                want[k]
+            );
+        }
+        if let Some(v) = &e.vectors {
+            let lam = DMatrix::from_fn(s, s, |i, j| {
+                Complex64::new(if i == j { e.values[i] } else { 0.0 }, 0.0)
+            });
+            let res = (h * v - v * lam).norm();
+            assert!(res <= tol, "size {s}: ||H V - V L||_F = {res}");
+            let ortho = (v.adjoint() * v - DMatrix::identity(s, s)).norm();
+            assert!(
+                ortho <= 1e-13 * (s as f64).sqrt(),
+                "size {s}: orthogonality {ortho}"
+            );
+        }
+    }
+
+    fn oracle(h: &DMatrix<Complex64>) -> Vec<f64> {
+        let mut v: Vec<f64> = SymmetricEigen::new(h.clone())
+            .eigenvalues
+            .iter()
+            .copied()
+            .collect();
+        v.sort_by(f64::total_cmp);
+        v
+    }
+
+    /// The blocked reduction directly, at sizes around the panel width and crossover
+    /// (one panel, panel plus unblocked tail, several panels, ragged ends), against
+    /// nalgebra's general solver.
+    #[test]
+    fn dense_blocked_matches_general_solver() {
+        let mut rng = Rng(11);
+        for complex in [false, true] {
+            for s in [1, 2, 5, 33, 64, 65, 97, 130, 203] {
+                let h = random_hermitian(s, complex, &mut rng);
+                let want = oracle(&h);
+                for vectors in [Vectors::Skip, Vectors::Compute] {
+                    let (values, u) = if complex {
+                        let (v, u) = blocked::solve(h.as_slice().to_vec(), s, vectors).unwrap();
+                        (v, u.map(|u| DMatrix::from_fn(s, s, |i, j| u[(i, j)])))
+                    } else {
+                        let a = h.as_slice().iter().map(|z| z.re).collect();
+                        let (v, u) = blocked::solve(a, s, vectors).unwrap();
+                        (
+                            v,
+                            u.map(|u| DMatrix::from_fn(s, s, |i, j| real_to_c(u[(i, j)]))),
+                        )
+                    };
+                    let e = finish(
+                        values,
+                        u.map(|u| faer::Mat::from_fn(s, s, |i, j| u[(i, j)])),
+                        |z| z,
+                    );
+                    check(&h, &e, &want);
+                }
+            }
+        }
+    }
+
+    /// `eigh` above the blocked threshold: a spectrum known by construction (Householder
+    /// similarity of a diagonal matrix, with a 3-fold degenerate level), real and complex.
+    #[test]
+    fn dense_large_known_spectrum() {
+        let mut rng = Rng(5);
+        let s = BLOCKED_MIN + 45;
+        let mut d: Vec<f64> = (0..s).map(|k| (k as f64 * 0.37).sin() * 3.0).collect();
+        d[10] = 0.5;
+        d[20] = 0.5;
+        d[30] = 0.5;
+        let mut want = d.clone();
+        want.sort_by(f64::total_cmp);
+        for complex in [false, true] {
+            let h = known_spectrum(&d, complex, &mut rng);
+            for vectors in [Vectors::Skip, Vectors::Compute] {
+                let e = eigh(&h, vectors).unwrap();
+                check(&h, &e, &want);
+            }
+        }
+    }
+
+    /// Columns that are already reduced (zero below the subdiagonal, identity reflectors):
+    /// a diagonal matrix and a direct sum of two random blocks, above the blocked threshold.
+    #[test]
+    fn dense_large_already_reduced_columns() {
+        let mut rng = Rng(3);
+        let s = BLOCKED_MIN + 9;
+        let d: Vec<f64> = (0..s).map(|k| ((k * 7919) % 101) as f64 - 50.0).collect();
+        let diag = DMatrix::from_fn(s, s, |i, j| {
+            Complex64::new(if i == j { d[i] } else { 0.0 }, 0.0)
+        });
+        let mut want = d.clone();
+        want.sort_by(f64::total_cmp);
+        for vectors in [Vectors::Skip, Vectors::Compute] {
+            check(&diag, &eigh(&diag, vectors).unwrap(), &want);
+        }
+        for complex in [false, true] {
+            let (a, b) = (120, s - 120);
+            let ha = random_hermitian(a, complex, &mut rng);
+            let hb = random_hermitian(b, complex, &mut rng);
+            let mut h = DMatrix::zeros(s, s);
+            h.view_mut((0, 0), (a, a)).copy_from(&ha);
+            h.view_mut((a, a), (b, b)).copy_from(&hb);
+            let mut want = oracle(&ha);
+            want.extend(oracle(&hb));
+            want.sort_by(f64::total_cmp);
+            for vectors in [Vectors::Skip, Vectors::Compute] {
+                check(&h, &eigh(&h, vectors).unwrap(), &want);
+            }
+        }
     }
 }
