@@ -1,8 +1,11 @@
 //! Criterion benches of how the work scales (setup is never timed):
 //!
-//! * `dense_sector`: one dense Hermitian eigen-solve (values only) of the unsplit 3+1 Dirac
-//!   matrix, sizes 500, 1000, 2000 (and 4000 with `LADDERFAN_BENCH_4000=1`: minutes per sample
-//!   on a shared 2-core machine).
+//! * `dense_sector`: one dense Hermitian eigen-solve of the unsplit 3+1 Dirac matrix (real
+//!   symmetric: `real_*`) and of its unitary similarity D H D^H with D = diag(exp(i phi_k))
+//!   (complex Hermitian, same spectrum: `complex_*`), values only (`*_values`) and with
+//!   eigenvectors (`*_vectors`), sizes 500, 1000, 2000 (and 4000 with `LADDERFAN_BENCH_4000=1`:
+//!   minutes per sample on a shared 2-core machine). `scripts/compare.sh` times the same
+//!   matrices against LAPACK.
 //! * `window`: the 20 levels nearest 1.01 m c^2 of the unsplit 3+1 Dirac band matrix (4N
 //!   states, half-bandwidth 7) by the shift-invert window solver, N = 1e4 and 1e5 (and 1e6
 //!   with `LADDERFAN_BENCH_1E6=1`: about a minute per sample).
@@ -20,6 +23,8 @@ use ladderfan::solve::banded::BandedHermitian;
 use ladderfan::solve::dense::{self, Vectors};
 use ladderfan::solve::window;
 use ladderfan::{sweep, FieldPoint, Settings};
+use nalgebra::DMatrix;
+use num_complex::Complex64;
 use std::hint::black_box;
 use std::time::Duration;
 
@@ -28,6 +33,20 @@ fn point() -> FieldPoint {
         field: 1e-3,
         kz: 0.05,
     }
+}
+
+/// D H D^H with D = diag(exp(i phi_k)), phi_k = 2 pi frac(k (sqrt5 - 1)/2): a unitary
+/// similarity of `h` (same spectrum) whose off-diagonal elements are genuinely complex, so
+/// the complex Hermitian path is timed (the same matrix as scripts/compare.py builds).
+fn with_phases(h: &DMatrix<Complex64>) -> DMatrix<Complex64> {
+    let s = h.nrows();
+    let d: Vec<Complex64> = (0..s)
+        .map(|k| {
+            let phi = ((k as f64) * 0.618_033_988_749_894_9).fract() * std::f64::consts::TAU;
+            Complex64::from_polar(1.0, phi)
+        })
+        .collect();
+    DMatrix::from_fn(s, s, |j, k| d[j] * h[(j, k)] * d[k].conj())
 }
 
 fn dense_sector(c: &mut Criterion) {
@@ -41,10 +60,16 @@ fn dense_sector(c: &mut Criterion) {
         sizes.push(4000);
     }
     for size in sizes {
-        let mat = h.dense(size / 4);
-        g.bench_with_input(BenchmarkId::new("eigh_values", size), &mat, |b, mat| {
-            b.iter(|| dense::eigh(black_box(mat), Vectors::Skip).expect("eigh"))
-        });
+        let real = h.dense(size / 4);
+        let complex = with_phases(&real);
+        for (kind, mat) in [("real", &real), ("complex", &complex)] {
+            for (what, vectors) in [("values", Vectors::Skip), ("vectors", Vectors::Compute)] {
+                let id = BenchmarkId::new(format!("{kind}_{what}"), size);
+                g.bench_with_input(id, mat, |b, mat| {
+                    b.iter(|| dense::eigh(black_box(mat), vectors).expect("eigh"))
+                });
+            }
+        }
     }
     g.finish();
 }

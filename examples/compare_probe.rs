@@ -5,7 +5,8 @@
 //!
 //! ```text
 //! compare_probe split N [--threads T] [--values FILE]   split sectors, labels and bounds
-//! compare_probe dense N [--threads T] [--values FILE] [--full]   one dense sector of 4N states
+//! compare_probe dense N [--threads T] [--values FILE] [--phases] [--vectors] [--full]
+//!                                                  one dense sector of 4N states
 //! compare_probe sweep P [--threads T] [--rounds R]   P-point sweep, 1 thread vs T, alternately
 //! compare_probe window N [--target E] [--count K] [--values FILE]   K levels nearest E (1.01)
 //!                                                  of the unsplit 4N-state band matrix
@@ -79,6 +80,51 @@ fn cpu_seconds() -> f64 {
     (tick(11) + tick(12)) / 100.0
 }
 
+/// Phase angle phi_k = 2 pi frac(k g), g = (sqrt 5 - 1)/2, of the diagonal unitary used to make
+/// the complex test matrix; `scripts/compare.py` computes the same numbers.
+fn phase(k: usize) -> f64 {
+    ((k as f64) * 0.618_033_988_749_894_9).fract() * std::f64::consts::TAU
+}
+
+/// H <- D H D^H with D = diag(exp(i phi_k)): element (j, k) gains exp(i (phi_j - phi_k)).
+/// A unitary similarity, so the spectrum is unchanged while the off-diagonal elements become
+/// genuinely complex.
+fn conjugate_by_phases(m: &mut nalgebra::DMatrix<num_complex::Complex64>) {
+    let s = m.nrows();
+    let d: Vec<num_complex::Complex64> = (0..s)
+        .map(|k| num_complex::Complex64::from_polar(1.0, phase(k)))
+        .collect();
+    for k in 0..s {
+        for j in 0..s {
+            m[(j, k)] = d[j] * m[(j, k)] * d[k].conj();
+        }
+    }
+}
+
+/// Backward-error check of an eigen-decomposition (not timed): returns
+/// (||H V - V diag(lambda)||_F / ||H||_F, ||V^H V - 1||_F / sqrt(s)), products by faer.
+fn residuals(
+    h: &nalgebra::DMatrix<num_complex::Complex64>,
+    values: &[f64],
+    v: &nalgebra::DMatrix<num_complex::Complex64>,
+) -> (f64, f64) {
+    use faer::c64;
+    let s = h.nrows();
+    let hf = faer::Mat::<c64>::from_fn(s, s, |i, j| c64::new(h[(i, j)].re, h[(i, j)].im));
+    let vf = faer::Mat::<c64>::from_fn(s, s, |i, j| c64::new(v[(i, j)].re, v[(i, j)].im));
+    let mut r = &hf * &vf;
+    for j in 0..s {
+        for i in 0..s {
+            r[(i, j)] -= vf[(i, j)] * values[j];
+        }
+    }
+    let mut g = vf.adjoint() * &vf;
+    for i in 0..s {
+        g[(i, i)] -= c64::new(1.0, 0.0);
+    }
+    (r.norm_l2() / hf.norm_l2(), g.norm_l2() / (s as f64).sqrt())
+}
+
 fn main() {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let (path, n) = match (
@@ -127,19 +173,48 @@ fn main() {
             })
         }
         "dense" => {
+            // the unsplit 4N x 4N matrix (real symmetric), or with `--phases` the complex
+            // Hermitian D H D^H, D = diag(exp(i phi_k)) (same spectrum, no zero imaginary part)
             let h = LadderHamiltonian::assemble(&model, POINT, 0.0)
                 .unwrap_or_else(|e| fail(&e.to_string()));
-            let m = h.dense(n);
-            let (t_eigh, reps_eigh, eig) = timed(|| {
-                dense::eigh(&m, dense::Vectors::Skip).unwrap_or_else(|e| fail(&e.to_string()))
-            });
+            let mut m = h.dense(n);
+            let complex = args.iter().any(|a| a == "--phases");
+            if complex {
+                conjugate_by_phases(&mut m);
+            }
+            let vectors = if args.iter().any(|a| a == "--vectors") {
+                dense::Vectors::Compute
+            } else {
+                dense::Vectors::Skip
+            };
+            let (c0, w0) = (cpu_seconds(), Instant::now());
+            let (t_eigh, reps_eigh, eig) =
+                timed(|| dense::eigh(&m, vectors).unwrap_or_else(|e| fail(&e.to_string())));
+            // CPU seconds per wall second over the timed runs: about 1 when single-threaded
+            let cpu_per_wall = (cpu_seconds() - c0) / w0.elapsed().as_secs_f64();
             write_values(values_path, &eig.values);
+            let what = match (complex, vectors) {
+                (false, dense::Vectors::Skip) => "solve::dense::eigh, real symmetric, values only",
+                (false, dense::Vectors::Compute) => {
+                    "solve::dense::eigh, real symmetric, values and vectors"
+                }
+                (true, dense::Vectors::Skip) => "solve::dense::eigh, complex Hermitian, values only",
+                (true, dense::Vectors::Compute) => {
+                    "solve::dense::eigh, complex Hermitian, values and vectors"
+                }
+            };
             let mut out = serde_json::json!({
                 "path": "dense", "cutoff": n, "size": 4 * n, "threads": threads,
-                "seconds": t_eigh, "repeats": reps_eigh,
-                "what": "solve::dense::eigh of the unsplit 4N x 4N matrix, values only",
-                "levels": eig.values.len(),
+                "seconds": t_eigh, "repeats": reps_eigh, "what": what,
+                "levels": eig.values.len(), "complex": complex,
+                "vectors": vectors == dense::Vectors::Compute,
+                "cpu_per_wall": cpu_per_wall,
             });
+            if let Some(v) = &eig.vectors {
+                let (res, orth) = residuals(&m, &eig.values, v);
+                out["residual"] = res.into();
+                out["orthogonality"] = orth.into();
+            }
             if args.iter().any(|a| a == "--full") {
                 let mut settings = Settings::with_cutoff(n);
                 settings.splitting = Splitting::Off;

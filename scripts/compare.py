@@ -14,6 +14,14 @@ conventions they restate): H = c alpha.k + beta m c^2 with alpha_i = sigma_x (x)
 beta = sigma_z (x) 1; Peierls substitution with s = sign(qB), l_B = 1/sqrt(|q B|):
 kx = (a + a^dag)/(sqrt2 l_B), ky = -i s (a - a^dag)/(sqrt2 l_B), <n-1|a|n> = sqrt(n).
 
+Dense sector cells (--dense-sizes, default 500,1000,2000,4000): the unsplit matrix at each
+size, real symmetric as built and complex Hermitian as D H D^H with the diagonal unitary
+D = diag(exp(i phi_k)), phi_k = 2 pi frac(k (sqrt5 - 1)/2) (same spectrum, which is checked),
+each values only (numpy.linalg.eigvalsh vs solve::dense::eigh Vectors::Skip) and with vectors
+(numpy.linalg.eigh vs Vectors::Compute, whose residual ||H V - V diag(lambda)||_F / ||H||_F and
+orthogonality ||V^H V - 1||_F / sqrt(size) the probe computes). The ratio printed is
+ladderfan time / LAPACK time (below 1.5 is the target of issue #6).
+
 Every case runs in its own process under GNU time (/usr/bin/time -v) for its peak resident
 memory. BLAS threads are pinned to 1 by compare.sh.
 """
@@ -65,6 +73,33 @@ def dirac_matrix(cutoff):
     if not np.array_equal(h, h.conj().T):
         raise SystemExit("compare.py: the numpy matrix is not Hermitian (formula error)")
     return h
+
+
+GOLDEN = 0.6180339887498949  # (sqrt 5 - 1)/2
+
+
+def phases(size):
+    """exp(i phi_k), phi_k = 2 pi frac(k g), g = (sqrt 5 - 1)/2: the diagonal unitary D of the
+    complex dense case (examples/compare_probe.rs `phase` computes the same angles)."""
+    import numpy as np
+
+    k = np.arange(size, dtype=float)
+    return np.exp(1j * (np.modf(k * GOLDEN)[0] * (2.0 * np.pi)))
+
+
+def complex_dirac(cutoff):
+    """D H D^H for the Dirac matrix H: a unitary similarity, so the same spectrum, with
+    genuinely complex off-diagonal elements (a complex Hermitian solve on both sides)."""
+    import numpy as np
+
+    h = dirac_matrix(cutoff)
+    d = phases(h.shape[0])
+    hc = (d[:, None] * h) * d.conj()[None, :]
+    # exactly Hermitian: the upper triangle mirrors the lower one that both solvers read
+    hc = np.tril(hc) + np.tril(hc, -1).conj().T
+    if not np.max(np.abs(hc.imag[np.tril_indices(len(d), -1)])) > 0.0:
+        raise SystemExit("compare.py: the complex matrix came out real (phase error)")
+    return np.ascontiguousarray(hc)
 
 
 def dirac_sparse(cutoff):
@@ -146,7 +181,7 @@ def worker(args):
                           "threads": 1, "build_seconds": build,
                           "what": "scipy.sparse.linalg.eigsh shift-invert (SuperLU), values"}))
         return
-    h = load_matrix(args, args.cutoff)
+    h = complex_dirac(args.cutoff) if args.phases else load_matrix(args, args.cutoff)
     if kind == "numpy-eigvalsh":
         t, reps, w = timed(lambda: np.linalg.eigvalsh(h))
         what = "numpy.linalg.eigvalsh (values only)"
@@ -196,6 +231,9 @@ def main():
                     help="binary whose `export` is checked against the numpy matrix")
     ap.add_argument("--matrix", help="MatrixMarket file of the split case's matrix (4N = 4000)")
     ap.add_argument("--quick", action="store_true", help="small sizes: a smoke test")
+    ap.add_argument("--dense-sizes",
+                    help="comma-separated dense sector sizes, multiples of 4 (default "
+                         "500,1000,2000,4000; with --quick 200,400)")
     ap.add_argument("--full", action="store_true",
                     help="also time the complete unsplit Spectrum::compute at 4N = 2000")
     ap.add_argument("--skip-window", action="store_true")
@@ -205,6 +243,7 @@ def main():
     ap.add_argument("--values", help=argparse.SUPPRESS)
     ap.add_argument("--target", type=float, default=1.01, help=argparse.SUPPRESS)
     ap.add_argument("--count", type=int, default=20, help=argparse.SUPPRESS)
+    ap.add_argument("--phases", action="store_true", help=argparse.SUPPRESS)
     args = ap.parse_args()
     if args.worker:
         return worker(args)
@@ -213,15 +252,23 @@ def main():
 
     env = dict(os.environ, OPENBLAS_NUM_THREADS="1", OMP_NUM_THREADS="1", MKL_NUM_THREADS="1")
     nproc = os.cpu_count()
-    split_n, dense_n = (100, 50) if args.quick else (1000, 500)
+    split_n = 100 if args.quick else 1000
+    if args.dense_sizes:
+        dense_sizes = [int(x) for x in args.dense_sizes.split(",") if x.strip()]
+    else:
+        dense_sizes = [200, 400] if args.quick else [500, 1000, 2000, 4000]
+    bad = [x for x in dense_sizes if x <= 0 or x % 4]
+    if bad:
+        raise SystemExit(f"compare.py: --dense-sizes {bad}: each size must be a positive "
+                         "multiple of 4 (4 components per orbital)")
     tmp = tempfile.mkdtemp(prefix="ladderfan-compare-")
     rows = []  # dicts: case, solver, threads, seconds, rss, values file
     eps = np.finfo(float).eps
 
-    def py(kind, cutoff):
-        vals = os.path.join(tmp, f"{kind}-{cutoff}.bin")
+    def py(kind, cutoff, extra=()):
+        vals = os.path.join(tmp, f"{kind}-{cutoff}{''.join(extra)}.bin")
         cmd = [sys.executable, os.path.abspath(__file__), "--worker", kind,
-               "--cutoff", str(cutoff), "--values", vals]
+               "--cutoff", str(cutoff), "--values", vals] + list(extra)
         if args.matrix and cutoff == split_n:
             cmd += ["--matrix", args.matrix]
         j, rss = run_measured(cmd, env)
@@ -236,7 +283,7 @@ def main():
         return dict(j, rss=rss, values=vals, solver="scipy-eigsh")
 
     def probe(path, cutoff, threads, extra=()):
-        vals = os.path.join(tmp, f"lf-{path}-{cutoff}-{threads}.bin")
+        vals = os.path.join(tmp, f"lf-{path}-{cutoff}-{threads}{''.join(extra)}.bin")
         cmd = [args.probe, path, str(cutoff), "--threads", str(threads), "--values", vals]
         j, rss = run_measured(cmd + list(extra), env)
         return dict(j, rss=rss, values=vals, solver=f"ladderfan {path}")
@@ -272,13 +319,21 @@ def main():
         probe("split", split_n, 1),
         probe("split", split_n, nproc),
     ]))
-    # 2. one dense sector of 4N = 4 dense_n (the unsplit matrix)
-    c2 = f"dense sector, 4N = {4 * dense_n}"
-    base2 = py("numpy-eigvalsh", dense_n)
-    cases.append((c2, base2, [
-        py("numpy-eigh", dense_n),
-        probe("dense", dense_n, 1, ["--full"] if args.full else []),
-    ]))
+    # 2. one dense sector (the unsplit matrix, real symmetric, and D H D^H, complex Hermitian)
+    #    per size, values only and with vectors: LAPACK (numpy) against solve::dense::eigh
+    dense_rows = []
+    for size in dense_sizes:
+        cutoff = size // 4
+        for kind, flags in (("real symmetric", []), ("complex Hermitian", ["--phases"])):
+            for mode, np_kind, vflags in (("values", "numpy-eigvalsh", []),
+                                          ("vectors", "numpy-eigh", ["--vectors"])):
+                lapack = py(np_kind, cutoff, flags)
+                extra = flags + vflags
+                if args.full and size == max(dense_sizes) and not flags and vflags:
+                    extra = extra + ["--full"]
+                mine = probe("dense", cutoff, 1, extra)
+                dense_rows.append({"size": size, "matrix": kind, "mode": mode,
+                                   "lapack": lapack, "ladderfan": mine})
 
     # 3. the window solver on the unsplit band matrix at N = 1e5 and 1e6: the `count` levels
     #    nearest `target`, against scipy's shift-invert eigsh and the split solver's spectrum
@@ -350,6 +405,55 @@ def main():
                                      repeats=r["full_repeats"],
                                      speedup_vs_first_row=ref["seconds"] / r["full_seconds"]))
 
+    # dense sectors: eigenvalues against LAPACK and against the real matrix's LAPACK spectrum
+    # (the complex matrix is a unitary similarity of the real one: same spectrum); with
+    # vectors also the probe's residual ||H V - V diag(lambda)||_F / ||H||_F and
+    # ||V^H V - 1||_F / sqrt(size)
+    dense_out = []
+    real_ref = {}
+    for d in dense_rows:
+        w_lapack = np.fromfile(d["lapack"]["values"], dtype="<f8")
+        w_mine = np.fromfile(d["ladderfan"]["values"], dtype="<f8")
+        if d["matrix"] == "real symmetric" and d["mode"] == "values":
+            real_ref[d["size"]] = w_lapack
+        hnorm = float(np.max(np.abs(w_lapack)))
+        tol = 10.0 * np.sqrt(d["size"]) * eps * hnorm
+        problems = []
+        dev = float(np.max(np.abs(w_mine - w_lapack))) if len(w_mine) == len(w_lapack) \
+            else float("nan")
+        if not dev <= tol:
+            problems.append(f"ladderfan vs LAPACK max |dE| = {dev:.3e} > tol {tol:.3e}")
+        ref = real_ref.get(d["size"])
+        dev_real = float(np.max(np.abs(w_lapack - ref))) if ref is not None else float("nan")
+        if ref is not None and not dev_real <= tol:
+            problems.append(f"LAPACK spectrum differs from the real matrix's by {dev_real:.3e}")
+        res = d["ladderfan"].get("residual")
+        orth = d["ladderfan"].get("orthogonality")
+        vec_tol = 10.0 * np.sqrt(d["size"]) * eps
+        if d["mode"] == "vectors" and not (res is not None and res <= vec_tol
+                                           and orth is not None and orth <= vec_tol):
+            problems.append(f"residual {res} / orthogonality {orth} above {vec_tol:.2e}")
+        for p_ in problems:
+            print(f"MISMATCH dense {d['size']} {d['matrix']} {d['mode']}: {p_}")
+        ok = ok and not problems
+        ratio = d["ladderfan"]["seconds"] / d["lapack"]["seconds"]
+        dense_out.append({
+            "size": d["size"], "matrix": d["matrix"], "mode": d["mode"],
+            "lapack_seconds": d["lapack"]["seconds"], "lapack_repeats": d["lapack"]["repeats"],
+            "lapack_what": d["lapack"]["what"],
+            "ladderfan_seconds": d["ladderfan"]["seconds"],
+            "ladderfan_repeats": d["ladderfan"]["repeats"],
+            "ratio_ladderfan_over_lapack": ratio, "within_1_5x": bool(ratio <= 1.5),
+            "max_dev_over_eps_norm": dev / (eps * hnorm),
+            "lapack_vs_real_spectrum_over_eps_norm": dev_real / (eps * hnorm),
+            "residual": res, "orthogonality": orth,
+            "ladderfan_cpu_per_wall": d["ladderfan"].get("cpu_per_wall"),
+            "lapack_rss_mib": d["lapack"]["rss"], "ladderfan_rss_mib": d["ladderfan"]["rss"],
+            "agrees": not problems,
+        })
+        if "full_seconds" in d["ladderfan"]:
+            dense_out[-1]["full_compute_seconds"] = d["ladderfan"]["full_seconds"]
+
     now = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
     load_avg = os.getloadavg() if hasattr(os, "getloadavg") else (float("nan"),) * 3
     print(f"# ladderfan vs numpy/scipy, {now}, nproc = {nproc}, "
@@ -372,6 +476,28 @@ def main():
           f"(independent arithmetic, same pools) speed-up {sw['control_speedup_median']:.2f}x; "
           f"peak RSS {sw_rss if sw_rss is None else round(sw_rss)} MiB")
     ok = ok and sw["identical_to_serial"]
+    if dense_out:
+        print()
+        print("Dense sector (unsplit 3+1 Dirac matrix; complex = D H D^H, D = diag(exp(i phi_k))): "
+              "numpy (LAPACK) vs solve::dense::eigh, one thread each")
+        print("| size | matrix | computes | LAPACK (s) | ladderfan (s) | ladderfan / LAPACK "
+              "| max abs dE / (eps norm) | residual | orthogonality | ladderfan CPU/wall "
+              "| peak RSS LAPACK / ladderfan (MiB) |")
+        print("|---:|---|---|---:|---:|---:|---:|---:|---:|---:|---:|")
+        fmt = lambda x: "n/a" if x is None else f"{x:.3g}"  # noqa: E731
+        for r in dense_out:
+            mark = "" if r["within_1_5x"] else " (> 1.5)"
+            print(f"| {r['size']} | {r['matrix']} | {r['mode']} | {r['lapack_seconds']:.4g} "
+                  f"| {r['ladderfan_seconds']:.4g} | {r['ratio_ladderfan_over_lapack']:.2f}{mark} "
+                  f"| {r['max_dev_over_eps_norm']:.3g} | {fmt(r['residual'])} "
+                  f"| {fmt(r['orthogonality'])} | {fmt(r['ladderfan_cpu_per_wall'])} "
+                  f"| {fmt(r['lapack_rss_mib'])} / {fmt(r['ladderfan_rss_mib'])} |")
+            if "full_compute_seconds" in r:
+                print(f"|  | (complete unsplit Spectrum::compute, vectors, bounds, labels) "
+                      f"| | | {r['full_compute_seconds']:.4g} | | | | | | |")
+        slow = [r for r in dense_out if not r["within_1_5x"]]
+        print(f"dense cells within 1.5x of LAPACK: {len(dense_out) - len(slow)} of "
+              f"{len(dense_out)}")
     if window_note:
         print(window_note)
     print("matrix:", matrix_check)
@@ -380,7 +506,8 @@ def main():
     if args.json:
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,
-                       "matrix_check": matrix_check, "sweep": sw, "rows": out_rows},
+                       "matrix_check": matrix_check, "sweep": sw, "rows": out_rows,
+                       "dense": dense_out},
                       f, indent=1)
     return 0 if ok else 1
 

@@ -1,9 +1,12 @@
 #!/usr/bin/env bash
 # Side-by-side timing of ladderfan against numpy/scipy on the same matrices, measured in one run.
 #
-# Usage: scripts/compare.sh [--quick] [--skip-window]
+# Usage: scripts/compare.sh [--quick] [--skip-window] [--dense-sizes 500,1000,2000,4000]
 #   --quick        smaller sizes (a smoke test of the script, not for the docs)
 #   --skip-window  do not time the window solver at N = 1e5 / 1e6 even if it exists
+#   --dense-sizes  dense sector sizes (multiples of 4; default 500,1000,2000,4000, with --quick
+#                  200,400): at each, real symmetric and complex Hermitian, values only and
+#                  with vectors, numpy (LAPACK) against solve::dense::eigh, ratio and residuals
 #
 # What it does:
 #  * creates a Python venv under target/compare-venv and installs numpy and scipy with pip;
