@@ -6,8 +6,20 @@
 //! * J mod m conserved, or no symmetry: m (or 1) dense sectors of size s ~ N d / m, O(s^3) each
 //!   ([`dense`]), or the window solver for sectors too large to diagonalise densely.
 //!
-//! Results do not depend on the thread count: each sector is solved independently and the
-//! results are concatenated in sector order before a stable sort by energy.
+//! * Collecting the levels: O(L log L) for L levels (a parallel sort of 16-byte integer keys,
+//!   energy then position), then one parallel gather of the levels and weights from the
+//!   per-chunk buffers, with the convergence flags set on the way. Each level is written twice
+//!   (chunk buffer, final array), about 2 x (96 + 8 d) bytes plus a 16-byte key.
+//!
+//! Measured (`examples/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels): on two
+//! free cores the whole split solve takes about 1.5x a single-threaded bare loop of 1e6
+//! fixed-size 4x4 complex solves; on one core about 2.9x, of which the sector eigen-solves are
+//! about a fifth, the rest building the sector matrices, residuals, leakage, labels and
+//! Kato-Temple bounds, and moving 4e6 levels through memory (page faults of fresh memory are a
+//! large share on a virtual machine).
+//!
+//! Results do not depend on the thread count: each sector is solved independently, and the
+//! sort key breaks energy ties by the position in sector order.
 
 pub mod banded;
 pub mod dense;
