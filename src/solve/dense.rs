@@ -857,25 +857,18 @@ mod blocked {
 mod tests {
     use super::*;
 
-    /// SplitMix64 (Steele, Lea and Flood, OOPSLA 2014), uniform in [-1, 1).
-    struct Rng(u64);
-    impl Rng {
-        fn next(&mut self) -> f64 {
-            self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
-            let mut z = self.0;
-            z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
-            z ^= z >> 31;
-            (z >> 11) as f64 / (1u64 << 53) as f64 * 2.0 - 1.0
-        }
-    }
+    use crate::solve::window::SplitMix as Rng;
 
     fn random_hermitian(s: usize, complex: bool, rng: &mut Rng) -> DMatrix<Complex64> {
         let mut h = DMatrix::zeros(s, s);
         for j in 0..s {
             for i in j..s {
-                let re = rng.next();
-                let im = if i == j || !complex { 0.0 } else { rng.next() };
+                let re = rng.uniform();
+                let im = if i == j || !complex {
+                    0.0
+                } else {
+                    rng.uniform()
+                };
                 h[(i, j)] = Complex64::new(re, im);
                 h[(j, i)] = Complex64::new(re, -im);
             }
@@ -888,7 +881,7 @@ mod tests {
     fn known_spectrum(d: &[f64], complex: bool, rng: &mut Rng) -> DMatrix<Complex64> {
         let s = d.len();
         let u: Vec<Complex64> = (0..s)
-            .map(|_| Complex64::new(rng.next(), if complex { rng.next() } else { 0.0 }))
+            .map(|_| Complex64::new(rng.uniform(), if complex { rng.uniform() } else { 0.0 }))
             .collect();
         let n2: f64 = u.iter().map(|z| z.norm_sqr()).sum();
         let p = DMatrix::from_fn(s, s, |i, j| {

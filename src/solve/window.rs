@@ -647,11 +647,13 @@ fn random_vector<T: Scalar>(n: usize, rng: &mut SplitMix) -> DVector<T> {
     })
 }
 
-/// SplitMix64 generator (Steele, Lea and Flood, OOPSLA 2014), for reproducible start vectors.
-struct SplitMix(u64);
+/// SplitMix64 generator (Steele, Lea and Flood, OOPSLA 2014), for reproducible start vectors
+/// (and the crate's own test matrices).
+pub(crate) struct SplitMix(pub(crate) u64);
 
 impl SplitMix {
-    fn uniform(&mut self) -> f64 {
+    /// Uniform in [-1, 1).
+    pub(crate) fn uniform(&mut self) -> f64 {
         self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
         let mut z = self.0;
         z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
