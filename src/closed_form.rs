@@ -586,7 +586,9 @@ pub fn tilted_dirac2d(
 /// As [`schrodinger`].
 ///
 /// # References
-/// Yu. A. Bychkov & E. I. Rashba, J. Phys. C 17, 6039 (1984) (from memory, not confirmed).
+/// Yu. A. Bychkov & E. I. Rashba, J. Phys. C 17, 6039 (1984) (the Landau levels; from memory,
+/// not confirmed); their companion letter, Yu. A. Bychkov & E. I. Rashba, JETP Lett. 39, 78
+/// (1984) [Pis'ma Zh. Eksp. Teor. Fiz. 39, 66], is confirmed by a published reference list.
 pub fn rashba(p: RashbaParams, point: FieldPoint, max_n: usize) -> Result<Vec<ExpectedLevel>> {
     check_point(point)?;
     let w = cyclotron_energy_mev(p.mass_ratio, point.field, p.charge);

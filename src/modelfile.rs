@@ -1443,7 +1443,7 @@ pub fn builtins() -> Vec<BuiltinInfo> {
             name: "rashba",
             summary: "two components, H = hbar^2 k^2/(2 m*) + alpha (ky sigma_x - kx sigma_y) + (g/2) mu_B B sigma_z",
             units: Units::Lab,
-            source: "Yu. A. Bychkov & E. I. Rashba, J. Phys. C 17, 6039 (1984) (from memory, not confirmed)",
+            source: "Yu. A. Bychkov & E. I. Rashba, J. Phys. C 17, 6039 (1984) (from memory, not confirmed); companion letter JETP Lett. 39, 78 (1984) (confirmed)",
             params: {
                 let d = catalogue::RashbaParams::default();
                 vec![
