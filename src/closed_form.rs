@@ -651,7 +651,9 @@ pub fn bilayer(p: BilayerParams, point: FieldPoint, max_n: usize) -> Result<Vec<
 /// Without Zeeman terms and for qB > 0 this is
 /// E_up(n) = C - 2 D n / l_B^2 + B / l_B^2 ± sqrt(2 n A^2/l_B^2 + (M - 2 B n / l_B^2 + D / l_B^2)^2),
 /// E_up(0) = C - M - (D - B)/l_B^2, E_down(0) = C + M - (D + B)/l_B^2, the form given by
-/// Konig et al. (J. Phys. Soc. Jpn. 77, 031007 (2008), from memory, not confirmed).
+/// Konig et al., J. Phys. Soc. Jpn. 77, 031007 (2008) (authors, title and DOI
+/// 10.1143/JPSJ.77.031007 confirmed from the arXiv record 0801.0901; that the form is printed
+/// there exactly as above is from memory; the tests check it against exact diagonalization).
 ///
 /// Quantum numbers: n, `s` = ±1 (0 for the unpaired levels), the block in the label.
 /// Multiplicity 1. meV.
@@ -660,8 +662,10 @@ pub fn bilayer(p: BilayerParams, point: FieldPoint, max_n: usize) -> Result<Vec<
 /// As [`schrodinger`].
 ///
 /// # References
-/// B. A. Bernevig, T. L. Hughes & S.-C. Zhang, Science 314, 1757 (2006); M. Konig et al.,
-/// J. Phys. Soc. Jpn. 77, 031007 (2008) (from memory, not confirmed).
+/// B. A. Bernevig, T. L. Hughes & S.-C. Zhang, Science 314, 1757 (2006) (DOI
+/// 10.1126/science.1133734, PubMed 17170299); M. Konig, H. Buhmann, L. W. Molenkamp,
+/// T. L. Hughes, C.-X. Liu, X.-L. Qi & S.-C. Zhang, "The Quantum Spin Hall Effect: Theory and
+/// Experiment", J. Phys. Soc. Jpn. 77, 031007 (2008) (DOI 10.1143/JPSJ.77.031007, arXiv:0801.0901).
 pub fn bhz(p: BhzParams, point: FieldPoint, max_n: usize) -> Result<Vec<ExpectedLevel>> {
     check_point(point)?;
     let lb = Units::Lab.magnetic_length(point.field, p.charge);
