@@ -9,6 +9,8 @@
 //! * [`optics`]: the velocity operator v = (1/hbar) dH/dk in ladder form, its matrix elements
 //!   between eigenvectors (linear x, y and circular sigma±), allowed transitions weighted by
 //!   occupation differences, the transition-energy fan against B.
+//! * [`volume`]: for 3D models, the kz sheets integrated over kz: DOS, carrier density and
+//!   Fermi level per unit volume, with a kz grid refined until it stops changing.
 //! * [`labels`]: track keys that follow levels across a sweep, <sigma_z>-like expectation
 //!   values, orbital content.
 //!
@@ -41,3 +43,4 @@ pub mod dos;
 pub mod filling;
 pub mod labels;
 pub mod optics;
+pub mod volume;
