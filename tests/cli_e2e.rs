@@ -1087,3 +1087,86 @@ fn every_builtin_fan_agrees_with_its_closed_form() {
         );
     }
 }
+
+#[test]
+fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
+    // Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983): below the first Landau level of a
+    // Weyl node only the chiral level is there, g3 = (eB/h) / (2 pi hbar v) per volume.
+    // CODATA 2018 constants (exact e, h); v = 3e5 m/s is the built-in default (invented).
+    let dir = scratch("dos3d");
+    let v = json(&[
+        "dos",
+        "--builtin",
+        "weyl",
+        "--field",
+        "10",
+        "--cutoff",
+        "200",
+        "--kz-integrate",
+        "--width",
+        "1",
+        "--emin",
+        "-10",
+        "--emax",
+        "10",
+        "--energy-points",
+        "21",
+        "--density-cm3",
+        "1e16",
+        "--json",
+    ]);
+    let vol = &v["volume"];
+    let eb_h = E_CHARGE * 10.0 / H_PLANCK; // m^-2
+    let hv = hbar() * 3.0e5 / MEV_J; // meV m
+    let plateau_cm3 = eb_h / (2.0 * std::f64::consts::PI * hv) * 1e-6; // 1/(meV cm^3)
+    let rows = vol["dos"].as_array().expect("dos rows");
+    assert_eq!(rows.len(), 21);
+    for row in rows {
+        let (e, g, n) = (f(&row[0]), f(&row[1]), f(&row[2]));
+        assert!(
+            (g / plateau_cm3 - 1.0).abs() < 1e-6,
+            "E = {e}: {g:e} vs {plateau_cm3:e}"
+        );
+        assert!(
+            (n - plateau_cm3 * e).abs() < 1e-6 * plateau_cm3 * 10.0,
+            "E = {e}: n = {n:e}"
+        );
+    }
+    let ef = f(&vol["fermi"]["fermi_energy"]);
+    assert!((ef - 1e16 / plateau_cm3).abs() < 1e-6, "Fermi level {ef}");
+    // files: the per-volume CSV with its units, next to the sheet CSV
+    let r = run(&[
+        "dos",
+        "--builtin",
+        "weyl",
+        "--field",
+        "10",
+        "--cutoff",
+        "200",
+        "--kz-integrate",
+        "--width",
+        "1",
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let csv = std::fs::read_to_string(dir.join("dos3d.csv")).unwrap();
+    assert!(csv.contains("energy_meV,dos_per_meV_per_cm3,density_from_neutrality_per_cm3"));
+    assert!(dir.join("dos3d.svg").exists());
+    // refusals: one line, exit 2
+    for args in [
+        &[
+            "dos",
+            "--builtin",
+            "weyl",
+            "--kz-integrate",
+            "--shape",
+            "lorentzian",
+        ][..],
+        &["dos", "--builtin", "dirac2d", "--kz-integrate"][..],
+    ] {
+        let r = run(args);
+        assert_eq!(r.code, 2, "{args:?}: {}", r.stdout);
+        assert_eq!(r.stderr.trim().lines().count(), 1, "{}", r.stderr);
+    }
+}

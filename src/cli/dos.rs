@@ -12,6 +12,7 @@ use ladderfan::observables::dos::{
 use ladderfan::observables::filling::{
     carrier_density, fermi_level, fermi_sweep, FermiSettings, FermiSolution, Neutrality, Occupation,
 };
+use ladderfan::observables::volume::{from_per_cm3, per_cm3, VolumeDensity, VolumeSettings};
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use serde::Serialize;
@@ -172,8 +173,52 @@ pub struct DosArgs {
     /// Points of the Fermi-level sweep.
     #[arg(long, default_value_t = 200)]
     pub points: usize,
+    /// 3D models: also integrate the kz sheets over kz, giving the DOS and carrier density per
+    /// unit volume on the same energy grid (Gaussian lines only).
+    #[arg(long)]
+    pub kz_integrate: bool,
+    /// Limit K of the kz integral (model wave-number unit); default: chosen so that no
+    /// converged level at ±K or ±2K comes near the energy grid.
+    #[arg(long, requires = "kz_integrate")]
+    pub kz_max: Option<f64>,
+    /// With --kz-integrate: the Fermi level for this 3D carrier density from neutrality, in
+    /// cm^-3 (negative: holes).
+    #[arg(long, allow_negative_numbers = true, requires = "kz_integrate")]
+    pub density_cm3: Option<f64>,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// The kz-integrated (per volume) part of the `dos` result.
+#[derive(Debug, Serialize)]
+pub struct VolumeJson {
+    /// Limit K of the kz integral, model wave-number unit.
+    pub kz_max: f64,
+    /// kz points solved (on [-K, K], or [0, K] for a spectrum even in kz).
+    pub kz_points: usize,
+    /// Whether the spectrum is even in kz.
+    pub even_in_kz: bool,
+    /// Largest change of the DOS between the last two kz grids, relative to its largest value.
+    pub quadrature_change: f64,
+    /// Temperature of the density column, K.
+    pub temperature_k: f64,
+    /// Neutrality energy the density is counted from (null: band empty at neutrality).
+    pub neutrality_energy: Option<f64>,
+    /// (energy, DOS per (energy unit cm^3), carrier density from neutrality in cm^-3).
+    pub dos: Vec<(f64, f64, f64)>,
+    /// The Fermi level for --density-cm3.
+    pub fermi: Option<VolumeFermiJson>,
+}
+
+/// Fermi level for a 3D density.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct VolumeFermiJson {
+    /// Carrier density from neutrality, cm^-3.
+    pub density_cm3: f64,
+    /// Fermi level relative to the reference energy.
+    pub fermi_energy: f64,
+    /// DOS there, 1/(energy unit cm^3).
+    pub dos_at_fermi_per_cm3: f64,
 }
 
 /// One Fermi-level point in the JSON result.
@@ -249,6 +294,8 @@ pub struct DosJson {
     pub fermi: Option<FermiJson>,
     /// Fermi level against field, when --b-max was given.
     pub fermi_sweep: Vec<FermiJson>,
+    /// Densities per unit volume, with --kz-integrate.
+    pub volume: Option<VolumeJson>,
 }
 
 fn spectrum(lm: &LoadedModel, point: FieldPoint, cutoff: usize, mem: u64) -> CliResult<Spectrum> {
@@ -325,6 +372,19 @@ pub fn run(a: &DosArgs) -> CliResult {
         s.memory_limit_mib = mem;
         sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
     }
+    let volume = if a.kz_integrate {
+        Some(volume_json(
+            a,
+            &lm,
+            r.field,
+            r.cutoff,
+            r.memory_limit_mib,
+            broadening,
+            (emin, emax),
+        )?)
+    } else {
+        None
+    };
     let json = DosJson {
         command: "dos",
         model: ModelJson::new(&lm),
@@ -347,6 +407,7 @@ pub fn run(a: &DosArgs) -> CliResult {
             .iter()
             .map(|p| FermiJson::new(u, &p.solution))
             .collect(),
+        volume,
     };
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
@@ -354,6 +415,10 @@ pub fn run(a: &DosArgs) -> CliResult {
         let neutrality = a.fermi.neutrality()?.resolve(&spec, &ld);
         files.add("dos.csv", dos_csv(&lm, &json, &ld, neutrality)?);
         files.add("dos.svg", dos_svg(&lm, &json)?);
+        if let Some(v) = &json.volume {
+            files.add("dos3d.csv", dos3d_csv(&lm, &json, v)?);
+            files.add("dos3d.svg", dos3d_svg(&lm, &json, v)?);
+        }
         if !sweep_points.is_empty() {
             files.add("fermi.csv", fermi_csv(&lm, &json)?);
             let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
@@ -409,11 +474,40 @@ fn summary(lm: &LoadedModel, j: &DosJson) -> String {
         fmt_num(j.dos.first().map(|p| p.0).unwrap_or(0.0), 6),
         fmt_num(j.dos.last().map(|p| p.0).unwrap_or(0.0), 6)
     ));
-    if lm.model.terms().iter().any(|t| t.monomial.kz > 0) {
-        s.push_str(&format!(
-            "a 3D model: densities are per area of the kz = {} sheet, not integrated over kz\n",
-            j.kz
-        ));
+    match &j.volume {
+        Some(v) => {
+            s.push_str(&format!(
+                "kz-integrated (per volume): kz limit {} {}, {} kz points{}, last grid change {:.1e} of the peak DOS\n",
+                fmt_num(v.kz_max, 6),
+                u.wavenumber_unit(),
+                v.kz_points,
+                if v.even_in_kz { " (spectrum even in kz: kz >= 0 solved)" } else { "" },
+                v.quadrature_change
+            ));
+            let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
+            s.push_str(&format!(
+                "  DOS per volume up to {} /({eu} cm^3) on the grid; density from neutrality {} to {} cm^-3 at {} K\n",
+                fmt_num(peak, 5),
+                fmt_num(v.dos.first().map(|p| p.2).unwrap_or(0.0), 5),
+                fmt_num(v.dos.last().map(|p| p.2).unwrap_or(0.0), 5),
+                v.temperature_k
+            ));
+            if let Some(f) = &v.fermi {
+                s.push_str(&format!(
+                    "  density {} cm^-3: Fermi level {} {eu}, DOS there {} /({eu} cm^3)\n",
+                    fmt_num(f.density_cm3, 6),
+                    fmt_num(f.fermi_energy, 8),
+                    fmt_num(f.dos_at_fermi_per_cm3, 5)
+                ));
+            }
+        }
+        None if lm.model.terms().iter().any(|t| t.monomial.kz > 0) => {
+            s.push_str(&format!(
+                "a 3D model: densities are per area of the kz = {} sheet (add --kz-integrate for per volume)\n",
+                j.kz
+            ));
+        }
+        None => {}
     }
     if let Some(f) = &j.fermi {
         s.push_str(&format!(
@@ -546,6 +640,145 @@ fn dos_svg(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
         title: format!("Density of states: {}", lm.model.name()),
         x_label: format!("E [{eu}]"),
         y_label: format!("DOS [1e{p} / ({eu} cm^2)]"),
+        curves,
+        y_range: None,
+        notes,
+    })?)
+}
+
+/// The kz-integrated densities on the DOS energy grid, and the 3D Fermi level if asked for.
+fn volume_json(
+    a: &DosArgs,
+    lm: &LoadedModel,
+    field: f64,
+    cutoff: usize,
+    mem: u64,
+    broadening: Broadening,
+    range: (f64, f64),
+) -> CliResult<VolumeJson> {
+    let u = lm.model.units();
+    let mut vs = VolumeSettings::new(broadening, range);
+    vs.temperature_k = a.fermi.temperature()?;
+    vs.neutrality = a.fermi.neutrality()?;
+    vs.kz_max = match a.kz_max {
+        Some(k) => Some(common::finite_flag("--kz-max", k)?),
+        None => None,
+    };
+    let mut s = Settings::with_cutoff(cutoff);
+    s.memory_limit_mib = mem;
+    let v = VolumeDensity::compute(&lm.model, field, &s, &vs)?;
+    let curve = v.curve(range.0, range.1, a.energy_points)?;
+    let peak = curve.iter().map(|p| p.1).fold(0.0, f64::max);
+    let fermi = match a.density_cm3 {
+        Some(n) => {
+            let n = common::finite_flag("--density-cm3", n)?;
+            let ef = v.fermi_level(from_per_cm3(u, n))?;
+            Some(VolumeFermiJson {
+                density_cm3: n,
+                fermi_energy: ef,
+                dos_at_fermi_per_cm3: per_cm3(u, v.dos(ef)),
+            })
+        }
+        None => None,
+    };
+    Ok(VolumeJson {
+        kz_max: v.kz_max,
+        kz_points: v.kz.len(),
+        even_in_kz: v.even_in_kz,
+        quadrature_change: v.quadrature_error / peak.max(f64::MIN_POSITIVE),
+        temperature_k: vs.temperature_k,
+        neutrality_energy: v.neutrality_energy,
+        dos: curve
+            .iter()
+            .map(|&(e, g)| (e, per_cm3(u, g), per_cm3(u, v.carrier_density(e))))
+            .collect(),
+        fermi,
+    })
+}
+
+fn dos3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let u = lm.model.units();
+    let header = csv_header(
+        lm,
+        "dos per volume (kz-integrated)",
+        &[
+            format!(
+                "field {} {}, cutoff {}, kz integrated over [{}, {}] {} with {} points (trapezoid, \
+                 last grid change {:e} of the peak DOS)",
+                j.field,
+                u.field_unit(),
+                j.cutoff,
+                -v.kz_max,
+                v.kz_max,
+                u.wavenumber_unit(),
+                v.kz_points,
+                v.quadrature_change
+            ),
+            format!(
+                "{:?} broadening width {:e} {eu}; only converged levels count",
+                j.shape, j.width
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+            format!(
+                "density_from_neutrality: at {} K with the chemical potential at E, counted from {}",
+                v.temperature_k,
+                v.neutrality_energy
+                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .unwrap_or_else(|| "an empty band".into())
+            ),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("energy_{eu}"),
+        format!("dos_per_{eu}_per_cm3"),
+        "density_from_neutrality_per_cm3".to_string(),
+    ]];
+    for &(e, g, n) in &v.dos {
+        rec.push(vec![format!("{e:e}"), format!("{g:e}"), format!("{n:e}")]);
+    }
+    csv_text(&header, &rec)
+}
+
+fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String> {
+    let eu = lm.model.units().energy_unit();
+    let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
+    let p = if peak > 0.0 {
+        peak.log10().floor()
+    } else {
+        0.0
+    };
+    let unit = 10f64.powf(p);
+    let mut notes = vec![format!(
+        "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
+        lm.model.name(),
+        j.field,
+        lm.model.units().field_unit(),
+        j.shape,
+        fmt_num(j.width, 4),
+        v.kz_points
+    )];
+    let mut curves = vec![Curve {
+        color_key: 1,
+        stroke: Stroke::Solid,
+        points: v.dos.iter().map(|&(e, g, _)| (e, g / unit)).collect(),
+    }];
+    if let Some(f) = &v.fermi {
+        curves.push(Curve {
+            color_key: 0,
+            stroke: Stroke::Dashed,
+            points: vec![(f.fermi_energy, 0.0), (f.fermi_energy, peak / unit)],
+        });
+        notes.push(format!(
+            "dashed: Fermi level {} {eu} (n = {} cm^-3)",
+            fmt_num(f.fermi_energy, 6),
+            fmt_num(f.density_cm3, 4)
+        ));
+    }
+    Ok(line_plot(&LinePlot {
+        title: format!("Density of states per volume: {}", lm.model.name()),
+        x_label: format!("E [{eu}]"),
+        y_label: format!("DOS [1e{p} / ({eu} cm^3)]"),
         curves,
         y_range: None,
         notes,
