@@ -1094,7 +1094,7 @@ fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
     // Weyl node only the chiral level is there, g3 = (eB/h) / (2 pi hbar v) per volume.
     // CODATA 2018 constants (exact e, h); v = 3e5 m/s is the built-in default (invented).
     let dir = scratch("dos3d");
-    let v = json(&[
+    let base = [
         "dos",
         "--builtin",
         "weyl",
@@ -1105,6 +1105,8 @@ fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
         "--kz-integrate",
         "--width",
         "1",
+    ];
+    let extra = [
         "--emin",
         "-10",
         "--emax",
@@ -1114,7 +1116,8 @@ fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
         "--density-cm3",
         "1e16",
         "--json",
-    ]);
+    ];
+    let v = json(&[&base[..], &extra[..]].concat());
     let vol = &v["volume"];
     let eb_h = E_CHARGE * 10.0 / H_PLANCK; // m^-2
     let hv = hbar() * 3.0e5 / MEV_J; // meV m
@@ -1135,20 +1138,7 @@ fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
     let ef = f(&vol["fermi"]["fermi_energy"]);
     assert!((ef - 1e16 / plateau_cm3).abs() < 1e-6, "Fermi level {ef}");
     // files: the per-volume CSV with its units, next to the sheet CSV
-    let r = run(&[
-        "dos",
-        "--builtin",
-        "weyl",
-        "--field",
-        "10",
-        "--cutoff",
-        "200",
-        "--kz-integrate",
-        "--width",
-        "1",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
+    let r = run(&[&base[..], &["--out", dir.to_str().unwrap()][..]].concat());
     assert_eq!(r.code, 0, "{}", r.stderr);
     let csv = std::fs::read_to_string(dir.join("dos3d.csv")).unwrap();
     assert!(csv.contains("energy_meV,dos_per_meV_per_cm3,density_from_neutrality_per_cm3"));

@@ -600,7 +600,7 @@ fn dos_csv(
 
 fn dos_svg(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
     let eu = lm.model.units().energy_unit();
-    let mut notes = vec![format!(
+    let note = format!(
         "{}, {} {}; {:?} width {} {eu}; {} converged levels",
         lm.model.name(),
         j.field,
@@ -608,38 +608,64 @@ fn dos_svg(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
         j.shape,
         fmt_num(j.width, 4),
         j.levels_used
-    )];
-    // plot in units of 10^p so that the axis labels stay short
-    let peak = j.dos.iter().map(|p| p.1).fold(0.0, f64::max);
+    );
+    let fermi = j.fermi.as_ref().map(|f| {
+        (
+            f.fermi_energy,
+            format!(
+                "dashed: Fermi level {} {eu} (nu = {}, n = {} cm^-2)",
+                fmt_num(f.fermi_energy, 6),
+                fmt_num(f.filling_factor, 4),
+                fmt_num(f.density_cm2, 4)
+            ),
+        )
+    });
+    dos_plot(
+        lm,
+        format!("Density of states: {}", lm.model.name()),
+        "cm^2",
+        &j.dos,
+        fermi,
+        note,
+    )
+}
+
+/// A DOS curve against energy, scaled by a power of ten so that the axis labels stay short,
+/// with an optional dashed Fermi level.
+fn dos_plot(
+    lm: &LoadedModel,
+    title: String,
+    per: &str,
+    dos: &[(f64, f64)],
+    fermi: Option<(f64, String)>,
+    note: String,
+) -> CliResult<String> {
+    let eu = lm.model.units().energy_unit();
+    let peak = dos.iter().map(|p| p.1).fold(0.0, f64::max);
     let p = if peak > 0.0 {
         peak.log10().floor()
     } else {
         0.0
     };
     let unit = 10f64.powf(p);
+    let mut notes = vec![note];
     let mut curves = vec![Curve {
         color_key: 1,
         stroke: Stroke::Solid,
-        points: j.dos.iter().map(|&(e, g)| (e, g / unit)).collect(),
+        points: dos.iter().map(|&(e, g)| (e, g / unit)).collect(),
     }];
-    if let Some(f) = &j.fermi {
-        let top = peak / unit;
+    if let Some((ef, text)) = fermi {
         curves.push(Curve {
             color_key: 0,
             stroke: Stroke::Dashed,
-            points: vec![(f.fermi_energy, 0.0), (f.fermi_energy, top)],
+            points: vec![(ef, 0.0), (ef, peak / unit)],
         });
-        notes.push(format!(
-            "dashed: Fermi level {} {eu} (nu = {}, n = {} cm^-2)",
-            fmt_num(f.fermi_energy, 6),
-            fmt_num(f.filling_factor, 4),
-            fmt_num(f.density_cm2, 4)
-        ));
+        notes.push(text);
     }
     Ok(line_plot(&LinePlot {
-        title: format!("Density of states: {}", lm.model.name()),
+        title,
         x_label: format!("E [{eu}]"),
-        y_label: format!("DOS [1e{p} / ({eu} cm^2)]"),
+        y_label: format!("DOS [1e{p} / ({eu} {per})]"),
         curves,
         y_range: None,
         notes,
@@ -742,14 +768,7 @@ fn dos3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String>
 
 fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String> {
     let eu = lm.model.units().energy_unit();
-    let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
-    let p = if peak > 0.0 {
-        peak.log10().floor()
-    } else {
-        0.0
-    };
-    let unit = 10f64.powf(p);
-    let mut notes = vec![format!(
+    let note = format!(
         "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
         lm.model.name(),
         j.field,
@@ -757,32 +776,26 @@ fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String>
         j.shape,
         fmt_num(j.width, 4),
         v.kz_points
-    )];
-    let mut curves = vec![Curve {
-        color_key: 1,
-        stroke: Stroke::Solid,
-        points: v.dos.iter().map(|&(e, g, _)| (e, g / unit)).collect(),
-    }];
-    if let Some(f) = &v.fermi {
-        curves.push(Curve {
-            color_key: 0,
-            stroke: Stroke::Dashed,
-            points: vec![(f.fermi_energy, 0.0), (f.fermi_energy, peak / unit)],
-        });
-        notes.push(format!(
-            "dashed: Fermi level {} {eu} (n = {} cm^-3)",
-            fmt_num(f.fermi_energy, 6),
-            fmt_num(f.density_cm3, 4)
-        ));
-    }
-    Ok(line_plot(&LinePlot {
-        title: format!("Density of states per volume: {}", lm.model.name()),
-        x_label: format!("E [{eu}]"),
-        y_label: format!("DOS [1e{p} / ({eu} cm^3)]"),
-        curves,
-        y_range: None,
-        notes,
-    })?)
+    );
+    let fermi = v.fermi.as_ref().map(|f| {
+        (
+            f.fermi_energy,
+            format!(
+                "dashed: Fermi level {} {eu} (n = {} cm^-3)",
+                fmt_num(f.fermi_energy, 6),
+                fmt_num(f.density_cm3, 4)
+            ),
+        )
+    });
+    let dos: Vec<(f64, f64)> = v.dos.iter().map(|&(e, g, _)| (e, g)).collect();
+    dos_plot(
+        lm,
+        format!("Density of states per volume: {}", lm.model.name()),
+        "cm^3",
+        &dos,
+        fermi,
+        note,
+    )
 }
 
 fn fermi_csv(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
