@@ -53,6 +53,19 @@ pub fn thermal_energy(units: Units, temperature_k: f64) -> f64 {
     }
 }
 
+/// A temperature in kelvin must be finite and not negative.
+pub(crate) fn check_temperature(t: f64) -> Result<()> {
+    if t.is_finite() && t >= 0.0 {
+        Ok(())
+    } else {
+        Err(Error::BadNumber {
+            name: "temperature (K)".into(),
+            value: t,
+            fix: "give a temperature in kelvin, 0 or positive".into(),
+        })
+    }
+}
+
 /// Where the carrier density is counted from.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Default)]
 pub enum Neutrality {
@@ -281,13 +294,7 @@ pub fn fermi_level(
     settings: &FermiSettings,
 ) -> Result<FermiSolution> {
     let t = settings.temperature_k;
-    if !(t.is_finite() && t >= 0.0) {
-        return Err(Error::BadNumber {
-            name: "temperature (K)".into(),
-            value: t,
-            fix: "give a temperature in kelvin, 0 or positive".into(),
-        });
-    }
+    check_temperature(t)?;
     let target = settings.carrier_density;
     if !target.is_finite() {
         return Err(Error::BadNumber {

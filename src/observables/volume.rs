@@ -57,7 +57,7 @@
 //! ```
 
 use super::dos::{bounded_below, landau_degeneracy_per_area, Broadening, LineShape};
-use super::filling::{thermal_energy, Neutrality, Occupation};
+use super::filling::{check_temperature, thermal_energy, Neutrality, Occupation};
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
@@ -291,13 +291,7 @@ impl VolumeDensity {
             });
         }
         let t = vs.temperature_k;
-        if !(t.is_finite() && t >= 0.0) {
-            return Err(Error::BadNumber {
-                name: "temperature (K)".into(),
-                value: t,
-                fix: "give a temperature in kelvin, 0 or positive".into(),
-            });
-        }
+        check_temperature(t)?;
         if !(vs.tolerance.is_finite() && vs.tolerance > 0.0 && vs.tolerance < 1.0) {
             return Err(Error::BadNumber {
                 name: "kz quadrature tolerance".into(),
