@@ -1143,6 +1143,37 @@ fn dos_kz_integrate_gives_the_weyl_chiral_plateau_per_volume() {
     let csv = std::fs::read_to_string(dir.join("dos3d.csv")).unwrap();
     assert!(csv.contains("energy_meV,dos_per_meV_per_cm3,density_from_neutrality_per_cm3"));
     assert!(dir.join("dos3d.svg").exists());
+    // the 3D Fermi level against B at fixed density: E_F B constant in the quantum limit
+    let sweep = json(
+        &[
+            &base[..],
+            &[
+                "--emin",
+                "-20",
+                "--emax",
+                "20",
+                "--density-cm3",
+                "1e16",
+                "--b-min",
+                "5",
+                "--b-max",
+                "10",
+                "--points",
+                "3",
+                "--json",
+            ][..],
+        ]
+        .concat(),
+    );
+    let pts = sweep["volume"]["fermi_sweep"].as_array().expect("sweep");
+    assert_eq!(pts.len(), 3);
+    for p in pts {
+        let (b, ef) = (f(&p["field"]), f(&p["fermi_energy"]));
+        assert!(
+            (ef * b / (1e16 / plateau_cm3 * 10.0) - 1.0).abs() < 1e-6,
+            "B = {b}: {ef}"
+        );
+    }
     // refusals: one line, exit 2
     for args in [
         &[

@@ -3,7 +3,9 @@
 
 use ladderfan::builtin::{self, MassParams, WeylParams};
 use ladderfan::observables::dos::{landau_degeneracy_per_area, Broadening};
-use ladderfan::observables::volume::{from_per_cm3, per_cm3, VolumeDensity, VolumeSettings};
+use ladderfan::observables::volume::{
+    fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
+};
 use ladderfan::units::{Units, ELEMENTARY_CHARGE, HBAR, HBAR2_OVER_2ME_MEV_NM2, MEV};
 use ladderfan::{Error, Settings};
 use std::f64::consts::PI;
@@ -205,4 +207,30 @@ fn refusals_say_what_to_change() {
         v.fermi_level(1e9).is_err(),
         "more carriers than the range holds"
     );
+}
+
+#[test]
+fn weyl_quantum_limit_fermi_level_falls_as_one_over_the_field() {
+    // In the quantum limit only the chiral level holds carriers (Nielsen & Ninomiya 1983):
+    // n3 = (eB/h) E_F / (2 pi hbar v), so E_F B is constant at fixed density.
+    let p = WeylParams::default(); // v = 3e5 m/s (invented)
+    let m = builtin::weyl(p).unwrap();
+    let vs = VolumeSettings::new(Broadening::gaussian(1.0), (-20.0, 20.0));
+    let hv = ladderfan::units::hbar_v_mev_nm(p.velocity_m_per_s);
+    let n3 = 1e-5; // 1/nm^3 = 1e16 cm^-3 (invented)
+    let fields = [5.0, 6.5, 8.0, 10.0];
+    let pts = fermi_sweep(&m, &fields, &Settings::with_cutoff(200), &vs, n3).unwrap();
+    assert_eq!(pts.len(), fields.len());
+    for p in &pts {
+        let expected = n3 * 2.0 * PI * hv / landau_degeneracy_per_area(Units::Lab, p.field, -1.0);
+        assert!(
+            (p.fermi_energy / expected - 1.0).abs() < 1e-7,
+            "B = {}: E_F = {} vs {expected}",
+            p.field,
+            p.fermi_energy
+        );
+    }
+    // a density whose Fermi level leaves the range at the lowest field is refused, naming it
+    let err = fermi_sweep(&m, &[1.0, 10.0], &Settings::with_cutoff(200), &vs, 5e-5).unwrap_err();
+    assert!(err.to_string().contains("at field 1"), "{err}");
 }

@@ -12,7 +12,9 @@ use ladderfan::observables::dos::{
 use ladderfan::observables::filling::{
     carrier_density, fermi_level, fermi_sweep, FermiSettings, FermiSolution, Neutrality, Occupation,
 };
-use ladderfan::observables::volume::{from_per_cm3, per_cm3, VolumeDensity, VolumeSettings};
+use ladderfan::observables::volume::{
+    fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
+};
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use serde::Serialize;
@@ -164,8 +166,9 @@ pub struct DosArgs {
     /// Points of the DOS energy grid.
     #[arg(long, default_value_t = 2000)]
     pub energy_points: usize,
-    /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2.
-    #[arg(long, allow_negative_numbers = true, requires = "density_cm2")]
+    /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2 (or, with
+    /// --kz-integrate, at fixed --density-cm3).
+    #[arg(long, allow_negative_numbers = true)]
     pub b_max: Option<f64>,
     /// Lowest field of the Fermi-level sweep (default: a tenth of --b-max).
     #[arg(long, allow_negative_numbers = true, requires = "b_max")]
@@ -208,6 +211,21 @@ pub struct VolumeJson {
     pub dos: Vec<(f64, f64, f64)>,
     /// The Fermi level for --density-cm3.
     pub fermi: Option<VolumeFermiJson>,
+    /// The Fermi level for --density-cm3 against the field, with --b-max.
+    pub fermi_sweep: Vec<VolumeFermiSweepJson>,
+}
+
+/// One field of the 3D Fermi-level sweep.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct VolumeFermiSweepJson {
+    /// Field.
+    pub field: f64,
+    /// Fermi level relative to the reference energy.
+    pub fermi_energy: f64,
+    /// DOS there, 1/(energy unit cm^3).
+    pub dos_at_fermi_per_cm3: f64,
+    /// kz points needed at this field.
+    pub kz_points: usize,
 }
 
 /// Fermi level for a 3D density.
@@ -352,6 +370,7 @@ pub fn run(a: &DosArgs) -> CliResult {
         None => None,
     };
     let mut sweep_points = Vec::new();
+    let mut sweep_fields = None;
     if let Some(b_max) = a.b_max {
         let b_max = common::finite_flag("--b-max", b_max)?;
         let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
@@ -362,25 +381,34 @@ pub fn run(a: &DosArgs) -> CliResult {
                 "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
             ));
         }
-        let (cutoff, mem) = common::resolve_trunc(&lm, &a.solve.trunc, b_max)?;
-        let n = a.fermi.density(&lm, b_max)?.unwrap_or(0.0);
-        let pts: Vec<FieldPoint> = values
-            .iter()
-            .map(|&field| FieldPoint { field, kz: r.kz })
-            .collect();
-        let mut s = Settings::with_cutoff(cutoff);
-        s.memory_limit_mib = mem;
-        sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
+        let per_volume = a.kz_integrate && a.density_cm3.is_some();
+        if a.fermi.density_cm2.is_none() && !per_volume {
+            return Err(bad_flag(
+                "--b-max",
+                "a Fermi-level sweep needs a fixed density: --density-cm2, or --kz-integrate with --density-cm3",
+            ));
+        }
+        if a.fermi.density_cm2.is_some() {
+            let (cutoff, mem) = common::resolve_trunc(&lm, &a.solve.trunc, b_max)?;
+            let n = a.fermi.density(&lm, b_max)?.unwrap_or(0.0);
+            let pts: Vec<FieldPoint> = values
+                .iter()
+                .map(|&field| FieldPoint { field, kz: r.kz })
+                .collect();
+            let mut s = Settings::with_cutoff(cutoff);
+            s.memory_limit_mib = mem;
+            sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
+        }
+        sweep_fields = Some(values);
     }
     let volume = if a.kz_integrate {
         Some(volume_json(
             a,
             &lm,
-            r.field,
-            r.cutoff,
-            r.memory_limit_mib,
+            &r,
             broadening,
             (emin, emax),
+            sweep_fields.as_deref(),
         )?)
     } else {
         None
@@ -418,6 +446,9 @@ pub fn run(a: &DosArgs) -> CliResult {
         if let Some(v) = &json.volume {
             files.add("dos3d.csv", dos3d_csv(&lm, &json, v)?);
             files.add("dos3d.svg", dos3d_svg(&lm, &json, v)?);
+            if !v.fermi_sweep.is_empty() {
+                files.add("fermi3d.csv", fermi3d_csv(&lm, &json, v)?);
+            }
         }
         if !sweep_points.is_empty() {
             files.add("fermi.csv", fermi_csv(&lm, &json)?);
@@ -492,6 +523,17 @@ fn summary(lm: &LoadedModel, j: &DosJson) -> String {
                 fmt_num(v.dos.last().map(|p| p.2).unwrap_or(0.0), 5),
                 v.temperature_k
             ));
+            if let (Some(first), Some(last)) = (v.fermi_sweep.first(), v.fermi_sweep.last()) {
+                s.push_str(&format!(
+                    "  3D Fermi-level sweep: {} fields from {} to {} {}; E_F from {} to {} {eu}\n",
+                    v.fermi_sweep.len(),
+                    first.field,
+                    last.field,
+                    u.field_unit(),
+                    fmt_num(first.fermi_energy, 6),
+                    fmt_num(last.fermi_energy, 6)
+                ));
+            }
             if let Some(f) = &v.fermi {
                 s.push_str(&format!(
                     "  density {} cm^-3: Fermi level {} {eu}, DOS there {} /({eu} cm^3)\n",
@@ -676,11 +718,10 @@ fn dos_plot(
 fn volume_json(
     a: &DosArgs,
     lm: &LoadedModel,
-    field: f64,
-    cutoff: usize,
-    mem: u64,
+    r: &common::Resolved,
     broadening: Broadening,
     range: (f64, f64),
+    sweep_fields: Option<&[f64]>,
 ) -> CliResult<VolumeJson> {
     let u = lm.model.units();
     let mut vs = VolumeSettings::new(broadening, range);
@@ -690,9 +731,8 @@ fn volume_json(
         Some(k) => Some(common::finite_flag("--kz-max", k)?),
         None => None,
     };
-    let mut s = Settings::with_cutoff(cutoff);
-    s.memory_limit_mib = mem;
-    let v = VolumeDensity::compute(&lm.model, field, &s, &vs)?;
+    let s = r.settings();
+    let v = VolumeDensity::compute(&lm.model, r.field, &s, &vs)?;
     let curve = v.curve(range.0, range.1, a.energy_points)?;
     let peak = curve.iter().map(|p| p.1).fold(0.0, f64::max);
     let fermi = match a.density_cm3 {
@@ -707,7 +747,21 @@ fn volume_json(
         }
         None => None,
     };
+    let mut fermi_sweep = Vec::new();
+    if let (Some(n), Some(fields)) = (a.density_cm3, sweep_fields) {
+        let pts = volume_fermi_sweep(&lm.model, fields, &s, &vs, from_per_cm3(u, n))?;
+        fermi_sweep = pts
+            .iter()
+            .map(|p| VolumeFermiSweepJson {
+                field: p.field,
+                fermi_energy: p.fermi_energy,
+                dos_at_fermi_per_cm3: per_cm3(u, p.dos_at_fermi),
+                kz_points: p.kz_points,
+            })
+            .collect();
+    }
     Ok(VolumeJson {
+        fermi_sweep,
         kz_max: v.kz_max,
         kz_points: v.kz.len(),
         even_in_kz: v.even_in_kz,
@@ -796,6 +850,40 @@ fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String>
         fermi,
         note,
     )
+}
+
+fn fermi3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeJson) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let fu = lm.model.units().field_unit();
+    let header = csv_header(
+        lm,
+        "fermi level sweep per volume (kz-integrated)",
+        &[
+            format!(
+                "density {:e} cm^-3 from neutrality, {:?} broadening, temperature {} K, cutoff {}",
+                v.fermi.map(|f| f.density_cm3).unwrap_or(f64::NAN),
+                j.shape,
+                v.temperature_k,
+                j.cutoff
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("field_{fu}"),
+        format!("fermi_energy_{eu}"),
+        format!("dos_at_fermi_per_{eu}_per_cm3"),
+        "kz_points".to_string(),
+    ]];
+    for p in &v.fermi_sweep {
+        rec.push(vec![
+            format!("{:e}", p.field),
+            format!("{:e}", p.fermi_energy),
+            format!("{:e}", p.dos_at_fermi_per_cm3),
+            p.kz_points.to_string(),
+        ]);
+    }
+    csv_text(&header, &rec)
 }
 
 fn fermi_csv(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {

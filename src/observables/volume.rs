@@ -623,6 +623,74 @@ impl VolumeDensity {
     }
 }
 
+/// The 3D Fermi level at fixed carrier density against the field: one point per field.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VolumeFermiPoint {
+    /// Field in the model's field unit.
+    pub field: f64,
+    /// Fermi level relative to the reference energy.
+    pub fermi_energy: f64,
+    /// DOS per volume there, 1/(energy unit x length unit^3).
+    pub dos_at_fermi: f64,
+    /// kz points the integral needed at this field.
+    pub kz_points: usize,
+}
+
+/// The Fermi level for the carrier density `target` (1/(length unit)^3, from neutrality) at
+/// each of `fields`: the quantum oscillations of a 3D model at fixed density. Every field gets
+/// its own [`VolumeDensity`] over `vs.range` (the broadening's field scaling applies), so the
+/// Fermi level must stay inside that range at every field.
+///
+/// # Errors
+/// Those of [`VolumeDensity::compute`] and [`VolumeDensity::fermi_level`] at the first field
+/// that fails; the message names the field.
+///
+/// # Complexity
+/// One [`VolumeDensity::compute`] per field (the fields run one after another; each solves its
+/// kz points in parallel).
+pub fn fermi_sweep(
+    model: &Model,
+    fields: &[f64],
+    settings: &Settings,
+    vs: &VolumeSettings,
+    target: f64,
+) -> Result<Vec<VolumeFermiPoint>> {
+    fields
+        .iter()
+        .map(|&field| {
+            let at = |e: Error| at_field(e, field);
+            let v = VolumeDensity::compute(model, field, settings, vs).map_err(at)?;
+            let ef = v.fermi_level(target).map_err(at)?;
+            Ok(VolumeFermiPoint {
+                field,
+                fermi_energy: ef,
+                dos_at_fermi: v.dos(ef),
+                kz_points: v.kz.len(),
+            })
+        })
+        .collect()
+}
+
+/// The same error, naming the field of the sweep point where it happened.
+fn at_field(e: Error, field: f64) -> Error {
+    match e {
+        Error::BadNumber { name, value, fix } => Error::BadNumber {
+            name: format!("{name} at field {field}"),
+            value,
+            fix,
+        },
+        Error::NotConverged { tolerance, detail } => Error::NotConverged {
+            tolerance,
+            detail: format!("at field {field}: {detail}"),
+        },
+        Error::Numerical { stage, detail } => Error::Numerical {
+            stage: format!("{stage} at field {field}"),
+            detail,
+        },
+        other => other,
+    }
+}
+
 /// Reduce one spectrum to a sheet, after checking that its converged levels cover [lo, hi].
 fn sheet(
     s: &Spectrum,
