@@ -202,7 +202,10 @@ pub struct VolumeDensity {
     pub density_quadrature_error: f64,
     /// Cutoff used for every sheet.
     pub cutoff: usize,
+    #[serde(skip)]
     line: Line,
+    /// The reduced sheets (not serialised: one entry per kz point and level).
+    #[serde(skip)]
     sheets: Vec<Sheet>,
 }
 
