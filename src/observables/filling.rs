@@ -154,7 +154,7 @@ fn fermi_tail(u: f64) -> f64 {
 }
 
 /// Thermal window in units of kT beyond which 1/(e^u+1) < 5e-18.
-const THERMAL_REACH: f64 = 40.0;
+pub(crate) const THERMAL_REACH: f64 = 40.0;
 
 impl Occupation {
     /// Occupation o = int L(E - e_level) f(E - mu) dE of a level at `e_level`, between 0 and 1.

@@ -23,7 +23,8 @@
 //! uniform grid converges faster than any power of the step once the step resolves
 //! w / |dE/dkz|. The grid starts at 65 points on [-K, K] ([0, K] when the model has no odd
 //! power of kz, whose spectrum is then even in kz) and is halved until two successive grids
-//! agree in g3 and n3 on 401 check energies to `tolerance` relative to their largest values;
+//! agree on 401 check energies to `tolerance`: g3 relative to its largest value, n3 relative
+//! to its largest value or to that DOS times the width of the range, whichever is larger;
 //! that difference (the error of the coarser grid, an over-estimate of the finer one's) is
 //! reported as [`VolumeDensity::quadrature_error`].
 //!
@@ -56,14 +57,14 @@
 //! # Ok::<(), ladderfan::Error>(())
 //! ```
 
-use super::dos::{bounded_below, landau_degeneracy_per_area, Broadening, LineShape};
-use super::filling::{check_temperature, thermal_energy, Neutrality, Occupation};
+use super::dos::{bounded_below, landau_degeneracy_per_area, per_cm2, Broadening, LineShape};
+use super::filling::{check_temperature, thermal_energy, Neutrality, Occupation, THERMAL_REACH};
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
 use crate::model::Model;
 use crate::solve::Settings;
-use crate::units::{Units, ELECTRON_MASS, HBAR, SPEED_OF_LIGHT};
+use crate::units::Units;
 use serde::Serialize;
 use std::f64::consts::PI;
 
@@ -73,8 +74,6 @@ const FIRST_POINTS: usize = 65;
 const CHECK_ENERGIES: usize = 401;
 /// Doublings of K tried before giving up.
 const MAX_DOUBLINGS: usize = 60;
-/// Fermi-Dirac tail kept, in k_B T (e^-40 = 4e-18).
-const THERMAL_REACH: f64 = 40.0;
 
 /// What [`VolumeDensity::compute`] needs besides the model, the field and the solver settings.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -114,7 +113,7 @@ impl VolumeSettings {
 }
 
 /// One kz sheet reduced to what the densities need.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone)]
 struct Sheet {
     /// Converged levels within the active range, ascending: (energy, filled at neutrality:
     /// 0, 1/2 or 1).
@@ -210,7 +209,7 @@ pub struct VolumeDensity {
 }
 
 /// The line shape with its width and the distance beyond which it is negligible.
-#[derive(Debug, Clone, Copy, Serialize)]
+#[derive(Debug, Clone, Copy)]
 struct Line {
     broadening: Broadening,
     width: f64,
@@ -228,13 +227,8 @@ struct Line {
 /// assert_eq!(per_cm3(ladderfan::units::Units::Lab, 1.0), 1e21);
 /// ```
 pub fn per_cm3(units: Units, per_length3: f64) -> f64 {
-    match units {
-        Units::Lab => per_length3 * 1e21,
-        Units::Natural => {
-            let compton_cm = HBAR / (ELECTRON_MASS * SPEED_OF_LIGHT) * 100.0;
-            per_length3 / compton_cm.powi(3)
-        }
-    }
+    // per_cm2(units, 1) = 1 / (length unit in cm)^2
+    per_length3 * per_cm2(units, 1.0).powf(1.5)
 }
 
 /// Convert a density in cm^-3 into 1/(model length unit)^3 (the inverse of [`per_cm3`]).
