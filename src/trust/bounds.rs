@@ -49,7 +49,7 @@
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
 use crate::levels::{Level, Spectrum};
-use crate::trust::converge::is_cutoff_artefact;
+use crate::trust::converge::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
@@ -157,29 +157,48 @@ pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
         if edges == SectorEdges::Partial && (pos == 0 || pos == last) {
             continue;
         }
-        // only energy, bound and top weight of the neighbours are read, never kato_temple
-        let genuine = |j: &&usize| !is_cutoff_artefact(&levels[**j]);
-        let below = idx[..pos]
-            .iter()
-            .rev()
-            .find(genuine)
-            .map_or(f64::NEG_INFINITY, |&j| upper_edge(&levels[j]));
-        let above = idx[pos + 1..]
-            .iter()
-            .find(genuine)
-            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
         let li = &levels[i];
+        if stands_for_nothing(li) {
+            continue;
+        }
+        // the nearest eigenvalue of the truncated sector matrix on each side, artefacts
+        // included (only energy, bound and top weight are read, never kato_temple)
+        let below = pos
+            .checked_sub(1)
+            .map_or(f64::NEG_INFINITY, |p| upper_edge(&levels[idx[p]]));
+        let above = idx
+            .get(pos + 1)
+            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
         levels[i].kato_temple = kato_temple(li.bound, li.energy - below, above - li.energy)
             .map(|kt| kt + rounding_floor(li));
     }
 }
 
+/// Highest energy at which the level may stand for an eigenvalue of the sector: a genuine
+/// level's interval [E - b, E + b]; an artefact at its own energy (an eigenvalue of the
+/// truncated sector matrix), widened by its rounding.
 fn upper_edge(l: &Level) -> f64 {
-    l.energy + l.bound
+    l.energy + reach(l)
 }
 
+/// Lowest such energy (see [`upper_edge`]).
 fn lower_edge(l: &Level) -> f64 {
-    l.energy - l.bound
+    l.energy - reach(l)
+}
+
+/// Whether a level is taken as an eigenvalue of the truncated matrix only (a cutoff artefact by
+/// its top weight, or by its weight on the top quarter of the basis), not of the untruncated
+/// operator: it bounds a gap at its own energy instead of through its residual interval.
+fn stands_for_nothing(l: &Level) -> bool {
+    is_cutoff_artefact(l) || l.tail_weight >= ARTEFACT_TOP_WEIGHT
+}
+
+fn reach(l: &Level) -> f64 {
+    if stands_for_nothing(l) {
+        rounding_floor(l)
+    } else {
+        l.bound
+    }
 }
 
 /// The part of the error that the Kato-Temple argument does not square: the stored energy E

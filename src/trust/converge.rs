@@ -50,12 +50,13 @@ use std::time::Instant;
 /// Weight on the top `band` orbitals above which a level counts as a cutoff artefact.
 pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
 
-/// Whether a level is a cutoff artefact: most of its weight sits on the highest orbitals of
-/// the basis (an eigenvector of the untruncated operator would not notice where the basis
-/// ends). Unconverged genuine levels can also carry such weight; the bound, not this test,
-/// decides convergence.
+/// Whether a level is a cutoff artefact: most of its weight sits on the highest `band`
+/// orbitals of the basis (an eigenvector of the untruncated operator would not notice where
+/// the basis ends), or its state says so (an unconverged level with most of its weight on the
+/// top quarter of the basis, [`crate::levels::Convergence::CutoffArtefact`]).
 pub fn is_cutoff_artefact(level: &Level) -> bool {
     level.top_weight >= ARTEFACT_TOP_WEIGHT
+        || level.convergence == crate::levels::Convergence::CutoffArtefact
 }
 
 /// Which levels a study or the automatic cutoff follows.
