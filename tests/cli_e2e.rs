@@ -996,7 +996,8 @@ fn table_output_is_aligned_and_labelled() {
         "component",
         "energy [meV]",
         "bound [meV]",
-        "converged",
+        "from",
+        "state",
     ] {
         assert!(header.contains(col), "{col} missing: {header}");
     }

@@ -337,3 +337,162 @@ fn auto_count_13_converges_on_the_genuine_levels_only() {
         assert_eq!(l.convergence, Convergence::Converged, "{l:?}");
     }
 }
+
+/// The Dirac cone with warping (lam = 1000 meV nm^3, invented) as a model file.
+const WARPED_FILE: &str = r#"
+# invented parameters: two-band Dirac cone plus hexagonal warping
+name = "warped-cone"
+components = 2
+charge = -1
+units = "lab"
+[parameters]
+hv = 330.0
+lam = 1000.0
+[[term]]
+coefficient = "hv"
+matrix = "x"
+monomial = "ky"
+[[term]]
+coefficient = "-hv"
+matrix = "y"
+monomial = "kx"
+[[term]]
+coefficient = "lam"
+matrix = "z"
+monomial = "kx^3"
+[[term]]
+coefficient = "-3*lam"
+matrix = "z"
+monomial = "kx ky^2"
+"#;
+
+fn ladderfan_cli(dir: &std::path::Path, args: &[&str]) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ladderfan"))
+        .current_dir(dir)
+        .args(args)
+        .output()
+        .expect("run ladderfan");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn scratch_dir(name: &str) -> std::path::PathBuf {
+    let dir =
+        std::env::temp_dir().join(format!("ladderfan-identity-{name}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    std::fs::write(dir.join("warped.toml"), WARPED_FILE).unwrap();
+    dir
+}
+
+#[test]
+fn levels_default_table_at_n500_shows_genuine_levels_marked_and_hides_only_the_artefact() {
+    let dir = scratch_dir("levels");
+    let args = [
+        "levels",
+        "--model",
+        "warped.toml",
+        "--field",
+        "10",
+        "--cutoff",
+        "500",
+        "--count",
+        "15",
+    ];
+    let (code, out, err) = ladderfan_cli(&dir, &args);
+    assert_eq!(code, 0, "{err}");
+    let rows: Vec<&str> = out
+        .lines()
+        .skip_while(|l| !l.starts_with("sector"))
+        .skip(1)
+        .collect();
+    assert_eq!(rows.len(), 15, "{out}");
+    // energies of the 15 genuine levels nearest zero at N = 2000 (seen; the library test above
+    // checks them against the N = 2000 solve within both bounds)
+    for e in [
+        57.87496885,
+        82.31744411,
+        101.7388891,
+        118.886236,
+        134.8135847,
+        150.040514,
+    ] {
+        for sign in [-1.0, 1.0] {
+            let hit = rows.iter().any(|r| {
+                r.split_whitespace()
+                    .nth(3)
+                    .and_then(|x| x.parse::<f64>().ok())
+                    .is_some_and(|x| (x - sign * e).abs() < 1e-6 * e)
+            });
+            assert!(hit, "{} missing:\n{out}", sign * e);
+        }
+    }
+    assert!(rows.iter().all(|r| !r.contains("artefact")), "{out}");
+    assert!(rows
+        .iter()
+        .all(|r| r.ends_with("converged") || r.ends_with("not converged")));
+    assert!(
+        out.contains(" cutoff artefacts (artefacts hidden;"),
+        "{out}"
+    );
+    // --show-unconverged lists the artefact, marked
+    let mut all = args.to_vec();
+    all.push("--show-unconverged");
+    let (code, out, _) = ladderfan_cli(&dir, &all);
+    assert_eq!(code, 0);
+    assert_eq!(
+        out.lines().filter(|l| l.ends_with("artefact")).count(),
+        1,
+        "{out}"
+    );
+    // JSON and CSV carry both bounds, which one decided, and the state
+    let mut js = args.to_vec();
+    js.extend(["--json", "--out", "csv"]);
+    let (code, out, err) = ladderfan_cli(&dir, &js);
+    assert_eq!(code, 0, "{err}");
+    for key in [
+        "\"residual_bound\"",
+        "\"kato_temple_bound\"",
+        "\"bound_from\": \"kato_temple\"",
+        "\"state\": \"not_converged\"",
+        "\"state\": \"converged\"",
+        "\"levels_artefacts\"",
+    ] {
+        assert!(out.contains(key), "{key} missing");
+    }
+    let csv = std::fs::read_to_string(dir.join("csv/levels.csv")).unwrap();
+    let header = csv.lines().find(|l| l.starts_with("sector,")).unwrap();
+    assert!(
+        header.contains("residual_bound_meV,kato_temple_bound_meV,bound_from,state,converged"),
+        "{header}"
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn converge_cli_auto_count_13_terminates_with_the_genuine_levels_converged() {
+    let dir = scratch_dir("auto");
+    let (code, out, err) = ladderfan_cli(
+        &dir,
+        &[
+            "converge",
+            "--model",
+            "warped.toml",
+            "--field",
+            "10",
+            "--mode",
+            "auto",
+            "--count",
+            "13",
+            "--cutoff",
+            "250",
+        ],
+    );
+    assert_eq!(code, 0, "{err}\n{out}");
+    let rows: Vec<&str> = out.lines().filter(|l| l.ends_with("converged")).collect();
+    assert_eq!(rows.len(), 13, "{out}");
+    assert!(rows.iter().all(|r| !r.ends_with("not converged")), "{out}");
+    std::fs::remove_dir_all(&dir).ok();
+}
