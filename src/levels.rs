@@ -10,14 +10,15 @@ use serde::Serialize;
 /// [`crate::solve::flag_convergence`]).
 ///
 /// # Definition
-/// * [`Convergence::CutoffArtefact`]: weight >= 1/2 on the highest `band` orbitals of the basis
+/// * [`Convergence::Converged`]: the deciding bound ([`Level::deciding_bound`]) is at most
+///   tolerance x max(|E|, energy scale). The bound proves an eigenvalue of the untruncated
+///   operator that close, so a converged level is genuine.
+/// * [`Convergence::CutoffArtefact`]: not converged, and weight >= 1/2 on the highest `band`
+///   orbitals or on the top quarter of the basis
 ///   ([`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]): the eigenvector lives where the basis
-///   ends, so it stands for no eigenvalue of the untruncated operator.
-/// * [`Convergence::Converged`]: a genuine level whose deciding bound
-///   ([`Level::deciding_bound`]) is at most tolerance x max(|E|, energy scale).
-/// * [`Convergence::NotConverged`]: a genuine level whose deciding bound exceeds that: the
-///   energy is an eigenvalue estimate of a real level, but not yet to the tolerance; raise the
-///   cutoff.
+///   ends and stands for no eigenvalue of the untruncated operator.
+/// * [`Convergence::NotConverged`]: the rest: a genuine level whose deciding bound exceeds the
+///   tolerance; raise the cutoff.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Convergence {

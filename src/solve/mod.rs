@@ -881,10 +881,12 @@ pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Optio
     (!nonzero.is_empty()).then(|| nonzero[nonzero.len() / 2])
 }
 
-/// Set each level's state ([`Convergence`]): a cutoff artefact when its weight on the top
-/// orbitals is at least [`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]; else converged when
-/// its deciding bound ([`Level::deciding_bound`]: certified Kato-Temple when sharper, else
-/// residual) is at most tolerance x max(|E|, scale); else genuine but not converged.
+/// Set each level's state ([`Convergence`]): converged when its deciding bound
+/// ([`Level::deciding_bound`]: certified Kato-Temple when sharper, else residual) is at most
+/// tolerance x max(|E|, scale) (the bound itself proves the level genuine); else a cutoff
+/// artefact when its weight on the top `band` orbitals, or on the top quarter of the basis,
+/// is at least [`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]; else genuine but not
+/// converged.
 pub fn flag_convergence(s: &mut Spectrum) {
     let (tol, scale) = (s.tolerance, s.energy_scale);
     for l in &mut s.levels {
@@ -896,12 +898,14 @@ pub fn flag_convergence(s: &mut Spectrum) {
 const TAIL_DENOMINATOR: usize = 4;
 
 fn convergence_of(l: &Level, tolerance: f64, scale: f64) -> Convergence {
-    use crate::trust::converge::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
-    let converged = l.deciding_bound().0 <= tolerance * l.energy.abs().max(scale);
-    if is_cutoff_artefact(l) || (!converged && l.tail_weight >= ARTEFACT_TOP_WEIGHT) {
-        Convergence::CutoffArtefact
-    } else if converged {
+    use crate::trust::converge::ARTEFACT_TOP_WEIGHT;
+    // a bound below the tolerance proves an eigenvalue of the untruncated operator that close:
+    // such a level is genuine whatever its weights (the top sector of an exact-J model can
+    // hold exact eigenvectors with half their weight on the top orbital)
+    if l.deciding_bound().0 <= tolerance * l.energy.abs().max(scale) {
         Convergence::Converged
+    } else if l.top_weight >= ARTEFACT_TOP_WEIGHT || l.tail_weight >= ARTEFACT_TOP_WEIGHT {
+        Convergence::CutoffArtefact
     } else {
         Convergence::NotConverged
     }

@@ -55,13 +55,18 @@ use std::time::Instant;
 /// Weight on the top `band` orbitals above which a level counts as a cutoff artefact.
 pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
 
-/// Whether a level is a cutoff artefact: most of its weight sits on the highest `band`
-/// orbitals of the basis (an eigenvector of the untruncated operator would not notice where
-/// the basis ends), or its state says so (an unconverged level with most of its weight on the
-/// top quarter of the basis, [`crate::levels::Convergence::CutoffArtefact`]).
+/// Whether a level is a cutoff artefact: its state says so
+/// ([`crate::levels::Convergence::CutoffArtefact`]), or, for a level not flagged converged,
+/// most of its weight sits on the highest `band` orbitals of the basis (an eigenvector of the
+/// untruncated operator would not notice where the basis ends). A converged level never is:
+/// its bound proves an eigenvalue of the untruncated operator.
 pub fn is_cutoff_artefact(level: &Level) -> bool {
-    level.top_weight >= ARTEFACT_TOP_WEIGHT
-        || level.convergence == crate::levels::Convergence::CutoffArtefact
+    match level.convergence {
+        Convergence::CutoffArtefact => true,
+        Convergence::Converged => false,
+        // before the states are set (the Kato-Temple pass inside the solve) and after
+        Convergence::NotConverged => level.top_weight >= ARTEFACT_TOP_WEIGHT,
+    }
 }
 
 /// Which levels a study or the automatic cutoff follows.
