@@ -72,8 +72,9 @@ pub struct Level {
     pub bound: f64,
     /// Kato-Temple bound r^2 / gap (plus a rounding floor), sharper than `bound` when the
     /// distance `gap` from `energy` to the nearest other eigenvalue of the same sector (each
-    /// neighbour widened by its own bound) is known and positive; `None` otherwise. Filled by
-    /// [`crate::trust::bounds::apply_kato_temple`]; see there for the conditions.
+    /// genuine neighbour widened by its own bound, an artefact at its energy) is certified and
+    /// positive; `None` otherwise. Filled by [`crate::trust::bounds::kato_temple_sector`]; see
+    /// [`crate::trust::bounds`] for the certification and its one assumption.
     pub kato_temple: Option<f64>,
     /// The part of `bound` that comes from leaving the truncated space: the exact norm of the
     /// components of H v beyond orbital N-1 ([`crate::solve::leakage`]). Large for cutoff

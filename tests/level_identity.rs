@@ -104,7 +104,7 @@ fn fields_where_the_exact_zero_test_failed_now_drop_a_bounded_residue_that_enter
 fn a_small_genuine_coupling_is_not_mistaken_for_a_rounding_residue() {
     // sigma_x kx^2 with a coefficient 1e-8 of the others breaks J mod 3 (shift 2 between the
     // components, against shift 1 of the linear terms): 1e-8 is far above CANCELLATION_ULPS eps
-    assert!(1e-8 > 1e3 * CANCELLATION_ULPS * f64::EPSILON);
+    const { assert!(1e-8 > 1e3 * CANCELLATION_ULPS * f64::EPSILON) };
     let m = Model::builder("weak breaking (invented)", 2)
         .term("vy", 330.0, pauli("x").unwrap(), Monomial::KY)
         .term("vx", -330.0, pauli("y").unwrap(), Monomial::KX)

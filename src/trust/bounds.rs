@@ -13,24 +13,32 @@
 //!   so |lambda - rho| <= r^2 / delta with delta = min(rho - alpha, beta - rho) (Temple 1928;
 //!   Kato 1949). Stored as [`Level::kato_temple`].
 //!
-//! # How the gap is obtained, and what it assumes
+//! # How the gap is obtained (certified), and what it assumes
 //! H commutes with the conserved quantity of the sector (exact J, J mod m, or the component
 //! class), so the bounds hold for H restricted to the sector and only levels of the same
-//! sector are neighbours. For a level i, alpha = E_lo + b_lo and beta = E_hi - b_hi, where lo
-//! and hi are the nearest levels of the sector below and above (cutoff artefacts, weight >= 1/2
-//! on the top orbitals, excluded) and b their residual bounds: the neighbours' eigenvalues lie
-//! outside (alpha, beta). A side without such a neighbour counts as free of eigenvalues
-//! (alpha = -inf or beta = +inf; Temple's one-sided case). The Kato-Temple bound is reported
-//! only when the level has a neighbour on at least one side and delta > r (the residual
-//! interval fits inside the gap).
+//! sector are neighbours. For a level i, alpha and beta come from the nearest eigenvalues of
+//! the truncated sector matrix below and above it, whatever their kind: all of them are
+//! known, because a dense solve returns every eigenvalue of the sector
+//! ([`SectorEdges::Complete`]) and the window solver proves by Sylvester inertia counts
+//! ([`crate::solve::banded::BandedHermitian::inertia`], step 4 of [`crate::solve::window`])
+//! that its run of levels has no hole ([`SectorEdges::Partial`]: only the two outermost
+//! levels, whose outer neighbour is unknown, get no bound). So the truncated sector matrix has
+//! exactly one eigenvalue in (alpha, beta). A genuine neighbour j stands for an eigenvalue of
+//! the untruncated operator somewhere in [E_j - b_j, E_j + b_j] (its residual bound), so the
+//! gap ends at that interval's near edge; a neighbour that stands for nothing (a cutoff
+//! artefact by its weight on the top `band` orbitals or on the top quarter of the basis) ends
+//! it at its own energy, widened by its rounding, since it is an eigenvalue of the truncated
+//! matrix and the count must stay one. A side without any neighbour is free of eigenvalues
+//! (alpha = -inf or beta = +inf; Temple's one-sided case). The bound is reported only when the
+//! level has a neighbour on at least one side and delta > r (the residual interval fits inside
+//! the gap).
 //!
-//! This assumes that the eigenvalues of the untruncated operator near rho are exactly those
-//! the computed genuine levels stand for: none hides between neighbours or beyond the
-//! outermost genuine level of the sector, and artefacts do not stand for one. A band that
-//! re-enters the energy window beyond the cutoff breaks this (see [`crate::trust::window`]),
-//! and so can a sector that the cutoff cuts short. When in doubt use the residual bound, which
-//! needs no assumption. The tests check the Kato-Temple bound against the closed forms of the
-//! whole catalogue, on the split and the unsplit path.
+//! The remaining assumption: the untruncated operator has no eigenvalue in the gap that the
+//! truncated matrix does not show at all (a band re-entering the energy window from beyond the
+//! cutoff, see [`crate::trust::window`], which warns about it). The residual bound needs no
+//! assumption. The tests check the Kato-Temple bound against the closed forms of the whole
+//! catalogue, on the split and the unsplit path, and against a four times larger cutoff on a
+//! warping model with an artefact inside a sector.
 //!
 //! A floor max(in-space residual, 4 eps |E|) is added ([`Level::in_space_residual`], which
 //! includes the solver's rounding floor): the stored energy is not exactly the Rayleigh
