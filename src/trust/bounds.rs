@@ -25,10 +25,11 @@
 //! levels, whose outer neighbour is unknown, get no bound). So the truncated sector matrix has
 //! exactly one eigenvalue in (alpha, beta). A genuine neighbour j stands for an eigenvalue of
 //! the untruncated operator somewhere in [E_j - b_j, E_j + b_j] (its residual bound), so the
-//! gap ends at that interval's near edge; a neighbour that stands for nothing (a cutoff
-//! artefact by its weight on the top `band` orbitals or on the top quarter of the basis) ends
-//! it at its own energy, widened by its rounding, since it is an eigenvalue of the truncated
-//! matrix and the count must stay one. A side without any neighbour is free of eigenvalues
+//! gap ends at that interval's near edge. A neighbour that looks like a cutoff artefact (by
+//! its weight on the top `band` orbitals or on the top quarter of the basis) is widened the
+//! same way when its interval stays clear of the level; when its interval reaches the level
+//! (the artefact's leakage is large), it is taken as what it certainly is, an eigenvalue of
+//! the truncated matrix, and ends the gap at its own energy widened by its rounding. A side without any neighbour is free of eigenvalues
 //! (alpha = -inf or beta = +inf; Temple's one-sided case). The bound is reported only when the
 //! level has a neighbour on at least one side and delta > r (the residual interval fits inside
 //! the gap).
@@ -171,38 +172,42 @@ pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
         }
         // the nearest eigenvalue of the truncated sector matrix on each side, artefacts
         // included (only energy, bound and top weight are read, never kato_temple)
-        let below = pos
-            .checked_sub(1)
-            .map_or(f64::NEG_INFINITY, |p| upper_edge(&levels[idx[p]]));
+        let below = pos.checked_sub(1).map_or(f64::NEG_INFINITY, |p| {
+            upper_edge(&levels[idx[p]], li.energy)
+        });
         let above = idx
             .get(pos + 1)
-            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
+            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j], li.energy));
         levels[i].kato_temple = kato_temple(li.bound, li.energy - below, above - li.energy)
             .map(|kt| kt + rounding_floor(li));
     }
 }
 
-/// Highest energy at which the level may stand for an eigenvalue of the sector: a genuine
-/// level's interval [E - b, E + b]; an artefact at its own energy (an eigenvalue of the
-/// truncated sector matrix), widened by its rounding.
-fn upper_edge(l: &Level) -> f64 {
-    l.energy + reach(l)
+/// Highest energy at which the neighbour `l` of a level at `energy` may stand for an
+/// eigenvalue of the sector: the upper edge of its residual interval [E - b, E + b]; for a
+/// neighbour that looks like an artefact ([`stands_for_nothing`]) and whose interval reaches
+/// `energy` (so it could not bound a gap anyway), its own energy widened by its rounding (it
+/// is an eigenvalue of the truncated sector matrix).
+fn upper_edge(l: &Level, energy: f64) -> f64 {
+    l.energy + reach(l, energy)
 }
 
 /// Lowest such energy (see [`upper_edge`]).
-fn lower_edge(l: &Level) -> f64 {
-    l.energy - reach(l)
+fn lower_edge(l: &Level, energy: f64) -> f64 {
+    l.energy - reach(l, energy)
 }
 
-/// Whether a level is taken as an eigenvalue of the truncated matrix only (a cutoff artefact by
-/// its top weight, or by its weight on the top quarter of the basis), not of the untruncated
-/// operator: it bounds a gap at its own energy instead of through its residual interval.
+/// Whether a level may be taken as an eigenvalue of the truncated matrix only (a cutoff
+/// artefact by its top weight, or by its weight on the top quarter of the basis), not of the
+/// untruncated operator.
 fn stands_for_nothing(l: &Level) -> bool {
     is_cutoff_artefact(l) || l.tail_weight >= ARTEFACT_TOP_WEIGHT
 }
 
-fn reach(l: &Level) -> f64 {
-    if stands_for_nothing(l) {
+/// Half-width of the neighbour's exclusion interval (see [`upper_edge`]): its residual bound,
+/// unless it looks like an artefact and that bound reaches the level itself.
+fn reach(l: &Level, energy: f64) -> f64 {
+    if stands_for_nothing(l) && l.bound >= (l.energy - energy).abs() {
         rounding_floor(l)
     } else {
         l.bound
