@@ -94,6 +94,60 @@ pub struct LadderHamiltonian {
     pub reference_energy: f64,
     /// Sign of qB (+1 or -1).
     pub sign_qb: f64,
+    /// Rounding residues of analytically cancelling terms that were set to zero (see
+    /// [`CANCELLATION_ULPS`]); their effect on every level is bounded by
+    /// [`LadderHamiltonian::dropped_norm`].
+    pub dropped: Vec<DroppedOp>,
+}
+
+/// Entries of one operator a^dagger^j a^k that the cancellation test set to zero.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DroppedOp {
+    /// Power of a^dagger.
+    pub j: u32,
+    /// Power of a.
+    pub k: u32,
+    /// Sum over the dropped entries (alpha, beta) of |Re| + |Im| of the dropped value: an upper
+    /// bound of the 2-norm of the dropped d x d spinor matrix.
+    pub entry_sum: f64,
+}
+
+/// An accumulated entry of an operator matrix: real and imaginary parts in double-double, and
+/// for each the sum of the magnitudes of the contributions added into it.
+#[derive(Debug, Clone, Copy, Default)]
+struct Entry {
+    re: Dd,
+    im: Dd,
+    mag_re: f64,
+    mag_im: f64,
+}
+
+/// Cancellation test of the assembly, in units of eps: an accumulated part whose magnitude is at
+/// most `CANCELLATION_ULPS` x eps x (sum of the magnitudes of its contributions) is the rounding
+/// residue of terms that cancel analytically, and is set to zero.
+///
+/// # Why this threshold
+/// Each contribution c B^f kz^r l_B^-p w_jk M is a product of a handful of doubles (the user's
+/// coefficient, powers of the field, kz and the magnetic length, the Weyl weight with its
+/// square roots), so it carries a relative rounding error of at most about 10 eps; the sum of
+/// such terms that cancel exactly in exact arithmetic is therefore at most ~10 eps x (sum of
+/// magnitudes). 64 leaves room for longer products, and stays far below any coupling a model
+/// means to contain (a term 1e-14 times the size of the terms it is added to is beyond the
+/// resolution of the input). The test is invariant under rewriting the same polynomial
+/// (splitting, reordering, adding and subtracting a term): only the sum of magnitudes changes.
+///
+/// # What it costs
+/// Nothing is lost silently: the dropped parts are kept in [`LadderHamiltonian::dropped`] and
+/// their norm over the truncated space ([`LadderHamiltonian::dropped_norm`]) is added to every
+/// level's residual bound. Dropping a perturbation E moves no eigenvalue by more than ||E||
+/// (Weyl's inequality), and for a level's Ritz vector v, ||(H + E) v - E_v v|| <= r + ||E v||.
+pub const CANCELLATION_ULPS: f64 = 64.0;
+
+/// Whether an accumulated value is the rounding residue of a cancellation (see
+/// [`CANCELLATION_ULPS`]).
+fn cancels(x: Dd, magnitude_sum: f64) -> bool {
+    let v = (x.hi + x.lo).abs();
+    v != 0.0 && v <= CANCELLATION_ULPS * f64::EPSILON * magnitude_sum
 }
 
 impl LadderHamiltonian {
@@ -114,8 +168,9 @@ impl LadderHamiltonian {
         let d = model.dim();
         let sign_qb = (model.charge() * point.field).signum();
         let lb = model.units().magnetic_length(point.field, model.charge());
-        // accumulate in double-double: (j,k) -> d*d entries of (re, im)
-        let mut acc: BTreeMap<(u32, u32), Vec<(Dd, Dd)>> = BTreeMap::new();
+        // accumulate in double-double: (j,k) -> d*d entries of (re, im), each with the sum of
+        // the magnitudes of its contributions (for the cancellation test, see `CANCELLATION_ULPS`)
+        let mut acc: BTreeMap<(u32, u32), Vec<Entry>> = BTreeMap::new();
         let mut weyl_cache: BTreeMap<(u32, u32), crate::ladder::NormalPoly> = BTreeMap::new();
         for t in model.terms() {
             let mono = t.monomial;
@@ -130,7 +185,7 @@ impl LadderHamiltonian {
             for (&(j, k), &w) in &poly.terms {
                 let entry = acc
                     .entry((j, k))
-                    .or_insert_with(|| vec![(Dd::default(), Dd::default()); d * d]);
+                    .or_insert_with(|| vec![Entry::default(); d * d]);
                 let f = scalar * w;
                 for r in 0..d {
                     for c in 0..d {
@@ -140,8 +195,10 @@ impl LadderHamiltonian {
                         }
                         let e = &mut entry[r * d + c];
                         // complex product f*m with each part accumulated exactly
-                        e.0 = e.0 + Dd::prod(f.re, m.re) - Dd::prod(f.im, m.im);
-                        e.1 = e.1 + Dd::prod(f.re, m.im) + Dd::prod(f.im, m.re);
+                        e.re = e.re + Dd::prod(f.re, m.re) - Dd::prod(f.im, m.im);
+                        e.im = e.im + Dd::prod(f.re, m.im) + Dd::prod(f.im, m.re);
+                        e.mag_re += (f.re * m.re).abs() + (f.im * m.im).abs();
+                        e.mag_im += (f.re * m.im).abs() + (f.im * m.re).abs();
                     }
                 }
             }
@@ -149,21 +206,52 @@ impl LadderHamiltonian {
         if reference_energy != 0.0 {
             let entry = acc
                 .entry((0, 0))
-                .or_insert_with(|| vec![(Dd::default(), Dd::default()); d * d]);
+                .or_insert_with(|| vec![Entry::default(); d * d]);
             for a in 0..d {
-                entry[a * d + a].0 = entry[a * d + a].0 - Dd::from_f64(reference_energy);
+                let e = &mut entry[a * d + a];
+                e.re = e.re - Dd::from_f64(reference_energy);
+                e.mag_re += reference_energy.abs();
             }
         }
         let mut ops = Vec::new();
+        let mut dropped = Vec::new();
         let mut band = 0usize;
-        for ((j, k), entries) in acc {
+        for ((j, k), mut entries) in acc {
+            // cancellation-aware zero test; the diagonal of a shift-free operator (j = k,
+            // alpha = beta) never decides a symmetry and keeps its small values (rest-energy
+            // differences that the precision refinement needs)
+            let mut removed = DMatrix::<Complex64>::zeros(d, d);
+            for r in 0..d {
+                for c in 0..d {
+                    if j == k && r == c {
+                        continue;
+                    }
+                    let e = &mut entries[r * d + c];
+                    if cancels(e.re, e.mag_re) {
+                        removed[(r, c)].re = e.re.hi + e.re.lo;
+                        e.re = Dd::default();
+                    }
+                    if cancels(e.im, e.mag_im) {
+                        removed[(r, c)].im = e.im.hi + e.im.lo;
+                        e.im = Dd::default();
+                    }
+                }
+            }
+            let removed_sum: f64 = removed.iter().map(|z| z.re.abs() + z.im.abs()).sum();
+            if removed_sum > 0.0 {
+                dropped.push(DroppedOp {
+                    j,
+                    k,
+                    entry_sum: removed_sum,
+                });
+            }
             let matrix = DMatrix::from_fn(d, d, |r, c| {
-                let (re, im) = entries[r * d + c];
-                Complex64::new(re.hi, im.hi)
+                let e = entries[r * d + c];
+                Complex64::new(e.re.hi, e.im.hi)
             });
             let low = DMatrix::from_fn(d, d, |r, c| {
-                let (re, im) = entries[r * d + c];
-                Complex64::new(re.lo, im.lo)
+                let e = entries[r * d + c];
+                Complex64::new(e.re.lo, e.im.lo)
             });
             let scale = matrix.iter().map(|z| z.norm()).fold(0.0, f64::max);
             if scale == 0.0 {
@@ -176,6 +264,7 @@ impl LadderHamiltonian {
             dim: d,
             band,
             ops,
+            dropped,
             magnetic_length: lb,
             point,
             reference_energy,
@@ -243,6 +332,25 @@ impl LadderHamiltonian {
         out.sort_unstable();
         out.dedup();
         out
+    }
+
+    /// Upper bound of the operator norm, on vectors of the truncated space (orbitals
+    /// n = 0..cutoff-1), of the parts the cancellation test dropped ([`CANCELLATION_ULPS`]).
+    ///
+    /// # Formula
+    /// sum over dropped operators of (sum of |dropped entries|) x max_(n < N) sqrt(n!/(n-k)!
+    /// (n-k+j)!/(n-k)!): a^dagger^j a^k maps |n> to a multiple of |n - k + j>, distinct n to
+    /// distinct images, so its norm on the truncated space is its largest factor, which grows
+    /// with n (as N^((j+k)/2)). Zero when nothing was dropped.
+    pub fn dropped_norm(&self, cutoff: usize) -> f64 {
+        let n = cutoff.saturating_sub(1);
+        let sum: f64 = self
+            .dropped
+            .iter()
+            .map(|op| op.entry_sum * ladder_element(op.j, op.k, n))
+            .sum();
+        // a few ulps for the rounding of the factors themselves
+        sum * (1.0 + 8.0 * f64::EPSILON)
     }
 
     /// Whether every operator matrix is real (then every sector matrix is real).

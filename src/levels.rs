@@ -6,14 +6,59 @@ use crate::units::Units;
 use num_complex::Complex64;
 use serde::Serialize;
 
-/// Whether a level can be trusted at the requested tolerance.
+/// The state of a level: one of three, decided in this order (see
+/// [`crate::solve::flag_convergence`]).
+///
+/// # Definition
+/// * [`Convergence::Converged`]: the deciding bound ([`Level::deciding_bound`]) is at most
+///   tolerance x max(|E|, energy scale). The bound proves an eigenvalue of the untruncated
+///   operator that close, so a converged level is genuine.
+/// * [`Convergence::CutoffArtefact`]: not converged, and weight >= 1/2 on the highest `band`
+///   orbitals or on the top quarter of the basis
+///   ([`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]): the eigenvector lives where the basis
+///   ends and stands for no eigenvalue of the untruncated operator.
+/// * [`Convergence::NotConverged`]: the rest: a genuine level whose deciding bound exceeds the
+///   tolerance; raise the cutoff.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Convergence {
-    /// The bound is below the tolerance.
+    /// Genuine and the deciding bound is below the tolerance.
     Converged,
-    /// The bound exceeds the tolerance: the level belongs (at least partly) to the cutoff.
+    /// Genuine, but the deciding bound exceeds the tolerance: raise the cutoff.
     NotConverged,
+    /// Most of the weight sits on the top orbitals: an artefact of the cutoff.
+    CutoffArtefact,
+}
+
+impl Convergence {
+    /// The word used in tables and CSV files: `converged`, `not converged`, `artefact`.
+    pub fn word(self) -> &'static str {
+        match self {
+            Convergence::Converged => "converged",
+            Convergence::NotConverged => "not converged",
+            Convergence::CutoffArtefact => "artefact",
+        }
+    }
+}
+
+/// Which rigorous bound decided a level's state (the sharper one that applies).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum BoundKind {
+    /// The residual (Weinstein / Krylov-Bogoliubov) bound [`Level::bound`].
+    Residual,
+    /// The Kato-Temple bound [`Level::kato_temple`], whose gap condition was certified.
+    KatoTemple,
+}
+
+impl BoundKind {
+    /// `residual` or `kato_temple`, as in the JSON and CSV output.
+    pub fn name(self) -> &'static str {
+        match self {
+            BoundKind::Residual => "residual",
+            BoundKind::KatoTemple => "kato_temple",
+        }
+    }
 }
 
 /// One eigenvalue of the truncated problem with its labels and bound.
@@ -27,8 +72,9 @@ pub struct Level {
     pub bound: f64,
     /// Kato-Temple bound r^2 / gap (plus a rounding floor), sharper than `bound` when the
     /// distance `gap` from `energy` to the nearest other eigenvalue of the same sector (each
-    /// neighbour widened by its own bound) is known and positive; `None` otherwise. Filled by
-    /// [`crate::trust::bounds::apply_kato_temple`]; see there for the conditions.
+    /// genuine neighbour widened by its own bound, an artefact at its energy) is certified and
+    /// positive; `None` otherwise. Filled by [`crate::trust::bounds::kato_temple_sector`]; see
+    /// [`crate::trust::bounds`] for the certification and its one assumption.
     pub kato_temple: Option<f64>,
     /// The part of `bound` that comes from leaving the truncated space: the exact norm of the
     /// components of H v beyond orbital N-1 ([`crate::solve::leakage`]). Large for cutoff
@@ -51,6 +97,10 @@ pub struct Level {
     /// Weight of the eigenvector on the highest `band` orbitals of the basis (a cutoff
     /// artefact has weight of order 1 there).
     pub top_weight: f64,
+    /// Weight of the eigenvector on the top quarter of the orbitals (n >= 3N/4, at least the
+    /// top `band`): a second artefact test for levels that are not converged
+    /// ([`crate::trust::converge::is_cutoff_artefact`]).
+    pub tail_weight: f64,
 }
 
 impl Level {
@@ -59,10 +109,24 @@ impl Level {
         self.convergence == Convergence::Converged
     }
 
+    /// Whether the level is a genuine level (converged or not), not a cutoff artefact.
+    pub fn is_genuine(&self) -> bool {
+        self.convergence != Convergence::CutoffArtefact
+    }
+
     /// The sharpest rigorous bound available: the Kato-Temple bound when known, else the
     /// residual bound (never more than `bound`).
     pub fn best_bound(&self) -> f64 {
-        self.kato_temple.map_or(self.bound, |kt| kt.min(self.bound))
+        self.deciding_bound().0
+    }
+
+    /// The bound that decides the level's state, and which one it is: the Kato-Temple bound
+    /// when its gap condition was certified and it is sharper, else the residual bound.
+    pub fn deciding_bound(&self) -> (f64, BoundKind) {
+        match self.kato_temple {
+            Some(kt) if kt < self.bound => (kt, BoundKind::KatoTemple),
+            _ => (self.bound, BoundKind::Residual),
+        }
     }
 }
 

@@ -501,9 +501,17 @@ pub fn grid_values(
 pub struct LevelJson {
     /// Energy relative to the reference energy.
     pub energy: f64,
-    /// Error bound on the energy.
+    /// Error bound on the energy: the deciding bound (`bound_from` says which).
     pub bound: f64,
-    /// Converged at the solve's tolerance.
+    /// Residual (Weinstein) bound, always available.
+    pub residual_bound: f64,
+    /// Kato-Temple bound where its gap condition was certified, else null.
+    pub kato_temple_bound: Option<f64>,
+    /// Which bound decided the state: `residual` or `kato_temple`.
+    pub bound_from: &'static str,
+    /// `converged`, `not_converged` (genuine, raise the cutoff) or `cutoff_artefact`.
+    pub state: ladderfan::levels::Convergence,
+    /// Converged at the solve's tolerance (state == converged).
     pub converged: bool,
     /// Sector label `class:J`.
     pub sector: String,
@@ -545,9 +553,14 @@ pub fn levels_json(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelJson>
     idx.iter()
         .map(|&i| {
             let l = &s.levels[i];
+            let (bound, from) = l.deciding_bound();
             LevelJson {
                 energy: l.energy,
-                bound: l.bound,
+                bound,
+                residual_bound: l.bound,
+                kato_temple_bound: l.kato_temple,
+                bound_from: from.name(),
+                state: l.convergence,
                 converged: l.is_converged(),
                 sector: format!("{}:{}", l.sector.class, l.sector.label),
                 sector_class: l.sector.class,
@@ -715,8 +728,10 @@ pub fn fmt_num(x: f64, sig: usize) -> String {
 /// Which levels a table shows.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Shown {
-    /// Only converged levels (the default).
+    /// Only converged levels.
     Converged,
+    /// Genuine levels, converged or not (cutoff artefacts hidden; the `levels` default).
+    Genuine,
     /// Converged and unconverged levels (cutoff artefacts included).
     All,
 }
@@ -725,7 +740,11 @@ pub enum Shown {
 /// among the converged levels unless `shown` is [`Shown::All`], in ascending energy order.
 pub fn nearest_levels(s: &Spectrum, count: usize, shown: Shown) -> Vec<usize> {
     let mut idx: Vec<usize> = (0..s.levels.len())
-        .filter(|&i| shown == Shown::All || s.levels[i].is_converged())
+        .filter(|&i| match shown {
+            Shown::All => true,
+            Shown::Genuine => s.levels[i].is_genuine(),
+            Shown::Converged => s.levels[i].is_converged(),
+        })
         .collect();
     if count > 0 && count < idx.len() {
         idx.sort_by(|&a, &b| {

@@ -41,7 +41,8 @@ pub enum Mode {
 pub enum BoundFlag {
     /// Residual (Weinstein) bound: no assumption.
     Residual,
-    /// Kato-Temple bound where available: sharper, assumes no level hides between neighbours.
+    /// The deciding bound (default): Kato-Temple where its gap is certified and it is
+    /// sharper, else the residual bound.
     KatoTemple,
 }
 
@@ -94,7 +95,7 @@ pub struct ConvergeArgs {
     #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
     pub target: f64,
     /// auto: which bound must meet the tolerance.
-    #[arg(long, value_enum, default_value_t = BoundFlag::Residual)]
+    #[arg(long, value_enum, default_value_t = BoundFlag::KatoTemple)]
     pub bound: BoundFlag,
     #[command(flatten)]
     pub output: OutputArgs,
@@ -159,8 +160,12 @@ pub struct AutoLevelJson {
     pub energy: f64,
     /// Residual bound.
     pub bound: f64,
-    /// Kato-Temple bound, when available.
+    /// Kato-Temple bound, when its gap condition was certified.
     pub kato_temple: Option<f64>,
+    /// Which bound decided the state: `residual` or `kato_temple`.
+    pub bound_from: &'static str,
+    /// `converged` or `not_converged` (artefacts are never selected).
+    pub state: ladderfan::levels::Convergence,
     /// Sector `class:label`.
     pub sector: String,
     /// Dominant orbital.
@@ -222,7 +227,9 @@ pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> 
     let mut out = format!(
         "model: {} ({}), field {} {}, kz {} {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
          energies in {} relative to the reference energy\n\
-         actual error against {}; p: change ~ N^-p, kappa: change ~ exp(-kappa N); ~N: extrapolated\n\n",
+         actual error against {}; p: change ~ N^-p, kappa: change ~ exp(-kappa N); ~N: extrapolated\n\
+         bound N=...: the deciding bound (K Kato-Temple, certified gap; R residual) and the state (c converged, \
+         n genuine but not converged, - no genuine level matched; cutoff artefacts are never tracked)\n\n",
         st.model,
         origin,
         st.point.field,
@@ -264,7 +271,19 @@ pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> 
             fmt_num(l.reference_value, 12),
         ];
         for e in &l.entries {
-            r.push(opt_sci(e.bound));
+            // the deciding bound, marked: K = Kato-Temple, R = residual; then the state
+            // (c converged, n not converged, - no genuine level matched)
+            let b = match (e.bound, e.kato_temple) {
+                (Some(b), Some(k)) if k < b => format!("{k:.2e} K"),
+                (Some(b), _) => format!("{b:.2e} R"),
+                _ => "-".into(),
+            };
+            let st = match e.state {
+                Some(ladderfan::levels::Convergence::Converged) => "c",
+                Some(_) => "n",
+                None => "-",
+            };
+            r.push(format!("{b} {st}"));
         }
         r.push(opt_sci(
             l.entries.get(penultimate).and_then(|e| e.actual_error),
@@ -333,6 +352,8 @@ pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> Strin
         format!("energy [{unit}]"),
         format!("bound [{unit}]"),
         format!("Kato-Temple [{unit}]"),
+        "decided by".into(),
+        "state".into(),
     ]];
     for &i in &res.selected {
         let l = &s.levels[i];
@@ -342,6 +363,8 @@ pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> Strin
             fmt_num(l.energy, 12),
             format!("{:.2e}", l.bound),
             opt_sci(l.kato_temple),
+            l.deciding_bound().1.name().into(),
+            l.convergence.word().into(),
         ]);
     }
     out.push_str(&common::table(&rows));
@@ -376,6 +399,8 @@ fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> Aut
                     energy: l.energy,
                     bound: l.bound,
                     kato_temple: l.kato_temple,
+                    bound_from: l.deciding_bound().1.name(),
+                    state: l.convergence,
                     sector: format!("{}:{}", l.sector.class, l.sector.label),
                     orbital: l.orbital,
                     component: l.component,
@@ -410,6 +435,8 @@ fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
         format!("energy_{unit}"),
         format!("bound_{unit}"),
         format!("kato_temple_{unit}"),
+        "bound_from".into(),
+        "state".into(),
     ]];
     for &i in &res.selected {
         let l = &s.levels[i];
@@ -420,6 +447,8 @@ fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
             format!("{:e}", l.energy),
             format!("{:e}", l.bound),
             l.kato_temple.map_or_else(String::new, |k| format!("{k:e}")),
+            l.deciding_bound().1.name().into(),
+            l.convergence.word().replace(' ', "_"),
         ]);
     }
     csv_text(&header, &rec)

@@ -6,6 +6,7 @@ use super::common::{
     SolveArgs, SymmetryJson, UnitsJson,
 };
 use clap::Args;
+use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
 use ladderfan::Spectrum;
 use serde::Serialize;
@@ -20,7 +21,8 @@ pub struct LevelsArgs {
     /// Number of levels to show, those closest to the reference energy (0: all).
     #[arg(long, default_value_t = 20)]
     pub count: usize,
-    /// Also show levels that are not converged (cutoff artefacts; flagged NO).
+    /// Also show the cutoff artefacts (hidden by default; genuine levels that are not converged
+    /// are always shown, marked `not converged`).
     #[arg(long)]
     pub show_unconverged: bool,
     #[command(flatten)]
@@ -54,6 +56,10 @@ pub struct LevelsJson {
     pub levels_total: usize,
     /// Number of converged levels.
     pub levels_converged: usize,
+    /// Number of genuine levels that are not converged (raise the cutoff).
+    pub levels_not_converged: usize,
+    /// Number of cutoff artefacts.
+    pub levels_artefacts: usize,
     /// The levels shown, ascending in energy.
     pub levels: Vec<LevelJson>,
 }
@@ -78,12 +84,19 @@ pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
         symmetry: SymmetryJson::new(s),
         levels_total: s.levels.len(),
         levels_converged: s.converged().count(),
+        levels_not_converged: count_state(s, Convergence::NotConverged),
+        levels_artefacts: count_state(s, Convergence::CutoffArtefact),
         levels: levels_json(&lm.model, s, idx),
     }
 }
 
 /// The aligned text table with a header block.
+fn count_state(s: &Spectrum, state: Convergence) -> usize {
+    s.levels.iter().filter(|l| l.convergence == state).count()
+}
+
 pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
+    let artefacts = count_state(s, Convergence::CutoffArtefact);
     let u = lm.model.units();
     let kg = matches!(lm.model.form(), SpectrumForm::KleinGordon { .. });
     let mut out = format!(
@@ -105,19 +118,24 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     ));
     out.push_str(&format!("symmetry: {}\n", s.symmetry.describe()));
     out.push_str(&format!(
-        "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference), {} converged in total{}\n\n",
+        "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference); in total {} converged, {} genuine but not converged (raise the cutoff), {} cutoff artefacts{}\n\n",
         u.energy_unit(),
         s.reference_energy,
         u.energy_unit(),
         idx.len(),
         s.levels.len(),
         s.converged().count(),
-        if idx.iter().all(|&i| s.levels[i].is_converged()) {
-            " (unconverged cutoff artefacts hidden; --show-unconverged lists them)"
+        count_state(s, Convergence::NotConverged),
+        artefacts,
+        if artefacts > 0 && idx.iter().all(|&i| s.levels[i].is_genuine()) {
+            " (artefacts hidden; --show-unconverged lists them)"
         } else {
             ""
         }
     ));
+    out.push_str(
+        "state: converged / not converged (genuine, bound above the tolerance) / artefact (weight on the top orbitals); bound: the sharper certified one (KT: Kato-Temple, res: residual)\n\n",
+    );
     let mut rows = vec![vec!["sector".to_string(), "n".into(), "component".into()]];
     if kg {
         rows[0].push("branch".into());
@@ -125,7 +143,8 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     rows[0].extend([
         format!("energy [{}]", u.energy_unit()),
         format!("bound [{}]", u.energy_unit()),
-        "converged".into(),
+        "from".into(),
+        "state".into(),
     ]);
     for l in levels_json(&lm.model, s, idx) {
         let mut r = vec![
@@ -143,7 +162,13 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
         r.extend([
             fmt_num(l.energy, 10),
             format!("{:.2e}", l.bound),
-            if l.converged { "yes" } else { "NO" }.into(),
+            if l.bound_from == "kato_temple" {
+                "KT"
+            } else {
+                "res"
+            }
+            .into(),
+            l.state.word().into(),
         ]);
         rows.push(r);
     }
@@ -182,6 +207,10 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         "component".into(),
         format!("energy_{}", u.energy_unit().replace(' ', "")),
         format!("bound_{}", u.energy_unit().replace(' ', "")),
+        format!("residual_bound_{}", u.energy_unit().replace(' ', "")),
+        format!("kato_temple_bound_{}", u.energy_unit().replace(' ', "")),
+        "bound_from".into(),
+        "state".into(),
         "converged".into(),
     ]];
     for l in levels_json(&lm.model, s, idx) {
@@ -193,6 +222,11 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
             l.component_name,
             format!("{:e}", l.energy),
             format!("{:e}", l.bound),
+            format!("{:e}", l.residual_bound),
+            l.kato_temple_bound
+                .map_or_else(String::new, |k| format!("{k:e}")),
+            l.bound_from.into(),
+            l.state.word().replace(' ', "_"),
             l.converged.to_string(),
         ]);
     }
@@ -207,7 +241,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     let shown = if a.show_unconverged {
         common::Shown::All
     } else {
-        common::Shown::Converged
+        common::Shown::Genuine
     };
     let idx = nearest_levels(&s, a.count, shown);
     let mut written = Vec::new();

@@ -338,6 +338,8 @@ impl Job<'_> {
             detail: "eigenvectors missing".into(),
         })?;
         let top_from = cutoff.saturating_sub(self.h.band.max(1));
+        let dropped = self.h.dropped_norm(cutoff);
+        let tail_from = top_from.min(cutoff - cutoff / TAIL_DENOMINATOR);
         let first_level = out.levels.len();
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
@@ -395,11 +397,14 @@ impl Job<'_> {
                 // backward-stable dense solvers: eigenvalue error of order eps ||H||_2 <= eps ||H||_F
                 4.0 * f64::EPSILON * hs_norm
             };
-            let r = (in_res * in_res + out_res * out_res).sqrt() + rounding;
+            // the rounding residues of cancelling terms dropped at assembly (Weyl's
+            // inequality: they move no eigenvalue by more than their norm)
+            let r = (in_res * in_res + out_res * out_res).sqrt() + rounding + dropped;
             let w0 = out.weights.len();
             out.weights.resize(w0 + d, 0.0);
             let mut best = (0.0, 0usize, 0usize);
             let mut top = 0.0;
+            let mut tail = 0.0;
             for (idx, &(n, a)) in states.iter().enumerate() {
                 let p = v[idx].norm_sqr();
                 out.weights[w0 + a] += p;
@@ -408,6 +413,9 @@ impl Job<'_> {
                 }
                 if n >= top_from {
                     top += p;
+                }
+                if n >= tail_from {
+                    tail += p;
                 }
             }
             let base = Level {
@@ -422,6 +430,7 @@ impl Job<'_> {
                 component: best.2,
                 branch: 0,
                 top_weight: top,
+                tail_weight: tail,
             };
             match self.form {
                 SpectrumForm::Direct => {
@@ -872,7 +881,12 @@ pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Optio
     (!nonzero.is_empty()).then(|| nonzero[nonzero.len() / 2])
 }
 
-/// Set each level's convergence flag: converged when bound <= tolerance x max(|E|, scale).
+/// Set each level's state ([`Convergence`]): converged when its deciding bound
+/// ([`Level::deciding_bound`]: certified Kato-Temple when sharper, else residual) is at most
+/// tolerance x max(|E|, scale) (the bound itself proves the level genuine); else a cutoff
+/// artefact when its weight on the top `band` orbitals, or on the top quarter of the basis,
+/// is at least [`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]; else genuine but not
+/// converged.
 pub fn flag_convergence(s: &mut Spectrum) {
     let (tol, scale) = (s.tolerance, s.energy_scale);
     for l in &mut s.levels {
@@ -880,10 +894,18 @@ pub fn flag_convergence(s: &mut Spectrum) {
     }
 }
 
-/// Converged when bound <= tolerance x max(|E|, scale).
+/// The tail of the basis for [`Level::tail_weight`]: the top 1/TAIL_DENOMINATOR of the orbitals.
+const TAIL_DENOMINATOR: usize = 4;
+
 fn convergence_of(l: &Level, tolerance: f64, scale: f64) -> Convergence {
-    if l.bound <= tolerance * l.energy.abs().max(scale) {
+    use crate::trust::converge::ARTEFACT_TOP_WEIGHT;
+    // a bound below the tolerance proves an eigenvalue of the untruncated operator that close:
+    // such a level is genuine whatever its weights (the top sector of an exact-J model can
+    // hold exact eigenvectors with half their weight on the top orbital)
+    if l.deciding_bound().0 <= tolerance * l.energy.abs().max(scale) {
         Convergence::Converged
+    } else if l.top_weight >= ARTEFACT_TOP_WEIGHT || l.tail_weight >= ARTEFACT_TOP_WEIGHT {
+        Convergence::CutoffArtefact
     } else {
         Convergence::NotConverged
     }

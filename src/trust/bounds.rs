@@ -13,24 +13,33 @@
 //!   so |lambda - rho| <= r^2 / delta with delta = min(rho - alpha, beta - rho) (Temple 1928;
 //!   Kato 1949). Stored as [`Level::kato_temple`].
 //!
-//! # How the gap is obtained, and what it assumes
+//! # How the gap is obtained (certified), and what it assumes
 //! H commutes with the conserved quantity of the sector (exact J, J mod m, or the component
 //! class), so the bounds hold for H restricted to the sector and only levels of the same
-//! sector are neighbours. For a level i, alpha = E_lo + b_lo and beta = E_hi - b_hi, where lo
-//! and hi are the nearest levels of the sector below and above (cutoff artefacts, weight >= 1/2
-//! on the top orbitals, excluded) and b their residual bounds: the neighbours' eigenvalues lie
-//! outside (alpha, beta). A side without such a neighbour counts as free of eigenvalues
-//! (alpha = -inf or beta = +inf; Temple's one-sided case). The Kato-Temple bound is reported
-//! only when the level has a neighbour on at least one side and delta > r (the residual
-//! interval fits inside the gap).
+//! sector are neighbours. For a level i, alpha and beta come from the nearest eigenvalues of
+//! the truncated sector matrix below and above it, whatever their kind: all of them are
+//! known, because a dense solve returns every eigenvalue of the sector
+//! ([`SectorEdges::Complete`]) and the window solver proves by Sylvester inertia counts
+//! ([`crate::solve::banded::BandedHermitian::inertia`], step 4 of [`crate::solve::window`])
+//! that its run of levels has no hole ([`SectorEdges::Partial`]: only the two outermost
+//! levels, whose outer neighbour is unknown, get no bound). So the truncated sector matrix has
+//! exactly one eigenvalue in (alpha, beta). A genuine neighbour j stands for an eigenvalue of
+//! the untruncated operator somewhere in [E_j - b_j, E_j + b_j] (its residual bound), so the
+//! gap ends at that interval's near edge. A neighbour that looks like a cutoff artefact (by
+//! its weight on the top `band` orbitals or on the top quarter of the basis) is widened the
+//! same way when its interval stays clear of the level; when its interval reaches the level
+//! (the artefact's leakage is large), it is taken as what it certainly is, an eigenvalue of
+//! the truncated matrix, and ends the gap at its own energy widened by its rounding. A side without any neighbour is free of eigenvalues
+//! (alpha = -inf or beta = +inf; Temple's one-sided case). The bound is reported only when the
+//! level has a neighbour on at least one side and delta > r (the residual interval fits inside
+//! the gap).
 //!
-//! This assumes that the eigenvalues of the untruncated operator near rho are exactly those
-//! the computed genuine levels stand for: none hides between neighbours or beyond the
-//! outermost genuine level of the sector, and artefacts do not stand for one. A band that
-//! re-enters the energy window beyond the cutoff breaks this (see [`crate::trust::window`]),
-//! and so can a sector that the cutoff cuts short. When in doubt use the residual bound, which
-//! needs no assumption. The tests check the Kato-Temple bound against the closed forms of the
-//! whole catalogue, on the split and the unsplit path.
+//! The remaining assumption: the untruncated operator has no eigenvalue in the gap that the
+//! truncated matrix does not show at all (a band re-entering the energy window from beyond the
+//! cutoff, see [`crate::trust::window`], which warns about it). The residual bound needs no
+//! assumption. The tests check the Kato-Temple bound against the closed forms of the whole
+//! catalogue, on the split and the unsplit path, and against a four times larger cutoff on a
+//! warping model with an artefact inside a sector.
 //!
 //! A floor max(in-space residual, 4 eps |E|) is added ([`Level::in_space_residual`], which
 //! includes the solver's rounding floor): the stored energy is not exactly the Rayleigh
@@ -49,7 +58,7 @@
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
 use crate::levels::{Level, Spectrum};
-use crate::trust::converge::is_cutoff_artefact;
+use crate::trust::converge::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
@@ -157,29 +166,52 @@ pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
         if edges == SectorEdges::Partial && (pos == 0 || pos == last) {
             continue;
         }
-        // only energy, bound and top weight of the neighbours are read, never kato_temple
-        let genuine = |j: &&usize| !is_cutoff_artefact(&levels[**j]);
-        let below = idx[..pos]
-            .iter()
-            .rev()
-            .find(genuine)
-            .map_or(f64::NEG_INFINITY, |&j| upper_edge(&levels[j]));
-        let above = idx[pos + 1..]
-            .iter()
-            .find(genuine)
-            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j]));
         let li = &levels[i];
+        if stands_for_nothing(li) {
+            continue;
+        }
+        // the nearest eigenvalue of the truncated sector matrix on each side, artefacts
+        // included (only energy, bound and top weight are read, never kato_temple)
+        let below = pos.checked_sub(1).map_or(f64::NEG_INFINITY, |p| {
+            upper_edge(&levels[idx[p]], li.energy)
+        });
+        let above = idx
+            .get(pos + 1)
+            .map_or(f64::INFINITY, |&j| lower_edge(&levels[j], li.energy));
         levels[i].kato_temple = kato_temple(li.bound, li.energy - below, above - li.energy)
             .map(|kt| kt + rounding_floor(li));
     }
 }
 
-fn upper_edge(l: &Level) -> f64 {
-    l.energy + l.bound
+/// Highest energy at which the neighbour `l` of a level at `energy` may stand for an
+/// eigenvalue of the sector: the upper edge of its residual interval [E - b, E + b]; for a
+/// neighbour that looks like an artefact ([`stands_for_nothing`]) and whose interval reaches
+/// `energy` (so it could not bound a gap anyway), its own energy widened by its rounding (it
+/// is an eigenvalue of the truncated sector matrix).
+fn upper_edge(l: &Level, energy: f64) -> f64 {
+    l.energy + reach(l, energy)
 }
 
-fn lower_edge(l: &Level) -> f64 {
-    l.energy - l.bound
+/// Lowest such energy (see [`upper_edge`]).
+fn lower_edge(l: &Level, energy: f64) -> f64 {
+    l.energy - reach(l, energy)
+}
+
+/// Whether a level may be taken as an eigenvalue of the truncated matrix only (a cutoff
+/// artefact by its top weight, or by its weight on the top quarter of the basis), not of the
+/// untruncated operator.
+fn stands_for_nothing(l: &Level) -> bool {
+    is_cutoff_artefact(l) || l.tail_weight >= ARTEFACT_TOP_WEIGHT
+}
+
+/// Half-width of the neighbour's exclusion interval (see [`upper_edge`]): its residual bound,
+/// unless it looks like an artefact and that bound reaches the level itself.
+fn reach(l: &Level, energy: f64) -> f64 {
+    if stands_for_nothing(l) && l.bound >= (l.energy - energy).abs() {
+        rounding_floor(l)
+    } else {
+        l.bound
+    }
 }
 
 /// The part of the error that the Kato-Temple argument does not square: the stored energy E

@@ -12,9 +12,14 @@
 //! rise again, dominated by rounding rather than truncation. The table shows it; the needed
 //! cutoff is the first one that meets the tolerance.
 //!
-//! Tracking: a level is matched, within its own sector (the sector label does not depend on
-//! the cutoff), to the level minimising |E - E_tracked| + bound, each level used once; the
-//! bound term prefers genuine levels over cutoff artefacts at the same energy.
+//! Tracking by identity, not rank: a level is matched, within its own sector (the sector label
+//! does not depend on the cutoff), one-to-one to a genuine level of each cutoff (cutoff
+//! artefacts, [`is_cutoff_artefact`], are never candidates, so an artefact inside a sector
+//! cannot shift the later levels), nearest energies first, accepted within the two deciding
+//! bounds or well inside the gap to the neighbours (see `match_levels`). Convergence, the
+//! state of each entry and the needed cutoff use the deciding bound
+//! ([`crate::levels::Level::deciding_bound`]): the certified Kato-Temple bound where it is
+//! sharper, else the residual bound.
 //!
 //! Rates: with changes c_k = |E(N_k) - E(N_(k-1))|, the last two changes above rounding noise
 //! (100 eps |E|) give the algebraic exponent p = ln(c_(k-1)/c_k) / ln(N_k/N_(k-1))
@@ -39,7 +44,7 @@
 
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
-use crate::levels::{Level, Spectrum};
+use crate::levels::{BoundKind, Convergence, Level, Spectrum};
 use crate::model::{Model, SpectrumForm};
 use crate::sectors::SectorId;
 use crate::solve::Settings;
@@ -50,12 +55,18 @@ use std::time::Instant;
 /// Weight on the top `band` orbitals above which a level counts as a cutoff artefact.
 pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
 
-/// Whether a level is a cutoff artefact: most of its weight sits on the highest orbitals of
-/// the basis (an eigenvector of the untruncated operator would not notice where the basis
-/// ends). Unconverged genuine levels can also carry such weight; the bound, not this test,
-/// decides convergence.
+/// Whether a level is a cutoff artefact: its state says so
+/// ([`crate::levels::Convergence::CutoffArtefact`]), or, for a level not flagged converged,
+/// most of its weight sits on the highest `band` orbitals of the basis (an eigenvector of the
+/// untruncated operator would not notice where the basis ends). A converged level never is:
+/// its bound proves an eigenvalue of the untruncated operator.
 pub fn is_cutoff_artefact(level: &Level) -> bool {
-    level.top_weight >= ARTEFACT_TOP_WEIGHT
+    match level.convergence {
+        Convergence::CutoffArtefact => true,
+        Convergence::Converged => false,
+        // before the states are set (the Kato-Temple pass inside the solve) and after
+        Convergence::NotConverged => level.top_weight >= ARTEFACT_TOP_WEIGHT,
+    }
 }
 
 /// Which levels a study or the automatic cutoff follows.
@@ -137,8 +148,13 @@ pub struct StudyEntry {
     pub change: Option<f64>,
     /// |E(N) - reference value| (largest-cutoff energy or exact value).
     pub actual_error: Option<f64>,
-    /// Converged at the study's tolerance.
+    /// Converged at the study's tolerance (by the deciding bound, see `bound_from`).
     pub converged: bool,
+    /// Which bound decided: the certified Kato-Temple bound when sharper, else the residual.
+    pub bound_from: Option<BoundKind>,
+    /// State of the matched level at this cutoff (converged / not converged); `None` when no
+    /// genuine level matched. Artefacts are never matched.
+    pub state: Option<Convergence>,
 }
 
 /// A level followed through the cutoffs.
@@ -308,7 +324,15 @@ pub fn study(
                 kato_temple: lvl.and_then(|l| l.kato_temple),
                 change,
                 actual_error,
-                converged: lvl.is_some_and(|l| l.bound <= absolute_tolerance(s, &l, tol)),
+                converged: lvl.is_some_and(|l| l.best_bound() <= absolute_tolerance(s, &l, tol)),
+                bound_from: lvl.map(|l| l.deciding_bound().1),
+                state: lvl.map(|l| {
+                    if l.best_bound() <= absolute_tolerance(s, &l, tol) {
+                        Convergence::Converged
+                    } else {
+                        Convergence::NotConverged
+                    }
+                }),
             });
             prev_energy = energy;
         }
@@ -351,28 +375,57 @@ fn nearest(values: &[f64], e: f64) -> f64 {
         .unwrap_or(e)
 }
 
-/// For each picked level of `target`, the best unused level of `s` in the same sector and
-/// branch (minimising |Delta E| + bound).
+/// For each picked level of `target`, its match among the genuine levels of `s` (same sector
+/// and branch; cutoff artefacts are never candidates): one-to-one, by identity rather than
+/// rank. All candidate pairs are ranked by |Delta E| and taken greedily, nearest first, each
+/// level at most once on either side. A pair is accepted when the energies agree within the
+/// sum of the two deciding bounds, or (an energy still moving with the cutoff) when |Delta E|
+/// is below half the distance from the picked level to its nearest genuine neighbour of the
+/// sector; otherwise the level stays unmatched (`None`) rather than take another level's row.
+///
+/// # Complexity
+/// O(P L log(P L)) for P picked levels and L levels of the cutoff.
 fn match_levels(s: &Spectrum, target: &Spectrum, picked: &[usize]) -> Vec<Option<usize>> {
-    let mut used = vec![false; s.levels.len()];
-    let mut out = Vec::with_capacity(picked.len());
-    for &i in picked {
+    let mut pairs: Vec<(f64, usize, usize)> = Vec::new();
+    for (t, &i) in picked.iter().enumerate() {
         let want = &target.levels[i];
-        let best = s
-            .levels
-            .iter()
-            .enumerate()
-            .filter(|(j, l)| !used[*j] && l.sector == want.sector && l.branch == want.branch)
-            .map(|(j, l)| (j, (l.energy - want.energy).abs() + l.bound))
-            .min_by(|a, b| a.1.total_cmp(&b.1));
-        if let Some((j, _)) = best {
+        for (j, l) in s.levels.iter().enumerate() {
+            if l.sector == want.sector && l.branch == want.branch && l.is_genuine() {
+                pairs.push(((l.energy - want.energy).abs(), t, j));
+            }
+        }
+    }
+    pairs.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)).then(a.2.cmp(&b.2)));
+    let mut out = vec![None; picked.len()];
+    let mut used = vec![false; s.levels.len()];
+    for &(de, t, j) in &pairs {
+        if out[t].is_some() || used[j] {
+            continue;
+        }
+        let want = &target.levels[picked[t]];
+        let l = &s.levels[j];
+        let within = de <= l.best_bound() + want.best_bound();
+        let separated = de < 0.5 * neighbour_distance(target, picked[t]);
+        if within || separated {
+            out[t] = Some(j);
             used[j] = true;
-            out.push(Some(j));
-        } else {
-            out.push(None);
         }
     }
     out
+}
+
+/// Distance from level `i` of `s` to its nearest other genuine level of the same sector and
+/// branch (infinite when it has none).
+fn neighbour_distance(s: &Spectrum, i: usize) -> f64 {
+    let me = &s.levels[i];
+    s.levels
+        .iter()
+        .enumerate()
+        .filter(|(j, l)| {
+            *j != i && l.sector == me.sector && l.branch == me.branch && l.is_genuine()
+        })
+        .map(|(_, l)| (l.energy - me.energy).abs())
+        .fold(f64::INFINITY, f64::min)
 }
 
 /// Changes below this many units of roundoff times |E| are noise, not convergence.
@@ -399,15 +452,20 @@ fn rates(entries: &[StudyEntry]) -> (Option<f64>, Option<f64>) {
 }
 
 fn needed(entries: &[StudyEntry], tol_abs: f64) -> NeededCutoff {
+    // the deciding bound of each entry: Kato-Temple where certified and sharper
+    let deciding = |e: &StudyEntry| match (e.bound, e.kato_temple) {
+        (Some(b), Some(k)) => Some(b.min(k)),
+        (b, _) => b,
+    };
     if let Some(e) = entries
         .iter()
-        .find(|e| e.bound.is_some_and(|b| b <= tol_abs))
+        .find(|e| deciding(e).is_some_and(|b| b <= tol_abs))
     {
         return NeededCutoff::Observed(e.cutoff);
     }
     let b: Vec<(usize, f64)> = entries
         .iter()
-        .filter_map(|e| e.bound.filter(|&b| b > 0.0).map(|b| (e.cutoff, b)))
+        .filter_map(|e| deciding(e).filter(|&b| b > 0.0).map(|b| (e.cutoff, b)))
         .collect();
     if b.len() < 2 {
         return NeededCutoff::Unknown;
@@ -431,12 +489,12 @@ fn needed(entries: &[StudyEntry], tol_abs: f64) -> NeededCutoff {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum BoundChoice {
-    /// The residual (Weinstein) bound: needs no assumption (the default).
-    #[default]
+    /// The residual (Weinstein) bound only: needs no assumption at all.
     Residual,
-    /// The Kato-Temple bound where available, else the residual bound: far sharper for
-    /// levels that converge gradually, but it assumes that the truncated solve sees every
-    /// level of the sector near the level (see [`crate::trust::bounds`]).
+    /// The deciding bound (the default): the Kato-Temple bound where its gap condition was
+    /// certified and it is sharper, else the residual bound; far sharper for levels that
+    /// converge gradually (see [`crate::trust::bounds`] for the gap and its assumption).
+    #[default]
     KatoTemple,
 }
 
@@ -474,7 +532,7 @@ pub struct AutoSettings {
 
 impl AutoSettings {
     /// Defaults for a selection and tolerance: start at 16 orbitals, doubling, at most 2^22
-    /// orbitals, 4096 MiB, residual bound.
+    /// orbitals, 4096 MiB, the deciding bound ([`BoundChoice::KatoTemple`]).
     pub fn new(selection: Selection, tolerance: f64) -> Self {
         AutoSettings {
             selection,
@@ -483,7 +541,7 @@ impl AutoSettings {
             growth: 2.0,
             max_cutoff: 1 << 22,
             memory_limit_mib: 4096,
-            bound: BoundChoice::Residual,
+            bound: BoundChoice::KatoTemple,
             base: Settings::default(),
         }
     }

@@ -7,7 +7,7 @@ use plotters::prelude::*;
 use std::path::Path;
 
 /// Column names of [`study_csv`], in order.
-pub const CSV_COLUMNS: [&str; 14] = [
+pub const CSV_COLUMNS: [&str; 16] = [
     "level",
     "sector_class",
     "sector_label",
@@ -21,6 +21,8 @@ pub const CSV_COLUMNS: [&str; 14] = [
     "change",
     "actual_error",
     "converged",
+    "bound_from",
+    "state",
     "needed_cutoff",
 ];
 
@@ -62,6 +64,10 @@ pub fn study_csv(study: &Study) -> Result<String> {
                 opt(e.change),
                 opt(e.actual_error),
                 e.converged.to_string(),
+                e.bound_from
+                    .map_or_else(String::new, |b| b.name().to_string()),
+                e.state
+                    .map_or_else(String::new, |st| st.word().replace(' ', "_")),
                 needed_str(l.needed_cutoff),
             ])
             .map_err(fail)?;
