@@ -671,10 +671,12 @@ pub fn table(rows: &[Vec<String>]) -> String {
                     .chars()
                     .next()
                     .is_some_and(|ch| ch.is_ascii_digit() || ch == '-' || ch == '+');
+                // padded by hand: a format width above 65535 panics
+                let pad = " ".repeat(width[i] - c.chars().count());
                 if numeric {
-                    format!("{c:>w$}", w = width[i])
+                    format!("{pad}{c}")
                 } else {
-                    format!("{c:<w$}", w = width[i])
+                    format!("{c}{pad}")
                 }
             })
             .collect();

@@ -1,0 +1,51 @@
+//! Limits on every size that comes from input, in one place.
+//!
+//! Each limit is far above any physically sensible use and far below what would exhaust the
+//! stack or the memory of the process; input beyond a limit is refused with an
+//! [`crate::Error::Parse`] or [`crate::Error::BadNumber`] that names the limit (the README,
+//! section Errors, lists them).
+
+/// Deepest nesting of an expression (model-file expressions, `--set`, `--formula`, `--case`):
+/// parentheses, signs, powers and function calls, counted together. Deeper expressions are
+/// refused before they can overflow the parser's stack.
+pub const MAX_EXPRESSION_DEPTH: usize = 200;
+
+/// Longest expression text, in bytes. Together with [`MAX_EXPRESSION_DEPTH`] this bounds the
+/// depth of a compiled expression tree (a chain `1+1+...` of this length is about 5000 deep).
+pub const MAX_EXPRESSION_LEN: usize = 10_000;
+
+/// Most factors in a Pauli/Kronecker string: 2^6 = 64 components, the most a model may have.
+/// The length is checked before the Kronecker product is formed.
+pub const MAX_PAULI_FACTORS: usize = 6;
+
+/// Longest name (model, component, parameter, term label), in characters.
+pub const MAX_NAME_LEN: usize = 256;
+
+/// Most points of an energy grid (`dos --energy-points`).
+pub const MAX_ENERGY_POINTS: usize = 1_000_000;
+
+/// Most points of a field or kz sweep (`--points`).
+pub const MAX_SWEEP_POINTS: usize = 100_000;
+
+/// Most worker threads (`--threads`); more are refused rather than started.
+pub const MAX_THREADS: usize = 1024;
+
+/// Longest excerpt of a user's text quoted in a message, in characters.
+pub const MAX_QUOTED_LEN: usize = 60;
+
+/// `s` shortened to [`MAX_QUOTED_LEN`] characters (with `...` when cut), for messages that
+/// quote input: an error stays one readable line whatever the input's size.
+///
+/// # Examples
+/// ```
+/// let long = "x".repeat(100);
+/// assert_eq!(ladderfan::limits::excerpt(&long).chars().count(), 63);
+/// assert_eq!(ladderfan::limits::excerpt("kx"), "kx");
+/// ```
+pub fn excerpt(s: &str) -> String {
+    if s.chars().count() <= MAX_QUOTED_LEN {
+        s.to_string()
+    } else {
+        format!("{}...", s.chars().take(MAX_QUOTED_LEN).collect::<String>())
+    }
+}
