@@ -60,16 +60,16 @@ pub struct ConvergeArgs {
     #[arg(long, value_enum, default_value_t = Mode::Study)]
     pub mode: Mode,
     /// Cutoffs of a study, comma-separated (e.g. 25,50,100); overrides --cutoff and --steps.
-    #[arg(long, value_delimiter = ',', value_name = "N,N,...")]
+    #[arg(value_parser = crate::cli::common::parse_count, long, value_delimiter = ',', value_name = "N,N,...")]
     pub cutoffs: Vec<usize>,
     /// study: the largest cutoff of the doubling list; auto: the first cutoff tried.
-    #[arg(long)]
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
     pub cutoff: Option<usize>,
     /// Number of cutoffs of a study's doubling list (cutoff / 2^(steps-1), ..., cutoff).
     #[arg(long, default_value_t = 5)]
     pub steps: u32,
     /// auto: the largest cutoff allowed.
-    #[arg(long, default_value_t = 1 << 20)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 1 << 20)]
     pub max_cutoff: usize,
     /// Memory limit for one solve, MiB.
     #[arg(long, value_name = "MIB")]
@@ -88,7 +88,7 @@ pub struct ConvergeArgs {
     )]
     pub window: Vec<f64>,
     /// Number of levels to follow, those nearest --target.
-    #[arg(long, default_value_t = 10)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 10)]
     pub count: usize,
     /// Target energy relative to the reference energy for --count.
     #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]

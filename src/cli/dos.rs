@@ -164,7 +164,7 @@ pub struct DosArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub emax: Option<f64>,
     /// Points of the DOS energy grid.
-    #[arg(long, default_value_t = 2000)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 2000)]
     pub energy_points: usize,
     /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2 (or, with
     /// --kz-integrate, at fixed --density-cm3).
@@ -174,7 +174,7 @@ pub struct DosArgs {
     #[arg(long, allow_negative_numbers = true, requires = "b_max")]
     pub b_min: Option<f64>,
     /// Points of the Fermi-level sweep.
-    #[arg(long, default_value_t = 200)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 200)]
     pub points: usize,
     /// 3D models: also integrate the kz sheets over kz, giving the DOS and carrier density per
     /// unit volume on the same energy grid (Gaussian lines only).
@@ -342,6 +342,17 @@ fn default_window(ld: &LevelDensity, width: f64) -> (f64, f64) {
 
 /// Run `ladderfan dos`.
 pub fn run(a: &DosArgs) -> CliResult {
+    if a.energy_points > ladderfan::limits::MAX_ENERGY_POINTS {
+        return Err(bad_flag(
+            "--energy-points",
+            format!(
+                "{} points is more than the limit of {}; use fewer points (2000 resolve a \
+                 line width of 1/1000 of the window)",
+                a.energy_points,
+                ladderfan::limits::MAX_ENERGY_POINTS
+            ),
+        ));
+    }
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
     let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;

@@ -18,7 +18,7 @@ pub struct LevelsArgs {
     #[command(flatten)]
     pub solve: SolveArgs,
     /// Number of levels to show, those closest to the reference energy (0: all).
-    #[arg(long, default_value_t = 20)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 20)]
     pub count: usize,
     /// Also show levels that are not converged (cutoff artefacts; flagged NO).
     #[arg(long)]
