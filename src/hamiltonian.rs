@@ -114,6 +114,19 @@ impl LadderHamiltonian {
         let d = model.dim();
         let sign_qb = (model.charge() * point.field).signum();
         let lb = model.units().magnetic_length(point.field, model.charge());
+        if !(lb.is_finite() && lb > 0.0 && lb.powi(-2).is_finite()) {
+            return Err(Error::BadNumber {
+                name: "magnetic length".into(),
+                value: lb,
+                fix: format!(
+                    "the field {:e} with charge {:e} is outside the range double precision \
+                     can hold (l_B = sqrt(hbar/|qB|) must be finite and non-zero); give a field \
+                     and charge of moderate size",
+                    point.field,
+                    model.charge()
+                ),
+            });
+        }
         // accumulate in double-double: (j,k) -> d*d entries of (re, im)
         let mut acc: BTreeMap<(u32, u32), Vec<(Dd, Dd)>> = BTreeMap::new();
         let mut weyl_cache: BTreeMap<(u32, u32), crate::ladder::NormalPoly> = BTreeMap::new();
@@ -166,6 +179,16 @@ impl LadderHamiltonian {
                 Complex64::new(re.lo, im.lo)
             });
             let scale = matrix.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            if !scale.is_finite() {
+                return Err(Error::BadNumber {
+                    name: format!("the coefficient of a†^{j} a^{k} at this field"),
+                    value: scale,
+                    fix: "a coefficient times 1/l_B^(in-plane degree) overflows double \
+                          precision; give coefficients, field and charge of moderate size (or \
+                          change the unit system)"
+                        .into(),
+                });
+            }
             if scale == 0.0 {
                 continue;
             }

@@ -260,6 +260,34 @@ impl Resolved {
     }
 }
 
+/// `s` if every level's energy and bound are finite; otherwise an error (exit 2) naming the
+/// first level that is not, since its numbers overflowed double precision.
+pub fn finite_spectrum(s: Spectrum) -> CliResult<Spectrum> {
+    if let Some((i, l)) = s
+        .levels
+        .iter()
+        .enumerate()
+        .find(|(_, l)| !(l.energy.is_finite() && l.bound.is_finite()))
+    {
+        let (what, value) = if l.energy.is_finite() {
+            ("bound", l.bound)
+        } else {
+            ("energy", l.energy)
+        };
+        return Err(CliError::Input(Error::BadNumber {
+            name: format!(
+                "the {what} of level {i} (sector {}:{}, n = {}) at field {:e}",
+                l.sector.class, l.sector.label, l.orbital, s.point.field
+            ),
+            value,
+            fix: "the matrix of this run overflows double precision; give coefficients, field \
+                  and charge of moderate size, or a smaller cutoff"
+                .into(),
+        }));
+    }
+    Ok(s)
+}
+
 /// Check a finite flag value.
 pub fn finite_flag(flag: &str, v: f64) -> CliResult<f64> {
     if v.is_finite() {
@@ -345,8 +373,18 @@ pub fn emit(text: &str) -> CliResult {
     }
 }
 
-/// Serialise `value` as pretty JSON and print it.
+/// Serialise `value` as pretty JSON and print it. A number that is not finite (JSON would
+/// print it as `null`) is an error naming its path, and nothing is printed.
 pub fn emit_json<T: Serialize>(value: &T) -> CliResult {
+    if let Some((path, x)) = super::finite::first_non_finite(value) {
+        return Err(CliError::Input(Error::BadNumber {
+            name: format!("the result's {path}"),
+            value: x,
+            fix: "the numbers of this run overflow double precision (coefficients, field, \
+                  charge or line width too large or too small); give values of moderate size"
+                .into(),
+        }));
+    }
     let mut s = serde_json::to_string_pretty(value).map_err(|e| {
         CliError::Input(Error::Unsupported(format!(
             "cannot serialise the result: {e}"

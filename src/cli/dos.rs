@@ -319,7 +319,7 @@ pub struct DosJson {
 fn spectrum(lm: &LoadedModel, point: FieldPoint, cutoff: usize, mem: u64) -> CliResult<Spectrum> {
     let mut s = Settings::with_cutoff(cutoff);
     s.memory_limit_mib = mem;
-    Ok(Spectrum::compute(&lm.model, point, &s)?)
+    common::finite_spectrum(Spectrum::compute(&lm.model, point, &s)?)
 }
 
 /// Default DOS window: the 12 converged levels on each side of the reference energy, padded
@@ -372,6 +372,17 @@ pub fn run(a: &DosArgs) -> CliResult {
         ));
     }
     let curve = ld.curve(emin, emax, a.energy_points)?;
+    if let Some(&(e, g)) = curve.iter().find(|p| !per_cm2(u, p.1).is_finite()) {
+        return Err(common::CliError::Input(ladderfan::Error::BadNumber {
+            name: format!("the DOS at {e:e} {} in 1/(meV cm^2)", u.energy_unit()),
+            value: per_cm2(u, g),
+            fix: format!(
+                "the line width {:e} is too small for double precision (the peak height goes \
+                 as 1/width); give a larger --width",
+                ld.width
+            ),
+        }));
+    }
     let fermi = match a.fermi.density(&lm, r.field)? {
         Some(n) => Some(fermi_level(
             &lm.model,

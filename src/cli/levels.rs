@@ -56,11 +56,28 @@ pub struct LevelsJson {
     pub levels_converged: usize,
     /// The levels shown, ascending in energy.
     pub levels: Vec<LevelJson>,
+    /// Named warnings (also printed on stderr), e.g. `nothing converged`.
+    pub warnings: Vec<String>,
+}
+
+/// The warnings of a spectrum: `nothing converged: ...` when no level met the tolerance.
+pub fn warnings(s: &Spectrum) -> Vec<String> {
+    let mut w = Vec::new();
+    if !s.levels.is_empty() && s.converged().next().is_none() {
+        w.push(format!(
+            "nothing converged: none of the {} levels at cutoff {} meets the tolerance {:e}; \
+             raise the cutoff, or check that the model's energy scales are sensible",
+            s.levels.len(),
+            s.cutoff,
+            s.tolerance
+        ));
+    }
+    w
 }
 
 /// Compute the spectrum for resolved settings.
 pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
-    Ok(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
+    common::finite_spectrum(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
 }
 
 /// The JSON result for a spectrum and the shown level indices.
@@ -79,6 +96,7 @@ pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
         levels_total: s.levels.len(),
         levels_converged: s.converged().count(),
         levels: levels_json(&lm.model, s, idx),
+        warnings: warnings(s),
     }
 }
 
@@ -210,6 +228,9 @@ pub fn run(a: &LevelsArgs) -> CliResult {
         common::Shown::Converged
     };
     let idx = nearest_levels(&s, a.count, shown);
+    for w in warnings(&s) {
+        eprintln!("ladderfan: warning: {w}");
+    }
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();

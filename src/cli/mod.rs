@@ -18,6 +18,7 @@ pub mod dispersion;
 pub mod dos;
 pub mod export;
 pub mod fan;
+pub mod finite;
 pub mod levels;
 pub mod merge;
 pub mod models;

@@ -133,7 +133,10 @@ pub fn solve_points(
             .install(work),
     };
     bar.finish_and_clear();
-    let spectra = results?;
+    let spectra = results?
+        .into_iter()
+        .map(super::common::finite_spectrum)
+        .collect::<CliResult<Vec<_>>>()?;
     let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
