@@ -21,6 +21,9 @@ pub const MAX_PAULI_FACTORS: usize = 6;
 /// Longest name (model, component, parameter, term label), in characters.
 pub const MAX_NAME_LEN: usize = 256;
 
+/// Largest model file, in bytes (16 MiB).
+pub const MAX_MODEL_FILE_BYTES: usize = 16 << 20;
+
 /// Most points of an energy grid (`dos --energy-points`).
 pub const MAX_ENERGY_POINTS: usize = 1_000_000;
 

@@ -195,13 +195,36 @@ pub fn parse_with_overrides(
 ) -> Result<ModelFile> {
     let src = Source { name, text };
     let raw: RawFile = toml::from_str(text).map_err(|e| {
-        let location = match e.span() {
-            Some(s) => src.location(s.start),
-            None => name.to_string(),
+        let raw_message = e.message().to_string();
+        let (location, note) = match e.span() {
+            Some(s) => {
+                // a syntax error found only at the start of a later line (an unclosed array,
+                // table or string) is shown where the text before it ends: that is where the
+                // missing `]`, `}`, `,` or quote belongs
+                let before = text.get(..s.start).unwrap_or(text);
+                let after_blank = before.trim_end_matches([' ', '\t']).ends_with('\n');
+                let end = before.trim_end().len();
+                let syntax = !raw_message.contains("duplicate")
+                    && !raw_message.starts_with("unknown field")
+                    && !raw_message.starts_with("missing field")
+                    && !raw_message.starts_with("invalid type");
+                if syntax && after_blank && end > 0 {
+                    let line = text.get(..s.start).map_or(0, |b| b.matches('\n').count()) + 1;
+                    (
+                        src.location(end),
+                        format!(
+                            " (noticed at line {line}; the value that ends here is not closed)"
+                        ),
+                    )
+                } else {
+                    (src.location(s.start), String::new())
+                }
+            }
+            None => (name.to_string(), String::new()),
         };
         Error::Parse {
             location,
-            message: toml_message(e.message()),
+            message: toml_message(&format!("{raw_message}{note}")),
         }
     })?;
     check_name_lengths(&src, &raw)?;
@@ -263,8 +286,16 @@ fn toml_message(m: &str) -> String {
             .replace("expected f64", "expected a number")
             .replace("expected a string", "expected a quoted string");
         format!("{fixed}; change the value's type")
+    } else if one_line.starts_with("duplicate key") || one_line.contains("duplicate") {
+        format!(
+            "TOML syntax: {one_line}; a key or [table] may appear only once: remove or merge the \
+             repeated one"
+        )
     } else {
-        format!("TOML syntax: {one_line}")
+        format!(
+            "TOML syntax: {one_line}; fix the TOML at this place (see the README, section Model \
+             files)"
+        )
     }
 }
 

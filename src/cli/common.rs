@@ -168,6 +168,46 @@ fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
         .collect()
 }
 
+/// The text of a model file, with a remedy for a file that is missing, unreadable, binary
+/// or too large.
+fn read_model_text(path: &Path) -> CliResult<String> {
+    let shown = path.display().to_string();
+    let limit = ladderfan::limits::MAX_MODEL_FILE_BYTES;
+    let bytes = std::fs::File::open(path)
+        .and_then(|f| {
+            use std::io::Read;
+            let mut b = Vec::new();
+            f.take(limit as u64 + 1).read_to_end(&mut b)?;
+            Ok(b)
+        })
+        .map_err(|e| {
+            bad_flag(
+                "--model",
+                format!("cannot read {shown}: {e}; give the path of a readable TOML model file"),
+            )
+        })?;
+    if bytes.len() > limit {
+        return Err(bad_flag(
+            "--model",
+            format!(
+                "{shown} is larger than {} MiB, the limit for a model file; give the TOML model \
+                 file (see the README, section Model files)",
+                limit >> 20
+            ),
+        ));
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        let at = e.utf8_error().valid_up_to();
+        bad_flag(
+            "--model",
+            format!(
+                "{shown} is not a text file (byte {at} is not UTF-8); --model takes a TOML \
+                 model file (see the README, section Model files)"
+            ),
+        )
+    })
+}
+
 /// Load the model from `--model FILE` or `--builtin NAME`, applying `--set` overrides.
 ///
 /// With `--model`, a `builtin = ...` file takes the overrides as extra `[set]` entries, a term
@@ -176,11 +216,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
     let sets = parse_set(&args.set)?;
     match (&args.model, &args.builtin) {
         (Some(path), _) => {
-            let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
-                action: "read model file".into(),
-                path: path.display().to_string(),
-                source,
-            })?;
+            let text = read_model_text(path)?;
             let name = path.display().to_string();
             let f = modelfile::parse_with_overrides(&name, &text, &sets)?;
             let mut origin = format!("file {name}");

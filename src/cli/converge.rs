@@ -96,6 +96,10 @@ pub struct ConvergeArgs {
     /// auto: which bound must meet the tolerance.
     #[arg(long, value_enum, default_value_t = BoundFlag::Residual)]
     pub bound: BoundFlag,
+    /// Also put the wall-clock seconds into the JSON result (without it two runs give the
+    /// same JSON).
+    #[arg(long)]
+    pub timings: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -150,6 +154,9 @@ pub struct StudyJson<'a> {
     pub units: UnitsJson,
     /// The study.
     pub study: &'a Study,
+    /// Wall-clock seconds per cutoff, only with `--timings` (they differ from run to run).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seconds: Option<&'a [f64]>,
 }
 
 /// One selected level of an automatic run.
@@ -192,8 +199,12 @@ pub struct AutoJson<'a> {
     pub first_converged_cutoff: usize,
     /// Matrix dimension N d at the final cutoff.
     pub matrix_dimension: usize,
-    /// Total seconds.
-    pub seconds: f64,
+    /// Total wall-clock seconds, only with `--timings` (they differ from run to run).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seconds: Option<f64>,
+    /// Wall-clock seconds of each step, only with `--timings`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub step_seconds: Option<Vec<f64>>,
     /// Energies are relative to this.
     pub reference_energy: f64,
     /// The steps.
@@ -351,7 +362,12 @@ pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> Strin
     out
 }
 
-fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> AutoJson<'a> {
+fn auto_json<'a>(
+    lm: &common::LoadedModel,
+    res: &'a AutoResult,
+    tol: f64,
+    timings: bool,
+) -> AutoJson<'a> {
     let s = &res.spectrum;
     AutoJson {
         command: "converge",
@@ -364,7 +380,8 @@ fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> Aut
         cutoff: res.cutoff,
         first_converged_cutoff: res.first_converged_cutoff,
         matrix_dimension: res.matrix_dimension,
-        seconds: res.seconds,
+        seconds: timings.then_some(res.seconds),
+        step_seconds: timings.then(|| res.history.iter().map(|h| h.seconds).collect()),
         reference_energy: s.reference_energy,
         history: &res.history,
         levels: res
@@ -486,6 +503,7 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                     model: ModelJson::new(&lm),
                     units: UnitsJson::new(&lm.model),
                     study: &st,
+                    seconds: a.timings.then_some(st.seconds.as_slice()),
                 })
             } else {
                 let mut text = study_table(&st, &lm.origin, lm.model.units());
@@ -513,7 +531,7 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                 written = files.write_all(dir)?;
             }
             if a.output.json {
-                emit_json(&auto_json(&lm, &res, a.tolerance))
+                emit_json(&auto_json(&lm, &res, a.tolerance, a.timings))
             } else {
                 let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
                 for p in written {

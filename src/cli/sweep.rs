@@ -641,6 +641,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         Some(text) => Some(Shard::parse(text)?),
         None => None,
     };
+
     let total = plan.points.len();
     let block = match shard {
         Some(s) => s.range(total)?,
@@ -730,6 +731,19 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         closed,
         shard: shard_header,
     })
+}
+
+/// Refuse flags that cannot go together with `--shard`, before any work: a shard writes its
+/// CSV for `ladderfan merge` and has no JSON result.
+pub fn check_shard_output(a: &SweepArgs, output: &common::OutputArgs) -> CliResult {
+    if a.shard.is_some() && output.json {
+        return Err(bad_flag(
+            "--json",
+            "a shard run (--shard) writes its CSV for `ladderfan merge` and has no JSON result; \
+             drop --json, or run the sweep without --shard for JSON",
+        ));
+    }
+    Ok(())
 }
 
 /// Write the files (if `--out`) and print the result.
