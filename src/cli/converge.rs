@@ -514,6 +514,16 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
             }
         }
         Mode::Auto => {
+            if r.cutoff > a.max_cutoff {
+                return Err(bad_flag(
+                    "--max-cutoff",
+                    format!(
+                        "the start cutoff {} exceeds --max-cutoff {}; raise --max-cutoff or lower \
+                         --cutoff",
+                        r.cutoff, a.max_cutoff
+                    ),
+                ));
+            }
             let mut s = AutoSettings::new(sel, a.tolerance);
             s.start_cutoff = r.cutoff;
             s.max_cutoff = a.max_cutoff;

@@ -271,14 +271,14 @@ mod tests {
     use super::*;
     use std::collections::BTreeMap;
 
-    #[derive(Serialize)]
+    #[derive(serde::Serialize)]
     struct Level {
         energy: f64,
         bound: Option<f64>,
     }
 
-    #[derive(Serialize)]
-    struct Result {
+    #[derive(serde::Serialize)]
+    struct Outcome {
         name: String,
         levels: Vec<Level>,
         window: (f64, f64),
@@ -287,7 +287,7 @@ mod tests {
 
     #[test]
     fn the_first_non_finite_number_is_found_with_its_path() {
-        let mut r = Result {
+        let mut r = Outcome {
             name: "m".into(),
             levels: vec![
                 Level {

@@ -139,14 +139,35 @@ fn install_panic_hook() {
             .location()
             .map(|l| format!(" at {}:{}", l.file(), l.line()))
             .unwrap_or_default();
-        let command: Vec<String> = std::env::args().map(|a| limits_excerpt(&a)).collect();
-        eprintln!(
-            "ladderfan: error: internal error ({}{at}); this is a bug in ladderfan, please report \
-             it with this line and the command line: {} (exit code 3)",
-            one_line(&limits_excerpt(&msg)),
-            command.join(" ")
-        );
+        let args: Vec<String> = std::env::args().collect();
+        eprintln!("{}", panic_report(&msg, &at, &args));
     }));
+}
+
+/// The one line printed for a panic: what happened, where, and a request for a report with
+/// the command line.
+fn panic_report(msg: &str, at: &str, args: &[String]) -> String {
+    let command: Vec<String> = args.iter().map(|a| limits_excerpt(a)).collect();
+    format!(
+        "ladderfan: error: internal error ({}{at}); this is a bug in ladderfan, please report \
+         it with this line and the command line: {} (exit code 3)",
+        one_line(&limits_excerpt(msg)),
+        one_line(&command.join(" "))
+    )
+}
+
+/// Run `f`; a panic (already reported by the hook) becomes [`EXIT_INTERNAL`], an error its
+/// one line and exit code.
+fn guarded(f: impl FnOnce() -> CliResult + std::panic::UnwindSafe) -> i32 {
+    match std::panic::catch_unwind(f) {
+        Ok(Ok(())) => 0,
+        Ok(Err(CliError::BrokenPipe)) => 0,
+        Ok(Err(e)) => {
+            eprintln!("ladderfan: error: {}", e.message());
+            e.exit_code()
+        }
+        Err(_) => EXIT_INTERNAL,
+    }
 }
 
 fn limits_excerpt(s: &str) -> String {
@@ -187,15 +208,7 @@ pub fn main_exit_code() -> i32 {
     let command = cli
         .command
         .unwrap_or_else(|| Command::Demo(demo::DemoArgs::default()));
-    match std::panic::catch_unwind(|| dispatch(command)) {
-        Ok(Ok(())) => 0,
-        Ok(Err(CliError::BrokenPipe)) => 0,
-        Ok(Err(e)) => {
-            eprintln!("ladderfan: error: {}", e.message());
-            e.exit_code()
-        }
-        Err(_) => EXIT_INTERNAL,
-    }
+    guarded(|| dispatch(command))
 }
 
 #[cfg(test)]
@@ -207,6 +220,38 @@ mod tests {
             .into_iter()
             .map(|a| a.to_string_lossy().into_owned())
             .collect()
+    }
+
+    #[test]
+    fn a_panic_exits_3_and_asks_for_a_report() {
+        // regression: a panic exited 1, the code of a failed verification
+        assert_eq!(guarded(|| panic!("injected")), 3);
+        assert_eq!(guarded(|| Ok(())), 0);
+        assert_eq!(
+            guarded(|| Err(CliError::Verification("formula".into()))),
+            common::EXIT_VERIFICATION
+        );
+        assert_eq!(
+            guarded(|| Err(common::bad_flag("--x", "bad"))),
+            EXIT_BAD_INPUT
+        );
+        let line = panic_report(
+            "index out of\nbounds",
+            " at src/x.rs:3",
+            &[
+                "ladderfan".into(),
+                "levels".into(),
+                "--builtin".into(),
+                "dirac2d".into(),
+            ],
+        );
+        assert!(!line.contains('\n'), "{line}");
+        assert!(line.contains("please report it"), "{line}");
+        assert!(
+            line.contains("ladderfan levels --builtin dirac2d"),
+            "{line}"
+        );
+        assert!(line.contains("exit code 3"), "{line}");
     }
 
     #[test]
