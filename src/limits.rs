@@ -36,19 +36,29 @@ pub const MAX_THREADS: usize = 1024;
 /// Longest excerpt of a user's text quoted in a message, in characters.
 pub const MAX_QUOTED_LEN: usize = 60;
 
-/// `s` shortened to [`MAX_QUOTED_LEN`] characters (with `...` when cut), for messages that
-/// quote input: an error stays one readable line whatever the input's size.
+/// `s` shortened to [`MAX_QUOTED_LEN`] characters (with `...` when cut) and with control
+/// characters escaped (`\n`, `\u{0}`), for messages that quote input: an error stays one
+/// readable line whatever the input.
 ///
 /// # Examples
 /// ```
 /// let long = "x".repeat(100);
 /// assert_eq!(ladderfan::limits::excerpt(&long).chars().count(), 63);
 /// assert_eq!(ladderfan::limits::excerpt("kx"), "kx");
+/// assert_eq!(ladderfan::limits::excerpt("a\nb"), "a\\nb");
 /// ```
 pub fn excerpt(s: &str) -> String {
-    if s.chars().count() <= MAX_QUOTED_LEN {
-        s.to_string()
-    } else {
-        format!("{}...", s.chars().take(MAX_QUOTED_LEN).collect::<String>())
+    let mut out = String::new();
+    for (i, c) in s.chars().enumerate() {
+        if i == MAX_QUOTED_LEN {
+            out.push_str("...");
+            break;
+        }
+        if c.is_control() {
+            out.extend(c.escape_debug());
+        } else {
+            out.push(c);
+        }
     }
+    out
 }

@@ -276,6 +276,29 @@ fn check_name_lengths(src: &Source, raw: &RawFile) -> Result<()> {
 
 fn toml_message(m: &str) -> String {
     let one_line = m.split_whitespace().collect::<Vec<_>>().join(" ");
+    // keys and values quoted in backticks come from the file: keep them short
+    let one_line: String = one_line
+        .split('`')
+        .enumerate()
+        .map(|(i, part)| {
+            if i % 2 == 1 {
+                crate::limits::excerpt(part)
+            } else {
+                part.to_string()
+            }
+        })
+        .collect::<Vec<_>>()
+        .join("`");
+    // a value quoted in full (e.g. `invalid type: string "..."`) may be long: keep the start
+    // and the end, where the expected type is named
+    let n = one_line.chars().count();
+    let one_line = if n > 400 {
+        let head: String = one_line.chars().take(150).collect();
+        let tail: String = one_line.chars().skip(n - 200).collect();
+        format!("{head}...{tail}")
+    } else {
+        one_line
+    };
     if one_line.starts_with("unknown field") {
         format!("{one_line}; remove or rename the key (see the README, section Model files)")
     } else if one_line.starts_with("missing field") {
@@ -358,7 +381,7 @@ fn from_builtin(
             &b.span(),
             format!(
                 "unknown built-in model '{}'; choose one of {}",
-                b.get_ref(),
+                crate::limits::excerpt(b.get_ref()),
                 builtin_names().join(", ")
             ),
         )
@@ -457,8 +480,9 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
                 return Err(src.err(
                     &u.span(),
                     format!(
-                        "units = \"{other}\" is unknown; use \"lab\" (meV, nm, T) or \"natural\" \
-                         (m c^2, hbar/(m c), B_c)"
+                        "units = \"{}\" is unknown; use \"lab\" (meV, nm, T) or \"natural\" \
+                         (m c^2, hbar/(m c), B_c)",
+                        crate::limits::excerpt(other)
                     ),
                 ))
             }
@@ -1038,7 +1062,11 @@ pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
             Some((b, p)) => (
                 b,
                 p.parse::<u32>().map_err(|_| {
-                    format!("power '{p}' in '{f}' is not a non-negative integer; write e.g. kx^2")
+                    format!(
+                        "power '{}' in '{}' is not a non-negative integer; write e.g. kx^2",
+                        crate::limits::excerpt(p),
+                        crate::limits::excerpt(f)
+                    )
                 })?,
             ),
             None => (f, 1),
@@ -1050,7 +1078,8 @@ pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
             "B" => &mut m.field,
             _ => {
                 return Err(format!(
-                    "unknown factor '{base}'; use kx, ky, kz and B with integer powers, or \"1\""
+                    "unknown factor '{}'; use kx, ky, kz and B with integer powers, or \"1\"",
+                    crate::limits::excerpt(base)
                 ))
             }
         };
@@ -1145,7 +1174,8 @@ impl ExprContext {
             },
             _ => {
                 return Err(format!(
-                    "unknown function '{f}'; available: {}",
+                    "unknown function '{}'; available: {}",
+                    crate::limits::excerpt(f),
                     FUNCTIONS.join(", ")
                 ))
             }
@@ -1221,7 +1251,7 @@ fn tokenize(s: &str) -> std::result::Result<Vec<Tok>, String> {
             let text: String = chars[start..i].iter().collect();
             let v = text
                 .parse::<f64>()
-                .map_err(|_| format!("'{text}' is not a number"))?;
+                .map_err(|_| format!("'{}' is not a number", crate::limits::excerpt(&text)))?;
             out.push(Tok::Num(v));
         } else if c.is_ascii_alphabetic() || c == '_' {
             let start = i;
@@ -1336,7 +1366,8 @@ impl ExprParser<'_> {
                     let mut known: Vec<String> = self.ctx.params.keys().cloned().collect();
                     known.extend(constants(self.ctx.units).iter().map(|c| c.0.to_string()));
                     format!(
-                        "unknown name '{name}'; define it in [parameters] or use one of: {}",
+                        "unknown name '{}'; define it in [parameters] or use one of: {}",
+                        crate::limits::excerpt(&name),
                         known.join(", ")
                     )
                 })
@@ -1724,7 +1755,8 @@ pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model
     let info = builtin_info(name).ok_or_else(|| Error::Parse {
         location: "--builtin".into(),
         message: format!(
-            "unknown built-in model '{name}'; choose one of {} (or list them with `ladderfan models`)",
+            "unknown built-in model '{}'; choose one of {} (or list them with `ladderfan models`)",
+            crate::limits::excerpt(name),
             builtin_names().join(", ")
         ),
     })?;

@@ -70,7 +70,17 @@ impl CliError {
             CliError::Verification(m) => format!("verification failed: {m}"),
             CliError::BrokenPipe => String::new(),
         };
-        m.split_whitespace().collect::<Vec<_>>().join(" ")
+        // one line, and no single word (a quoted input) longer than a few dozen characters
+        m.split_whitespace()
+            .map(|w| {
+                if w.chars().count() > 200 {
+                    ladderfan::limits::excerpt(w)
+                } else {
+                    w.to_string()
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(" ")
     }
 }
 
@@ -234,7 +244,8 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 bad_flag(
                     "--builtin",
                     format!(
-                        "unknown built-in model '{name}'; choose one of {} (see `ladderfan models`)",
+                        "unknown built-in model '{}'; choose one of {} (see `ladderfan models`)",
+                        ladderfan::limits::excerpt(name),
                         modelfile::builtin_names().join(", ")
                     ),
                 )

@@ -628,7 +628,10 @@ impl Parser<'_> {
                     None => {
                         self.pos = start;
                         let known = self.scope.names().join(", ");
-                        Err(self.err(&format!("unknown variable '{name}'; known names: {known}")))
+                        Err(self.err(&format!(
+                            "unknown variable '{}'; known names: {known}",
+                            crate::limits::excerpt(&name)
+                        )))
                     }
                 },
             };
@@ -642,8 +645,9 @@ impl Parser<'_> {
             None => {
                 self.pos = start;
                 return Err(self.err(&format!(
-                    "unknown function '{name}'; known: sqrt abs sign exp ln log10 sin cos tan \
-                     atan sinh cosh tanh floor ceil round hypot atan2 min max if"
+                    "unknown function '{}'; known: sqrt abs sign exp ln log10 sin cos tan \
+                     atan sinh cosh tanh floor ceil round hypot atan2 min max if",
+                    crate::limits::excerpt(name)
                 )));
             }
         };
@@ -713,7 +717,10 @@ impl Parser<'_> {
             Ok(x) => x,
             Err(_) => {
                 self.pos = start;
-                return Err(self.err(&format!("'{text}' is not a number")));
+                return Err(self.err(&format!(
+                    "'{}' is not a number",
+                    crate::limits::excerpt(&text)
+                )));
             }
         };
         if let Some(c) = self.src.get(self.pos) {
