@@ -62,3 +62,50 @@ pub fn excerpt(s: &str) -> String {
     }
     out
 }
+
+/// Longest word (a run without whitespace) of a message, in characters; longer words are
+/// quoted input and are shortened with [`excerpt`].
+pub const MAX_MESSAGE_WORD: usize = 100;
+
+/// Longest message, in characters.
+pub const MAX_MESSAGE_LEN: usize = 1500;
+
+/// `message` as one bounded line: control characters escaped, every word longer than
+/// [`MAX_MESSAGE_WORD`] shortened, the whole at most [`MAX_MESSAGE_LEN`] characters. Applied
+/// to the messages of [`crate::Error::Parse`], which quote the user's input.
+///
+/// # Examples
+/// ```
+/// let m = format!("unknown name '{}'; define it", "a".repeat(5000));
+/// let b = ladderfan::limits::bounded(&m);
+/// assert!(b.len() < 200 && b.ends_with("; define it"));
+/// ```
+pub fn bounded(message: &str) -> String {
+    let words: Vec<String> = message
+        .split(' ')
+        .map(|w| {
+            if w.chars().count() > MAX_MESSAGE_WORD || w.chars().any(char::is_control) {
+                let mut e = excerpt(w);
+                if w.chars().count() <= MAX_QUOTED_LEN {
+                    return e;
+                }
+                // keep a closing quote or punctuation of the shortened word
+                if let Some(last) = w.chars().last().filter(|c| !c.is_alphanumeric()) {
+                    e.push(last);
+                }
+                e
+            } else {
+                w.to_string()
+            }
+        })
+        .collect();
+    let joined = words.join(" ");
+    if joined.chars().count() > MAX_MESSAGE_LEN {
+        format!(
+            "{}...",
+            joined.chars().take(MAX_MESSAGE_LEN).collect::<String>()
+        )
+    } else {
+        joined
+    }
+}

@@ -1217,7 +1217,7 @@ impl Tok {
     fn text(&self) -> String {
         match self {
             Tok::Num(x) => x.to_string(),
-            Tok::Ident(s) => s.clone(),
+            Tok::Ident(s) => crate::limits::excerpt(s),
             Tok::Op(c) => c.to_string(),
         }
     }

@@ -193,7 +193,7 @@ fn read_model_text(path: &Path) -> CliResult<String> {
         .map_err(|e| {
             bad_flag(
                 "--model",
-                format!("cannot read {shown}: {e}; give the path of a readable TOML model file"),
+                format!("cannot read model file {shown}: {e}; give the path of a readable TOML model file"),
             )
         })?;
     if bytes.len() > limit {
