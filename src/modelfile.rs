@@ -1873,10 +1873,8 @@ mod tests {
         let text = "components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"xxxxxxxxxxxxxxxxxxxxxxxx\"\nmonomial = \"1\"\n";
         let m = msg(text);
         assert!(m.contains("more than 6 factors"), "{m}");
-        let m = msg(
-            &"components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"Q\"\nmonomial = \"1\"\n"
-                .to_string(),
-        );
+        let m =
+            msg("components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"Q\"\nmonomial = \"1\"\n");
         assert!(m.contains("unknown Pauli factor 'Q'"), "{m}");
     }
 
