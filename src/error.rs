@@ -89,8 +89,9 @@ pub enum Error {
         /// What happened.
         detail: String,
     },
-    /// A model file or other input could not be parsed.
-    #[error("{location}: {message}")]
+    /// A model file or other input could not be parsed. The message is shown through
+    /// [`crate::limits::bounded`]: it quotes input, and stays one bounded line.
+    #[error("{}: {}", crate::limits::bounded(.location), crate::limits::bounded(.message))]
     Parse {
         /// `file:line:column` or the flag name.
         location: String,

@@ -168,6 +168,19 @@ impl LadderHamiltonian {
         let d = model.dim();
         let sign_qb = (model.charge() * point.field).signum();
         let lb = model.units().magnetic_length(point.field, model.charge());
+        if !(lb.is_finite() && lb > 0.0 && lb.powi(-2).is_finite()) {
+            return Err(Error::BadNumber {
+                name: "magnetic length".into(),
+                value: lb,
+                fix: format!(
+                    "the field {:e} with charge {:e} is outside the range double precision \
+                     can hold (l_B = sqrt(hbar/|qB|) must be finite and non-zero); give a field \
+                     and charge of moderate size",
+                    point.field,
+                    model.charge()
+                ),
+            });
+        }
         // accumulate in double-double: (j,k) -> d*d entries of (re, im), each with the sum of
         // the magnitudes of its contributions (for the cancellation test, see `CANCELLATION_ULPS`)
         let mut acc: BTreeMap<(u32, u32), Vec<Entry>> = BTreeMap::new();
@@ -254,6 +267,16 @@ impl LadderHamiltonian {
                 Complex64::new(e.re.lo, e.im.lo)
             });
             let scale = matrix.iter().map(|z| z.norm()).fold(0.0, f64::max);
+            if !scale.is_finite() {
+                return Err(Error::BadNumber {
+                    name: format!("the coefficient of a†^{j} a^{k} at this field"),
+                    value: scale,
+                    fix: "a coefficient times 1/l_B^(in-plane degree) overflows double \
+                          precision; give coefficients, field and charge of moderate size (or \
+                          change the unit system)"
+                        .into(),
+                });
+            }
             if scale == 0.0 {
                 continue;
             }

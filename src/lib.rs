@@ -41,6 +41,7 @@ pub mod error;
 pub mod hamiltonian;
 pub mod ladder;
 pub mod levels;
+pub mod limits;
 pub mod matrix;
 pub mod model;
 pub mod modelfile;

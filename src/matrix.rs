@@ -56,25 +56,41 @@ fn pauli_factor(ch: char) -> Option<[[Complex64; 2]; 2]> {
 /// assert_eq!(m[(1, 3)].re, -1.0);
 /// ```
 pub fn pauli(spec: &str) -> Result<SpinMatrix> {
-    let mut out = DMatrix::from_element(1, 1, c(1.0, 0.0));
-    let mut count = 0;
+    // read and count every factor before any product is formed: a string of k factors is a
+    // 2^k x 2^k matrix, so the length is checked first
+    let mut factors = Vec::new();
     for ch in spec.chars() {
         if matches!(ch, '⊗' | '*' | ' ' | '.' | '_') {
             continue;
         }
         let f = pauli_factor(ch).ok_or_else(|| Error::Parse {
-            location: format!("matrix \"{spec}\""),
+            location: format!("matrix \"{}\"", crate::limits::excerpt(spec)),
             message: format!(
                 "unknown Pauli factor '{ch}'; use 0 (identity), x, y, z, +, -, u, d, joined by ⊗ or *"
             ),
         })?;
+        factors.push(f);
+        if factors.len() > crate::limits::MAX_PAULI_FACTORS {
+            return Err(Error::Parse {
+                location: format!("matrix \"{}\"", crate::limits::excerpt(spec)),
+                message: format!(
+                    "the Pauli string has more than {max} factors (a {max}-factor string is \
+                     already {d}x{d}, the most components a model may have); give at most {max} \
+                     factors",
+                    max = crate::limits::MAX_PAULI_FACTORS,
+                    d = 1usize << crate::limits::MAX_PAULI_FACTORS
+                ),
+            });
+        }
+    }
+    let mut out = DMatrix::from_element(1, 1, c(1.0, 0.0));
+    for f in &factors {
         let f = DMatrix::from_fn(2, 2, |r, col| f[r][col]);
         out = out.kronecker(&f);
-        count += 1;
     }
-    if count == 0 {
+    if factors.is_empty() {
         return Err(Error::Parse {
-            location: format!("matrix \"{spec}\""),
+            location: format!("matrix \"{}\"", crate::limits::excerpt(spec)),
             message: "empty Pauli string; give at least one factor such as \"z\"".into(),
         });
     }

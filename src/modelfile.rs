@@ -195,15 +195,39 @@ pub fn parse_with_overrides(
 ) -> Result<ModelFile> {
     let src = Source { name, text };
     let raw: RawFile = toml::from_str(text).map_err(|e| {
-        let location = match e.span() {
-            Some(s) => src.location(s.start),
-            None => name.to_string(),
+        let raw_message = e.message().to_string();
+        let (location, note) = match e.span() {
+            Some(s) => {
+                // a syntax error found only at the start of a later line (an unclosed array,
+                // table or string) is shown where the text before it ends: that is where the
+                // missing `]`, `}`, `,` or quote belongs
+                let before = text.get(..s.start).unwrap_or(text);
+                let after_blank = before.trim_end_matches([' ', '\t']).ends_with('\n');
+                let end = before.trim_end().len();
+                let syntax = !raw_message.contains("duplicate")
+                    && !raw_message.starts_with("unknown field")
+                    && !raw_message.starts_with("missing field")
+                    && !raw_message.starts_with("invalid type");
+                if syntax && after_blank && end > 0 {
+                    let line = text.get(..s.start).map_or(0, |b| b.matches('\n').count()) + 1;
+                    (
+                        src.location(end),
+                        format!(
+                            " (noticed at line {line}; the value that ends here is not closed)"
+                        ),
+                    )
+                } else {
+                    (src.location(s.start), String::new())
+                }
+            }
+            None => (name.to_string(), String::new()),
         };
         Error::Parse {
             location,
-            message: toml_message(e.message()),
+            message: toml_message(&format!("{raw_message}{note}")),
         }
     })?;
+    check_name_lengths(&src, &raw)?;
     let model = match &raw.builtin {
         Some(b) => from_builtin(&src, &raw, b, overrides)?,
         None => from_terms(&src, &raw, overrides)?,
@@ -217,8 +241,64 @@ pub fn parse_with_overrides(
     })
 }
 
+/// Names and labels longer than [`crate::limits::MAX_NAME_LEN`] are refused: they end up in
+/// table columns, CSV headers and plot legends.
+fn check_name_lengths(src: &Source, raw: &RawFile) -> Result<()> {
+    let max = crate::limits::MAX_NAME_LEN;
+    let too_long = |what: &str, name: &str, span: &Range<usize>| -> Result<()> {
+        if name.chars().count() > max {
+            return Err(src.err(
+                span,
+                format!(
+                    "{what} '{}' is {} characters long, more than the limit of {max}; shorten it",
+                    crate::limits::excerpt(name),
+                    name.chars().count()
+                ),
+            ));
+        }
+        Ok(())
+    };
+    if let Some(n) = &raw.name {
+        too_long("name", n.get_ref(), &n.span())?;
+    }
+    if let Some(names) = &raw.component_names {
+        for n in names.get_ref() {
+            too_long("component name", n, &names.span())?;
+        }
+    }
+    for t in raw.term.iter().flatten() {
+        if let Some(l) = &t.get_ref().label {
+            too_long("term label", l, &t.span())?;
+        }
+    }
+    Ok(())
+}
+
 fn toml_message(m: &str) -> String {
     let one_line = m.split_whitespace().collect::<Vec<_>>().join(" ");
+    // keys and values quoted in backticks come from the file: keep them short
+    let one_line: String = one_line
+        .split('`')
+        .enumerate()
+        .map(|(i, part)| {
+            if i % 2 == 1 {
+                crate::limits::excerpt(part)
+            } else {
+                part.to_string()
+            }
+        })
+        .collect::<Vec<_>>()
+        .join("`");
+    // a value quoted in full (e.g. `invalid type: string "..."`) may be long: keep the start
+    // and the end, where the expected type is named
+    let n = one_line.chars().count();
+    let one_line = if n > 400 {
+        let head: String = one_line.chars().take(150).collect();
+        let tail: String = one_line.chars().skip(n - 200).collect();
+        format!("{head}...{tail}")
+    } else {
+        one_line
+    };
     if one_line.starts_with("unknown field") {
         format!("{one_line}; remove or rename the key (see the README, section Model files)")
     } else if one_line.starts_with("missing field") {
@@ -229,8 +309,16 @@ fn toml_message(m: &str) -> String {
             .replace("expected f64", "expected a number")
             .replace("expected a string", "expected a quoted string");
         format!("{fixed}; change the value's type")
+    } else if one_line.starts_with("duplicate key") || one_line.contains("duplicate") {
+        format!(
+            "TOML syntax: {one_line}; a key or [table] may appear only once: remove or merge the \
+             repeated one"
+        )
     } else {
-        format!("TOML syntax: {one_line}")
+        format!(
+            "TOML syntax: {one_line}; fix the TOML at this place (see the README, section Model \
+             files)"
+        )
     }
 }
 
@@ -293,7 +381,7 @@ fn from_builtin(
             &b.span(),
             format!(
                 "unknown built-in model '{}'; choose one of {}",
-                b.get_ref(),
+                crate::limits::excerpt(b.get_ref()),
                 builtin_names().join(", ")
             ),
         )
@@ -392,15 +480,16 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
                 return Err(src.err(
                     &u.span(),
                     format!(
-                        "units = \"{other}\" is unknown; use \"lab\" (meV, nm, T) or \"natural\" \
-                         (m c^2, hbar/(m c), B_c)"
+                        "units = \"{}\" is unknown; use \"lab\" (meV, nm, T) or \"natural\" \
+                         (m c^2, hbar/(m c), B_c)",
+                        crate::limits::excerpt(other)
                     ),
                 ))
             }
         },
     };
     // parameters: numbers or expressions of other parameters, resolved in dependency order
-    let mut pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
+    let pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
         raw.parameters.iter().flat_map(|p| p.iter()).collect();
     let mut ctx = ExprContext::new(units, BTreeMap::new());
     for (k, _) in &pending {
@@ -411,6 +500,16 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
                 format!(
                     "parameter name '{key}' is not an identifier; use letters, digits and _ \
                      (not starting with a digit)"
+                ),
+            ));
+        }
+        if key.chars().count() > crate::limits::MAX_NAME_LEN {
+            return Err(src.err(
+                &k.span(),
+                format!(
+                    "parameter name '{}' is longer than {} characters; shorten it",
+                    crate::limits::excerpt(key),
+                    crate::limits::MAX_NAME_LEN
                 ),
             ));
         }
@@ -437,49 +536,7 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
             });
         }
     }
-    while !pending.is_empty() {
-        let before = pending.len();
-        let mut still = Vec::new();
-        let mut last_err = None;
-        for (k, v) in pending {
-            let value = match overrides.iter().find(|(o, _)| o == k.get_ref()) {
-                Some((o, expr)) => eval_expression(expr, units, &ctx.params, &format!("--set {o}")),
-                None => real_value(src, v, &ctx, &format!("parameter {}", k.get_ref())),
-            };
-            match value {
-                Ok(x) => {
-                    ctx.params.insert(k.get_ref().clone(), x);
-                }
-                Err(e) => {
-                    last_err = Some(e);
-                    still.push((k, v));
-                }
-            }
-        }
-        if still.len() == before {
-            // nothing resolved this round: a cycle if an expression names another pending
-            // parameter, else the first failure (an unknown name, a syntax error)
-            let names: Vec<&str> = still.iter().map(|(k, _)| k.get_ref().as_str()).collect();
-            let cyclic = still.iter().find(|(_, v)| match v.get_ref() {
-                toml::Value::String(e) => tokenize(e).is_ok_and(|t| {
-                    t.iter()
-                        .any(|x| matches!(x, Tok::Ident(n) if names.contains(&n.as_str())))
-                }),
-                _ => false,
-            });
-            if let Some((k, _)) = cyclic {
-                return Err(src.err(
-                    &k.span(),
-                    format!(
-                        "parameters {} refer to each other in a cycle; give one of them a number",
-                        names.join(", ")
-                    ),
-                ));
-            }
-            return Err(last_err.unwrap_or_else(|| src.err(&whole, "unresolvable parameters")));
-        }
-        pending = still;
-    }
+    resolve_parameters(src, &pending, overrides, &mut ctx)?;
     let charge = match &raw.charge {
         None => -1.0,
         Some(c) => {
@@ -614,6 +671,112 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
         .unwrap_or_else(|| terms[0].span());
         src.err(&span, msg)
     })
+}
+
+/// Evaluate the `[parameters]` (with `--set` overrides) in dependency order into `ctx.params`.
+///
+/// The names each expression refers to give a dependency graph; Kahn's algorithm orders it
+/// (linear in the number of parameters and references) and what is left over lies on or
+/// behind a cycle, which is reported by walking the left-over references until a name repeats.
+fn resolve_parameters(
+    src: &Source,
+    pending: &[(&Spanned<String>, &Spanned<toml::Value>)],
+    overrides: &[(String, String)],
+    ctx: &mut ExprContext,
+) -> Result<()> {
+    let index: BTreeMap<&str, usize> = pending
+        .iter()
+        .enumerate()
+        .map(|(i, (k, _))| (k.get_ref().as_str(), i))
+        .collect();
+    let override_of = |name: &str| overrides.iter().find(|(o, _)| o == name);
+    // deps[i]: the parameters expression i names (a text that does not tokenize has none:
+    // its evaluation reports the syntax error)
+    let deps: Vec<Vec<usize>> = pending
+        .iter()
+        .map(|(k, v)| {
+            let text = match override_of(k.get_ref()) {
+                Some((_, e)) => Some(e.as_str()),
+                None => match v.get_ref() {
+                    toml::Value::String(e) => Some(e.as_str()),
+                    _ => None,
+                },
+            };
+            let mut d: Vec<usize> = text
+                .and_then(|t| tokenize(t).ok())
+                .into_iter()
+                .flatten()
+                .filter_map(|t| match t {
+                    Tok::Ident(n) => index.get(n.as_str()).copied(),
+                    _ => None,
+                })
+                .collect();
+            d.sort_unstable();
+            d.dedup();
+            d
+        })
+        .collect();
+    let mut users: Vec<Vec<usize>> = vec![Vec::new(); pending.len()];
+    let mut missing: Vec<usize> = vec![0; pending.len()];
+    for (i, d) in deps.iter().enumerate() {
+        missing[i] = d.len();
+        for &j in d {
+            users[j].push(i);
+        }
+    }
+    let mut ready: Vec<usize> = (0..pending.len()).filter(|&i| missing[i] == 0).collect();
+    let mut done = vec![false; pending.len()];
+    while let Some(i) = ready.pop() {
+        let (k, v) = pending[i];
+        let value = match override_of(k.get_ref()) {
+            Some((o, expr)) => ctx.eval(expr).map_err(|m| Error::Parse {
+                location: format!("--set {o}"),
+                message: format!("in \"{}\": {m}", crate::limits::excerpt(expr)),
+            }),
+            None => real_value(src, v, ctx, &format!("parameter {}", k.get_ref())),
+        }?;
+        if !value.is_finite() {
+            return Err(Error::Parse {
+                location: format!("--set {}", k.get_ref()),
+                message: format!(
+                    "{} is {value}, not a finite number; give a finite value",
+                    k.get_ref()
+                ),
+            });
+        }
+        ctx.params.insert(k.get_ref().clone(), value);
+        done[i] = true;
+        for &u in &users[i] {
+            missing[u] -= 1;
+            if missing[u] == 0 {
+                ready.push(u);
+            }
+        }
+    }
+    let Some(start) = (0..pending.len()).find(|&i| !done[i]) else {
+        return Ok(());
+    };
+    // every left-over parameter names a left-over parameter: walk until a name repeats
+    let mut seen = vec![usize::MAX; pending.len()];
+    let mut path = Vec::new();
+    let mut at = start;
+    while seen[at] == usize::MAX {
+        seen[at] = path.len();
+        path.push(at);
+        at = deps[at].iter().copied().find(|&j| !done[j]).unwrap_or(at);
+    }
+    let cycle = &path[seen[at]..];
+    let names: Vec<&str> = cycle
+        .iter()
+        .map(|&i| pending[i].0.get_ref().as_str())
+        .collect();
+    Err(src.err(
+        &pending[cycle[0]].0.span(),
+        format!(
+            "parameters {} refer to each other in a cycle; give one of them a number",
+            names.join(", ")
+        ),
+    ))
 }
 
 fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefaults> {
@@ -752,9 +915,12 @@ fn scalar(
     let x = match v {
         toml::Value::Integer(i) => *i as f64,
         toml::Value::Float(f) => *f,
-        toml::Value::String(s) => ctx
-            .eval(s)
-            .map_err(|m| src.err(span, format!("{what}: in \"{s}\": {m}")))?,
+        toml::Value::String(s) => ctx.eval(s).map_err(|m| {
+            src.err(
+                span,
+                format!("{what}: in \"{}\": {m}", crate::limits::excerpt(s)),
+            )
+        })?,
         other => {
             return Err(src.err(
                 span,
@@ -896,7 +1062,11 @@ pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
             Some((b, p)) => (
                 b,
                 p.parse::<u32>().map_err(|_| {
-                    format!("power '{p}' in '{f}' is not a non-negative integer; write e.g. kx^2")
+                    format!(
+                        "power '{}' in '{}' is not a non-negative integer; write e.g. kx^2",
+                        crate::limits::excerpt(p),
+                        crate::limits::excerpt(f)
+                    )
                 })?,
             ),
             None => (f, 1),
@@ -908,7 +1078,8 @@ pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
             "B" => &mut m.field,
             _ => {
                 return Err(format!(
-                    "unknown factor '{base}'; use kx, ky, kz and B with integer powers, or \"1\""
+                    "unknown factor '{}'; use kx, ky, kz and B with integer powers, or \"1\"",
+                    crate::limits::excerpt(base)
                 ))
             }
         };
@@ -964,11 +1135,17 @@ pub fn constants(units: Units) -> [(&'static str, f64, &'static str); 5] {
 struct ExprContext {
     units: Units,
     params: BTreeMap<String, f64>,
+    /// Expressions evaluated so far (each parameter is evaluated once, in dependency order).
+    evaluations: std::cell::Cell<usize>,
 }
 
 impl ExprContext {
     fn new(units: Units, params: BTreeMap<String, f64>) -> Self {
-        ExprContext { units, params }
+        ExprContext {
+            units,
+            params,
+            evaluations: std::cell::Cell::new(0),
+        }
     }
     fn constant(&self, name: &str) -> Option<f64> {
         constants(self.units)
@@ -997,17 +1174,28 @@ impl ExprContext {
             },
             _ => {
                 return Err(format!(
-                    "unknown function '{f}'; available: {}",
+                    "unknown function '{}'; available: {}",
+                    crate::limits::excerpt(f),
                     FUNCTIONS.join(", ")
                 ))
             }
         })
     }
     fn eval(&self, s: &str) -> std::result::Result<f64, String> {
+        self.evaluations.set(self.evaluations.get() + 1);
+        if s.len() > crate::limits::MAX_EXPRESSION_LEN {
+            return Err(format!(
+                "the expression is {} bytes long, more than the limit of {}; split it into \
+                 parameters",
+                s.len(),
+                crate::limits::MAX_EXPRESSION_LEN
+            ));
+        }
         let toks = tokenize(s)?;
         let mut p = ExprParser {
             toks: &toks,
             pos: 0,
+            depth: 0,
             ctx: self,
         };
         let v = p.expr()?;
@@ -1029,7 +1217,7 @@ impl Tok {
     fn text(&self) -> String {
         match self {
             Tok::Num(x) => x.to_string(),
-            Tok::Ident(s) => s.clone(),
+            Tok::Ident(s) => crate::limits::excerpt(s),
             Tok::Op(c) => c.to_string(),
         }
     }
@@ -1063,7 +1251,7 @@ fn tokenize(s: &str) -> std::result::Result<Vec<Tok>, String> {
             let text: String = chars[start..i].iter().collect();
             let v = text
                 .parse::<f64>()
-                .map_err(|_| format!("'{text}' is not a number"))?;
+                .map_err(|_| format!("'{}' is not a number", crate::limits::excerpt(&text)))?;
             out.push(Tok::Num(v));
         } else if c.is_ascii_alphabetic() || c == '_' {
             let start = i;
@@ -1089,6 +1277,9 @@ fn tokenize(s: &str) -> std::result::Result<Vec<Tok>, String> {
 struct ExprParser<'a> {
     toks: &'a [Tok],
     pos: usize,
+    /// Current nesting (parentheses, signs, powers, calls), bounded by
+    /// [`crate::limits::MAX_EXPRESSION_DEPTH`].
+    depth: usize,
     ctx: &'a ExprContext,
 }
 
@@ -1128,7 +1319,21 @@ impl ExprParser<'_> {
             }
         }
     }
+    /// Every recursion of the parser passes through here, so this is where the depth is counted.
     fn unary(&mut self) -> std::result::Result<f64, String> {
+        self.depth += 1;
+        if self.depth > crate::limits::MAX_EXPRESSION_DEPTH {
+            return Err(format!(
+                "the expression nests more than {} levels deep (parentheses, signs, powers and \
+                 calls together); simplify it or split it into parameters",
+                crate::limits::MAX_EXPRESSION_DEPTH
+            ));
+        }
+        let v = self.unary_inner();
+        self.depth -= 1;
+        v
+    }
+    fn unary_inner(&mut self) -> std::result::Result<f64, String> {
         if self.eat('-') {
             return Ok(-self.unary()?);
         }
@@ -1161,7 +1366,8 @@ impl ExprParser<'_> {
                     let mut known: Vec<String> = self.ctx.params.keys().cloned().collect();
                     known.extend(constants(self.ctx.units).iter().map(|c| c.0.to_string()));
                     format!(
-                        "unknown name '{name}'; define it in [parameters] or use one of: {}",
+                        "unknown name '{}'; define it in [parameters] or use one of: {}",
+                        crate::limits::excerpt(&name),
                         known.join(", ")
                     )
                 })
@@ -1549,7 +1755,8 @@ pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model
     let info = builtin_info(name).ok_or_else(|| Error::Parse {
         location: "--builtin".into(),
         message: format!(
-            "unknown built-in model '{name}'; choose one of {} (or list them with `ladderfan models`)",
+            "unknown built-in model '{}'; choose one of {} (or list them with `ladderfan models`)",
+            crate::limits::excerpt(name),
             builtin_names().join(", ")
         ),
     })?;
@@ -1593,12 +1800,15 @@ pub fn eval_expression(
     let ctx = ExprContext::new(units, params.clone());
     let x = ctx.eval(expr).map_err(|m| Error::Parse {
         location: location.into(),
-        message: format!("in \"{expr}\": {m}"),
+        message: format!("in \"{}\": {m}", crate::limits::excerpt(expr)),
     })?;
     if !x.is_finite() {
         return Err(Error::Parse {
             location: location.into(),
-            message: format!("\"{expr}\" is {x}, not a finite number; give a finite value"),
+            message: format!(
+                "\"{}\" is {x}, not a finite number; give a finite value",
+                crate::limits::excerpt(expr)
+            ),
         });
     }
     Ok(x)
@@ -1613,6 +1823,121 @@ mod tests {
             Ok(_) => String::from("parsed"),
             Err(e) => e.to_string(),
         }
+    }
+
+    /// A one-component file whose coefficient is `coef` (a TOML value).
+    fn with_coefficient(coef: &str) -> String {
+        format!("components = 1\n[[term]]\ncoefficient = {coef}\nmatrix = [[1]]\nmonomial = \"kx^2\"\n[[term]]\ncoefficient = 1\nmatrix = [[1]]\nmonomial = \"ky^2\"\n")
+    }
+
+    #[test]
+    fn deep_nesting_is_refused_not_a_stack_overflow() {
+        // regression: about 20,000 nested parentheses in a model file overflowed the stack
+        let deep = format!("\"{}1{}\"", "(".repeat(20_000), ")".repeat(20_000));
+        let m = msg(&with_coefficient(&deep));
+        assert!(
+            m.contains("t.toml:3:15") && m.contains("limit of 10000"),
+            "{m}"
+        );
+        assert!(m.len() < 400, "the message quotes the whole input: {m}");
+        // within the length limit, the depth limit speaks
+        let deep = format!("\"{}1{}\"", "(".repeat(4_000), ")".repeat(4_000));
+        let m = msg(&with_coefficient(&deep));
+        assert!(
+            m.contains("t.toml:3:15") && m.contains("more than 200 levels deep"),
+            "{m}"
+        );
+        let signs = format!("\"{}1\"", "-".repeat(9_000));
+        assert!(msg(&with_coefficient(&signs)).contains("levels deep"));
+        let ok = format!("\"{}2{}\"", "(".repeat(150), ")".repeat(150));
+        assert_eq!(msg(&with_coefficient(&ok)), "parsed");
+        // TOML itself: the toml crate refuses deep arrays (its recursion limit is 80)
+        let arrays = format!("{}1{}", "[".repeat(20_000), "]".repeat(20_000));
+        let m = msg(&with_coefficient(&arrays));
+        assert!(m.starts_with("t.toml:3:"), "{m}");
+        let tables = format!("{}1{}", "{a=".repeat(20_000), "}".repeat(20_000));
+        assert!(msg(&with_coefficient(&tables)).starts_with("t.toml:3:"));
+        let over = format!("\"{}\"", vec!["1"; 6_000].join("+"));
+        assert!(msg(&with_coefficient(&over)).contains("more than the limit of 10000"));
+        // --set goes through the same parser
+        let deep_set = format!("{}1{}", "(".repeat(4_000), ")".repeat(4_000));
+        match eval_expression(&deep_set, Units::Lab, &BTreeMap::new(), "--set a") {
+            Ok(_) => panic!("accepted"),
+            Err(e) => assert!(e.to_string().contains("levels deep")),
+        }
+    }
+
+    #[test]
+    fn long_pauli_string_is_refused_before_it_is_expanded() {
+        // regression: a 24-factor string was expanded to 2^24 x 2^24 before its size was checked
+        let text = "components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"xxxxxxxxxxxxxxxxxxxxxxxx\"\nmonomial = \"1\"\n";
+        let m = msg(text);
+        assert!(m.contains("more than 6 factors"), "{m}");
+        let m =
+            msg("components = 2\n[[term]]\ncoefficient = 1\nmatrix = \"Q\"\nmonomial = \"1\"\n");
+        assert!(m.contains("unknown Pauli factor 'Q'"), "{m}");
+    }
+
+    #[test]
+    fn long_names_are_refused() {
+        // regression: a component name of 65,536 characters panicked the table
+        let long = "A".repeat(65_536);
+        let text = format!("components = 1\ncomponent_names = [\"{long}\"]\n[[term]]\ncoefficient = 1\nmatrix = [[1]]\nmonomial = \"kx^2\"\n[[term]]\ncoefficient = 1\nmatrix = [[1]]\nmonomial = \"ky^2\"\n");
+        let m = msg(&text);
+        assert!(
+            m.contains("component name") && m.contains("limit of 256"),
+            "{m}"
+        );
+        assert!(m.len() < 400, "{m}");
+        let text = format!("name = \"{long}\"\n{}", with_coefficient("1"));
+        assert!(msg(&text).contains("limit of 256"));
+        let text = format!(
+            "components = 1\n[parameters]\n{long} = 1\n{}",
+            &with_coefficient("1")["components = 1\n".len()..]
+        );
+        assert!(msg(&text).contains("longer than 256"), "{}", msg(&text));
+    }
+
+    #[test]
+    fn a_long_parameter_chain_resolves_in_order() {
+        // regression: resolution was cubic in the number of parameters (2000: over 10 s). The
+        // worst order for the old rounds: each name refers to the next one in name order,
+        // p0000 = p0001 + 1, ..., p1999 = 1, so p0000 = 2000
+        let n = 2000;
+        let mut text = String::from("components = 1\n[parameters]\n");
+        for i in 0..n - 1 {
+            text.push_str(&format!("p{i:04} = \"p{:04} + 1\"\n", i + 1));
+        }
+        text.push_str(&format!("p{:04} = 1\n", n - 1));
+        text.push_str(&with_coefficient("\"p0000\"")["components = 1\n".len()..]);
+        let f = parse("t.toml", &text).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(f.model.param("p0000"), Some(n as f64));
+        // each expression is evaluated exactly once (the old rounds re-tried every pending
+        // parameter: about n^2/2 evaluations)
+        let raw: RawFile = toml::from_str(&text).unwrap_or_else(|e| panic!("{e}"));
+        let pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
+            raw.parameters.iter().flat_map(|p| p.iter()).collect();
+        let mut ctx = ExprContext::new(Units::Lab, BTreeMap::new());
+        let src = Source {
+            name: "t.toml",
+            text: &text,
+        };
+        resolve_parameters(&src, &pending, &[], &mut ctx).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(
+            ctx.evaluations.get(),
+            n - 1,
+            "one evaluation per expression parameter"
+        );
+        // a cycle behind a long chain is still named
+        let text =
+            "components = 1\n[parameters]\nx = \"y + 1\"\ny = \"z\"\nz = \"y * 2\"\nw = \"x\"\n"
+                .to_string()
+                + &with_coefficient("1")["components = 1\n".len()..];
+        let m = msg(&text);
+        assert!(
+            m.contains("parameters y, z refer to each other in a cycle"),
+            "{m}"
+        );
     }
 
     #[test]

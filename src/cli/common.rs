@@ -13,6 +13,25 @@ use std::path::{Path, PathBuf};
 pub const EXIT_VERIFICATION: i32 = 1;
 /// Exit code for bad input (model file, flags, values).
 pub const EXIT_BAD_INPUT: i32 = 2;
+/// Exit code for an internal error (a panic: a bug in ladderfan).
+pub const EXIT_INTERNAL: i32 = 3;
+
+/// Parse a count flag (`--cutoff`, `--points`, ...): a whole number, with a message that
+/// says what is wrong with a negative, fractional or huge value.
+pub fn parse_count(s: &str) -> std::result::Result<usize, String> {
+    let t = s.trim();
+    if let Ok(n) = t.parse::<usize>() {
+        return Ok(n);
+    }
+    match t.parse::<f64>() {
+        Ok(x) if x < 0.0 => Err(format!("{t} is negative; give a whole number such as 200")),
+        Ok(x) if x.fract() == 0.0 && x.is_finite() && x < 1e19 => Ok(x as usize),
+        Ok(x) if x.is_finite() && x.fract() == 0.0 => {
+            Err(format!("{t} is too large; give a whole number such as 200"))
+        }
+        _ => Err(format!("'{t}' is not a whole number; give e.g. 200")),
+    }
+}
 
 /// What can end a command.
 #[derive(Debug)]
@@ -51,7 +70,17 @@ impl CliError {
             CliError::Verification(m) => format!("verification failed: {m}"),
             CliError::BrokenPipe => String::new(),
         };
-        m.split_whitespace().collect::<Vec<_>>().join(" ")
+        // one line, and no single word (a quoted input) longer than a few dozen characters
+        m.split_whitespace()
+            .map(|w| {
+                if w.chars().count() > 200 {
+                    ladderfan::limits::excerpt(w)
+                } else {
+                    w.to_string()
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(" ")
     }
 }
 
@@ -98,7 +127,7 @@ pub struct SolveArgs {
 #[derive(Debug, Clone, Args)]
 pub struct TruncArgs {
     /// Orbital cutoff N (orbitals n = 0..N-1 per component).
-    #[arg(long)]
+    #[arg(long, value_parser = parse_count)]
     pub cutoff: Option<usize>,
     /// Memory limit for one dense sector, MiB.
     #[arg(long, value_name = "MIB")]
@@ -149,6 +178,46 @@ fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
         .collect()
 }
 
+/// The text of a model file, with a remedy for a file that is missing, unreadable, binary
+/// or too large.
+fn read_model_text(path: &Path) -> CliResult<String> {
+    let shown = path.display().to_string();
+    let limit = ladderfan::limits::MAX_MODEL_FILE_BYTES;
+    let bytes = std::fs::File::open(path)
+        .and_then(|f| {
+            use std::io::Read;
+            let mut b = Vec::new();
+            f.take(limit as u64 + 1).read_to_end(&mut b)?;
+            Ok(b)
+        })
+        .map_err(|e| {
+            bad_flag(
+                "--model",
+                format!("cannot read model file {shown}: {e}; give the path of a readable TOML model file"),
+            )
+        })?;
+    if bytes.len() > limit {
+        return Err(bad_flag(
+            "--model",
+            format!(
+                "{shown} is larger than {} MiB, the limit for a model file; give the TOML model \
+                 file (see the README, section Model files)",
+                limit >> 20
+            ),
+        ));
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        let at = e.utf8_error().valid_up_to();
+        bad_flag(
+            "--model",
+            format!(
+                "{shown} is not a text file (byte {at} is not UTF-8); --model takes a TOML \
+                 model file (see the README, section Model files)"
+            ),
+        )
+    })
+}
+
 /// Load the model from `--model FILE` or `--builtin NAME`, applying `--set` overrides.
 ///
 /// With `--model`, a `builtin = ...` file takes the overrides as extra `[set]` entries, a term
@@ -157,11 +226,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
     let sets = parse_set(&args.set)?;
     match (&args.model, &args.builtin) {
         (Some(path), _) => {
-            let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
-                action: "read model file".into(),
-                path: path.display().to_string(),
-                source,
-            })?;
+            let text = read_model_text(path)?;
             let name = path.display().to_string();
             let f = modelfile::parse_with_overrides(&name, &text, &sets)?;
             let mut origin = format!("file {name}");
@@ -179,7 +244,8 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 bad_flag(
                     "--builtin",
                     format!(
-                        "unknown built-in model '{name}'; choose one of {} (see `ladderfan models`)",
+                        "unknown built-in model '{}'; choose one of {} (see `ladderfan models`)",
+                        ladderfan::limits::excerpt(name),
                         modelfile::builtin_names().join(", ")
                     ),
                 )
@@ -239,6 +305,34 @@ impl Resolved {
             kz: self.kz,
         }
     }
+}
+
+/// `s` if every level's energy and bound are finite; otherwise an error (exit 2) naming the
+/// first level that is not, since its numbers overflowed double precision.
+pub fn finite_spectrum(s: Spectrum) -> CliResult<Spectrum> {
+    if let Some((i, l)) = s
+        .levels
+        .iter()
+        .enumerate()
+        .find(|(_, l)| !(l.energy.is_finite() && l.bound.is_finite()))
+    {
+        let (what, value) = if l.energy.is_finite() {
+            ("bound", l.bound)
+        } else {
+            ("energy", l.energy)
+        };
+        return Err(CliError::Input(Error::BadNumber {
+            name: format!(
+                "the {what} of level {i} (sector {}:{}, n = {}) at field {:e}",
+                l.sector.class, l.sector.label, l.orbital, s.point.field
+            ),
+            value,
+            fix: "the matrix of this run overflows double precision; give coefficients, field \
+                  and charge of moderate size, or a smaller cutoff"
+                .into(),
+        }));
+    }
+    Ok(s)
 }
 
 /// Check a finite flag value.
@@ -326,8 +420,18 @@ pub fn emit(text: &str) -> CliResult {
     }
 }
 
-/// Serialise `value` as pretty JSON and print it.
+/// Serialise `value` as pretty JSON and print it. A number that is not finite (JSON would
+/// print it as `null`) is an error naming its path, and nothing is printed.
 pub fn emit_json<T: Serialize>(value: &T) -> CliResult {
+    if let Some((path, x)) = super::finite::first_non_finite(value) {
+        return Err(CliError::Input(Error::BadNumber {
+            name: format!("the result's {path}"),
+            value: x,
+            fix: "the numbers of this run overflow double precision (coefficients, field, \
+                  charge or line width too large or too small); give values of moderate size"
+                .into(),
+        }));
+    }
     let mut s = serde_json::to_string_pretty(value).map_err(|e| {
         CliError::Input(Error::Unsupported(format!(
             "cannot serialise the result: {e}"
@@ -344,6 +448,48 @@ pub struct OutputFiles {
     files: Vec<(String, Vec<u8>)>,
 }
 
+/// A `--out` problem with its remedy, located at the flag.
+fn out_error(path: &Path, what: &str, e: &std::io::Error) -> CliError {
+    bad_flag(
+        "--out",
+        format!(
+            "cannot {what} {}: {e}; choose a directory you can write to (or remove what is in \
+             the way); no file was changed",
+            path.display()
+        ),
+    )
+}
+
+/// Whether a process with this id is running (Linux `/proc`; elsewhere every process counts
+/// as running, so nothing of another run is ever removed).
+fn process_alive(pid: u32) -> bool {
+    let proc_dir = Path::new("/proc");
+    !proc_dir.is_dir() || proc_dir.join(pid.to_string()).exists()
+}
+
+/// Remove the temporaries (`.NAME.tmp-PID`) and backups (`.NAME.bak-PID`) that a killed run
+/// left in `dir`: those whose process no longer runs.
+pub fn remove_stale_temporaries(dir: &Path) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        if !name.starts_with('.') {
+            continue;
+        }
+        let pid = [".tmp-", ".bak-"].iter().find_map(|tag| {
+            name.rsplit_once(tag)
+                .and_then(|(_, p)| p.parse::<u32>().ok())
+        });
+        if let Some(pid) = pid {
+            if pid != std::process::id() && !process_alive(pid) {
+                let _ = std::fs::remove_file(e.path());
+            }
+        }
+    }
+}
+
 impl OutputFiles {
     /// Queue a file.
     pub fn add(&mut self, name: &str, content: impl Into<Vec<u8>>) {
@@ -352,65 +498,125 @@ impl OutputFiles {
 
     /// Write every queued file into `dir` (created if missing). Returns the written paths.
     ///
-    /// All files are first written in full under temporary names; only when every one of them
-    /// succeeded are they renamed to their final names. On any failure the temporaries are
-    /// removed, files already renamed by this call are deleted again, and a directory this call
-    /// created is removed, so a failed run leaves no file behind.
+    /// All files are first written in full under temporary names (`.NAME.tmp-PID`); only when
+    /// every one of them succeeded are they renamed to their final names. A file that already
+    /// exists is first linked to a backup (`.NAME.bak-PID`), so that when a later rename fails
+    /// every earlier file is put back as it was: a failed run changes no file. Temporaries and
+    /// backups of a run that was killed are removed by the next run writing into `dir`.
     pub fn write_all(self, dir: &Path) -> CliResult<Vec<PathBuf>> {
         let existed = dir.exists();
-        std::fs::create_dir_all(dir).map_err(|source| Error::Io {
-            action: "create output directory".into(),
-            path: dir.display().to_string(),
-            source,
-        })?;
-        let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
-        let cleanup = |staged: &[(PathBuf, PathBuf)]| {
-            for (tmp, _) in staged {
-                let _ = std::fs::remove_file(tmp);
-            }
+        std::fs::create_dir_all(dir).map_err(|e| out_error(dir, "create the directory", &e))?;
+        remove_stale_temporaries(dir);
+        let remove_dir = || {
             if !existed {
                 let _ = std::fs::remove_dir(dir);
             }
         };
+        // a target that is a directory cannot be replaced: refuse before anything is written
+        for (name, _) in &self.files {
+            let path = dir.join(name);
+            if path.is_dir() {
+                remove_dir();
+                return Err(bad_flag(
+                    "--out",
+                    format!(
+                        "{} is a directory, where this command writes a file; remove or rename \
+                         it, or choose another --out; no file was changed",
+                        path.display()
+                    ),
+                ));
+            }
+        }
+        let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
         for (name, content) in &self.files {
             let path = dir.join(name);
             match write_temp(&path, content) {
                 Ok(tmp) => staged.push((tmp, path)),
                 Err(e) => {
-                    cleanup(&staged);
+                    for (tmp, _) in &staged {
+                        let _ = std::fs::remove_file(tmp);
+                    }
+                    remove_dir();
                     return Err(e);
                 }
             }
         }
-        let mut written = Vec::new();
-        for (i, (tmp, path)) in staged.iter().enumerate() {
-            if let Err(source) = std::fs::rename(tmp, path) {
-                // undo this run's renamed files too: a failed run leaves none of its files
-                for p in &written {
-                    let _ = std::fs::remove_file(p);
-                }
-                cleanup(&staged[i..]);
-                return Err(CliError::Input(Error::Io {
-                    action: "write".into(),
-                    path: path.display().to_string(),
-                    source,
-                }));
-            }
-            written.push(path.clone());
-        }
-        Ok(written)
+        commit_staged(&staged, &|from, to| std::fs::rename(from, to)).inspect_err(|_| {
+            remove_dir();
+        })
     }
 }
 
-/// Write `content` in full to a temporary file next to `path` (flushed and synced) and return
-/// its name; on failure nothing is left behind.
-fn write_temp(path: &Path, content: &[u8]) -> CliResult<PathBuf> {
+/// Rename every staged `(temporary, target)` pair with `rename`. An existing target is first
+/// linked (or copied) to a backup; when a rename fails, every earlier target gets its old
+/// content back (or is removed if it did not exist), the remaining temporaries are removed,
+/// and the error names the file. On success the backups are removed.
+fn commit_staged(
+    staged: &[(PathBuf, PathBuf)],
+    rename: &dyn Fn(&Path, &Path) -> std::io::Result<()>,
+) -> CliResult<Vec<PathBuf>> {
+    // (target, backup of its old content if it had one) of every file renamed so far
+    let mut done: Vec<(PathBuf, Option<PathBuf>)> = Vec::new();
+    let undo = |done: &[(PathBuf, Option<PathBuf>)], rest: &[(PathBuf, PathBuf)]| {
+        for (path, backup) in done.iter().rev() {
+            match backup {
+                Some(b) => {
+                    let _ = std::fs::rename(b, path);
+                }
+                None => {
+                    let _ = std::fs::remove_file(path);
+                }
+            }
+        }
+        for (t, _) in rest {
+            let _ = std::fs::remove_file(t);
+        }
+    };
+    for (i, (tmp, path)) in staged.iter().enumerate() {
+        let backup = if path.is_file() {
+            let b = sibling(path, "bak");
+            let _ = std::fs::remove_file(&b);
+            match std::fs::hard_link(path, &b).or_else(|_| std::fs::copy(path, &b).map(|_| ())) {
+                Ok(()) => Some(b),
+                Err(e) => {
+                    undo(&done, &staged[i..]);
+                    return Err(out_error(path, "keep a backup of", &e));
+                }
+            }
+        } else {
+            None
+        };
+        if let Err(e) = rename(tmp, path) {
+            if let Some(b) = &backup {
+                let _ = std::fs::remove_file(b);
+            }
+            undo(&done, &staged[i..]);
+            return Err(out_error(path, "write", &e));
+        }
+        done.push((path.clone(), backup));
+    }
+    for (_, backup) in &done {
+        if let Some(b) = backup {
+            let _ = std::fs::remove_file(b);
+        }
+    }
+    Ok(done.into_iter().map(|(p, _)| p).collect())
+}
+
+/// `.NAME.TAG-PID` next to `path`: the temporary (`tmp`) or backup (`bak`) of this process.
+fn sibling(path: &Path, tag: &str) -> PathBuf {
     let dir = path.parent().unwrap_or(Path::new("."));
     let file_name = path
         .file_name()
         .map(|s| s.to_string_lossy().into_owned())
         .unwrap_or_else(|| "out".into());
-    let tmp = dir.join(format!(".{file_name}.tmp-{}", std::process::id()));
+    dir.join(format!(".{file_name}.{tag}-{}", std::process::id()))
+}
+
+/// Write `content` in full to a temporary file next to `path` (flushed and synced) and return
+/// its name; on failure nothing is left behind.
+fn write_temp(path: &Path, content: &[u8]) -> CliResult<PathBuf> {
+    let tmp = sibling(path, "tmp");
     let result = (|| -> std::io::Result<()> {
         let mut f = std::fs::File::create(&tmp)?;
         f.write_all(content)?;
@@ -418,13 +624,9 @@ fn write_temp(path: &Path, content: &[u8]) -> CliResult<PathBuf> {
     })();
     match result {
         Ok(()) => Ok(tmp),
-        Err(source) => {
+        Err(e) => {
             let _ = std::fs::remove_file(&tmp);
-            Err(CliError::Input(Error::Io {
-                action: "write".into(),
-                path: path.display().to_string(),
-                source,
-            }))
+            Err(out_error(path, "write", &e))
         }
     }
 }
@@ -475,10 +677,14 @@ pub fn grid_values(
             format!("{points} points; a sweep needs at least 2"),
         ));
     }
-    if points > 100_000 {
+    if points > ladderfan::limits::MAX_SWEEP_POINTS {
         return Err(bad_flag(
             "--points",
-            format!("{points} points is more than 100000; use fewer points"),
+            format!(
+                "{points} points is more than the limit of {}; use fewer points (or split the \
+                 sweep with --shard)",
+                ladderfan::limits::MAX_SWEEP_POINTS
+            ),
         ));
     }
     let spacing = match grid {
@@ -684,10 +890,12 @@ pub fn table(rows: &[Vec<String>]) -> String {
                     .chars()
                     .next()
                     .is_some_and(|ch| ch.is_ascii_digit() || ch == '-' || ch == '+');
+                // padded by hand: a format width above 65535 panics
+                let pad = " ".repeat(width[i] - c.chars().count());
                 if numeric {
-                    format!("{c:>w$}", w = width[i])
+                    format!("{pad}{c}")
                 } else {
-                    format!("{c:<w$}", w = width[i])
+                    format!("{c}{pad}")
                 }
             })
             .collect();
@@ -842,9 +1050,71 @@ mod tests {
     }
 
     #[test]
+    fn a_failed_rename_puts_back_every_earlier_file() {
+        // regression: a failed write deleted the user's earlier file of the same name. Two
+        // files are staged over existing ones; the second rename fails: both keep their old
+        // content and no temporary or backup remains
+        let d = scratch("restore");
+        std::fs::create_dir_all(&d).unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("a.csv"), "old a\n").unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("b.svg"), "old b\n").unwrap_or_else(|e| panic!("{e}"));
+        let mut staged = Vec::new();
+        for (name, text) in [
+            ("a.csv", "new a\n"),
+            ("b.svg", "new b\n"),
+            ("c.csv", "new c\n"),
+        ] {
+            let path = d.join(name);
+            let tmp =
+                write_temp(&path, text.as_bytes()).unwrap_or_else(|e| panic!("{}", e.message()));
+            staged.push((tmp, path));
+        }
+        let fail_on_b = |from: &Path, to: &Path| {
+            if to.ends_with("b.svg") {
+                Err(std::io::Error::other("injected failure"))
+            } else {
+                std::fs::rename(from, to)
+            }
+        };
+        let r = commit_staged(&staged, &fail_on_b);
+        match r {
+            Ok(_) => panic!("the injected failure was not reported"),
+            Err(e) => assert!(
+                e.message().contains("b.svg") && e.message().contains("no file was changed")
+            ),
+        }
+        let read = |n: &str| std::fs::read_to_string(d.join(n)).ok();
+        assert_eq!(read("a.csv").as_deref(), Some("old a\n"));
+        assert_eq!(read("b.svg").as_deref(), Some("old b\n"));
+        assert_eq!(names(&d), vec!["a.csv", "b.svg"]);
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn stale_temporaries_of_a_killed_run_are_removed() {
+        // a run killed while writing leaves .NAME.tmp-PID; the next run into the directory
+        // removes those of processes that no longer run, and keeps everything else
+        let d = scratch("stale");
+        std::fs::create_dir_all(&d).unwrap_or_else(|e| panic!("{e}"));
+        let dead = u32::MAX - 7; // above any pid_max of Linux (at most 2^22)
+        std::fs::write(d.join(format!(".fan.csv.tmp-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(format!(".fan.csv.bak-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(".notes.tmp-abc"), "x").unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("keep.csv"), "x").unwrap_or_else(|e| panic!("{e}"));
+        let mut f = OutputFiles::default();
+        f.add("fan.csv", "1\n");
+        f.write_all(&d)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d), vec![".notes.tmp-abc", "fan.csv", "keep.csv"]);
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
     fn a_failed_write_leaves_no_file_behind() {
-        // the second target is an existing directory: its rename fails after the first file
-        // was staged; nothing new may remain
+        // the second target is an existing directory: refused before anything is written;
+        // nothing new may remain
         let d = scratch("fail");
         std::fs::create_dir_all(d.join("b.svg").join("inside")).unwrap_or_else(|e| panic!("{e}"));
         let mut f = OutputFiles::default();

@@ -61,16 +61,16 @@ pub struct ConvergeArgs {
     #[arg(long, value_enum, default_value_t = Mode::Study)]
     pub mode: Mode,
     /// Cutoffs of a study, comma-separated (e.g. 25,50,100); overrides --cutoff and --steps.
-    #[arg(long, value_delimiter = ',', value_name = "N,N,...")]
+    #[arg(value_parser = crate::cli::common::parse_count, long, value_delimiter = ',', value_name = "N,N,...")]
     pub cutoffs: Vec<usize>,
     /// study: the largest cutoff of the doubling list; auto: the first cutoff tried.
-    #[arg(long)]
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
     pub cutoff: Option<usize>,
     /// Number of cutoffs of a study's doubling list (cutoff / 2^(steps-1), ..., cutoff).
     #[arg(long, default_value_t = 5)]
     pub steps: u32,
     /// auto: the largest cutoff allowed.
-    #[arg(long, default_value_t = 1 << 20)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 1 << 20)]
     pub max_cutoff: usize,
     /// Memory limit for one solve, MiB.
     #[arg(long, value_name = "MIB")]
@@ -89,7 +89,7 @@ pub struct ConvergeArgs {
     )]
     pub window: Vec<f64>,
     /// Number of levels to follow, those nearest --target.
-    #[arg(long, default_value_t = 10)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 10)]
     pub count: usize,
     /// Target energy relative to the reference energy for --count.
     #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
@@ -97,6 +97,10 @@ pub struct ConvergeArgs {
     /// auto: which bound must meet the tolerance.
     #[arg(long, value_enum, default_value_t = BoundFlag::KatoTemple)]
     pub bound: BoundFlag,
+    /// Also put the wall-clock seconds into the JSON result (without it two runs give the
+    /// same JSON).
+    #[arg(long)]
+    pub timings: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
@@ -151,6 +155,9 @@ pub struct StudyJson<'a> {
     pub units: UnitsJson,
     /// The study.
     pub study: &'a Study,
+    /// Wall-clock seconds per cutoff, only with `--timings` (they differ from run to run).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seconds: Option<&'a [f64]>,
 }
 
 /// One selected level of an automatic run.
@@ -197,8 +204,12 @@ pub struct AutoJson<'a> {
     pub first_converged_cutoff: usize,
     /// Matrix dimension N d at the final cutoff.
     pub matrix_dimension: usize,
-    /// Total seconds.
-    pub seconds: f64,
+    /// Total wall-clock seconds, only with `--timings` (they differ from run to run).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub seconds: Option<f64>,
+    /// Wall-clock seconds of each step, only with `--timings`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub step_seconds: Option<Vec<f64>>,
     /// Energies are relative to this.
     pub reference_energy: f64,
     /// The steps.
@@ -374,7 +385,12 @@ pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> Strin
     out
 }
 
-fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> AutoJson<'a> {
+fn auto_json<'a>(
+    lm: &common::LoadedModel,
+    res: &'a AutoResult,
+    tol: f64,
+    timings: bool,
+) -> AutoJson<'a> {
     let s = &res.spectrum;
     AutoJson {
         command: "converge",
@@ -387,7 +403,8 @@ fn auto_json<'a>(lm: &common::LoadedModel, res: &'a AutoResult, tol: f64) -> Aut
         cutoff: res.cutoff,
         first_converged_cutoff: res.first_converged_cutoff,
         matrix_dimension: res.matrix_dimension,
-        seconds: res.seconds,
+        seconds: timings.then_some(res.seconds),
+        step_seconds: timings.then(|| res.history.iter().map(|h| h.seconds).collect()),
         reference_energy: s.reference_energy,
         history: &res.history,
         levels: res
@@ -515,6 +532,7 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                     model: ModelJson::new(&lm),
                     units: UnitsJson::new(&lm.model),
                     study: &st,
+                    seconds: a.timings.then_some(st.seconds.as_slice()),
                 })
             } else {
                 let mut text = study_table(&st, &lm.origin, lm.model.units());
@@ -525,6 +543,16 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
             }
         }
         Mode::Auto => {
+            if r.cutoff > a.max_cutoff {
+                return Err(bad_flag(
+                    "--max-cutoff",
+                    format!(
+                        "the start cutoff {} exceeds --max-cutoff {}; raise --max-cutoff or lower \
+                         --cutoff",
+                        r.cutoff, a.max_cutoff
+                    ),
+                ));
+            }
             let mut s = AutoSettings::new(sel, a.tolerance);
             s.start_cutoff = r.cutoff;
             s.max_cutoff = a.max_cutoff;
@@ -542,7 +570,7 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                 written = files.write_all(dir)?;
             }
             if a.output.json {
-                emit_json(&auto_json(&lm, &res, a.tolerance))
+                emit_json(&auto_json(&lm, &res, a.tolerance, a.timings))
             } else {
                 let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
                 for p in written {

@@ -71,6 +71,7 @@ pub fn plan(lm: &common::LoadedModel, a: &DispersionArgs) -> CliResult<Plan> {
 
 /// Run `ladderfan dispersion`.
 pub fn run(a: &DispersionArgs) -> CliResult {
+    sweep::check_shard_output(&a.sweep, &a.output)?;
     let lm = load_model(&a.model)?;
     let p = plan(&lm, a)?;
     let o = sweep::execute(&lm, &p, &a.sweep)?;

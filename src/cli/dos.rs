@@ -164,7 +164,7 @@ pub struct DosArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub emax: Option<f64>,
     /// Points of the DOS energy grid.
-    #[arg(long, default_value_t = 2000)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 2000)]
     pub energy_points: usize,
     /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2 (or, with
     /// --kz-integrate, at fixed --density-cm3).
@@ -174,7 +174,7 @@ pub struct DosArgs {
     #[arg(long, allow_negative_numbers = true, requires = "b_max")]
     pub b_min: Option<f64>,
     /// Points of the Fermi-level sweep.
-    #[arg(long, default_value_t = 200)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 200)]
     pub points: usize,
     /// 3D models: also integrate the kz sheets over kz, giving the DOS and carrier density per
     /// unit volume on the same energy grid (Gaussian lines only).
@@ -319,7 +319,7 @@ pub struct DosJson {
 fn spectrum(lm: &LoadedModel, point: FieldPoint, cutoff: usize, mem: u64) -> CliResult<Spectrum> {
     let mut s = Settings::with_cutoff(cutoff);
     s.memory_limit_mib = mem;
-    Ok(Spectrum::compute(&lm.model, point, &s)?)
+    common::finite_spectrum(Spectrum::compute(&lm.model, point, &s)?)
 }
 
 /// Default DOS window: the 12 converged levels on each side of the reference energy, padded
@@ -342,6 +342,17 @@ fn default_window(ld: &LevelDensity, width: f64) -> (f64, f64) {
 
 /// Run `ladderfan dos`.
 pub fn run(a: &DosArgs) -> CliResult {
+    if a.energy_points > ladderfan::limits::MAX_ENERGY_POINTS {
+        return Err(bad_flag(
+            "--energy-points",
+            format!(
+                "{} points is more than the limit of {}; use fewer points (2000 resolve a \
+                 line width of 1/1000 of the window)",
+                a.energy_points,
+                ladderfan::limits::MAX_ENERGY_POINTS
+            ),
+        ));
+    }
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
     let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
@@ -361,6 +372,17 @@ pub fn run(a: &DosArgs) -> CliResult {
         ));
     }
     let curve = ld.curve(emin, emax, a.energy_points)?;
+    if let Some(&(e, g)) = curve.iter().find(|p| !per_cm2(u, p.1).is_finite()) {
+        return Err(common::CliError::Input(ladderfan::Error::BadNumber {
+            name: format!("the DOS at {e:e} {} in 1/(meV cm^2)", u.energy_unit()),
+            value: per_cm2(u, g),
+            fix: format!(
+                "the line width {:e} is too small for double precision (the peak height goes \
+                 as 1/width); give a larger --width",
+                ld.width
+            ),
+        }));
+    }
     let fermi = match a.fermi.density(&lm, r.field)? {
         Some(n) => Some(fermi_level(
             &lm.model,

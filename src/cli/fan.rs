@@ -75,6 +75,7 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
 
 /// Run `ladderfan fan`.
 pub fn run(a: &FanArgs) -> CliResult {
+    sweep::check_shard_output(&a.sweep, &a.output)?;
     let lm = load_model(&a.model)?;
     let p = plan(&lm, a)?;
     let o = sweep::execute(&lm, &p, &a.sweep)?;

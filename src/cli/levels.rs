@@ -19,7 +19,7 @@ pub struct LevelsArgs {
     #[command(flatten)]
     pub solve: SolveArgs,
     /// Number of levels to show, those closest to the reference energy (0: all).
-    #[arg(long, default_value_t = 20)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 20)]
     pub count: usize,
     /// Also show the cutoff artefacts (hidden by default; genuine levels that are not converged
     /// are always shown, marked `not converged`).
@@ -62,11 +62,28 @@ pub struct LevelsJson {
     pub levels_artefacts: usize,
     /// The levels shown, ascending in energy.
     pub levels: Vec<LevelJson>,
+    /// Named warnings (also printed on stderr), e.g. `nothing converged`.
+    pub warnings: Vec<String>,
+}
+
+/// The warnings of a spectrum: `nothing converged: ...` when no level met the tolerance.
+pub fn warnings(s: &Spectrum) -> Vec<String> {
+    let mut w = Vec::new();
+    if !s.levels.is_empty() && s.converged().next().is_none() {
+        w.push(format!(
+            "nothing converged: none of the {} levels at cutoff {} meets the tolerance {:e}; \
+             raise the cutoff, or check that the model's energy scales are sensible",
+            s.levels.len(),
+            s.cutoff,
+            s.tolerance
+        ));
+    }
+    w
 }
 
 /// Compute the spectrum for resolved settings.
 pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
-    Ok(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
+    common::finite_spectrum(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
 }
 
 /// The JSON result for a spectrum and the shown level indices.
@@ -87,6 +104,7 @@ pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
         levels_not_converged: count_state(s, Convergence::NotConverged),
         levels_artefacts: count_state(s, Convergence::CutoffArtefact),
         levels: levels_json(&lm.model, s, idx),
+        warnings: warnings(s),
     }
 }
 
@@ -244,6 +262,9 @@ pub fn run(a: &LevelsArgs) -> CliResult {
         common::Shown::Genuine
     };
     let idx = nearest_levels(&s, a.count, shown);
+    for w in warnings(&s) {
+        eprintln!("ladderfan: warning: {w}");
+    }
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();

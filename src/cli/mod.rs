@@ -9,7 +9,7 @@
 //! Conventions: results go to stdout (a table, or JSON with `--json`); files only into `--out`
 //! through [`common::OutputFiles`] after every computation succeeded; errors are returned as
 //! [`common::CliError`] and become one `ladderfan: error: ...` line and exit code 2 (bad input)
-//! or 1 (verification failed).
+//! or 1 (verification failed); a panic is a bug and exits 3 with a request for a report.
 
 pub mod common;
 pub mod converge;
@@ -18,6 +18,7 @@ pub mod dispersion;
 pub mod dos;
 pub mod export;
 pub mod fan;
+pub mod finite;
 pub mod levels;
 pub mod merge;
 pub mod models;
@@ -26,7 +27,7 @@ pub mod sweep;
 pub mod verify;
 
 use clap::{Parser, Subcommand};
-use common::{CliError, CliResult, EXIT_BAD_INPUT, EXIT_VERIFICATION};
+use common::{CliError, CliResult, EXIT_BAD_INPUT, EXIT_INTERNAL};
 
 /// Landau-level spectra by exact diagonalization in a truncated ladder basis.
 ///
@@ -88,12 +89,101 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
+/// Whether `s` is a negative number such as `-5`, `-1e-3`, `-.5` or `-inf`.
+fn is_negative_number(s: &str) -> bool {
+    s.strip_prefix('-').is_some_and(|rest| {
+        rest.starts_with(|c: char| c.is_ascii_digit() || c == '.' || c == 'i' || c == 'I')
+            && s.parse::<f64>().is_ok()
+    })
+}
+
+/// The command line with every `--flag VALUE` whose value is a negative number joined into
+/// `--flag=VALUE`, so that `--field -1e-3` or `--cutoff -5` reach the flag (and its own
+/// message) instead of being taken for an unknown flag. Arguments that are not UTF-8 are left
+/// alone (clap reports them).
+pub fn normalize_args(args: Vec<std::ffi::OsString>) -> Vec<std::ffi::OsString> {
+    let mut out: Vec<std::ffi::OsString> = Vec::with_capacity(args.len());
+    for a in args {
+        let joined = match (out.last().and_then(|p| p.to_str()), a.to_str()) {
+            (Some(prev), Some(value))
+                if prev.starts_with("--")
+                    && prev.len() > 2
+                    && !prev.contains('=')
+                    && is_negative_number(value) =>
+            {
+                Some(format!("{prev}={value}"))
+            }
+            _ => None,
+        };
+        match joined {
+            Some(j) => {
+                out.pop();
+                out.push(j.into());
+            }
+            None => out.push(a),
+        }
+    }
+    out
+}
+
+/// Report a panic as one line that asks for a bug report with the command line.
+fn install_panic_hook() {
+    std::panic::set_hook(Box::new(|info| {
+        let msg = info
+            .payload()
+            .downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| info.payload().downcast_ref::<String>().cloned())
+            .unwrap_or_else(|| "unknown".into());
+        let at = info
+            .location()
+            .map(|l| format!(" at {}:{}", l.file(), l.line()))
+            .unwrap_or_default();
+        let args: Vec<String> = std::env::args().collect();
+        eprintln!("{}", panic_report(&msg, &at, &args));
+    }));
+}
+
+/// The one line printed for a panic: what happened, where, and a request for a report with
+/// the command line.
+fn panic_report(msg: &str, at: &str, args: &[String]) -> String {
+    let command: Vec<String> = args.iter().map(|a| limits_excerpt(a)).collect();
+    format!(
+        "ladderfan: error: internal error ({}{at}); this is a bug in ladderfan, please report \
+         it with this line and the command line: {} (exit code 3)",
+        one_line(&limits_excerpt(msg)),
+        one_line(&command.join(" "))
+    )
+}
+
+/// Run `f`; a panic (already reported by the hook) becomes [`EXIT_INTERNAL`], an error its
+/// one line and exit code.
+fn guarded(f: impl FnOnce() -> CliResult + std::panic::UnwindSafe) -> i32 {
+    match std::panic::catch_unwind(f) {
+        Ok(Ok(())) => 0,
+        Ok(Err(CliError::BrokenPipe)) => 0,
+        Ok(Err(e)) => {
+            eprintln!("ladderfan: error: {}", e.message());
+            e.exit_code()
+        }
+        Err(_) => EXIT_INTERNAL,
+    }
+}
+
+fn limits_excerpt(s: &str) -> String {
+    ladderfan::limits::excerpt(s)
+}
+
 /// Parse the command line, run, and return the process exit code: 0 success, 1 verification
-/// failed, 2 bad input. Errors are printed as one `ladderfan: error: ...` line on stderr.
+/// failed, 2 bad input, 3 internal error (a panic: a bug). Errors are printed as one
+/// `ladderfan: error: ...` line on stderr.
 pub fn main_exit_code() -> i32 {
-    let cli = match Cli::try_parse() {
-        Ok(c) => c,
-        Err(e) => {
+    install_panic_hook();
+    let args = normalize_args(std::env::args_os().collect());
+    let cli = match std::panic::catch_unwind(|| Cli::try_parse_from(args)) {
+        Ok(Ok(c)) => c,
+        Err(_) => return EXIT_INTERNAL,
+        Ok(Err(e)) => {
             use clap::error::ErrorKind;
             return match e.kind() {
                 ErrorKind::DisplayHelp
@@ -118,26 +208,65 @@ pub fn main_exit_code() -> i32 {
     let command = cli
         .command
         .unwrap_or_else(|| Command::Demo(demo::DemoArgs::default()));
-    // A panic is a bug; report it as one line like every other error.
-    std::panic::set_hook(Box::new(|info| {
-        let msg = info
-            .payload()
-            .downcast_ref::<&str>()
-            .map(|s| s.to_string())
-            .or_else(|| info.payload().downcast_ref::<String>().cloned())
-            .unwrap_or_else(|| "unknown".into());
-        eprintln!(
-            "ladderfan: error: internal error ({}); please report it",
-            one_line(&msg)
+    guarded(|| dispatch(command))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn norm(args: &[&str]) -> Vec<String> {
+        normalize_args(args.iter().map(|a| (*a).into()).collect())
+            .into_iter()
+            .map(|a| a.to_string_lossy().into_owned())
+            .collect()
+    }
+
+    #[test]
+    fn a_panic_exits_3_and_asks_for_a_report() {
+        // regression: a panic exited 1, the code of a failed verification
+        assert_eq!(guarded(|| panic!("injected")), 3);
+        assert_eq!(guarded(|| Ok(())), 0);
+        assert_eq!(
+            guarded(|| Err(CliError::Verification("formula".into()))),
+            common::EXIT_VERIFICATION
         );
-    }));
-    match std::panic::catch_unwind(|| dispatch(command)) {
-        Ok(Ok(())) => 0,
-        Ok(Err(CliError::BrokenPipe)) => 0,
-        Ok(Err(e)) => {
-            eprintln!("ladderfan: error: {}", e.message());
-            e.exit_code()
-        }
-        Err(_) => EXIT_VERIFICATION,
+        assert_eq!(
+            guarded(|| Err(common::bad_flag("--x", "bad"))),
+            EXIT_BAD_INPUT
+        );
+        let line = panic_report(
+            "index out of\nbounds",
+            " at src/x.rs:3",
+            &[
+                "ladderfan".into(),
+                "levels".into(),
+                "--builtin".into(),
+                "dirac2d".into(),
+            ],
+        );
+        assert!(!line.contains('\n'), "{line}");
+        assert!(line.contains("please report it"), "{line}");
+        assert!(
+            line.contains("ladderfan levels --builtin dirac2d"),
+            "{line}"
+        );
+        assert!(line.contains("exit code 3"), "{line}");
+    }
+
+    #[test]
+    fn negative_numbers_reach_their_flag() {
+        assert_eq!(
+            norm(&["ladderfan", "levels", "--field", "-1e-3", "--kz", "-.5"]),
+            ["ladderfan", "levels", "--field=-1e-3", "--kz=-.5"]
+        );
+        assert_eq!(norm(&["x", "--cutoff", "-5"]), ["x", "--cutoff=-5"]);
+        // flags and names that merely start with '-' stay as they are
+        assert_eq!(
+            norm(&["x", "--json", "--field", "2"]),
+            ["x", "--json", "--field", "2"]
+        );
+        assert_eq!(norm(&["x", "--formula", "-x"]), ["x", "--formula", "-x"]);
+        assert_eq!(norm(&["x", "--a=1", "-2"]), ["x", "--a=1", "-2"]);
     }
 }

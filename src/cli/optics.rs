@@ -32,7 +32,7 @@ pub struct OpticsArgs {
     #[arg(long, default_value_t = 1e-8)]
     pub min_strength: f64,
     /// Rows of the table at one field (strongest first; 0: all).
-    #[arg(long, default_value_t = 30)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 30)]
     pub count: usize,
     /// Sweep the field up to this value: the transition-energy fan.
     #[arg(long, allow_negative_numbers = true)]
@@ -41,7 +41,7 @@ pub struct OpticsArgs {
     #[arg(long, allow_negative_numbers = true, requires = "b_max")]
     pub b_min: Option<f64>,
     /// Points of the sweep.
-    #[arg(long, default_value_t = 40)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 40)]
     pub points: usize,
     #[command(flatten)]
     pub output: OutputArgs,

@@ -20,7 +20,7 @@ use std::time::{Duration, Instant};
 #[derive(Debug, Clone, Args)]
 pub struct SweepArgs {
     /// Number of sweep points (default: 60 for fan, 61 for dispersion so that kz = 0 is one).
-    #[arg(long)]
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
     pub points: Option<usize>,
     /// Grid spacing.
     #[arg(long, value_enum, default_value_t = common::Grid::Linear)]
@@ -33,10 +33,10 @@ pub struct SweepArgs {
     #[arg(long, allow_negative_numbers = true)]
     pub emax: Option<f64>,
     /// How many levels (closest to the reference energy at the end point) set the default window.
-    #[arg(long, default_value_t = 16)]
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 16)]
     pub count: usize,
     /// Worker threads for the sweep (default: all cores). Results do not depend on it.
-    #[arg(long)]
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
     pub threads: Option<usize>,
     /// Compute only shard K of N (1-based) of the points, e.g. as one task of a job array;
     /// needs --out. Join the N CSV files with `ladderfan merge OUT.csv SHARD.csv...` into
@@ -116,6 +116,16 @@ pub fn solve_points(
     let results = match threads {
         None => work(),
         Some(0) => return Err(bad_flag("--threads", "0 threads; give at least 1")),
+        Some(n) if n > ladderfan::limits::MAX_THREADS => {
+            return Err(bad_flag(
+                "--threads",
+                format!(
+                    "{n} threads is more than the limit of {}; give at most the number of cores \
+                     (results do not depend on it)",
+                    ladderfan::limits::MAX_THREADS
+                ),
+            ))
+        }
         Some(n) => rayon::ThreadPoolBuilder::new()
             .num_threads(n)
             .build()
@@ -123,7 +133,10 @@ pub fn solve_points(
             .install(work),
     };
     bar.finish_and_clear();
-    let spectra = results?;
+    let spectra = results?
+        .into_iter()
+        .map(super::common::finite_spectrum)
+        .collect::<CliResult<Vec<_>>>()?;
     let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
@@ -628,6 +641,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         Some(text) => Some(Shard::parse(text)?),
         None => None,
     };
+
     let total = plan.points.len();
     let block = match shard {
         Some(s) => s.range(total)?,
@@ -717,6 +731,19 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         closed,
         shard: shard_header,
     })
+}
+
+/// Refuse flags that cannot go together with `--shard`, before any work: a shard writes its
+/// CSV for `ladderfan merge` and has no JSON result.
+pub fn check_shard_output(a: &SweepArgs, output: &common::OutputArgs) -> CliResult {
+    if a.shard.is_some() && output.json {
+        return Err(bad_flag(
+            "--json",
+            "a shard run (--shard) writes its CSV for `ladderfan merge` and has no JSON result; \
+             drop --json, or run the sweep without --shard for JSON",
+        ));
+    }
+    Ok(())
 }
 
 /// Write the files (if `--out`) and print the result.

@@ -277,7 +277,7 @@ pub fn run(args: &VerifyArgs) -> CliResult {
     if let Some(w) = &args.window {
         list = list.with_window(parse_window(w)?);
     }
-    let spectrum = Spectrum::compute(&lm.model, point, &r.settings())?;
+    let spectrum = common::finite_spectrum(Spectrum::compute(&lm.model, point, &r.settings())?)?;
     let settings = VerifySettings {
         tolerance: common::finite_flag("--tolerance", args.tolerance)?,
         scale: match args.energy_scale {

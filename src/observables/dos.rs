@@ -374,12 +374,24 @@ impl LevelDensity {
             });
         }
         let step = (to - from) / (count - 1) as f64;
-        Ok((0..count)
+        let curve: Vec<(f64, f64)> = (0..count)
             .map(|i| {
                 let e = from + i as f64 * step;
                 (e, self.dos(e))
             })
-            .collect())
+            .collect();
+        if let Some(&(e, g)) = curve.iter().find(|p| !p.1.is_finite()) {
+            return Err(Error::BadNumber {
+                name: format!("the DOS at energy {e}"),
+                value: g,
+                fix: format!(
+                    "the line width {} is too small for double precision (the peak height \
+                     goes as 1/width); give a larger width",
+                    self.width
+                ),
+            });
+        }
+        Ok(curve)
     }
 }
 

@@ -220,7 +220,9 @@ pub struct Study {
     pub energy_unit: String,
     /// The tracked levels, ascending in energy at the largest cutoff.
     pub levels: Vec<TrackedLevel>,
-    /// Seconds spent per cutoff.
+    /// Seconds spent per cutoff (wall clock: not serialised, so that two runs give the same
+    /// JSON; `converge --timings` reports them).
+    #[serde(skip_serializing)]
     pub seconds: Vec<f64>,
     /// Bands re-entering the selection's window beyond the largest cutoff
     /// ([`crate::trust::window`]).
@@ -562,7 +564,9 @@ pub struct AutoStep {
     pub worst_bound_over_tolerance: f64,
     /// Whether the selection agreed with the previous step's.
     pub agrees_with_previous: bool,
-    /// Wall-clock seconds of the solve.
+    /// Wall-clock seconds of the solve (not serialised, so that two runs give the same JSON;
+    /// `converge --timings` reports them).
+    #[serde(skip_serializing)]
     pub seconds: f64,
 }
 

@@ -287,9 +287,21 @@ impl Expr {
     /// # Ok::<(), ladderfan::Error>(())
     /// ```
     pub fn parse(source: &str, scope: &Scope, what: &str) -> Result<Expr> {
+        if source.len() > crate::limits::MAX_EXPRESSION_LEN {
+            return Err(Error::Parse {
+                location: what.to_string(),
+                message: format!(
+                    "the expression is {} bytes long, more than the limit of {}; shorten it \
+                     (e.g. with a model parameter)",
+                    source.len(),
+                    crate::limits::MAX_EXPRESSION_LEN
+                ),
+            });
+        }
         let mut p = Parser {
             src: source.as_bytes(),
             pos: 0,
+            depth: 0,
             scope,
         };
         let root = p
@@ -307,7 +319,7 @@ impl Expr {
             })
             .map_err(|message| Error::Parse {
                 location: what.to_string(),
-                message: format!("{message} in \"{source}\""),
+                message: format!("{message} in \"{}\"", crate::limits::excerpt(source)),
             })?;
         Ok(Expr {
             source: source.to_string(),
@@ -430,6 +442,9 @@ fn pow(x: f64, y: f64) -> f64 {
 struct Parser<'a> {
     src: &'a [u8],
     pos: usize,
+    /// Current nesting (parentheses, signs, powers, calls), bounded by
+    /// [`crate::limits::MAX_EXPRESSION_DEPTH`].
+    depth: usize,
     scope: &'a Scope,
 }
 
@@ -531,7 +546,22 @@ impl Parser<'_> {
         }
     }
 
+    /// Every recursion of the parser passes through here, so this is where the depth is counted.
     fn unary(&mut self) -> PResult {
+        self.depth += 1;
+        if self.depth > crate::limits::MAX_EXPRESSION_DEPTH {
+            return Err(self.err(&format!(
+                "the expression nests more than {} levels deep (parentheses, signs, powers and \
+                 calls together); simplify it",
+                crate::limits::MAX_EXPRESSION_DEPTH
+            )));
+        }
+        let node = self.unary_inner();
+        self.depth -= 1;
+        node
+    }
+
+    fn unary_inner(&mut self) -> PResult {
         match self.peek() {
             Some(b'-') => {
                 self.pos += 1;
@@ -598,7 +628,10 @@ impl Parser<'_> {
                     None => {
                         self.pos = start;
                         let known = self.scope.names().join(", ");
-                        Err(self.err(&format!("unknown variable '{name}'; known names: {known}")))
+                        Err(self.err(&format!(
+                            "unknown variable '{}'; known names: {known}",
+                            crate::limits::excerpt(&name)
+                        )))
                     }
                 },
             };
@@ -612,8 +645,9 @@ impl Parser<'_> {
             None => {
                 self.pos = start;
                 return Err(self.err(&format!(
-                    "unknown function '{name}'; known: sqrt abs sign exp ln log10 sin cos tan \
-                     atan sinh cosh tanh floor ceil round hypot atan2 min max if"
+                    "unknown function '{}'; known: sqrt abs sign exp ln log10 sin cos tan \
+                     atan sinh cosh tanh floor ceil round hypot atan2 min max if",
+                    crate::limits::excerpt(name)
                 )));
             }
         };
@@ -683,7 +717,10 @@ impl Parser<'_> {
             Ok(x) => x,
             Err(_) => {
                 self.pos = start;
-                return Err(self.err(&format!("'{text}' is not a number")));
+                return Err(self.err(&format!(
+                    "'{}' is not a number",
+                    crate::limits::excerpt(&text)
+                )));
             }
         };
         if let Some(c) = self.src.get(self.pos) {
@@ -715,6 +752,39 @@ mod tests {
             Value::Num(x) => x,
             v => panic!("{src}: {v:?}"),
         }
+    }
+
+    #[test]
+    fn deep_nesting_is_refused_not_a_stack_overflow() {
+        // regression: 20,000 nested parentheses overflowed the stack
+        let s = Scope::new();
+        for (open, want) in [
+            (20_000, "limit of 10000"),
+            (4_000, "more than 200 levels deep"),
+        ] {
+            let deep = format!("{}1{}", "(".repeat(open), ")".repeat(open));
+            match Expr::parse(&deep, &s, "--formula") {
+                Ok(_) => panic!("{open} nested parentheses were accepted"),
+                Err(e) => {
+                    let m = e.to_string();
+                    assert!(m.contains(want), "{m}");
+                    assert!(m.len() < 400, "the message quotes the whole input: {m}");
+                }
+            }
+        }
+        for deep in ["-".repeat(9_000) + "1", "2^".repeat(4_000) + "1"] {
+            assert!(Expr::parse(&deep, &s, "--formula").is_err());
+        }
+        // just inside the limit: 199 parentheses (plus the top level) parse and evaluate
+        let ok = format!("{}1{}", "(".repeat(199), ")".repeat(199));
+        assert_eq!(ev(&ok, &s), Value::Num(1.0));
+        // the longest chain the length limit allows is a tree about 5000 deep: evaluating and
+        // dropping it must fit the 2 MiB stack of a test thread
+        let chain = vec!["1"; 4_999].join("+");
+        assert!(chain.len() <= crate::limits::MAX_EXPRESSION_LEN);
+        assert_eq!(ev(&chain, &s), Value::Num(4999.0));
+        let long = vec!["1"; 6_000].join("+");
+        assert!(Expr::parse(&long, &s, "--formula").is_err());
     }
 
     #[test]

@@ -884,6 +884,16 @@ pub struct Unpartnered {
     pub nearest: Option<NumericalLevel>,
 }
 
+/// A window `(lo, hi)` with each infinite (open) side written as `None` (JSON `null`), so that
+/// a serialised result never holds a non-finite number.
+fn open_sides_as_null<S: serde::Serializer>(
+    w: &(f64, f64),
+    s: S,
+) -> std::result::Result<S::Ok, S::Error> {
+    let side = |x: f64| if x.is_infinite() { None } else { Some(x) };
+    serde::Serialize::serialize(&(side(w.0), side(w.1)), s)
+}
+
 /// The result of [`check`].
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Verdict {
@@ -895,7 +905,9 @@ pub struct Verdict {
     pub energy_scale: f64,
     /// The relative tolerance.
     pub tolerance: f64,
-    /// The window checked, relative to the reference energy (infinite: open).
+    /// The window checked, relative to the reference energy (infinite: open; an open side is
+    /// `null` in JSON).
+    #[serde(serialize_with = "open_sides_as_null")]
     pub window: (f64, f64),
     /// Whether each end of `window` is itself inside (a listed or converged level); false for
     /// an open side and for an end that is the first level the expected list does not cover.
