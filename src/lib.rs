@@ -42,6 +42,7 @@ pub mod hamiltonian;
 pub mod ladder;
 pub mod levels;
 pub mod matrix;
+pub mod memory;
 pub mod model;
 pub mod modelfile;
 pub mod observables;

@@ -455,7 +455,8 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
             memory_limit_mib: a.memory_limit_mib,
         },
     };
-    let r = common::resolve(&lm, &solve, common::default_field(&lm.model))?;
+    // the memory of the whole study (or of each automatic step) is checked by the library
+    let r = common::resolve_unchecked(&lm, &solve, common::default_field(&lm.model))?;
     let mut base = Settings::with_cutoff(r.cutoff);
     base.tolerance = a.tolerance;
     base.memory_limit_mib = r.memory_limit_mib;
