@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Calibration of the memory estimate (src/memory.rs) against the measured peak resident set.
 #
-# Runs each path (levels, fan, dos, optics, converge, export) at three sizes and prints the
+# Runs each path (levels, levels --count 0, fan, dos, optics, converge, export) at three sizes and prints the
 # estimate, the peak RSS (GNU time %M, or bash's own getrusage fallback below) and their ratio.
 # The estimate is read from the refusal message of the same command line run with
 # --memory-limit-mib 1 ("needs about N MiB"), so it is exactly what the guard compares.
@@ -31,6 +31,7 @@ run() {
 }
 cd "$OUT"
 for n in 300000 1000000 3000000; do run levels levels --builtin dirac2d --cutoff $n; done
+for n in 100000 300000 1000000; do run levels-all levels --builtin dirac2d --cutoff $n --count 0; done
 for n in 10000 30000 100000; do run fan fan --builtin dirac2d --b-max 5 --cutoff $n --points 20; done
 for n in 30000 100000 300000; do run dos dos --builtin dirac2d --cutoff $n; done
 for n in 10000 30000 100000; do run optics optics --builtin dirac2d --cutoff $n; done

@@ -196,6 +196,13 @@ pub enum Footprint {
         /// Whether the eigenvectors are kept.
         vectors: bool,
     },
+    /// One solve and a table (or JSON, CSV, SVG) of `shown` of its levels (`levels`).
+    Table {
+        /// Levels listed.
+        shown: u64,
+        /// Bytes per listed level of the text and records built for it.
+        bytes_per_shown: u64,
+    },
     /// P solves kept together (`fan`, `dispersion`, `dos`/`optics` sweeps, a convergence study):
     /// P results, min(P, threads) solves in flight, and `extra_per_level` bytes of the command's
     /// own records (tracks, tables) per level and point.
@@ -226,6 +233,14 @@ pub enum Footprint {
 /// a few more.
 pub const SWEEP_TRACK_BYTES: u64 = 64;
 
+/// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
+/// measured: about 420).
+pub const TABLE_BYTES_PER_LEVEL: u64 = 480;
+
+/// Bytes per listed level of the CSV and SVG files of `levels --out` on top of the table
+/// (measured: about 150).
+pub const FILES_BYTES_PER_LEVEL: u64 = 160;
+
 /// Bytes per level of the velocity matrix elements of `optics`: the applied velocity of each
 /// level (two hash maps of about 2 d entries of 40 bytes with their table overhead), the index
 /// of levels by state and the transition records.
@@ -246,6 +261,12 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
     let threads = threads.max(1);
     let work = match f {
         Footprint::Solve { vectors } => shape.solve_bytes(threads, *vectors),
+        Footprint::Table {
+            shown,
+            bytes_per_shown,
+        } => shape
+            .solve_bytes(threads, false)
+            .saturating_add(shown.min(&shape.levels).saturating_mul(*bytes_per_shown)),
         Footprint::Sweep {
             points,
             extra_per_level,

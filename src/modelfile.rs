@@ -58,7 +58,7 @@ use toml::Spanned;
 
 /// Default orbital cutoff when neither the file nor the command line gives one.
 pub const DEFAULT_CUTOFF: usize = 200;
-/// Default memory limit in MiB for one dense sector.
+/// Default memory limit in MiB of a whole command (see [`crate::memory`]).
 pub const DEFAULT_MEMORY_LIMIT_MIB: u64 = 4096;
 
 /// Solve defaults a file may carry (`[defaults]` table); command-line flags override them.

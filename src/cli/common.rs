@@ -100,7 +100,7 @@ pub struct TruncArgs {
     /// Orbital cutoff N (orbitals n = 0..N-1 per component).
     #[arg(long)]
     pub cutoff: Option<usize>,
-    /// Memory limit for one dense sector, MiB.
+    /// Memory limit of the whole command (estimated before any work, see the README, section Memory), MiB.
     #[arg(long, value_name = "MIB")]
     pub memory_limit_mib: Option<u64>,
 }
@@ -382,17 +382,21 @@ pub fn check_memory(
     );
     let solve_alone =
         memory::to_mib(single) > limit_mib && !matches!(footprint, Footprint::Export { .. });
-    let flag = if solve_alone || matches!(footprint, Footprint::Export { .. }) {
-        let from_file = (lm.defaults.cutoff == Some(cutoff)).then_some(cutoff);
-        match from_file {
-            Some(_) => cutoff_location(lm, None),
-            None => flag.to_string(),
-        }
+    // the cutoff's own location: the file's `[defaults] cutoff` when that is the value in use
+    let at_cutoff = if lm.defaults.cutoff == Some(cutoff) {
+        cutoff_location(lm, None)
+    } else {
+        "--cutoff".to_string()
+    };
+    let flag = if solve_alone {
+        at_cutoff
+    } else if matches!(footprint, Footprint::Export { .. }) && flag == "--cutoff" {
+        at_cutoff
     } else {
         flag.to_string()
     };
     let (what, fix) = match footprint {
-        Footprint::Solve { .. } => (
+        Footprint::Solve { .. } | Footprint::Table { .. } => (
             format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
             memory::FIX_SOLVE,
         ),

@@ -71,7 +71,7 @@ pub struct ConvergeArgs {
     /// auto: the largest cutoff allowed.
     #[arg(long, default_value_t = 1 << 20)]
     pub max_cutoff: usize,
-    /// Memory limit for one solve, MiB.
+    /// Memory limit of the whole study or of each automatic step (every spectrum kept is counted), MiB.
     #[arg(long, value_name = "MIB")]
     pub memory_limit_mib: Option<u64>,
     /// Relative tolerance: a level is converged when its bound is at most

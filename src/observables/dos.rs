@@ -413,6 +413,19 @@ mod tests {
     }
 
     #[test]
+    fn erfc_far_tail_is_exact_zero_or_two() {
+        // e^{-x^2} is below the smallest subnormal (2^-1074, about 4.9e-324) once x^2 > 745.2
+        // (IEEE 754 double range, from memory): erfc is 0 there and 2 - 0 on the other side
+        for x in [27.32, 30.0, 1e3, 1e300, f64::INFINITY] {
+            assert_eq!(erfc(x).to_bits(), 0.0f64.to_bits(), "erfc({x})");
+            assert_eq!(erfc(-x).to_bits(), 2.0f64.to_bits(), "erfc(-{x})");
+        }
+        // just inside the cut the continued fraction still gives a positive subnormal or zero
+        let inside = erfc(27.0);
+        assert!((0.0..1e-300).contains(&inside), "erfc(27) = {inside:e}");
+    }
+
+    #[test]
     fn cumulative_is_the_integral_of_the_line() {
         // trapezoid integral of the line against the closed-form cumulative
         for b in [Broadening::gaussian(0.7), Broadening::lorentzian(0.7)] {

@@ -108,7 +108,7 @@ pub struct Settings {
     pub tolerance: f64,
     /// Arithmetic of the eigenvalues.
     pub precision: Precision,
-    /// Largest dense sector (states) before the solve refuses with a memory error.
+    /// Memory limit in MiB of one solve ([`crate::memory`]): the solve refuses beyond it.
     pub memory_limit_mib: u64,
     /// Which levels are wanted: all, an energy window, or the levels nearest an energy.
     pub target: Target,
