@@ -388,9 +388,8 @@ pub fn check_memory(
     } else {
         "--cutoff".to_string()
     };
-    let flag = if solve_alone {
-        at_cutoff
-    } else if matches!(footprint, Footprint::Export { .. }) && flag == "--cutoff" {
+    let export_at_cutoff = matches!(footprint, Footprint::Export { .. }) && flag == "--cutoff";
+    let flag = if solve_alone || export_at_cutoff {
         at_cutoff
     } else {
         flag.to_string()
