@@ -62,16 +62,17 @@ pub enum Error {
     },
     /// The work would exceed the memory limit.
     #[error(
-        "{what} needs about {needed_mib} MiB, above the memory limit of {limit_mib} MiB; \
-         lower the cutoff, narrow the window, or raise the limit"
+        "{what} needs about {needed_mib} MiB, above the memory limit of {limit_mib} MiB; {fix}"
     )]
     MemoryLimit {
-        /// What would need the memory.
+        /// What would need the memory (the path and its sizes).
         what: String,
-        /// Estimated need in MiB.
+        /// Estimated need in MiB (see `crate::memory`).
         needed_mib: u64,
         /// The limit in MiB.
         limit_mib: u64,
+        /// What to change.
+        fix: String,
     },
     /// A requested tolerance could not be met.
     #[error("tolerance {tolerance:e} not met: {detail}")]

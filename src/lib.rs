@@ -43,6 +43,7 @@ pub mod ladder;
 pub mod levels;
 pub mod limits;
 pub mod matrix;
+pub mod memory;
 pub mod model;
 pub mod modelfile;
 pub mod observables;

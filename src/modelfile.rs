@@ -46,10 +46,9 @@
 use crate::builtin;
 use crate::catalogue;
 use crate::error::{Error, Result};
-use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
+use crate::hamiltonian::FieldPoint;
 use crate::matrix::{self, SpinMatrix};
 use crate::model::{Model, Monomial};
-use crate::sectors::{SectorPlan, Symmetry};
 use crate::units::{Units, ELECTRON_REST_ENERGY_MEV, HBAR2_OVER_2ME_MEV_NM2, HBAR_C_MEV_NM};
 use num_complex::Complex64;
 use serde::Deserialize;
@@ -59,7 +58,7 @@ use toml::Spanned;
 
 /// Default orbital cutoff when neither the file nor the command line gives one.
 pub const DEFAULT_CUTOFF: usize = 200;
-/// Default memory limit in MiB for one dense sector.
+/// Default memory limit in MiB of a whole command (see [`crate::memory`]).
 pub const DEFAULT_MEMORY_LIMIT_MIB: u64 = 4096;
 
 /// Solve defaults a file may carry (`[defaults]` table); command-line flags override them.
@@ -73,6 +72,9 @@ pub struct FileDefaults {
     pub cutoff: Option<usize>,
     /// Memory limit in MiB.
     pub memory_limit_mib: Option<u64>,
+    /// Line and column (1-based) of the `cutoff` value in the file, for errors about it (the
+    /// value is checked only when it is used, so that a `--cutoff` flag can override it).
+    pub cutoff_at: Option<(usize, usize)>,
 }
 
 /// A parsed and validated model file.
@@ -817,22 +819,22 @@ fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefau
                 format!("cutoff = {v}; give a positive number of orbitals"),
             ));
         }
-        let v = v as usize;
-        check_cutoff(
-            model,
-            v,
-            out.field.unwrap_or(1.0),
-            out.memory_limit_mib.unwrap_or(DEFAULT_MEMORY_LIMIT_MIB),
-        )
-        .map_err(|e| src.err(&c.span(), e.to_string()))?;
+        // checked against the model and the memory limit only once the flags are merged
+        // (a `--cutoff` flag overrides this value; src/memory.rs)
+        let v = usize::try_from(v).unwrap_or(usize::MAX);
+        let at = src.location(c.span().start);
+        let mut parts = at.rsplit(':');
+        let col = parts.next().and_then(|x| x.parse().ok());
+        let line = parts.next().and_then(|x| x.parse().ok());
+        out.cutoff_at = line.zip(col);
         out.cutoff = Some(v);
     }
     Ok(out)
 }
 
 /// Check that `cutoff` suits `model`: at least band + 1 orbitals (the solver's minimum: every
-/// term must fit inside the truncated basis) and a largest dense sector within
-/// `memory_limit_mib` (estimated as in the solver: 3 complex s x s matrices).
+/// term must fit inside the truncated basis) and one solve at `field` (kz = 0) within
+/// `memory_limit_mib` (the estimate of [`crate::memory`], from the sector sizes in closed form).
 ///
 /// # Errors
 /// [`Error::CutoffTooSmall`], [`Error::MemoryLimit`]; [`Error::ZeroField`] for a zero field.
@@ -849,44 +851,45 @@ pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: 
             ),
         });
     }
-    let mib = memory_estimate_mib(model, cutoff, field)?;
-    if mib > memory_limit_mib {
-        return Err(Error::MemoryLimit {
-            what: format!("a solve at cutoff {cutoff} (largest dense sector plus the levels)"),
-            needed_mib: mib,
-            limit_mib: memory_limit_mib,
-        });
-    }
-    Ok(())
+    let shape = crate::memory::SolveShape::of_model(
+        model,
+        FieldPoint { field, kz: 0.0 },
+        cutoff,
+        crate::solve::Splitting::Auto,
+    )?;
+    let bytes = crate::memory::estimate(
+        &shape,
+        &crate::memory::Footprint::Solve { vectors: false },
+        rayon::current_num_threads() as u64,
+    );
+    crate::memory::check(
+        &format!(
+            "a solve at cutoff {cutoff} ({} levels, largest sector {} states)",
+            shape.levels, shape.largest_sector
+        ),
+        bytes,
+        memory_limit_mib,
+        crate::memory::FIX_SOLVE,
+    )
 }
 
-/// Memory in MiB the solver needs at `cutoff`: the largest dense sector after splitting by the
-/// conserved quantity found at `field` (3 complex s x s matrices of 16 bytes per entry) plus the
-/// N d levels of the result (labels, bound and d weights each).
+/// Memory in MiB one solve needs at `cutoff` and `field` (kz = 0): [`crate::memory::estimate`]
+/// of a [`crate::memory::Footprint::Solve`].
 ///
 /// # Errors
 /// [`Error::ZeroField`] for a zero or non-finite field.
 pub fn memory_estimate_mib(model: &Model, cutoff: usize, field: f64) -> Result<u64> {
-    let h = LadderHamiltonian::assemble(model, FieldPoint { field, kz: 0.0 }, 0.0)?;
-    let plan = SectorPlan::new(Symmetry::detect(&h), cutoff);
-    let mut buf = Vec::new();
-    let largest = plan
-        .sectors()
-        .into_iter()
-        .map(|id| {
-            plan.states(id, &mut buf);
-            buf.len() as u64
-        })
-        .max()
-        .unwrap_or(model.dim() as u64);
-    let d = model.dim() as u64;
-    // the result holds every level: ~96 bytes of labels and bounds plus d weights each
-    let levels = (cutoff as u64).saturating_mul(d).saturating_mul(96 + 8 * d);
-    Ok(largest
-        .saturating_mul(largest)
-        .saturating_mul(48)
-        .saturating_add(levels)
-        / (1 << 20))
+    let shape = crate::memory::SolveShape::of_model(
+        model,
+        FieldPoint { field, kz: 0.0 },
+        cutoff,
+        crate::solve::Splitting::Auto,
+    )?;
+    Ok(crate::memory::to_mib(crate::memory::estimate(
+        &shape,
+        &crate::memory::Footprint::Solve { vectors: false },
+        rayon::current_num_threads() as u64,
+    )))
 }
 
 fn is_identifier(s: &str) -> bool {
@@ -1817,6 +1820,7 @@ pub fn eval_expression(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::hamiltonian::LadderHamiltonian;
 
     fn msg(text: &str) -> String {
         match parse("t.toml", text) {

@@ -129,7 +129,7 @@ pub struct TruncArgs {
     /// Orbital cutoff N (orbitals n = 0..N-1 per component).
     #[arg(long, value_parser = parse_count)]
     pub cutoff: Option<usize>,
-    /// Memory limit for one dense sector, MiB.
+    /// Memory limit of the whole command (estimated before any work, see the README, section Memory), MiB.
     #[arg(long, value_name = "MIB")]
     pub memory_limit_mib: Option<u64>,
 }
@@ -154,6 +154,8 @@ pub struct LoadedModel {
     pub defaults: FileDefaults,
     /// `file PATH` or `builtin NAME` with overrides, for headers.
     pub origin: String,
+    /// The model file's path, when there is one (errors about its `[defaults]` point into it).
+    pub file: Option<String>,
 }
 
 fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
@@ -237,6 +239,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 model: f.model,
                 defaults: f.defaults,
                 origin,
+                file: Some(name),
             })
         }
         (None, Some(name)) => {
@@ -269,6 +272,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 model,
                 defaults: FileDefaults::default(),
                 origin,
+                file: None,
             })
         }
         (None, None) => Err(bad_flag(
@@ -350,6 +354,25 @@ pub fn finite_flag(flag: &str, v: f64) -> CliResult<f64> {
 /// Combine flags with the file's defaults (flags win), validate, and check the cutoff
 /// against the model's band and the memory limit.
 pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult<Resolved> {
+    let r = resolve_unchecked(lm, a, default_field)?;
+    modelfile::check_cutoff(&lm.model, r.cutoff, r.field, r.memory_limit_mib).map_err(
+        |e| match e {
+            e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
+                bad_flag(&cutoff_location(lm, a.trunc.cutoff), e.to_string())
+            }
+            other => CliError::Input(other),
+        },
+    )?;
+    Ok(r)
+}
+
+/// [`resolve`] without the memory check of one solve (for commands that do not solve, such as
+/// `export`, which check their own footprint); the cutoff must still exceed the model's band.
+pub fn resolve_unchecked(
+    lm: &LoadedModel,
+    a: &SolveArgs,
+    default_field: f64,
+) -> CliResult<Resolved> {
     let field = finite_flag(
         "--field",
         a.field.or(lm.defaults.field).unwrap_or(default_field),
@@ -361,7 +384,7 @@ pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult
         ));
     }
     let kz = finite_flag("--kz", a.kz.or(lm.defaults.kz).unwrap_or(0.0))?;
-    let (cutoff, memory_limit_mib) = resolve_trunc(lm, &a.trunc, field)?;
+    let (cutoff, memory_limit_mib) = resolve_trunc(lm, &a.trunc)?;
     Ok(Resolved {
         field,
         kz,
@@ -370,8 +393,11 @@ pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult
     })
 }
 
-/// Cutoff and memory limit from flags and file defaults, checked at `field`.
-pub fn resolve_trunc(lm: &LoadedModel, t: &TruncArgs, field: f64) -> CliResult<(usize, u64)> {
+/// Cutoff and memory limit from flags and file defaults (flags win; a `--cutoff` flag overrides
+/// the file's `[defaults] cutoff`, whatever its value), with the cutoff checked against the
+/// model's band. The memory is not checked here: each command checks its whole footprint once
+/// ([`check_memory`], or [`resolve`] for one solve).
+pub fn resolve_trunc(lm: &LoadedModel, t: &TruncArgs) -> CliResult<(usize, u64)> {
     let cutoff = t.cutoff.or(lm.defaults.cutoff).unwrap_or(DEFAULT_CUTOFF);
     let limit = t
         .memory_limit_mib
@@ -383,8 +409,31 @@ pub fn resolve_trunc(lm: &LoadedModel, t: &TruncArgs, field: f64) -> CliResult<(
             "0 MiB; give a positive limit",
         ));
     }
-    check_cutoff_flag(lm, cutoff, field, limit)?;
+    let needed = lm.model.band() + 1;
+    if cutoff < needed {
+        return Err(bad_flag(
+            &cutoff_location(lm, t.cutoff),
+            Error::CutoffTooSmall {
+                cutoff,
+                needed,
+                why: format!(
+                    "for a model whose terms reach ladder power {}",
+                    lm.model.band()
+                ),
+            }
+            .to_string(),
+        ));
+    }
     Ok((cutoff, limit))
+}
+
+/// Where the cutoff in use was given, for its errors: `--cutoff` for the flag, else the file
+/// position of the `[defaults] cutoff` value (`PATH:LINE:COLUMN`).
+pub fn cutoff_location(lm: &LoadedModel, flag: Option<usize>) -> String {
+    match (flag, lm.defaults.cutoff, lm.defaults.cutoff_at, &lm.file) {
+        (None, Some(_), Some((line, col)), Some(path)) => format!("{path}:{line}:{col}"),
+        _ => "--cutoff".into(),
+    }
 }
 
 /// The default field of a model's unit system when neither flag nor file gives one:
@@ -396,14 +445,75 @@ pub fn default_field(m: &Model) -> f64 {
     }
 }
 
-/// Cutoff and memory check with the error located at `--cutoff`.
-pub fn check_cutoff_flag(lm: &LoadedModel, cutoff: usize, field: f64, limit: u64) -> CliResult {
-    modelfile::check_cutoff(&lm.model, cutoff, field, limit).map_err(|e| match e {
-        e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
-            bad_flag("--cutoff", e.to_string())
+/// The memory check of a whole command (src/memory.rs): `footprint` at `cutoff` and `point`
+/// on `threads` workers (the pool's size when `None`); a refusal names `path` and is located at
+/// `flag`.
+#[allow(clippy::too_many_arguments)]
+pub fn check_memory(
+    lm: &LoadedModel,
+    path: &str,
+    flag: &str,
+    point: FieldPoint,
+    cutoff: usize,
+    limit_mib: u64,
+    footprint: &ladderfan::memory::Footprint,
+    threads: Option<usize>,
+) -> CliResult {
+    use ladderfan::memory::{self, Footprint};
+    let shape = memory::SolveShape::of_model(&lm.model, point, cutoff, ladderfan::Splitting::Auto)?;
+    let threads = threads.unwrap_or_else(rayon::current_num_threads) as u64;
+    let bytes = memory::estimate(&shape, footprint, threads);
+    if memory::to_mib(bytes) <= limit_mib {
+        return Ok(());
+    }
+    // one solve alone too large: the cutoff is to blame (flag or file), not the points
+    let single = memory::estimate(
+        &shape,
+        &Footprint::Solve {
+            vectors: matches!(footprint, Footprint::Optics { .. }),
+        },
+        threads,
+    );
+    let solve_alone =
+        memory::to_mib(single) > limit_mib && !matches!(footprint, Footprint::Export { .. });
+    // the cutoff's own location: the file's `[defaults] cutoff` when that is the value in use
+    let at_cutoff = if lm.defaults.cutoff == Some(cutoff) {
+        cutoff_location(lm, None)
+    } else {
+        "--cutoff".to_string()
+    };
+    let export_at_cutoff = matches!(footprint, Footprint::Export { .. }) && flag == "--cutoff";
+    let flag = if solve_alone || export_at_cutoff {
+        at_cutoff
+    } else {
+        flag.to_string()
+    };
+    let (what, fix) = match footprint {
+        Footprint::Solve { .. } | Footprint::Table { .. } => (
+            format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
+            memory::FIX_SOLVE,
+        ),
+        Footprint::Sweep { points, .. } | Footprint::Optics { points }
+            if *points > 1 && !solve_alone =>
+        {
+            (
+            format!(
+                "{path}: {points} points at cutoff {cutoff} ({} levels each, all kept until the end)",
+                shape.levels
+            ),
+            memory::FIX_SWEEP,
+            )
         }
-        other => CliError::Input(other),
-    })
+        Footprint::Sweep { .. } | Footprint::Optics { .. } => (
+            format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
+            memory::FIX_SOLVE,
+        ),
+        Footprint::Export { entries, .. } => (
+            format!("{path}: a matrix of up to {entries} stored entries at cutoff {cutoff}"),
+            "lower the cutoff, pass --sector, or raise the memory limit",
+        ),
+    };
+    memory::check(&what, bytes, limit_mib, fix).map_err(|e| bad_flag(&flag, e.to_string()))
 }
 
 /// Write to stdout; a closed pipe ends the command quietly.

@@ -72,7 +72,7 @@ pub struct ConvergeArgs {
     /// auto: the largest cutoff allowed.
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 1 << 20)]
     pub max_cutoff: usize,
-    /// Memory limit for one solve, MiB.
+    /// Memory limit of the whole study or of each automatic step (every spectrum kept is counted), MiB.
     #[arg(long, value_name = "MIB")]
     pub memory_limit_mib: Option<u64>,
     /// Relative tolerance: a level is converged when its bound is at most
@@ -501,7 +501,8 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
             memory_limit_mib: a.memory_limit_mib,
         },
     };
-    let r = common::resolve(&lm, &solve, common::default_field(&lm.model))?;
+    // the memory of the whole study (or of each automatic step) is checked by the library
+    let r = common::resolve_unchecked(&lm, &solve, common::default_field(&lm.model))?;
     let mut base = Settings::with_cutoff(r.cutoff);
     base.tolerance = a.tolerance;
     base.memory_limit_mib = r.memory_limit_mib;

@@ -69,6 +69,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         model: f.model,
         defaults: f.defaults,
         origin: "invented demo: hypothetical gapped Dirac film".into(),
+        file: None,
     };
     let field = lm.defaults.field.unwrap_or(6.0);
     let cutoff = lm.defaults.cutoff.unwrap_or(modelfile::DEFAULT_CUTOFF);

@@ -57,7 +57,7 @@ pub fn plan(lm: &common::LoadedModel, a: &DispersionArgs) -> CliResult<Plan> {
         .min_by(|x, y| x.1.abs().total_cmp(&y.1.abs()))
         .map(|(i, _)| i)
         .unwrap_or(0);
-    let (cutoff, memory_limit_mib) = common::resolve_trunc(lm, &a.trunc, field)?;
+    let (cutoff, memory_limit_mib) = common::resolve_trunc(lm, &a.trunc)?;
     Ok(Plan {
         command: "dispersion",
         swept: Swept::Kz,

@@ -411,12 +411,29 @@ pub fn run(a: &DosArgs) -> CliResult {
             ));
         }
         if a.fermi.density_cm2.is_some() {
-            let (cutoff, mem) = common::resolve_trunc(&lm, &a.solve.trunc, b_max)?;
+            let (cutoff, mem) = common::resolve_trunc(&lm, &a.solve.trunc)?;
             let n = a.fermi.density(&lm, b_max)?.unwrap_or(0.0);
             let pts: Vec<FieldPoint> = values
                 .iter()
                 .map(|&field| FieldPoint { field, kz: r.kz })
                 .collect();
+            // every point's spectrum is kept with its Fermi level (src/memory.rs)
+            common::check_memory(
+                &lm,
+                "dos --b-max",
+                "--points",
+                FieldPoint {
+                    field: b_max,
+                    kz: r.kz,
+                },
+                cutoff,
+                mem,
+                &ladderfan::memory::Footprint::Sweep {
+                    points: pts.len() as u64,
+                    extra_per_level: 0,
+                },
+                None,
+            )?;
             let mut s = Settings::with_cutoff(cutoff);
             s.memory_limit_mib = mem;
             sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;

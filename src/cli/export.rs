@@ -63,28 +63,68 @@ pub struct ExportJson {
 pub fn matrix_market(
     comments: &[String],
     n: usize,
+    half_bandwidth: usize,
     element: impl Fn(usize, usize) -> Complex64,
 ) -> (String, usize) {
-    let mut body = String::new();
-    let mut count = 0;
-    for j in 0..n {
-        for i in j..n {
-            let z = element(i, j);
-            if z.re == 0.0 && z.im == 0.0 {
-                continue;
-            }
-            let im = if i == j { 0.0 } else { z.im };
-            body.push_str(&format!("{} {} {:e} {:e}\n", i + 1, j + 1, z.re, im));
-            count += 1;
-        }
-    }
+    // entries beyond the half-bandwidth are zero: O(n b) element calls, not O(n^2)
+    let rows = |j: usize| j..n.min(j.saturating_add(half_bandwidth).saturating_add(1));
+    let nonzero = |z: Complex64| z.re != 0.0 || z.im != 0.0;
+    // a first pass counts the entries, so the size line is written first and the text is built
+    // in one buffer reserved at its longest (two indices, two numbers in `{:e}` form of at
+    // most 24 characters): reserved pages that are never written cost no resident memory
+    let count: usize = (0..n)
+        .map(|j| rows(j).filter(|&i| nonzero(element(i, j))).count())
+        .sum();
+    let digits = n.max(1).ilog10() as usize + 1;
     let mut s = String::from("%%MatrixMarket matrix coordinate complex hermitian\n");
     for c in comments {
         s.push_str(&format!("% {c}\n"));
     }
     s.push_str(&format!("{n} {n} {count}\n"));
-    s.push_str(&body);
+    s.reserve(count.saturating_mul(2 * digits + 2 * 24 + 4));
+    for j in 0..n {
+        for i in rows(j) {
+            let z = element(i, j);
+            if !nonzero(z) {
+                continue;
+            }
+            let im = if i == j { 0.0 } else { z.im };
+            s.push_str(&format!("{} {} {:e} {:e}\n", i + 1, j + 1, z.re, im));
+        }
+    }
     (s, count)
+}
+
+/// Stored entries of the lower triangle of the whole matrix at `cutoff` orbitals, at most, in
+/// closed form: per orbital, the distinct (alpha, beta, shift) with a non-zero coupling and
+/// shift > 0, or shift = 0 and alpha >= beta (rows are n d + alpha, so these are the entries on
+/// or below the diagonal).
+fn lower_entries_bound(h: &LadderHamiltonian, cutoff: usize) -> u64 {
+    let mut seen: Vec<(usize, usize, i64)> = Vec::new();
+    for op in &h.ops {
+        let shift = op.shift();
+        if shift < 0 {
+            continue;
+        }
+        for alpha in 0..h.dim {
+            for beta in 0..h.dim {
+                let z = op.matrix[(alpha, beta)];
+                if (z.re != 0.0 || z.im != 0.0) && (shift > 0 || alpha >= beta) {
+                    seen.push((alpha, beta, shift));
+                }
+            }
+        }
+    }
+    seen.sort_unstable();
+    seen.dedup();
+    (cutoff as u64).saturating_mul(seen.len() as u64)
+}
+
+/// Longest text line of one entry of a matrix of `rows` rows: two indices and two numbers in
+/// `{:e}` form (at most 24 characters; 3 for an exact zero imaginary part of a real matrix).
+fn line_bytes(rows: u64, real: bool) -> u64 {
+    let digits = u64::from(rows.max(1).ilog10()) + 1;
+    2 * digits + 24 + if real { 3 } else { 24 } + 3
 }
 
 /// A parsed MatrixMarket file: size and lower-triangle entries (i, j, value), 0-based.
@@ -103,7 +143,7 @@ pub fn parse_matrix_market(text: &str) -> std::result::Result<Parsed, String> {
     }
     let mut size = None;
     let mut expected = 0;
-    let mut out = Vec::new();
+    let mut out: Vec<(usize, usize, Complex64)> = Vec::new();
     for (no, line) in lines {
         let line = line.trim();
         if line.is_empty() || line.starts_with('%') {
@@ -118,6 +158,8 @@ pub fn parse_matrix_market(text: &str) -> std::result::Result<Parsed, String> {
                     Ok([r, c, k]) if r == c => {
                         size = Some(*r);
                         expected = *k;
+                        // one allocation of the announced size (bounded by the text's lines)
+                        out.reserve_exact(expected.min(text.len() / 8));
                     }
                     _ => return Err(format!("line {}: bad size line '{line}'", no + 1)),
                 }
@@ -171,15 +213,58 @@ fn parse_sector(s: &str) -> CliResult<SectorId> {
     Ok(SectorId { class, label })
 }
 
+/// Whether `id` is a sector of `plan`, in O(1) (the sector list of a huge cutoff is never
+/// built).
+fn sector_exists(plan: &SectorPlan, id: SectorId) -> bool {
+    let Some(c) = plan.symmetry.classes.get(id.class) else {
+        return false;
+    };
+    let max_s = c.shifts.iter().copied().max().unwrap_or(0);
+    match c.modulus {
+        0 => id.label >= 0 && (id.label as i128) < plan.cutoff as i128 + max_s as i128,
+        1 => id.label == 0,
+        m => id.label >= 0 && (id.label as u64) < m,
+    }
+}
+
+/// The first `count` sectors of `plan` in its order, without building the whole list.
+fn first_sectors(plan: &SectorPlan, count: usize) -> Vec<SectorId> {
+    let mut out = Vec::new();
+    for class in 0..plan.symmetry.classes.len() {
+        let mut label = 0;
+        while out.len() < count && sector_exists(plan, SectorId { class, label }) {
+            out.push(SectorId { class, label });
+            label += 1;
+        }
+    }
+    out
+}
+
 /// Run `ladderfan export`.
 pub fn run(a: &ExportArgs) -> CliResult {
     let lm = load_model(&a.model)?;
-    let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
+    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
     let h = LadderHamiltonian::assemble(&lm.model, r.point(), 0.0)?;
     let d = h.dim;
+    // half-bandwidth of the exported matrix in rows: orbital-major rows n d + alpha couple only
+    // within |m - n| <= band; a sector's rows are in banded order
+    let mut half_bandwidth = (h.band + 1) * d - 1;
     let states: Vec<(usize, usize)> = match &a.sector {
         None => {
-            let size = r.cutoff * d;
+            let size = r.cutoff.saturating_mul(d);
+            common::check_memory(
+                &lm,
+                "export",
+                "--cutoff",
+                r.point(),
+                r.cutoff,
+                r.memory_limit_mib,
+                &ladderfan::memory::Footprint::Export {
+                    entries: lower_entries_bound(&h, r.cutoff),
+                    line_bytes: line_bytes(size as u64, h.is_real()),
+                },
+                None,
+            )?;
             let mib = (size as u64).saturating_mul(size as u64) / (1 << 20);
             // the text file holds at most (2 band + 1) d entries per row; refuse absurd sizes
             let entries = size as u64 * ((2 * h.band + 1) * d) as u64;
@@ -198,20 +283,36 @@ pub fn run(a: &ExportArgs) -> CliResult {
         Some(spec) => {
             let id = parse_sector(spec)?;
             let plan = SectorPlan::new(Symmetry::detect(&h), r.cutoff);
-            let ids = plan.sectors();
-            if !ids.contains(&id) {
-                let labels: Vec<String> = ids
+            let shape = ladderfan::memory::SolveShape::new(&plan.symmetry, r.cutoff, 1);
+            half_bandwidth = plan
+                .half_bandwidth(id, h.band)
+                .min(shape.largest_sector as usize);
+            common::check_memory(
+                &lm,
+                "export --sector",
+                "--cutoff",
+                r.point(),
+                r.cutoff,
+                r.memory_limit_mib,
+                &ladderfan::memory::Footprint::Export {
+                    entries: shape
+                        .largest_sector
+                        .saturating_mul((half_bandwidth + 1) as u64),
+                    line_bytes: line_bytes(shape.largest_sector, h.is_real()),
+                },
+                None,
+            )?;
+            if !sector_exists(&plan, id) {
+                let labels: Vec<String> = first_sectors(&plan, 8)
                     .iter()
-                    .take(8)
                     .map(|s| format!("{}:{}", s.class, s.label))
                     .collect();
                 return Err(bad_flag(
                     "--sector",
                     format!(
-                        "sector {spec} does not exist for this model and cutoff (symmetry: {}); sectors are {}{}",
+                        "sector {spec} does not exist for this model and cutoff (symmetry: {}); sectors are {}, ...",
                         plan.symmetry.describe(),
                         labels.join(", "),
-                        if ids.len() > 8 { ", ..." } else { "" }
                     ),
                 ));
             }
@@ -261,7 +362,7 @@ pub fn run(a: &ExportArgs) -> CliResult {
             h.element(m, al, n, be)
         }
     };
-    let (text, count) = matrix_market(&comments, states.len(), element);
+    let (text, count) = matrix_market(&comments, states.len(), half_bandwidth, element);
     // check the text parses back to the same matrix before writing it
     let (n2, entries) = parse_matrix_market(&text).map_err(|m| {
         CliError::Verification(format!("the written matrix does not parse back: {m}"))
@@ -331,7 +432,7 @@ mod tests {
             [Complex64::new(1.0, 0.0), Complex64::new(0.5, -0.25)],
             [Complex64::new(0.5, 0.25), Complex64::new(-3.0, 0.0)],
         ];
-        let (text, count) = matrix_market(&["c".into()], 2, |i, j| m[i][j]);
+        let (text, count) = matrix_market(&["c".into()], 2, 1, |i, j| m[i][j]);
         assert_eq!(count, 3);
         assert!(
             text.starts_with("%%MatrixMarket matrix coordinate complex hermitian\n% c\n2 2 3\n")

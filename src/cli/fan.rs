@@ -58,7 +58,7 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
         .max_by(|x, y| x.1.abs().total_cmp(&y.1.abs()))
         .map(|(i, _)| i)
         .unwrap_or(0);
-    let (cutoff, memory_limit_mib) = common::resolve_trunc(lm, &a.trunc, values[reference_point])?;
+    let (cutoff, memory_limit_mib) = common::resolve_trunc(lm, &a.trunc)?;
     Ok(Plan {
         command: "fan",
         swept: Swept::Field,

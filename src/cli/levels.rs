@@ -254,7 +254,30 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
 /// Run `ladderfan levels`.
 pub fn run(a: &LevelsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
-    let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
+    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
+    // the listed levels cost memory too (`--count 0` lists all of them): src/memory.rs
+    let files = if a.output.out.is_some() {
+        ladderfan::memory::FILES_BYTES_PER_LEVEL
+    } else {
+        0
+    };
+    common::check_memory(
+        &lm,
+        "levels",
+        "--count",
+        r.point(),
+        r.cutoff,
+        r.memory_limit_mib,
+        &ladderfan::memory::Footprint::Table {
+            shown: if a.count == 0 {
+                u64::MAX
+            } else {
+                a.count as u64
+            },
+            bytes_per_shown: ladderfan::memory::TABLE_BYTES_PER_LEVEL + files,
+        },
+        None,
+    )?;
     let s = compute(&lm, &r)?;
     let shown = if a.show_unconverged {
         common::Shown::All

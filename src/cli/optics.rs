@@ -148,7 +148,7 @@ fn transition_json(t: &Transition, max: f64) -> TransitionJson {
 pub fn run(a: &OpticsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
-    let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
+    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
     let (values, cutoff, mem) = match a.b_max {
         None => (vec![r.field], r.cutoff, r.memory_limit_mib),
         Some(b_max) => {
@@ -161,7 +161,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
                     "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
                 ));
             }
-            let (c, m) = common::resolve_trunc(&lm, &a.solve.trunc, b_max)?;
+            let (c, m) = common::resolve_trunc(&lm, &a.solve.trunc)?;
             (v, c, m)
         }
     };
@@ -176,6 +176,26 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         .copied()
         .max_by(|x, y| x.abs().total_cmp(&y.abs()))
         .unwrap_or(r.field);
+    // eigenvectors and velocity elements of every field are kept (src/memory.rs)
+    common::check_memory(
+        &lm,
+        "optics",
+        if values.len() > 1 {
+            "--points"
+        } else {
+            "--cutoff"
+        },
+        FieldPoint {
+            field: top,
+            kz: r.kz,
+        },
+        cutoff,
+        mem,
+        &ladderfan::memory::Footprint::Optics {
+            points: values.len() as u64,
+        },
+        None,
+    )?;
     let mut settings = Settings::with_cutoff(cutoff);
     settings.memory_limit_mib = mem;
     // the typical Landau spacing at the highest field sets the default width and window

@@ -647,6 +647,20 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         Some(s) => s.range(total)?,
         None => 0..total,
     };
+    // every point's spectrum is kept until the tracks are built: one check for all of them
+    common::check_memory(
+        lm,
+        plan.command,
+        "--points",
+        plan.points[plan.reference_point],
+        plan.cutoff,
+        plan.memory_limit_mib,
+        &ladderfan::memory::Footprint::Sweep {
+            points: block.len() as u64,
+            extra_per_level: ladderfan::memory::SWEEP_TRACK_BYTES,
+        },
+        a.threads,
+    )?;
     let spectra = solve_points(
         lm,
         &plan.points[block.clone()],

@@ -173,6 +173,10 @@ pub fn erfc(x: f64) -> f64 {
             }
         }
         1.0 - 2.0 / std::f64::consts::PI.sqrt() * (-x2).exp() * sum
+    } else if x * x > 746.0 {
+        // e^{-x^2} < 2^-1075 rounds to 0, and so would the continued fraction below: the
+        // same result without its 80 divisions (most levels of a large cutoff are this far)
+        0.0
     } else {
         let mut k = x;
         for depth in (1..=80).rev() {
@@ -418,6 +422,19 @@ mod tests {
         }
         // continuity across the switch at x = 3
         assert!((erfc(3.0 - 1e-12) - erfc(3.0)).abs() < 1e-15);
+    }
+
+    #[test]
+    fn erfc_far_tail_is_exact_zero_or_two() {
+        // e^{-x^2} is below the smallest subnormal (2^-1074, about 4.9e-324) once x^2 > 745.2
+        // (IEEE 754 double range, from memory): erfc is 0 there and 2 - 0 on the other side
+        for x in [27.32, 30.0, 1e3, 1e300, f64::INFINITY] {
+            assert_eq!(erfc(x).to_bits(), 0.0f64.to_bits(), "erfc({x})");
+            assert_eq!(erfc(-x).to_bits(), 2.0f64.to_bits(), "erfc(-{x})");
+        }
+        // just inside the cut the continued fraction still gives a positive subnormal or zero
+        let inside = erfc(27.0);
+        assert!((0.0..1e-300).contains(&inside), "erfc(27) = {inside:e}");
     }
 
     #[test]

@@ -339,7 +339,9 @@ fn oscillator(units: Units, v2: f64, de: f64) -> f64 {
 /// Klein-Gordon form; errors of [`VelocityOperator::new`].
 ///
 /// # Complexity
-/// O(L s ops d) to apply v to L converged levels of sector size s, plus O(L^2 s) projections.
+/// O(L s ops d) to apply v to L converged levels of sector size s, plus one O(s) projection per
+/// pair of levels sharing a state with v|i>: O(L d^2) pairs for exactly conserved J (linear in
+/// the cutoff), O(L^2) when sectors are large (J mod m or no symmetry).
 pub fn transitions(
     model: &Model,
     spectrum: &Spectrum,
@@ -362,11 +364,31 @@ pub fn transitions(
         .iter()
         .map(|&i| occupation.of_level(spectrum.levels[i].energy))
         .collect();
+    // <f|v|i> vanishes unless f has weight on a state that v|i> reaches: index the converged
+    // levels by the states of their vectors, so each i meets only the levels sharing a state
+    // with v|i> (O(L) pairs for exactly conserved J, where sectors hold <= d states)
+    let mut by_state: HashMap<(usize, usize), Vec<usize>> = HashMap::new();
+    for (b, &f) in conv.iter().enumerate() {
+        for &st in &vecs[f].states {
+            by_state.entry(st).or_default().push(b);
+        }
+    }
+    let mut candidates: Vec<usize> = Vec::new();
     let mut out = Vec::new();
     for (a, &i) in conv.iter().enumerate() {
         let applied = vop.apply(&vecs[i]);
         let ei = spectrum.levels[i].energy;
-        for (b, &f) in conv.iter().enumerate() {
+        candidates.clear();
+        for st in applied.x.keys().chain(applied.y.keys()) {
+            if let Some(bs) = by_state.get(st) {
+                candidates.extend_from_slice(bs);
+            }
+        }
+        // ascending, as in a scan of every pair (the order of equal entries in the result)
+        candidates.sort_unstable();
+        candidates.dedup();
+        for &b in &candidates {
+            let f = conv[b];
             let ef = spectrum.levels[f].energy;
             let de = ef - ei;
             if de <= 0.0 || settings.max_energy.is_some_and(|m| de > m) {

@@ -108,7 +108,7 @@ pub struct Settings {
     pub tolerance: f64,
     /// Arithmetic of the eigenvalues.
     pub precision: Precision,
-    /// Largest dense sector (states) before the solve refuses with a memory error.
+    /// Memory limit in MiB of one solve ([`crate::memory`]): the solve refuses beyond it.
     pub memory_limit_mib: u64,
     /// Which levels are wanted: all, an energy window, or the levels nearest an energy.
     pub target: Target,
@@ -577,42 +577,50 @@ impl Spectrum {
             Splitting::Off => Symmetry::none(h.dim),
         };
         let plan = SectorPlan::new(symmetry, settings.cutoff);
-        let ids = plan.sectors();
-        // memory check for the largest sector
-        let mut buf = Vec::new();
-        let largest = ids
-            .iter()
-            .filter(|id| plan.symmetry.classes[id.class].modulus != 0)
-            .map(|&id| {
-                plan.states(id, &mut buf);
-                buf.len()
-            })
-            .max()
-            .unwrap_or(h.dim);
-        let windowed = largest > settings.dense_max && settings.target != Target::All;
-        let need_mib = if windowed {
+        // memory check before anything is allocated (closed form, src/memory.rs); the sector
+        // list is built only after it
+        let shape = crate::memory::SolveShape::new(
+            &plan.symmetry,
+            settings.cutoff,
+            crate::memory::branches(model),
+        );
+        let largest = shape.largest_sector;
+        let windowed = largest > settings.dense_max as u64 && settings.target != Target::All;
+        let threads = rayon::current_num_threads() as u64;
+        let need = if windowed {
             // banded matrix + its LU (about 4 b + 4 numbers a row) + a Krylov basis of ~3 count
             let wanted = match settings.target {
                 Target::Nearest { count, .. } => count,
                 _ => WINDOW_MAX_LEVELS.min(64),
             };
-            let hbw = (h.band + 2) * h.dim;
-            largest as u64 * (4 * hbw as u64 + 4 + 3 * wanted as u64 + 20) * 16 / (1 << 20)
+            let hbw = ((h.band + 2) * h.dim) as u64;
+            largest
+                .saturating_mul(4 * hbw + 4 + 3 * wanted as u64 + 20)
+                .saturating_mul(16)
+                .saturating_add(crate::memory::BASE_BYTES)
         } else {
-            (largest as u64).pow(2) * 16 * 3 / (1 << 20)
+            let vectors = settings.vectors == Vectors::Compute;
+            crate::memory::estimate(
+                &shape,
+                &crate::memory::Footprint::Solve { vectors },
+                threads,
+            )
         };
-        if need_mib > settings.memory_limit_mib {
-            let kind = if windowed {
-                "a window solve of a sector of"
-            } else {
-                "a dense sector of"
-            };
-            return Err(Error::MemoryLimit {
-                what: format!("{kind} {largest} states"),
-                needed_mib: need_mib,
-                limit_mib: settings.memory_limit_mib,
-            });
-        }
+        let kind = if windowed {
+            format!("a window solve of a sector of {largest} states")
+        } else {
+            format!(
+                "a solve at cutoff {} ({} levels, largest sector {largest} states)",
+                settings.cutoff, shape.levels
+            )
+        };
+        crate::memory::check(
+            &kind,
+            need,
+            settings.memory_limit_mib,
+            crate::memory::FIX_SOLVE,
+        )?;
+        let ids = plan.sectors();
         let refine = match settings.precision {
             Precision::Double => RefinePolicy::Never,
             Precision::Extended => RefinePolicy::Always,
@@ -688,6 +696,7 @@ impl Spectrum {
                 what: format!("{total} levels in one solve (at most 2^32)"),
                 needed_mib: (total * std::mem::size_of::<Level>()) as u64 >> 20,
                 limit_mib: settings.memory_limit_mib,
+                fix: crate::memory::FIX_SOLVE.into(),
             });
         }
         // each chunk writes its keys into its own slice of one array, in parallel (a zeroed

@@ -45,7 +45,7 @@
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::{BoundKind, Convergence, Level, Spectrum};
-use crate::model::{Model, SpectrumForm};
+use crate::model::Model;
 use crate::sectors::SectorId;
 use crate::solve::Settings;
 use crate::trust::window::{check_spectrum, EnergyWindow, WindowWarning};
@@ -268,6 +268,28 @@ pub fn study(
             "a convergence study needs at least one cutoff; give a list such as 25,50,100".into(),
         ));
     };
+    // every spectrum is kept: check their sum before the first solve (src/memory.rs)
+    let shapes: Vec<crate::memory::SolveShape> = cutoffs
+        .iter()
+        .map(|&n| crate::memory::SolveShape::of_model(model, point, n, base.splitting))
+        .collect::<Result<_>>()?;
+    crate::memory::check(
+        &format!(
+            "a convergence study at {} cutoffs up to {largest} ({} levels at the largest; every spectrum is kept)",
+            cutoffs.len(),
+            shapes.last().map_or(0, |s| s.levels)
+        ),
+        crate::memory::study(
+            &shapes,
+            largest,
+            matches!(exact, ExactValues::ClosedFormIfKnown)
+                && crate::closed_form::for_model(model, point, model.reference_energy(), 1)
+                    .is_some(),
+            rayon::current_num_threads() as u64,
+        ),
+        base.memory_limit_mib,
+        "lower the cutoff or use fewer cutoffs, or raise the memory limit",
+    )?;
     let mut spectra = Vec::with_capacity(cutoffs.len());
     let mut seconds = Vec::with_capacity(cutoffs.len());
     for &n in &cutoffs {
@@ -617,17 +639,6 @@ fn validate_auto(a: &AutoSettings) -> Result<()> {
     Ok(())
 }
 
-/// Memory (MiB) that the stored levels of one solve take, for the limit check.
-fn levels_mib(model: &Model, cutoff: usize) -> u64 {
-    let d = model.dim();
-    let branches = match model.form() {
-        SpectrumForm::Direct => 1,
-        SpectrumForm::KleinGordon { .. } => 2,
-    };
-    let per_level = std::mem::size_of::<Level>() + 8 * d;
-    ((cutoff * d * branches * per_level) as u64) >> 20
-}
-
 /// Grow the cutoff until every genuine level of the selection has a bound (residual by
 /// default, see [`BoundChoice`]) below the relative tolerance, confirmed by the next cutoff
 /// (see the module docs).
@@ -685,17 +696,30 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
                 detail,
             });
         }
-        let need = levels_mib(model, cutoff);
-        if need > settings.memory_limit_mib {
-            return Err(Error::MemoryLimit {
-                what: format!(
-                    "the levels of a solve with {cutoff} orbitals (tolerance {:e} not met below it)",
-                    settings.tolerance
-                ),
-                needed_mib: need,
-                limit_mib: settings.memory_limit_mib,
-            });
+        // the previous spectrum is kept while the next is solved (src/memory.rs)
+        let mut shapes = vec![crate::memory::SolveShape::of_model(
+            model,
+            point,
+            cutoff,
+            settings.base.splitting,
+        )?];
+        if let Some((p, _, _)) = &previous {
+            shapes.push(crate::memory::SolveShape::of_model(
+                model,
+                point,
+                p.cutoff,
+                settings.base.splitting,
+            )?);
         }
+        crate::memory::check(
+            &format!(
+                "a solve with {cutoff} orbitals (tolerance {:e} not met below it; the previous spectrum is kept)",
+                settings.tolerance
+            ),
+            crate::memory::kept_together(&shapes, rayon::current_num_threads() as u64),
+            settings.memory_limit_mib,
+            "loosen the tolerance, lower max_cutoff, or raise the memory limit",
+        )?;
         let run = Settings {
             cutoff,
             tolerance: settings.tolerance,
@@ -708,7 +732,9 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
                 what,
                 needed_mib,
                 limit_mib,
+                fix,
             } => Error::MemoryLimit {
+                fix,
                 what: format!(
                     "{what} at a cutoff of {cutoff} orbitals (tolerance {:e} not met below it)",
                     settings.tolerance

@@ -1,0 +1,456 @@
+//! The memory estimate of a solve, a sweep and each command, in closed form from the sector
+//! plan's sizes; the one guard every path uses before it allocates.
+//!
+//! # Formula
+//! For a model of d components and B branches (2 in Klein-Gordon form, else 1) at cutoff N the
+//! truncated basis holds N d states and a solve returns L = B N d levels, whatever the
+//! splitting. With `l` = `size_of::<Level>()` bytes per level record and 8 d bytes of
+//! component weights, the peak resident set of one solve is
+//!
+//! ```text
+//! solve = L (l + 8d)              the levels kept in the result
+//!       + L (l + 8d) g            the per-chunk buffers they are gathered from (g = 1 when every
+//!                                  class conserves J exactly: buffers are reserved once; g = 2
+//!                                  otherwise: doubling growth)
+//!       + 16 L                    the sort keys
+//!       + c 48 s^2                c sectors of s states solved at once: matrix, vectors and
+//!                                  the eigen-solver's workspace, 16 bytes per complex entry
+//!       + L 32 s + 48 L           eigenvectors on s states each, when kept
+//! ```
+//!
+//! where s is the largest sector in closed form: |class| for exact conservation, ceil((N +
+//! max shift) / m) |class| for J mod m, N |class| with no conserved quantity, and c the number
+//! of such sectors in flight (at most the thread count). A sweep of P points keeps P results and
+//! has min(P, threads) solves in flight; each command adds its own per-level records (see
+//! [`Footprint`]) and a fixed [`BASE_BYTES`] for the program itself.
+//!
+//! Nothing here enumerates sectors or states: the cost is O(d^2) for the symmetry detection and
+//! O(1) after it, and every product saturates, so a cutoff of 10^12 gives a finite (huge)
+//! estimate instead of an overflow.
+//!
+//! # Accuracy
+//! Measured against the peak resident set (`scripts/memcheck.sh`, README section Memory): the
+//! estimate is never below the peak and at most 1.3x above it for the levels, fan, dos, optics,
+//! converge and export paths at mid to large sizes; at small sizes [`BASE_BYTES`] dominates.
+
+use crate::error::{Error, Result};
+use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
+use crate::levels::{Level, LevelVector};
+use crate::model::{Model, SpectrumForm};
+use crate::sectors::Symmetry;
+use crate::solve::Splitting;
+
+/// Resident memory of the program before any solve (binary, libraries, thread stacks, the
+/// allocator's arenas), in bytes: the measured peak of a run at cutoff 10 is 6.7-7.5 MiB.
+pub const BASE_BYTES: u64 = 8 << 20;
+
+/// Bytes of one level record in a result.
+pub const LEVEL_BYTES: u64 = std::mem::size_of::<Level>() as u64;
+
+/// Bytes of one sort key of the final gather.
+const KEY_BYTES: u64 = 16;
+
+/// Bytes per entry of a dense sector solve: the matrix, the eigenvectors and the solver's
+/// workspace, one complex number (16 bytes) each.
+const DENSE_ENTRY_BYTES: u64 = 48;
+
+/// Bytes of the two empty `Vec`s of a kept eigenvector.
+const VECTOR_HEADER_BYTES: u64 = std::mem::size_of::<LevelVector>() as u64;
+
+/// Bytes per state of a kept eigenvector: the state (n, alpha) and its complex coefficient.
+const VECTOR_STATE_BYTES: u64 = 32;
+
+/// One mebibyte.
+const MIB: u64 = 1 << 20;
+
+/// The sizes of one solve, in closed form.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct SolveShape {
+    /// Components d.
+    pub dim: u64,
+    /// Branches per eigenvalue (2 for the Klein-Gordon form, else 1).
+    pub branches: u64,
+    /// Levels L = branches x N x d.
+    pub levels: u64,
+    /// States of the largest sector.
+    pub largest_sector: u64,
+    /// Sectors of that largest size (at most; saturating).
+    pub largest_count: u64,
+    /// Whether every class conserves J exactly (chunk buffers reserved once).
+    pub exact: bool,
+}
+
+impl SolveShape {
+    /// The shape of a solve of `symmetry` at `cutoff` orbitals with `branches` branches.
+    ///
+    /// # Formula
+    /// Sector sizes per class of c components with shifts s: exact J: c; J mod m:
+    /// ceil((N + max s) / m) c (m sectors); none: N c (one sector).
+    pub fn new(symmetry: &Symmetry, cutoff: usize, branches: u64) -> Self {
+        let n = cutoff as u64;
+        let mut dim = 0u64;
+        let mut largest = 0u64;
+        let mut count = 0u64;
+        for c in &symmetry.classes {
+            let k = c.components.len() as u64;
+            dim += k;
+            let spread = c.shifts.iter().copied().max().unwrap_or(0).max(0) as u64;
+            let (size, many) = match c.modulus {
+                0 => (k, n.saturating_add(spread)),
+                1 => (n.saturating_mul(k), 1),
+                m => (n.saturating_add(spread).div_ceil(m).saturating_mul(k), m),
+            };
+            if size > largest {
+                largest = size;
+                count = many;
+            } else if size == largest {
+                count = count.saturating_add(many);
+            }
+        }
+        SolveShape {
+            dim,
+            branches,
+            levels: n.saturating_mul(dim).saturating_mul(branches),
+            largest_sector: largest,
+            largest_count: count,
+            exact: symmetry.is_exact(),
+        }
+    }
+
+    /// The shape of a solve of `model` at `point` and `cutoff` with `splitting`: the
+    /// Hamiltonian is assembled (cost independent of the cutoff) only to detect the symmetry.
+    ///
+    /// # Errors
+    /// As [`LadderHamiltonian::assemble`] (a zero or non-finite field).
+    pub fn of_model(
+        model: &Model,
+        point: FieldPoint,
+        cutoff: usize,
+        splitting: Splitting,
+    ) -> Result<Self> {
+        let h = LadderHamiltonian::assemble(model, point, 0.0)?;
+        let symmetry = match splitting {
+            Splitting::Auto => Symmetry::detect(&h),
+            Splitting::Off => Symmetry::none(h.dim),
+        };
+        Ok(SolveShape::new(&symmetry, cutoff, branches(model)))
+    }
+
+    /// Bytes of the result a solve returns: the level records and their weights, plus the
+    /// eigenvectors when `vectors` is true.
+    pub fn kept_bytes(&self, vectors: bool) -> u64 {
+        let per_level = LEVEL_BYTES + 8 * self.dim;
+        let mut b = self.levels.saturating_mul(per_level);
+        if vectors {
+            b = b.saturating_add(self.vector_bytes());
+        }
+        b
+    }
+
+    /// Bytes of the eigenvectors: each level keeps the states and coefficients of its sector
+    /// (bounded by the largest sector).
+    fn vector_bytes(&self) -> u64 {
+        let per_level = VECTOR_HEADER_BYTES.saturating_add(
+            VECTOR_STATE_BYTES.saturating_mul(self.largest_sector.min(self.levels)),
+        );
+        self.levels.saturating_mul(per_level)
+    }
+
+    /// Bytes a solve holds on top of its result while it runs, with `threads` workers: the
+    /// chunk buffers, the sort keys and the dense sectors in flight (see the module docs).
+    pub fn transient_bytes(&self, threads: u64) -> u64 {
+        let per_level = LEVEL_BYTES + 8 * self.dim;
+        let growth = if self.exact { 1 } else { 2 };
+        let buffers = self
+            .levels
+            .saturating_mul(per_level.saturating_mul(growth).saturating_add(KEY_BYTES));
+        let s = self.largest_sector;
+        let in_flight = self.largest_count.clamp(1, threads.max(1));
+        let dense = s
+            .saturating_mul(s)
+            .saturating_mul(DENSE_ENTRY_BYTES)
+            .saturating_mul(in_flight);
+        buffers.saturating_add(dense)
+    }
+
+    /// Bytes `points` solves of a sweep hold on top of their results while they run on
+    /// `threads` workers: min(P, threads) sets of chunk buffers and sort keys, and at most
+    /// `threads` dense sectors in all, counted 10% higher than in one solve alone (measured on
+    /// a model with one dense sector per point: two concurrent points of 600 to 2000 states
+    /// hold 46-58 bytes per entry each, against 46 for one solve alone).
+    pub fn sweep_transient_bytes(&self, points: u64, threads: u64) -> u64 {
+        let threads = threads.max(1);
+        let alone = self.transient_bytes(1);
+        let s = self.largest_sector;
+        let one_dense = s.saturating_mul(s).saturating_mul(DENSE_ENTRY_BYTES);
+        let buffers = alone.saturating_sub(one_dense);
+        let in_flight = points
+            .max(1)
+            .saturating_mul(self.largest_count.max(1))
+            .min(threads);
+        let dense = one_dense.saturating_mul(in_flight);
+        points
+            .max(1)
+            .min(threads)
+            .saturating_mul(buffers)
+            .saturating_add(dense)
+            .saturating_add(dense / 10)
+    }
+
+    /// Peak bytes of one solve on its own (result plus transient, without [`BASE_BYTES`]).
+    pub fn solve_bytes(&self, threads: u64, vectors: bool) -> u64 {
+        self.kept_bytes(vectors)
+            .saturating_add(self.transient_bytes(threads))
+    }
+}
+
+/// 2 for the Klein-Gordon form (both branches reported), else 1.
+pub fn branches(model: &Model) -> u64 {
+    match model.form() {
+        SpectrumForm::Direct => 1,
+        SpectrumForm::KleinGordon { .. } => 2,
+    }
+}
+
+/// What a command holds at its peak, for [`estimate`].
+#[derive(Debug, Clone, PartialEq)]
+pub enum Footprint {
+    /// One solve whose result is kept and summarised (`levels`, `dos` at one field, `verify`).
+    Solve {
+        /// Whether the eigenvectors are kept.
+        vectors: bool,
+    },
+    /// One solve and a table (or JSON, CSV, SVG) of `shown` of its levels (`levels`).
+    Table {
+        /// Levels listed.
+        shown: u64,
+        /// Bytes per listed level of the text and records built for it.
+        bytes_per_shown: u64,
+    },
+    /// P solves kept together (`fan`, `dispersion`, `dos`/`optics` sweeps, a convergence study):
+    /// P results, min(P, threads) solves in flight, and `extra_per_level` bytes of the command's
+    /// own records (tracks, tables) per level and point.
+    Sweep {
+        /// Number of points P.
+        points: u64,
+        /// Bytes the command adds per level and point.
+        extra_per_level: u64,
+    },
+    /// One solve with eigenvectors and the velocity matrix elements between its levels
+    /// (`optics` at one field), for `points` fields solved together.
+    Optics {
+        /// Number of fields.
+        points: u64,
+    },
+    /// A MatrixMarket text of at most `entries` stored entries of at most `line_bytes` bytes,
+    /// parsed back once to check it (`export`): no solve.
+    Export {
+        /// Stored (lower-triangle) entries, at most.
+        entries: u64,
+        /// Bytes of one entry's text line, at most.
+        line_bytes: u64,
+    },
+}
+
+/// Bytes a command's own records take per level and point of a sweep: the track of every
+/// label holds an optional energy and bound per point (2 x 16 bytes), and the sweep's JSON view
+/// a few more.
+pub const SWEEP_TRACK_BYTES: u64 = 64;
+
+/// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
+/// measured: about 420).
+pub const TABLE_BYTES_PER_LEVEL: u64 = 480;
+
+/// Bytes per listed level of the CSV and SVG files of `levels --out` on top of the table
+/// (measured: about 150).
+pub const FILES_BYTES_PER_LEVEL: u64 = 160;
+
+/// Bytes per level of the velocity matrix elements of `optics`: the applied velocity of each
+/// level (two hash maps of about 2 d entries of 40 bytes with their table overhead), the index
+/// of levels by state and the transition records.
+const OPTICS_BYTES_PER_LEVEL: u64 = 380;
+
+/// Bytes per stored entry of an exported matrix besides its text line: the parsed entry
+/// (i, j, z: 32 bytes) and the parser's temporaries (measured: about 60 in all).
+const EXPORT_PARSED_BYTES: u64 = 60;
+
+/// Bytes per orbital and component of the closed-form reference list a convergence study
+/// builds for 2N + 8 orbitals (an energy, labels and a short label string per level; measured
+/// on the 2D Dirac model).
+pub const CLOSED_FORM_BYTES: u64 = 48;
+
+/// Estimated peak resident bytes of a command with footprint `f` whose solves have `shape`,
+/// on `threads` workers, including [`BASE_BYTES`]. See the module docs for the formula.
+pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
+    let threads = threads.max(1);
+    let work = match f {
+        Footprint::Solve { vectors } => shape.solve_bytes(threads, *vectors),
+        Footprint::Table {
+            shown,
+            bytes_per_shown,
+        } => shape
+            .solve_bytes(threads, false)
+            .saturating_add(shown.min(&shape.levels).saturating_mul(*bytes_per_shown)),
+        Footprint::Sweep {
+            points,
+            extra_per_level,
+        } => {
+            let p = (*points).max(1);
+            let per_point = shape
+                .kept_bytes(false)
+                .saturating_add(shape.levels.saturating_mul(*extra_per_level));
+            p.saturating_mul(per_point)
+                .saturating_add(shape.sweep_transient_bytes(p, threads))
+        }
+        Footprint::Optics { points } => {
+            let p = (*points).max(1);
+            let per_point = shape
+                .kept_bytes(true)
+                .saturating_add(shape.levels.saturating_mul(OPTICS_BYTES_PER_LEVEL));
+            // a probe solve at the top field comes first and is dropped before the sweep
+            p.saturating_mul(per_point)
+                .saturating_add(shape.sweep_transient_bytes(p, threads))
+        }
+        Footprint::Export {
+            entries,
+            line_bytes,
+        } => entries.saturating_mul(line_bytes.saturating_add(EXPORT_PARSED_BYTES)),
+    };
+    with_headroom(work).saturating_add(BASE_BYTES)
+}
+
+/// `bytes` plus 15%: the allocator's slack, page rounding and what the per-level constants
+/// miss, measured as 3-12% depending on the model (`scripts/memcheck.sh`: 4-component models
+/// with two classes of components need the most), so that the estimate stays above the peak.
+fn with_headroom(bytes: u64) -> u64 {
+    bytes.saturating_add(bytes / 20 * 3)
+}
+
+/// Estimated peak bytes of solves kept together, one per shape (a convergence study keeps the
+/// spectrum of every cutoff): the sum of their results, the largest transient, and
+/// [`BASE_BYTES`].
+pub fn kept_together(shapes: &[SolveShape], threads: u64) -> u64 {
+    let kept = shapes
+        .iter()
+        .fold(0u64, |acc, s| acc.saturating_add(s.kept_bytes(false)));
+    let transient = shapes
+        .iter()
+        .map(|s| s.transient_bytes(threads.max(1)))
+        .max()
+        .unwrap_or(0);
+    with_headroom(kept.saturating_add(transient)).saturating_add(BASE_BYTES)
+}
+
+/// [`kept_together`] plus the closed-form reference list of a study up to `largest` orbitals
+/// (`closed_form`: whether the model has one).
+pub fn study(shapes: &[SolveShape], largest: usize, closed_form: bool, threads: u64) -> u64 {
+    let reference = if closed_form {
+        let dim = shapes.first().map_or(1, |s| s.dim);
+        (largest as u64)
+            .saturating_mul(2)
+            .saturating_add(8)
+            .saturating_mul(dim)
+            .saturating_mul(CLOSED_FORM_BYTES)
+    } else {
+        0
+    };
+    kept_together(shapes, threads).saturating_add(with_headroom(reference))
+}
+
+/// Bytes rounded up to MiB.
+pub fn to_mib(bytes: u64) -> u64 {
+    bytes.div_ceil(MIB)
+}
+
+/// The usual remedy of a refused solve.
+pub const FIX_SOLVE: &str = "lower the cutoff, narrow the window, or raise the memory limit";
+
+/// The remedy of a refused sweep (every point is kept until the sweep ends).
+pub const FIX_SWEEP: &str =
+    "lower the cutoff, use fewer points (or --shard K/N), or raise the memory limit";
+
+/// Refuse work whose estimate (bytes) exceeds `limit_mib`.
+///
+/// # Errors
+/// [`Error::MemoryLimit`] naming `what`, the estimate, the limit and `fix`.
+pub fn check(what: &str, bytes: u64, limit_mib: u64, fix: &str) -> Result<()> {
+    let needed_mib = to_mib(bytes);
+    if needed_mib > limit_mib {
+        return Err(Error::MemoryLimit {
+            what: what.to_string(),
+            needed_mib,
+            limit_mib,
+            fix: fix.to_string(),
+        });
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sectors::ComponentClass;
+
+    fn class(components: Vec<usize>, shifts: Vec<i64>, modulus: u64) -> ComponentClass {
+        ComponentClass {
+            components,
+            shifts,
+            modulus,
+        }
+    }
+
+    #[test]
+    fn closed_form_sizes_match_the_sector_plan() {
+        use crate::sectors::SectorPlan;
+        // exact, modular and no symmetry, each against the plan's own enumeration (small N)
+        for (sym, n) in [
+            (
+                Symmetry {
+                    classes: vec![class(vec![0, 1], vec![0, 1], 0)],
+                },
+                37,
+            ),
+            (
+                Symmetry {
+                    classes: vec![class(vec![0, 1, 2], vec![0, 1, 2], 3)],
+                },
+                41,
+            ),
+            (Symmetry::none(4), 23),
+        ] {
+            let shape = SolveShape::new(&sym, n, 1);
+            let plan = SectorPlan::new(sym.clone(), n);
+            let mut buf = Vec::new();
+            let sizes: Vec<u64> = plan
+                .sectors()
+                .into_iter()
+                .map(|id| {
+                    plan.states(id, &mut buf);
+                    buf.len() as u64
+                })
+                .collect();
+            let max = sizes.iter().copied().max().unwrap_or(0);
+            assert!(shape.largest_sector >= max, "{sym:?}");
+            // the closed form counts every J value of a residue class as full: it may exceed
+            // the largest sector by the partly filled J values at both ends (spread x |class|)
+            let k = sym.classes[0].components.len() as u64;
+            let spread = *sym.classes[0].shifts.iter().max().unwrap_or(&0) as u64;
+            assert!(shape.largest_sector <= max + 2 * spread * k, "{sym:?}");
+            assert_eq!(shape.levels, sizes.iter().sum::<u64>());
+        }
+    }
+
+    #[test]
+    fn a_huge_cutoff_saturates_instead_of_overflowing() {
+        let sym = Symmetry::none(4);
+        let shape = SolveShape::new(&sym, usize::MAX, 2);
+        assert_eq!(
+            estimate(&shape, &Footprint::Solve { vectors: true }, 2),
+            u64::MAX
+        );
+        let err = check("a solve", u64::MAX, 4096, FIX_SOLVE).unwrap_err();
+        assert!(err
+            .to_string()
+            .contains("above the memory limit of 4096 MiB"));
+    }
+}
