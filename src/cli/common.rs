@@ -821,7 +821,9 @@ pub struct LevelJson {
     pub bound: f64,
     /// Residual (Weinstein) bound, always available.
     pub residual_bound: f64,
-    /// Kato-Temple bound where its gap condition was certified, else null.
+    /// Kato-Temple bound where its gap condition was certified; absent otherwise (a JSON
+    /// result never carries null, so scripts cannot mistake a missing bound for a number).
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub kato_temple_bound: Option<f64>,
     /// Which bound decided the state: `residual` or `kato_temple`.
     pub bound_from: &'static str,
