@@ -71,13 +71,13 @@ pub fn branches(count: usize) -> Vec<Branch> {
 /// Label the levels of one exact sector of Landau index `n` (see the module docs). `levels`
 /// holds every level of the sector, in any order; Klein-Gordon levels (`branch` = ±1) are
 /// numbered away from the gap within their own sign.
-pub fn label_exact_sector(levels: &mut [Level], n: i64) {
+pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
     let all: Vec<usize> = (0..levels.len()).collect();
-    label_group(levels, &all, n);
+    label_group(levels, &all, n, family);
 }
 
 /// [`label_exact_sector`] for the levels at indices `group` of `levels`.
-fn label_group(levels: &mut [Level], group: &[usize], n: i64) {
+fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: usize) {
     let kg = group.iter().any(|&i| levels[i].branch != 0);
     if kg {
         for sign in [1i8, -1] {
@@ -105,6 +105,7 @@ fn label_group(levels: &mut [Level], group: &[usize], n: i64) {
                         Branch::Lower(k)
                     },
                     origin: LabelOrigin::ExactSector,
+                    family,
                 };
             }
         }
@@ -117,6 +118,7 @@ fn label_group(levels: &mut [Level], group: &[usize], n: i64) {
             n,
             branch: b,
             origin: LabelOrigin::ExactSector,
+            family,
         };
     }
 }
@@ -159,8 +161,9 @@ pub fn join_kz_families(generic: &LadderHamiltonian, spectrum: &mut Spectrum) {
                 .push(i);
         }
     }
-    for ((_, j), idx) in groups {
-        label_group(&mut spectrum.levels, &idx, j);
+    for ((gc, j), idx) in groups {
+        let family = g.classes[gc].components[0];
+        label_group(&mut spectrum.levels, &idx, j, family);
     }
 }
 
@@ -265,10 +268,11 @@ pub fn continue_labels(
         return Ok(());
     }
     // class and shift of each component in the symmetric model
+    // family (smallest component of the class) and shift of each component in H_0
     let mut shift_of = vec![(0usize, 0i64); h.dim];
-    for (ci, c) in sym_symmetry.classes.iter().enumerate() {
+    for c in &sym_symmetry.classes {
         for (&a, &s) in c.components.iter().zip(&c.shifts) {
-            shift_of[a] = (ci, s);
+            shift_of[a] = (c.components[0], s);
         }
     }
     // the full model's sectors without exact symmetry, each with its levels
@@ -338,7 +342,7 @@ fn follow(
     let mut vecs = DMatrix::<Complex64>::zeros(s, s);
     let mut labels = Vec::with_capacity(s);
     let mut col = 0;
-    for ((_, j), idx) in groups {
+    for ((family, j), idx) in groups {
         let sub: Vec<(usize, usize)> = idx.iter().map(|&i| states[i]).collect();
         let e = dense::eigh(&sector_matrix(h, h0, 0.0, &sub), Vectors::Compute)?;
         let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
@@ -350,6 +354,7 @@ fn follow(
                 n: j,
                 branch: b,
                 origin: LabelOrigin::Continuation,
+                family,
             });
             col += 1;
         }

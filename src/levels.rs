@@ -80,6 +80,10 @@ pub struct LandauLabel {
     pub branch: Branch,
     /// How the label was obtained.
     pub origin: LabelOrigin,
+    /// Family of the level: the smallest component index of the set of components its sector
+    /// couples at a generic kz (tells apart the spin blocks of the BHZ model or the two spins
+    /// of the Pauli model, which share n and branch).
+    pub family: usize,
 }
 
 impl LandauLabel {
@@ -88,6 +92,7 @@ impl LandauLabel {
         n: -1,
         branch: Branch::Unpaired,
         origin: LabelOrigin::Unlabelled,
+        family: 0,
     };
 
     /// Whether a label was given.

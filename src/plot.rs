@@ -255,18 +255,18 @@ fn padded_x((a, b): (f64, f64)) -> (f64, f64) {
     (a, b)
 }
 
-/// A level diagram: each level a point at (dominant orbital n, energy).
+/// A level diagram: each level a point at (Landau index n, energy).
 #[derive(Debug, Clone, PartialEq)]
 pub struct LevelDiagram {
     /// Caption.
     pub title: String,
     /// Energy unit for the axis label.
     pub energy_unit: String,
-    /// (orbital n, energy) of each level.
+    /// (Landau index n, energy) of each level.
     pub levels: Vec<(f64, f64)>,
 }
 
-/// Draw a level diagram as SVG: energy against the dominant orbital index.
+/// Draw a level diagram as SVG: energy against the Landau index n.
 ///
 /// # Errors
 /// [`Error::Numerical`] (stage `plot`) if plotters fails.
@@ -288,7 +288,7 @@ pub fn level_diagram(d: &LevelDiagram) -> Result<String> {
             .map_err(plot_err)?;
         chart
             .configure_mesh()
-            .x_desc("dominant orbital n")
+            .x_desc("Landau index n")
             .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc(format!("E [{}]", d.energy_unit))
             .light_line_style(WHITE.mix(0.0))

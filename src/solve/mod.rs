@@ -481,7 +481,8 @@ impl Job<'_> {
         kato_temple_sector(&mut out.levels[first_level..], edges);
         // quantum numbers: n = J in an exact sector (src/labelling.rs)
         if self.plan.symmetry.classes[id.class].modulus == 0 {
-            crate::labelling::label_exact_sector(&mut out.levels[first_level..], id.label);
+            let family = self.plan.symmetry.classes[id.class].components[0];
+            crate::labelling::label_exact_sector(&mut out.levels[first_level..], id.label, family);
         }
         Ok(())
     }

@@ -843,6 +843,8 @@ pub struct NumericalLevel {
     pub component: usize,
     /// Sector.
     pub sector: SectorId,
+    /// Landau label (n and branch as the trade writes them), to set beside the expected n, s.
+    pub label: crate::levels::LandauLabel,
 }
 
 /// An expected level as reported (one state of its multiplicity).
@@ -988,6 +990,7 @@ fn numerical(spectrum: &Spectrum, i: usize) -> NumericalLevel {
         orbital: l.orbital,
         component: l.component,
         sector: l.sector,
+        label: l.label,
     }
 }
 
