@@ -372,7 +372,11 @@ fn follow(
         let e = dense::eigh(&sector_matrix(h, h0, next, states), Vectors::Compute)?;
         let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
         let overlap = vecs.adjoint() * &v; // (old, new)
-        let (perm, worst) = greedy_match(&overlap);
+                                           // only genuine levels decide the step: cutoff artefacts mix among themselves at will
+        let genuine: Vec<bool> = (0..vecs.ncols())
+            .map(|j| top_weight(&vecs, j, states, top_from) < 0.5)
+            .collect();
+        let (perm, worst) = greedy_match(&overlap, &genuine);
         if worst < 0.5 && halvings < MAX_HALVINGS && broken {
             step *= 0.5;
             halvings += 1;
@@ -384,17 +388,10 @@ fn follow(
         values = e.values;
         t = next;
         halvings = 0;
-        step = 1.0 / CONTINUATION_STEPS as f64;
+        step = (2.0 * step).min(1.0 / CONTINUATION_STEPS as f64);
     }
     let top: Vec<f64> = (0..vecs.ncols())
-        .map(|j| {
-            states
-                .iter()
-                .enumerate()
-                .filter(|(_, &(n, _))| n >= top_from)
-                .map(|(i, _)| vecs[(i, j)].norm_sqr())
-                .sum()
-        })
+        .map(|j| top_weight(&vecs, j, states, top_from))
         .collect();
     Ok(values
         .into_iter()
@@ -404,9 +401,25 @@ fn follow(
         .collect())
 }
 
+/// Weight of column `j` of `vecs` on the orbitals from `top_from` on.
+fn top_weight(
+    vecs: &DMatrix<Complex64>,
+    j: usize,
+    states: &[(usize, usize)],
+    top_from: usize,
+) -> f64 {
+    states
+        .iter()
+        .enumerate()
+        .filter(|(_, &(n, _))| n >= top_from)
+        .map(|(i, _)| vecs[(i, j)].norm_sqr())
+        .sum()
+}
+
 /// One-to-one assignment of new columns to old rows by the largest |overlap|^2 first; returns
-/// for each new column its old row and the smallest |overlap|^2 used.
-fn greedy_match(overlap: &DMatrix<Complex64>) -> (Vec<usize>, f64) {
+/// for each new column its old row and the smallest |overlap|^2 used by an old row marked
+/// `genuine`.
+fn greedy_match(overlap: &DMatrix<Complex64>, genuine: &[bool]) -> (Vec<usize>, f64) {
     let (r, c) = overlap.shape();
     let mut pairs: Vec<(f64, usize, usize)> = Vec::with_capacity(r * c);
     for j in 0..c {
@@ -425,7 +438,9 @@ fn greedy_match(overlap: &DMatrix<Complex64>) -> (Vec<usize>, f64) {
         if !old_used[i] && new_of[j] == usize::MAX {
             old_used[i] = true;
             new_of[j] = i;
-            worst = worst.min(p);
+            if genuine[i] {
+                worst = worst.min(p);
+            }
         }
     }
     // columns left without any overlap above 1e-6 take the remaining rows in order
@@ -433,7 +448,6 @@ fn greedy_match(overlap: &DMatrix<Complex64>) -> (Vec<usize>, f64) {
     for x in new_of.iter_mut() {
         if *x == usize::MAX {
             *x = free.next().unwrap_or(0);
-            worst = 0.0;
         }
     }
     (new_of, worst)

@@ -279,8 +279,9 @@ pub struct ClosedFormCheck {
     pub max_deviation: f64,
     /// Largest |deviation| / allowed deviation among the pairs (<= 1 for agreement).
     pub worst_ratio: f64,
-    /// Points where some closed-form level in the window has only unconverged candidates:
-    /// not comparable at this cutoff (neither a pass nor a failure there).
+    /// Points where some closed-form level in the window has only unconverged candidates or
+    /// lies beyond the converged range: not comparable at this cutoff there (neither a pass
+    /// nor a failure for those levels).
     pub not_comparable_points: usize,
     /// Points where a level disagrees or has no partner.
     pub failed_points: usize,
@@ -292,7 +293,7 @@ pub struct ClosedFormCheck {
 
 /// Compare the converged levels in the window with the closed form at every spectrum, through
 /// [`verify::check`] with its default settings: the closed-form list covers Landau indices up
-/// to the cutoff, its own completeness window is intersected with the sweep's window. A point
+/// to N - 1 for cutoff N, its own completeness window is intersected with the sweep's window. A point
 /// whose verdict is inconclusive (closed-form levels whose only candidates are not converged)
 /// is "not comparable at this cutoff", which is no failure. `None` when the model has no closed
 /// form.
@@ -315,7 +316,9 @@ pub fn closed_form_check(
     let settings = verify::VerifySettings::default();
     let mut first_failure = None;
     for s in spectra {
-        let list = verify::ExpectedList::from_closed_form(&lm.model, s.point, s.cutoff)?;
+        // Landau indices the truncated basis can hold: n <= N - 1
+        let max_n = s.cutoff.saturating_sub(1).max(1);
+        let list = verify::ExpectedList::from_closed_form(&lm.model, s.point, max_n)?;
         // the list's energies are relative to the model reference, the spectrum's to its own
         let shift = list.origin - s.reference_energy;
         let (wlo, whi) = (lo - shift, hi - shift);
@@ -331,6 +334,16 @@ pub fn closed_form_check(
         };
         let list = list.with_window(verify::Window { lower, upper });
         let v = verify::check(s, &list, &settings).ok()?;
+        // closed-form states inside the window that were neither paired nor reported missing or
+        // unresolved lie beyond the converged range: not comparable at this cutoff
+        let inside: usize = list
+            .levels
+            .iter()
+            .filter(|x| x.energy - shift >= lo && x.energy - shift <= hi)
+            .map(|x| x.multiplicity as usize)
+            .sum();
+        let accounted = v.pairs.len() + v.missing_expected.len() + v.unresolved_expected.len();
+        let beyond = inside > accounted;
         for p in &v.pairs {
             out.computed_compared += 1;
             out.expected_compared += 1;
@@ -338,6 +351,7 @@ pub fn closed_form_check(
             out.worst_ratio = out.worst_ratio.max(p.deviation.abs() / p.allowed);
         }
         match v.outcome {
+            verify::Outcome::Pass if beyond => out.not_comparable_points += 1,
             verify::Outcome::Pass => {}
             verify::Outcome::Inconclusive => out.not_comparable_points += 1,
             verify::Outcome::Fail => {
@@ -360,7 +374,8 @@ pub fn closed_form_check(
     } else if out.not_comparable_points > 0 {
         out.note = format!(
             "not comparable at this cutoff at {} of {} points: closed-form levels in the window \
-             have only unconverged partners there (raise --cutoff or narrow the window)",
+             have only unconverged partners there (raise --cutoff or narrow the window); the \
+             converged levels agree",
             out.not_comparable_points,
             spectra.len()
         );
@@ -851,5 +866,51 @@ mod tests {
         c.passed = true;
         assert!(verdict(Some(&c)).is_ok());
         assert!(verdict(None).is_ok());
+    }
+
+    fn loaded(model: ladderfan::Model) -> LoadedModel {
+        LoadedModel {
+            model,
+            defaults: Default::default(),
+            origin: "test".into(),
+        }
+    }
+
+    #[test]
+    fn a_small_cutoff_is_not_comparable_but_a_moved_level_is_a_disagreement() {
+        // tilted cone (Goerbig et al., Phys. Rev. B 78, 045415 (2008)) at cutoff 40: the levels
+        // of the window beyond the converged range are not comparable, which is no failure
+        let lm = loaded(
+            ladderfan::catalogue::tilted_dirac2d(Default::default())
+                .unwrap_or_else(|e| panic!("{e}")),
+        );
+        let s = Spectrum::compute(
+            &lm.model,
+            FieldPoint::field(10.0),
+            &Settings::with_cutoff(40),
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        let win = (-32.0, 32.0);
+        let c = closed_form_check(&lm, &[&s], win).unwrap_or_else(|| panic!("closed form"));
+        assert!(c.passed, "{c:?}");
+        assert_eq!(c.not_comparable_points, 1, "{c:?}");
+        assert!(
+            c.note.contains("not comparable at this cutoff"),
+            "{}",
+            c.note
+        );
+        assert!(verdict(Some(&c)).is_ok());
+        // a real disagreement: one converged level moved by 1 meV (far above its bound)
+        let mut moved = s.clone();
+        let i = moved
+            .levels
+            .iter()
+            .position(|l| l.is_converged() && l.energy > 5.0)
+            .unwrap_or_else(|| panic!("no level"));
+        moved.levels[i].energy += 1.0;
+        let c = closed_form_check(&lm, &[&moved], win).unwrap_or_else(|| panic!("closed form"));
+        assert!(!c.passed, "{c:?}");
+        assert_eq!(c.failed_points, 1);
+        assert!(verdict(Some(&c)).is_err());
     }
 }
