@@ -438,7 +438,7 @@ fn fan_tracks_follow_the_closed_form_and_write_csv_and_svg() {
     let csv = std::fs::read_to_string(out.join("fan.csv")).unwrap_or_default();
     assert!(csv.starts_with("# ladderfan"));
     assert!(csv.contains("# units: energy meV, length nm, field T, kz 1/nm"));
-    assert!(csv.contains("field,level,n,branch,energy_meV,bound_meV"));
+    assert!(csv.contains("field,track,level,n,branch,energy_meV,bound_meV"));
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
     assert!(svg.starts_with("<svg") && svg.contains("B [T]") && svg.contains("E [meV]"));
     assert!(svg.contains("dashed: closed form"));

@@ -62,6 +62,9 @@ pub enum Swept {
 /// followed by its quantum numbers ([`ladderfan::observables::labels::tracks`]).
 #[derive(Debug, Clone, Serialize)]
 pub struct Track {
+    /// The identity as integers `family:n:branch:copy` (n = -1 unlabelled; branch +k above
+    /// the gap, -k below, 0 unpaired): the grouping column of the CSV and of shard merges.
+    pub track: String,
     /// The level's identity as printed: Landau label (`+2`, `-2`, `0`, `+1'`; `?` unlabelled),
     /// `@f<family>` for a family other than 0, `#<copy>` for a repeated label.
     pub label: String,
@@ -137,8 +140,18 @@ pub fn solve_points(
 /// [`labels::tracks`]; cutoff artefacts never enter). Only converged values are kept.
 pub fn track(lm: &LoadedModel, spectra: &[Spectrum], reference: usize) -> Vec<Track> {
     let np = spectra.len();
-    labels::tracks(spectra)
-        .into_iter()
+    let ids = |k: &labels::TrackKey| {
+        let b = match k.branch {
+            Branch::Upper(x) => x as i64,
+            Branch::Lower(x) => -(x as i64),
+            Branch::Unpaired => 0,
+        };
+        [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
+    };
+    let mut all = labels::tracks(spectra);
+    // the order of the integer identity, which is also the order of a shard merge
+    all.sort_by_key(|t| ids(&t.key));
+    all.into_iter()
         .map(|t| {
             let mut energies = vec![None; np];
             let mut bounds = vec![None; np];
@@ -157,7 +170,9 @@ pub fn track(lm: &LoadedModel, spectra: &[Spectrum], reference: usize) -> Vec<Tr
                     component = lm.model.component_names().get(l.component).cloned();
                 }
             }
+            let id = ids(&t.key);
             Track {
+                track: format!("{}:{}:{}:{}", id[0], id[1], id[2], id[3]),
                 label: t.key.to_string(),
                 n: t.key.n,
                 branch: t.key.branch,
@@ -455,6 +470,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
     let e = u.energy_unit().replace(' ', "");
     let mut rec = vec![vec![
         xname.to_string(),
+        "track".into(),
         "level".into(),
         "n".into(),
         "branch".into(),
@@ -466,6 +482,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
             if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
                 rec.push(vec![
                     format!("{x:e}"),
+                    t.track.clone(),
                     t.label.clone(),
                     t.n.map(|n| n.to_string()).unwrap_or_default(),
                     common::landau_branch_text(t.branch),
@@ -735,7 +752,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         ShardHeader {
             shard: s,
             total_points: total,
-            group_by: vec!["level".into()],
+            group_by: vec!["track".into()],
             keep: Some(KeepGroups {
                 column: format!("energy_{e}"),
                 lo: win.0,
