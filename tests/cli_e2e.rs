@@ -989,8 +989,8 @@ fn table_output_is_aligned_and_labelled() {
         .unwrap_or_else(|| panic!("no table header: {}", r.stdout));
     for col in [
         "sector",
-        "n",
-        "component",
+        "LL",
+        "character",
         "energy [meV]",
         "bound [meV]",
         "converged",
