@@ -27,6 +27,9 @@ pub struct Curve {
     pub stroke: Stroke,
     /// Points in plot order.
     pub points: Vec<(f64, f64)>,
+    /// Text written at the curve's last finite point when that lies inside the plot (e.g. a
+    /// Landau label `+2` at the right end of a fan).
+    pub label: Option<String>,
 }
 
 /// A line plot: title, axis labels (with units) and curves.
@@ -138,7 +141,7 @@ fn runs(points: &[(f64, f64)], (y0, y1): (f64, f64)) -> Vec<Vec<(f64, f64)>> {
 /// use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 /// let svg = line_plot(&LinePlot {
 ///     title: "t".into(), x_label: "B [T]".into(), y_label: "E [meV]".into(),
-///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)] }],
+///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)], label: None }],
 ///     y_range: None, notes: vec![],
 /// })?;
 /// assert!(svg.starts_with("<svg") && svg.contains("B [T]"));
@@ -227,6 +230,24 @@ pub fn line_plot(p: &LinePlot) -> Result<String> {
                     }
                 }
             }
+        }
+        // labels at the last finite point of each labelled curve, when inside the y range
+        for c in &p.curves {
+            let (Some(text), Some(&(x, y))) =
+                (&c.label, c.points.iter().rev().find(|(_, y)| y.is_finite()))
+            else {
+                continue;
+            };
+            if y < y0 || y > y1 {
+                continue;
+            }
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    text.clone(),
+                    (x, y),
+                    ("sans-serif", 11).into_font().color(&palette(c.color_key)),
+                )))
+                .map_err(plot_err)?;
         }
         root.present().map_err(plot_err)?;
     }
@@ -341,11 +362,13 @@ mod tests {
             y_label: "E [meV]".into(),
             curves: vec![
                 Curve {
+                    label: None,
                     color_key: 1,
                     stroke: Stroke::Solid,
                     points: vec![(1.0, 1.0), (2.0, 2.0), (3.0, 3.0)],
                 },
                 Curve {
+                    label: None,
                     color_key: 0,
                     stroke: Stroke::Dashed,
                     points: vec![(1.0, 1.5), (3.0, 3.5)],

@@ -442,6 +442,7 @@ fn fan_tracks_follow_the_closed_form_and_write_csv_and_svg() {
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
     assert!(svg.starts_with("<svg") && svg.contains("B [T]") && svg.contains("E [meV]"));
     assert!(svg.contains("dashed: closed form"));
+
     // no temporary files left next to the results
     let names: Vec<String> = std::fs::read_dir(&out)
         .into_iter()
@@ -1290,4 +1291,31 @@ fn plus_and_minus_e_n_of_the_gapped_2d_dirac_model_share_n_in_levels_verify_and_
     assert_eq!(r.code, 0, "{}", r.stderr);
     assert!(r.stdout.contains("LL(-2) -> LL(+3)"), "{}", r.stdout);
     assert!(r.stdout.contains("LL(0) -> LL(+1)"), "{}", r.stdout);
+    // fan: the curves carry the same labels at their right end (+n and -n both present)
+    let out = scratch("fan-labels");
+    let outs = out.display().to_string();
+    let r = run(&[
+        "fan",
+        "--builtin",
+        "dirac2d",
+        "--set",
+        "mass_mev=10",
+        "--b-max",
+        "5",
+        "--points",
+        "3",
+        "--cutoff",
+        "80",
+        "--emin",
+        "-130",
+        "--emax",
+        "130",
+        "--out",
+        &outs,
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
+    for label in ["+1", "-1", "+2", "-2"] {
+        assert!(svg.lines().any(|l| l.trim() == label), "{label} missing");
+    }
 }

@@ -510,6 +510,14 @@ pub fn svg(
         .tracks
         .iter()
         .map(|t| Curve {
+            // the label sits at the right end, for the tracks that reach it inside the window
+            label: t
+                .energies
+                .last()
+                .copied()
+                .flatten()
+                .filter(|&e| e >= j.window.0 && e <= j.window.1)
+                .map(|_| t.label.clone()),
             color_key: (t.n.unwrap_or(0).unsigned_abs() as usize) * 3 + t.family,
             stroke: Stroke::Solid,
             points: j
@@ -521,7 +529,7 @@ pub fn svg(
         })
         .collect();
     let mut notes = vec![format!(
-        "{} ({}), cutoff {}; colour: Landau index n",
+        "{} ({}), cutoff {}; colour and right-hand labels: Landau level",
         lm.model.name(),
         lm.origin,
         j.cutoff
@@ -529,6 +537,7 @@ pub fn svg(
     if let Some(cf) = closed {
         for c in cf {
             curves.push(Curve {
+                label: None,
                 color_key: 0,
                 stroke: Stroke::Dashed,
                 points: c.clone(),
