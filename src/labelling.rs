@@ -14,8 +14,9 @@
 //! greedily by coupling strength, strongest first), V holds the symmetry-breaking rest. H_0
 //! conserves J exactly and its levels carry exact labels. Along H(t) = H_0 + t V, t = 0 .. 1, each
 //! level is followed by the largest overlap |<v_i(t)|v_j(t + dt)>|^2 of its eigenvector, one to
-//! one (a step is halved while some followed level keeps less than half its weight), so the label
-//! of the symmetric model is carried to the full one. Levels labelled this way carry
+//! one (a step is halved, at most three times, while some followed level well inside the basis,
+//! top-orbital weight below 1e-4, keeps less than half its weight; levels near the cutoff mix at
+//! will and do not count), so the label of the symmetric model is carried to the full one. Levels labelled this way carry
 //! [`LabelOrigin::Continuation`].
 //!
 //! # Limits
@@ -42,7 +43,12 @@ pub const CONTINUATION_MAX_STATES: usize = 256;
 const CONTINUATION_STEPS: usize = 4;
 
 /// Deepest halving of one step.
-const MAX_HALVINGS: u32 = 4;
+const MAX_HALVINGS: u32 = 3;
+
+/// Levels whose weight on the top orbitals of the continuation basis is below this decide the
+/// step size: well inside the basis, where the labels matter. Levels nearer the cutoff mix
+/// strongly with their neighbours at every step and would only make the steps tiny.
+const GENUINE_TOP_WEIGHT: f64 = 1e-4;
 
 /// Branches of `count` levels sorted by ascending energy (see [`Branch`]).
 ///
@@ -374,7 +380,7 @@ fn follow(
         let overlap = vecs.adjoint() * &v; // (old, new)
                                            // only genuine levels decide the step: cutoff artefacts mix among themselves at will
         let genuine: Vec<bool> = (0..vecs.ncols())
-            .map(|j| top_weight(&vecs, j, states, top_from) < 0.5)
+            .map(|j| top_weight(&vecs, j, states, top_from) < GENUINE_TOP_WEIGHT)
             .collect();
         let (perm, worst) = greedy_match(&overlap, &genuine);
         if worst < 0.5 && halvings < MAX_HALVINGS && broken {

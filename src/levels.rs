@@ -149,7 +149,7 @@ pub struct Level {
     pub convergence: Convergence,
     /// The sector (conserved quantity) the level belongs to.
     pub sector: SectorId,
-    /// Dominant orbital index n (largest weight).
+    /// Dominant orbital (largest weight). Not the Landau index: that is `label.n`.
     pub orbital: usize,
     /// Dominant spinor component.
     pub component: usize,
