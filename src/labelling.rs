@@ -37,7 +37,7 @@ use num_complex::Complex64;
 use std::collections::BTreeMap;
 
 /// Largest sector (states) continued at the spectrum's own cutoff.
-pub const CONTINUATION_MAX_STATES: usize = 256;
+pub const CONTINUATION_MAX_STATES: usize = 200;
 
 /// Steps of the path t = 0 .. 1 before any halving.
 const CONTINUATION_STEPS: usize = 4;
