@@ -399,6 +399,29 @@ fn follow(
     let top: Vec<f64> = (0..vecs.ncols())
         .map(|j| top_weight(&vecs, j, states, top_from))
         .collect();
+    // inside a cluster of equal values the overlaps cannot tell degenerate levels apart: a
+    // label from deep inside the basis goes to the vector deep inside it (top weight order)
+    let scale = values
+        .iter()
+        .fold(0.0f64, |m, v| m.max(v.abs()))
+        .max(f64::MIN_POSITIVE);
+    let mut start = 0;
+    while start < values.len() {
+        let mut end = start + 1;
+        while end < values.len() && values[end] - values[end - 1] <= 1e-12 * scale {
+            end += 1;
+        }
+        if end - start > 1 {
+            let mut cols: Vec<usize> = (start..end).collect();
+            cols.sort_by(|&a, &b| top[a].total_cmp(&top[b]));
+            let mut labs: Vec<LandauLabel> = labels[start..end].to_vec();
+            labs.sort_by_key(|l| l.n);
+            for (c, l) in cols.into_iter().zip(labs) {
+                labels[c] = l;
+            }
+        }
+        start = end;
+    }
     Ok(values
         .into_iter()
         .zip(labels)
