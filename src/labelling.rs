@@ -396,7 +396,7 @@ fn follow(
         halvings = 0;
         step = (2.0 * step).min(1.0 / CONTINUATION_STEPS as f64);
     }
-    let top: Vec<f64> = (0..vecs.ncols())
+    let mut top: Vec<f64> = (0..vecs.ncols())
         .map(|j| top_weight(&vecs, j, states, top_from))
         .collect();
     // inside a cluster of equal values the overlaps cannot tell degenerate levels apart: a
@@ -412,12 +412,14 @@ fn follow(
             end += 1;
         }
         if end - start > 1 {
-            let mut cols: Vec<usize> = (start..end).collect();
-            cols.sort_by(|&a, &b| top[a].total_cmp(&top[b]));
+            // the solver may return any mixture of a degenerate cluster, so its top weights say
+            // nothing: order the labels by n and rank the columns the same way, so that the
+            // lowest n meets the computed level with the least top weight in `assign`
             let mut labs: Vec<LandauLabel> = labels[start..end].to_vec();
             labs.sort_by_key(|l| l.n);
-            for (c, l) in cols.into_iter().zip(labs) {
-                labels[c] = l;
+            for (k, l) in labs.into_iter().enumerate() {
+                labels[start + k] = l;
+                top[start + k] = k as f64 * 1e-300;
             }
         }
         start = end;
