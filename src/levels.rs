@@ -61,6 +61,113 @@ impl BoundKind {
     }
 }
 
+/// Branch of a level within its sector, counted from the gap of that sector.
+///
+/// # Definition
+/// The k levels of one exact sector (fixed J) are split at their middle: the upper
+/// floor(k/2) are [`Branch::Upper`] counted upward from the gap (1 = nearest the gap), the
+/// lower floor(k/2) are [`Branch::Lower`] counted downward, and for odd k the middle level is
+/// [`Branch::Unpaired`]. For the Klein-Gordon form the sign of the root decides and the count
+/// runs away from the gap within each sign. Two-band models give the usual +/- of
+/// E = ± sqrt(...); the single level of a one-component sector (Schrodinger, each spin of the
+/// Pauli model) and the n = 0 level of a 2D Dirac cone are unpaired.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Branch {
+    /// Below the gap, the k-th level counted downward from it (1 = nearest the gap).
+    Lower(u32),
+    /// No partner of opposite sign in the sector.
+    Unpaired,
+    /// Above the gap, the k-th level counted upward from it (1 = nearest the gap).
+    Upper(u32),
+}
+
+impl Branch {
+    /// +1 above the gap, -1 below, 0 unpaired (the `s` of
+    /// [`crate::closed_form::ExpectedLevel`]).
+    pub fn sign(self) -> i8 {
+        match self {
+            Branch::Upper(_) => 1,
+            Branch::Lower(_) => -1,
+            Branch::Unpaired => 0,
+        }
+    }
+}
+
+/// How a [`LandauLabel`] was obtained.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum LabelOrigin {
+    /// Read off the exactly conserved J of the level's own sector.
+    ExactSector,
+    /// Only J mod m (or nothing) is conserved: the label was carried over from the model
+    /// without its symmetry-breaking couplings by adiabatic continuation (the breaking part
+    /// switched on in steps, each level followed by the overlap of its eigenvectors).
+    Continuation,
+    /// No label could be given (a sector too large for the continuation, or a level the
+    /// continuation could not place, such as one near the cutoff).
+    Unlabelled,
+}
+
+/// The quantum numbers of a level as the trade writes them.
+///
+/// # Convention
+/// n is the Landau index: for an exactly conserved J = n_orbital + s_alpha (shifts s >= 0,
+/// the smallest 0) it is J counted from the lowest allowed J of the class, J = 0, so +E_n and
+/// -E_n share n and the unpaired level of a Dirac cone is n = 0. With [`Branch`] it is written
+/// `+n`, `-n` or `n` (unpaired); a second level on the same side of the gap of a sector reads
+/// `+n'`, a third `+n''`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+pub struct LandauLabel {
+    /// Landau index n.
+    pub n: i64,
+    /// Branch within the sector.
+    pub branch: Branch,
+    /// How the label was obtained.
+    pub origin: LabelOrigin,
+    /// Family of the level: the smallest component index of the set of components its sector
+    /// couples at a generic kz (tells apart the spin blocks of the BHZ model or the two spins
+    /// of the Pauli model, which share n and branch).
+    pub family: usize,
+}
+
+impl LandauLabel {
+    /// A level with no label.
+    pub const UNLABELLED: LandauLabel = LandauLabel {
+        n: -1,
+        branch: Branch::Unpaired,
+        origin: LabelOrigin::Unlabelled,
+        family: 0,
+    };
+
+    /// Whether a label was given.
+    pub fn is_known(&self) -> bool {
+        self.origin != LabelOrigin::Unlabelled
+    }
+}
+
+impl std::fmt::Display for LandauLabel {
+    /// `+2`, `-2`, `0`, `+1'` (second level above the gap in its sector), `?` when unlabelled;
+    /// a continued label ends in `~`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        if !self.is_known() {
+            return write!(f, "?");
+        }
+        let (sign, k) = match self.branch {
+            Branch::Upper(k) => ("+", k),
+            Branch::Lower(k) => ("-", k),
+            Branch::Unpaired => ("", 1),
+        };
+        let primes = "'".repeat(k.saturating_sub(1) as usize);
+        let cont = if self.origin == LabelOrigin::Continuation {
+            "~"
+        } else {
+            ""
+        };
+        write!(f, "{sign}{}{primes}{cont}", self.n)
+    }
+}
+
 /// One eigenvalue of the truncated problem with its labels and bound.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Level {
@@ -88,12 +195,15 @@ pub struct Level {
     pub convergence: Convergence,
     /// The sector (conserved quantity) the level belongs to.
     pub sector: SectorId,
-    /// Dominant orbital index n (largest weight).
+    /// Dominant orbital (largest weight). Not the Landau index: that is `label.n`.
     pub orbital: usize,
     /// Dominant spinor component.
     pub component: usize,
     /// Branch for Klein-Gordon form (+1 particle, -1 antiparticle); 0 for direct Hamiltonians.
     pub branch: i8,
+    /// Landau index and branch as the trade writes them (see [`LandauLabel`]); the component
+    /// character is [`Spectrum::weights_of`].
+    pub label: LandauLabel,
     /// Weight of the eigenvector on the highest `band` orbitals of the basis (a cutoff
     /// artefact has weight of order 1 there).
     pub top_weight: f64,
@@ -172,7 +282,8 @@ pub struct Spectrum {
 }
 
 impl Spectrum {
-    /// Component weights of level `i` (sum 1).
+    /// Component weights of level `i` (sum 1): its component (spin, sublattice, band)
+    /// character.
     pub fn weights_of(&self, i: usize) -> &[f64] {
         &self.weights[i * self.dim..(i + 1) * self.dim]
     }

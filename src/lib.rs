@@ -29,7 +29,9 @@
 //!   operator is a = l_B (pi_x + i s pi_y)/(sqrt 2 hbar) ([`ladder`]).
 //! * Zeeman-like terms are +(g/2) mu_B B sigma_z (free electron g = +2.0023 here).
 //! * Levels are sorted ascending, energies relative to [`Spectrum::reference_energy`]; each level
-//!   is labelled by its sector, dominant orbital n and component.
+//!   is labelled by its sector, its Landau index n and branch as the trade writes them
+//!   ([`levels::LandauLabel`], [`labelling`]: +E_n and -E_n share n, the unpaired Dirac level
+//!   is n = 0) and its component weights.
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 
@@ -39,6 +41,7 @@ pub mod closed_form;
 pub mod dd;
 pub mod error;
 pub mod hamiltonian;
+pub mod labelling;
 pub mod ladder;
 pub mod levels;
 pub mod limits;

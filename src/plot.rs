@@ -27,6 +27,9 @@ pub struct Curve {
     pub stroke: Stroke,
     /// Points in plot order.
     pub points: Vec<(f64, f64)>,
+    /// Text written at the curve's last finite point when that lies inside the plot (e.g. a
+    /// Landau label `+2` at the right end of a fan).
+    pub label: Option<String>,
 }
 
 /// A line plot: title, axis labels (with units) and curves.
@@ -138,7 +141,7 @@ fn runs(points: &[(f64, f64)], (y0, y1): (f64, f64)) -> Vec<Vec<(f64, f64)>> {
 /// use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 /// let svg = line_plot(&LinePlot {
 ///     title: "t".into(), x_label: "B [T]".into(), y_label: "E [meV]".into(),
-///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)] }],
+///     curves: vec![Curve { color_key: 0, stroke: Stroke::Solid, points: vec![(0.0, 0.0), (1.0, 2.0)], label: None }],
 ///     y_range: None, notes: vec![],
 /// })?;
 /// assert!(svg.starts_with("<svg") && svg.contains("B [T]"));
@@ -228,6 +231,24 @@ pub fn line_plot(p: &LinePlot) -> Result<String> {
                 }
             }
         }
+        // labels at the last finite point of each labelled curve, when inside the y range
+        for c in &p.curves {
+            let (Some(text), Some(&(x, y))) =
+                (&c.label, c.points.iter().rev().find(|(_, y)| y.is_finite()))
+            else {
+                continue;
+            };
+            if y < y0 || y > y1 {
+                continue;
+            }
+            chart
+                .draw_series(std::iter::once(Text::new(
+                    text.clone(),
+                    (x, y),
+                    ("sans-serif", 11).into_font().color(&palette(c.color_key)),
+                )))
+                .map_err(plot_err)?;
+        }
         root.present().map_err(plot_err)?;
     }
     Ok(svg)
@@ -255,18 +276,18 @@ fn padded_x((a, b): (f64, f64)) -> (f64, f64) {
     (a, b)
 }
 
-/// A level diagram: each level a point at (dominant orbital n, energy).
+/// A level diagram: each level a point at (Landau index n, energy).
 #[derive(Debug, Clone, PartialEq)]
 pub struct LevelDiagram {
     /// Caption.
     pub title: String,
     /// Energy unit for the axis label.
     pub energy_unit: String,
-    /// (orbital n, energy) of each level.
+    /// (Landau index n, energy) of each level.
     pub levels: Vec<(f64, f64)>,
 }
 
-/// Draw a level diagram as SVG: energy against the dominant orbital index.
+/// Draw a level diagram as SVG: energy against the Landau index n.
 ///
 /// # Errors
 /// [`Error::Numerical`] (stage `plot`) if plotters fails.
@@ -288,7 +309,7 @@ pub fn level_diagram(d: &LevelDiagram) -> Result<String> {
             .map_err(plot_err)?;
         chart
             .configure_mesh()
-            .x_desc("dominant orbital n")
+            .x_desc("Landau index n")
             .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc(format!("E [{}]", d.energy_unit))
             .light_line_style(WHITE.mix(0.0))
@@ -341,11 +362,13 @@ mod tests {
             y_label: "E [meV]".into(),
             curves: vec![
                 Curve {
+                    label: None,
                     color_key: 1,
                     stroke: Stroke::Solid,
                     points: vec![(1.0, 1.0), (2.0, 2.0), (3.0, 3.0)],
                 },
                 Curve {
+                    label: None,
                     color_key: 0,
                     stroke: Stroke::Dashed,
                     points: vec![(1.0, 1.5), (3.0, 3.5)],

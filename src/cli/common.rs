@@ -839,7 +839,7 @@ pub struct LevelJson {
     pub sector_label: i64,
     /// Branch (Klein-Gordon form: +1/-1; else 0).
     pub branch: i8,
-    /// Dominant orbital n.
+    /// Dominant orbital (largest weight); not the Landau index, see `landau_n`.
     pub orbital: usize,
     /// Dominant component index.
     pub component: usize,
@@ -847,6 +847,19 @@ pub struct LevelJson {
     pub component_name: String,
     /// Rank within the (sector, branch) by ascending energy.
     pub rank: usize,
+    /// Landau index n as the trade writes it (null: no label; see the README, "Reading a
+    /// level").
+    pub landau_n: Option<i64>,
+    /// Branch within the sector, counted from the gap.
+    pub landau_branch: ladderfan::levels::Branch,
+    /// The printed label: `+2`, `-2`, `0`, `+1'`, `+3~` (continued), `?`.
+    pub label: String,
+    /// How the label was obtained.
+    pub label_origin: ladderfan::levels::LabelOrigin,
+    /// Family (smallest component of the coupled set).
+    pub family: usize,
+    /// Weight on each component (sum 1), in the model's component order.
+    pub weights: Vec<f64>,
 }
 
 /// Ranks of the levels within their (sector, branch), by ascending energy (levels are sorted
@@ -892,6 +905,12 @@ pub fn levels_json(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelJson>
                     .cloned()
                     .unwrap_or_default(),
                 rank: r[i],
+                landau_n: l.label.is_known().then_some(l.label.n),
+                landau_branch: l.label.branch,
+                label: l.label.to_string(),
+                label_origin: l.label.origin,
+                family: l.label.family,
+                weights: s.weights_of(i).to_vec(),
             }
         })
         .collect()
@@ -1107,7 +1126,36 @@ pub fn inverse_length(u: ladderfan::units::Units) -> String {
     u.wavenumber_unit().to_string()
 }
 
-/// A branch label for tables: `+1`/`-1` for Klein-Gordon branches, `0` otherwise.
+/// Component character as printed: the weights of the components above 1 %, largest first,
+/// e.g. `A 0.93 B 0.07`.
+pub fn character_text(model: &Model, weights: &[f64]) -> String {
+    let names = model.component_names();
+    let mut w: Vec<(usize, f64)> = weights.iter().copied().enumerate().collect();
+    w.sort_by(|a, b| b.1.total_cmp(&a.1));
+    w.iter()
+        .filter(|(_, x)| *x >= 0.01)
+        .map(|&(a, x)| {
+            let name = names.get(a).cloned().unwrap_or_else(|| a.to_string());
+            format!("{name} {x:.2}")
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// A Landau branch as printed in tables and CSV: `+` / `-` for the level nearest the gap on
+/// each side, `+2` / `-2` for the second, `0` unpaired.
+pub fn landau_branch_text(b: ladderfan::levels::Branch) -> String {
+    use ladderfan::levels::Branch;
+    match b {
+        Branch::Upper(1) => "+".into(),
+        Branch::Lower(1) => "-".into(),
+        Branch::Upper(k) => format!("+{k}"),
+        Branch::Lower(k) => format!("-{k}"),
+        Branch::Unpaired => "0".into(),
+    }
+}
+
+/// A Klein-Gordon branch (+1, -1; 0 for a direct Hamiltonian) as printed.
 pub fn branch_text(b: i8) -> String {
     if b == 0 {
         "0".into()

@@ -731,12 +731,14 @@ fn dos_plot(
     let unit = 10f64.powf(p);
     let mut notes = vec![note];
     let mut curves = vec![Curve {
+        label: None,
         color_key: 1,
         stroke: Stroke::Solid,
         points: dos.iter().map(|&(e, g)| (e, g / unit)).collect(),
     }];
     if let Some((ef, text)) = fermi {
         curves.push(Curve {
+            label: None,
             color_key: 0,
             stroke: Stroke::Dashed,
             points: vec![(ef, 0.0), (ef, peak / unit)],
@@ -990,6 +992,7 @@ fn fermi_svg(
                 .any(|p| p.converged && p.energy > ylo && p.energy < yhi)
         })
         .map(|t| Curve {
+            label: None,
             color_key: 3,
             stroke: Stroke::Dashed,
             points: t
@@ -1004,6 +1007,7 @@ fn fermi_svg(
         })
         .collect();
     curves.push(Curve {
+        label: None,
         color_key: 1,
         stroke: Stroke::Solid,
         points: ef,

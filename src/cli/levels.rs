@@ -154,7 +154,7 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     out.push_str(
         "state: converged / not converged (genuine, bound above the tolerance) / artefact (weight on the top orbitals); bound: the sharper certified one (KT: Kato-Temple, res: residual)\n\n",
     );
-    let mut rows = vec![vec!["sector".to_string(), "n".into(), "component".into()]];
+    let mut rows = vec![vec!["sector".to_string(), "LL".into(), "character".into()]];
     if kg {
         rows[0].push("branch".into());
     }
@@ -167,12 +167,8 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     for l in levels_json(&lm.model, s, idx) {
         let mut r = vec![
             l.sector.clone(),
-            l.orbital.to_string(),
-            if l.component_name.is_empty() {
-                l.component.to_string()
-            } else {
-                l.component_name.clone()
-            },
+            l.label.clone(),
+            common::character_text(&lm.model, &l.weights),
         ];
         if kg {
             r.push(common::branch_text(l.branch));
@@ -217,8 +213,13 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
             format!("symmetry: {}", s.symmetry.describe()),
         ],
     );
+    let names = lm.model.component_names();
     let mut rec = vec![vec![
         "sector".to_string(),
+        "label".into(),
+        "n".into(),
+        "landau_branch".into(),
+        "label_origin".into(),
         "branch".into(),
         "rank".into(),
         "orbital".into(),
@@ -231,9 +232,26 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         "state".into(),
         "converged".into(),
     ]];
+    for (a, name) in names.iter().enumerate() {
+        let name = if name.is_empty() {
+            a.to_string()
+        } else {
+            name.clone()
+        };
+        rec[0].push(format!("weight_{name}"));
+    }
     for l in levels_json(&lm.model, s, idx) {
-        rec.push(vec![
+        let origin = match l.label_origin {
+            ladderfan::levels::LabelOrigin::ExactSector => "exact_sector",
+            ladderfan::levels::LabelOrigin::Continuation => "continuation",
+            ladderfan::levels::LabelOrigin::Unlabelled => "unlabelled",
+        };
+        let mut row = vec![
             l.sector,
+            l.label,
+            l.landau_n.map(|n| n.to_string()).unwrap_or_default(),
+            common::landau_branch_text(l.landau_branch),
+            origin.into(),
             l.branch.to_string(),
             l.rank.to_string(),
             l.orbital.to_string(),
@@ -246,7 +264,9 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
             l.bound_from.into(),
             l.state.word().replace(' ', "_"),
             l.converged.to_string(),
-        ]);
+        ];
+        row.extend(l.weights.iter().map(|w| format!("{w:e}")));
+        rec.push(row);
     }
     csv_text(&header, &rec)
 }
@@ -302,7 +322,10 @@ pub fn run(a: &LevelsArgs) -> CliResult {
             energy_unit: lm.model.units().energy_unit().to_string(),
             levels: idx
                 .iter()
-                .map(|&i| (s.levels[i].orbital as f64, s.levels[i].energy))
+                .map(|&i| {
+                    let l = &s.levels[i];
+                    (l.label.n.max(0) as f64, l.energy)
+                })
                 .collect(),
         })?;
         files.add("levels.svg", svg);

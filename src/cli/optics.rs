@@ -50,10 +50,13 @@ pub struct OpticsArgs {
 /// One transition in the JSON result.
 #[derive(Debug, Clone, Serialize)]
 pub struct TransitionJson {
-    /// Track label of the initial level (`c<class>J<J>b<branch>r<rank>`).
+    /// Identity of the initial level: its Landau label (`+2`, `-2`, `0`, `+1'`, `~` when
+    /// continued, `@f<family>` for a family other than 0).
     pub from: String,
-    /// Track label of the final level.
+    /// Identity of the final level.
     pub to: String,
+    /// The transition in the trade's notation, e.g. `LL(-2) -> LL(+3)`.
+    pub transition: String,
     /// Dominant orbital of the initial level.
     pub from_orbital: usize,
     /// Dominant orbital of the final level.
@@ -124,10 +127,16 @@ const CONVENTION: &str = "B along +z; light ~ e exp(-i omega t); sigma+ = (x + i
 sigma- = (x - i y)/sqrt2; strength = |<f|e.v|i>|^2 (o_i - o_f); selection rules come from the \
 matrix elements, none is imposed";
 
+/// `LL(-2) -> LL(+3)`: initial and final Landau level by their labels.
+pub fn transition_text(t: &Transition) -> String {
+    format!("LL({}) -> LL({})", t.from_key, t.to_key)
+}
+
 fn transition_json(t: &Transition, max: f64) -> TransitionJson {
     TransitionJson {
         from: t.from_key.to_string(),
         to: t.to_key.to_string(),
+        transition: transition_text(t),
         from_orbital: t.from_orbital,
         to_orbital: t.to_orbital,
         from_energy: t.from_energy,
@@ -342,10 +351,9 @@ fn summary(lm: &LoadedModel, j: &OpticsJson, count: usize) -> String {
     idx.sort_by(|&x, &y| p.transitions[x].energy.total_cmp(&p.transitions[y].energy));
     let mut rows = vec![vec![
         format!("energy [{eu}]"),
+        "transition".to_string(),
         format!("from [{eu}]"),
-        "n".to_string(),
         format!("to [{eu}]"),
-        "n".into(),
         "strength".into(),
         "polarisation".into(),
         "osc. str. x".into(),
@@ -354,10 +362,9 @@ fn summary(lm: &LoadedModel, j: &OpticsJson, count: usize) -> String {
         let t = &p.transitions[i];
         rows.push(vec![
             fmt_num(t.energy, 8),
+            t.transition.clone(),
             fmt_num(t.from_energy, 8),
-            t.from_orbital.to_string(),
             fmt_num(t.to_energy, 8),
-            t.to_orbital.to_string(),
             format!("{:.4}", t.relative_strength),
             pol_name(t.polarisation).into(),
             format!("{:.4e}", t.oscillator_strength_x),
@@ -389,6 +396,7 @@ fn to_csv(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
         format!("energy_{eu}"),
         "from".into(),
         "to".into(),
+        "transition".into(),
         "from_orbital".into(),
         "to_orbital".into(),
         format!("from_energy_{eu}"),
@@ -411,6 +419,7 @@ fn to_csv(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
                 format!("{:e}", t.energy),
                 t.from.clone(),
                 t.to.clone(),
+                t.transition.clone(),
                 t.from_orbital.to_string(),
                 t.to_orbital.to_string(),
                 format!("{:e}", t.from_energy),

@@ -8,8 +8,11 @@ use super::common::{
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::closed_form;
+use ladderfan::levels::{Branch, LabelOrigin};
+use ladderfan::observables::labels;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
+use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -55,24 +58,24 @@ pub enum Swept {
     Kz,
 }
 
-/// Label of a tracked level: (component class, sector label, branch, rank within the sector).
-pub type TrackKey = (usize, i64, i8, usize);
-
-/// One tracked level across the sweep (None where it was not converged or not present).
+/// One tracked level across the sweep (None where it was not converged or not present),
+/// followed by its quantum numbers ([`ladderfan::observables::labels::tracks`]).
 #[derive(Debug, Clone, Serialize)]
 pub struct Track {
-    /// Sector `class:J`.
-    pub sector: String,
-    /// Component class.
-    pub sector_class: usize,
-    /// J, J mod m or 0.
-    pub sector_label: i64,
-    /// Branch (Klein-Gordon form) or 0.
-    pub branch: i8,
-    /// Rank within (sector, branch) by ascending energy.
-    pub rank: usize,
-    /// Dominant orbital at the reference point of the sweep.
-    pub orbital: Option<usize>,
+    /// The identity as integers `family:n:branch:copy` (n = -1 unlabelled; branch +k above
+    /// the gap, -k below, 0 unpaired): the grouping column of the CSV and of shard merges.
+    pub track: String,
+    /// The level's identity as printed: Landau label (`+2`, `-2`, `0`, `+1'`; `?` unlabelled),
+    /// `@f<family>` for a family other than 0, `#<copy>` for a repeated label.
+    pub label: String,
+    /// Landau index n (null: no label).
+    pub n: Option<i64>,
+    /// Branch within the sector.
+    pub branch: Branch,
+    /// Family (smallest component of the coupled set).
+    pub family: usize,
+    /// How the label was obtained at the reference point (or the first point it appears).
+    pub label_origin: LabelOrigin,
     /// Dominant component name at the reference point.
     pub component: Option<String>,
     /// Energies per sweep point (null: not converged there).
@@ -146,36 +149,54 @@ pub fn solve_points(
     Ok(spectra)
 }
 
-/// Follow every label across the sweep. Only converged values are kept.
+/// Follow every level across the sweep by its quantum numbers (the library's
+/// [`labels::tracks`]; cutoff artefacts never enter). Only converged values are kept.
 pub fn track(lm: &LoadedModel, spectra: &[Spectrum], reference: usize) -> Vec<Track> {
-    let mut map: BTreeMap<TrackKey, Track> = BTreeMap::new();
     let np = spectra.len();
-    for (i, s) in spectra.iter().enumerate() {
-        let ranks = common::ranks(s);
-        for (l, &rank) in s.levels.iter().zip(&ranks) {
-            let key = (l.sector.class, l.sector.label, l.branch, rank);
-            let t = map.entry(key).or_insert_with(|| Track {
-                sector: format!("{}:{}", l.sector.class, l.sector.label),
-                sector_class: l.sector.class,
-                sector_label: l.sector.label,
-                branch: l.branch,
-                rank,
-                orbital: None,
-                component: None,
-                energies: vec![None; np],
-                bounds: vec![None; np],
-            });
-            if l.is_converged() {
-                t.energies[i] = Some(l.energy);
-                t.bounds[i] = Some(l.bound);
+    let ids = |k: &labels::TrackKey| {
+        let b = match k.branch {
+            Branch::Upper(x) => x as i64,
+            Branch::Lower(x) => -(x as i64),
+            Branch::Unpaired => 0,
+        };
+        [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
+    };
+    let mut all = labels::tracks(spectra);
+    // the order of the integer identity, which is also the order of a shard merge
+    all.sort_by_key(|t| ids(&t.key));
+    all.into_iter()
+        .map(|t| {
+            let mut energies = vec![None; np];
+            let mut bounds = vec![None; np];
+            let mut origin = None;
+            let mut component = None;
+            for p in &t.points {
+                let l = &spectra[p.point].levels[p.level];
+                if p.converged {
+                    energies[p.point] = Some(l.energy);
+                    bounds[p.point] = Some(l.bound);
+                }
+                if origin.is_none() || p.point == reference {
+                    origin = Some(l.label.origin);
+                }
+                if p.point == reference {
+                    component = lm.model.component_names().get(l.component).cloned();
+                }
             }
-            if i == reference {
-                t.orbital = Some(l.orbital);
-                t.component = lm.model.component_names().get(l.component).cloned();
+            let id = ids(&t.key);
+            Track {
+                track: format!("{}:{}:{}:{}", id[0], id[1], id[2], id[3]),
+                label: t.key.to_string(),
+                n: t.key.n,
+                branch: t.key.branch,
+                family: t.key.family,
+                label_origin: origin.unwrap_or(LabelOrigin::Unlabelled),
+                component,
+                energies,
+                bounds,
             }
-        }
-    }
-    map.into_values().collect()
+        })
+        .collect()
 }
 
 /// The energy window: flags if given, else the span of the `count` converged levels closest to
@@ -271,28 +292,39 @@ pub fn closed_form_curves(
     )
 }
 
-/// Outcome of comparing computed levels with a closed form at one or more points.
+/// Outcome of comparing computed levels with a closed form at one or more points, each point
+/// through [`ladderfan::verify::check`] (one-to-one matching, its tolerance rule).
 #[derive(Debug, Clone, Serialize)]
 pub struct ClosedFormCheck {
     /// Source named by the closed form module (the model's published formula).
     pub model: String,
-    /// Computed converged levels compared (each with its nearest closed-form value).
+    /// Pairs checked over all points (converged computed level, closed-form state).
     pub computed_compared: usize,
-    /// Closed-form levels with index n below a quarter of the cutoff looked up among the
-    /// computed levels.
+    /// Closed-form states paired over all points (the same pairs, counted from the closed
+    /// form's side).
     pub expected_compared: usize,
-    /// Largest |E_computed - E_closed form| found, energy unit of the model.
+    /// Largest |E_computed - E_closed form| among the pairs, energy unit of the model.
     pub max_deviation: f64,
-    /// Largest deviation divided by its tolerance (pass when <= 1).
+    /// Largest |deviation| / allowed deviation among the pairs (<= 1 for agreement).
     pub worst_ratio: f64,
-    /// Whether every comparison is within tolerance.
+    /// Points where some closed-form level in the window has only unconverged candidates or
+    /// lies beyond the converged range: not comparable at this cutoff there (neither a pass
+    /// nor a failure for those levels).
+    pub not_comparable_points: usize,
+    /// Points where a level disagrees or has no partner.
+    pub failed_points: usize,
+    /// False only for a real disagreement (some failed point).
     pub passed: bool,
+    /// What to tell the user: empty when every point agrees.
+    pub note: String,
 }
 
-/// Compare converged levels in the window with the closed form, both ways: every computed
-/// level must sit on a closed-form value, and every closed-form level with n < cutoff/4 inside
-/// the window must be found. Tolerance per level: 1e-9 x max(|E|, energy scale) + its bound.
-/// `None` when the model has no closed form.
+/// Compare the converged levels in the window with the closed form at every spectrum, through
+/// [`verify::check`] with its default settings: the closed-form list covers Landau indices up
+/// to N - 1 for cutoff N, its own completeness window is intersected with the sweep's window. A point
+/// whose verdict is inconclusive (closed-form levels whose only candidates are not converged)
+/// is "not comparable at this cutoff", which is no failure. `None` when the model has no closed
+/// form.
 pub fn closed_form_check(
     lm: &LoadedModel,
     spectra: &[&Spectrum],
@@ -304,37 +336,78 @@ pub fn closed_form_check(
         expected_compared: 0,
         max_deviation: 0.0,
         worst_ratio: 0.0,
+        not_comparable_points: 0,
+        failed_points: 0,
         passed: true,
+        note: String::new(),
     };
+    let settings = verify::VerifySettings::default();
+    let mut first_failure = None;
     for s in spectra {
-        let expected = closed_form::for_model(&lm.model, s.point, s.reference_energy, s.cutoff)?;
-        let tol = |e: f64, bound: f64| 1e-9 * e.abs().max(s.energy_scale) + bound;
-        let mut note = |dev: f64, t: f64| {
-            out.max_deviation = out.max_deviation.max(dev);
-            out.worst_ratio = out.worst_ratio.max(dev / t);
+        // Landau indices the truncated basis can hold: n <= N - 1
+        let max_n = s.cutoff.saturating_sub(1).max(1);
+        let list = verify::ExpectedList::from_closed_form(&lm.model, s.point, max_n)?;
+        // the list's energies are relative to the model reference, the spectrum's to its own
+        let shift = list.origin - s.reference_energy;
+        let (wlo, whi) = (lo - shift, hi - shift);
+        let lower = match list.window.lower {
+            verify::Edge::Exclude(x) if x >= wlo => verify::Edge::Exclude(x),
+            verify::Edge::Include(x) if x >= wlo => verify::Edge::Include(x),
+            _ => verify::Edge::Include(wlo),
         };
-        for l in s.converged().filter(|l| l.energy >= lo && l.energy <= hi) {
-            let dev = expected
-                .iter()
-                .map(|x| (x.energy - l.energy).abs())
-                .fold(f64::INFINITY, f64::min);
-            note(dev, tol(l.energy, l.bound));
-            out.computed_compared += 1;
-        }
-        let deep = (s.cutoff / 4) as i64;
-        for x in expected
+        let upper = match list.window.upper {
+            verify::Edge::Exclude(x) if x <= whi => verify::Edge::Exclude(x),
+            verify::Edge::Include(x) if x <= whi => verify::Edge::Include(x),
+            _ => verify::Edge::Include(whi),
+        };
+        let list = list.with_window(verify::Window { lower, upper });
+        let v = verify::check(s, &list, &settings).ok()?;
+        // closed-form states inside the window that were neither paired nor reported missing or
+        // unresolved lie beyond the converged range: not comparable at this cutoff
+        let inside: usize = list
+            .levels
             .iter()
-            .filter(|x| x.n < deep && x.energy > lo && x.energy < hi)
-        {
-            let (dev, bound) = s
-                .converged()
-                .map(|l| ((l.energy - x.energy).abs(), l.bound))
-                .fold((f64::INFINITY, 0.0), |a, b| if b.0 < a.0 { b } else { a });
-            note(dev, tol(x.energy, bound));
+            .filter(|x| x.energy - shift >= lo && x.energy - shift <= hi)
+            .map(|x| x.multiplicity as usize)
+            .sum();
+        let accounted = v.pairs.len() + v.missing_expected.len() + v.unresolved_expected.len();
+        let beyond = inside > accounted;
+        for p in &v.pairs {
+            out.computed_compared += 1;
             out.expected_compared += 1;
+            out.max_deviation = out.max_deviation.max(p.deviation.abs());
+            out.worst_ratio = out.worst_ratio.max(p.deviation.abs() / p.allowed);
+        }
+        match v.outcome {
+            verify::Outcome::Pass if beyond => out.not_comparable_points += 1,
+            verify::Outcome::Pass => {}
+            verify::Outcome::Inconclusive => out.not_comparable_points += 1,
+            verify::Outcome::Fail => {
+                out.failed_points += 1;
+                if first_failure.is_none() {
+                    first_failure = Some((s.point, v.verdict_line(s.units.energy_unit())));
+                }
+            }
         }
     }
-    out.passed = out.worst_ratio <= 1.0;
+    out.passed = out.failed_points == 0;
+    if let Some((p, line)) = first_failure {
+        out.note = format!(
+            "disagrees at {} of {} points (first at field {}, kz {}: {line})",
+            out.failed_points,
+            spectra.len(),
+            p.field,
+            p.kz
+        );
+    } else if out.not_comparable_points > 0 {
+        out.note = format!(
+            "not comparable at this cutoff at {} of {} points: closed-form levels in the window \
+             have only unconverged partners there (raise --cutoff or narrow the window); the \
+             converged levels agree",
+            out.not_comparable_points,
+            spectra.len()
+        );
+    }
     Some(out)
 }
 
@@ -365,7 +438,7 @@ pub struct SweepJson {
     pub symmetry: SymmetryJson,
     /// Energy window of the listed tracks.
     pub window: (f64, f64),
-    /// Index of the point that set the labels' orbital/component and the default window.
+    /// Index of the point that set the tracks' component and the default window.
     pub reference_point: usize,
     /// Comparison with the model's closed form over every point, when it has one.
     pub closed_form: Option<ClosedFormCheck>,
@@ -404,15 +477,16 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                 j.window.0,
                 j.window.1
             ),
-            "track label = sector class:J, branch, rank within the sector".into(),
+            "level = Landau label (+n above the gap, -n below, n unpaired, ' a further level on the same side, ~ continued from the symmetric model, @f<family>, #<copy>); tracked by quantum numbers".into(),
         ],
     );
     let e = u.energy_unit().replace(' ', "");
     let mut rec = vec![vec![
         xname.to_string(),
-        "sector".into(),
+        "track".into(),
+        "level".into(),
+        "n".into(),
         "branch".into(),
-        "rank".into(),
         format!("energy_{e}"),
         format!("bound_{e}"),
     ]];
@@ -421,9 +495,10 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
             if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
                 rec.push(vec![
                     format!("{x:e}"),
-                    t.sector.clone(),
-                    t.branch.to_string(),
-                    t.rank.to_string(),
+                    t.track.clone(),
+                    t.label.clone(),
+                    t.n.map(|n| n.to_string()).unwrap_or_default(),
+                    common::landau_branch_text(t.branch),
                     format!("{en:e}"),
                     format!("{b:e}"),
                 ]);
@@ -448,7 +523,15 @@ pub fn svg(
         .tracks
         .iter()
         .map(|t| Curve {
-            color_key: (t.sector_label.unsigned_abs() as usize) * 3 + t.sector_class,
+            // the label sits at the right end, for the tracks that reach it inside the window
+            label: t
+                .energies
+                .last()
+                .copied()
+                .flatten()
+                .filter(|&e| e >= j.window.0 && e <= j.window.1)
+                .map(|_| t.label.clone()),
+            color_key: (t.n.unwrap_or(0).unsigned_abs() as usize) * 3 + t.family,
             stroke: Stroke::Solid,
             points: j
                 .values
@@ -459,7 +542,7 @@ pub fn svg(
         })
         .collect();
     let mut notes = vec![format!(
-        "{} ({}), cutoff {}; colour: sector",
+        "{} ({}), cutoff {}; colour and right-hand labels: Landau level",
         lm.model.name(),
         lm.origin,
         j.cutoff
@@ -467,6 +550,7 @@ pub fn svg(
     if let Some(cf) = closed {
         for c in cf {
             curves.push(Curve {
+                label: None,
                 color_key: 0,
                 stroke: Stroke::Dashed,
                 points: c.clone(),
@@ -523,23 +607,33 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         u.energy_unit()
     ));
     match &j.closed_form {
-        Some(c) => s.push_str(&format!(
-            "closed form: {} ({} computed and {} closed-form levels compared, max deviation {:.2e} {}, {} of tolerance)\n",
-            if c.passed { "agrees" } else { "DISAGREES" },
-            c.computed_compared,
-            c.expected_compared,
-            c.max_deviation,
-            u.energy_unit(),
-            fmt_num(c.worst_ratio, 3)
-        )),
+        Some(c) => {
+            s.push_str(&format!(
+                "closed form: {} ({} levels compared one to one, max deviation {:.2e} {}, {} of the allowed)\n",
+                if !c.passed {
+                    "DISAGREES"
+                } else if c.not_comparable_points > 0 {
+                    "agrees where comparable"
+                } else {
+                    "agrees"
+                },
+                c.computed_compared,
+                c.max_deviation,
+                u.energy_unit(),
+                fmt_num(c.worst_ratio, 3)
+            ));
+            if !c.note.is_empty() {
+                s.push_str(&format!("note: closed form {}\n", c.note));
+            }
+        }
         None => s.push_str("closed form: none known for this model\n"),
     }
     let x_ref = j.values[j.reference_point];
     let mut rows = vec![vec![
-        "sector".to_string(),
-        "branch".into(),
-        "rank".into(),
+        "level".to_string(),
         "n".into(),
+        "branch".into(),
+        "component".into(),
         format!("E at {} [{}]", fmt_num(x_ref, 6), u.energy_unit()),
         format!("E min [{}]", u.energy_unit()),
         format!("E max [{}]", u.energy_unit()),
@@ -566,10 +660,10 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
                 (a.min(e), b.max(e))
             });
         rows.push(vec![
-            t.sector.clone(),
-            common::branch_text(t.branch),
-            t.rank.to_string(),
-            t.orbital.map(|n| n.to_string()).unwrap_or_default(),
+            t.label.clone(),
+            t.n.map(|n| n.to_string()).unwrap_or_else(|| "?".into()),
+            common::landau_branch_text(t.branch),
+            t.component.clone().unwrap_or_default(),
             t.energies[j.reference_point]
                 .map(|e| fmt_num(e, 8))
                 .unwrap_or_else(|| "-".into()),
@@ -695,7 +789,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         ShardHeader {
             shard: s,
             total_points: total,
-            group_by: vec!["sector".into(), "branch".into(), "rank".into()],
+            group_by: vec!["track".into()],
             keep: Some(KeepGroups {
                 column: format!("energy_{e}"),
                 lo: win.0,
@@ -800,12 +894,13 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
     verdict(o.json.closed_form.as_ref())
 }
 
-/// Exit status of a closed-form comparison: a disagreement is a failed verification.
+/// Exit status of a closed-form comparison: a disagreement is a failed verification; levels
+/// that are not comparable at this cutoff are not.
 pub fn verdict(c: Option<&ClosedFormCheck>) -> CliResult {
     match c {
         Some(c) if !c.passed => Err(CliError::Verification(format!(
-            "computed levels of {} deviate from the closed form by up to {:e} ({} times the tolerance)",
-            c.model, c.max_deviation, c.worst_ratio
+            "computed levels of {} {}",
+            c.model, c.note
         ))),
         _ => Ok(()),
     }
@@ -823,7 +918,10 @@ mod tests {
             expected_compared: 3,
             max_deviation: 1e-3,
             worst_ratio: 5.0,
+            not_comparable_points: 0,
+            failed_points: 1,
             passed: false,
+            note: "disagrees at 1 of 1 points".into(),
         };
         let e = verdict(Some(&c))
             .err()
@@ -831,9 +929,56 @@ mod tests {
         assert_eq!(e.exit_code(), common::EXIT_VERIFICATION);
         assert!(e
             .message()
-            .starts_with("verification failed: computed levels of m deviate"));
+            .starts_with("verification failed: computed levels of m disagrees"));
         c.passed = true;
         assert!(verdict(Some(&c)).is_ok());
         assert!(verdict(None).is_ok());
+    }
+
+    fn loaded(model: ladderfan::Model) -> LoadedModel {
+        LoadedModel {
+            model,
+            defaults: Default::default(),
+            origin: "test".into(),
+            file: None,
+        }
+    }
+
+    #[test]
+    fn a_small_cutoff_is_not_comparable_but_a_moved_level_is_a_disagreement() {
+        // tilted cone (Goerbig et al., Phys. Rev. B 78, 045415 (2008)) at cutoff 40: the levels
+        // of the window beyond the converged range are not comparable, which is no failure
+        let lm = loaded(
+            ladderfan::catalogue::tilted_dirac2d(Default::default())
+                .unwrap_or_else(|e| panic!("{e}")),
+        );
+        let s = Spectrum::compute(
+            &lm.model,
+            FieldPoint::field(10.0),
+            &Settings::with_cutoff(40),
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        let win = (-32.0, 32.0);
+        let c = closed_form_check(&lm, &[&s], win).unwrap_or_else(|| panic!("closed form"));
+        assert!(c.passed, "{c:?}");
+        assert_eq!(c.not_comparable_points, 1, "{c:?}");
+        assert!(
+            c.note.contains("not comparable at this cutoff"),
+            "{}",
+            c.note
+        );
+        assert!(verdict(Some(&c)).is_ok());
+        // a real disagreement: one converged level moved by 1 meV (far above its bound)
+        let mut moved = s.clone();
+        let i = moved
+            .levels
+            .iter()
+            .position(|l| l.is_converged() && l.energy > 5.0)
+            .unwrap_or_else(|| panic!("no level"));
+        moved.levels[i].energy += 1.0;
+        let c = closed_form_check(&lm, &[&moved], win).unwrap_or_else(|| panic!("closed form"));
+        assert!(!c.passed, "{c:?}");
+        assert_eq!(c.failed_points, 1);
+        assert!(verdict(Some(&c)).is_err());
     }
 }

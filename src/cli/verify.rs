@@ -403,7 +403,7 @@ fn report(
                 fmt_num(p.numerical.energy, 10),
                 format!("{:+.2e}", p.deviation),
                 format!("{:.2e}", p.allowed),
-                p.numerical.orbital.to_string(),
+                p.numerical.label.to_string(),
                 comp(p.numerical.component),
                 match p.agreement {
                     Agreement::Agrees => "agrees".into(),
@@ -421,7 +421,7 @@ fn report(
                 fmt_num(l.energy, 10),
                 "".into(),
                 format!("{:.2e}", l.bound),
-                l.orbital.to_string(),
+                l.label.to_string(),
                 comp(l.component),
                 "NO EXPECTED PARTNER".into(),
             ],
@@ -454,7 +454,7 @@ fn report(
         format!("numerical [{unit}]"),
         "deviation".into(),
         "allowed".into(),
-        "n".into(),
+        "LL".into(),
         "component".into(),
         "verdict".into(),
     ]];

@@ -1,12 +1,15 @@
 //! Labels that survive a sweep, and expectation values per level.
 //!
-//! # Tracking
-//! Within one symmetry sector (fixed conserved J, or J mod m) levels do not cross as the field
-//! changes (von Neumann & Wigner, Phys. Z. 30, 467 (1929)), so the rank of a level among the
-//! levels of its sector and branch, counted from the bottom of the truncated spectrum, labels it
-//! continuously across the points of a sweep computed with one cutoff. [`TrackKey`] is that
-//! label; [`tracks`] groups the levels of many spectra by it. Levels of different sectors may
-//! cross freely and keep their own keys.
+//! # Tracking by identity
+//! A level is followed across a sweep by its quantum numbers ([`crate::levels::LandauLabel`]:
+//! family, Landau index n, branch), not by its rank: [`TrackKey`] is that identity and
+//! [`tracks`] groups the levels of many spectra by it. Where two levels of one spectrum share the
+//! quantum numbers (possible only for continued labels) they are told apart by their rank among
+//! themselves, which is an identity too: levels with the same conserved quantum numbers do not
+//! cross (von Neumann & Wigner, Phys. Z. 30, 467 (1929)). Levels without a label keep the rank
+//! among the unlabelled levels of their family and branch. Cutoff artefacts
+//! ([`is_artefact`], the one place that decides it) never enter a track, so they never take a
+//! genuine level's place.
 //!
 //! # Expectation values
 //! * [`pattern_expectation`]: sum_alpha p_alpha w_alpha for a diagonal pattern p over the
@@ -16,48 +19,95 @@
 //! * [`orbital_content`]: mean and spread of the orbital index n, and the dominant n.
 
 use crate::error::{Error, Result};
-use crate::levels::Spectrum;
+use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Spectrum};
 use crate::matrix::SpinMatrix;
-use crate::sectors::SectorId;
 use serde::Serialize;
 use std::collections::BTreeMap;
 
-/// A level label that is continuous across a sweep (see the module docs).
+/// The identity of a level across a sweep (see the module docs).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 pub struct TrackKey {
-    /// Sector of the level.
-    pub sector: SectorId,
-    /// Klein-Gordon branch (+1, -1) or 0.
-    pub branch: i8,
-    /// Rank from the bottom among the levels of the same sector and branch (0 = lowest).
-    pub rank: usize,
+    /// Family (smallest component of the coupled set; see [`LandauLabel::family`]).
+    pub family: usize,
+    /// Landau index n; `None` for a level without a label.
+    pub n: Option<i64>,
+    /// Branch within the sector.
+    pub branch: Branch,
+    /// Rank among the levels of one spectrum sharing the fields above (0 almost always).
+    pub copy: usize,
 }
 
-impl std::fmt::Display for TrackKey {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        write!(
-            f,
-            "c{}J{}b{}r{}",
-            self.sector.class, self.sector.label, self.branch, self.rank
-        )
+impl TrackKey {
+    /// The label this key was made from, as printed for the level.
+    pub fn label(&self, origin: LabelOrigin) -> LandauLabel {
+        match self.n {
+            Some(n) => LandauLabel {
+                n,
+                branch: self.branch,
+                origin,
+                family: self.family,
+            },
+            None => LandauLabel::UNLABELLED,
+        }
     }
 }
 
-/// The track key of every level of `spectrum`, in the order of `spectrum.levels`.
+impl std::fmt::Display for TrackKey {
+    /// The printed label (`+2`, `-2`, `0`, `+1'`, `?`), then `@f<family>` for a family other
+    /// than 0 and `#<copy>` for a copy other than 0 (e.g. `+1@f2`): one token, no spaces.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let text = match self.n {
+            Some(_) => self.label(LabelOrigin::ExactSector).to_string(),
+            None => "?".to_string(),
+        };
+        write!(f, "{text}")?;
+        if self.family != 0 {
+            write!(f, "@f{}", self.family)?;
+        }
+        if self.copy != 0 {
+            write!(f, "#{}", self.copy)?;
+        }
+        Ok(())
+    }
+}
+
+/// Whether a level is a cutoff artefact for tracking and tables: the single place where the
+/// decision is made ([`crate::trust::converge::is_cutoff_artefact`], weight on the top
+/// orbitals).
+pub fn is_artefact(level: &Level) -> bool {
+    crate::trust::converge::is_cutoff_artefact(level)
+}
+
+/// The track key of every level of `spectrum`, in the order of `spectrum.levels` (artefacts
+/// get a key too, counted apart from the genuine levels).
 ///
 /// # Complexity
 /// O(L log L) for L levels.
 pub fn track_keys(spectrum: &Spectrum) -> Vec<TrackKey> {
-    let mut counters: BTreeMap<(SectorId, i8), usize> = BTreeMap::new();
+    let mut counters: BTreeMap<(bool, usize, Option<i64>, Branch), usize> = BTreeMap::new();
     spectrum
         .levels
         .iter()
         .map(|l| {
-            let c = counters.entry((l.sector, l.branch)).or_insert(0);
+            let (family, n, branch) = if l.label.is_known() {
+                (l.label.family, Some(l.label.n), l.label.branch)
+            } else {
+                let b = match l.branch {
+                    1 => Branch::Upper(1),
+                    -1 => Branch::Lower(1),
+                    _ => Branch::Unpaired,
+                };
+                (l.sector.class, None, b)
+            };
+            // levels are ascending in energy: the counter is the rank among equals
+            let c = counters
+                .entry((is_artefact(l), family, n, branch))
+                .or_insert(0);
             let key = TrackKey {
-                sector: l.sector,
-                branch: l.branch,
-                rank: *c,
+                family,
+                n,
+                branch,
+                copy: *c,
             };
             *c += 1;
             key
@@ -91,8 +141,8 @@ pub struct Track {
     pub points: Vec<TrackPoint>,
 }
 
-/// Group the levels of a sweep (spectra computed with one cutoff) by [`TrackKey`], ordered by
-/// key.
+/// Group the genuine levels of a sweep (spectra computed with one cutoff) by [`TrackKey`],
+/// ordered by key; cutoff artefacts ([`is_artefact`]) are left out.
 ///
 /// # Examples
 /// ```
@@ -102,6 +152,7 @@ pub struct Track {
 /// let pts: Vec<_> = [1.0, 2.0, 3.0].iter().map(|&b| FieldPoint::field(b)).collect();
 /// let t = tracks(&sweep::run(&m, &pts, &Settings::with_cutoff(20))?);
 /// // each Landau level is its own track: E_0 grows linearly, hbar omega_c / 2 per tesla
+/// assert_eq!(t[0].key.n, Some(0));
 /// assert!((t[0].points[2].energy / t[0].points[0].energy - 3.0).abs() < 1e-12);
 /// # Ok::<(), ladderfan::Error>(())
 /// ```
@@ -109,6 +160,9 @@ pub fn tracks(spectra: &[Spectrum]) -> Vec<Track> {
     let mut map: BTreeMap<TrackKey, Vec<TrackPoint>> = BTreeMap::new();
     for (p, s) in spectra.iter().enumerate() {
         for (i, (key, l)) in track_keys(s).into_iter().zip(&s.levels).enumerate() {
+            if is_artefact(l) {
+                continue;
+            }
             map.entry(key).or_default().push(TrackPoint {
                 point: p,
                 field: s.point.field,

@@ -33,7 +33,7 @@ use super::labels::{track_keys, TrackKey};
 use crate::error::{Error, Result};
 use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::ladder::ladder_element;
-use crate::levels::{LevelVector, Spectrum};
+use crate::levels::{LandauLabel, LevelVector, Spectrum};
 use crate::model::{Model, Monomial, SpectrumForm};
 use crate::solve::{Settings, Vectors};
 use crate::units::{hbar_v_mev_nm, Units, ELECTRON_MASS, MEV};
@@ -289,10 +289,15 @@ pub struct Transition {
     pub from: usize,
     /// Index of the final level.
     pub to: usize,
-    /// Track label of the initial level.
+    /// Identity of the initial level (its quantum numbers; see
+    /// [`crate::observables::labels::TrackKey`]).
     pub from_key: TrackKey,
-    /// Track label of the final level.
+    /// Identity of the final level.
     pub to_key: TrackKey,
+    /// Landau label of the initial level (n and branch as the trade writes them).
+    pub from_label: LandauLabel,
+    /// Landau label of the final level.
+    pub to_label: LandauLabel,
     /// Dominant orbital of the initial level.
     pub from_orbital: usize,
     /// Dominant orbital of the final level.
@@ -408,6 +413,8 @@ pub fn transitions(
                 to: f,
                 from_key: keys[i],
                 to_key: keys[f],
+                from_label: li.label,
+                to_label: lf.label,
                 from_orbital: li.orbital,
                 to_orbital: lf.orbital,
                 from_energy: ei,

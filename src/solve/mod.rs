@@ -429,6 +429,7 @@ impl Job<'_> {
                 orbital: best.1,
                 component: best.2,
                 branch: 0,
+                label: crate::levels::LandauLabel::UNLABELLED,
                 top_weight: top,
                 tail_weight: tail,
             };
@@ -487,6 +488,11 @@ impl Job<'_> {
             SectorEdges::Complete
         };
         kato_temple_sector(&mut out.levels[first_level..], edges);
+        // quantum numbers: n = J in an exact sector (src/labelling.rs)
+        if self.plan.symmetry.classes[id.class].modulus == 0 {
+            let family = self.plan.symmetry.classes[id.class].components[0];
+            crate::labelling::label_exact_sector(&mut out.levels[first_level..], id.label, family);
+        }
         Ok(())
     }
 }
@@ -773,6 +779,21 @@ impl Spectrum {
             weights,
             vectors,
         };
+        let mut spectrum = spectrum;
+        if settings.splitting == Splitting::Auto && settings.target == Target::All {
+            // a kz = 0 split must not change the labels (src/labelling.rs); the offset is an
+            // arbitrary irrational multiple of 1/l_B so that no coupling vanishes by accident
+            let generic = FieldPoint {
+                kz: point.kz + std::f64::consts::FRAC_1_SQRT_2 / h.magnetic_length,
+                ..point
+            };
+            let hg = LadderHamiltonian::assemble(model, generic, assembly_ref)?;
+            crate::labelling::join_kz_families(&hg, &mut spectrum);
+        }
+        if settings.splitting == Splitting::Auto {
+            // labels where only J mod m (or nothing) is conserved (src/labelling.rs)
+            crate::labelling::continue_labels(&h, model.form(), &mut spectrum)?;
+        }
         Ok(spectrum)
     }
 }

@@ -780,9 +780,6 @@ pub enum EnergyScale {
     Value(f64),
 }
 
-/// An unconverged level with at least this weight on the top orbitals of the basis is a cutoff
-/// artefact: it never makes an expected level "unresolved".
-pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
 
 /// Settings of [`check`].
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -843,6 +840,8 @@ pub struct NumericalLevel {
     pub component: usize,
     /// Sector.
     pub sector: SectorId,
+    /// Landau label (n and branch as the trade writes them), to set beside the expected n, s.
+    pub label: crate::levels::LandauLabel,
 }
 
 /// An expected level as reported (one state of its multiplicity).
@@ -1000,6 +999,7 @@ fn numerical(spectrum: &Spectrum, i: usize) -> NumericalLevel {
         orbital: l.orbital,
         component: l.component,
         sector: l.sector,
+        label: l.label,
     }
 }
 
@@ -1196,7 +1196,7 @@ pub fn check(
         // second zero level there, which must not excuse a doubly listed n = 0 level)
         let covered = spectrum.levels.iter().any(|l| {
             !l.is_converged()
-                && l.top_weight < ARTEFACT_TOP_WEIGHT
+                && !crate::trust::converge::is_cutoff_artefact(l)
                 && (l.energy - st.energy).abs() <= l.bound + st.allowance
         });
         let u = Unpartnered {
