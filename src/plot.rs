@@ -386,6 +386,6 @@ mod tests {
             levels: vec![(0.0, 1.0), (1.0, 2.0)],
         })
         .unwrap_or_else(|e| panic!("{e}"));
-        assert!(lv.contains("dominant orbital n") && lv.contains("E [meV]"));
+        assert!(lv.contains("Landau index n") && lv.contains("E [meV]"));
     }
 }

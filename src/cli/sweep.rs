@@ -958,7 +958,7 @@ mod tests {
             &Settings::with_cutoff(40),
         )
         .unwrap_or_else(|e| panic!("{e}"));
-        let win = (-32.0, 32.0);
+        let win = (-80.0, 80.0);
         let c = closed_form_check(&lm, &[&s], win).unwrap_or_else(|| panic!("closed form"));
         assert!(c.passed, "{c:?}");
         assert_eq!(c.not_comparable_points, 1, "{c:?}");

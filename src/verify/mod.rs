@@ -780,7 +780,6 @@ pub enum EnergyScale {
     Value(f64),
 }
 
-
 /// Settings of [`check`].
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct VerifySettings {
