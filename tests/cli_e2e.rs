@@ -1278,6 +1278,9 @@ fn plus_and_minus_e_n_of_the_gapped_2d_dirac_model_share_n_in_levels_verify_and_
     assert!(pairs.len() >= 8, "{v}");
     for p in &pairs {
         assert_eq!(p["numerical"]["label"]["n"], p["expected"]["n"], "{p}");
+        // the pairs of a converged window carry the level state too (common practice: every
+        // output names the state, README "Reading a level")
+        assert_eq!(p["numerical"]["state"], "converged", "{p}");
     }
     // optics: the strong sigma+ line from LL(-2) ends on LL(+3) (|n| changes by one)
     let r = run(&[

@@ -841,6 +841,9 @@ pub struct NumericalLevel {
     pub sector: SectorId,
     /// Landau label (n and branch as the trade writes them), to set beside the expected n, s.
     pub label: crate::levels::LandauLabel,
+    /// Converged, genuine but not converged, or cutoff artefact (see the README, "Reading a
+    /// level").
+    pub state: crate::levels::Convergence,
 }
 
 /// An expected level as reported (one state of its multiplicity).
@@ -999,6 +1002,7 @@ fn numerical(spectrum: &Spectrum, i: usize) -> NumericalLevel {
         component: l.component,
         sector: l.sector,
         label: l.label,
+        state: l.convergence,
     }
 }
 
