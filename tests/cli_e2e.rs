@@ -5,7 +5,9 @@
 
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::process::Command;
+
+mod common;
+use common::{run_in, Run};
 
 // CODATA 2018 exact / recommended values (Tiesinga et al., Rev. Mod. Phys. 93, 025010 (2021)),
 // written out here independently of ladderfan::units.
@@ -33,25 +35,6 @@ fn hbar_omega_c(field_t: f64, ratio: f64) -> f64 {
 /// Bohr magneton e hbar / (2 m_e) in meV/T.
 fn mu_b() -> f64 {
     E_CHARGE * hbar() / (2.0 * M_E) / MEV_J
-}
-
-struct Run {
-    code: i32,
-    stdout: String,
-    stderr: String,
-}
-
-fn run_in(dir: &Path, args: &[&str]) -> Run {
-    let out = Command::new(env!("CARGO_BIN_EXE_ladderfan"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .unwrap_or_else(|e| panic!("cannot run ladderfan: {e}"));
-    Run {
-        code: out.status.code().unwrap_or(-1),
-        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
-        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
-    }
 }
 
 fn run(args: &[&str]) -> Run {

@@ -50,3 +50,27 @@ pub fn warped() -> Model {
         .build()
         .unwrap()
 }
+
+/// What one run of the `ladderfan` binary gave.
+pub struct Run {
+    /// Exit code (-1 when killed by a signal).
+    pub code: i32,
+    /// Standard output.
+    pub stdout: String,
+    /// Standard error.
+    pub stderr: String,
+}
+
+/// Run the `ladderfan` binary with `args` in `dir`.
+pub fn run_in(dir: &std::path::Path, args: &[&str]) -> Run {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ladderfan"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .unwrap_or_else(|e| panic!("cannot run ladderfan: {e}"));
+    Run {
+        code: out.status.code().unwrap_or(-1),
+        stdout: String::from_utf8_lossy(&out.stdout).into_owned(),
+        stderr: String::from_utf8_lossy(&out.stderr).into_owned(),
+    }
+}
