@@ -851,17 +851,7 @@ pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: 
             ),
         });
     }
-    let shape = crate::memory::SolveShape::of_model(
-        model,
-        FieldPoint { field, kz: 0.0 },
-        cutoff,
-        crate::solve::Splitting::Auto,
-    )?;
-    let bytes = crate::memory::estimate(
-        &shape,
-        &crate::memory::Footprint::Solve { vectors: false },
-        rayon::current_num_threads() as u64,
-    );
+    let (shape, bytes) = solve_estimate(model, cutoff, field)?;
     crate::memory::check(
         &format!(
             "a solve at cutoff {cutoff} ({} levels, largest sector {} states)",
@@ -879,17 +869,30 @@ pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: 
 /// # Errors
 /// [`Error::ZeroField`] for a zero or non-finite field.
 pub fn memory_estimate_mib(model: &Model, cutoff: usize, field: f64) -> Result<u64> {
+    Ok(crate::memory::to_mib(
+        solve_estimate(model, cutoff, field)?.1,
+    ))
+}
+
+/// Shape and bytes of one values-only solve at `cutoff` and `field` (kz = 0), the one estimate
+/// behind [`check_cutoff`] and [`memory_estimate_mib`].
+fn solve_estimate(
+    model: &Model,
+    cutoff: usize,
+    field: f64,
+) -> Result<(crate::memory::SolveShape, u64)> {
     let shape = crate::memory::SolveShape::of_model(
         model,
         FieldPoint { field, kz: 0.0 },
         cutoff,
         crate::solve::Splitting::Auto,
     )?;
-    Ok(crate::memory::to_mib(crate::memory::estimate(
+    let bytes = crate::memory::estimate(
         &shape,
         &crate::memory::Footprint::Solve { vectors: false },
         rayon::current_num_threads() as u64,
-    )))
+    );
+    Ok((shape, bytes))
 }
 
 fn is_identifier(s: &str) -> bool {
