@@ -19,9 +19,9 @@
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use ladderfan::builtin::{self, RelativisticParams};
 use ladderfan::hamiltonian::LadderHamiltonian;
-use ladderfan::solve::banded::BandedHermitian;
-use ladderfan::solve::dense::{self, Vectors};
-use ladderfan::solve::window;
+use ladderfan::numeric::banded::BandedHermitian;
+use ladderfan::numeric::dense::{self, Vectors};
+use ladderfan::numeric::window;
 use ladderfan::{sweep, FieldPoint, Settings};
 use nalgebra::DMatrix;
 use num_complex::Complex64;

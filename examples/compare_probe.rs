@@ -16,8 +16,8 @@
 //! times the complete unsplit `Spectrum::compute` (eigenvectors, bounds, labels).
 
 use ladderfan::hamiltonian::LadderHamiltonian;
-use ladderfan::solve::banded::BandedHermitian;
-use ladderfan::solve::{dense, window};
+use ladderfan::numeric::banded::BandedHermitian;
+use ladderfan::numeric::{dense, window};
 use ladderfan::{builtin, FieldPoint, Settings, Spectrum, Splitting};
 use std::io::Write;
 use std::time::Instant;

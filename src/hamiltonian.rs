@@ -13,11 +13,11 @@
 //! degree of the model. Its element (m, alpha; n, beta) is
 //! sum over (j, k) with j - k = m - n of A_jk[alpha, beta] <m| a^dag^j a^k |n>.
 
-use crate::dd::Dd;
 use crate::error::{Error, Result};
 use crate::ladder::{ladder_element, weyl_monomial};
 use crate::matrix::SpinMatrix;
 use crate::model::Model;
+use crate::numeric::dd::Dd;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::collections::BTreeMap;
@@ -319,7 +319,7 @@ impl LadderHamiltonian {
         alpha: usize,
         n: usize,
         beta: usize,
-    ) -> crate::dd::DdComplex {
+    ) -> crate::numeric::dd::DdComplex {
         let shift = m as i64 - n as i64;
         let mut re = Dd::default();
         let mut im = Dd::default();
@@ -335,7 +335,7 @@ impl LadderHamiltonian {
                 im = im + Dd::prod(a.im, f) + Dd::prod(lo.im, f);
             }
         }
-        crate::dd::DdComplex { re, im }
+        crate::numeric::dd::DdComplex { re, im }
     }
 
     /// For every pair of components (alpha, beta), the orbital shifts m - n through which they

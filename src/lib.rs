@@ -38,7 +38,6 @@
 pub mod builtin;
 pub mod catalogue;
 pub mod closed_form;
-pub mod dd;
 pub mod error;
 pub mod hamiltonian;
 pub mod labelling;
@@ -49,6 +48,7 @@ pub mod matrix;
 pub mod memory;
 pub mod model;
 pub mod modelfile;
+pub mod numeric;
 pub mod observables;
 pub mod plot;
 pub mod sectors;

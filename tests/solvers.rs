@@ -9,9 +9,9 @@
 use ladderfan::hamiltonian::{FieldPoint, LadderHamiltonian};
 use ladderfan::matrix::pauli;
 use ladderfan::model::{Model, Monomial};
-use ladderfan::solve::banded::BandedHermitian;
-use ladderfan::solve::dense::{eigh, Vectors};
-use ladderfan::solve::window::{in_window, nearest};
+use ladderfan::numeric::banded::BandedHermitian;
+use ladderfan::numeric::dense::{eigh, Vectors};
+use ladderfan::numeric::window::{in_window, nearest};
 use ladderfan::units::Units;
 use nalgebra::{DMatrix, SymmetricEigen};
 use num_complex::Complex64;

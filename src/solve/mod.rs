@@ -11,7 +11,7 @@
 //!   per-chunk buffers, with the convergence flags set on the way. Each level is written twice
 //!   (chunk buffer, final array), about 2 x (96 + 8 d) bytes plus a 16-byte key.
 //!
-//! Measured (`examples/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels): on two
+//! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels): on two
 //! free cores the whole split solve takes about 1.5x a single-threaded bare loop of 1e6
 //! fixed-size 4x4 complex solves; on one core about 2.9x, of which the sector eigen-solves are
 //! about a fifth, the rest building the sector matrices, residuals, leakage, labels and
@@ -21,17 +21,13 @@
 //! Results do not depend on the thread count: each sector is solved independently, and the
 //! sort key breaks energy ties by the position in sector order.
 
-pub mod banded;
-pub mod dense;
-pub mod refine;
-pub mod window;
-
-use crate::dd::DdComplex;
 use crate::error::{Error, Result};
 use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::ladder::ladder_element;
 use crate::levels::{Convergence, Level, LevelVector, Spectrum};
 use crate::model::{Model, SpectrumForm};
+use crate::numeric::dd::DdComplex;
+use crate::numeric::{banded, dense, refine, window};
 use crate::sectors::{SectorId, SectorPlan, Symmetry};
 use crate::trust::bounds::{kato_temple_sector, SectorEdges};
 pub use dense::Vectors;

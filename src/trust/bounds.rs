@@ -20,7 +20,7 @@
 //! the truncated sector matrix below and above it, whatever their kind: all of them are
 //! known, because a dense solve returns every eigenvalue of the sector
 //! ([`SectorEdges::Complete`]) and the window solver proves by Sylvester inertia counts
-//! ([`crate::solve::banded::BandedHermitian::inertia`], step 4 of [`crate::solve::window`])
+//! ([`crate::numeric::banded::BandedHermitian::inertia`], step 4 of [`crate::numeric::window`])
 //! that its run of levels has no hole ([`SectorEdges::Partial`]: only the two outermost
 //! levels, whose outer neighbour is unknown, get no bound). So the truncated sector matrix has
 //! exactly one eigenvalue in (alpha, beta). A genuine neighbour j stands for an eigenvalue of

@@ -75,7 +75,7 @@ impl BandedHermitian {
     ///
     /// # Examples
     /// ```
-    /// use ladderfan::solve::banded::BandedHermitian;
+    /// use ladderfan::numeric::banded::BandedHermitian;
     /// use num_complex::Complex64;
     /// // tridiagonal 2 on the diagonal, -1 off it
     /// let h = BandedHermitian::from_fn(4, 1, |i, j| {

@@ -28,14 +28,14 @@
 //! Why not Sturm bisection plus inverse iteration: bisection needs one O(n b^2) factorisation
 //! per halving, about 40 per eigenvalue to reach 1e-12, against one factorisation plus m
 //! O(n b) solves here; with the cost of one inertia count measured in
-//! `examples/window_timing.rs` (n = 2e5 and 2e6, b = 7, 20 levels; a shared, loaded
+//! `tools/window_timing.rs` (n = 2e5 and 2e6, b = 7, 20 levels; a shared, loaded
 //! machine), bisection would take about 4-10 times longer than this solver, before even
 //! computing eigenvectors.
 //!
 //! # Complexity
 //! One factorisation O(n b^2), then per Lanczos step one O(n b) solve and O(n m) for the
 //! reorthogonalisation; in all O(n b^2 + (r + 1) n m^2) for r restarts (two for the 20
-//! levels of `examples/window_timing.rs`), plus two O(n b^2) inertia counts. Memory O(n b)
+//! levels of `tools/window_timing.rs`), plus two O(n b^2) inertia counts. Memory O(n b)
 //! for the factors plus O(n m) for the basis, m = max(2k + 10, k + 30) capped at n.
 //!
 //! # References
@@ -44,9 +44,9 @@
 //! eigenvalue problems", SIAM J. Matrix Anal. Appl. 22, 602 (2000); T. Ericsson and A. Ruhe,
 //! "The spectral transformation Lanczos method", Math. Comp. 35, 1251 (1980).
 
+use super::banded::{BandedHermitian, BandedLu, Scalar};
+use super::dense::{eigh, Vectors};
 use crate::error::{Error, Result};
-use crate::solve::banded::{BandedHermitian, BandedLu, Scalar};
-use crate::solve::dense::{eigh, Vectors};
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
 
@@ -85,7 +85,7 @@ const MAX_ROUNDS: usize = 4;
 ///
 /// # Examples
 /// ```
-/// use ladderfan::solve::{banded::BandedHermitian, window::nearest};
+/// use ladderfan::numeric::{banded::BandedHermitian, window::nearest};
 /// use num_complex::Complex64;
 /// // the second-difference matrix 2 - 2cos(pi k/(n+1)), k = 1..n
 /// let n = 200;

@@ -2,8 +2,9 @@
 //!
 //! Near a large reference energy (a rest energy m c^2 ~ 5e8 meV against Landau splittings of
 //! ~0.1 meV per tesla) a double-precision eigenvalue carries an absolute error of order
-//! 1e-16 x ||H||, which is most of the splitting. The sector matrix is therefore assembled with
-//! E_ref subtracted in double-double arithmetic ([`crate::hamiltonian`]), and each eigenpair is
+//! 1e-16 x ||H||, which is most of the splitting. The caller therefore assembles the matrix with
+//! E_ref subtracted in double-double arithmetic (in ladderfan the Hamiltonian's double-double
+//! sector elements, passed here as a function of (i, j)), and each eigenpair is
 //! refined by the iteration of Dongarra, Moler & Wilkinson: the residual r = lambda y - A y is
 //! evaluated in double-double, the correction is solved in double from the bordered system
 //!
@@ -19,7 +20,7 @@
 //! # Complexity
 //! O(s^3) per step for an s x s sector (LU of the bordered matrix); used for small sectors only.
 
-use crate::dd::{Dd, DdComplex};
+use super::dd::{Dd, DdComplex};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 

@@ -1,0 +1,27 @@
+//! The physics-free numerical layer: dense and banded Hermitian eigen-solvers, shift-invert
+//! Lanczos near a target, extended-precision refinement and double-double arithmetic.
+//!
+//! Nothing here knows about models, fields, levels or Landau labels: every routine takes plain
+//! matrices, slices and numbers, and the physics layers ([`crate::solve`] and above) call in.
+//! It imports only the foundation modules ([`crate::error`]), so it can be tested, timed and
+//! reused on its own (the dependency rule of DEVELOPERS.md, checked by `tests/layers.rs`).
+//!
+//! # Paths and complexity (s = matrix size, n = banded size, b = half-bandwidth)
+//! * [`dense`]: one Hermitian eigen-solve, the fastest exact path chosen by size: O(s^3) time,
+//!   O(s^2) memory.
+//! * `tridiag` (private): the blocked Householder tridiagonal reduction behind [`dense`] from size 256
+//!   on: about (4/3) s^3 flops, one read of the trailing triangle per column.
+//! * [`banded`]: banded Hermitian storage, shifted LU with partial pivoting and Sylvester
+//!   inertia counts: O(n b^2) time, O(n b) memory.
+//! * [`window`]: shift-invert Krylov-Schur Lanczos for the eigenvalues nearest a target or in
+//!   an interval: O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
+//! * [`refine`]: Dongarra-Moler-Wilkinson refinement of one eigenpair in double-double: O(s^3)
+//!   per step, for small matrices.
+//! * [`dd`]: double-double numbers (about 32 significant digits), O(1) per operation.
+
+pub mod banded;
+pub mod dd;
+pub mod dense;
+pub mod refine;
+mod tridiag;
+pub mod window;
