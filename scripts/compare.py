@@ -5,7 +5,7 @@ Builds the truncated 3+1 Dirac Hamiltonian in numpy from its element formulas (n
 m c^2 = c = hbar = 1, electron charge q = -1, B = 1e-3 B_c, kz = 0.05; orbital-major basis
 index n*4 + alpha), or reads it from a MatrixMarket file (--matrix, e.g. written by
 `ladderfan export`), times numpy.linalg.eigvalsh / eigh and scipy.linalg.eigvals_banded on it,
-runs the ladderfan probe (examples/compare_probe.rs) on the same problem, checks that the
+runs the ladderfan probe (tools/compare_probe.rs, a bench target) on the same problem, checks that the
 eigenvalues agree within a tolerance scaled by the matrix norm, and prints one table of times,
 ratios and peak memory, all measured in this run.
 
@@ -17,7 +17,7 @@ kx = (a + a^dag)/(sqrt2 l_B), ky = -i s (a - a^dag)/(sqrt2 l_B), <n-1|a|n> = sqr
 Dense sector cells (--dense-sizes, default 500,1000,2000,4000): the unsplit matrix at each
 size, real symmetric as built and complex Hermitian as D H D^H with the diagonal unitary
 D = diag(exp(i phi_k)), phi_k = 2 pi frac(k (sqrt5 - 1)/2) (same spectrum, which is checked),
-each values only (numpy.linalg.eigvalsh vs solve::dense::eigh Vectors::Skip) and with vectors
+each values only (numpy.linalg.eigvalsh vs numeric::dense::eigh Vectors::Skip) and with vectors
 (numpy.linalg.eigh vs Vectors::Compute, whose residual ||H V - V diag(lambda)||_F / ||H||_F and
 orthogonality ||V^H V - 1||_F / sqrt(size) the probe computes). The ratio printed is
 ladderfan time / LAPACK time (below 1.5 is the target of issue #6).
@@ -80,7 +80,7 @@ GOLDEN = 0.6180339887498949  # (sqrt 5 - 1)/2
 
 def phases(size):
     """exp(i phi_k), phi_k = 2 pi frac(k g), g = (sqrt 5 - 1)/2: the diagonal unitary D of the
-    complex dense case (examples/compare_probe.rs `phase` computes the same angles)."""
+    complex dense case (tools/compare_probe.rs `phase` computes the same angles)."""
     import numpy as np
 
     k = np.arange(size, dtype=float)
@@ -226,7 +226,8 @@ def run_measured(cmd, env):
 
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    ap.add_argument("--probe", default="target/release/examples/compare_probe")
+    ap.add_argument("--probe", required=True,
+                    help="release executable of the bench target compare_probe (compare.sh finds it)")
     ap.add_argument("--ladderfan", default="target/release/ladderfan",
                     help="binary whose `export` is checked against the numpy matrix")
     ap.add_argument("--matrix", help="MatrixMarket file of the split case's matrix (4N = 4000)")
@@ -320,7 +321,7 @@ def main():
         probe("split", split_n, nproc),
     ]))
     # 2. one dense sector (the unsplit matrix, real symmetric, and D H D^H, complex Hermitian)
-    #    per size, values only and with vectors: LAPACK (numpy) against solve::dense::eigh
+    #    per size, values only and with vectors: LAPACK (numpy) against numeric::dense::eigh
     dense_rows = []
     for size in dense_sizes:
         cutoff = size // 4
@@ -345,7 +346,7 @@ def main():
     if args.skip_window:
         window_note = "window solver: skipped (--skip-window)"
     elif not probe_has_window:
-        window_note = "window solver: not in this build (src/solve/window.rs missing)"
+        window_note = "window solver: not in this build (src/numeric/window.rs missing)"
     else:
         for wn in ((1000, 10000) if args.quick else (100_000, 1_000_000)):
             case = f"window, 4N = {4 * wn:.0e}, {count} nearest {target}".replace("e+0", "e")
@@ -479,7 +480,7 @@ def main():
     if dense_out:
         print()
         print("Dense sector (unsplit 3+1 Dirac matrix; complex = D H D^H, D = diag(exp(i phi_k))): "
-              "numpy (LAPACK) vs solve::dense::eigh, one thread each")
+              "numpy (LAPACK) vs numeric::dense::eigh, one thread each")
         print("| size | matrix | computes | LAPACK (s) | ladderfan (s) | ladderfan / LAPACK "
               "| max abs dE / (eps norm) | residual | orthogonality | ladderfan CPU/wall "
               "| peak RSS LAPACK / ladderfan (MiB) |")

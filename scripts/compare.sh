@@ -6,14 +6,15 @@
 #   --skip-window  do not time the window solver at N = 1e5 / 1e6 even if it exists
 #   --dense-sizes  dense sector sizes (multiples of 4; default 500,1000,2000,4000, with --quick
 #                  200,400): at each, real symmetric and complex Hermitian, values only and
-#                  with vectors, numpy (LAPACK) against solve::dense::eigh, ratio and residuals
+#                  with vectors, numpy (LAPACK) against numeric::dense::eigh, ratio and residuals
 #
 # What it does:
 #  * creates a Python venv under target/compare-venv and installs numpy and scipy with pip;
 #  * installs GNU time (/usr/bin/time, Debian package `time`) if missing, for peak memory;
 #  * pins OpenBLAS / OpenMP / MKL to one thread (two OpenBLAS threads on a shared 2-core machine
 #    ran 3-4x slower when measured; one thread is also what one ladderfan sector solve uses);
-#  * builds examples/compare_probe.rs in release mode and runs scripts/compare.py, which checks
+#  * builds the bench target tools/compare_probe.rs in release mode (its executable path is
+#    read from cargo's JSON messages; CARGO_TARGET_DIR is honoured) and runs scripts/compare.py, which checks
 #    its numpy matrix against `ladderfan export`, times both sides, checks that the eigenvalues
 #    agree, and prints the table.
 set -euo pipefail
@@ -34,8 +35,20 @@ if [ ! -x /usr/bin/time ]; then
     fi
 fi
 export OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 MKL_NUM_THREADS=1
-cargo build --release --quiet --example compare_probe
+# the executable of a cargo target, from the compiler-artifact message of its build
+executable() {
+    "$VENV/bin/python" -c 'import json, sys
+name = sys.argv[1]
+for line in sys.stdin:
+    m = json.loads(line)
+    if m.get("reason") == "compiler-artifact" and m["target"]["name"] == name and m.get("executable"):
+        print(m["executable"])' "$1"
+}
+PROBE=$(cargo build --release --quiet --bench compare_probe --message-format=json | executable compare_probe)
 # the CLI only exports the matrix for the cross-check (not timed): the dev build is enough
-cargo build --quiet --bin ladderfan
-exec "$VENV/bin/python" scripts/compare.py --probe target/release/examples/compare_probe \
-    --ladderfan target/debug/ladderfan "$@"
+LADDERFAN=$(cargo build --quiet --bin ladderfan --message-format=json | executable ladderfan)
+if [ -z "$PROBE" ] || [ -z "$LADDERFAN" ]; then
+    echo "compare.sh: cargo did not report the compare_probe or ladderfan executable" >&2
+    exit 1
+fi
+exec "$VENV/bin/python" scripts/compare.py --probe "$PROBE" --ladderfan "$LADDERFAN" "$@"

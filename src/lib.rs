@@ -32,7 +32,9 @@
 //!   is labelled by its sector, its Landau index n and branch as the trade writes them
 //!   ([`levels::LandauLabel`], [`labelling`]: +E_n and -E_n share n, the unpaired Dirac level
 //!   is n = 0) and its component weights.
-#![deny(missing_docs)]
+
+// missing_docs is denied for the whole package in Cargo.toml's [lints]; unsafe code is denied
+// there too, and forbidden here so that no `allow` inside the library can lift it
 #![forbid(unsafe_code)]
 
 pub mod builtin;

@@ -29,8 +29,10 @@ struct Outcome {
 
 /// Run the binary with `args`, optionally under an address-space cap, and reap it with `wait4`
 /// to read its own peak resident set.
-// the child is reaped by wait4 below, which std's `Child` does not see
-#[allow(clippy::zombie_processes)]
+// the child is reaped by wait4 below, which std's `Child` does not see; unsafe for libc's
+// setrlimit (address-space cap of the child) and wait4 (its own peak resident set), which std
+// does not offer
+#[allow(clippy::zombie_processes, unsafe_code)]
 fn run(args: &[&str], cap: Option<u64>) -> Outcome {
     let mut cmd = Command::new(env!("CARGO_BIN_EXE_ladderfan"));
     cmd.args(args)

@@ -126,7 +126,15 @@ fn residuals(
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().skip(1).collect();
+    // `cargo bench` appends `--bench`; a plain `cargo bench` (no arguments) only prints the usage
+    let args: Vec<String> = std::env::args()
+        .skip(1)
+        .filter(|a| a != "--bench")
+        .collect();
+    if args.is_empty() {
+        println!("compare_probe: the worker of scripts/compare.sh; see the usage in tools/compare_probe.rs");
+        return;
+    }
     let (path, n) = match (
         args.first(),
         args.get(1).and_then(|s| s.parse::<usize>().ok()),
@@ -194,13 +202,13 @@ fn main() {
             let cpu_per_wall = (cpu_seconds() - c0) / w0.elapsed().as_secs_f64();
             write_values(values_path, &eig.values);
             let what = match (complex, vectors) {
-                (false, dense::Vectors::Skip) => "solve::dense::eigh, real symmetric, values only",
+                (false, dense::Vectors::Skip) => "numeric::dense::eigh, real symmetric, values only",
                 (false, dense::Vectors::Compute) => {
-                    "solve::dense::eigh, real symmetric, values and vectors"
+                    "numeric::dense::eigh, real symmetric, values and vectors"
                 }
-                (true, dense::Vectors::Skip) => "solve::dense::eigh, complex Hermitian, values only",
+                (true, dense::Vectors::Skip) => "numeric::dense::eigh, complex Hermitian, values only",
                 (true, dense::Vectors::Compute) => {
-                    "solve::dense::eigh, complex Hermitian, values and vectors"
+                    "numeric::dense::eigh, complex Hermitian, values and vectors"
                 }
             };
             let mut out = serde_json::json!({
@@ -351,7 +359,7 @@ fn main() {
                 "seconds": t, "repeats": reps, "build_seconds": build,
                 "target": target, "count": count, "max_residual": max_res,
                 "half_bandwidth": half,
-                "what": "solve::window::nearest on the unsplit band matrix (values, vectors, residuals)",
+                "what": "numeric::window::nearest on the unsplit band matrix (values, vectors, residuals)",
             })
         }
         other => fail(&format!("unknown path {other}; use split, dense, sweep or window")),

@@ -1,8 +1,8 @@
 //! Split 3+1 Dirac path against a bare loop of 4x4 eigen-solves, timed alternately in one run
-//! (release build; a measurement, not a test; skipped by CI).
+//! (release build; a measurement, not a test, so a `[[bench]]` target and not run by CI).
 //!
 //! ```text
-//! cargo run --release --example split_timing -- [N] [ROUNDS]
+//! cargo bench --bench split_timing -- [N] [ROUNDS]
 //! ```
 //! Prints, per round, the bare loop of N - 1 fixed-size 4x4 Hermitian solves with vectors (one
 //! thread, matrices built outside the timed region, as in `benches/engine.rs`) and

@@ -1,5 +1,5 @@
 //! Timing of the eigen-solvers (run once, release build):
-//! `cargo run --release --example window_timing [-- --skip-million | --window-only | --dense-only]`.
+//! `cargo bench --bench window_timing [-- --skip-million | --window-only | --dense-only]`.
 //!
 //! 1. Window solver: the 20 levels nearest a chosen energy of a 2-band model with cubic
 //!    warping (invented parameters), N = 1e5 and 1e6 orbitals (matrix sizes 2e5 and 2e6).

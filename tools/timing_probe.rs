@@ -1,4 +1,5 @@
-//! Quick wall-clock probe of the main solver paths (release build; not a test).
+//! Quick wall-clock probe of the main solver paths (release build; not a test):
+//! `cargo bench --bench timing_probe`.
 use ladderfan::matrix::pauli;
 use ladderfan::*;
 use std::time::Instant;
