@@ -382,7 +382,7 @@ fn faer_complex(h: &DMatrix<Complex64>, vectors: Vectors) -> Result<DenseEigen> 
 mod tests {
     use super::*;
 
-    use crate::numeric::window::SplitMix as Rng;
+    use crate::numeric::lanczos::SplitMix as Rng;
 
     fn random_hermitian(s: usize, complex: bool, rng: &mut Rng) -> DMatrix<Complex64> {
         let mut h = DMatrix::zeros(s, s);

@@ -13,8 +13,9 @@
 //!   on: about (4/3) s^3 flops, one read of the trailing triangle per column.
 //! * [`banded`]: banded Hermitian storage, shifted LU with partial pivoting and Sylvester
 //!   inertia counts: O(n b^2) time, O(n b) memory.
-//! * [`window`]: shift-invert Krylov-Schur Lanczos for the eigenvalues nearest a target or in
-//!   an interval: O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
+//! * [`window`]: the eigenvalues nearest a target or in an interval of a huge banded matrix,
+//!   by shift-invert Krylov-Schur Lanczos (the iteration itself in the private `lanczos`):
+//!   O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
 //! * [`refine`]: Dongarra-Moler-Wilkinson refinement of one eigenpair in double-double: O(s^3)
 //!   per step, for small matrices.
 //! * [`dd`]: double-double numbers (about 32 significant digits), O(1) per operation.
@@ -22,6 +23,7 @@
 pub mod banded;
 pub mod dd;
 pub mod dense;
+mod lanczos;
 pub mod refine;
 mod tridiag;
 pub mod window;
