@@ -348,8 +348,6 @@ pub struct BandedLu<T: Scalar> {
     mult: Vec<T>,
     /// Row interchanged with row k at step k.
     piv: Vec<usize>,
-    /// The shift sigma.
-    sigma: f64,
 }
 
 impl<T: Scalar> BandedLu<T> {
@@ -423,24 +421,7 @@ impl<T: Scalar> BandedLu<T> {
         }
         u.truncate(n * wu);
         u.shrink_to_fit();
-        Ok(BandedLu {
-            n,
-            b,
-            u,
-            mult,
-            piv,
-            sigma,
-        })
-    }
-
-    /// The shift sigma of this factorisation.
-    pub fn sigma(&self) -> f64 {
-        self.sigma
-    }
-
-    /// Matrix size n.
-    pub fn size(&self) -> usize {
-        self.n
+        Ok(BandedLu { n, b, u, mult, piv })
     }
 
     /// Overwrite `x` with (H - sigma I)^(-1) x.

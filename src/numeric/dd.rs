@@ -71,14 +71,6 @@ impl Dd {
         let (hi, lo) = two_prod(a, b);
         Dd { hi, lo }
     }
-    /// Absolute value.
-    pub fn abs(self) -> Self {
-        if self.hi < 0.0 {
-            -self
-        } else {
-            self
-        }
-    }
 }
 
 impl Add for Dd {
