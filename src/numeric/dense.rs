@@ -17,8 +17,8 @@
 //!   real arithmetic (faer `Mat<f64>`) when every imaginary part of the lower triangle is
 //!   exactly zero and in complex arithmetic otherwise. At these sizes the working set stays in
 //!   cache and faer's fused unblocked reduction is as fast as the blocked one.
-//! - size >= 256 (>= 640 for real values only): the same real/complex choice, with our blocked Householder (module `tridiag`)
-//!   tridiagonalisation (LAPACK-style panels: one read of the trailing triangle per column by a
+//! - size >= 256 (>= 640 for real values only): the same real/complex choice, with our blocked Householder
+//!   tridiagonalisation (module `tridiag`; LAPACK-style panels: one read of the trailing triangle per column by a
 //!   4-column SIMD Hermitian matrix-vector kernel, and one level-3 rank-2k update per panel of
 //!   32 columns, where faer's unblocked reduction reads and writes the trailing triangle for
 //!   every column), then faer's tridiagonal solvers, then Q applied block by block, each block
