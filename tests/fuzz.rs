@@ -11,9 +11,9 @@
 //! `LADDERFAN_FUZZ_CASES=N` and `LADDERFAN_FUZZ_SEED=S` change count and seed). Both print
 //! how many inputs parsed, were refused, and were solved.
 
+use ladderfan::expr::{Expr, Scope};
 use ladderfan::modelfile;
 use ladderfan::units::Units;
-use ladderfan::verify::expr::{Expr, Scope};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use std::collections::BTreeMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};

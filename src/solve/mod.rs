@@ -32,6 +32,7 @@ use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::ladder::ladder_element;
 use crate::levels::{Convergence, Level, LevelVector, Spectrum};
 use crate::model::{Model, SpectrumForm};
+use crate::policy::{DENSE_MAX_DEFAULT, WINDOW_MAX_LEVELS};
 use crate::sectors::{SectorId, SectorPlan, Symmetry};
 use crate::trust::bounds::{kato_temple_sector, SectorEdges};
 pub use dense::Vectors;
@@ -74,12 +75,6 @@ pub enum Precision {
     /// Always refine small sectors (size <= [`REFINE_MAX_SECTOR`]) in double-double.
     Extended,
 }
-
-/// Default largest sector diagonalised densely when only some levels are wanted.
-pub const DENSE_MAX_DEFAULT: usize = 3000;
-
-/// Most levels the window solver may return from one sector for a [`Target::Window`].
-pub const WINDOW_MAX_LEVELS: usize = 2000;
 
 /// Fewest levels one task of the final gather handles: small spectra (one point of a sweep,
 /// where the points already run in parallel) are gathered without splitting.
@@ -149,9 +144,9 @@ impl Settings {
             reference: Reference::Model,
             splitting: Splitting::Auto,
             vectors: Vectors::Skip,
-            tolerance: 1e-9,
+            tolerance: crate::policy::DEFAULT_TOLERANCE,
             precision: Precision::Auto,
-            memory_limit_mib: 4096,
+            memory_limit_mib: crate::policy::DEFAULT_MEMORY_LIMIT_MIB,
             target: Target::All,
             dense_max: DENSE_MAX_DEFAULT,
         }
@@ -160,7 +155,7 @@ impl Settings {
 
 impl Default for Settings {
     fn default() -> Self {
-        Settings::with_cutoff(200)
+        Settings::with_cutoff(crate::policy::DEFAULT_CUTOFF)
     }
 }
 
@@ -915,7 +910,7 @@ pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Optio
 /// ([`Level::deciding_bound`]: certified Kato-Temple when sharper, else residual) is at most
 /// tolerance x max(|E|, scale) (the bound itself proves the level genuine); else a cutoff
 /// artefact when its weight on the top `band` orbitals, or on the top quarter of the basis,
-/// is at least [`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]; else genuine but not
+/// is at least [`crate::policy::ARTEFACT_TOP_WEIGHT`]; else genuine but not
 /// converged.
 pub fn flag_convergence(s: &mut Spectrum) {
     let (tol, scale) = (s.tolerance, s.energy_scale);
@@ -928,7 +923,7 @@ pub fn flag_convergence(s: &mut Spectrum) {
 const TAIL_DENOMINATOR: usize = 4;
 
 fn convergence_of(l: &Level, tolerance: f64, scale: f64) -> Convergence {
-    use crate::trust::converge::ARTEFACT_TOP_WEIGHT;
+    use crate::policy::ARTEFACT_TOP_WEIGHT;
     // a bound below the tolerance proves an eigenvalue of the untruncated operator that close:
     // such a level is genuine whatever its weights (the top sector of an exact-J model can
     // hold exact eigenvectors with half their weight on the top orbital)
