@@ -484,7 +484,7 @@ impl Job<'_> {
         };
         kato_temple_sector(&mut out.levels[first_level..], edges);
         // quantum numbers: n = J in an exact sector (src/labelling.rs)
-        if self.plan.symmetry.classes[id.class].modulus == 0 {
+        if self.plan.symmetry.classes[id.class].conservation.is_exact() {
             let family = self.plan.symmetry.classes[id.class].components[0];
             crate::labelling::label_exact_sector(&mut out.levels[first_level..], id.label, family);
         }
@@ -664,7 +664,7 @@ impl Spectrum {
                     .iter()
                     .map(|id| {
                         let c = &plan.symmetry.classes[id.class];
-                        if c.modulus == 0 {
+                        if c.conservation.is_exact() {
                             c.components.len() * branches
                         } else {
                             0
