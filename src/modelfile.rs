@@ -722,26 +722,7 @@ fn resolve_parameters(
         .iter()
         .map(|(k, _)| scope.set(k.get_ref(), f64::NAN))
         .collect();
-    let param_of: BTreeMap<usize, usize> = slots.iter().enumerate().map(|(i, &s)| (s, i)).collect();
-    // deps[i]: the parameters expression i names (a text that does not compile has none: its
-    // evaluation reports the error)
-    let deps: Vec<Vec<usize>> = pending
-        .iter()
-        .map(|(k, v)| {
-            parameter_text(k.get_ref(), v, overrides)
-                .and_then(|(_, t)| crate::expr::Expr::compile(t, &scope).ok())
-                .map(|e| {
-                    let mut d: Vec<usize> = e
-                        .variables()
-                        .iter()
-                        .filter_map(|s| param_of.get(s).copied())
-                        .collect();
-                    d.sort_unstable();
-                    d
-                })
-                .unwrap_or_default()
-        })
-        .collect();
+    let deps = parameter_dependencies(&scope, &slots, pending, overrides);
     let mut users: Vec<Vec<usize>> = vec![Vec::new(); pending.len()];
     let mut missing: Vec<usize> = vec![0; pending.len()];
     for (i, d) in deps.iter().enumerate() {
@@ -794,6 +775,37 @@ fn resolve_parameters(
         }),
         Some(start) => Err(cycle_error(src, pending, &deps, &done, start)),
     }
+}
+
+/// deps[i]: the parameters (indices into `pending`) that parameter i's expression names, from
+/// its compiled form in `scope`, where parameter i sits at `slots[i]` (a text that does not
+/// compile names none: its evaluation reports the error).
+fn parameter_dependencies(
+    scope: &Scope,
+    slots: &[usize],
+    pending: &[(&Spanned<String>, &Spanned<toml::Value>)],
+    overrides: &[(String, String)],
+) -> Vec<Vec<usize>> {
+    let param_of: BTreeMap<usize, usize> = slots.iter().enumerate().map(|(i, &s)| (s, i)).collect();
+    // deps[i]: the parameters expression i names (a text that does not compile has none: its
+    // evaluation reports the error)
+    pending
+        .iter()
+        .map(|(k, v)| {
+            parameter_text(k.get_ref(), v, overrides)
+                .and_then(|(_, t)| crate::expr::Expr::compile(t, scope).ok())
+                .map(|e| {
+                    let mut d: Vec<usize> = e
+                        .variables()
+                        .iter()
+                        .filter_map(|s| param_of.get(s).copied())
+                        .collect();
+                    d.sort_unstable();
+                    d
+                })
+                .unwrap_or_default()
+        })
+        .collect()
 }
 
 /// The error for parameters left over by the ordering: every left-over parameter names a

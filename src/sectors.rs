@@ -316,3 +316,30 @@ impl SectorPlan {
         (steps + 1) * per_j - 1
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn conservation_is_reported_as_the_old_modulus() {
+        // the JSON field keeps its name and integer: 0 exact, 1 none, m for J mod m
+        for (c, m) in [
+            (Conservation::Exact, 0),
+            (Conservation::None, 1),
+            (Conservation::Modulo(3), 3),
+        ] {
+            assert_eq!(Conservation::from_modulus(m), c);
+            let class = ComponentClass {
+                components: vec![0, 1],
+                shifts: vec![0, 1],
+                conservation: c,
+            };
+            let json = serde_json::to_string(&class).unwrap_or_default();
+            assert_eq!(
+                json,
+                format!("{{\"components\":[0,1],\"shifts\":[0,1],\"modulus\":{m}}}")
+            );
+        }
+    }
+}

@@ -109,10 +109,25 @@ const TOKENS: &[&str] = &[
 
 /// Names an expression may refer to (as `--set` / `[parameters]` would see them).
 const NAMES: &[&str] = &[
-    "a", "b", "mass", "n", "s", "B", "kz", "q", "pi", "mu_B", "hbar",
+    "a",
+    "b",
+    "mass",
+    "n",
+    "s",
+    "B",
+    "kz",
+    "q",
+    "pi",
+    "mu_B",
+    "hbar",
+    "c",
+    "e",
+    "hbar2_2me",
+    "metre",
+    "none",
 ];
 const FUNCS: &[&str] = &[
-    "sqrt", "abs", "exp", "ln", "sin", "if", "min", "max", "hbar_v",
+    "sqrt", "abs", "exp", "ln", "sin", "if", "min", "max", "hbar_v", "atan2", "round",
 ];
 
 /// A random expression from the grammar, with occasional junk.

@@ -176,7 +176,7 @@ impl Parser<'_> {
         if self.depth > crate::limits::MAX_EXPRESSION_DEPTH {
             return Err(self.err(&format!(
                 "the expression nests more than {} levels deep (parentheses, signs, powers and \
-                 calls together); simplify it",
+                 calls together); simplify it or split it into parameters",
                 crate::limits::MAX_EXPRESSION_DEPTH
             )));
         }
