@@ -52,3 +52,12 @@ pub const DENSE_MAX_DEFAULT: usize = 3000;
 /// one sector is better served by a full solve, and the cap bounds the memory of the
 /// shift-and-invert vectors.
 pub const WINDOW_MAX_LEVELS: usize = 2000;
+
+/// Distance from the charge-neutrality energy, in line widths, within which a level counts as
+/// sitting at it (half filled) when the filling factor is counted from neutrality
+/// (`crate::observables::filling` and its per-volume twin `crate::observables::volume`).
+///
+/// The zero mode of a Dirac-like model lies exactly at neutrality in exact arithmetic, but
+/// the solver returns it with a rounding error; 1e-9 line widths is far above that rounding
+/// for any sensible width and far below the spacing of distinct levels.
+pub const NEUTRALITY_SNAP_WIDTHS: f64 = 1e-9;
