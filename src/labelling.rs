@@ -152,7 +152,7 @@ pub fn join_kz_families(generic: &LadderHamiltonian, spectrum: &mut Spectrum) {
         .classes
         .iter()
         .map(|c| {
-            (c.modulus == 0).then(|| {
+            c.conservation.is_exact().then(|| {
                 let (gc, gs) = class_of[c.components[0]];
                 (gc, gs - c.shifts[0])
             })
@@ -284,7 +284,10 @@ pub fn continue_labels(
     // the full model's sectors without exact symmetry, each with its levels
     let mut by_sector: BTreeMap<crate::sectors::SectorId, Vec<usize>> = BTreeMap::new();
     for (i, l) in spectrum.levels.iter().enumerate() {
-        if spectrum.symmetry.classes[l.sector.class].modulus != 0 {
+        if !spectrum.symmetry.classes[l.sector.class]
+            .conservation
+            .is_exact()
+        {
             by_sector.entry(l.sector).or_default().push(i);
         }
     }

@@ -15,7 +15,7 @@ use serde::Serialize;
 ///   operator that close, so a converged level is genuine.
 /// * [`Convergence::CutoffArtefact`]: not converged, and weight >= 1/2 on the highest `band`
 ///   orbitals or on the top quarter of the basis
-///   ([`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]): the eigenvector lives where the basis
+///   ([`crate::policy::ARTEFACT_TOP_WEIGHT`]): the eigenvector lives where the basis
 ///   ends and stands for no eigenvalue of the untruncated operator.
 /// * [`Convergence::NotConverged`]: the rest: a genuine level whose deciding bound exceeds the
 ///   tolerance; raise the cutoff.

@@ -37,7 +37,7 @@ use crate::error::{Error, Result};
 use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::levels::{Level, LevelVector};
 use crate::model::{Model, SpectrumForm};
-use crate::sectors::Symmetry;
+use crate::sectors::{Conservation, Symmetry};
 use crate::solve::Splitting;
 
 /// Resident memory of the program before any solve (binary, libraries, thread stacks, the
@@ -95,10 +95,12 @@ impl SolveShape {
             let k = c.components.len() as u64;
             dim += k;
             let spread = c.shifts.iter().copied().max().unwrap_or(0).max(0) as u64;
-            let (size, many) = match c.modulus {
-                0 => (k, n.saturating_add(spread)),
-                1 => (n.saturating_mul(k), 1),
-                m => (n.saturating_add(spread).div_ceil(m).saturating_mul(k), m),
+            let (size, many) = match c.conservation {
+                Conservation::Exact => (k, n.saturating_add(spread)),
+                Conservation::None => (n.saturating_mul(k), 1),
+                Conservation::Modulo(m) => {
+                    (n.saturating_add(spread).div_ceil(m).saturating_mul(k), m)
+                }
             };
             if size > largest {
                 largest = size;
@@ -389,13 +391,13 @@ pub fn check(what: &str, bytes: u64, limit_mib: u64, fix: &str) -> Result<()> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sectors::ComponentClass;
+    use crate::sectors::{ComponentClass, Conservation};
 
     fn class(components: Vec<usize>, shifts: Vec<i64>, modulus: u64) -> ComponentClass {
         ComponentClass {
             components,
             shifts,
-            modulus,
+            conservation: Conservation::from_modulus(modulus),
         }
     }
 

@@ -46,20 +46,22 @@
 use crate::builtin;
 use crate::catalogue;
 use crate::error::{Error, Result};
+use crate::expr::{Front, Scope, FUNCTIONS, KEYWORDS};
 use crate::hamiltonian::FieldPoint;
 use crate::matrix::{self, SpinMatrix};
 use crate::model::{Model, Monomial};
-use crate::units::{Units, ELECTRON_REST_ENERGY_MEV, HBAR2_OVER_2ME_MEV_NM2, HBAR_C_MEV_NM};
+use crate::units::Units;
 use num_complex::Complex64;
 use serde::Deserialize;
 use std::collections::BTreeMap;
 use std::ops::Range;
 use toml::Spanned;
 
-/// Default orbital cutoff when neither the file nor the command line gives one.
-pub const DEFAULT_CUTOFF: usize = 200;
-/// Default memory limit in MiB of a whole command (see [`crate::memory`]).
-pub const DEFAULT_MEMORY_LIMIT_MIB: u64 = 4096;
+/// Evaluate a `--set` value (re-exported from the one expression language, [`crate::expr`]).
+pub use crate::expr::eval_expression;
+
+/// The default cutoff and memory limit (defined in [`crate::policy`]).
+pub use crate::policy::{DEFAULT_CUTOFF, DEFAULT_MEMORY_LIMIT_MIB};
 
 /// Solve defaults a file may carry (`[defaults]` table); command-line flags override them.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -390,7 +392,7 @@ fn from_builtin(
     })?;
     let mut values = BTreeMap::new();
     if let Some(set) = &raw.set {
-        let ctx = ExprContext::new(Units::Lab, BTreeMap::new());
+        let scope = Scope::with_constants(Units::Lab).for_front(Front::ModelFile);
         for (k, v) in set.get_ref() {
             if !info.params.iter().any(|p| p.name == k.get_ref()) {
                 return Err(src.err(
@@ -407,7 +409,7 @@ fn from_builtin(
                     ),
                 ));
             }
-            let x = real_value(src, v, &ctx, &format!("[set] {}", k.get_ref()))?;
+            let x = real_value(src, v, &scope, &format!("[set] {}", k.get_ref()))?;
             values.insert(k.get_ref().clone(), x);
         }
     }
@@ -493,7 +495,6 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
     // parameters: numbers or expressions of other parameters, resolved in dependency order
     let pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
         raw.parameters.iter().flat_map(|p| p.iter()).collect();
-    let mut ctx = ExprContext::new(units, BTreeMap::new());
     for (k, _) in &pending {
         let key = k.get_ref();
         if !is_identifier(key) {
@@ -515,10 +516,10 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
                 ),
             ));
         }
-        if ctx.constant(key).is_some() || FUNCTIONS.contains(&key.as_str()) {
+        if FUNCTIONS.contains(&key.as_str()) || KEYWORDS.contains(&key.as_str()) {
             return Err(src.err(
                 &k.span(),
-                format!("parameter name '{key}' is a built-in constant or function; rename it"),
+                format!("parameter name '{key}' is a built-in function or keyword; rename it"),
             ));
         }
     }
@@ -538,11 +539,12 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
             });
         }
     }
-    resolve_parameters(src, &pending, overrides, &mut ctx)?;
+    let resolved = resolve_parameters(src, units, &pending, overrides)?;
+    let scope = &resolved.scope;
     let charge = match &raw.charge {
         None => -1.0,
         Some(c) => {
-            let q = real_value(src, c, &ctx, "charge")?;
+            let q = real_value(src, c, scope, "charge")?;
             if q == 0.0 {
                 return Err(src.err(
                     &c.span(),
@@ -573,7 +575,7 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
         ));
     }
     let mut b = Model::builder(&name, d).charge(charge).units(units);
-    for (k, v) in &ctx.params {
+    for (k, v) in &resolved.params {
         b = b.param(k, *v);
     }
     if let Some(names) = &raw.component_names {
@@ -600,7 +602,7 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
         b = b.degeneracy(g0 as u32);
     }
     if let Some(r) = &raw.reference_energy {
-        b = b.reference_energy(real_value(src, r, &ctx, "reference_energy")?);
+        b = b.reference_energy(real_value(src, r, scope, "reference_energy")?);
     }
     let terms = raw.term.as_deref().unwrap_or(&[]);
     if terms.is_empty() {
@@ -618,10 +620,10 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
         let coef = complex_value(
             src,
             &tr.coefficient,
-            &ctx,
+            scope,
             &format!("coefficient of {label}"),
         )?;
-        let m = matrix_value(src, &tr.matrix, &ctx, &label)?;
+        let m = matrix_value(src, &tr.matrix, scope, &label)?;
         if m.nrows() != d {
             return Err(src.err(
                 &tr.matrix.span(),
@@ -675,49 +677,52 @@ fn from_terms(src: &Source, raw: &RawFile, overrides: &[(String, String)]) -> Re
     })
 }
 
-/// Evaluate the `[parameters]` (with `--set` overrides) in dependency order into `ctx.params`.
+/// The `[parameters]` of a file, evaluated.
+struct Resolved {
+    /// The constants of the file's unit system with every parameter set (a parameter shadows
+    /// a constant of the same name).
+    scope: Scope,
+    /// The parameters by name.
+    params: BTreeMap<String, f64>,
+    /// Expressions evaluated (each parameter at most once, in dependency order; read by the
+    /// tests).
+    #[cfg_attr(not(test), allow(dead_code))]
+    evaluations: usize,
+}
+
+/// The text of parameter `k`: its `--set` override (with the override's name) or its string.
+fn parameter_text<'a>(
+    k: &str,
+    v: &'a Spanned<toml::Value>,
+    overrides: &'a [(String, String)],
+) -> Option<(Option<&'a str>, &'a str)> {
+    match overrides.iter().find(|(o, _)| o == k) {
+        Some((o, e)) => Some((Some(o.as_str()), e.as_str())),
+        None => match v.get_ref() {
+            toml::Value::String(e) => Some((None, e.as_str())),
+            _ => None,
+        },
+    }
+}
+
+/// Evaluate the `[parameters]` (with `--set` overrides) in dependency order.
 ///
-/// The names each expression refers to give a dependency graph; Kahn's algorithm orders it
-/// (linear in the number of parameters and references) and what is left over lies on or
-/// behind a cycle, which is reported by walking the left-over references until a name repeats.
+/// Every parameter name is in the scope from the start, so each expression compiles once to
+/// find the parameters it names; these give a dependency graph, which Kahn's algorithm orders
+/// (linear in the number of parameters and references). What is left over lies on or behind
+/// a cycle, which is reported by walking the left-over references until a name repeats.
 fn resolve_parameters(
     src: &Source,
+    units: Units,
     pending: &[(&Spanned<String>, &Spanned<toml::Value>)],
     overrides: &[(String, String)],
-    ctx: &mut ExprContext,
-) -> Result<()> {
-    let index: BTreeMap<&str, usize> = pending
+) -> Result<Resolved> {
+    let mut scope = Scope::with_constants(units).for_front(Front::ModelFile);
+    let slots: Vec<usize> = pending
         .iter()
-        .enumerate()
-        .map(|(i, (k, _))| (k.get_ref().as_str(), i))
+        .map(|(k, _)| scope.set(k.get_ref(), f64::NAN))
         .collect();
-    let override_of = |name: &str| overrides.iter().find(|(o, _)| o == name);
-    // deps[i]: the parameters expression i names (a text that does not tokenize has none:
-    // its evaluation reports the syntax error)
-    let deps: Vec<Vec<usize>> = pending
-        .iter()
-        .map(|(k, v)| {
-            let text = match override_of(k.get_ref()) {
-                Some((_, e)) => Some(e.as_str()),
-                None => match v.get_ref() {
-                    toml::Value::String(e) => Some(e.as_str()),
-                    _ => None,
-                },
-            };
-            let mut d: Vec<usize> = text
-                .and_then(|t| tokenize(t).ok())
-                .into_iter()
-                .flatten()
-                .filter_map(|t| match t {
-                    Tok::Ident(n) => index.get(n.as_str()).copied(),
-                    _ => None,
-                })
-                .collect();
-            d.sort_unstable();
-            d.dedup();
-            d
-        })
-        .collect();
+    let deps = parameter_dependencies(&scope, &slots, pending, overrides);
     let mut users: Vec<Vec<usize>> = vec![Vec::new(); pending.len()];
     let mut missing: Vec<usize> = vec![0; pending.len()];
     for (i, d) in deps.iter().enumerate() {
@@ -728,14 +733,20 @@ fn resolve_parameters(
     }
     let mut ready: Vec<usize> = (0..pending.len()).filter(|&i| missing[i] == 0).collect();
     let mut done = vec![false; pending.len()];
+    let mut params = BTreeMap::new();
+    let mut evaluations = 0;
     while let Some(i) = ready.pop() {
         let (k, v) = pending[i];
-        let value = match override_of(k.get_ref()) {
-            Some((o, expr)) => ctx.eval(expr).map_err(|m| Error::Parse {
-                location: format!("--set {o}"),
-                message: format!("in \"{}\": {m}", crate::limits::excerpt(expr)),
-            }),
-            None => real_value(src, v, ctx, &format!("parameter {}", k.get_ref())),
+        let text = parameter_text(k.get_ref(), v, overrides);
+        evaluations += usize::from(text.is_some());
+        let value = match text {
+            Some((Some(o), expr)) => {
+                crate::expr::evaluate(expr, &scope).map_err(|m| Error::Parse {
+                    location: format!("--set {o}"),
+                    message: format!("in \"{}\": {m}", crate::limits::excerpt(expr)),
+                })
+            }
+            _ => real_value(src, v, &scope, &format!("parameter {}", k.get_ref())),
         }?;
         if !value.is_finite() {
             return Err(Error::Parse {
@@ -746,7 +757,8 @@ fn resolve_parameters(
                 ),
             });
         }
-        ctx.params.insert(k.get_ref().clone(), value);
+        scope.set_at(slots[i], value);
+        params.insert(k.get_ref().clone(), value);
         done[i] = true;
         for &u in &users[i] {
             missing[u] -= 1;
@@ -755,10 +767,57 @@ fn resolve_parameters(
             }
         }
     }
-    let Some(start) = (0..pending.len()).find(|&i| !done[i]) else {
-        return Ok(());
-    };
-    // every left-over parameter names a left-over parameter: walk until a name repeats
+    match (0..pending.len()).find(|&i| !done[i]) {
+        None => Ok(Resolved {
+            scope,
+            params,
+            evaluations,
+        }),
+        Some(start) => Err(cycle_error(src, pending, &deps, &done, start)),
+    }
+}
+
+/// deps[i]: the parameters (indices into `pending`) that parameter i's expression names, from
+/// its compiled form in `scope`, where parameter i sits at `slots[i]` (a text that does not
+/// compile names none: its evaluation reports the error).
+fn parameter_dependencies(
+    scope: &Scope,
+    slots: &[usize],
+    pending: &[(&Spanned<String>, &Spanned<toml::Value>)],
+    overrides: &[(String, String)],
+) -> Vec<Vec<usize>> {
+    let param_of: BTreeMap<usize, usize> = slots.iter().enumerate().map(|(i, &s)| (s, i)).collect();
+    // deps[i]: the parameters expression i names (a text that does not compile has none: its
+    // evaluation reports the error)
+    pending
+        .iter()
+        .map(|(k, v)| {
+            parameter_text(k.get_ref(), v, overrides)
+                .and_then(|(_, t)| crate::expr::Expr::compile(t, scope).ok())
+                .map(|e| {
+                    let mut d: Vec<usize> = e
+                        .variables()
+                        .iter()
+                        .filter_map(|s| param_of.get(s).copied())
+                        .collect();
+                    d.sort_unstable();
+                    d
+                })
+                .unwrap_or_default()
+        })
+        .collect()
+}
+
+/// The error for parameters left over by the ordering: every left-over parameter names a
+/// left-over parameter, so walking from `start` repeats a name; the repeated stretch is the
+/// cycle.
+fn cycle_error(
+    src: &Source,
+    pending: &[(&Spanned<String>, &Spanned<toml::Value>)],
+    deps: &[Vec<usize>],
+    done: &[bool],
+    start: usize,
+) -> Error {
     let mut seen = vec![usize::MAX; pending.len()];
     let mut path = Vec::new();
     let mut at = start;
@@ -772,13 +831,13 @@ fn resolve_parameters(
         .iter()
         .map(|&i| pending[i].0.get_ref().as_str())
         .collect();
-    Err(src.err(
+    src.err(
         &pending[cycle[0]].0.span(),
         format!(
             "parameters {} refer to each other in a cycle; give one of them a number",
             names.join(", ")
         ),
-    ))
+    )
 }
 
 fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefaults> {
@@ -787,9 +846,12 @@ fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefau
         return Ok(out);
     };
     let d = d.get_ref();
-    let ctx = ExprContext::new(model.units(), model.params().clone());
+    let mut scope = Scope::with_constants(model.units()).for_front(Front::ModelFile);
+    for (k, &v) in model.params() {
+        scope.set(k, v);
+    }
     if let Some(f) = &d.field {
-        let b = real_value(src, f, &ctx, "[defaults] field")?;
+        let b = real_value(src, f, &scope, "[defaults] field")?;
         if b == 0.0 {
             return Err(src.err(
                 &f.span(),
@@ -799,7 +861,7 @@ fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefau
         out.field = Some(b);
     }
     if let Some(k) = &d.kz {
-        out.kz = Some(real_value(src, k, &ctx, "[defaults] kz")?);
+        out.kz = Some(real_value(src, k, &scope, "[defaults] kz")?);
     }
     if let Some(m) = &d.memory_limit_mib {
         let v = *m.get_ref();
@@ -901,13 +963,8 @@ fn is_identifier(s: &str) -> bool {
         && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
 }
 
-fn real_value(
-    src: &Source,
-    v: &Spanned<toml::Value>,
-    ctx: &ExprContext,
-    what: &str,
-) -> Result<f64> {
-    let x = scalar(src, v.get_ref(), &v.span(), ctx, what)?;
+fn real_value(src: &Source, v: &Spanned<toml::Value>, scope: &Scope, what: &str) -> Result<f64> {
+    let x = scalar(src, v.get_ref(), &v.span(), scope, what)?;
     Ok(x)
 }
 
@@ -915,13 +972,13 @@ fn scalar(
     src: &Source,
     v: &toml::Value,
     span: &Range<usize>,
-    ctx: &ExprContext,
+    scope: &Scope,
     what: &str,
 ) -> Result<f64> {
     let x = match v {
         toml::Value::Integer(i) => *i as f64,
         toml::Value::Float(f) => *f,
-        toml::Value::String(s) => ctx.eval(s).map_err(|m| {
+        toml::Value::String(s) => crate::expr::evaluate(s, scope).map_err(|m| {
             src.err(
                 span,
                 format!("{what}: in \"{}\": {m}", crate::limits::excerpt(s)),
@@ -950,7 +1007,7 @@ fn complex_scalar(
     src: &Source,
     v: &toml::Value,
     span: &Range<usize>,
-    ctx: &ExprContext,
+    scope: &Scope,
     what: &str,
 ) -> Result<Complex64> {
     match v {
@@ -965,27 +1022,27 @@ fn complex_scalar(
                 ));
             }
             Ok(Complex64::new(
-                scalar(src, &a[0], span, ctx, what)?,
-                scalar(src, &a[1], span, ctx, what)?,
+                scalar(src, &a[0], span, scope, what)?,
+                scalar(src, &a[1], span, scope, what)?,
             ))
         }
-        _ => Ok(Complex64::new(scalar(src, v, span, ctx, what)?, 0.0)),
+        _ => Ok(Complex64::new(scalar(src, v, span, scope, what)?, 0.0)),
     }
 }
 
 fn complex_value(
     src: &Source,
     v: &Spanned<toml::Value>,
-    ctx: &ExprContext,
+    scope: &Scope,
     what: &str,
 ) -> Result<Complex64> {
-    complex_scalar(src, v.get_ref(), &v.span(), ctx, what)
+    complex_scalar(src, v.get_ref(), &v.span(), scope, what)
 }
 
 fn matrix_value(
     src: &Source,
     v: &Spanned<toml::Value>,
-    ctx: &ExprContext,
+    scope: &Scope,
     label: &str,
 ) -> Result<SpinMatrix> {
     let span = v.span();
@@ -1012,7 +1069,7 @@ fn matrix_value(
                         src,
                         e,
                         &span,
-                        ctx,
+                        scope,
                         &format!("matrix of {label}, entry ({}, {})", r + 1, c + 1),
                     )?);
                 }
@@ -1101,295 +1158,6 @@ pub fn parse_monomial(s: &str) -> std::result::Result<Monomial, String> {
         ));
     }
     Ok(m)
-}
-
-/// Functions an expression may call.
-pub const FUNCTIONS: [&str; 8] = ["sqrt", "abs", "exp", "ln", "sin", "cos", "tan", "hbar_v"];
-
-/// Names, values and meanings of the constants available in expressions, for `units`.
-///
-/// `mu_B` is the Bohr magneton (meV/T, or 1/2 in natural units), `hbar2_2me` is
-/// hbar^2/(2 m_e) (meV nm^2, or 1/2), `hbar_c` is hbar c (meV nm, or 1), `me_c2` is the
-/// electron rest energy (meV, or 1); all from CODATA 2018 via [`crate::units`].
-pub fn constants(units: Units) -> [(&'static str, f64, &'static str); 5] {
-    let lab = units == Units::Lab;
-    [
-        ("pi", std::f64::consts::PI, "pi"),
-        (
-            "mu_B",
-            builtin::bohr_magneton(units),
-            "Bohr magneton (energy per field unit)",
-        ),
-        (
-            "hbar2_2me",
-            if lab { HBAR2_OVER_2ME_MEV_NM2 } else { 0.5 },
-            "hbar^2/(2 m_e) (energy x length^2)",
-        ),
-        (
-            "hbar_c",
-            if lab { HBAR_C_MEV_NM } else { 1.0 },
-            "hbar c (energy x length)",
-        ),
-        (
-            "me_c2",
-            if lab { ELECTRON_REST_ENERGY_MEV } else { 1.0 },
-            "electron rest energy",
-        ),
-    ]
-}
-
-struct ExprContext {
-    units: Units,
-    params: BTreeMap<String, f64>,
-    /// Expressions evaluated so far (each parameter is evaluated once, in dependency order).
-    evaluations: std::cell::Cell<usize>,
-}
-
-impl ExprContext {
-    fn new(units: Units, params: BTreeMap<String, f64>) -> Self {
-        ExprContext {
-            units,
-            params,
-            evaluations: std::cell::Cell::new(0),
-        }
-    }
-    fn constant(&self, name: &str) -> Option<f64> {
-        constants(self.units)
-            .iter()
-            .find(|c| c.0 == name)
-            .map(|c| c.1)
-    }
-    fn lookup(&self, name: &str) -> Option<f64> {
-        self.params
-            .get(name)
-            .copied()
-            .or_else(|| self.constant(name))
-    }
-    fn call(&self, f: &str, x: f64) -> std::result::Result<f64, String> {
-        Ok(match f {
-            "sqrt" => x.sqrt(),
-            "abs" => x.abs(),
-            "exp" => x.exp(),
-            "ln" => x.ln(),
-            "sin" => x.sin(),
-            "cos" => x.cos(),
-            "tan" => x.tan(),
-            "hbar_v" => match self.units {
-                Units::Lab => crate::units::hbar_v_mev_nm(x),
-                Units::Natural => x / crate::units::SPEED_OF_LIGHT,
-            },
-            _ => {
-                return Err(format!(
-                    "unknown function '{}'; available: {}",
-                    crate::limits::excerpt(f),
-                    FUNCTIONS.join(", ")
-                ))
-            }
-        })
-    }
-    fn eval(&self, s: &str) -> std::result::Result<f64, String> {
-        self.evaluations.set(self.evaluations.get() + 1);
-        if s.len() > crate::limits::MAX_EXPRESSION_LEN {
-            return Err(format!(
-                "the expression is {} bytes long, more than the limit of {}; split it into \
-                 parameters",
-                s.len(),
-                crate::limits::MAX_EXPRESSION_LEN
-            ));
-        }
-        let toks = tokenize(s)?;
-        let mut p = ExprParser {
-            toks: &toks,
-            pos: 0,
-            depth: 0,
-            ctx: self,
-        };
-        let v = p.expr()?;
-        if p.pos != toks.len() {
-            return Err(format!("unexpected '{}'", toks[p.pos].text()));
-        }
-        Ok(v)
-    }
-}
-
-#[derive(Debug, Clone, PartialEq)]
-enum Tok {
-    Num(f64),
-    Ident(String),
-    Op(char),
-}
-
-impl Tok {
-    fn text(&self) -> String {
-        match self {
-            Tok::Num(x) => x.to_string(),
-            Tok::Ident(s) => crate::limits::excerpt(s),
-            Tok::Op(c) => c.to_string(),
-        }
-    }
-}
-
-fn tokenize(s: &str) -> std::result::Result<Vec<Tok>, String> {
-    let chars: Vec<char> = s.chars().collect();
-    let mut out = Vec::new();
-    let mut i = 0;
-    while i < chars.len() {
-        let c = chars[i];
-        if c.is_whitespace() {
-            i += 1;
-        } else if c.is_ascii_digit() || c == '.' {
-            let start = i;
-            while i < chars.len() && (chars[i].is_ascii_digit() || chars[i] == '.') {
-                i += 1;
-            }
-            if i < chars.len() && (chars[i] == 'e' || chars[i] == 'E') {
-                let mut j = i + 1;
-                if j < chars.len() && (chars[j] == '+' || chars[j] == '-') {
-                    j += 1;
-                }
-                if j < chars.len() && chars[j].is_ascii_digit() {
-                    i = j;
-                    while i < chars.len() && chars[i].is_ascii_digit() {
-                        i += 1;
-                    }
-                }
-            }
-            let text: String = chars[start..i].iter().collect();
-            let v = text
-                .parse::<f64>()
-                .map_err(|_| format!("'{}' is not a number", crate::limits::excerpt(&text)))?;
-            out.push(Tok::Num(v));
-        } else if c.is_ascii_alphabetic() || c == '_' {
-            let start = i;
-            while i < chars.len() && (chars[i].is_ascii_alphanumeric() || chars[i] == '_') {
-                i += 1;
-            }
-            out.push(Tok::Ident(chars[start..i].iter().collect()));
-        } else if "+-*/^()".contains(c) {
-            out.push(Tok::Op(c));
-            i += 1;
-        } else {
-            return Err(format!(
-                "unexpected character '{c}'; expressions use numbers, parameter names, + - * / ^ and ()"
-            ));
-        }
-    }
-    if out.is_empty() {
-        return Err("empty expression; give a number or a parameter name".into());
-    }
-    Ok(out)
-}
-
-struct ExprParser<'a> {
-    toks: &'a [Tok],
-    pos: usize,
-    /// Current nesting (parentheses, signs, powers, calls), bounded by
-    /// [`crate::limits::MAX_EXPRESSION_DEPTH`].
-    depth: usize,
-    ctx: &'a ExprContext,
-}
-
-impl ExprParser<'_> {
-    fn peek(&self) -> Option<&Tok> {
-        self.toks.get(self.pos)
-    }
-    fn eat(&mut self, c: char) -> bool {
-        if self.peek() == Some(&Tok::Op(c)) {
-            self.pos += 1;
-            true
-        } else {
-            false
-        }
-    }
-    fn expr(&mut self) -> std::result::Result<f64, String> {
-        let mut v = self.product()?;
-        loop {
-            if self.eat('+') {
-                v += self.product()?;
-            } else if self.eat('-') {
-                v -= self.product()?;
-            } else {
-                return Ok(v);
-            }
-        }
-    }
-    fn product(&mut self) -> std::result::Result<f64, String> {
-        let mut v = self.unary()?;
-        loop {
-            if self.eat('*') {
-                v *= self.unary()?;
-            } else if self.eat('/') {
-                v /= self.unary()?;
-            } else {
-                return Ok(v);
-            }
-        }
-    }
-    /// Every recursion of the parser passes through here, so this is where the depth is counted.
-    fn unary(&mut self) -> std::result::Result<f64, String> {
-        self.depth += 1;
-        if self.depth > crate::limits::MAX_EXPRESSION_DEPTH {
-            return Err(format!(
-                "the expression nests more than {} levels deep (parentheses, signs, powers and \
-                 calls together); simplify it or split it into parameters",
-                crate::limits::MAX_EXPRESSION_DEPTH
-            ));
-        }
-        let v = self.unary_inner();
-        self.depth -= 1;
-        v
-    }
-    fn unary_inner(&mut self) -> std::result::Result<f64, String> {
-        if self.eat('-') {
-            return Ok(-self.unary()?);
-        }
-        if self.eat('+') {
-            return self.unary();
-        }
-        let base = self.atom()?;
-        if self.eat('^') {
-            let e = self.unary()?;
-            return Ok(base.powf(e));
-        }
-        Ok(base)
-    }
-    fn atom(&mut self) -> std::result::Result<f64, String> {
-        match self.peek().cloned() {
-            Some(Tok::Num(x)) => {
-                self.pos += 1;
-                Ok(x)
-            }
-            Some(Tok::Ident(name)) => {
-                self.pos += 1;
-                if self.eat('(') {
-                    let x = self.expr()?;
-                    if !self.eat(')') {
-                        return Err(format!("missing ')' after the argument of {name}("));
-                    }
-                    return self.ctx.call(&name, x);
-                }
-                self.ctx.lookup(&name).ok_or_else(|| {
-                    let mut known: Vec<String> = self.ctx.params.keys().cloned().collect();
-                    known.extend(constants(self.ctx.units).iter().map(|c| c.0.to_string()));
-                    format!(
-                        "unknown name '{}'; define it in [parameters] or use one of: {}",
-                        crate::limits::excerpt(&name),
-                        known.join(", ")
-                    )
-                })
-            }
-            Some(Tok::Op('(')) => {
-                self.pos += 1;
-                let x = self.expr()?;
-                if !self.eat(')') {
-                    return Err("missing ')'".into());
-                }
-                Ok(x)
-            }
-            Some(t) => Err(format!("unexpected '{}'", t.text())),
-            None => Err("expression ends too early".into()),
-        }
-    }
 }
 
 /// One parameter of a built-in model, as a model file's `[set]` table and `--set` name it.
@@ -1784,42 +1552,6 @@ pub fn build_builtin(name: &str, values: &BTreeMap<String, f64>) -> Result<Model
     (info.build)(values)
 }
 
-/// Evaluate a numeric expression with the constants of `units` and the given parameters
-/// (used by `--set key=EXPR`).
-///
-/// # Errors
-/// [`Error::Parse`] at `location` naming the unknown name or syntax problem.
-///
-/// # Examples
-/// ```
-/// use ladderfan::units::Units;
-/// let x = ladderfan::modelfile::eval_expression("2 * mu_B", Units::Natural, &Default::default(), "x")?;
-/// assert!((x - 1.0).abs() < 1e-15);
-/// # Ok::<(), ladderfan::Error>(())
-/// ```
-pub fn eval_expression(
-    expr: &str,
-    units: Units,
-    params: &BTreeMap<String, f64>,
-    location: &str,
-) -> Result<f64> {
-    let ctx = ExprContext::new(units, params.clone());
-    let x = ctx.eval(expr).map_err(|m| Error::Parse {
-        location: location.into(),
-        message: format!("in \"{}\": {m}", crate::limits::excerpt(expr)),
-    })?;
-    if !x.is_finite() {
-        return Err(Error::Parse {
-            location: location.into(),
-            message: format!(
-                "\"{}\" is {x}, not a finite number; give a finite value",
-                crate::limits::excerpt(expr)
-            ),
-        });
-    }
-    Ok(x)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1924,14 +1656,14 @@ mod tests {
         let raw: RawFile = toml::from_str(&text).unwrap_or_else(|e| panic!("{e}"));
         let pending: Vec<(&Spanned<String>, &Spanned<toml::Value>)> =
             raw.parameters.iter().flat_map(|p| p.iter()).collect();
-        let mut ctx = ExprContext::new(Units::Lab, BTreeMap::new());
         let src = Source {
             name: "t.toml",
             text: &text,
         };
-        resolve_parameters(&src, &pending, &[], &mut ctx).unwrap_or_else(|e| panic!("{e}"));
+        let resolved =
+            resolve_parameters(&src, Units::Lab, &pending, &[]).unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(
-            ctx.evaluations.get(),
+            resolved.evaluations,
             n - 1,
             "one evaluation per expression parameter"
         );
@@ -1945,18 +1677,6 @@ mod tests {
             m.contains("parameters y, z refer to each other in a cycle"),
             "{m}"
         );
-    }
-
-    #[test]
-    fn expressions_follow_precedence() {
-        let ctx = ExprContext::new(Units::Lab, BTreeMap::from([("a".to_string(), 3.0)]));
-        assert_eq!(ctx.eval("1 + 2 * a ^ 2").ok(), Some(19.0));
-        assert_eq!(ctx.eval("-a^2").ok(), Some(-9.0));
-        assert_eq!(ctx.eval("1/2").ok(), Some(0.5));
-        assert_eq!(ctx.eval("(1 + a) / 2e1").ok(), Some(0.2));
-        assert_eq!(ctx.eval("sqrt(4 * a * a)").ok(), Some(6.0));
-        assert!(ctx.eval("b").is_err());
-        assert!(ctx.eval("1 +").is_err());
     }
 
     #[test]

@@ -12,10 +12,58 @@
 //! # Algorithm
 //! Spanning tree over the component coupling graph fixes s (breadth first); every coupling then
 //! leaves a discrepancy delta = Delta - (s_beta - s_alpha), and the modulus of a class is the gcd of
-//! its discrepancies: 0 means exact conservation, 1 means no symmetry. Cost O(d^2 ops).
+//! its discrepancies: 0 means exact conservation ([`Conservation::Exact`]), 1 means no
+//! symmetry ([`Conservation::None`]), m > 1 means J mod m ([`Conservation::Modulo`]).
+//! Cost O(d^2 ops).
 
 use crate::hamiltonian::LadderHamiltonian;
-use serde::Serialize;
+use serde::{Serialize, Serializer};
+
+/// What a component class conserves.
+///
+/// Reported (JSON, CSV) as its modulus, the gcd of the discrepancies of the module docs:
+/// 0 for [`Conservation::Exact`], 1 for [`Conservation::None`], m for
+/// [`Conservation::Modulo`]`(m)`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Conservation {
+    /// J = n + s_alpha is exactly conserved: sectors of at most one state per component.
+    Exact,
+    /// Only J mod m is conserved (m > 1): m sectors.
+    Modulo(u64),
+    /// Nothing is conserved: one sector holding the whole class.
+    None,
+}
+
+impl Conservation {
+    /// From the gcd of the discrepancies: 0 exact, 1 none, m > 1 modulo m.
+    pub fn from_modulus(m: u64) -> Self {
+        match m {
+            0 => Conservation::Exact,
+            1 => Conservation::None,
+            m => Conservation::Modulo(m),
+        }
+    }
+
+    /// The modulus as reported: 0 exact, 1 none, m for modulo m.
+    pub fn modulus(self) -> u64 {
+        match self {
+            Conservation::Exact => 0,
+            Conservation::None => 1,
+            Conservation::Modulo(m) => m,
+        }
+    }
+
+    /// Whether J = n + s_alpha is exactly conserved.
+    pub fn is_exact(self) -> bool {
+        self == Conservation::Exact
+    }
+}
+
+impl Serialize for Conservation {
+    fn serialize<S: Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.serialize_u64(self.modulus())
+    }
+}
 
 /// Component classes that never couple to each other, each with its conserved quantity.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -24,8 +72,9 @@ pub struct ComponentClass {
     pub components: Vec<usize>,
     /// Shift s_alpha of each component in `components` (same order), minimum 0.
     pub shifts: Vec<i64>,
-    /// 0: J = n + s exactly conserved; 1: no conserved quantity; m > 1: J mod m conserved.
-    pub modulus: u64,
+    /// What the class conserves (reported as `modulus`: 0 exact, 1 none, m for J mod m).
+    #[serde(rename = "modulus")]
+    pub conservation: Conservation,
 }
 
 /// The conserved quantity found, as reported with the results.
@@ -105,7 +154,7 @@ impl Symmetry {
             out.push(ComponentClass {
                 components: comps,
                 shifts,
-                modulus: g,
+                conservation: Conservation::from_modulus(g),
             });
         }
         Symmetry { classes: out }
@@ -118,14 +167,14 @@ impl Symmetry {
             classes: vec![ComponentClass {
                 components: (0..dim).collect(),
                 shifts: vec![0; dim],
-                modulus: 1,
+                conservation: Conservation::None,
             }],
         }
     }
 
     /// Whether every class conserves J exactly (sectors of size <= d).
     pub fn is_exact(&self) -> bool {
-        self.classes.iter().all(|c| c.modulus == 0)
+        self.classes.iter().all(|c| c.conservation.is_exact())
     }
 
     /// Human-readable summary for reports, e.g.
@@ -141,13 +190,13 @@ impl Symmetry {
                     .map(|x| x.to_string())
                     .collect::<Vec<_>>()
                     .join(",");
-                match c.modulus {
-                    0 => format!(
+                match c.conservation {
+                    Conservation::Exact => format!(
                         "components {{{comps}}}: J = n + s conserved, s = {:?}",
                         c.shifts
                     ),
-                    1 => format!("components {{{comps}}}: no conserved quantity"),
-                    m => format!(
+                    Conservation::None => format!("components {{{comps}}}: no conserved quantity"),
+                    Conservation::Modulo(m) => format!(
                         "components {{{comps}}}: J mod {m} conserved, s = {:?}",
                         c.shifts
                     ),
@@ -194,8 +243,8 @@ impl SectorPlan {
     pub fn sectors(&self) -> Vec<SectorId> {
         let mut out = Vec::new();
         for (ci, c) in self.symmetry.classes.iter().enumerate() {
-            match c.modulus {
-                0 => {
+            match c.conservation {
+                Conservation::Exact => {
                     let max_s = c.shifts.iter().copied().max().unwrap_or(0);
                     for j in 0..(self.cutoff as i64 + max_s) {
                         out.push(SectorId {
@@ -204,11 +253,11 @@ impl SectorPlan {
                         });
                     }
                 }
-                1 => out.push(SectorId {
+                Conservation::None => out.push(SectorId {
                     class: ci,
                     label: 0,
                 }),
-                m => {
+                Conservation::Modulo(m) => {
                     for r in 0..m as i64 {
                         out.push(SectorId {
                             class: ci,
@@ -226,8 +275,8 @@ impl SectorPlan {
         out.clear();
         let c = &self.symmetry.classes[id.class];
         let n_max = self.cutoff as i64;
-        match c.modulus {
-            0 => {
+        match c.conservation {
+            Conservation::Exact => {
                 for (i, &a) in c.components.iter().enumerate() {
                     let n = id.label - c.shifts[i];
                     if (0..n_max).contains(&n) {
@@ -235,8 +284,8 @@ impl SectorPlan {
                     }
                 }
             }
-            m => {
-                let m = m as i64;
+            other => {
+                let m = other.modulus() as i64;
                 let max_s = c.shifts.iter().copied().max().unwrap_or(0);
                 for j in 0..(n_max + max_s) {
                     if m > 1 && j.rem_euclid(m) != id.label {
@@ -259,11 +308,38 @@ impl SectorPlan {
         let c = &self.symmetry.classes[id.class];
         let spread = c.shifts.iter().copied().max().unwrap_or(0) as usize;
         let per_j = c.components.len();
-        let steps = match c.modulus {
-            0 => 0,
-            1 => band + spread,
-            m => (band + spread).div_ceil(m as usize),
+        let steps = match c.conservation {
+            Conservation::Exact => 0,
+            Conservation::None => band + spread,
+            Conservation::Modulo(m) => (band + spread).div_ceil(m as usize),
         };
         (steps + 1) * per_j - 1
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn conservation_is_reported_as_the_old_modulus() {
+        // the JSON field keeps its name and integer: 0 exact, 1 none, m for J mod m
+        for (c, m) in [
+            (Conservation::Exact, 0),
+            (Conservation::None, 1),
+            (Conservation::Modulo(3), 3),
+        ] {
+            assert_eq!(Conservation::from_modulus(m), c);
+            let class = ComponentClass {
+                components: vec![0, 1],
+                shifts: vec![0, 1],
+                conservation: c,
+            };
+            let json = serde_json::to_string(&class).unwrap_or_default();
+            assert_eq!(
+                json,
+                format!("{{\"components\":[0,1],\"shifts\":[0,1],\"modulus\":{m}}}")
+            );
+        }
     }
 }

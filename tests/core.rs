@@ -8,6 +8,7 @@ use ladderfan::builtin::{
     self, Dirac2dParams, MassParams, PauliParams, RelativisticParams, WeylParams,
 };
 use ladderfan::matrix::{identity, pauli};
+use ladderfan::sectors::Conservation;
 use ladderfan::units::{ELECTRON_CRITICAL_FIELD_T, ELECTRON_REST_ENERGY_MEV};
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum};
 
@@ -91,8 +92,8 @@ fn warping_term_is_detected_as_j_mod_3_and_its_sectors_reproduce_the_dense_spect
     let s = Spectrum::compute(&m, p, &Settings::with_cutoff(30)).unwrap();
     assert_eq!(s.symmetry.classes.len(), 1);
     assert_eq!(
-        s.symmetry.classes[0].modulus,
-        3,
+        s.symmetry.classes[0].conservation,
+        Conservation::Modulo(3),
         "{}",
         s.symmetry.describe()
     );

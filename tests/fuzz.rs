@@ -11,9 +11,9 @@
 //! `LADDERFAN_FUZZ_CASES=N` and `LADDERFAN_FUZZ_SEED=S` change count and seed). Both print
 //! how many inputs parsed, were refused, and were solved.
 
+use ladderfan::expr::{Expr, Scope};
 use ladderfan::modelfile;
 use ladderfan::units::Units;
-use ladderfan::verify::expr::{Expr, Scope};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use std::collections::BTreeMap;
 use std::panic::{catch_unwind, AssertUnwindSafe};
@@ -109,10 +109,25 @@ const TOKENS: &[&str] = &[
 
 /// Names an expression may refer to (as `--set` / `[parameters]` would see them).
 const NAMES: &[&str] = &[
-    "a", "b", "mass", "n", "s", "B", "kz", "q", "pi", "mu_B", "hbar",
+    "a",
+    "b",
+    "mass",
+    "n",
+    "s",
+    "B",
+    "kz",
+    "q",
+    "pi",
+    "mu_B",
+    "hbar",
+    "c",
+    "e",
+    "hbar2_2me",
+    "metre",
+    "none",
 ];
 const FUNCS: &[&str] = &[
-    "sqrt", "abs", "exp", "ln", "sin", "if", "min", "max", "hbar_v",
+    "sqrt", "abs", "exp", "ln", "sin", "if", "min", "max", "hbar_v", "atan2", "round",
 ];
 
 /// A random expression from the grammar, with occasional junk.

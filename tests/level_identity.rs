@@ -7,7 +7,7 @@ use common::warped;
 use ladderfan::hamiltonian::{LadderHamiltonian, CANCELLATION_ULPS};
 use ladderfan::levels::{BoundKind, Convergence};
 use ladderfan::matrix::{pauli, SpinMatrix};
-use ladderfan::sectors::Symmetry;
+use ladderfan::sectors::{Conservation, Symmetry};
 use ladderfan::trust::converge::{
     auto, study, AutoSettings, ExactValues, NeededCutoff, ReferenceKind, Selection,
 };
@@ -32,7 +32,7 @@ impl Stream {
 /// linear two-band model leaves (Fu, Phys. Rev. Lett. 103, 266801 (2009): the hexagonal
 /// warping term is proportional to k+^3 + k-^3; from memory).
 fn is_j_mod_3(sym: &Symmetry) -> bool {
-    sym.classes.len() == 1 && sym.classes[0].modulus == 3
+    sym.classes.len() == 1 && sym.classes[0].conservation == Conservation::Modulo(3)
 }
 
 /// Invented parameters (meV, nm): a two-band Dirac cone (hbar v = 330 meV nm) with a cubic

@@ -77,7 +77,7 @@ pub struct ConvergeArgs {
     pub memory_limit_mib: Option<u64>,
     /// Relative tolerance: a level is converged when its bound is at most
     /// tolerance x max(|E|, typical Landau spacing).
-    #[arg(long, default_value_t = 1e-9)]
+    #[arg(long, default_value_t = ladderfan::policy::DEFAULT_TOLERANCE)]
     pub tolerance: f64,
     /// Energy window LO,HI relative to the reference energy (model's energy unit); replaces
     /// --count/--target.

@@ -7,7 +7,7 @@ use super::common::{
 };
 use clap::Args;
 use ladderfan::hamiltonian::LadderHamiltonian;
-use ladderfan::sectors::{SectorId, SectorPlan, Symmetry};
+use ladderfan::sectors::{Conservation, SectorId, SectorPlan, Symmetry};
 use num_complex::Complex64;
 use serde::Serialize;
 use std::path::PathBuf;
@@ -220,10 +220,12 @@ fn sector_exists(plan: &SectorPlan, id: SectorId) -> bool {
         return false;
     };
     let max_s = c.shifts.iter().copied().max().unwrap_or(0);
-    match c.modulus {
-        0 => id.label >= 0 && (id.label as i128) < plan.cutoff as i128 + max_s as i128,
-        1 => id.label == 0,
-        m => id.label >= 0 && (id.label as u64) < m,
+    match c.conservation {
+        Conservation::Exact => {
+            id.label >= 0 && (id.label as i128) < plan.cutoff as i128 + max_s as i128
+        }
+        Conservation::None => id.label == 0,
+        Conservation::Modulo(m) => id.label >= 0 && (id.label as u64) < m,
     }
 }
 

@@ -28,6 +28,7 @@ use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
 use crate::model::Model;
+use crate::policy::NEUTRALITY_SNAP_WIDTHS;
 use crate::solve::Settings;
 use crate::units::{Units, ELECTRON_MASS, MEV, SPEED_OF_LIGHT};
 use serde::Serialize;
@@ -249,8 +250,8 @@ pub fn carrier_density(
     occupation: &Occupation,
     neutrality: Option<f64>,
 ) -> f64 {
-    // a level within 1e-9 line widths of the neutrality energy sits at it (rounding)
-    let at = 1e-9 * density.width;
+    // a level this close to the neutrality energy sits at it (rounding)
+    let at = NEUTRALITY_SNAP_WIDTHS * density.width;
     let mut sum = 0.0;
     for &el in &density.energies {
         let filled_at_neutrality = match neutrality {

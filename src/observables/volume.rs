@@ -63,6 +63,7 @@ use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
 use crate::model::Model;
+use crate::policy::NEUTRALITY_SNAP_WIDTHS;
 use crate::solve::Settings;
 use crate::units::Units;
 use serde::Serialize;
@@ -717,7 +718,7 @@ fn sheet(
             ),
         });
     }
-    let at = 1e-9 * width;
+    let at = NEUTRALITY_SNAP_WIDTHS * width;
     let filled = |el: f64| match neutrality {
         None => 0.0,
         Some(e0) if (el - e0).abs() <= at => 0.5,

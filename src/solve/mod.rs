@@ -28,6 +28,7 @@ use crate::levels::{Convergence, Level, LevelVector, Spectrum};
 use crate::model::{Model, SpectrumForm};
 use crate::numeric::dd::DdComplex;
 use crate::numeric::{banded, dense, refine, window};
+use crate::policy::{DENSE_MAX_DEFAULT, WINDOW_MAX_LEVELS};
 use crate::sectors::{SectorId, SectorPlan, Symmetry};
 use crate::trust::bounds::{kato_temple_sector, SectorEdges};
 pub use dense::Vectors;
@@ -70,12 +71,6 @@ pub enum Precision {
     /// Always refine small sectors (size <= [`REFINE_MAX_SECTOR`]) in double-double.
     Extended,
 }
-
-/// Default largest sector diagonalised densely when only some levels are wanted.
-pub const DENSE_MAX_DEFAULT: usize = 3000;
-
-/// Most levels the window solver may return from one sector for a [`Target::Window`].
-pub const WINDOW_MAX_LEVELS: usize = 2000;
 
 /// Fewest levels one task of the final gather handles: small spectra (one point of a sweep,
 /// where the points already run in parallel) are gathered without splitting.
@@ -145,9 +140,9 @@ impl Settings {
             reference: Reference::Model,
             splitting: Splitting::Auto,
             vectors: Vectors::Skip,
-            tolerance: 1e-9,
+            tolerance: crate::policy::DEFAULT_TOLERANCE,
             precision: Precision::Auto,
-            memory_limit_mib: 4096,
+            memory_limit_mib: crate::policy::DEFAULT_MEMORY_LIMIT_MIB,
             target: Target::All,
             dense_max: DENSE_MAX_DEFAULT,
         }
@@ -156,7 +151,7 @@ impl Settings {
 
 impl Default for Settings {
     fn default() -> Self {
-        Settings::with_cutoff(200)
+        Settings::with_cutoff(crate::policy::DEFAULT_CUTOFF)
     }
 }
 
@@ -485,7 +480,7 @@ impl Job<'_> {
         };
         kato_temple_sector(&mut out.levels[first_level..], edges);
         // quantum numbers: n = J in an exact sector (src/labelling.rs)
-        if self.plan.symmetry.classes[id.class].modulus == 0 {
+        if self.plan.symmetry.classes[id.class].conservation.is_exact() {
             let family = self.plan.symmetry.classes[id.class].components[0];
             crate::labelling::label_exact_sector(&mut out.levels[first_level..], id.label, family);
         }
@@ -665,7 +660,7 @@ impl Spectrum {
                     .iter()
                     .map(|id| {
                         let c = &plan.symmetry.classes[id.class];
-                        if c.modulus == 0 {
+                        if c.conservation.is_exact() {
                             c.components.len() * branches
                         } else {
                             0
@@ -911,7 +906,7 @@ pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Optio
 /// ([`Level::deciding_bound`]: certified Kato-Temple when sharper, else residual) is at most
 /// tolerance x max(|E|, scale) (the bound itself proves the level genuine); else a cutoff
 /// artefact when its weight on the top `band` orbitals, or on the top quarter of the basis,
-/// is at least [`crate::trust::converge::ARTEFACT_TOP_WEIGHT`]; else genuine but not
+/// is at least [`crate::policy::ARTEFACT_TOP_WEIGHT`]; else genuine but not
 /// converged.
 pub fn flag_convergence(s: &mut Spectrum) {
     let (tol, scale) = (s.tolerance, s.energy_scale);
@@ -924,7 +919,7 @@ pub fn flag_convergence(s: &mut Spectrum) {
 const TAIL_DENOMINATOR: usize = 4;
 
 fn convergence_of(l: &Level, tolerance: f64, scale: f64) -> Convergence {
-    use crate::trust::converge::ARTEFACT_TOP_WEIGHT;
+    use crate::policy::ARTEFACT_TOP_WEIGHT;
     // a bound below the tolerance proves an eigenvalue of the untruncated operator that close:
     // such a level is genuine whatever its weights (the top sector of an exact-J model can
     // hold exact eigenvectors with half their weight on the top orbital)

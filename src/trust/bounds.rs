@@ -58,7 +58,8 @@
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
 use crate::levels::{Level, Spectrum};
-use crate::trust::converge::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
+use crate::policy::ARTEFACT_TOP_WEIGHT;
+use crate::trust::converge::is_cutoff_artefact;
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the

@@ -52,8 +52,7 @@ use crate::trust::window::{check_spectrum, EnergyWindow, WindowWarning};
 use serde::Serialize;
 use std::time::Instant;
 
-/// Weight on the top `band` orbitals above which a level counts as a cutoff artefact.
-pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
+use crate::policy::ARTEFACT_TOP_WEIGHT;
 
 /// Whether a level is a cutoff artefact: its state says so
 /// ([`crate::levels::Convergence::CutoffArtefact`]), or, for a level not flagged converged,
@@ -564,7 +563,7 @@ impl AutoSettings {
             start_cutoff: 16,
             growth: 2.0,
             max_cutoff: 1 << 22,
-            memory_limit_mib: 4096,
+            memory_limit_mib: crate::policy::DEFAULT_MEMORY_LIMIT_MIB,
             bound: BoundChoice::KatoTemple,
             base: Settings::default(),
         }
