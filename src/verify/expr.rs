@@ -16,7 +16,6 @@
 //! An expression is compiled once against a [`Scope`] (unknown names are reported with their
 //! column and the list of known names) and then evaluated many times with new values.
 
-use crate::builtin::bohr_magneton;
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::model::Model;
@@ -245,7 +244,7 @@ impl Scope {
                 for (name, v) in [("hbar", 1.0), ("e", 1.0), ("m_e", 1.0), ("c", 1.0)] {
                     s.set(name, v);
                 }
-                s.set("mu_B", bohr_magneton(Units::Natural));
+                s.set("mu_B", Units::Natural.bohr_magneton());
             }
         }
         s.reserved = s.names.len();
@@ -852,7 +851,7 @@ mod tests {
     fn lab_constants_are_coherent() {
         // meV-nm-fs-T system: hbar^2/(2 m_e) = 38.0998 meV nm^2 and hbar e / m_e = 2 mu_B
         // (CODATA 2018 values, common practice).
-        let m = match crate::builtin::schrodinger(crate::builtin::MassParams::default()) {
+        let m = match crate::models::schrodinger(crate::models::MassParams::default()) {
             Ok(m) => m,
             Err(e) => panic!("{e}"),
         };
