@@ -593,7 +593,7 @@ fn forgotten_lowest_level_and_wrong_multiplicity_are_caught() {
         charge: -1.0,
     }));
     let pt = FieldPoint::field(1.5);
-    let f = formula("hbar*e*abs(q*B)/(mass_ratio*m_e)*(n + 1/2) + s*g/2*mu_B*B");
+    let f = formula("hbar*e*abs(q*B)/(mass_ratio*m_e)*(n + 1/2) + s*g_factor/2*mu_B*B");
     let list = from_formula(&m, pt, &f, &range(1, 30), &[-1, 1]);
     let v = run(&m, pt, 60, &list);
     assert_eq!(v.outcome, Outcome::Fail);
@@ -913,7 +913,7 @@ fn doubly_listed_zero_level_is_not_excused_by_the_cutoff_artefact() {
     // lives on the top orbital (a cutoff artefact) and must not count as a partner.
     let m = ok(models::dirac2d(Dirac2dParams::default()));
     let pt = FieldPoint::field(3.0);
-    let f = formula("s*sqrt(2*n)*hbar*velocity*metre/second/l_B");
+    let f = formula("s*sqrt(2*n)*hbar*velocity_m_per_s*metre/second/l_B");
     let list = from_formula(&m, pt, &f, &range(0, 30), &[-1, 1]);
     let s = spectrum(&m, pt, 100);
     // the artefact is there: an unconverged level at 0 (both zero modes are exact zeros)

@@ -23,7 +23,7 @@ pub struct VerifyArgs {
     #[command(flatten)]
     pub solve: SolveArgs,
     /// The expected energy E(n, s) as an expression (see the README, section Verifying a level formula), e.g.
-    /// "s*sqrt(2*n)*hbar*velocity*metre/second/l_B".
+    /// "s*sqrt(2*n)*hbar*velocity_m_per_s*metre/second/l_B".
     #[arg(
         long,
         value_name = "EXPR",

@@ -314,8 +314,8 @@ impl ExpectedList {
     /// use ladderfan::{models, verify, FieldPoint, Reference};
     /// let m = models::dirac2d(models::Dirac2dParams { mass_mev: 5.0, ..Default::default() })?;
     /// let f = verify::LevelFormula {
-    ///     formula: "s*sqrt(mass^2 + 2*n*(hbar*velocity*metre/second/l_B)^2)".into(),
-    ///     n0: Some("valley*sign(q*B)*mass".into()),
+    ///     formula: "s*sqrt(mass_mev^2 + 2*n*(hbar*velocity_m_per_s*metre/second/l_B)^2)".into(),
+    ///     n0: Some("valley*sign(q*B)*mass_mev".into()),
     ///     ..Default::default()
     /// };
     /// let ns: Vec<i64> = (0..=3).collect();
