@@ -1,10 +1,10 @@
 //! What every closed form shares: the expected level ([`ExpectedLevel`]), the energy scales and
 //! the cancellation-free helpers. The formulas themselves live with their models in
-//! [`crate::models`] (each model file's `levels`), kept apart from the solver so that they can
+//! the models module, src/models/ (each model file's `levels`), kept apart from the solver so that they can
 //! check it.
 //!
 //! Every function here evaluates a formula; none of them diagonalizes anything. The conventions
-//! are exactly those of the model constructors in [`crate::models`]:
+//! are exactly those of the model constructors in src/models/:
 //! B is along +z and signed, the carrier charge q carries its sign, s = sign(qB) and
 //! l_B = sqrt(hbar/|qB|) (see [`crate::ladder`]); Zeeman-like terms are `+(g/2) mu_B B sigma_z`.
 //!

@@ -132,8 +132,9 @@ pub enum SpectrumForm {
     },
 }
 
-/// The typed description a model was built from, when a constructor of [`crate::models`] built
-/// it: opaque at this layer, read back typed with `crate::models::Origin::of`. A model
+/// The typed description a model was built from, when a built-in constructor (the `models`
+/// module, one layer up) built it: opaque at this layer, read back typed with `Origin::of`
+/// there. A model
 /// described term by term (a model file with `[[term]]`) has none, whatever its name.
 pub trait ModelOrigin: Any + fmt::Debug + Send + Sync {
     /// The origin as [`Any`], for the typed read-back.
@@ -142,7 +143,7 @@ pub trait ModelOrigin: Any + fmt::Debug + Send + Sync {
     fn with_charge(&self, charge: f64) -> Arc<dyn ModelOrigin>;
 }
 
-/// A validated model. Build one with [`Model::builder`] or a constructor in [`crate::models`].
+/// A validated model. Build one with [`Model::builder`] or a built-in constructor (`models`).
 #[derive(Debug, Clone)]
 pub struct Model {
     pub(crate) name: String,

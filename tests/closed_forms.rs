@@ -1,4 +1,4 @@
-//! Closed forms (src/closed_form.rs, each formula with its source in its doc comment) against
+//! Closed forms (src/models/, each model file's formula with its source in its doc comment) against
 //! exact diagonalization of the truncated ladder matrix, for every built-in and catalogue model,
 //! at three fields, both charge signs and both field directions.
 //!

@@ -131,7 +131,7 @@ fn dirac_3d_is_split_into_sectors_of_at_most_four_states() {
 }
 
 /// The lowest converged level of massive 2D Dirac sits at tau sign(qB) Delta (the unpaired n = 0
-/// level); derivation in src/builtin.rs, McClure (1956) for the massless limit.
+/// level); derivation in src/models/dirac2d.rs, McClure (1956) for the massless limit.
 #[test]
 fn dirac2d_unpaired_level_follows_the_sign_of_qb_and_the_valley() {
     let delta = 15.0;

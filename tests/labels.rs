@@ -1,5 +1,5 @@
 //! Quantum numbers of the levels (src/labelling.rs) against the quantum numbers the closed forms
-//! list (src/closed_form.rs, each formula with its published source in its doc comment), for
+//! list (src/models/, each model file's formula with its published source in its doc comment), for
 //! every built-in and catalogue model at several fields and both charge signs.
 //!
 //! For each model the computed converged levels with Landau index n <= N_WIN are grouped by

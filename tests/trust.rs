@@ -387,7 +387,7 @@ fn gapped_dirac_artefact_at_other_valley_energy() {
     for split in [Splitting::Auto, Splitting::Off] {
         let (m, spec) = solve(Kind::Dirac2dGapped, -1.0, FieldPoint::field(4.0), 20, split);
         let delta = m.param("mass_mev").expect("mass_mev");
-        // n = 0 at tau sign(qB) Delta (McClure 1956; builtin.rs conventions); q = -1, B > 0
+        // n = 0 at tau sign(qB) Delta (McClure 1956; src/models/ conventions); q = -1, B > 0
         let e0 =
             m.param("valley").expect("valley") * (m.charge() * spec.point.field).signum() * delta;
         let at = |e: f64| -> Vec<_> {

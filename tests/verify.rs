@@ -1,6 +1,6 @@
 //! Verification of level formulas against the exact spectrum (src/verify/).
 //!
-//! * Every built-in and catalogue model: its closed form (src/closed_form.rs, each formula with
+//! * Every built-in and catalogue model: its closed form (src/models/, each model file's closed form with
 //!   its published source) passes through the API, at both signs of qB.
 //! * The same physics typed as expressions of the verify language (the README, section Verifying a level formula) and as Rust
 //!   closures passes: Landau 1930 (Schrodinger, Pauli), Rabi 1928 / Johnson & Lippmann 1949
@@ -103,7 +103,7 @@ fn from_formula(
     ))
 }
 
-/// Every model of src/builtin.rs and src/catalogue.rs with a cutoff that converges its low
+/// Every model of src/models/ with a cutoff that converges its low
 /// levels.
 fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
     let lab = FieldPoint {

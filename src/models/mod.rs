@@ -32,7 +32,7 @@ use std::fmt;
 use std::sync::Arc;
 
 use serde::de::DeserializeOwned;
-use serde::{Deserialize, Deserializer, Serialize, Serializer};
+use serde::Serialize;
 
 use crate::closed_form::ExpectedLevel;
 use crate::error::{Error, Result};
@@ -49,6 +49,7 @@ pub mod klein_gordon;
 pub mod pauli;
 pub mod rashba;
 pub mod schrodinger;
+mod shared;
 pub mod tilted_dirac2d;
 pub mod weyl;
 
@@ -61,6 +62,8 @@ pub use klein_gordon::{klein_gordon, KleinGordon};
 pub use pauli::{pauli, Pauli, PauliParams};
 pub use rashba::{rashba, Rashba, RashbaParams};
 pub use schrodinger::{schrodinger, MassParams, Schrodinger};
+pub(crate) use shared::{finite, positive};
+pub use shared::{Chirality, Valley};
 pub use tilted_dirac2d::{tilted_dirac2d, TiltedDirac2d, TiltedDiracParams};
 pub use weyl::{weyl, Weyl, WeylParams};
 
@@ -121,78 +124,6 @@ pub trait BuiltinModel {
         0.0
     }
 }
-
-/// A sign +1 or -1 as written in `--set` and model files.
-fn sign_from(x: f64) -> Option<bool> {
-    #[allow(clippy::float_cmp)] // a sign parameter must be exactly +1 or -1
-    let r = if x == 1.0 {
-        Some(true)
-    } else if x == -1.0 {
-        Some(false)
-    } else {
-        None
-    };
-    r
-}
-
-macro_rules! sign_enum {
-    ($(#[$doc:meta])* $name:ident, $plus:ident, $minus:ident, $what:literal) => {
-        $(#[$doc])*
-        #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
-        pub enum $name {
-            #[doc = concat!($what, " = +1")]
-            #[default]
-            $plus,
-            #[doc = concat!($what, " = -1")]
-            $minus,
-        }
-
-        impl $name {
-            #[doc = concat!("The sign ", $what, " as a number, +1.0 or -1.0.")]
-            pub fn sign(self) -> f64 {
-                match self {
-                    $name::$plus => 1.0,
-                    $name::$minus => -1.0,
-                }
-            }
-            #[doc = concat!("From +1 or -1 (`None` for any other value).")]
-            pub fn from_sign(x: f64) -> Option<Self> {
-                sign_from(x).map(|p| if p { $name::$plus } else { $name::$minus })
-            }
-        }
-
-        impl Serialize for $name {
-            fn serialize<S: Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
-                s.serialize_f64(self.sign())
-            }
-        }
-
-        impl<'de> Deserialize<'de> for $name {
-            fn deserialize<D: Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
-                let x = f64::deserialize(d)?;
-                $name::from_sign(x)
-                    .ok_or_else(|| serde::de::Error::custom("it must be +1 or -1"))
-            }
-        }
-    };
-}
-
-sign_enum!(
-    /// Valley index tau of the 2D Dirac-like models: the sign of the kx sigma_x term (written
-    /// +1 or -1 in `--set` and model files).
-    Valley,
-    Plus,
-    Minus,
-    "tau"
-);
-
-sign_enum!(
-    /// Chirality chi of a Weyl node (written +1 or -1 in `--set` and model files).
-    Chirality,
-    Plus,
-    Minus,
-    "chi"
-);
 
 /// The parameters as a serde map (field name -> value).
 fn to_map<P: Serialize>(p: &P) -> serde_json::Map<String, serde_json::Value> {
@@ -485,39 +416,13 @@ pub fn expected_levels(
     )
 }
 
-/// Parameter check shared by the model constructors: positive and finite.
-pub(crate) fn positive(name: &str, v: f64) -> Result<()> {
-    if v.is_finite() && v > 0.0 {
-        Ok(())
-    } else {
-        Err(Error::BadNumber {
-            name: name.into(),
-            value: v,
-            fix: "it must be a positive finite number".into(),
-        })
-    }
-}
-
-/// Parameter check shared by the model constructors: finite.
-pub(crate) fn finite(name: &str, v: f64) -> Result<()> {
-    if v.is_finite() {
-        Ok(())
-    } else {
-        Err(Error::BadNumber {
-            name: name.into(),
-            value: v,
-            fix: "it must be a finite number".into(),
-        })
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
     fn every_model_builds_with_defaults_and_has_its_closed_form() {
-        // All eleven models had a closed form before the move (closed_form::for_model by name).
+        // All eleven models had a closed form before the move (looked up by name then).
         let all = Origin::registry();
         assert_eq!(all.len(), 11);
         for o in &all {
