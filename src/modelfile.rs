@@ -323,13 +323,9 @@ fn toml_message(m: &str) -> String {
     }
 }
 
-fn from_builtin(
-    src: &Source,
-    raw: &RawFile,
-    b: &Spanned<String>,
-    overrides: &[(String, String)],
-) -> Result<Model> {
-    // a built-in brings its own terms; term-level keys would be silently ignored, so refuse them
+/// Refuse the keys of a term model in a `builtin = ...` file: a built-in brings its own terms,
+/// so they would be silently ignored.
+fn refuse_term_keys(src: &Source, raw: &RawFile, b: &Spanned<String>) -> Result<()> {
     let conflicts: [(&str, Option<Range<usize>>); 7] = [
         ("components", raw.components.as_ref().map(|s| s.span())),
         ("charge", raw.charge.as_ref().map(|s| s.span())),
@@ -377,6 +373,16 @@ fn from_builtin(
              overrides in [set]",
         ));
     }
+    Ok(())
+}
+
+fn from_builtin(
+    src: &Source,
+    raw: &RawFile,
+    b: &Spanned<String>,
+    overrides: &[(String, String)],
+) -> Result<Model> {
+    refuse_term_keys(src, raw, b)?;
     let origin = Origin::find(b.get_ref()).ok_or_else(|| {
         src.err(
             &b.span(),
