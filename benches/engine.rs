@@ -7,8 +7,8 @@
 //! * `dense_unsplit`: the same model solved as one dense sector at 4N = 2000 (N = 500).
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use ladderfan::builtin::{self, RelativisticParams};
 use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::models::{self, RelativisticParams};
 use ladderfan::sectors::Symmetry;
 use ladderfan::solve::Precision;
 use ladderfan::{FieldPoint, Settings, Spectrum, Splitting};
@@ -22,7 +22,7 @@ fn point() -> FieldPoint {
 }
 
 fn assembly(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let mut g = c.benchmark_group("assembly");
     g.bench_function("dirac", |b| {
         b.iter(|| LadderHamiltonian::assemble(black_box(&m), point(), 1.0))
@@ -37,7 +37,7 @@ fn assembly(c: &mut Criterion) {
 }
 
 fn split_dirac(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let mut g = c.benchmark_group("split_dirac");
     g.sample_size(10);
     // Baseline: a bare loop of N independent 4x4 complex Hermitian eigen-solves with vectors
@@ -87,7 +87,7 @@ fn split_dirac(c: &mut Criterion) {
 }
 
 fn dense_unsplit(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let mut g = c.benchmark_group("dense_unsplit");
     g.sample_size(10);
     let mut s = Settings::with_cutoff(500);

@@ -17,8 +17,8 @@
 //! Run: `cargo bench --bench scale` (or `-- sweep_1000` for one group).
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use ladderfan::builtin::{self, RelativisticParams};
 use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::models::{self, RelativisticParams};
 use ladderfan::numeric::banded::BandedHermitian;
 use ladderfan::numeric::dense::{self, Vectors};
 use ladderfan::numeric::window;
@@ -50,7 +50,7 @@ fn with_phases(h: &DMatrix<Complex64>) -> DMatrix<Complex64> {
 }
 
 fn dense_sector(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let h = LadderHamiltonian::assemble(&m, point(), 0.0).expect("assembly");
     let mut g = c.benchmark_group("dense_sector");
     g.sample_size(10);
@@ -75,7 +75,7 @@ fn dense_sector(c: &mut Criterion) {
 }
 
 fn window_solver(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let h = LadderHamiltonian::assemble(&m, point(), 0.0).expect("assembly");
     let d = h.dim;
     let half = d * (h.band + 1) - 1;
@@ -98,7 +98,7 @@ fn window_solver(c: &mut Criterion) {
 }
 
 fn sweep_1000(c: &mut Criterion) {
-    let m = builtin::dirac(RelativisticParams::default()).expect("model");
+    let m = models::dirac(RelativisticParams::default()).expect("model");
     let fields = sweep::grid(1e-3, 1e-2, 1000, sweep::Spacing::Log).expect("grid");
     let points: Vec<FieldPoint> = fields
         .iter()

@@ -5,17 +5,17 @@
 //! spectrum of the split ladder basis is compared with the Johnson-Lippmann formula
 //! (Phys. Rev. 76, 828 (1949)), level by level, in natural units (m c^2 = 1).
 
-use ladderfan::builtin::{self, RelativisticParams};
-use ladderfan::{closed_form, FieldPoint, Settings, Spectrum};
+use ladderfan::models::{self, RelativisticParams};
+use ladderfan::{FieldPoint, Settings, Spectrum};
 
 fn main() -> Result<(), ladderfan::Error> {
-    let model = builtin::dirac(RelativisticParams::default())?;
+    let model = models::dirac(RelativisticParams::default())?;
     let point = FieldPoint {
         field: 0.05,
         kz: 0.1,
     };
     let spectrum = Spectrum::compute(&model, point, &Settings::with_cutoff(400))?;
-    let expected = closed_form::for_model(&model, point, spectrum.reference_energy, 12)
+    let expected = models::expected_levels(&model, point, spectrum.reference_energy, 12)
         .ok_or_else(|| ladderfan::Error::Unsupported("no closed form for this model".into()))?;
 
     println!("# 3+1 Dirac electron, B = 0.05 B_c, kz = 0.1 m c/hbar (invented scenario)");

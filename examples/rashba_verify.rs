@@ -8,8 +8,8 @@
 //!   n = 0:  E = hbar omega_c / 2 + s Z (the unpaired level).
 //! A version with the Zeeman term forgotten must fail, and the offending levels are listed.
 
-use ladderfan::catalogue::{self, RashbaParams};
 use ladderfan::closed_form::cyclotron_energy_mev;
+use ladderfan::models::{self, RashbaParams};
 use ladderfan::units::BOHR_MAGNETON_MEV_PER_T;
 use ladderfan::verify::{self, ExpectedList, VerifySettings};
 use ladderfan::{FieldPoint, Reference, Settings, Spectrum};
@@ -21,7 +21,7 @@ fn main() -> Result<(), ladderfan::Error> {
         g_factor: -8.0,
         charge: -1.0,
     };
-    let model = catalogue::rashba(p)?;
+    let model = models::rashba(p)?;
     let field = 3.0;
     let point = FieldPoint::field(field);
     let spectrum = Spectrum::compute(&model, point, &Settings::with_cutoff(300))?;

@@ -5,17 +5,17 @@
 //! and checks against published closed forms.
 //!
 //! The data path is the module list:
-//! [`model`] (terms: coefficient x spinor [`matrix`] x monomial; [`builtin`] models) ->
+//! [`model`] (terms: coefficient x spinor [`matrix`] x monomial; [`models`]: the built-in models) ->
 //! [`ladder`] (Peierls substitution, Weyl and normal ordering) -> [`hamiltonian`] (assembly in
 //! ladder form at one field and kz) -> [`sectors`] (conserved J = n + s_alpha, exact or mod m) ->
 //! [`solve`] (per-sector eigen-solves, precision refinement) -> [`levels`] (labels, bounds,
 //! convergence) -> [`sweep`] (many field points in parallel).
 //!
 //! ```
-//! use ladderfan::{builtin, FieldPoint, Settings, Spectrum};
+//! use ladderfan::{models, FieldPoint, Settings, Spectrum};
 //! // massless 2D Dirac, v = 1e6 m/s: first level sqrt(2) hbar v / l_B = 36.3 meV at 1 T
 //! // (common practice value for graphene-like velocities)
-//! let m = builtin::dirac2d(builtin::Dirac2dParams::default())?;
+//! let m = models::dirac2d(models::Dirac2dParams::default())?;
 //! let s = Spectrum::compute(&m, FieldPoint::field(1.0), &Settings::with_cutoff(100))?;
 //! let first = s.converged().find(|l| l.energy > 1.0).unwrap();
 //! assert!((first.energy - 36.28).abs() < 0.01);
@@ -37,8 +37,6 @@
 // there too, and forbidden here so that no `allow` inside the library can lift it
 #![forbid(unsafe_code)]
 
-pub mod builtin;
-pub mod catalogue;
 pub mod closed_form;
 pub mod error;
 pub mod expr;
@@ -52,6 +50,7 @@ pub mod memory;
 pub mod model;
 pub mod modelfile;
 pub mod numeric;
+pub mod models;
 pub mod observables;
 pub mod plot;
 pub mod policy;

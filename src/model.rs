@@ -16,8 +16,10 @@ use crate::matrix::SpinMatrix;
 use crate::units::Units;
 use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
+use std::any::Any;
 use std::collections::BTreeMap;
 use std::fmt;
+use std::sync::Arc;
 
 /// Highest total power of kx and ky in one term.
 pub const MAX_INPLANE_DEGREE: u32 = 6;
@@ -130,7 +132,18 @@ pub enum SpectrumForm {
     },
 }
 
-/// A validated model. Build one with [`Model::builder`] or a constructor in [`crate::builtin`].
+/// The typed description a model was built from, when a built-in constructor (the `models`
+/// module, one layer up) built it: opaque at this layer, read back typed with `Origin::of`
+/// there. A model
+/// described term by term (a model file with `[[term]]`) has none, whatever its name.
+pub trait ModelOrigin: Any + fmt::Debug + Send + Sync {
+    /// The origin as [`Any`], for the typed read-back.
+    fn as_any(&self) -> &dyn Any;
+    /// The same origin with the carrier charge replaced (see [`Model::with_charge`]).
+    fn with_charge(&self, charge: f64) -> Arc<dyn ModelOrigin>;
+}
+
+/// A validated model. Build one with [`Model::builder`] or a built-in constructor (`models`).
 #[derive(Debug, Clone)]
 pub struct Model {
     pub(crate) name: String,
@@ -143,6 +156,7 @@ pub struct Model {
     pub(crate) reference_energy: f64,
     pub(crate) degeneracy: u32,
     pub(crate) component_names: Vec<String>,
+    pub(crate) origin: Option<Arc<dyn ModelOrigin>>,
 }
 
 impl Model {
@@ -160,6 +174,7 @@ impl Model {
                 reference_energy: 0.0,
                 degeneracy: 1,
                 component_names: Vec::new(),
+                origin: None,
             },
         }
     }
@@ -209,6 +224,11 @@ impl Model {
     pub fn component_names(&self) -> &[String] {
         &self.component_names
     }
+    /// The typed description the model was built from (see [`ModelOrigin`]); `None` for a model
+    /// described term by term.
+    pub fn origin(&self) -> Option<&dyn ModelOrigin> {
+        self.origin.as_deref()
+    }
     /// Highest in-plane degree over all terms = half-width of the ladder band.
     pub fn band(&self) -> usize {
         self.terms
@@ -231,6 +251,7 @@ impl Model {
         }
         let mut m = self.clone();
         m.charge = charge;
+        m.origin = self.origin.as_ref().map(|o| o.with_charge(charge));
         Ok(m)
     }
 }
@@ -255,6 +276,11 @@ impl ModelBuilder {
     /// Record a named parameter (for reports and formulas).
     pub fn param(mut self, name: &str, value: f64) -> Self {
         self.model.params.insert(name.to_string(), value);
+        self
+    }
+    /// Record the typed description the model is built from (see [`ModelOrigin`]).
+    pub fn origin(mut self, origin: Arc<dyn ModelOrigin>) -> Self {
+        self.model.origin = Some(origin);
         self
     }
     /// Add a term with a real coefficient.

@@ -73,8 +73,8 @@ pub fn grid(start: f64, stop: f64, count: usize, spacing: Spacing) -> Result<Vec
 ///
 /// # Examples
 /// ```
-/// use ladderfan::{builtin, sweep, FieldPoint, Settings};
-/// let m = builtin::schrodinger(builtin::MassParams::default())?;
+/// use ladderfan::{models, sweep, FieldPoint, Settings};
+/// let m = models::schrodinger(models::MassParams::default())?;
 /// let pts: Vec<FieldPoint> = [1.0, 2.0].iter().map(|&b| FieldPoint::field(b)).collect();
 /// let out = sweep::run(&m, &pts, &Settings::with_cutoff(30))?;
 /// // the lowest level doubles with the field: hbar omega_c / 2 is linear in B

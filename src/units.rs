@@ -79,6 +79,14 @@ pub enum Units {
 }
 
 impl Units {
+    /// The Bohr magneton in this unit system: meV/T for lab units; in natural units
+    /// mu_B B = (1/2) (B/B_c) m c^2, so 0.5.
+    pub fn bohr_magneton(self) -> f64 {
+        match self {
+            Units::Lab => BOHR_MAGNETON_MEV_PER_T,
+            Units::Natural => 0.5,
+        }
+    }
     /// Magnetic length l_B = sqrt(hbar / |q B|) in the unit system's length unit.
     ///
     /// `charge` is the carrier charge in units of e (sign ignored here), `field` in the

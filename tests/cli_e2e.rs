@@ -513,8 +513,7 @@ fn export_writes_matrix_market_that_parses_back_to_the_assembled_matrix() {
     // independent reference: the library's dense assembly of the same model
     let mut set = std::collections::BTreeMap::new();
     set.insert("mass_mev".to_string(), 2.0);
-    let model =
-        ladderfan::modelfile::build_builtin("dirac2d", &set).unwrap_or_else(|e| panic!("{e}"));
+    let model = ladderfan::models::build("dirac2d", &set).unwrap_or_else(|e| panic!("{e}"));
     let h = LadderHamiltonian::assemble(
         &model,
         ladderfan::FieldPoint {

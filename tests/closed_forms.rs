@@ -1,4 +1,4 @@
-//! Closed forms (src/closed_form.rs, each formula with its source in its doc comment) against
+//! Closed forms (src/models/, each model file's formula with its source in its doc comment) against
 //! exact diagonalization of the truncated ladder matrix, for every built-in and catalogue model,
 //! at three fields, both charge signs and both field directions.
 //!
@@ -13,11 +13,13 @@
 //! far below the cutoff) the multisets of energies must agree to 1e-10 of the level-spacing
 //! scale of the model.
 
-use ladderfan::builtin::{self, Dirac2dParams, MassParams, PauliParams, RelativisticParams};
-use ladderfan::catalogue::{self, BhzParams, BilayerParams, DiracAmmParams, RashbaParams};
-use ladderfan::closed_form::{self, cyclotron_energy_mev, dirac_energy_mev};
+use ladderfan::closed_form::{cyclotron_energy_mev, dirac_energy_mev};
 use ladderfan::hamiltonian::LadderHamiltonian;
 use ladderfan::model::SpectrumForm;
+use ladderfan::models::{
+    self, BhzParams, BilayerParams, Chirality, Dirac2dParams, DiracAmmParams, MassParams,
+    PauliParams, RashbaParams, RelativisticParams, Valley,
+};
 use ladderfan::units::Units;
 use ladderfan::{FieldPoint, Model, Settings, Spectrum};
 use nalgebra::SymmetricEigen;
@@ -37,7 +39,7 @@ fn ok<T>(r: ladderfan::Result<T>) -> T {
 enum Scale {
     /// hbar omega_c = hbar |qB| / m* (lab units, parameter `mass_ratio`).
     Cyclotron,
-    /// sqrt(2) hbar v / l_B (lab units, parameter `velocity`) times a factor.
+    /// sqrt(2) hbar v / l_B (lab units, parameter `velocity_m_per_s`) times a factor.
     Dirac(f64),
     /// Natural units: hbar |qB| c^2 / (m c^2) = |q b| / mass.
     NaturalCyclotron,
@@ -50,11 +52,11 @@ fn scale_of(model: &Model, point: FieldPoint, s: Scale) -> f64 {
     let p = |k: &str| model.param(k).unwrap_or(f64::NAN);
     match s {
         Scale::Cyclotron => cyclotron_energy_mev(p("mass_ratio"), point.field, q),
-        Scale::Dirac(f) => f * dirac_energy_mev(p("velocity"), point.field, q),
+        Scale::Dirac(f) => f * dirac_energy_mev(p("velocity_m_per_s"), point.field, q),
         Scale::NaturalCyclotron => (q * point.field).abs() / p("mass"),
         Scale::Bhz => {
             let lb = Units::Lab.magnetic_length(point.field, q);
-            2.0 * p("B").abs() / (lb * lb)
+            2.0 * p("b_mev_nm2").abs() / (lb * lb)
         }
     }
 }
@@ -162,7 +164,7 @@ fn run(case: &Case) -> f64 {
             );
             let max_n = case.cutoff / 2;
             let expected =
-                match closed_form::for_model(&model, point, model.reference_energy(), max_n) {
+                match models::expected_levels(&model, point, model.reference_energy(), max_n) {
                     Some(l) => l,
                     None => panic!("{}: no closed form for {}", case.what, model.name()),
                 };
@@ -240,7 +242,7 @@ const NATURAL_FIELDS: [f64; 3] = [0.04, 0.3, 1.1];
 #[test]
 fn schrodinger_and_pauli_match_landau_levels() {
     // invented parameters
-    let s = ok(builtin::schrodinger(MassParams {
+    let s = ok(models::schrodinger(MassParams {
         mass_ratio: 0.067,
         charge: -1.0,
     }));
@@ -254,7 +256,7 @@ fn schrodinger_and_pauli_match_landau_levels() {
         scale: Scale::Cyclotron,
     });
     for g in [2.0023, -0.44, 15.0] {
-        let p = ok(builtin::pauli(PauliParams {
+        let p = ok(models::pauli(PauliParams {
             mass_ratio: 0.2,
             g_factor: g,
             charge: -1.0,
@@ -281,7 +283,7 @@ fn dirac_and_klein_gordon_match_rabi_levels() {
         };
         run(&Case {
             what: "dirac 3+1",
-            model: ok(builtin::dirac(p)),
+            model: ok(models::dirac(p)),
             fields: NATURAL_FIELDS,
             kz,
             cutoff: 40,
@@ -290,7 +292,7 @@ fn dirac_and_klein_gordon_match_rabi_levels() {
         });
         run(&Case {
             what: "klein-gordon",
-            model: ok(builtin::klein_gordon(p)),
+            model: ok(models::klein_gordon(p)),
             fields: NATURAL_FIELDS,
             kz,
             cutoff: 40,
@@ -302,10 +304,15 @@ fn dirac_and_klein_gordon_match_rabi_levels() {
 
 #[test]
 fn dirac2d_and_weyl_match_mcclure_levels() {
-    for (mass, valley) in [(0.0, 1i8), (0.0, -1), (25.0, 1), (-12.0, -1)] {
+    for (mass, valley) in [
+        (0.0, Valley::Plus),
+        (0.0, Valley::Minus),
+        (25.0, Valley::Plus),
+        (-12.0, Valley::Minus),
+    ] {
         run(&Case {
             what: "dirac2d",
-            model: ok(builtin::dirac2d(Dirac2dParams {
+            model: ok(models::dirac2d(Dirac2dParams {
                 velocity_m_per_s: 1.0e6,
                 mass_mev: mass,
                 valley,
@@ -318,10 +325,14 @@ fn dirac2d_and_weyl_match_mcclure_levels() {
             scale: Scale::Dirac(1.0),
         });
     }
-    for (chirality, kz) in [(1i8, 0.02), (-1, 0.02), (1, -0.05)] {
+    for (chirality, kz) in [
+        (Chirality::Plus, 0.02),
+        (Chirality::Minus, 0.02),
+        (Chirality::Plus, -0.05),
+    ] {
         run(&Case {
             what: "weyl",
-            model: ok(builtin::weyl(builtin::WeylParams {
+            model: ok(models::weyl(models::WeylParams {
                 velocity_m_per_s: 3.0e5,
                 chirality,
                 charge: -1.0,
@@ -340,7 +351,7 @@ fn dirac_with_anomalous_moment_matches_derived_levels() {
     for (kappa, kz) in [(0.05, 0.0), (0.05, 0.25), (-0.3, 0.1), (1.159_652e-3, 0.0)] {
         run(&Case {
             what: "dirac-amm",
-            model: ok(catalogue::dirac_amm(DiracAmmParams {
+            model: ok(models::dirac_amm(DiracAmmParams {
                 mass: 1.0,
                 speed: 1.0,
                 anomaly_kappa: kappa,
@@ -357,8 +368,12 @@ fn dirac_with_anomalous_moment_matches_derived_levels() {
 
 #[test]
 fn tilted_cone_matches_goerbig_scaling() {
-    for (w, valley) in [(0.4e5, 1i8), (-0.3e5, -1), (0.6e5, 1)] {
-        let p = catalogue::TiltedDiracParams {
+    for (w, valley) in [
+        (0.4e5, Valley::Plus),
+        (-0.3e5, Valley::Minus),
+        (0.6e5, Valley::Plus),
+    ] {
+        let p = models::TiltedDiracParams {
             velocity_m_per_s: 1.0e5,
             tilt_velocity_m_per_s: w,
             valley,
@@ -367,7 +382,7 @@ fn tilted_cone_matches_goerbig_scaling() {
         let beta: f64 = w / 1.0e5;
         run(&Case {
             what: "tilted-dirac2d",
-            model: ok(catalogue::tilted_dirac2d(p)),
+            model: ok(models::tilted_dirac2d(p)),
             fields: LAB_FIELDS,
             kz: 0.0,
             cutoff: 160,
@@ -382,7 +397,7 @@ fn rashba_bilayer_and_bhz_match_their_closed_forms() {
     for (alpha, g) in [(20.0, -8.0), (5.0, 2.0), (40.0, 0.0)] {
         run(&Case {
             what: "rashba",
-            model: ok(catalogue::rashba(RashbaParams {
+            model: ok(models::rashba(RashbaParams {
                 mass_ratio: 0.05,
                 rashba_mev_nm: alpha,
                 g_factor: g,
@@ -395,10 +410,10 @@ fn rashba_bilayer_and_bhz_match_their_closed_forms() {
             scale: Scale::Cyclotron,
         });
     }
-    for valley in [1i8, -1] {
+    for valley in [Valley::Plus, Valley::Minus] {
         run(&Case {
             what: "bilayer",
-            model: ok(catalogue::bilayer(BilayerParams {
+            model: ok(models::bilayer(BilayerParams {
                 mass_ratio: 0.035,
                 valley,
                 charge: -1.0,
@@ -414,7 +429,7 @@ fn rashba_bilayer_and_bhz_match_their_closed_forms() {
     for (m, ge, gh) in [(-10.0, 20.0, 2.0), (8.0, 0.0, 0.0), (-10.0, -5.0, 3.0)] {
         run(&Case {
             what: "bhz",
-            model: ok(catalogue::bhz(BhzParams {
+            model: ok(models::bhz(BhzParams {
                 m_mev: m,
                 g_e: ge,
                 g_h: gh,
@@ -432,11 +447,11 @@ fn rashba_bilayer_and_bhz_match_their_closed_forms() {
 #[test]
 fn unpaired_levels_are_counted_once_per_block() {
     // BHZ: exactly two unpaired levels (one per spin block), bilayer: exactly two zero levels.
-    let m = ok(catalogue::bhz(BhzParams::default()));
-    let l = closed_form::for_model(&m, FieldPoint::field(2.0), 0.0, 10).unwrap_or_default();
+    let m = ok(models::bhz(BhzParams::default()));
+    let l = models::expected_levels(&m, FieldPoint::field(2.0), 0.0, 10).unwrap_or_default();
     assert_eq!(l.iter().filter(|x| x.s == 0).count(), 2);
-    let b = ok(catalogue::bilayer(BilayerParams::default()));
-    let l = closed_form::for_model(&b, FieldPoint::field(2.0), 0.0, 10).unwrap_or_default();
+    let b = ok(models::bilayer(BilayerParams::default()));
+    let l = models::expected_levels(&b, FieldPoint::field(2.0), 0.0, 10).unwrap_or_default();
     let zeros: Vec<_> = l.iter().filter(|x| x.energy == 0.0).collect();
     assert_eq!(zeros.len(), 2);
     // the same numbers from the dense oracle at 2 T (the two top-orbital zero modes removed)
@@ -447,10 +462,16 @@ fn unpaired_levels_are_counted_once_per_block() {
 }
 
 #[test]
-fn for_model_works_for_a_model_rebuilt_from_name_and_parameters() {
-    // A model rebuilt term by term (as a model file would be) keeps its closed form, and the
-    // dispatcher returns exactly the typed function's list.
-    let orig = ok(catalogue::rashba(RashbaParams::default()));
+fn closed_form_follows_the_typed_origin_not_the_name() {
+    // The typed origin finds the closed form: the registry returns exactly the model file's
+    // typed function's list. A model rebuilt term by term (as a model file with [[term]] would
+    // describe it) has no origin, so it gets no closed form even under a built-in's name.
+    let orig = ok(models::rashba(RashbaParams::default()));
+    let pt = FieldPoint::field(-2.5);
+    let typed = ok(models::rashba::levels(RashbaParams::default(), pt, 12));
+    let via = models::expected_levels(&orig, pt, 0.0, 12).unwrap_or_default();
+    assert_eq!(typed, via);
+    assert_eq!(typed.len(), 25);
     let mut b = Model::builder(orig.name(), orig.dim())
         .charge(orig.charge())
         .units(orig.units());
@@ -461,13 +482,9 @@ fn for_model_works_for_a_model_rebuilt_from_name_and_parameters() {
         b = b.term_complex(&t.label, t.coefficient, t.matrix.clone(), t.monomial);
     }
     let rebuilt = ok(b.build());
-    let pt = FieldPoint::field(-2.5);
-    let typed = ok(closed_form::rashba(RashbaParams::default(), pt, 12));
-    let via = closed_form::for_model(&rebuilt, pt, 0.0, 12).unwrap_or_default();
-    assert_eq!(typed, via);
-    assert_eq!(typed.len(), 25);
-    // unknown parameters or units give None rather than a wrong formula
-    let wrong_units = ok(Model::builder("dirac", 1)
+    assert!(models::expected_levels(&rebuilt, pt, 0.0, 12).is_none());
+    // a model named like a built-in with other units and terms gets none either
+    let named_dirac = ok(Model::builder("dirac", 1)
         .units(Units::Lab)
         .param("mass", 1.0)
         .param("speed", 1.0)
@@ -478,7 +495,7 @@ fn for_model_works_for_a_model_rebuilt_from_name_and_parameters() {
             ladderfan::Monomial::ONE,
         )
         .build());
-    assert!(closed_form::for_model(&wrong_units, pt, 0.0, 3).is_none());
+    assert!(models::expected_levels(&named_dirac, pt, 0.0, 3).is_none());
 }
 
 #[test]
@@ -487,12 +504,12 @@ fn solver_keeps_dirac_levels_at_one_tesla_to_1e_10_of_the_spacing() {
     // eigenvalues (~1e-16 m c^2) would be ~1e-6 of the spacing; the library refines levels near
     // the reference energy. Closed form: Rabi 1928 / Johnson & Lippmann 1949, cancellation-free.
     let b = 1.0 / ladderfan::units::ELECTRON_CRITICAL_FIELD_T;
-    let model = ok(builtin::dirac(RelativisticParams::default()));
+    let model = ok(models::dirac(RelativisticParams::default()));
     for q in [-1.0, 1.0] {
         let model = ok(model.with_charge(q));
         let pt = FieldPoint::field(b);
         let spec = ok(Spectrum::compute(&model, pt, &Settings::with_cutoff(20)));
-        let want = closed_form::for_model(&model, pt, 1.0, 19).unwrap_or_default();
+        let want = models::expected_levels(&model, pt, 1.0, 19).unwrap_or_default();
         let mut expanded: Vec<f64> = Vec::new();
         for l in want.iter().filter(|l| l.s > 0 && l.n <= 5) {
             for _ in 0..l.multiplicity {

@@ -4,44 +4,44 @@
 mod common;
 
 use common::*;
-use ladderfan::builtin::{
-    self, Dirac2dParams, MassParams, PauliParams, RelativisticParams, WeylParams,
-};
 use ladderfan::matrix::{identity, pauli};
 use ladderfan::sectors::Conservation;
+use ladderfan::models::{
+    self, Chirality, Dirac2dParams, MassParams, PauliParams, RelativisticParams, Valley, WeylParams,
+};
 use ladderfan::units::{ELECTRON_CRITICAL_FIELD_T, ELECTRON_REST_ENERGY_MEV};
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum};
 
 fn all_builtins(charge: f64) -> Vec<Model> {
     vec![
-        builtin::schrodinger(MassParams {
+        models::schrodinger(MassParams {
             mass_ratio: 0.067,
             charge,
         })
         .unwrap(),
-        builtin::pauli(PauliParams {
+        models::pauli(PauliParams {
             mass_ratio: 0.2,
             g_factor: -4.0,
             charge,
         })
         .unwrap(),
-        builtin::dirac(RelativisticParams {
+        models::dirac(RelativisticParams {
             charge,
             ..Default::default()
         })
         .unwrap(),
-        builtin::klein_gordon(RelativisticParams {
+        models::klein_gordon(RelativisticParams {
             charge,
             ..Default::default()
         })
         .unwrap(),
-        builtin::dirac2d(Dirac2dParams {
+        models::dirac2d(Dirac2dParams {
             mass_mev: 12.0,
             charge,
             ..Default::default()
         })
         .unwrap(),
-        builtin::weyl(WeylParams {
+        models::weyl(WeylParams {
             charge,
             ..Default::default()
         })
@@ -106,7 +106,7 @@ fn warping_term_is_detected_as_j_mod_3_and_its_sectors_reproduce_the_dense_spect
 
 #[test]
 fn dirac_3d_is_split_into_sectors_of_at_most_four_states() {
-    let m = builtin::dirac(RelativisticParams::default()).unwrap();
+    let m = models::dirac(RelativisticParams::default()).unwrap();
     let s = Spectrum::compute(
         &m,
         FieldPoint {
@@ -132,14 +132,14 @@ fn dirac_3d_is_split_into_sectors_of_at_most_four_states() {
 }
 
 /// The lowest converged level of massive 2D Dirac sits at tau sign(qB) Delta (the unpaired n = 0
-/// level); derivation in src/builtin.rs, McClure (1956) for the massless limit.
+/// level); derivation in src/models/dirac2d.rs, McClure (1956) for the massless limit.
 #[test]
 fn dirac2d_unpaired_level_follows_the_sign_of_qb_and_the_valley() {
     let delta = 15.0;
-    for valley in [1i8, -1] {
+    for valley in [Valley::Plus, Valley::Minus] {
         for q in [-1.0, 1.0] {
             for b in [-2.0, 2.0] {
-                let m = builtin::dirac2d(Dirac2dParams {
+                let m = models::dirac2d(Dirac2dParams {
                     mass_mev: delta,
                     valley,
                     charge: q,
@@ -148,12 +148,12 @@ fn dirac2d_unpaired_level_follows_the_sign_of_qb_and_the_valley() {
                 .unwrap();
                 let s = Spectrum::compute(&m, FieldPoint::field(b), &Settings::with_cutoff(40))
                     .unwrap();
-                let expected = valley as f64 * (q * b).signum() * delta;
+                let expected = valley.sign() * (q * b).signum() * delta;
                 let inside: Vec<_> = s
                     .converged()
                     .filter(|l| l.energy.abs() < delta + 1.0)
                     .collect();
-                assert_eq!(inside.len(), 1, "valley {valley} q {q} B {b}: {inside:?}");
+                assert_eq!(inside.len(), 1, "valley {valley:?} q {q} B {b}: {inside:?}");
                 assert!((inside[0].energy - expected).abs() < 1e-9 * delta);
                 assert_eq!(inside[0].orbital, 0);
                 // the artefact at the opposite energy is present and flagged
@@ -166,14 +166,14 @@ fn dirac2d_unpaired_level_follows_the_sign_of_qb_and_the_valley() {
     }
 }
 
-/// Chiral level of a Weyl node: E_0 = chi sign(qB) hbar v kz (derivation in src/builtin.rs).
+/// Chiral level of a Weyl node: E_0 = chi sign(qB) hbar v kz (derivation in src/models/weyl.rs).
 #[test]
 fn weyl_chiral_level_follows_chirality_and_the_sign_of_qb() {
     let kz = 0.02;
-    for chi in [1i8, -1] {
+    for chi in [Chirality::Plus, Chirality::Minus] {
         for q in [-1.0, 1.0] {
             for b in [-5.0, 5.0] {
-                let m = builtin::weyl(WeylParams {
+                let m = models::weyl(WeylParams {
                     chirality: chi,
                     charge: q,
                     ..Default::default()
@@ -183,12 +183,12 @@ fn weyl_chiral_level_follows_chirality_and_the_sign_of_qb() {
                 let s =
                     Spectrum::compute(&m, FieldPoint { field: b, kz }, &Settings::with_cutoff(40))
                         .unwrap();
-                let expected = chi as f64 * (q * b).signum() * hv * kz;
+                let expected = chi.sign() * (q * b).signum() * hv * kz;
                 let chiral: Vec<_> = s
                     .converged()
                     .filter(|l| l.energy.abs() < hv * kz * 1.5)
                     .collect();
-                assert_eq!(chiral.len(), 1, "chi {chi} q {q} B {b}");
+                assert_eq!(chiral.len(), 1, "chi {chi:?} q {q} B {b}");
                 assert!((chiral[0].energy - expected).abs() < 1e-9 * hv * kz);
             }
         }
@@ -205,7 +205,7 @@ fn dirac_ground_level_spin_flips_with_the_sign_of_qb() {
         (-1.0, -0.2, false),
         (1.0, -0.2, true),
     ] {
-        let m = builtin::dirac(RelativisticParams {
+        let m = models::dirac(RelativisticParams {
             charge: q,
             ..Default::default()
         })
@@ -222,7 +222,7 @@ fn dirac_ground_level_spin_flips_with_the_sign_of_qb() {
 
 #[test]
 fn results_are_identical_whatever_the_thread_count() {
-    let m = builtin::dirac(RelativisticParams::default()).unwrap();
+    let m = models::dirac(RelativisticParams::default()).unwrap();
     let p = FieldPoint {
         field: 0.05,
         kz: 0.1,
@@ -245,10 +245,10 @@ fn results_are_identical_whatever_the_thread_count() {
 #[test]
 fn dirac_minus_pauli_is_the_leading_relativistic_correction_at_one_tesla() {
     let b_nat = 1.0 / ELECTRON_CRITICAL_FIELD_T;
-    let dirac = builtin::dirac(RelativisticParams::default()).unwrap();
+    let dirac = models::dirac(RelativisticParams::default()).unwrap();
     let d =
         Spectrum::compute(&dirac, FieldPoint::field(b_nat), &Settings::with_cutoff(60)).unwrap();
-    let pauli = builtin::pauli(PauliParams {
+    let pauli = models::pauli(PauliParams {
         mass_ratio: 1.0,
         g_factor: 2.0,
         charge: -1.0,
@@ -300,7 +300,7 @@ fn assembled_matrix_is_hermitian_and_truncation_is_a_principal_submatrix() {
 fn klein_gordon_reduces_to_schrodinger_with_error_of_order_b_squared() {
     // E - m c^2 = (n + 1/2) b - ((n + 1/2) b)^2 / 2 + O(b^3) in natural units (expansion of
     // E^2 = 1 + (2n+1) b, common practice): the deviation from the Schrodinger value scales as b^2.
-    let kg = builtin::klein_gordon(RelativisticParams::default()).unwrap();
+    let kg = models::klein_gordon(RelativisticParams::default()).unwrap();
     let mut ratios = Vec::new();
     for b in [1e-2, 1e-3, 1e-4] {
         let s = Spectrum::compute(&kg, FieldPoint::field(b), &Settings::with_cutoff(20)).unwrap();
@@ -334,7 +334,7 @@ fn identity_helpers_and_hermiticity_error_name_the_term() {
 /// Johnson-Lippmann formula, common practice).
 #[test]
 fn dirac_approaches_pauli_with_an_error_of_order_b_squared() {
-    let m = builtin::dirac(RelativisticParams::default()).unwrap();
+    let m = models::dirac(RelativisticParams::default()).unwrap();
     for b in [1e-2, 1e-3, 1e-4] {
         let s = Spectrum::compute(&m, FieldPoint::field(b), &Settings::with_cutoff(40)).unwrap();
         let positive: Vec<f64> = s

@@ -1,5 +1,5 @@
 //! Quantum numbers of the levels (src/labelling.rs) against the quantum numbers the closed forms
-//! list (src/closed_form.rs, each formula with its published source in its doc comment), for
+//! list (src/models/, each model file's formula with its published source in its doc comment), for
 //! every built-in and catalogue model at several fields and both charge signs.
 //!
 //! For each model the computed converged levels with Landau index n <= N_WIN are grouped by
@@ -8,14 +8,11 @@
 //! energies within the level's bound plus 1e-8 of the energy scale. For the Pauli model the
 //! closed form's `s` is the spin, read here from the dominant component (`up` = +1).
 
-use ladderfan::builtin::{
-    self, Dirac2dParams, MassParams, PauliParams, RelativisticParams, WeylParams,
-};
-use ladderfan::catalogue::{
-    self, BhzParams, BilayerParams, DiracAmmParams, RashbaParams, TiltedDiracParams,
-};
-use ladderfan::closed_form;
 use ladderfan::levels::{Branch, LabelOrigin};
+use ladderfan::models::{
+    self, BhzParams, BilayerParams, Dirac2dParams, DiracAmmParams, MassParams, PauliParams,
+    RashbaParams, RelativisticParams, TiltedDiracParams, WeylParams,
+};
 use ladderfan::units::Units;
 use ladderfan::{FieldPoint, Model, Settings, Spectrum};
 use std::collections::BTreeMap;
@@ -33,35 +30,35 @@ const N_WIN: i64 = 4;
 fn models(charge: f64) -> Vec<(Model, usize)> {
     vec![
         (
-            ok(builtin::schrodinger(MassParams {
+            ok(models::schrodinger(MassParams {
                 charge,
                 ..Default::default()
             })),
             40,
         ),
         (
-            ok(builtin::pauli(PauliParams {
+            ok(models::pauli(PauliParams {
                 charge,
                 ..Default::default()
             })),
             40,
         ),
         (
-            ok(builtin::dirac(RelativisticParams {
+            ok(models::dirac(RelativisticParams {
                 charge,
                 ..Default::default()
             })),
             60,
         ),
         (
-            ok(builtin::klein_gordon(RelativisticParams {
+            ok(models::klein_gordon(RelativisticParams {
                 charge,
                 ..Default::default()
             })),
             60,
         ),
         (
-            ok(builtin::dirac2d(Dirac2dParams {
+            ok(models::dirac2d(Dirac2dParams {
                 mass_mev: 10.0,
                 charge,
                 ..Default::default()
@@ -69,42 +66,42 @@ fn models(charge: f64) -> Vec<(Model, usize)> {
             60,
         ),
         (
-            ok(builtin::weyl(WeylParams {
+            ok(models::weyl(WeylParams {
                 charge,
                 ..Default::default()
             })),
             60,
         ),
         (
-            ok(catalogue::dirac_amm(DiracAmmParams {
+            ok(models::dirac_amm(DiracAmmParams {
                 charge,
                 ..Default::default()
             })),
             60,
         ),
         (
-            ok(catalogue::tilted_dirac2d(TiltedDiracParams {
+            ok(models::tilted_dirac2d(TiltedDiracParams {
                 charge,
                 ..Default::default()
             })),
             200,
         ),
         (
-            ok(catalogue::rashba(RashbaParams {
+            ok(models::rashba(RashbaParams {
                 charge,
                 ..Default::default()
             })),
             80,
         ),
         (
-            ok(catalogue::bilayer(BilayerParams {
+            ok(models::bilayer(BilayerParams {
                 charge,
                 ..Default::default()
             })),
             60,
         ),
         (
-            ok(catalogue::bhz(BhzParams {
+            ok(models::bhz(BhzParams {
                 charge,
                 ..Default::default()
             })),
@@ -147,7 +144,7 @@ fn computed_groups(m: &Model, s: &Spectrum) -> Groups {
 }
 
 fn expected_groups(m: &Model, s: &Spectrum) -> Groups {
-    let list = closed_form::for_model(m, s.point, s.reference_energy, N_WIN as usize)
+    let list = models::expected_levels(m, s.point, s.reference_energy, N_WIN as usize)
         .unwrap_or_else(|| panic!("no closed form for {}", m.name()));
     let mut g: Groups = BTreeMap::new();
     for x in list {
@@ -197,7 +194,7 @@ fn plus_and_minus_e_n_of_the_gapped_2d_dirac_model_share_n() {
     // E_n = ± sqrt(Delta^2 + n (36.28 meV)^2 B/T) (McClure 1956, massive form common practice);
     // the lone level n = 0 sits at tau sign(qB) Delta.
     for charge in [-1.0, 1.0] {
-        let m = ok(builtin::dirac2d(Dirac2dParams {
+        let m = ok(models::dirac2d(Dirac2dParams {
             mass_mev: 10.0,
             charge,
             ..Default::default()
@@ -239,7 +236,7 @@ fn plus_and_minus_e_n_of_the_gapped_2d_dirac_model_share_n() {
 fn three_plus_one_dirac_labels_do_not_depend_on_kz() {
     // nu = 0 has one level on each side of the gap at every kz (Johnson & Lippmann, Phys. Rev.
     // 76, 828 (1949)); kz = 0 splits the 4x4 problem into two blocks, which must not change it.
-    let m = ok(builtin::dirac(RelativisticParams::default()));
+    let m = ok(models::dirac(RelativisticParams::default()));
     for kz in [0.0, 0.3] {
         let s = ok(Spectrum::compute(
             &m,

@@ -2,7 +2,7 @@
 //! magneto-optics, the f-sum rule, density conservation, expectation values and tracking.
 //! Every expected value names its source beside it.
 
-use ladderfan::builtin::{self, Dirac2dParams, MassParams, PauliParams};
+use ladderfan::models::{self, Dirac2dParams, MassParams, PauliParams};
 use ladderfan::observables::dos::{
     from_per_cm2, landau_degeneracy_per_area, per_cm2, Broadening, LevelDensity, WidthScaling,
 };
@@ -51,7 +51,7 @@ fn landau_degeneracy_is_e_b_over_h() {
     assert!((landau_degeneracy_per_area(Units::Lab, 3.0, -1.0) / si - 1.0).abs() < 1e-12);
     assert!((from_per_cm2(Units::Lab, 1e12) - 0.01).abs() < 1e-15); // 1e12 cm^-2 = 0.01 nm^-2
                                                                     // per level: times the model's declared degeneracy (2 for spin in the schrodinger model)
-    let m = builtin::schrodinger(MassParams::default()).unwrap();
+    let m = models::schrodinger(MassParams::default()).unwrap();
     let s = Spectrum::compute(&m, FieldPoint::field(1.0), &Settings::with_cutoff(20)).unwrap();
     let ld = LevelDensity::new(&m, &s, Broadening::gaussian(0.01)).unwrap();
     assert_eq!(ld.model_degeneracy, 2);
@@ -72,10 +72,10 @@ fn sqrt_field_width_scales() {
 }
 
 fn dirac(v: f64, charge: f64) -> Model {
-    builtin::dirac2d(Dirac2dParams {
+    models::dirac2d(Dirac2dParams {
         velocity_m_per_s: v,
         mass_mev: 0.0,
-        valley: 1,
+        valley: ladderfan::models::Valley::Plus,
         charge,
     })
     .unwrap()
@@ -190,7 +190,7 @@ fn schrodinger_single_cyclotron_line_at_any_filling() {
     // whatever the filling and temperature. m* = 0.067 (GaAs-like, common practice).
     let mass = 0.067;
     for charge in [-1.0, 1.0] {
-        let m = builtin::schrodinger(MassParams {
+        let m = models::schrodinger(MassParams {
             mass_ratio: mass,
             charge,
         })
@@ -239,7 +239,7 @@ fn f_sum_rule_and_closure_for_the_parabolic_band() {
     // <i|v_x^2|i> = hbar omega_c (n + 1/2) / m* (virial: half the kinetic energy in x).
     let mass = 0.2;
     let field = 2.0;
-    let m = builtin::schrodinger(MassParams {
+    let m = models::schrodinger(MassParams {
         mass_ratio: mass,
         charge: -1.0,
     })
@@ -300,7 +300,7 @@ fn integrating_the_dos_to_the_fermi_level_returns_the_density_parabolic() {
     // integral is done here by Simpson's rule on the broadened DOS, independently of the
     // closed-form cumulative lines and the thermal quadrature the library uses.
     let mass = 0.067;
-    let m = builtin::schrodinger(MassParams {
+    let m = models::schrodinger(MassParams {
         mass_ratio: mass,
         charge: -1.0,
     })
@@ -387,7 +387,7 @@ fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
     // o = int L(E - E_l) f(E - mu) dE (definition), by Simpson's rule over +-60 widths with the
     // Lorentzian tails beyond added in closed form (f = 1 below, 0 above, up to e^-40):
     // atan tails, 1/2 - atan(X/w)/pi each.
-    let m = builtin::schrodinger(MassParams::default()).unwrap();
+    let m = models::schrodinger(MassParams::default()).unwrap();
     let spec = Spectrum::compute(&m, FieldPoint::field(10.0), &Settings::with_cutoff(40)).unwrap();
     let w = 0.05;
     let b = Broadening::lorentzian(w);
@@ -428,7 +428,7 @@ fn quantum_oscillations_of_the_fermi_level() {
     // between levels at even filling factors (spin-degenerate band): at nu = 2k + 1 it sits at
     // the centre of level k, (k + 1/2) hbar omega_c (Landau 1930; Shubnikov-de Haas).
     let mass = 0.067;
-    let m = builtin::schrodinger(MassParams {
+    let m = models::schrodinger(MassParams {
         mass_ratio: mass,
         charge: -1.0,
     })
@@ -497,7 +497,7 @@ fn transition_fan_against_field_follows_sqrt_b() {
 #[test]
 fn spin_and_pseudospin_expectations() {
     // Pauli model: every level is a pure spin state, <sigma_z> = ±1 (Pauli 1927).
-    let m = builtin::pauli(PauliParams {
+    let m = models::pauli(PauliParams {
         mass_ratio: 0.5,
         g_factor: 3.0,
         charge: -1.0,
@@ -561,10 +561,10 @@ fn spin_and_pseudospin_expectations() {
 fn tracks_follow_levels_across_the_sweep() {
     // 2D Dirac with a mass: levels sqrt(Delta^2 + 2 n hbar^2 v^2 / l_B^2) (McClure 1956 with
     // mass); a track keeps its |n| across fields, so E^2 - Delta^2 is linear in B along it.
-    let m = builtin::dirac2d(Dirac2dParams {
+    let m = models::dirac2d(Dirac2dParams {
         velocity_m_per_s: 5e5,
         mass_mev: 10.0,
-        valley: 1,
+        valley: ladderfan::models::Valley::Plus,
         charge: -1.0,
     })
     .unwrap();
@@ -707,7 +707,7 @@ fn relativistic_dirac_optics_in_natural_units() {
     // 3+1 Dirac, natural units: v_x = c alpha_x and alpha_x^2 = 1, so sum_f |<f|v_x|i>|^2 = c^2
     // = 1 for every level (closure; Dirac 1928). Levels E^2 = 1 + 2 nu b at kz = 0 (Johnson &
     // Lippmann, Phys. Rev. 76, 828 (1949)); intraband transitions change nu by one.
-    let m = builtin::dirac(builtin::RelativisticParams::default()).unwrap();
+    let m = models::dirac(models::RelativisticParams::default()).unwrap();
     let b = 0.1;
     let spec = Spectrum::compute(&m, FieldPoint::field(b), &with_vectors(40)).unwrap();
     let vecs = spec.vectors.as_ref().unwrap();

@@ -4,17 +4,17 @@
 //! inconsistent shard sets.
 
 use ladderfan::shard::{merge, KeepGroups, Shard, ShardHeader};
-use ladderfan::{builtin, sweep, FieldPoint, Settings, Spectrum};
+use ladderfan::{models, sweep, FieldPoint, Settings, Spectrum};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
 /// Invented parameters: a gapped 2D Dirac cone (v = 5e5 m/s, Delta = 12 meV).
 fn model() -> ladderfan::Model {
-    builtin::dirac2d(builtin::Dirac2dParams {
+    models::dirac2d(models::Dirac2dParams {
         velocity_m_per_s: 5e5,
         mass_mev: 12.0,
-        valley: 1,
+        valley: ladderfan::models::Valley::Plus,
         charge: -1.0,
     })
     .expect("model")

@@ -5,14 +5,11 @@
 //! Expected values come from `ladderfan::closed_form` (published formulas, each with its
 //! source there), never from the solver.
 
-use ladderfan::builtin::{
-    self, Dirac2dParams, MassParams, PauliParams, RelativisticParams, WeylParams,
-};
-use ladderfan::catalogue::{
-    self, BhzParams, BilayerParams, DiracAmmParams, RashbaParams, TiltedDiracParams,
-};
-use ladderfan::closed_form;
 use ladderfan::matrix::identity;
+use ladderfan::models::{
+    self, BhzParams, BilayerParams, Dirac2dParams, DiracAmmParams, MassParams, PauliParams,
+    RashbaParams, RelativisticParams, TiltedDiracParams, WeylParams,
+};
 use ladderfan::trust::converge::{
     auto, doubling, is_cutoff_artefact, study, AutoSettings, BoundChoice, ExactValues,
     NeededCutoff, ReferenceKind, Selection,
@@ -75,54 +72,54 @@ const ALL: [Kind; 12] = [
 /// Invented parameters for each kind (the constructors' invented defaults unless noted).
 fn model(kind: Kind, charge: f64) -> Model {
     let r = match kind {
-        Kind::Schrodinger => builtin::schrodinger(MassParams {
+        Kind::Schrodinger => models::schrodinger(MassParams {
             mass_ratio: 0.067,
             charge,
         }),
-        Kind::Pauli => builtin::pauli(PauliParams {
+        Kind::Pauli => models::pauli(PauliParams {
             mass_ratio: 0.2,
             g_factor: -0.44,
             charge,
         }),
-        Kind::Dirac => builtin::dirac(RelativisticParams {
+        Kind::Dirac => models::dirac(RelativisticParams {
             charge,
             ..Default::default()
         }),
-        Kind::KleinGordon => builtin::klein_gordon(RelativisticParams {
+        Kind::KleinGordon => models::klein_gordon(RelativisticParams {
             charge,
             ..Default::default()
         }),
-        Kind::Dirac2dMassless => builtin::dirac2d(Dirac2dParams {
+        Kind::Dirac2dMassless => models::dirac2d(Dirac2dParams {
             charge,
             ..Default::default()
         }),
-        Kind::Dirac2dGapped => builtin::dirac2d(Dirac2dParams {
+        Kind::Dirac2dGapped => models::dirac2d(Dirac2dParams {
             mass_mev: 12.5,
-            valley: -1,
+            valley: ladderfan::models::Valley::Minus,
             charge,
             ..Default::default()
         }),
-        Kind::Weyl => builtin::weyl(WeylParams {
+        Kind::Weyl => models::weyl(WeylParams {
             charge,
             ..Default::default()
         }),
-        Kind::DiracAmm => catalogue::dirac_amm(DiracAmmParams {
+        Kind::DiracAmm => models::dirac_amm(DiracAmmParams {
             charge,
             ..Default::default()
         }),
-        Kind::Tilted => catalogue::tilted_dirac2d(TiltedDiracParams {
+        Kind::Tilted => models::tilted_dirac2d(TiltedDiracParams {
             charge,
             ..Default::default()
         }),
-        Kind::Rashba => catalogue::rashba(RashbaParams {
+        Kind::Rashba => models::rashba(RashbaParams {
             charge,
             ..Default::default()
         }),
-        Kind::Bilayer => catalogue::bilayer(BilayerParams {
+        Kind::Bilayer => models::bilayer(BilayerParams {
             charge,
             ..Default::default()
         }),
-        Kind::Bhz => catalogue::bhz(BhzParams {
+        Kind::Bhz => models::bhz(BhzParams {
             charge,
             ..Default::default()
         }),
@@ -134,7 +131,7 @@ fn model(kind: Kind, charge: f64) -> Model {
 /// `n_max`, each listed once per state (multiplicity), from `ladderfan::closed_form`.
 fn exact_levels(_kind: Kind, m: &Model, p: FieldPoint, n_max: usize) -> Vec<Exact> {
     let list =
-        closed_form::for_model(m, p, m.reference_energy(), n_max).expect("closed form exists");
+        models::expected_levels(m, p, m.reference_energy(), n_max).expect("closed form exists");
     let mut out = Vec::new();
     for l in list {
         for _ in 0..l.multiplicity {
@@ -389,8 +386,8 @@ fn artefacts_flagged_in_every_model() {
 fn gapped_dirac_artefact_at_other_valley_energy() {
     for split in [Splitting::Auto, Splitting::Off] {
         let (m, spec) = solve(Kind::Dirac2dGapped, -1.0, FieldPoint::field(4.0), 20, split);
-        let delta = m.param("mass").expect("mass");
-        // n = 0 at tau sign(qB) Delta (McClure 1956; builtin.rs conventions); q = -1, B > 0
+        let delta = m.param("mass_mev").expect("mass_mev");
+        // n = 0 at tau sign(qB) Delta (McClure 1956; src/models/ conventions); q = -1, B > 0
         let e0 =
             m.param("valley").expect("valley") * (m.charge() * spec.point.field).signum() * delta;
         let at = |e: f64| -> Vec<_> {
@@ -488,7 +485,7 @@ fn anharmonic() -> Model {
 fn window_reentry_detected() {
     let hv = hbar_v_mev_nm(1.0e6);
     let c = 1.0;
-    let base = builtin::dirac2d(Dirac2dParams::default()).expect("valid");
+    let base = models::dirac2d(Dirac2dParams::default()).expect("valid");
     let mut b = Model::builder("bent-dirac", 2).charge(-1.0);
     for t in base.terms() {
         b = b.term_complex(&t.label, t.coefficient, t.matrix.clone(), t.monomial);

@@ -1,6 +1,6 @@
 //! Verification of level formulas against the exact spectrum (src/verify/).
 //!
-//! * Every built-in and catalogue model: its closed form (src/closed_form.rs, each formula with
+//! * Every built-in and catalogue model: its closed form (src/models/, each model file's closed form with
 //!   its published source) passes through the API, at both signs of qB.
 //! * The same physics typed as expressions of the verify language (the README, section Verifying a level formula) and as Rust
 //!   closures passes: Landau 1930 (Schrodinger, Pauli), Rabi 1928 / Johnson & Lippmann 1949
@@ -14,9 +14,11 @@
 //!
 //! Model parameters are invented.
 
-use ladderfan::builtin::{self, Dirac2dParams, MassParams, PauliParams, RelativisticParams};
-use ladderfan::catalogue::{self, BhzParams, BilayerParams, DiracAmmParams, RashbaParams};
 use ladderfan::closed_form::{cyclotron_energy_mev, dirac_energy_mev};
+use ladderfan::models::{
+    self, BhzParams, BilayerParams, Dirac2dParams, DiracAmmParams, MassParams, PauliParams,
+    RashbaParams, RelativisticParams, Valley,
+};
 use ladderfan::units::BOHR_MAGNETON_MEV_PER_T;
 use ladderfan::verify::{
     self, Agreement, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
@@ -101,7 +103,7 @@ fn from_formula(
     ))
 }
 
-/// Every model of src/builtin.rs and src/catalogue.rs with a cutoff that converges its low
+/// Every model of src/models/ with a cutoff that converges its low
 /// levels.
 fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
     let lab = FieldPoint {
@@ -119,7 +121,7 @@ fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
     vec![
         (
             "schrodinger",
-            ok(builtin::schrodinger(MassParams {
+            ok(models::schrodinger(MassParams {
                 mass_ratio: 0.067,
                 charge: -1.0,
             })),
@@ -128,7 +130,7 @@ fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
         ),
         (
             "pauli",
-            ok(builtin::pauli(PauliParams {
+            ok(models::pauli(PauliParams {
                 mass_ratio: 0.2,
                 g_factor: -0.44,
                 charge: -1.0,
@@ -138,19 +140,19 @@ fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
         ),
         (
             "dirac",
-            ok(builtin::dirac(RelativisticParams::default())),
+            ok(models::dirac(RelativisticParams::default())),
             nat,
             60,
         ),
         (
             "klein-gordon",
-            ok(builtin::klein_gordon(RelativisticParams::default())),
+            ok(models::klein_gordon(RelativisticParams::default())),
             nat,
             60,
         ),
         (
             "dirac2d",
-            ok(builtin::dirac2d(Dirac2dParams {
+            ok(models::dirac2d(Dirac2dParams {
                 mass_mev: 12.0,
                 ..Default::default()
             })),
@@ -159,37 +161,35 @@ fn all_models() -> Vec<(&'static str, Model, FieldPoint, usize)> {
         ),
         (
             "weyl",
-            ok(builtin::weyl(builtin::WeylParams::default())),
+            ok(models::weyl(models::WeylParams::default())),
             lab_kz,
             80,
         ),
         (
             "dirac-amm",
-            ok(catalogue::dirac_amm(DiracAmmParams::default())),
+            ok(models::dirac_amm(DiracAmmParams::default())),
             nat,
             60,
         ),
         (
             "tilted-dirac2d",
-            ok(catalogue::tilted_dirac2d(
-                catalogue::TiltedDiracParams::default(),
-            )),
+            ok(models::tilted_dirac2d(models::TiltedDiracParams::default())),
             lab,
             160,
         ),
         (
             "rashba",
-            ok(catalogue::rashba(RashbaParams::default())),
+            ok(models::rashba(RashbaParams::default())),
             lab,
             80,
         ),
         (
             "bilayer",
-            ok(catalogue::bilayer(BilayerParams::default())),
+            ok(models::bilayer(BilayerParams::default())),
             lab,
             60,
         ),
-        ("bhz", ok(catalogue::bhz(BhzParams::default())), lab, 60),
+        ("bhz", ok(models::bhz(BhzParams::default())), lab, 60),
     ]
 }
 
@@ -225,7 +225,7 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
     let pm = vec![-1i8, 1];
     let hw = "hbar*e*abs(q*B)/(mass_ratio*m_e)";
     let kz2 = "hbar^2*kz^2/(2*mass_ratio*m_e)";
-    let hv = "hbar*velocity*metre/second";
+    let hv = "hbar*velocity_m_per_s*metre/second";
     vec![
         (
             "schrodinger",
@@ -234,7 +234,7 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
         ),
         (
             "pauli",
-            formula(&format!("{hw}*(n + 1/2) + s*g/2*mu_B*B + {kz2}")),
+            formula(&format!("{hw}*(n + 1/2) + s*g_factor/2*mu_B*B + {kz2}")),
             pm.clone(),
         ),
         (
@@ -258,8 +258,8 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
         (
             "dirac2d",
             LevelFormula {
-                formula: format!("s*sqrt(mass^2 + 2*n*({hv}/l_B)^2)"),
-                n0: Some("valley*sign(q*B)*mass".into()),
+                formula: format!("s*sqrt(mass_mev^2 + 2*n*({hv}/l_B)^2)"),
+                n0: Some("valley*sign(q*B)*mass_mev".into()),
                 ..Default::default()
             },
             pm.clone(),
@@ -276,7 +276,7 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
         (
             "tilted-dirac2d",
             LevelFormula {
-                formula: format!("s*(1 - (tilt_velocity/velocity)^2)^(3/4)*sqrt(2*n)*{hv}/l_B"),
+                formula: format!("s*(1 - (tilt_velocity_m_per_s/velocity_m_per_s)^2)^(3/4)*sqrt(2*n)*{hv}/l_B"),
                 n0: Some("0".into()),
                 ..Default::default()
             },
@@ -286,9 +286,9 @@ fn correct_formulas() -> Vec<(&'static str, LevelFormula, Vec<i8>)> {
             "rashba",
             LevelFormula {
                 formula: format!(
-                    "{hw}*n + s*sqrt(({hw}/2 + sign(q*B)*g/2*mu_B*B)^2 + 2*n*alpha^2/l_B^2)"
+                    "{hw}*n + s*sqrt(({hw}/2 + sign(q*B)*g_factor/2*mu_B*B)^2 + 2*n*rashba_mev_nm^2/l_B^2)"
                 ),
-                n0: Some(format!("{hw}/2 + sign(q*B)*g/2*mu_B*B")),
+                n0: Some(format!("{hw}/2 + sign(q*B)*g_factor/2*mu_B*B")),
                 ..Default::default()
             },
             pm.clone(),
@@ -329,7 +329,7 @@ fn expression_formulas_pass_for_builtins_and_catalogue() {
 fn rust_closures_pass_for_pauli_dirac2d_and_dirac_amm() {
     // Pauli, Landau 1930 + Zeeman: (n + 1/2) hbar omega_c + s (g/2) mu_B B
     let (mr, g, b) = (0.3, 5.0, 4.0);
-    let m = ok(builtin::pauli(PauliParams {
+    let m = ok(models::pauli(PauliParams {
         mass_ratio: mr,
         g_factor: g,
         charge: -1.0,
@@ -350,10 +350,10 @@ fn rust_closures_pass_for_pauli_dirac2d_and_dirac_amm() {
     // 2D Dirac (McClure 1956): the n = 0 level only once, at tau sign(qB) Delta
     let p = Dirac2dParams {
         mass_mev: -7.0,
-        valley: -1,
+        valley: Valley::Minus,
         ..Default::default()
     };
-    let m = ok(builtin::dirac2d(p));
+    let m = ok(models::dirac2d(p));
     for field in [2.0, -2.0] {
         let pt = FieldPoint::field(field);
         let e1 = dirac_energy_mev(p.velocity_m_per_s, field, -1.0);
@@ -375,12 +375,12 @@ fn rust_closures_pass_for_pauli_dirac2d_and_dirac_amm() {
     // Dirac with anomalous moment via try_from_fn with multiplicities: the crate's typed closed
     // form, split into (energy, multiplicity) per (nu, branch) by the closure
     let pa = DiracAmmParams::default();
-    let m = ok(catalogue::dirac_amm(pa));
+    let m = ok(models::dirac_amm(pa));
     let pt = FieldPoint {
         field: 0.2,
         kz: 0.1,
     };
-    let all = ok(ladderfan::closed_form::dirac_amm(pa, pt, 31));
+    let all = ok(ladderfan::models::dirac_amm::levels(pa, pt, 31));
     let list = ok(ExpectedList::try_from_fn(
         &m,
         pt,
@@ -403,7 +403,7 @@ fn rust_closures_pass_for_pauli_dirac2d_and_dirac_amm() {
 #[test]
 fn csv_list_with_explicit_window_passes_and_without_partner_fails() {
     // Landau 1930 levels of the effective-mass model written as CSV
-    let m = ok(builtin::schrodinger(MassParams {
+    let m = ok(models::schrodinger(MassParams {
         mass_ratio: 0.1,
         charge: -1.0,
     }));
@@ -442,7 +442,7 @@ fn csv_list_with_explicit_window_passes_and_without_partner_fails() {
 #[test]
 fn dropped_pauli_spin_term_is_caught_level_by_level() {
     let (mr, g, b) = (0.2, 2.0023, 3.0);
-    let m = ok(builtin::pauli(PauliParams {
+    let m = ok(models::pauli(PauliParams {
         mass_ratio: mr,
         g_factor: g,
         charge: -1.0,
@@ -476,12 +476,12 @@ fn dropped_pauli_spin_term_is_caught_level_by_level() {
 #[test]
 fn dropped_rashba_zeeman_term_is_caught() {
     let p = RashbaParams::default(); // g = -8
-    let m = ok(catalogue::rashba(p));
+    let m = ok(models::rashba(p));
     let pt = FieldPoint::field(3.0);
     let hw = "hbar*e*abs(q*B)/(mass_ratio*m_e)";
     // Zeeman term g/2 mu_B B dropped from h = hbar omega_c/2 + sign(qB) Z
     let f = LevelFormula {
-        formula: format!("{hw}*n + s*sqrt(({hw}/2)^2 + 2*n*alpha^2/l_B^2)"),
+        formula: format!("{hw}*n + s*sqrt(({hw}/2)^2 + 2*n*rashba_mev_nm^2/l_B^2)"),
         n0: Some(format!("{hw}/2")),
         ..Default::default()
     };
@@ -506,7 +506,7 @@ fn dropped_rashba_zeeman_term_is_caught() {
 #[test]
 fn factor_two_in_the_field_term_is_caught() {
     // effective mass: 2 hbar omega_c (n + 1/2) instead of hbar omega_c (n + 1/2)
-    let m = ok(builtin::schrodinger(MassParams {
+    let m = ok(models::schrodinger(MassParams {
         mass_ratio: 0.067,
         charge: -1.0,
     }));
@@ -533,9 +533,9 @@ fn factor_two_in_the_field_term_is_caught() {
 
     // 2D Dirac: 4 n (hbar v / l_B)^2 instead of 2 n: sqrt(2) E_n = E_2n agrees by accident,
     // the odd levels are left without partner
-    let m = ok(builtin::dirac2d(Dirac2dParams::default()));
+    let m = ok(models::dirac2d(Dirac2dParams::default()));
     let f = LevelFormula {
-        formula: "s*sqrt(mass^2 + 4*n*(hbar*velocity*metre/second/l_B)^2)".into(),
+        formula: "s*sqrt(mass_mev^2 + 4*n*(hbar*velocity_m_per_s*metre/second/l_B)^2)".into(),
         n0: Some("0".into()),
         ..Default::default()
     };
@@ -553,22 +553,26 @@ fn factor_two_in_the_field_term_is_caught() {
 
 #[test]
 fn omitted_dirac2d_zero_level_is_an_unmatched_numerical_level() {
-    for (mass, valley, field) in [(0.0, 1i8, 2.0), (9.0, 1, 2.0), (9.0, -1, -3.0)] {
-        let m = ok(builtin::dirac2d(Dirac2dParams {
+    for (mass, valley, field) in [
+        (0.0, Valley::Plus, 2.0),
+        (9.0, Valley::Plus, 2.0),
+        (9.0, Valley::Minus, -3.0),
+    ] {
+        let m = ok(models::dirac2d(Dirac2dParams {
             mass_mev: mass,
             valley,
             ..Default::default()
         }));
         let pt = FieldPoint::field(field);
         // McClure's n >= 1 levels only; the n = 0 level at tau sign(qB) Delta forgotten
-        let f = formula("s*sqrt(mass^2 + 2*n*(hbar*velocity*metre/second/l_B)^2)");
+        let f = formula("s*sqrt(mass_mev^2 + 2*n*(hbar*velocity_m_per_s*metre/second/l_B)^2)");
         let list = from_formula(&m, pt, &f, &range(1, 40), &[-1, 1]);
         let v = run(&m, pt, 100, &list);
         assert_eq!(v.outcome, Outcome::Fail, "{}", describe(&v));
         assert_eq!(v.disagreeing().count(), 0, "{}", describe(&v));
         assert!(v.missing_expected.is_empty());
         assert_eq!(v.unmatched_numerical.len(), 1, "{}", describe(&v));
-        let e0 = valley as f64 * (-field).signum() * mass; // q = -1
+        let e0 = valley.sign() * (-field).signum() * mass; // q = -1
         assert!(
             (v.unmatched_numerical[0].energy - e0).abs() < 1e-6,
             "{} vs {e0}",
@@ -583,13 +587,13 @@ fn omitted_dirac2d_zero_level_is_an_unmatched_numerical_level() {
 #[test]
 fn forgotten_lowest_level_and_wrong_multiplicity_are_caught() {
     // Pauli with n starting at 1: both n = 0 spin levels are reported (the window is open below)
-    let m = ok(builtin::pauli(PauliParams {
+    let m = ok(models::pauli(PauliParams {
         mass_ratio: 0.5,
         g_factor: 2.0,
         charge: -1.0,
     }));
     let pt = FieldPoint::field(1.5);
-    let f = formula("hbar*e*abs(q*B)/(mass_ratio*m_e)*(n + 1/2) + s*g/2*mu_B*B");
+    let f = formula("hbar*e*abs(q*B)/(mass_ratio*m_e)*(n + 1/2) + s*g_factor/2*mu_B*B");
     let list = from_formula(&m, pt, &f, &range(1, 30), &[-1, 1]);
     let v = run(&m, pt, 60, &list);
     assert_eq!(v.outcome, Outcome::Fail);
@@ -602,7 +606,7 @@ fn forgotten_lowest_level_and_wrong_multiplicity_are_caught() {
     assert!((got[1] - (0.5 * w + z)).abs() < 1e-9 * w);
 
     // 3+1 Dirac with every level listed once: the spin partners of nu >= 1 are left over
-    let m = ok(builtin::dirac(RelativisticParams::default()));
+    let m = ok(models::dirac(RelativisticParams::default()));
     let pt = FieldPoint {
         field: 0.1,
         kz: 0.0,
@@ -629,7 +633,7 @@ fn relativistic_levels_at_one_tesla_pass_with_the_rounding_allowance() {
     // b = 1 T / B_c ~ 2.3e-10: the absolute formula sqrt(1 + 2 nu b) carries a rounding error
     // of eps ~ 1e-6 of the spacing, which the allowance covers; a 1e-3 error of the spacing
     // (1 + 1e-3 in the field term) is still caught.
-    let m = ok(builtin::dirac(RelativisticParams::default()));
+    let m = ok(models::dirac(RelativisticParams::default()));
     let b = 1.0 / ladderfan::units::ELECTRON_CRITICAL_FIELD_T;
     let pt = FieldPoint::field(b);
     let f = LevelFormula {
@@ -653,7 +657,7 @@ fn relativistic_levels_at_one_tesla_pass_with_the_rounding_allowance() {
 
 #[test]
 fn formula_errors_are_reported_with_their_location() {
-    let m = ok(builtin::dirac2d(Dirac2dParams::default()));
+    let m = ok(models::dirac2d(Dirac2dParams::default()));
     let pt = FieldPoint::field(1.0);
     for (f, want) in [
         (
@@ -687,7 +691,7 @@ fn formula_errors_are_reported_with_their_location() {
 
 #[test]
 fn empty_window_is_inconclusive_not_a_pass() {
-    let m = ok(builtin::schrodinger(MassParams::default()));
+    let m = ok(models::schrodinger(MassParams::default()));
     let pt = FieldPoint::field(1.0);
     let s = spectrum(&m, pt, 40);
     let list =
@@ -907,9 +911,9 @@ fn doubly_listed_zero_level_is_not_excused_by_the_cutoff_artefact() {
     // Massless 2D Dirac: s*sqrt(2n) hbar v / l_B for s = ±1 lists n = 0 twice, the spectrum
     // has one zero level (McClure 1956); the second zero eigenvalue of the truncated matrix
     // lives on the top orbital (a cutoff artefact) and must not count as a partner.
-    let m = ok(builtin::dirac2d(Dirac2dParams::default()));
+    let m = ok(models::dirac2d(Dirac2dParams::default()));
     let pt = FieldPoint::field(3.0);
-    let f = formula("s*sqrt(2*n)*hbar*velocity*metre/second/l_B");
+    let f = formula("s*sqrt(2*n)*hbar*velocity_m_per_s*metre/second/l_B");
     let list = from_formula(&m, pt, &f, &range(0, 30), &[-1, 1]);
     let s = spectrum(&m, pt, 100);
     // the artefact is there: an unconverged level at 0 (both zero modes are exact zeros)
@@ -928,7 +932,7 @@ fn doubly_listed_zero_level_is_not_excused_by_the_cutoff_artefact() {
 fn a_level_with_only_an_unconverged_candidate_makes_the_verdict_inconclusive() {
     // Landau 1930 levels; the numerical n = 3 level is marked unconverged by hand (as if the
     // cutoff had not resolved it): the formula is not verified there, so no PASS.
-    let m = ok(builtin::schrodinger(MassParams::default()));
+    let m = ok(models::schrodinger(MassParams::default()));
     let pt = FieldPoint::field(2.0);
     let w = cyclotron_energy_mev(1.0, 2.0, -1.0);
     let list = ok(ExpectedList::from_fn(

@@ -1,7 +1,7 @@
 //! Densities per unit volume of 3D models (kz sheets integrated over kz) against closed forms
 //! and an independent quadrature. Every expected value names its source beside it.
 
-use ladderfan::builtin::{self, MassParams, WeylParams};
+use ladderfan::models::{self, MassParams, WeylParams};
 use ladderfan::observables::dos::{landau_degeneracy_per_area, Broadening};
 use ladderfan::observables::volume::{
     fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
@@ -22,7 +22,7 @@ fn weyl_node_below_the_first_landau_level_has_only_the_chiral_level() {
     // |eB|/h; the n >= 1 levels start at ±hbar v sqrt(2)/l_B (34 meV here), so between them
     // g3 = |eB|/h / (2 pi hbar v) and n3(mu) = g3 mu from neutrality at E = 0.
     let p = WeylParams::default(); // v = 3e5 m/s (invented)
-    let m = builtin::weyl(p).unwrap();
+    let m = models::weyl(p).unwrap();
     let field = 10.0;
     let vs = VolumeSettings::new(Broadening::gaussian(1.0), (-10.0, 10.0));
     let v = VolumeDensity::compute(&m, field, &Settings::with_cutoff(200), &vs).unwrap();
@@ -59,7 +59,7 @@ fn broad_lines_recover_the_zero_field_density_of_states() {
     // to second order g (1 - s^2/(8 E^2)) and n (1 + 3 s^2/(8 E^2)) (Taylor expansion, the
     // fourth-order terms are below 1e-10 here). What remains is the smooth Landau (midpoint
     // sum) correction (hbar omega_c)^2/(96 E^2) ~ 6e-7 at 15 meV (Euler-Maclaurin).
-    let m = builtin::schrodinger(MassParams::default()).unwrap();
+    let m = models::schrodinger(MassParams::default()).unwrap();
     let field = 1.0;
     let hw = cyclotron_mev(field);
     let s2 = hw * hw;
@@ -116,7 +116,7 @@ fn schrodinger_reference(field: f64, w: f64, e: f64) -> f64 {
 
 #[test]
 fn narrow_lines_match_an_independent_quadrature_of_the_closed_form() {
-    let m = builtin::schrodinger(MassParams::default()).unwrap();
+    let m = models::schrodinger(MassParams::default()).unwrap();
     let field = 5.0;
     let hw = cyclotron_mev(field);
     let w = 0.05 * hw;
@@ -144,7 +144,7 @@ fn quantum_limit_fermi_level_follows_the_one_dimensional_formula() {
     // x0 = hbar^2 kF^2/(2m). A Gaussian line of width s turns n ~ sqrt(x) into
     // sqrt(x) (1 - s^2/(8 x^2)) to second order (Taylor expansion), which moves E_F up by
     // s^2/(4 x0).
-    let m = builtin::schrodinger(MassParams::default()).unwrap();
+    let m = models::schrodinger(MassParams::default()).unwrap();
     let field = 5.0;
     let hw = cyclotron_mev(field);
     let s = 0.02 * hw;
@@ -181,8 +181,8 @@ fn quantum_limit_fermi_level_follows_the_one_dimensional_formula() {
 
 #[test]
 fn refusals_say_what_to_change() {
-    let sch = builtin::schrodinger(MassParams::default()).unwrap();
-    let flat = builtin::dirac2d(builtin::Dirac2dParams::default()).unwrap();
+    let sch = models::schrodinger(MassParams::default()).unwrap();
+    let flat = models::dirac2d(models::Dirac2dParams::default()).unwrap();
     let vs = VolumeSettings::new(Broadening::gaussian(0.05), (0.0, 1.0));
     match VolumeDensity::compute(&flat, 2.0, &Settings::with_cutoff(50), &vs) {
         Err(Error::Unsupported(msg)) => assert!(msg.contains("no kz term"), "{msg}"),
@@ -214,7 +214,7 @@ fn weyl_quantum_limit_fermi_level_falls_as_one_over_the_field() {
     // In the quantum limit only the chiral level holds carriers (Nielsen & Ninomiya 1983):
     // n3 = (eB/h) E_F / (2 pi hbar v), so E_F B is constant at fixed density.
     let p = WeylParams::default(); // v = 3e5 m/s (invented)
-    let m = builtin::weyl(p).unwrap();
+    let m = models::weyl(p).unwrap();
     let vs = VolumeSettings::new(Broadening::gaussian(1.0), (-20.0, 20.0));
     let hv = ladderfan::units::hbar_v_mev_nm(p.velocity_m_per_s);
     let n3 = 1e-5; // 1/nm^3 = 1e16 cm^-3 (invented)

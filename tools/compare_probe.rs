@@ -18,7 +18,7 @@
 use ladderfan::hamiltonian::LadderHamiltonian;
 use ladderfan::numeric::banded::BandedHermitian;
 use ladderfan::numeric::{dense, window};
-use ladderfan::{builtin, FieldPoint, Settings, Spectrum, Splitting};
+use ladderfan::{models, FieldPoint, Settings, Spectrum, Splitting};
 use std::io::Write;
 use std::time::Instant;
 
@@ -157,7 +157,7 @@ fn main() {
         .build()
         .unwrap_or_else(|e| fail(&format!("thread pool: {e}")));
     let threads = pool.current_num_threads();
-    let model = builtin::dirac(builtin::RelativisticParams::default())
+    let model = models::dirac(models::RelativisticParams::default())
         .unwrap_or_else(|e| fail(&e.to_string()));
     let json = pool.install(|| match path.as_str() {
         "split" => {

@@ -26,7 +26,7 @@ fn main() -> Result<()> {
         .and_then(|a| a.parse().ok())
         .unwrap_or(1_000_000);
     let rounds: usize = args.next().and_then(|a| a.parse().ok()).unwrap_or(5);
-    let m = builtin::dirac(builtin::RelativisticParams::default())?;
+    let m = models::dirac(models::RelativisticParams::default())?;
     let point = FieldPoint {
         field: 1e-3,
         kz: 0.05,

@@ -5,7 +5,7 @@ use ladderfan::*;
 use std::time::Instant;
 
 fn main() -> Result<()> {
-    let m = builtin::dirac(builtin::RelativisticParams::default())?;
+    let m = models::dirac(models::RelativisticParams::default())?;
     let mut s = Settings::with_cutoff(1_000_000);
     s.precision = solve::Precision::Double;
     let t = Instant::now();

@@ -243,13 +243,13 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
             })
         }
         (None, Some(name)) => {
-            let info = modelfile::builtin_info(name).ok_or_else(|| {
+            let info = ladderfan::models::Origin::find(name).ok_or_else(|| {
                 bad_flag(
                     "--builtin",
                     format!(
                         "unknown built-in model '{}'; choose one of {} (see `ladderfan models`)",
                         ladderfan::limits::excerpt(name),
-                        modelfile::builtin_names().join(", ")
+                        ladderfan::models::names().join(", ")
                     ),
                 )
             })?;
@@ -257,13 +257,13 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
             for (k, v) in &sets {
                 let x = modelfile::eval_expression(
                     v,
-                    info.units,
+                    info.info().units,
                     &BTreeMap::new(),
                     &format!("--set {k}"),
                 )?;
                 values.insert(k.clone(), x);
             }
-            let model = modelfile::build_builtin(name, &values)?;
+            let model = info.with_values(&values)?.build()?;
             let mut origin = format!("builtin {name}");
             if !sets.is_empty() {
                 origin.push_str(&format!(" with {}", args.set.join(", ")));

@@ -2,7 +2,7 @@
 
 use super::common::{self, emit, emit_json, CliResult};
 use clap::Args;
-use ladderfan::modelfile;
+use ladderfan::models::Origin;
 use serde::Serialize;
 
 /// Flags of `ladderfan models`.
@@ -79,24 +79,28 @@ pub struct ModelEntry {
 
 /// The listing.
 pub fn entries() -> Vec<ModelEntry> {
-    modelfile::builtins()
-        .into_iter()
-        .map(|b| ModelEntry {
-            name: b.name,
-            summary: b.summary,
-            units: b.units,
-            units_header: b.units.header(),
-            source: b.source,
-            parameters: b
-                .params
-                .iter()
-                .map(|p| ParamJson {
-                    name: p.name,
-                    default: p.default,
-                    unit: p.unit,
-                    meaning: p.meaning,
-                })
-                .collect(),
+    Origin::registry()
+        .iter()
+        .map(|o| {
+            let b = o.info();
+            ModelEntry {
+                name: b.name,
+                summary: b.summary,
+                units: b.units,
+                units_header: b.units.header(),
+                source: b.source,
+                parameters: b
+                    .params
+                    .iter()
+                    .zip(o.values())
+                    .map(|(p, (_, default))| ParamJson {
+                        name: p.name,
+                        default,
+                        unit: p.unit,
+                        meaning: p.meaning,
+                    })
+                    .collect(),
+            }
         })
         .collect()
 }

@@ -7,8 +7,8 @@ use super::common::{
 };
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use ladderfan::closed_form;
 use ladderfan::levels::{Branch, LabelOrigin};
+use ladderfan::models;
 use ladderfan::observables::labels;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
@@ -262,7 +262,7 @@ pub fn trim_to_margin(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
 }
 
 /// Closed-form overlay curves for the swept points, if the model has a closed form
-/// ([`ladderfan::closed_form::for_model`]): one curve per closed-form label, values outside the
+/// ([`ladderfan::models::expected_levels`]): one curve per closed-form label, values outside the
 /// window (widened by half its width) dropped.
 pub fn closed_form_curves(
     lm: &LoadedModel,
@@ -275,7 +275,7 @@ pub fn closed_form_curves(
     let margin = 0.5 * (hi - lo);
     let mut curves: BTreeMap<(i64, i8, String), Vec<(f64, f64)>> = BTreeMap::new();
     for (i, (p, &x)) in points.iter().zip(xs).enumerate() {
-        let levels = closed_form::for_model(&lm.model, *p, reference_energy, cutoff)?;
+        let levels = models::expected_levels(&lm.model, *p, reference_energy, cutoff)?;
         for l in levels {
             let c = curves
                 .entry((l.n, l.s, l.label.clone()))
@@ -949,8 +949,7 @@ mod tests {
         // tilted cone (Goerbig et al., Phys. Rev. B 78, 045415 (2008)) at cutoff 40: the levels
         // of the window beyond the converged range are not comparable, which is no failure
         let lm = loaded(
-            ladderfan::catalogue::tilted_dirac2d(Default::default())
-                .unwrap_or_else(|e| panic!("{e}")),
+            ladderfan::models::tilted_dirac2d(Default::default()).unwrap_or_else(|e| panic!("{e}")),
         );
         let s = Spectrum::compute(
             &lm.model,

@@ -7,14 +7,12 @@ use super::common::{
     ModelArgs, ModelJson, SolveArgs, UnitsJson,
 };
 use clap::Args;
-use ladderfan::modelfile;
 use ladderfan::verify::{
     self, Agreement, EnergyScale, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
     Window,
 };
 use ladderfan::{Error, Reference, Spectrum};
 use serde::Serialize;
-use std::collections::BTreeMap;
 use std::path::PathBuf;
 
 /// Flags of `ladderfan verify`.
@@ -25,7 +23,7 @@ pub struct VerifyArgs {
     #[command(flatten)]
     pub solve: SolveArgs,
     /// The expected energy E(n, s) as an expression (see the README, section Verifying a level formula), e.g.
-    /// "s*sqrt(2*n)*hbar*velocity*metre/second/l_B".
+    /// "s*sqrt(2*n)*hbar*velocity_m_per_s*metre/second/l_B".
     #[arg(
         long,
         value_name = "EXPR",
@@ -164,36 +162,6 @@ fn parse_case(text: &str, i: usize) -> CliResult<(String, String)> {
     }
 }
 
-/// The built-in's command-line parameter names (`mass_mev`, `velocity_m_per_s`, ...) with their
-/// values, so that formulas can use the names given to `--set`.
-fn builtin_variables(args: &ModelArgs) -> CliResult<Vec<(String, f64)>> {
-    let name = match (&args.model, &args.builtin) {
-        (None, Some(name)) => name,
-        _ => return Ok(Vec::new()),
-    };
-    let info = match modelfile::builtin_info(name) {
-        Some(i) => i,
-        None => return Ok(Vec::new()),
-    };
-    let mut values: BTreeMap<String, f64> = info
-        .params
-        .iter()
-        .map(|p| (p.name.to_string(), p.default))
-        .collect();
-    for item in &args.set {
-        if let Some((k, v)) = item.split_once('=') {
-            let x = modelfile::eval_expression(
-                v.trim(),
-                info.units,
-                &BTreeMap::new(),
-                &format!("--set {}", k.trim()),
-            )?;
-            values.insert(k.trim().to_string(), x);
-        }
-    }
-    Ok(values.into_iter().collect())
-}
-
 /// Run `ladderfan verify`.
 ///
 /// # Errors
@@ -240,7 +208,7 @@ pub fn run(args: &VerifyArgs) -> CliResult {
                 n0: args.formula_n0.clone(),
                 cases,
                 multiplicity: args.multiplicity.clone(),
-                variables: builtin_variables(&args.model)?,
+                variables: Vec::new(),
             };
             let list = ExpectedList::from_formula(&lm.model, point, origin, &formula, &ns, &ss)?;
             let mut source = format!("formula \"{f}\" for n = {n_text}, s = {s_text}");

@@ -236,10 +236,10 @@ pub fn from_per_cm2(units: Units, per_cm2_value: f64) -> f64 {
 ///
 /// # Examples
 /// ```
-/// use ladderfan::builtin;
+/// use ladderfan::models;
 /// use ladderfan::observables::dos::bounded_below;
-/// assert!(bounded_below(&builtin::schrodinger(builtin::MassParams::default())?));
-/// assert!(!bounded_below(&builtin::dirac2d(builtin::Dirac2dParams::default())?));
+/// assert!(bounded_below(&models::schrodinger(models::MassParams::default())?));
+/// assert!(!bounded_below(&models::dirac2d(models::Dirac2dParams::default())?));
 /// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn bounded_below(model: &Model) -> bool {

@@ -276,8 +276,8 @@ pub fn carrier_density(
 /// # Examples
 /// ```
 /// use ladderfan::observables::{dos::Broadening, filling::*};
-/// use ladderfan::{builtin, FieldPoint, Settings, Spectrum};
-/// let m = builtin::schrodinger(builtin::MassParams::default())?;
+/// use ladderfan::{models, FieldPoint, Settings, Spectrum};
+/// let m = models::schrodinger(models::MassParams::default())?;
 /// let s = Spectrum::compute(&m, FieldPoint::field(10.0), &Settings::with_cutoff(60))?;
 /// // filling factor 3: with spin degeneracy 2, n = 3 eB/h; the Fermi level sits in the
 /// // second Landau level at (3/2) hbar omega_c = 1.737 meV (Landau 1930)

@@ -146,9 +146,9 @@ pub struct Track {
 ///
 /// # Examples
 /// ```
-/// use ladderfan::{builtin, sweep, FieldPoint, Settings};
+/// use ladderfan::{models, sweep, FieldPoint, Settings};
 /// use ladderfan::observables::labels::tracks;
-/// let m = builtin::schrodinger(builtin::MassParams::default())?;
+/// let m = models::schrodinger(models::MassParams::default())?;
 /// let pts: Vec<_> = [1.0, 2.0, 3.0].iter().map(|&b| FieldPoint::field(b)).collect();
 /// let t = tracks(&sweep::run(&m, &pts, &Settings::with_cutoff(20))?);
 /// // each Landau level is its own track: E_0 grows linearly, hbar omega_c / 2 per tesla

@@ -22,9 +22,9 @@
 //! # Examples
 //! ```
 //! use ladderfan::observables::{dos::Broadening, filling::*, optics::*};
-//! use ladderfan::{builtin, FieldPoint, Settings, Spectrum, Vectors};
+//! use ladderfan::{models, FieldPoint, Settings, Spectrum, Vectors};
 //! // free electron at 2 T, 5 electrons per Landau degeneracy (invented numbers)
-//! let m = builtin::schrodinger(builtin::MassParams::default())?;
+//! let m = models::schrodinger(models::MassParams::default())?;
 //! let mut s = Settings::with_cutoff(40);
 //! s.vectors = Vectors::Compute;
 //! let spec = Spectrum::compute(&m, FieldPoint::field(2.0), &s)?;

@@ -61,9 +61,9 @@ pub enum Direction {
 ///
 /// # Examples
 /// ```
-/// use ladderfan::{builtin, Monomial};
+/// use ladderfan::{models, Monomial};
 /// use ladderfan::observables::optics::{velocity_model, Direction};
-/// let m = builtin::schrodinger(builtin::MassParams::default())?;
+/// let m = models::schrodinger(models::MassParams::default())?;
 /// let vx = velocity_model(&m, Direction::X)?.expect("kx terms");
 /// // d/dkx (c kx^2) = 2 c kx, c = hbar^2/2m_e = 38.0998 meV nm^2 (CODATA 2018)
 /// assert_eq!(vx.terms()[0].monomial, Monomial::KX);

@@ -44,11 +44,11 @@
 //! # Examples
 //! ```
 //! use ladderfan::observables::{dos::Broadening, volume::*};
-//! use ladderfan::{builtin, Settings};
+//! use ladderfan::{models, Settings};
 //! // one Weyl node (v = 3e5 m/s, invented) at 10 T: between the first Landau levels at
 //! // ±hbar v sqrt(2)/l_B = ±34 meV only the chiral level is there, and its density of states
 //! // is |eB|/h x 1/(2 pi hbar v) (Nielsen & Ninomiya, Phys. Lett. B 130, 389 (1983))
-//! let m = builtin::weyl(builtin::WeylParams::default())?;
+//! let m = models::weyl(models::WeylParams::default())?;
 //! let vs = VolumeSettings::new(Broadening::gaussian(1.0), (-10.0, 10.0));
 //! let v = VolumeDensity::compute(&m, 10.0, &Settings::with_cutoff(200), &vs)?;
 //! let hv = ladderfan::units::hbar_v_mev_nm(3.0e5);

@@ -510,8 +510,8 @@ impl Spectrum {
     ///
     /// # Examples
     /// ```
-    /// use ladderfan::{builtin, FieldPoint, Settings, Spectrum};
-    /// let model = builtin::schrodinger(builtin::MassParams { mass_ratio: 1.0, charge: -1.0 })?;
+    /// use ladderfan::{models, FieldPoint, Settings, Spectrum};
+    /// let model = models::schrodinger(models::MassParams { mass_ratio: 1.0, charge: -1.0 })?;
     /// let spec = Spectrum::compute(&model, FieldPoint::field(1.0), &Settings::with_cutoff(40))?;
     /// // hbar omega_c / 2 for a free electron at 1 T: 0.05788 meV (CODATA 2018: 2 mu_B B / 2)
     /// assert!((spec.levels[0].energy - 0.057_883_8).abs() < 1e-6);

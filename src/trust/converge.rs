@@ -231,7 +231,7 @@ pub struct Study {
 /// Where the actual error of a study is measured from.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ExactValues<'a> {
-    /// The closed form of [`crate::closed_form::for_model`] when the model has one, else the
+    /// The closed form of [`crate::models::expected_levels`] when the model has one, else the
     /// energy at the largest cutoff.
     ClosedFormIfKnown,
     /// Always the energy at the largest cutoff.
@@ -282,7 +282,7 @@ pub fn study(
             &shapes,
             largest,
             matches!(exact, ExactValues::ClosedFormIfKnown)
-                && crate::closed_form::for_model(model, point, model.reference_energy(), 1)
+                && crate::models::expected_levels(model, point, model.reference_energy(), 1)
                     .is_some(),
             rayon::current_num_threads() as u64,
         ),
@@ -309,7 +309,7 @@ pub fn study(
     let picked = selection.pick(last);
     let closed: Option<Vec<f64>> = match exact {
         ExactValues::ClosedFormIfKnown => {
-            crate::closed_form::for_model(model, point, last.reference_energy, 2 * largest + 8)
+            crate::models::expected_levels(model, point, last.reference_energy, 2 * largest + 8)
                 .map(|v| v.iter().map(|l| l.energy).collect())
         }
         ExactValues::LargestCutoff => None,
@@ -655,9 +655,9 @@ fn validate_auto(a: &AutoSettings) -> Result<()> {
 ///
 /// # Examples
 /// ```
-/// use ladderfan::{builtin, FieldPoint};
+/// use ladderfan::{models, FieldPoint};
 /// use ladderfan::trust::converge::{auto, AutoSettings, Selection};
-/// let model = builtin::dirac2d(builtin::Dirac2dParams { mass_mev: 10.0, ..Default::default() })?;
+/// let model = models::dirac2d(models::Dirac2dParams { mass_mev: 10.0, ..Default::default() })?;
 /// let sel = Selection::Nearest { target: 0.0, count: 20 };
 /// let res = auto(&model, FieldPoint::field(5.0), &AutoSettings::new(sel, 1e-9))?;
 /// // n = 0 level at tau sign(qB) Delta = -10 meV for tau = +1, q = -1, B > 0 (McClure 1956)

@@ -199,7 +199,7 @@ mod tests {
     fn lab_constants_are_coherent() {
         // meV-nm-fs-T system: hbar^2/(2 m_e) = 38.0998 meV nm^2 and hbar e / m_e = 2 mu_B
         // (CODATA 2018 values, common practice).
-        let m = match crate::builtin::schrodinger(crate::builtin::MassParams::default()) {
+        let m = match crate::models::schrodinger(crate::models::MassParams::default()) {
             Ok(m) => m,
             Err(e) => panic!("{e}"),
         };

@@ -37,11 +37,12 @@
 pub mod formula;
 pub mod matching;
 
-use crate::closed_form::{self, ExpectedLevel};
+use crate::closed_form::ExpectedLevel;
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
 use crate::model::Model;
+use crate::models;
 use crate::sectors::SectorId;
 use crate::solve::Reference;
 use formula::CompiledFormula;
@@ -200,8 +201,8 @@ impl ExpectedList {
     ///
     /// # Examples
     /// ```
-    /// use ladderfan::{builtin, verify, FieldPoint, Reference, Settings, Spectrum};
-    /// let m = builtin::pauli(builtin::PauliParams { mass_ratio: 0.5, g_factor: 3.0, charge: -1.0 })?;
+    /// use ladderfan::{models, verify, FieldPoint, Reference, Settings, Spectrum};
+    /// let m = models::pauli(models::PauliParams { mass_ratio: 0.5, g_factor: 3.0, charge: -1.0 })?;
     /// let pt = FieldPoint::field(2.0);
     /// let w = ladderfan::closed_form::cyclotron_energy_mev(0.5, 2.0, -1.0);
     /// let z = 1.5 * ladderfan::units::BOHR_MAGNETON_MEV_PER_T * 2.0;
@@ -311,11 +312,11 @@ impl ExpectedList {
     ///
     /// # Examples
     /// ```
-    /// use ladderfan::{builtin, verify, FieldPoint, Reference};
-    /// let m = builtin::dirac2d(builtin::Dirac2dParams { mass_mev: 5.0, ..Default::default() })?;
+    /// use ladderfan::{models, verify, FieldPoint, Reference};
+    /// let m = models::dirac2d(models::Dirac2dParams { mass_mev: 5.0, ..Default::default() })?;
     /// let f = verify::LevelFormula {
-    ///     formula: "s*sqrt(mass^2 + 2*n*(hbar*velocity*metre/second/l_B)^2)".into(),
-    ///     n0: Some("valley*sign(q*B)*mass".into()),
+    ///     formula: "s*sqrt(mass_mev^2 + 2*n*(hbar*velocity_m_per_s*metre/second/l_B)^2)".into(),
+    ///     n0: Some("valley*sign(q*B)*mass_mev".into()),
     ///     ..Default::default()
     /// };
     /// let ns: Vec<i64> = (0..=3).collect();
@@ -379,13 +380,13 @@ impl ExpectedList {
         })
     }
 
-    /// The crate's closed form for `model` ([`closed_form::for_model`]) for Landau indices
+    /// The crate's closed form for `model` ([`models::expected_levels`]) for Landau indices
     /// 0..=max_n, relative to the model's reference energy, with the window closed where the
     /// index max_n + 1 of each branch lies. `None` when there is no closed form for the model.
     pub fn from_closed_form(model: &Model, point: FieldPoint, max_n: usize) -> Option<Self> {
         let r = model.reference_energy();
-        let levels = closed_form::for_model(model, point, r, max_n)?;
-        let next = closed_form::for_model(model, point, r, max_n + 1)?;
+        let levels = models::expected_levels(model, point, r, max_n)?;
+        let next = models::expected_levels(model, point, r, max_n + 1)?;
         let family = |l: &ExpectedLevel| -> (i8, String) {
             (
                 l.s,
