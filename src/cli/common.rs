@@ -9,29 +9,14 @@ use std::collections::BTreeMap;
 use std::io::{IsTerminal, Write};
 use std::path::{Path, PathBuf};
 
+pub use super::parse::{parse_count, parse_int_list};
+
 /// Exit code for a run whose verification (closed form, convergence) failed.
 pub const EXIT_VERIFICATION: i32 = 1;
 /// Exit code for bad input (model file, flags, values).
 pub const EXIT_BAD_INPUT: i32 = 2;
 /// Exit code for an internal error (a panic: a bug in ladderfan).
 pub const EXIT_INTERNAL: i32 = 3;
-
-/// Parse a count flag (`--cutoff`, `--points`, ...): a whole number, with a message that
-/// says what is wrong with a negative, fractional or huge value.
-pub fn parse_count(s: &str) -> std::result::Result<usize, String> {
-    let t = s.trim();
-    if let Ok(n) = t.parse::<usize>() {
-        return Ok(n);
-    }
-    match t.parse::<f64>() {
-        Ok(x) if x < 0.0 => Err(format!("{t} is negative; give a whole number such as 200")),
-        Ok(x) if x.fract() == 0.0 && x.is_finite() && x < 1e19 => Ok(x as usize),
-        Ok(x) if x.is_finite() && x.fract() == 0.0 => {
-            Err(format!("{t} is too large; give a whole number such as 200"))
-        }
-        _ => Err(format!("'{t}' is not a whole number; give e.g. 200")),
-    }
-}
 
 /// What can end a command.
 #[derive(Debug)]
@@ -66,6 +51,8 @@ impl CliError {
     /// The one-line message (without the `ladderfan: error: ` prefix).
     pub fn message(&self) -> String {
         let m = match self {
+            // the library states the physics; the command line knows the flag that sets it
+            CliError::Input(e @ Error::ZeroField { .. }) => format!("{e} (pass e.g. --field 1)"),
             CliError::Input(e) => e.to_string(),
             CliError::Verification(m) => format!("verification failed: {m}"),
             CliError::BrokenPipe => String::new(),

@@ -23,6 +23,7 @@ pub mod levels;
 pub mod merge;
 pub mod models;
 pub mod optics;
+pub mod parse;
 pub mod sweep;
 pub mod verify;
 

@@ -216,9 +216,9 @@ pub fn run(args: &VerifyArgs) -> CliResult {
                     "a formula needs the Landau indices it covers; pass e.g. --n 0..40",
                 )
             })?;
-            let ns = verify::parse_int_list(n_text, "--n")?;
+            let ns = common::parse_int_list(n_text, "--n")?;
             let s_text = args.s_values.as_deref().unwrap_or("0");
-            let ss: Vec<i8> = verify::parse_int_list(s_text, "--s")?
+            let ss: Vec<i8> = common::parse_int_list(s_text, "--s")?
                 .into_iter()
                 .map(|s| {
                     i8::try_from(s).map_err(|_| {
