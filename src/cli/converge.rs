@@ -15,9 +15,10 @@
 
 use super::common::{
     self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
-    ModelArgs, ModelJson, OutputArgs, OutputFiles, SolveArgs, TruncArgs, UnitsJson,
+    ModelArgs, OutputArgs, OutputFiles, SolveArgs, TruncArgs,
 };
 use clap::{Args, ValueEnum};
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
     auto, study, AutoResult, AutoSettings, AutoStep, BoundChoice, ExactValues, NeededCutoff,
     Selection, Study,
@@ -150,9 +151,9 @@ pub struct StudyJson<'a> {
     /// `study`.
     pub mode: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// The study.
     pub study: &'a Study,
     /// Wall-clock seconds per cutoff, only with `--timings` (they differ from run to run).
@@ -189,9 +190,9 @@ pub struct AutoJson<'a> {
     /// `auto`.
     pub mode: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -395,8 +396,8 @@ fn auto_json<'a>(
     AutoJson {
         command: "converge",
         mode: "auto",
-        model: ModelJson::new(lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         field: s.point.field,
         kz: s.point.kz,
         tolerance: tol,
@@ -530,8 +531,8 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
                 emit_json(&StudyJson {
                     command: "converge",
                     mode: "study",
-                    model: ModelJson::new(&lm),
-                    units: UnitsJson::new(&lm.model),
+                    model: ModelRecord::new(&lm.model, &lm.origin),
+                    units: UnitsRecord::new(&lm.model),
                     study: &st,
                     seconds: a.timings.then_some(st.seconds.as_slice()),
                 })

@@ -3,7 +3,7 @@
 
 use super::common::{
     self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
-    LoadedModel, ModelArgs, ModelJson, OutputArgs, OutputFiles, SolveArgs, UnitsJson,
+    LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use clap::{Args, ValueEnum};
 use ladderfan::observables::dos::{
@@ -16,6 +16,7 @@ use ladderfan::observables::volume::{
     fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
 };
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use serde::Serialize;
 
@@ -279,9 +280,9 @@ pub struct DosJson {
     /// Always `dos`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz (a 3D model's DOS is that of one kz sheet).
@@ -454,8 +455,8 @@ pub fn run(a: &DosArgs) -> CliResult {
     };
     let json = DosJson {
         command: "dos",
-        model: ModelJson::new(&lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         field: r.field,
         kz: r.kz,
         cutoff: r.cutoff,

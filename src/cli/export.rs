@@ -2,11 +2,11 @@
 //! file (`%%MatrixMarket matrix coordinate complex hermitian`: lower triangle, 1-based).
 
 use super::common::{
-    self, bad_flag, emit, emit_json, load_model, CliError, CliResult, ModelArgs, ModelJson,
-    SolveArgs, UnitsJson,
+    self, bad_flag, emit, emit_json, load_model, CliError, CliResult, ModelArgs, SolveArgs,
 };
 use clap::Args;
 use ladderfan::hamiltonian::LadderHamiltonian;
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::sectors::{SectorId, SectorPlan, Symmetry};
 use num_complex::Complex64;
 use serde::Serialize;
@@ -36,9 +36,9 @@ pub struct ExportJson {
     /// Always `export`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -402,8 +402,8 @@ pub fn run(a: &ExportArgs) -> CliResult {
     if a.json {
         emit_json(&ExportJson {
             command: "export",
-            model: ModelJson::new(&lm),
-            units: UnitsJson::new(&lm.model),
+            model: ModelRecord::new(&lm.model, &lm.origin),
+            units: UnitsRecord::new(&lm.model),
             field: r.field,
             kz: r.kz,
             cutoff: r.cutoff,

@@ -1,13 +1,13 @@
 //! `ladderfan levels`: the spectrum at one field and kz as a labelled table.
 
 use super::common::{
-    self, csv_header, csv_text, emit, emit_json, fmt_num, levels_json, load_model, nearest_levels,
-    CliResult, LevelJson, LoadedModel, ModelArgs, ModelJson, OutputArgs, OutputFiles, Resolved,
-    SolveArgs, SymmetryJson, UnitsJson,
+    self, csv_header, csv_text, emit, emit_json, fmt_num, load_model, nearest_levels, CliResult,
+    LoadedModel, ModelArgs, OutputArgs, OutputFiles, Resolved, SolveArgs,
 };
 use clap::Args;
 use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
+use ladderfan::records::{level_records, LevelRecord, ModelRecord, SymmetryRecord, UnitsRecord};
 use ladderfan::Spectrum;
 use serde::Serialize;
 
@@ -35,9 +35,9 @@ pub struct LevelsJson {
     /// Always `levels`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -51,7 +51,7 @@ pub struct LevelsJson {
     /// Relative tolerance of the convergence flags.
     pub tolerance: f64,
     /// Symmetry found.
-    pub symmetry: SymmetryJson,
+    pub symmetry: SymmetryRecord,
     /// Number of levels computed.
     pub levels_total: usize,
     /// Number of converged levels.
@@ -61,7 +61,7 @@ pub struct LevelsJson {
     /// Number of cutoff artefacts.
     pub levels_artefacts: usize,
     /// The levels shown, ascending in energy.
-    pub levels: Vec<LevelJson>,
+    pub levels: Vec<LevelRecord>,
     /// Named warnings (also printed on stderr), e.g. `nothing converged`.
     pub warnings: Vec<String>,
 }
@@ -90,20 +90,20 @@ pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
 pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
     LevelsJson {
         command: "levels",
-        model: ModelJson::new(lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         field: s.point.field,
         kz: s.point.kz,
         cutoff: s.cutoff,
         reference_energy: s.reference_energy,
         magnetic_length: s.magnetic_length,
         tolerance: s.tolerance,
-        symmetry: SymmetryJson::new(s),
+        symmetry: SymmetryRecord::new(s),
         levels_total: s.levels.len(),
         levels_converged: s.converged().count(),
         levels_not_converged: count_state(s, Convergence::NotConverged),
         levels_artefacts: count_state(s, Convergence::CutoffArtefact),
-        levels: levels_json(&lm.model, s, idx),
+        levels: level_records(&lm.model, s, idx),
         warnings: warnings(s),
     }
 }
@@ -164,7 +164,7 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
         "from".into(),
         "state".into(),
     ]);
-    for l in levels_json(&lm.model, s, idx) {
+    for l in level_records(&lm.model, s, idx) {
         let mut r = vec![
             l.sector.clone(),
             l.label.clone(),
@@ -240,7 +240,7 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         };
         rec[0].push(format!("weight_{name}"));
     }
-    for l in levels_json(&lm.model, s, idx) {
+    for l in level_records(&lm.model, s, idx) {
         let origin = match l.label_origin {
             ladderfan::levels::LabelOrigin::ExactSector => "exact_sector",
             ladderfan::levels::LabelOrigin::Continuation => "continuation",

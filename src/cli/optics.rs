@@ -3,13 +3,14 @@
 
 use super::common::{
     self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
-    LoadedModel, ModelArgs, ModelJson, OutputArgs, OutputFiles, SolveArgs, UnitsJson,
+    LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use super::dos::{FermiArgs, FermiJson};
 use clap::Args;
 use ladderfan::observables::optics::{
     transition_sweep, OpticsSettings, Polarisation, Transition, TransitionPoint,
 };
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use plotters::prelude::*;
 use serde::Serialize;
@@ -102,9 +103,9 @@ pub struct OpticsJson {
     /// Always `optics`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of energies and fields.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Velocity unit of the strengths (m/s, or c in natural units).
     pub velocity_unit: &'static str,
     /// kz.
@@ -246,8 +247,8 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         .max(f64::MIN_POSITIVE);
     let json = OpticsJson {
         command: "optics",
-        model: ModelJson::new(&lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         velocity_unit: match u {
             ladderfan::units::Units::Lab => "m/s",
             ladderfan::units::Units::Natural => "c",

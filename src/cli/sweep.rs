@@ -1,16 +1,15 @@
-//! Sweeps shared by `fan` and `dispersion`: parallel solves over points, tracking of levels by
-//! label across the sweep, window selection and the CSV/JSON/SVG views.
+//! Sweeps shared by `fan` and `dispersion`: parallel solves over points, window selection and
+//! the CSV/JSON/SVG views. Tracking by label and the closed-form check are the library's
+//! ([`ladderfan::records::track_records`], [`ladderfan::verify::closed_form_check`]).
 
 use super::common::{
-    self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel, ModelJson,
-    SymmetryJson, UnitsJson,
+    self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel,
 };
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::closed_form;
-use ladderfan::levels::{Branch, LabelOrigin};
-use ladderfan::observables::labels;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
 use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
@@ -56,32 +55,6 @@ pub enum Swept {
     Field,
     /// kz.
     Kz,
-}
-
-/// One tracked level across the sweep (None where it was not converged or not present),
-/// followed by its quantum numbers ([`ladderfan::observables::labels::tracks`]).
-#[derive(Debug, Clone, Serialize)]
-pub struct Track {
-    /// The identity as integers `family:n:branch:copy` (n = -1 unlabelled; branch +k above
-    /// the gap, -k below, 0 unpaired): the grouping column of the CSV and of shard merges.
-    pub track: String,
-    /// The level's identity as printed: Landau label (`+2`, `-2`, `0`, `+1'`; `?` unlabelled),
-    /// `@f<family>` for a family other than 0, `#<copy>` for a repeated label.
-    pub label: String,
-    /// Landau index n (null: no label).
-    pub n: Option<i64>,
-    /// Branch within the sector.
-    pub branch: Branch,
-    /// Family (smallest component of the coupled set).
-    pub family: usize,
-    /// How the label was obtained at the reference point (or the first point it appears).
-    pub label_origin: LabelOrigin,
-    /// Dominant component name at the reference point.
-    pub component: Option<String>,
-    /// Energies per sweep point (null: not converged there).
-    pub energies: Vec<Option<f64>>,
-    /// Bounds per sweep point.
-    pub bounds: Vec<Option<f64>>,
 }
 
 /// Solve at every point, in parallel over points; the result order is the point order, and
@@ -149,56 +122,6 @@ pub fn solve_points(
     Ok(spectra)
 }
 
-/// Follow every level across the sweep by its quantum numbers (the library's
-/// [`labels::tracks`]; cutoff artefacts never enter). Only converged values are kept.
-pub fn track(lm: &LoadedModel, spectra: &[Spectrum], reference: usize) -> Vec<Track> {
-    let np = spectra.len();
-    let ids = |k: &labels::TrackKey| {
-        let b = match k.branch {
-            Branch::Upper(x) => x as i64,
-            Branch::Lower(x) => -(x as i64),
-            Branch::Unpaired => 0,
-        };
-        [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
-    };
-    let mut all = labels::tracks(spectra);
-    // the order of the integer identity, which is also the order of a shard merge
-    all.sort_by_key(|t| ids(&t.key));
-    all.into_iter()
-        .map(|t| {
-            let mut energies = vec![None; np];
-            let mut bounds = vec![None; np];
-            let mut origin = None;
-            let mut component = None;
-            for p in &t.points {
-                let l = &spectra[p.point].levels[p.level];
-                if p.converged {
-                    energies[p.point] = Some(l.energy);
-                    bounds[p.point] = Some(l.bound);
-                }
-                if origin.is_none() || p.point == reference {
-                    origin = Some(l.label.origin);
-                }
-                if p.point == reference {
-                    component = lm.model.component_names().get(l.component).cloned();
-                }
-            }
-            let id = ids(&t.key);
-            Track {
-                track: format!("{}:{}:{}:{}", id[0], id[1], id[2], id[3]),
-                label: t.key.to_string(),
-                n: t.key.n,
-                branch: t.key.branch,
-                family: t.key.family,
-                label_origin: origin.unwrap_or(LabelOrigin::Unlabelled),
-                component,
-                energies,
-                bounds,
-            }
-        })
-        .collect()
-}
-
 /// The energy window: flags if given, else the span of the `count` converged levels closest to
 /// the reference energy at the reference point, padded by 10 %.
 pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
@@ -233,34 +156,6 @@ pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
     Ok((lo, hi))
 }
 
-/// Keep the tracks that enter the window at some point, and their values within the window
-/// widened by half its width on either side (so curves leave the plot frame cleanly).
-pub fn in_window(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
-    let entering = tracks
-        .into_iter()
-        .filter(|t| t.energies.iter().flatten().any(|&e| e >= lo && e <= hi))
-        .collect();
-    trim_to_margin(entering, (lo, hi))
-}
-
-/// Drop the values of every track lying more than half a window outside it (a shard keeps
-/// every track: whether a track enters the window is decided over all shards by the merge).
-pub fn trim_to_margin(tracks: Vec<Track>, (lo, hi): (f64, f64)) -> Vec<Track> {
-    let margin = 0.5 * (hi - lo);
-    tracks
-        .into_iter()
-        .map(|mut t| {
-            for (e, b) in t.energies.iter_mut().zip(t.bounds.iter_mut()) {
-                if e.is_some_and(|v| v < lo - margin || v > hi + margin) {
-                    *e = None;
-                    *b = None;
-                }
-            }
-            t
-        })
-        .collect()
-}
-
 /// Closed-form overlay curves for the swept points, if the model has a closed form
 /// ([`ladderfan::closed_form::for_model`]): one curve per closed-form label, values outside the
 /// window (widened by half its width) dropped.
@@ -292,134 +187,15 @@ pub fn closed_form_curves(
     )
 }
 
-/// Outcome of comparing computed levels with a closed form at one or more points, each point
-/// through [`ladderfan::verify::check`] (one-to-one matching, its tolerance rule).
-#[derive(Debug, Clone, Serialize)]
-pub struct ClosedFormCheck {
-    /// Source named by the closed form module (the model's published formula).
-    pub model: String,
-    /// Pairs checked over all points (converged computed level, closed-form state).
-    pub computed_compared: usize,
-    /// Closed-form states paired over all points (the same pairs, counted from the closed
-    /// form's side).
-    pub expected_compared: usize,
-    /// Largest |E_computed - E_closed form| among the pairs, energy unit of the model.
-    pub max_deviation: f64,
-    /// Largest |deviation| / allowed deviation among the pairs (<= 1 for agreement).
-    pub worst_ratio: f64,
-    /// Points where some closed-form level in the window has only unconverged candidates or
-    /// lies beyond the converged range: not comparable at this cutoff there (neither a pass
-    /// nor a failure for those levels).
-    pub not_comparable_points: usize,
-    /// Points where a level disagrees or has no partner.
-    pub failed_points: usize,
-    /// False only for a real disagreement (some failed point).
-    pub passed: bool,
-    /// What to tell the user: empty when every point agrees.
-    pub note: String,
-}
-
-/// Compare the converged levels in the window with the closed form at every spectrum, through
-/// [`verify::check`] with its default settings: the closed-form list covers Landau indices up
-/// to N - 1 for cutoff N, its own completeness window is intersected with the sweep's window. A point
-/// whose verdict is inconclusive (closed-form levels whose only candidates are not converged)
-/// is "not comparable at this cutoff", which is no failure. `None` when the model has no closed
-/// form.
-pub fn closed_form_check(
-    lm: &LoadedModel,
-    spectra: &[&Spectrum],
-    (lo, hi): (f64, f64),
-) -> Option<ClosedFormCheck> {
-    let mut out = ClosedFormCheck {
-        model: lm.model.name().to_string(),
-        computed_compared: 0,
-        expected_compared: 0,
-        max_deviation: 0.0,
-        worst_ratio: 0.0,
-        not_comparable_points: 0,
-        failed_points: 0,
-        passed: true,
-        note: String::new(),
-    };
-    let settings = verify::VerifySettings::default();
-    let mut first_failure = None;
-    for s in spectra {
-        // Landau indices the truncated basis can hold: n <= N - 1
-        let max_n = s.cutoff.saturating_sub(1).max(1);
-        let list = verify::ExpectedList::from_closed_form(&lm.model, s.point, max_n)?;
-        // the list's energies are relative to the model reference, the spectrum's to its own
-        let shift = list.origin - s.reference_energy;
-        let (wlo, whi) = (lo - shift, hi - shift);
-        let lower = match list.window.lower {
-            verify::Edge::Exclude(x) if x >= wlo => verify::Edge::Exclude(x),
-            verify::Edge::Include(x) if x >= wlo => verify::Edge::Include(x),
-            _ => verify::Edge::Include(wlo),
-        };
-        let upper = match list.window.upper {
-            verify::Edge::Exclude(x) if x <= whi => verify::Edge::Exclude(x),
-            verify::Edge::Include(x) if x <= whi => verify::Edge::Include(x),
-            _ => verify::Edge::Include(whi),
-        };
-        let list = list.with_window(verify::Window { lower, upper });
-        let v = verify::check(s, &list, &settings).ok()?;
-        // closed-form states inside the window that were neither paired nor reported missing or
-        // unresolved lie beyond the converged range: not comparable at this cutoff
-        let inside: usize = list
-            .levels
-            .iter()
-            .filter(|x| x.energy - shift >= lo && x.energy - shift <= hi)
-            .map(|x| x.multiplicity as usize)
-            .sum();
-        let accounted = v.pairs.len() + v.missing_expected.len() + v.unresolved_expected.len();
-        let beyond = inside > accounted;
-        for p in &v.pairs {
-            out.computed_compared += 1;
-            out.expected_compared += 1;
-            out.max_deviation = out.max_deviation.max(p.deviation.abs());
-            out.worst_ratio = out.worst_ratio.max(p.deviation.abs() / p.allowed);
-        }
-        match v.outcome {
-            verify::Outcome::Pass if beyond => out.not_comparable_points += 1,
-            verify::Outcome::Pass => {}
-            verify::Outcome::Inconclusive => out.not_comparable_points += 1,
-            verify::Outcome::Fail => {
-                out.failed_points += 1;
-                if first_failure.is_none() {
-                    first_failure = Some((s.point, v.verdict_line(s.units.energy_unit())));
-                }
-            }
-        }
-    }
-    out.passed = out.failed_points == 0;
-    if let Some((p, line)) = first_failure {
-        out.note = format!(
-            "disagrees at {} of {} points (first at field {}, kz {}: {line})",
-            out.failed_points,
-            spectra.len(),
-            p.field,
-            p.kz
-        );
-    } else if out.not_comparable_points > 0 {
-        out.note = format!(
-            "not comparable at this cutoff at {} of {} points: closed-form levels in the window \
-             have only unconverged partners there (raise --cutoff or narrow the window); the \
-             converged levels agree",
-            out.not_comparable_points,
-            spectra.len()
-        );
-    }
-    Some(out)
-}
-
 /// Everything a sweep produced.
 #[derive(Debug, Serialize)]
 pub struct SweepJson {
     /// `fan` or `dispersion`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Which quantity is swept.
     pub swept: Swept,
     /// Grid spacing.
@@ -435,15 +211,15 @@ pub struct SweepJson {
     /// Energies are relative to this.
     pub reference_energy: f64,
     /// Symmetry found at the reference point.
-    pub symmetry: SymmetryJson,
+    pub symmetry: SymmetryRecord,
     /// Energy window of the listed tracks.
     pub window: (f64, f64),
     /// Index of the point that set the tracks' component and the default window.
     pub reference_point: usize,
     /// Comparison with the model's closed form over every point, when it has one.
-    pub closed_form: Option<ClosedFormCheck>,
+    pub closed_form: Option<verify::ClosedFormCheck>,
     /// The tracked levels entering the window.
-    pub tracks: Vec<Track>,
+    pub tracks: Vec<TrackRecord>,
 }
 
 /// CSV (long format: one row per point and track) with `#` header lines.
@@ -640,7 +416,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
     ]];
     // the table lists the tracks inside the window at the reference point
     let (lo, hi) = j.window;
-    let mut tracks: Vec<&Track> = j
+    let mut tracks: Vec<&TrackRecord> = j
         .tracks
         .iter()
         .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
@@ -772,7 +548,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     };
     let win = window(a, reference)?;
     let local_reference = plan.reference_point.wrapping_sub(block.start);
-    let mut tracks = track(lm, &spectra, local_reference);
+    let mut tracks = records::track_records(&lm.model, &spectra, local_reference);
     if shard.is_some() {
         // place the shard's values at their indices in the whole sweep
         for t in &mut tracks {
@@ -798,8 +574,8 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         }
     });
     let tracks = match shard {
-        Some(_) => trim_to_margin(tracks, win),
-        None => in_window(tracks, win),
+        Some(_) => records::trim_to_margin(tracks, win),
+        None => records::in_window(tracks, win),
     };
     let closed = closed_form_curves(
         lm,
@@ -810,11 +586,11 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         win,
     );
     let all: Vec<&Spectrum> = spectra.iter().collect();
-    let check = closed_form_check(lm, &all, win);
+    let check = verify::closed_form_check(&lm.model, &all, win);
     let json = SweepJson {
         command: plan.command,
-        model: ModelJson::new(lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         swept: plan.swept,
         grid: a.grid,
         values: plan.values.clone(),
@@ -828,7 +604,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         },
         cutoff: plan.cutoff,
         reference_energy: reference.reference_energy,
-        symmetry: SymmetryJson::new(reference),
+        symmetry: SymmetryRecord::new(reference),
         window: win,
         reference_point: plan.reference_point,
         closed_form: check,
@@ -896,7 +672,7 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
 
 /// Exit status of a closed-form comparison: a disagreement is a failed verification; levels
 /// that are not comparable at this cutoff are not.
-pub fn verdict(c: Option<&ClosedFormCheck>) -> CliResult {
+pub fn verdict(c: Option<&verify::ClosedFormCheck>) -> CliResult {
     match c {
         Some(c) if !c.passed => Err(CliError::Verification(format!(
             "computed levels of {} {}",
@@ -912,7 +688,7 @@ mod tests {
 
     #[test]
     fn a_closed_form_disagreement_is_a_verification_failure() {
-        let mut c = ClosedFormCheck {
+        let mut c = verify::ClosedFormCheck {
             model: "m".into(),
             computed_compared: 3,
             expected_compared: 3,
@@ -933,52 +709,5 @@ mod tests {
         c.passed = true;
         assert!(verdict(Some(&c)).is_ok());
         assert!(verdict(None).is_ok());
-    }
-
-    fn loaded(model: ladderfan::Model) -> LoadedModel {
-        LoadedModel {
-            model,
-            defaults: Default::default(),
-            origin: "test".into(),
-            file: None,
-        }
-    }
-
-    #[test]
-    fn a_small_cutoff_is_not_comparable_but_a_moved_level_is_a_disagreement() {
-        // tilted cone (Goerbig et al., Phys. Rev. B 78, 045415 (2008)) at cutoff 40: the levels
-        // of the window beyond the converged range are not comparable, which is no failure
-        let lm = loaded(
-            ladderfan::catalogue::tilted_dirac2d(Default::default())
-                .unwrap_or_else(|e| panic!("{e}")),
-        );
-        let s = Spectrum::compute(
-            &lm.model,
-            FieldPoint::field(10.0),
-            &Settings::with_cutoff(40),
-        )
-        .unwrap_or_else(|e| panic!("{e}"));
-        let win = (-80.0, 80.0);
-        let c = closed_form_check(&lm, &[&s], win).unwrap_or_else(|| panic!("closed form"));
-        assert!(c.passed, "{c:?}");
-        assert_eq!(c.not_comparable_points, 1, "{c:?}");
-        assert!(
-            c.note.contains("not comparable at this cutoff"),
-            "{}",
-            c.note
-        );
-        assert!(verdict(Some(&c)).is_ok());
-        // a real disagreement: one converged level moved by 1 meV (far above its bound)
-        let mut moved = s.clone();
-        let i = moved
-            .levels
-            .iter()
-            .position(|l| l.is_converged() && l.energy > 5.0)
-            .unwrap_or_else(|| panic!("no level"));
-        moved.levels[i].energy += 1.0;
-        let c = closed_form_check(&lm, &[&moved], win).unwrap_or_else(|| panic!("closed form"));
-        assert!(!c.passed, "{c:?}");
-        assert_eq!(c.failed_points, 1);
-        assert!(verdict(Some(&c)).is_err());
     }
 }

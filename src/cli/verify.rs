@@ -4,10 +4,11 @@
 
 use super::common::{
     self, bad_flag, emit, emit_json, fmt_num, load_model, CliError, CliResult, LoadedModel,
-    ModelArgs, ModelJson, SolveArgs, UnitsJson,
+    ModelArgs, SolveArgs,
 };
 use clap::Args;
 use ladderfan::modelfile;
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::verify::{
     self, Agreement, EnergyScale, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
     Window,
@@ -107,9 +108,9 @@ pub struct VerifyJson {
     /// Always `verify`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -298,8 +299,8 @@ pub fn run(args: &VerifyArgs) -> CliResult {
     if args.json {
         emit_json(&VerifyJson {
             command: "verify",
-            model: ModelJson::new(&lm),
-            units: UnitsJson::new(&lm.model),
+            model: ModelRecord::new(&lm.model, &lm.origin),
+            units: UnitsRecord::new(&lm.model),
             field: point.field,
             kz: point.kz,
             cutoff: r.cutoff,

@@ -37,9 +37,11 @@
 mod expected;
 pub mod expr;
 pub mod matching;
+mod sweep;
 mod verdict;
 
 pub use expected::{Edge, ExpectedList, Vars, Window};
+pub use sweep::{closed_form_check, ClosedFormCheck};
 pub use verdict::{
     check, Agreement, EnergyScale, ExpectedState, NumericalLevel, Outcome, Pair, Unpartnered,
     Verdict, VerifySettings,
