@@ -49,6 +49,7 @@ pub mod matrix;
 pub mod memory;
 pub mod model;
 pub mod modelfile;
+pub mod mtx;
 pub mod observables;
 pub mod plot;
 pub mod records;
