@@ -34,17 +34,19 @@
 //! a formula for the absolute energy of a relativistic level at 1 T cannot be more precise
 //! than eps x m c^2).
 
+mod check;
 mod expected;
 pub mod expr;
 pub mod matching;
 mod sweep;
 mod verdict;
 
+pub use check::check;
 pub use expected::{Edge, ExpectedList, Vars, Window};
 pub use sweep::{closed_form_check, ClosedFormCheck};
 pub use verdict::{
-    check, Agreement, EnergyScale, ExpectedState, NumericalLevel, Outcome, Pair, Unpartnered,
-    Verdict, VerifySettings,
+    Agreement, EnergyScale, ExpectedState, NumericalLevel, Outcome, Pair, Unpartnered, Verdict,
+    VerifySettings,
 };
 
 use crate::error::{Error, Result};
