@@ -2,7 +2,8 @@
 //! file (`%%MatrixMarket matrix coordinate complex hermitian`: lower triangle, 1-based).
 
 use super::common::{
-    self, bad_flag, emit, emit_json, load_model, CliError, CliResult, ModelArgs, SolveArgs,
+    self, bad_flag, emit, emit_json, load_model, CliError, CliResult, LoadedModel, ModelArgs,
+    Resolved, SolveArgs,
 };
 use clap::Args;
 use ladderfan::hamiltonian::LadderHamiltonian;
@@ -106,10 +107,15 @@ fn first_sectors(plan: &SectorPlan, count: usize) -> Vec<SectorId> {
 }
 
 /// Run `ladderfan export`.
-pub fn run(a: &ExportArgs) -> CliResult {
-    let lm = load_model(&a.model)?;
-    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
-    let h = LadderHamiltonian::assemble(&lm.model, r.point(), 0.0)?;
+/// The basis states (orbital n, component) of the exported rows and the half-bandwidth of the
+/// exported matrix, after the memory check: every state for the whole matrix, the sector's
+/// states in banded order for `--sector`.
+fn exported_states(
+    a: &ExportArgs,
+    lm: &LoadedModel,
+    r: &Resolved,
+    h: &LadderHamiltonian,
+) -> CliResult<(Vec<(usize, usize)>, usize)> {
     let d = h.dim;
     // half-bandwidth of the exported matrix in rows: orbital-major rows n d + alpha couple only
     // within |m - n| <= band; a sector's rows are in banded order
@@ -118,14 +124,14 @@ pub fn run(a: &ExportArgs) -> CliResult {
         None => {
             let size = r.cutoff.saturating_mul(d);
             common::check_memory(
-                &lm,
+                lm,
                 "export",
                 "--cutoff",
                 r.point(),
                 r.cutoff,
                 r.memory_limit_mib,
                 &ladderfan::memory::Footprint::Export {
-                    entries: mtx::lower_entries_bound(&h, r.cutoff),
+                    entries: mtx::lower_entries_bound(h, r.cutoff),
                     line_bytes: mtx::line_bytes(size as u64, h.is_real()),
                 },
                 None,
@@ -147,13 +153,13 @@ pub fn run(a: &ExportArgs) -> CliResult {
         }
         Some(spec) => {
             let id = parse_sector(spec)?;
-            let plan = SectorPlan::new(Symmetry::detect(&h), r.cutoff);
+            let plan = SectorPlan::new(Symmetry::detect(h), r.cutoff);
             let shape = ladderfan::memory::SolveShape::new(&plan.symmetry, r.cutoff, 1);
             half_bandwidth = plan
                 .half_bandwidth(id, h.band)
                 .min(shape.largest_sector as usize);
             common::check_memory(
-                &lm,
+                lm,
                 "export --sector",
                 "--cutoff",
                 r.point(),
@@ -186,6 +192,16 @@ pub fn run(a: &ExportArgs) -> CliResult {
             st
         }
     };
+    Ok((states, half_bandwidth))
+}
+
+/// The `%` comment lines of the file: tool, model, units, point and the meaning of the rows.
+fn comments(
+    a: &ExportArgs,
+    lm: &LoadedModel,
+    r: &Resolved,
+    states: &[(usize, usize)],
+) -> Vec<String> {
     let u = lm.model.units();
     let mut comments = vec![
         format!(
@@ -218,18 +234,18 @@ pub fn run(a: &ExportArgs) -> CliResult {
             }
         }
     }
-    let element = |i: usize, j: usize| {
-        let (m, al) = states[i];
-        let (n, be) = states[j];
-        if m.abs_diff(n) > h.band {
-            Complex64::new(0.0, 0.0)
-        } else {
-            h.element(m, al, n, be)
-        }
-    };
-    let (text, count) = mtx::write(&comments, states.len(), half_bandwidth, element);
-    // check the text parses back to the same matrix before writing it
-    let (n2, entries) = mtx::read(&text).map_err(|m| {
+    comments
+}
+
+/// Check that `text` parses back to the matrix of `element` over `rows` rows with `count`
+/// stored entries (a failure is a verification failure: a bug in the writer).
+fn check_round_trip(
+    text: &str,
+    rows: usize,
+    count: usize,
+    element: impl Fn(usize, usize) -> Complex64,
+) -> CliResult {
+    let (n2, entries) = mtx::read(text).map_err(|m| {
         CliError::Verification(format!("the written matrix does not parse back: {m}"))
     })?;
     let scale = entries.iter().map(|e| e.2.norm()).fold(0.0, f64::max);
@@ -242,11 +258,33 @@ pub fn run(a: &ExportArgs) -> CliResult {
         };
         (want - z).norm() > 1e-15 * scale
     });
-    if n2 != states.len() || entries.len() != count || mismatch.is_some() {
+    if n2 != rows || entries.len() != count || mismatch.is_some() {
         return Err(CliError::Verification(
             "the MatrixMarket text does not reproduce the matrix".into(),
         ));
     }
+    Ok(())
+}
+
+/// Run `ladderfan export`.
+pub fn run(a: &ExportArgs) -> CliResult {
+    let lm = load_model(&a.model)?;
+    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
+    let h = LadderHamiltonian::assemble(&lm.model, r.point(), 0.0)?;
+    let (states, half_bandwidth) = exported_states(a, &lm, &r, &h)?;
+    let comments = comments(a, &lm, &r, &states);
+    let element = |i: usize, j: usize| {
+        let (m, al) = states[i];
+        let (n, be) = states[j];
+        if m.abs_diff(n) > h.band {
+            Complex64::new(0.0, 0.0)
+        } else {
+            h.element(m, al, n, be)
+        }
+    };
+    let (text, count) = mtx::write(&comments, states.len(), half_bandwidth, element);
+    // check the text parses back to the same matrix before writing it
+    check_round_trip(&text, states.len(), count, element)?;
     let stem = match &a.sector {
         None => format!("{}-N{}", lm.model.name(), r.cutoff),
         Some(s) => format!(

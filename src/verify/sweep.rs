@@ -33,6 +33,21 @@ pub struct ClosedFormCheck {
     pub note: String,
 }
 
+/// The list with its completeness window intersected with `(lo, hi)` (in the list's frame).
+fn clip_window(list: ExpectedList, (lo, hi): (f64, f64)) -> ExpectedList {
+    let lower = match list.window.lower {
+        Edge::Exclude(x) if x >= lo => Edge::Exclude(x),
+        Edge::Include(x) if x >= lo => Edge::Include(x),
+        _ => Edge::Include(lo),
+    };
+    let upper = match list.window.upper {
+        Edge::Exclude(x) if x <= hi => Edge::Exclude(x),
+        Edge::Include(x) if x <= hi => Edge::Include(x),
+        _ => Edge::Include(hi),
+    };
+    list.with_window(Window { lower, upper })
+}
+
 /// Compare the converged levels in the window with the closed form at every spectrum, through
 /// [`check`] with its default settings: the closed-form list covers Landau indices up
 /// to N - 1 for cutoff N, its own completeness window is intersected with the sweep's window. A point
@@ -63,18 +78,7 @@ pub fn closed_form_check(
         let list = ExpectedList::from_closed_form(model, s.point, max_n)?;
         // the list's energies are relative to the model reference, the spectrum's to its own
         let shift = list.origin - s.reference_energy;
-        let (wlo, whi) = (lo - shift, hi - shift);
-        let lower = match list.window.lower {
-            Edge::Exclude(x) if x >= wlo => Edge::Exclude(x),
-            Edge::Include(x) if x >= wlo => Edge::Include(x),
-            _ => Edge::Include(wlo),
-        };
-        let upper = match list.window.upper {
-            Edge::Exclude(x) if x <= whi => Edge::Exclude(x),
-            Edge::Include(x) if x <= whi => Edge::Include(x),
-            _ => Edge::Include(whi),
-        };
-        let list = list.with_window(Window { lower, upper });
+        let list = clip_window(list, (lo - shift, hi - shift));
         let v = check(s, &list, &settings).ok()?;
         // closed-form states inside the window that were neither paired nor reported missing or
         // unresolved lie beyond the converged range: not comparable at this cutoff

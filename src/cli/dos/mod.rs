@@ -10,7 +10,7 @@ use ladderfan::observables::dos::{
     from_per_cm2, per_cm2, Broadening, LevelDensity, LineShape, WidthScaling,
 };
 use ladderfan::observables::filling::{
-    carrier_density, fermi_level, fermi_sweep, FermiSettings, Neutrality, Occupation,
+    carrier_density, fermi_level, fermi_sweep, FermiPoint, FermiSettings, Neutrality, Occupation,
 };
 use ladderfan::observables::volume::{
     fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
@@ -284,30 +284,7 @@ pub fn run(a: &DosArgs) -> CliResult {
     let spec = spectrum(&lm, r.point(), r.cutoff, r.memory_limit_mib)?;
     let broadening = a.fermi.broadening(spec.energy_scale)?;
     let ld = LevelDensity::new(&lm.model, &spec, broadening)?;
-    let (wlo, whi) = default_window(&ld, ld.width);
-    let emin = common::finite_flag("--emin", a.emin.unwrap_or(wlo))?;
-    let emax = common::finite_flag("--emax", a.emax.unwrap_or(whi))?;
-    if emax <= emin || a.energy_points < 2 {
-        return Err(bad_flag(
-            "--emax",
-            format!(
-                "energy grid from {emin} to {emax} with {} points; need --emax > --emin and at least 2 points",
-                a.energy_points
-            ),
-        ));
-    }
-    let curve = ld.curve(emin, emax, a.energy_points)?;
-    if let Some(&(e, g)) = curve.iter().find(|p| !per_cm2(u, p.1).is_finite()) {
-        return Err(common::CliError::Input(ladderfan::Error::BadNumber {
-            name: format!("the DOS at {e:e} {} in 1/(meV cm^2)", u.energy_unit()),
-            value: per_cm2(u, g),
-            fix: format!(
-                "the line width {:e} is too small for double precision (the peak height goes \
-                 as 1/width); give a larger --width",
-                ld.width
-            ),
-        }));
-    }
+    let (emin, emax, curve) = dos_curve(a, &lm, &ld)?;
     let fermi = match a.fermi.density(&lm, r.field)? {
         Some(n) => Some(fermi_level(
             &lm.model,
@@ -316,55 +293,7 @@ pub fn run(a: &DosArgs) -> CliResult {
         )?),
         None => None,
     };
-    let mut sweep_points = Vec::new();
-    let mut sweep_fields = None;
-    if let Some(b_max) = a.b_max {
-        let b_max = common::finite_flag("--b-max", b_max)?;
-        let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
-        let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-        if values.contains(&0.0) || b_min.signum() != b_max.signum() {
-            return Err(bad_flag(
-                "--b-min",
-                "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
-            ));
-        }
-        let per_volume = a.kz_integrate && a.density_cm3.is_some();
-        if a.fermi.density_cm2.is_none() && !per_volume {
-            return Err(bad_flag(
-                "--b-max",
-                "a Fermi-level sweep needs a fixed density: --density-cm2, or --kz-integrate with --density-cm3",
-            ));
-        }
-        if a.fermi.density_cm2.is_some() {
-            let (cutoff, mem) = common::resolve_trunc(&lm, &a.solve.trunc)?;
-            let n = a.fermi.density(&lm, b_max)?.unwrap_or(0.0);
-            let pts: Vec<FieldPoint> = values
-                .iter()
-                .map(|&field| FieldPoint { field, kz: r.kz })
-                .collect();
-            // every point's spectrum is kept with its Fermi level (src/memory.rs)
-            common::check_memory(
-                &lm,
-                "dos --b-max",
-                "--points",
-                FieldPoint {
-                    field: b_max,
-                    kz: r.kz,
-                },
-                cutoff,
-                mem,
-                &ladderfan::memory::Footprint::Sweep {
-                    points: pts.len() as u64,
-                    extra_per_level: 0,
-                },
-                None,
-            )?;
-            let mut s = Settings::with_cutoff(cutoff);
-            s.memory_limit_mib = mem;
-            sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
-        }
-        sweep_fields = Some(values);
-    }
+    let (sweep_points, sweep_fields) = field_sweep(a, &lm, &r, broadening)?;
     let volume = if a.kz_integrate {
         Some(volume_json(
             a,
@@ -401,26 +330,7 @@ pub fn run(a: &DosArgs) -> CliResult {
             .collect(),
         volume,
     };
-    let mut written = Vec::new();
-    if let Some(dir) = &a.output.out {
-        let mut files = OutputFiles::default();
-        let neutrality = a.fermi.neutrality()?.resolve(&spec, &ld);
-        files.add("dos.csv", dos_csv(&lm, &json, &ld, neutrality)?);
-        files.add("dos.svg", dos_svg(&lm, &json)?);
-        if let Some(v) = &json.volume {
-            files.add("dos3d.csv", dos3d_csv(&lm, &json, v)?);
-            files.add("dos3d.svg", dos3d_svg(&lm, &json, v)?);
-            if !v.fermi_sweep.is_empty() {
-                files.add("fermi3d.csv", fermi3d_csv(&lm, &json, v)?);
-            }
-        }
-        if !sweep_points.is_empty() {
-            files.add("fermi.csv", fermi_csv(&lm, &json)?);
-            let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
-            files.add("fermi.svg", fermi_svg(&lm, &json, &spectra, &broadening)?);
-        }
-        written = files.write_all(dir)?;
-    }
+    let written = write_files(a, &lm, &json, &spec, &ld, &sweep_points, &broadening)?;
     if a.output.json {
         return emit_json(&json);
     }
@@ -429,6 +339,132 @@ pub fn run(a: &DosArgs) -> CliResult {
         text.push_str(&format!("wrote {}\n", p.display()));
     }
     emit(&text)
+}
+
+/// The files of `--out`: the DOS (2D and, with `--kz-integrate`, 3D) and the Fermi-level
+/// sweep, as CSV and SVG.
+fn write_files(
+    a: &DosArgs,
+    lm: &LoadedModel,
+    json: &DosJson,
+    spec: &Spectrum,
+    ld: &LevelDensity,
+    sweep_points: &[FermiPoint],
+    broadening: &Broadening,
+) -> CliResult<Vec<std::path::PathBuf>> {
+    let Some(dir) = &a.output.out else {
+        return Ok(Vec::new());
+    };
+    let mut files = OutputFiles::default();
+    let neutrality = a.fermi.neutrality()?.resolve(spec, ld);
+    files.add("dos.csv", dos_csv(lm, json, ld, neutrality)?);
+    files.add("dos.svg", dos_svg(lm, json)?);
+    if let Some(v) = &json.volume {
+        files.add("dos3d.csv", dos3d_csv(lm, json, v)?);
+        files.add("dos3d.svg", dos3d_svg(lm, json, v)?);
+        if !v.fermi_sweep.is_empty() {
+            files.add("fermi3d.csv", fermi3d_csv(lm, json, v)?);
+        }
+    }
+    if !sweep_points.is_empty() {
+        files.add("fermi.csv", fermi_csv(lm, json)?);
+        let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
+        files.add("fermi.svg", fermi_svg(lm, json, &spectra, broadening)?);
+    }
+    files.write_all(dir)
+}
+
+/// The energy grid (flags or the converged window widened by three widths) and the DOS on it.
+fn dos_curve(
+    a: &DosArgs,
+    lm: &LoadedModel,
+    ld: &LevelDensity,
+) -> CliResult<(f64, f64, Vec<(f64, f64)>)> {
+    let u = lm.model.units();
+    let (wlo, whi) = default_window(ld, ld.width);
+    let emin = common::finite_flag("--emin", a.emin.unwrap_or(wlo))?;
+    let emax = common::finite_flag("--emax", a.emax.unwrap_or(whi))?;
+    if emax <= emin || a.energy_points < 2 {
+        return Err(bad_flag(
+            "--emax",
+            format!(
+                "energy grid from {emin} to {emax} with {} points; need --emax > --emin and at least 2 points",
+                a.energy_points
+            ),
+        ));
+    }
+    let curve = ld.curve(emin, emax, a.energy_points)?;
+    if let Some(&(e, g)) = curve.iter().find(|p| !per_cm2(u, p.1).is_finite()) {
+        return Err(common::CliError::Input(ladderfan::Error::BadNumber {
+            name: format!("the DOS at {e:e} {} in 1/(meV cm^2)", u.energy_unit()),
+            value: per_cm2(u, g),
+            fix: format!(
+                "the line width {:e} is too small for double precision (the peak height goes \
+                 as 1/width); give a larger --width",
+                ld.width
+            ),
+        }));
+    }
+    Ok((emin, emax, curve))
+}
+
+/// The Fermi level against the field for `--b-max` (2D density), and the sweep's fields.
+fn field_sweep(
+    a: &DosArgs,
+    lm: &LoadedModel,
+    r: &common::Resolved,
+    broadening: Broadening,
+) -> CliResult<(Vec<FermiPoint>, Option<Vec<f64>>)> {
+    let mut sweep_points = Vec::new();
+    let mut sweep_fields = None;
+    if let Some(b_max) = a.b_max {
+        let b_max = common::finite_flag("--b-max", b_max)?;
+        let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
+        let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
+        if values.contains(&0.0) || b_min.signum() != b_max.signum() {
+            return Err(bad_flag(
+                "--b-min",
+                "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
+            ));
+        }
+        let per_volume = a.kz_integrate && a.density_cm3.is_some();
+        if a.fermi.density_cm2.is_none() && !per_volume {
+            return Err(bad_flag(
+                "--b-max",
+                "a Fermi-level sweep needs a fixed density: --density-cm2, or --kz-integrate with --density-cm3",
+            ));
+        }
+        if a.fermi.density_cm2.is_some() {
+            let (cutoff, mem) = common::resolve_trunc(lm, &a.solve.trunc)?;
+            let n = a.fermi.density(lm, b_max)?.unwrap_or(0.0);
+            let pts: Vec<FieldPoint> = values
+                .iter()
+                .map(|&field| FieldPoint { field, kz: r.kz })
+                .collect();
+            // every point's spectrum is kept with its Fermi level (src/memory.rs)
+            common::check_memory(
+                lm,
+                "dos --b-max",
+                "--points",
+                FieldPoint {
+                    field: b_max,
+                    kz: r.kz,
+                },
+                cutoff,
+                mem,
+                &ladderfan::memory::Footprint::Sweep {
+                    points: pts.len() as u64,
+                    extra_per_level: 0,
+                },
+                None,
+            )?;
+            let mut s = Settings::with_cutoff(cutoff);
+            s.memory_limit_mib = mem;
+            sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
+        }
+        sweep_fields = Some(values);
+    }
+    Ok((sweep_points, sweep_fields))
 }
 
 /// The kz-integrated densities on the DOS energy grid, and the 3D Fermi level if asked for.
@@ -449,7 +485,18 @@ fn volume_json(
         None => None,
     };
     let s = r.settings();
-    let v = VolumeDensity::compute(&lm.model, r.field, &s, &vs)?;
+    if broadening.shape != LineShape::Gaussian {
+        return Err(bad_flag(
+            "--shape",
+            "kz-integrated densities need a Gaussian line: a Lorentzian's tails make the 3D \
+             carrier density diverge with the kz limit; use --shape gaussian",
+        ));
+    }
+    // the library says why a model cannot be integrated; the flag that asked for it is this one
+    let v = VolumeDensity::compute(&lm.model, r.field, &s, &vs).map_err(|e| match e {
+        ladderfan::Error::Unsupported(m) => bad_flag("--kz-integrate", m),
+        e => e.into(),
+    })?;
     let curve = v.curve(range.0, range.1, a.energy_points)?;
     let peak = curve.iter().map(|p| p.1).fold(0.0, f64::max);
     let fermi = match a.density_cm3 {

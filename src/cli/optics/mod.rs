@@ -84,12 +84,14 @@ const CONVENTION: &str = "B along +z; light ~ e exp(-i omega t); sigma+ = (x + i
 sigma- = (x - i y)/sqrt2; strength = |<f|e.v|i>|^2 (o_i - o_f); selection rules come from the \
 matrix elements, none is imposed";
 
-/// Run `ladderfan optics`.
-pub fn run(a: &OpticsArgs) -> CliResult {
-    let lm = load_model(&a.model)?;
-    let u = lm.model.units();
-    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
-    let (values, cutoff, mem) = match a.b_max {
+/// The fields to solve (one, or the `--b-max` sweep) with the cutoff and memory limit that
+/// apply to them.
+fn fields(
+    a: &OpticsArgs,
+    lm: &LoadedModel,
+    r: &common::Resolved,
+) -> CliResult<(Vec<f64>, usize, u64)> {
+    let fields = match a.b_max {
         None => (vec![r.field], r.cutoff, r.memory_limit_mib),
         Some(b_max) => {
             let b_max = common::finite_flag("--b-max", b_max)?;
@@ -101,7 +103,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
                     "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
                 ));
             }
-            let (c, m) = common::resolve_trunc(&lm, &a.solve.trunc)?;
+            let (c, m) = common::resolve_trunc(lm, &a.solve.trunc)?;
             (v, c, m)
         }
     };
@@ -111,6 +113,36 @@ pub fn run(a: &OpticsArgs) -> CliResult {
             "a filling factor changes with the field; give --density-cm2 for a sweep",
         ));
     }
+    Ok(fields)
+}
+
+/// The records of every field, strengths relative to the strongest transition of the run.
+fn point_records(fan: &[TransitionPoint], u: ladderfan::units::Units) -> Vec<OpticsPointRecord> {
+    let max = fan
+        .iter()
+        .flat_map(|p| p.transitions.iter())
+        .map(|t| t.strength_x + t.strength_y)
+        .fold(0.0, f64::max)
+        .max(f64::MIN_POSITIVE);
+    fan.iter()
+        .map(|p| OpticsPointRecord {
+            field: p.field,
+            fermi: FermiRecord::new(u, &p.fermi),
+            transitions: p
+                .transitions
+                .iter()
+                .map(|t| transition_record(t, max))
+                .collect(),
+        })
+        .collect()
+}
+
+/// Run `ladderfan optics`.
+pub fn run(a: &OpticsArgs) -> CliResult {
+    let lm = load_model(&a.model)?;
+    let u = lm.model.units();
+    let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
+    let (values, cutoff, mem) = fields(a, &lm, &r)?;
     let top = values
         .iter()
         .copied()
@@ -169,12 +201,6 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         min_relative_strength: a.min_strength,
     };
     let fan = transition_sweep(&lm.model, &pts, &settings, &fs, &opts)?;
-    let max = fan
-        .iter()
-        .flat_map(|p| p.transitions.iter())
-        .map(|t| t.strength_x + t.strength_y)
-        .fold(0.0, f64::max)
-        .max(f64::MIN_POSITIVE);
     let json = OpticsJson {
         command: "optics",
         model: ModelRecord::new(&lm.model, &lm.origin),
@@ -189,18 +215,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         temperature_k: fs.temperature_k,
         max_energy,
         convention: CONVENTION,
-        points: fan
-            .iter()
-            .map(|p: &TransitionPoint| OpticsPointRecord {
-                field: p.field,
-                fermi: FermiRecord::new(u, &p.fermi),
-                transitions: p
-                    .transitions
-                    .iter()
-                    .map(|t| transition_record(t, max))
-                    .collect(),
-            })
-            .collect(),
+        points: point_records(&fan, u),
     };
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {

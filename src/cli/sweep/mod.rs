@@ -255,9 +255,8 @@ pub struct Outcome {
     pub shard: Option<ShardHeader>,
 }
 
-/// Solve, track and select.
-pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
-    // flag problems first: a bad window must not cost a sweep
+/// The window flags alone: finite, and --emin below --emax.
+fn check_window_flags(a: &SweepArgs) -> CliResult {
     for (flag, v) in [("--emin", a.emin), ("--emax", a.emax)] {
         if let Some(v) = v {
             common::finite_flag(flag, v)?;
@@ -271,10 +270,48 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
             ));
         }
     }
+    Ok(())
+}
+
+/// Place a shard's values at their indices `block` in the whole sweep of `total` points.
+fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, total: usize) {
+    for t in tracks {
+        let mut e = vec![None; total];
+        let mut b = vec![None; total];
+        e[block.clone()].copy_from_slice(&t.energies);
+        b[block.clone()].copy_from_slice(&t.bounds);
+        t.energies = e;
+        t.bounds = b;
+    }
+}
+
+/// The `# shard` header of a shard's CSV: tracks grouped by identity, kept where they enter
+/// the window `win`.
+fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
+    let e = lm.model.units().energy_unit().replace(' ', "");
+    ShardHeader {
+        shard: s,
+        total_points: total,
+        group_by: vec!["track".into()],
+        keep: Some(KeepGroups {
+            column: format!("energy_{e}"),
+            lo: win.0,
+            hi: win.1,
+        }),
+    }
+}
+
+/// Solve, track and select.
+pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
+    // flag problems first: a bad window must not cost a sweep
+    check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
     let shard = match &a.shard {
-        Some(text) => Some(Shard::parse(text)?),
+        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
+            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
+            e => e.into(),
+        })?),
         None => None,
     };
 
@@ -316,29 +353,9 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     let local_reference = plan.reference_point.wrapping_sub(block.start);
     let mut tracks = records::track_records(&lm.model, &spectra, local_reference);
     if shard.is_some() {
-        // place the shard's values at their indices in the whole sweep
-        for t in &mut tracks {
-            let mut e = vec![None; total];
-            let mut b = vec![None; total];
-            e[block.clone()].copy_from_slice(&t.energies);
-            b[block.clone()].copy_from_slice(&t.bounds);
-            t.energies = e;
-            t.bounds = b;
-        }
+        place_in_sweep(&mut tracks, block.clone(), total);
     }
-    let shard_header = shard.map(|s| {
-        let e = lm.model.units().energy_unit().replace(' ', "");
-        ShardHeader {
-            shard: s,
-            total_points: total,
-            group_by: vec!["track".into()],
-            keep: Some(KeepGroups {
-                column: format!("energy_{e}"),
-                lo: win.0,
-                hi: win.1,
-            }),
-        }
-    });
+    let shard_header = shard.map(|s| shard_header(lm, s, total, win));
     let tracks = match shard {
         Some(_) => records::trim_to_margin(tracks, win),
         None => records::in_window(tracks, win),
