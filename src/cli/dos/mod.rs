@@ -374,12 +374,11 @@ fn write_files(
     files.write_all(dir)
 }
 
+/// The lower and upper end of the energy grid and the DOS on it, (energy, DOS) pairs.
+type EnergyGrid = (f64, f64, Vec<(f64, f64)>);
+
 /// The energy grid (flags or the converged window widened by three widths) and the DOS on it.
-fn dos_curve(
-    a: &DosArgs,
-    lm: &LoadedModel,
-    ld: &LevelDensity,
-) -> CliResult<(f64, f64, Vec<(f64, f64)>)> {
+fn dos_curve(a: &DosArgs, lm: &LoadedModel, ld: &LevelDensity) -> CliResult<EnergyGrid> {
     let u = lm.model.units();
     let (wlo, whi) = default_window(ld, ld.width);
     let emin = common::finite_flag("--emin", a.emin.unwrap_or(wlo))?;
