@@ -5,7 +5,7 @@
 //! energy unit, fields in its field unit, wave numbers in its wave-number unit, all named in
 //! the [`UnitsRecord`] that every result carries. The field order is the JSON key order.
 
-use crate::levels::{Branch, LabelOrigin, Spectrum};
+use crate::levels::{Branch, Convergence, LabelOrigin, Spectrum};
 use crate::model::Model;
 use crate::observables::dos::per_cm2;
 use crate::observables::filling::FermiSolution;
@@ -453,4 +453,88 @@ pub fn transition_record(t: &Transition, max: f64) -> TransitionRecord {
         oscillator_strength_x: t.oscillator_strength_x,
         polarisation: t.polarisation,
     }
+}
+
+/// The spectrum at one point as reported (`levels`): the model, units, point, symmetry, level
+/// counts and the levels shown, energies relative to `reference_energy` in the model's energy
+/// unit, the magnetic length in its length unit.
+#[derive(Debug, Serialize)]
+pub struct SpectrumRecord {
+    /// The command (or other front) that produced the record, e.g. `levels`.
+    pub command: &'static str,
+    /// The model.
+    pub model: ModelRecord,
+    /// Units of every number.
+    pub units: UnitsRecord,
+    /// Field, model field unit.
+    pub field: f64,
+    /// kz, model wave-number unit.
+    pub kz: f64,
+    /// Orbital cutoff.
+    pub cutoff: usize,
+    /// Energies are relative to this.
+    pub reference_energy: f64,
+    /// Magnetic length.
+    pub magnetic_length: f64,
+    /// Relative tolerance of the convergence flags.
+    pub tolerance: f64,
+    /// Symmetry found.
+    pub symmetry: SymmetryRecord,
+    /// Number of levels computed.
+    pub levels_total: usize,
+    /// Number of converged levels.
+    pub levels_converged: usize,
+    /// Number of genuine levels that are not converged (raise the cutoff).
+    pub levels_not_converged: usize,
+    /// Number of cutoff artefacts.
+    pub levels_artefacts: usize,
+    /// The levels shown, ascending in energy.
+    pub levels: Vec<LevelRecord>,
+    /// Named warnings (also printed on stderr), e.g. `nothing converged`.
+    pub warnings: Vec<String>,
+}
+
+/// The warnings of a spectrum ([`SpectrumRecord::warnings`]): `nothing converged: ...` when no level met the tolerance.
+pub fn warnings(s: &Spectrum) -> Vec<String> {
+    let mut w = Vec::new();
+    if !s.levels.is_empty() && s.converged().next().is_none() {
+        w.push(format!(
+            "nothing converged: none of the {} levels at cutoff {} meets the tolerance {:e}; \
+             raise the cutoff, or check that the model's energy scales are sensible",
+            s.levels.len(),
+            s.cutoff,
+            s.tolerance
+        ));
+    }
+    w
+}
+
+impl SpectrumRecord {
+    /// The record of spectrum `s` of `model` (loaded from `origin`) showing the levels with
+    /// indices `idx`.
+    pub fn new(model: &Model, origin: &str, s: &Spectrum, idx: &[usize]) -> Self {
+        SpectrumRecord {
+            command: "levels",
+            model: ModelRecord::new(model, origin),
+            units: UnitsRecord::new(model),
+            field: s.point.field,
+            kz: s.point.kz,
+            cutoff: s.cutoff,
+            reference_energy: s.reference_energy,
+            magnetic_length: s.magnetic_length,
+            tolerance: s.tolerance,
+            symmetry: SymmetryRecord::new(s),
+            levels_total: s.levels.len(),
+            levels_converged: s.converged().count(),
+            levels_not_converged: count_state(s, Convergence::NotConverged),
+            levels_artefacts: count_state(s, Convergence::CutoffArtefact),
+            levels: level_records(model, s, idx),
+            warnings: warnings(s),
+        }
+    }
+}
+
+/// The number of levels of `s` in `state`.
+pub fn count_state(s: &Spectrum, state: Convergence) -> usize {
+    s.levels.iter().filter(|l| l.convergence == state).count()
 }

@@ -53,7 +53,7 @@ pub struct DemoJson {
     /// Always `demo`.
     pub command: &'static str,
     /// Levels at the demo field.
-    pub levels: super::levels::LevelsJson,
+    pub levels: ladderfan::records::SpectrumRecord,
     /// The fan sweep.
     pub fan: sweep::SweepJson,
     /// Closed-form check at the demo field (the fan's own check is in `fan`).
