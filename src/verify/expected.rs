@@ -253,7 +253,7 @@ impl ExpectedList {
         })
     }
 
-    /// Levels from formulas in the expression language of [`expr`] (see the README (section Verifying a level formula)).
+    /// Levels from formulas in the expression language of [`expr`](super::expr) (see the README (section Verifying a level formula)).
     ///
     /// For every n in `ns` and s in `ss`: the first case whose condition holds gives the
     /// energy, else `formula.formula`; when `formula.n0` is given, n = 0 is evaluated once,
