@@ -17,10 +17,10 @@ use ladderfan::observables::volume::{
 };
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 use ladderfan::records::{
-    FermiRecord, ModelRecord, UnitsRecord, VolumeFermiRecord, VolumeFermiSweepRecord, VolumeRecord,
+    DosRecord, FermiRecord, ModelRecord, UnitsRecord, VolumeFermiRecord, VolumeFermiSweepRecord,
+    VolumeRecord,
 };
 use ladderfan::{FieldPoint, Settings, Spectrum};
-use serde::Serialize;
 
 mod render;
 use render::{dos3d_csv, dos3d_svg, dos_csv, dos_svg, fermi3d_csv, fermi_csv, fermi_svg, summary};
@@ -198,49 +198,6 @@ pub struct DosArgs {
     pub output: OutputArgs,
 }
 
-/// The JSON result of `dos`.
-#[derive(Debug, Serialize)]
-pub struct DosJson {
-    /// Always `dos`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz (a 3D model's DOS is that of one kz sheet).
-    pub kz: f64,
-    /// Cutoff.
-    pub cutoff: usize,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// Landau degeneracy |qB|/h, cm^-2.
-    pub landau_degeneracy_cm2: f64,
-    /// The model's extra degeneracy g.
-    pub model_degeneracy: u32,
-    /// States per level, g |qB|/h, cm^-2.
-    pub states_per_level_cm2: f64,
-    /// Line shape.
-    pub shape: LineShape,
-    /// Width at this field, model energy unit.
-    pub width: f64,
-    /// Temperature, K.
-    pub temperature_k: f64,
-    /// Number of converged levels used (unconverged ones never count).
-    pub levels_used: usize,
-    /// Energy window of the converged levels.
-    pub converged_window: (f64, f64),
-    /// DOS grid: energy and DOS in 1/(energy unit cm^2).
-    pub dos: Vec<(f64, f64)>,
-    /// Fermi level at this field, when a density or filling was given.
-    pub fermi: Option<FermiRecord>,
-    /// Fermi level against field, when --b-max was given.
-    pub fermi_sweep: Vec<FermiRecord>,
-    /// Densities per unit volume, with --kz-integrate.
-    pub volume: Option<VolumeRecord>,
-}
-
 fn spectrum(lm: &LoadedModel, point: FieldPoint, cutoff: usize, mem: u64) -> CliResult<Spectrum> {
     let mut s = Settings::with_cutoff(cutoff);
     s.memory_limit_mib = mem;
@@ -306,7 +263,7 @@ pub fn run(a: &DosArgs) -> CliResult {
     } else {
         None
     };
-    let json = DosJson {
+    let json = DosRecord {
         command: "dos",
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
@@ -346,7 +303,7 @@ pub fn run(a: &DosArgs) -> CliResult {
 fn write_files(
     a: &DosArgs,
     lm: &LoadedModel,
-    json: &DosJson,
+    json: &DosRecord,
     spec: &Spectrum,
     ld: &LevelDensity,
     sweep_points: &[FermiPoint],

@@ -6,7 +6,7 @@ pub(super) fn energy_unit(lm: &LoadedModel) -> String {
     lm.model.units().energy_unit().replace(' ', "")
 }
 
-pub(super) fn summary(lm: &LoadedModel, j: &DosJson) -> String {
+pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let mut s = format!(
@@ -117,7 +117,7 @@ pub(super) fn summary(lm: &LoadedModel, j: &DosJson) -> String {
 
 pub(super) fn dos_csv(
     lm: &LoadedModel,
-    j: &DosJson,
+    j: &DosRecord,
     ld: &LevelDensity,
     neutrality: Option<f64>,
 ) -> CliResult<String> {
@@ -175,7 +175,7 @@ pub(super) fn dos_csv(
     csv_text(&header, &rec)
 }
 
-pub(super) fn dos_svg(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
+pub(super) fn dos_svg(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
     let eu = lm.model.units().energy_unit();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; {} converged levels",
@@ -251,7 +251,7 @@ pub(super) fn dos_plot(
     })?)
 }
 
-pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
     let eu = energy_unit(lm);
     let u = lm.model.units();
     let header = csv_header(
@@ -295,7 +295,7 @@ pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> CliR
     csv_text(&header, &rec)
 }
 
-pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
     let eu = lm.model.units().energy_unit();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
@@ -327,7 +327,7 @@ pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> CliR
     )
 }
 
-pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
     let eu = energy_unit(lm);
     let fu = lm.model.units().field_unit();
     let header = csv_header(
@@ -361,7 +361,7 @@ pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosJson, v: &VolumeRecord) -> Cl
     csv_text(&header, &rec)
 }
 
-pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
+pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
     let eu = energy_unit(lm);
     let fu = lm.model.units().field_unit();
     let header = csv_header(
@@ -398,7 +398,7 @@ pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosJson) -> CliResult<String> {
 
 pub(super) fn fermi_svg(
     lm: &LoadedModel,
-    j: &DosJson,
+    j: &DosRecord,
     spectra: &[&Spectrum],
     broadening: &Broadening,
 ) -> CliResult<String> {

@@ -11,11 +11,10 @@ use ladderfan::observables::optics::{
     transition_sweep, OpticsSettings, Polarisation, TransitionPoint,
 };
 use ladderfan::records::{
-    transition_record, FermiRecord, ModelRecord, OpticsPointRecord, UnitsRecord,
+    transition_record, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord,
 };
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use plotters::prelude::*;
-use serde::Serialize;
 
 mod plot;
 use plot::{fan_svg, stick_svg};
@@ -51,33 +50,6 @@ pub struct OpticsArgs {
     pub points: usize,
     #[command(flatten)]
     pub output: OutputArgs,
-}
-
-/// The JSON result of `optics`.
-#[derive(Debug, Serialize)]
-pub struct OpticsJson {
-    /// Always `optics`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of energies and fields.
-    pub units: UnitsRecord,
-    /// Velocity unit of the strengths (m/s, or c in natural units).
-    pub velocity_unit: &'static str,
-    /// kz.
-    pub kz: f64,
-    /// Cutoff.
-    pub cutoff: usize,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// Temperature, K.
-    pub temperature_k: f64,
-    /// Largest transition energy listed.
-    pub max_energy: f64,
-    /// Polarisation convention.
-    pub convention: &'static str,
-    /// The points.
-    pub points: Vec<OpticsPointRecord>,
 }
 
 const CONVENTION: &str = "B along +z; light ~ e exp(-i omega t); sigma+ = (x + i y)/sqrt2, \
@@ -201,7 +173,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         min_relative_strength: a.min_strength,
     };
     let fan = transition_sweep(&lm.model, &pts, &settings, &fs, &opts)?;
-    let json = OpticsJson {
+    let json = OpticsRecord {
         command: "optics",
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
@@ -247,7 +219,7 @@ fn pol_name(p: Polarisation) -> &'static str {
     }
 }
 
-fn summary(lm: &LoadedModel, j: &OpticsJson, count: usize) -> String {
+fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let mut s = format!(
@@ -320,7 +292,7 @@ fn summary(lm: &LoadedModel, j: &OpticsJson, count: usize) -> String {
     s
 }
 
-fn to_csv(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
+fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
     let eu = lm.model.units().energy_unit().replace(' ', "");
     let fu = lm.model.units().field_unit();
     let v = j.velocity_unit.replace('/', "_per_");

@@ -20,7 +20,7 @@ pub(super) fn pol_color(p: Polarisation) -> RGBColor {
 
 /// The fan: transition energy against field, one line per (from, to) pair, line width and
 /// opacity growing with the strength, colour by polarisation.
-pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
+pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let mut lines: BTreeMap<(String, String), Vec<(f64, &TransitionRecord)>> = BTreeMap::new();
@@ -136,7 +136,7 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
 }
 
 /// Stick spectrum at one field: a vertical line per transition, height = relative strength.
-pub(super) fn stick_svg(lm: &LoadedModel, j: &OpticsJson) -> CliResult<String> {
+pub(super) fn stick_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let p = &j.points[0];
