@@ -35,7 +35,7 @@ pub enum Error {
         b: String,
     },
     /// A magnetic field of zero (or not finite) was requested.
-    #[error("the magnetic field is {field}; Landau levels need a finite non-zero field (pass e.g. --field 1)")]
+    #[error("the magnetic field is {field}; Landau levels need a finite non-zero magnetic field")]
     ZeroField {
         /// The offending field value.
         field: f64,

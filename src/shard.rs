@@ -87,9 +87,9 @@ impl Shard {
     /// ```
     pub fn parse(text: &str) -> Result<Shard> {
         let bad = |why: &str| Error::Parse {
-            location: "--shard".into(),
+            location: "shard".into(),
             message: format!(
-                "`{text}` is not a shard: {why}; write K/N with 1 <= K <= N, e.g. --shard 2/8"
+                "`{text}` is not a shard: {why}; write K/N with 1 <= K <= N, e.g. 2/8"
             ),
         };
         let (k, n) = text.trim().split_once('/').ok_or_else(|| bad("no `/`"))?;

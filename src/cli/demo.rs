@@ -53,11 +53,11 @@ pub struct DemoJson {
     /// Always `demo`.
     pub command: &'static str,
     /// Levels at the demo field.
-    pub levels: super::levels::LevelsJson,
+    pub levels: ladderfan::records::SpectrumRecord,
     /// The fan sweep.
     pub fan: sweep::SweepJson,
     /// Closed-form check at the demo field (the fan's own check is in `fan`).
-    pub closed_form_check: Option<sweep::ClosedFormCheck>,
+    pub closed_form_check: Option<ladderfan::verify::ClosedFormCheck>,
     /// Files written.
     pub files: Vec<String>,
 }
@@ -105,7 +105,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
     };
     let o = sweep::execute(&lm, &plan, &sweep_args)?;
     let win = (-80.0, 80.0);
-    let closed_form_check = sweep::closed_form_check(&lm, &[&s], win);
+    let closed_form_check = ladderfan::verify::closed_form_check(&lm.model, &[&s], win);
     let mut files = common::OutputFiles::default();
     files.add("model.toml", DEMO_MODEL);
     files.add("levels.csv", super::levels::to_csv(&lm, &s, &idx)?);

@@ -1,15 +1,14 @@
 //! `ladderfan levels`: the spectrum at one field and kz as a labelled table.
 
 use super::common::{
-    self, csv_header, csv_text, emit, emit_json, fmt_num, levels_json, load_model, nearest_levels,
-    CliResult, LevelJson, LoadedModel, ModelArgs, ModelJson, OutputArgs, OutputFiles, Resolved,
-    SolveArgs, SymmetryJson, UnitsJson,
+    self, csv_header, csv_text, emit, emit_json, fmt_num, load_model, nearest_levels, CliResult,
+    LoadedModel, ModelArgs, OutputArgs, OutputFiles, Resolved, SolveArgs,
 };
 use clap::Args;
 use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
+use ladderfan::records::{count_state, level_records, warnings, SpectrumRecord};
 use ladderfan::Spectrum;
-use serde::Serialize;
 
 /// Flags of `ladderfan levels`.
 #[derive(Debug, Clone, Args)]
@@ -29,56 +28,9 @@ pub struct LevelsArgs {
     pub output: OutputArgs,
 }
 
-/// The JSON result of `levels`.
-#[derive(Debug, Serialize)]
-pub struct LevelsJson {
-    /// Always `levels`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelJson,
-    /// Units of every number.
-    pub units: UnitsJson,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Orbital cutoff.
-    pub cutoff: usize,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// Magnetic length.
-    pub magnetic_length: f64,
-    /// Relative tolerance of the convergence flags.
-    pub tolerance: f64,
-    /// Symmetry found.
-    pub symmetry: SymmetryJson,
-    /// Number of levels computed.
-    pub levels_total: usize,
-    /// Number of converged levels.
-    pub levels_converged: usize,
-    /// Number of genuine levels that are not converged (raise the cutoff).
-    pub levels_not_converged: usize,
-    /// Number of cutoff artefacts.
-    pub levels_artefacts: usize,
-    /// The levels shown, ascending in energy.
-    pub levels: Vec<LevelJson>,
-    /// Named warnings (also printed on stderr), e.g. `nothing converged`.
-    pub warnings: Vec<String>,
-}
-
-/// The warnings of a spectrum: `nothing converged: ...` when no level met the tolerance.
-pub fn warnings(s: &Spectrum) -> Vec<String> {
-    let mut w = Vec::new();
-    if !s.levels.is_empty() && s.converged().next().is_none() {
-        w.push(format!(
-            "nothing converged: none of the {} levels at cutoff {} meets the tolerance {:e}; \
-             raise the cutoff, or check that the model's energy scales are sensible",
-            s.levels.len(),
-            s.cutoff,
-            s.tolerance
-        ));
-    }
-    w
+/// The JSON result for a spectrum and the shown level indices.
+pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> SpectrumRecord {
+    SpectrumRecord::new(&lm.model, &lm.origin, s, idx)
 }
 
 /// Compute the spectrum for resolved settings.
@@ -86,33 +38,7 @@ pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
     common::finite_spectrum(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
 }
 
-/// The JSON result for a spectrum and the shown level indices.
-pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> LevelsJson {
-    LevelsJson {
-        command: "levels",
-        model: ModelJson::new(lm),
-        units: UnitsJson::new(&lm.model),
-        field: s.point.field,
-        kz: s.point.kz,
-        cutoff: s.cutoff,
-        reference_energy: s.reference_energy,
-        magnetic_length: s.magnetic_length,
-        tolerance: s.tolerance,
-        symmetry: SymmetryJson::new(s),
-        levels_total: s.levels.len(),
-        levels_converged: s.converged().count(),
-        levels_not_converged: count_state(s, Convergence::NotConverged),
-        levels_artefacts: count_state(s, Convergence::CutoffArtefact),
-        levels: levels_json(&lm.model, s, idx),
-        warnings: warnings(s),
-    }
-}
-
 /// The aligned text table with a header block.
-fn count_state(s: &Spectrum, state: Convergence) -> usize {
-    s.levels.iter().filter(|l| l.convergence == state).count()
-}
-
 pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     let artefacts = count_state(s, Convergence::CutoffArtefact);
     let u = lm.model.units();
@@ -164,7 +90,7 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
         "from".into(),
         "state".into(),
     ]);
-    for l in levels_json(&lm.model, s, idx) {
+    for l in level_records(&lm.model, s, idx) {
         let mut r = vec![
             l.sector.clone(),
             l.label.clone(),
@@ -240,7 +166,7 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         };
         rec[0].push(format!("weight_{name}"));
     }
-    for l in levels_json(&lm.model, s, idx) {
+    for l in level_records(&lm.model, s, idx) {
         let origin = match l.label_origin {
             ladderfan::levels::LabelOrigin::ExactSector => "exact_sector",
             ladderfan::levels::LabelOrigin::Continuation => "continuation",

@@ -23,6 +23,9 @@ pub mod levels;
 pub mod merge;
 pub mod models;
 pub mod optics;
+pub mod output;
+pub mod parse;
+pub mod render;
 pub mod sweep;
 pub mod verify;
 

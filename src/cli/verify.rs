@@ -4,9 +4,10 @@
 
 use super::common::{
     self, bad_flag, emit, emit_json, fmt_num, load_model, CliError, CliResult, LoadedModel,
-    ModelArgs, ModelJson, SolveArgs, UnitsJson,
+    ModelArgs, SolveArgs,
 };
 use clap::Args;
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::verify::{
     self, Agreement, EnergyScale, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
     Window,
@@ -105,9 +106,9 @@ pub struct VerifyJson {
     /// Always `verify`.
     pub command: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -184,9 +185,9 @@ pub fn run(args: &VerifyArgs) -> CliResult {
                     "a formula needs the Landau indices it covers; pass e.g. --n 0..40",
                 )
             })?;
-            let ns = verify::parse_int_list(n_text, "--n")?;
+            let ns = common::parse_int_list(n_text, "--n")?;
             let s_text = args.s_values.as_deref().unwrap_or("0");
-            let ss: Vec<i8> = verify::parse_int_list(s_text, "--s")?
+            let ss: Vec<i8> = common::parse_int_list(s_text, "--s")?
                 .into_iter()
                 .map(|s| {
                     i8::try_from(s).map_err(|_| {
@@ -266,8 +267,8 @@ pub fn run(args: &VerifyArgs) -> CliResult {
     if args.json {
         emit_json(&VerifyJson {
             command: "verify",
-            model: ModelJson::new(&lm),
-            units: UnitsJson::new(&lm.model),
+            model: ModelRecord::new(&lm.model, &lm.origin),
+            units: UnitsRecord::new(&lm.model),
             field: point.field,
             kz: point.kz,
             cutoff: r.cutoff,

@@ -293,3 +293,20 @@ pub fn orbital_content(spectrum: &Spectrum) -> Result<Vec<OrbitalContent>> {
         })
         .collect())
 }
+
+/// Rank of every level within its (sector, branch): 0 for the lowest, counting upwards in
+/// energy (the levels of a [`Spectrum`] are sorted by energy already). One entry per level of
+/// `s`, in the spectrum's order.
+pub fn ranks(s: &Spectrum) -> Vec<usize> {
+    let mut count: BTreeMap<(usize, i64, i8), usize> = BTreeMap::new();
+    s.levels
+        .iter()
+        .map(|l| {
+            let c = count
+                .entry((l.sector.class, l.sector.label, l.branch))
+                .or_insert(0);
+            *c += 1;
+            *c - 1
+        })
+        .collect()
+}

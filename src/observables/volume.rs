@@ -269,14 +269,14 @@ impl VolumeDensity {
         if !has_kz {
             return Err(Error::Unsupported(format!(
                 "model '{}' has no kz term, so it is two-dimensional: use the density per area \
-                 (observables::dos::LevelDensity, `ladderfan dos` without --kz-integrate)",
+                 (observables::dos::LevelDensity) instead of a kz integral",
                 model.name()
             )));
         }
         if vs.broadening.shape != LineShape::Gaussian {
             return Err(Error::Unsupported(
                 "kz-integrated densities need a Gaussian line: a Lorentzian's tails make the \
-                 3D carrier density diverge with the kz limit; use --shape gaussian"
+                 3D carrier density diverge with the kz limit; use a Gaussian line shape"
                     .into(),
             ));
         }

@@ -15,9 +15,10 @@
 
 use super::common::{
     self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
-    ModelArgs, ModelJson, OutputArgs, OutputFiles, SolveArgs, TruncArgs, UnitsJson,
+    ModelArgs, OutputArgs, OutputFiles, SolveArgs, TruncArgs,
 };
 use clap::{Args, ValueEnum};
+use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
     auto, study, AutoResult, AutoSettings, AutoStep, BoundChoice, ExactValues, NeededCutoff,
     Selection, Study,
@@ -26,6 +27,9 @@ use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
 use ladderfan::trust::window::{EnergyWindow, WindowWarning};
 use ladderfan::Settings;
 use serde::Serialize;
+
+mod tables;
+pub use tables::{auto_table, study_table};
 
 /// What `converge` does.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -150,9 +154,9 @@ pub struct StudyJson<'a> {
     /// `study`.
     pub mode: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// The study.
     pub study: &'a Study,
     /// Wall-clock seconds per cutoff, only with `--timings` (they differ from run to run).
@@ -189,9 +193,9 @@ pub struct AutoJson<'a> {
     /// `auto`.
     pub mode: &'static str,
     /// The model.
-    pub model: ModelJson,
+    pub model: ModelRecord,
     /// Units of every number.
-    pub units: UnitsJson,
+    pub units: UnitsRecord,
     /// Field.
     pub field: f64,
     /// kz.
@@ -220,171 +224,6 @@ pub struct AutoJson<'a> {
     pub warnings: &'a [WindowWarning],
 }
 
-fn needed(n: NeededCutoff) -> String {
-    match n {
-        NeededCutoff::Observed(c) => c.to_string(),
-        NeededCutoff::Extrapolated(c) => format!("~{c}"),
-        NeededCutoff::Unknown => "?".into(),
-    }
-}
-
-fn opt_sci(x: Option<f64>) -> String {
-    x.map_or_else(|| "-".into(), |v| format!("{v:.2e}"))
-}
-
-/// The study as an aligned table: one row per tracked level, the bound at each cutoff, the
-/// actual error at the second-largest cutoff, rates and the needed cutoff.
-pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> String {
-    let mut out = format!(
-        "model: {} ({}), field {} {}, kz {} {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
-         energies in {} relative to the reference energy\n\
-         actual error against {}; p: change ~ N^-p, kappa: change ~ exp(-kappa N); ~N: extrapolated\n\
-         bound N=...: the deciding bound (K Kato-Temple, certified gap; R residual) and the state (c converged, \
-         n genuine but not converged, - no genuine level matched; cutoff artefacts are never tracked)\n\n",
-        st.model,
-        origin,
-        st.point.field,
-        units.field_unit(),
-        st.point.kz,
-        units.wavenumber_unit(),
-        st.cutoffs,
-        st.tolerance,
-        st.energy_unit,
-        if st.levels.iter().any(|l| l.exact == ladderfan::trust::converge::ReferenceKind::Exact) {
-            "the closed form"
-        } else {
-            "the largest cutoff"
-        }
-    );
-    let mut header = vec![
-        "sector".to_string(),
-        "orbital".into(),
-        format!("energy [{}]", st.energy_unit),
-    ];
-    for n in &st.cutoffs {
-        header.push(format!("bound N={n}"));
-    }
-    let penultimate = st.cutoffs.len().saturating_sub(2);
-    header.extend([
-        format!(
-            "error N={}",
-            st.cutoffs.get(penultimate).copied().unwrap_or(0)
-        ),
-        "p".into(),
-        "kappa".into(),
-        "needed N".into(),
-    ]);
-    let mut rows = vec![header];
-    for l in &st.levels {
-        let mut r = vec![
-            format!("{}:{}", l.sector.class, l.sector.label),
-            l.orbital.to_string(),
-            fmt_num(l.reference_value, 12),
-        ];
-        for e in &l.entries {
-            // the deciding bound, marked: K = Kato-Temple, R = residual; then the state
-            // (c converged, n not converged, - no genuine level matched)
-            let b = match (e.bound, e.kato_temple) {
-                (Some(b), Some(k)) if k < b => format!("{k:.2e} K"),
-                (Some(b), _) => format!("{b:.2e} R"),
-                _ => "-".into(),
-            };
-            let st = match e.state {
-                Some(ladderfan::levels::Convergence::Converged) => "c",
-                Some(_) => "n",
-                None => "-",
-            };
-            r.push(format!("{b} {st}"));
-        }
-        r.push(opt_sci(
-            l.entries.get(penultimate).and_then(|e| e.actual_error),
-        ));
-        r.push(
-            l.change_exponent
-                .map_or_else(|| "-".into(), |p| format!("{p:.2}")),
-        );
-        r.push(
-            l.change_rate_per_orbital
-                .map_or_else(|| "-".into(), |k| format!("{k:.3}")),
-        );
-        r.push(needed(l.needed_cutoff));
-        rows.push(r);
-    }
-    out.push_str(&common::table(&rows));
-    for w in &st.warnings {
-        out.push_str(&format!("warning: {}\n", w.message));
-    }
-    out
-}
-
-/// The automatic run as text: summary, steps, selected levels, warnings.
-pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> String {
-    let s = &res.spectrum;
-    let mut out = format!(
-        "model: {} ({}), field {} {}, kz {} {}\ntolerance {tol:e} met at cutoff {} (first met at {}, confirmed), \
-         matrix dimension {}, {:.3} s in total\nenergies in {unit} relative to {}\n\n",
-        s.model,
-        origin,
-        s.point.field,
-        s.units.field_unit(),
-        s.point.kz,
-        s.units.wavenumber_unit(),
-        res.cutoff,
-        res.first_converged_cutoff,
-        res.matrix_dimension,
-        res.seconds,
-        s.reference_energy
-    );
-    let mut rows = vec![vec![
-        "cutoff".to_string(),
-        "matrix dim".into(),
-        "selected".into(),
-        "unconverged".into(),
-        "worst bound/tol".into(),
-        "agrees".into(),
-        "seconds".into(),
-    ]];
-    for h in &res.history {
-        rows.push(vec![
-            h.cutoff.to_string(),
-            h.matrix_dimension.to_string(),
-            h.selected.to_string(),
-            h.unconverged.to_string(),
-            format!("{:.2e}", h.worst_bound_over_tolerance),
-            if h.agrees_with_previous { "yes" } else { "no" }.into(),
-            format!("{:.4}", h.seconds),
-        ]);
-    }
-    out.push_str(&common::table(&rows));
-    out.push('\n');
-    let mut rows = vec![vec![
-        "sector".to_string(),
-        "orbital".into(),
-        format!("energy [{unit}]"),
-        format!("bound [{unit}]"),
-        format!("Kato-Temple [{unit}]"),
-        "decided by".into(),
-        "state".into(),
-    ]];
-    for &i in &res.selected {
-        let l = &s.levels[i];
-        rows.push(vec![
-            format!("{}:{}", l.sector.class, l.sector.label),
-            l.orbital.to_string(),
-            fmt_num(l.energy, 12),
-            format!("{:.2e}", l.bound),
-            opt_sci(l.kato_temple),
-            l.deciding_bound().1.name().into(),
-            l.convergence.word().into(),
-        ]);
-    }
-    out.push_str(&common::table(&rows));
-    for w in &res.warnings {
-        out.push_str(&format!("warning: {}\n", w.message));
-    }
-    out
-}
-
 fn auto_json<'a>(
     lm: &common::LoadedModel,
     res: &'a AutoResult,
@@ -395,8 +234,8 @@ fn auto_json<'a>(
     AutoJson {
         command: "converge",
         mode: "auto",
-        model: ModelJson::new(lm),
-        units: UnitsJson::new(&lm.model),
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
         field: s.point.field,
         kz: s.point.kz,
         tolerance: tol,
@@ -506,79 +345,98 @@ pub fn run(a: &ConvergeArgs) -> CliResult {
     let mut base = Settings::with_cutoff(r.cutoff);
     base.tolerance = a.tolerance;
     base.memory_limit_mib = r.memory_limit_mib;
-    let unit = lm.model.units().energy_unit();
     match a.mode {
-        Mode::Study => {
-            let cutoffs = study_cutoffs(a, requested)?;
-            let st = study(
-                &lm.model,
-                r.point(),
-                &base,
-                &cutoffs,
-                sel,
-                ExactValues::ClosedFormIfKnown,
-            )?;
-            let mut written = Vec::new();
-            if let Some(dir) = &a.output.out {
-                let mut files = OutputFiles::default();
-                files.add("converge.csv", study_csv(&st)?);
-                files.add("converge.json", study_json(&st)?);
-                files.add("converge.svg", study_svg_string(&st)?);
-                written = files.write_all(dir)?;
-            }
-            if a.output.json {
-                emit_json(&StudyJson {
-                    command: "converge",
-                    mode: "study",
-                    model: ModelJson::new(&lm),
-                    units: UnitsJson::new(&lm.model),
-                    study: &st,
-                    seconds: a.timings.then_some(st.seconds.as_slice()),
-                })
-            } else {
-                let mut text = study_table(&st, &lm.origin, lm.model.units());
-                for p in written {
-                    text.push_str(&format!("wrote {}\n", p.display()));
-                }
-                emit(&text)
-            }
+        Mode::Study => run_study(a, &lm, &r, &base, sel, requested),
+        Mode::Auto => run_auto(a, &lm, &r, base, sel),
+    }
+}
+
+/// `--mode study`: the levels at every cutoff of the list, as a table, JSON or files.
+fn run_study(
+    a: &ConvergeArgs,
+    lm: &common::LoadedModel,
+    r: &common::Resolved,
+    base: &Settings,
+    sel: Selection,
+    requested: usize,
+) -> CliResult {
+    let cutoffs = study_cutoffs(a, requested)?;
+    let st = study(
+        &lm.model,
+        r.point(),
+        base,
+        &cutoffs,
+        sel,
+        ExactValues::ClosedFormIfKnown,
+    )?;
+    let mut written = Vec::new();
+    if let Some(dir) = &a.output.out {
+        let mut files = OutputFiles::default();
+        files.add("converge.csv", study_csv(&st)?);
+        files.add("converge.json", study_json(&st)?);
+        files.add("converge.svg", study_svg_string(&st)?);
+        written = files.write_all(dir)?;
+    }
+    if a.output.json {
+        emit_json(&StudyJson {
+            command: "converge",
+            mode: "study",
+            model: ModelRecord::new(&lm.model, &lm.origin),
+            units: UnitsRecord::new(&lm.model),
+            study: &st,
+            seconds: a.timings.then_some(st.seconds.as_slice()),
+        })
+    } else {
+        let mut text = study_table(&st, &lm.origin, lm.model.units());
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
         }
-        Mode::Auto => {
-            if r.cutoff > a.max_cutoff {
-                return Err(bad_flag(
-                    "--max-cutoff",
-                    format!(
-                        "the start cutoff {} exceeds --max-cutoff {}; raise --max-cutoff or lower \
-                         --cutoff",
-                        r.cutoff, a.max_cutoff
-                    ),
-                ));
-            }
-            let mut s = AutoSettings::new(sel, a.tolerance);
-            s.start_cutoff = r.cutoff;
-            s.max_cutoff = a.max_cutoff;
-            s.memory_limit_mib = r.memory_limit_mib;
-            s.bound = match a.bound {
-                BoundFlag::Residual => BoundChoice::Residual,
-                BoundFlag::KatoTemple => BoundChoice::KatoTemple,
-            };
-            s.base = base;
-            let res = auto(&lm.model, r.point(), &s)?;
-            let mut written = Vec::new();
-            if let Some(dir) = &a.output.out {
-                let mut files = OutputFiles::default();
-                files.add("converge-auto.csv", auto_csv(&lm, &res)?);
-                written = files.write_all(dir)?;
-            }
-            if a.output.json {
-                emit_json(&auto_json(&lm, &res, a.tolerance, a.timings))
-            } else {
-                let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
-                for p in written {
-                    text.push_str(&format!("wrote {}\n", p.display()));
-                }
-                emit(&text)
-            }
+        emit(&text)
+    }
+}
+
+/// `--mode auto`: raise the cutoff until the selected levels converge.
+fn run_auto(
+    a: &ConvergeArgs,
+    lm: &common::LoadedModel,
+    r: &common::Resolved,
+    base: Settings,
+    sel: Selection,
+) -> CliResult {
+    let unit = lm.model.units().energy_unit();
+    if r.cutoff > a.max_cutoff {
+        return Err(bad_flag(
+            "--max-cutoff",
+            format!(
+                "the start cutoff {} exceeds --max-cutoff {}; raise --max-cutoff or lower \
+                 --cutoff",
+                r.cutoff, a.max_cutoff
+            ),
+        ));
+    }
+    let mut s = AutoSettings::new(sel, a.tolerance);
+    s.start_cutoff = r.cutoff;
+    s.max_cutoff = a.max_cutoff;
+    s.memory_limit_mib = r.memory_limit_mib;
+    s.bound = match a.bound {
+        BoundFlag::Residual => BoundChoice::Residual,
+        BoundFlag::KatoTemple => BoundChoice::KatoTemple,
+    };
+    s.base = base;
+    let res = auto(&lm.model, r.point(), &s)?;
+    let mut written = Vec::new();
+    if let Some(dir) = &a.output.out {
+        let mut files = OutputFiles::default();
+        files.add("converge-auto.csv", auto_csv(lm, &res)?);
+        written = files.write_all(dir)?;
+    }
+    if a.output.json {
+        emit_json(&auto_json(lm, &res, a.tolerance, a.timings))
+    } else {
+        let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
         }
+        emit(&text)
     }
 }

@@ -1,0 +1,476 @@
+//! The views of a `dos` result: the text summary, the CSV files and the SVG plots.
+
+use super::*;
+
+pub(super) fn energy_unit(lm: &LoadedModel) -> String {
+    lm.model.units().energy_unit().replace(' ', "")
+}
+
+pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
+    let u = lm.model.units();
+    let eu = u.energy_unit();
+    let mut s = format!(
+        "model: {} ({}), field {} {}, kz {} {}, cutoff {}\n",
+        lm.model.name(),
+        lm.origin,
+        j.field,
+        u.field_unit(),
+        j.kz,
+        u.wavenumber_unit(),
+        j.cutoff
+    );
+    s.push_str(&format!(
+        "Landau degeneracy |qB|/h = {} cm^-2 per level; x model degeneracy {} = {} cm^-2 per level\n",
+        fmt_num(j.landau_degeneracy_cm2, 6),
+        j.model_degeneracy,
+        fmt_num(j.states_per_level_cm2, 6)
+    ));
+    s.push_str(&format!(
+        "{:?} broadening, width {} {eu}; {} converged levels from {} to {} {eu} (unconverged levels never count)\n",
+        j.shape,
+        fmt_num(j.width, 6),
+        j.levels_used,
+        fmt_num(j.converged_window.0, 8),
+        fmt_num(j.converged_window.1, 8)
+    ));
+    s.push_str(&format!(
+        "energies relative to {} {eu}; DOS grid of {} points from {} to {} {eu}\n",
+        j.reference_energy,
+        j.dos.len(),
+        fmt_num(j.dos.first().map(|p| p.0).unwrap_or(0.0), 6),
+        fmt_num(j.dos.last().map(|p| p.0).unwrap_or(0.0), 6)
+    ));
+    match &j.volume {
+        Some(v) => {
+            s.push_str(&format!(
+                "kz-integrated (per volume): kz limit {} {}, {} kz points{}, last grid change {:.1e} of the peak DOS\n",
+                fmt_num(v.kz_max, 6),
+                u.wavenumber_unit(),
+                v.kz_points,
+                if v.even_in_kz { " (spectrum even in kz: kz >= 0 solved)" } else { "" },
+                v.quadrature_change
+            ));
+            let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
+            s.push_str(&format!(
+                "  DOS per volume up to {} /({eu} cm^3) on the grid; density from neutrality {} to {} cm^-3 at {} K\n",
+                fmt_num(peak, 5),
+                fmt_num(v.dos.first().map(|p| p.2).unwrap_or(0.0), 5),
+                fmt_num(v.dos.last().map(|p| p.2).unwrap_or(0.0), 5),
+                v.temperature_k
+            ));
+            if let (Some(first), Some(last)) = (v.fermi_sweep.first(), v.fermi_sweep.last()) {
+                s.push_str(&format!(
+                    "  3D Fermi-level sweep: {} fields from {} to {} {}; E_F from {} to {} {eu}\n",
+                    v.fermi_sweep.len(),
+                    first.field,
+                    last.field,
+                    u.field_unit(),
+                    fmt_num(first.fermi_energy, 6),
+                    fmt_num(last.fermi_energy, 6)
+                ));
+            }
+            if let Some(f) = &v.fermi {
+                s.push_str(&format!(
+                    "  density {} cm^-3: Fermi level {} {eu}, DOS there {} /({eu} cm^3)\n",
+                    fmt_num(f.density_cm3, 6),
+                    fmt_num(f.fermi_energy, 8),
+                    fmt_num(f.dos_at_fermi_per_cm3, 5)
+                ));
+            }
+        }
+        None if lm.model.terms().iter().any(|t| t.monomial.kz > 0) => {
+            s.push_str(&format!(
+                "a 3D model: densities are per area of the kz = {} sheet (add --kz-integrate for per volume)\n",
+                j.kz
+            ));
+        }
+        None => {}
+    }
+    if let Some(f) = &j.fermi {
+        s.push_str(&format!(
+            "density {} cm^-2 at {} K: Fermi level {} {eu}, filling factor {}, DOS there {} /({eu} cm^2), neutrality {}\n",
+            fmt_num(f.density_cm2, 6),
+            j.temperature_k,
+            fmt_num(f.fermi_energy, 8),
+            fmt_num(f.filling_factor, 6),
+            fmt_num(f.dos_at_fermi_per_cm2, 5),
+            f.neutrality_energy
+                .map(|e| format!("at {e} {eu}"))
+                .unwrap_or_else(|| "empty band".into())
+        ));
+    }
+    if !j.fermi_sweep.is_empty() {
+        let first = &j.fermi_sweep[0];
+        let last = &j.fermi_sweep[j.fermi_sweep.len() - 1];
+        s.push_str(&format!(
+            "Fermi-level sweep: {} fields from {} to {} {}; nu from {} to {}\n",
+            j.fermi_sweep.len(),
+            first.field,
+            last.field,
+            u.field_unit(),
+            fmt_num(first.filling_factor, 5),
+            fmt_num(last.filling_factor, 5)
+        ));
+    }
+    s
+}
+
+pub(super) fn dos_csv(
+    lm: &LoadedModel,
+    j: &DosRecord,
+    ld: &LevelDensity,
+    neutrality: Option<f64>,
+) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let header = csv_header(
+        lm,
+        "dos",
+        &[
+            format!(
+                "field {} {}, kz {}, cutoff {}",
+                j.field,
+                lm.model.units().field_unit(),
+                j.kz,
+                j.cutoff
+            ),
+            format!(
+                "Landau degeneracy {:e} cm^-2, model degeneracy {}, {:e} cm^-2 per level",
+                j.landau_degeneracy_cm2, j.model_degeneracy, j.states_per_level_cm2
+            ),
+            format!(
+                "{:?} broadening width {:e} {eu}; only the {} converged levels count",
+                j.shape, j.width, j.levels_used
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+            format!(
+                "density_from_neutrality: n(E) at T = 0 with the Fermi level at E, counted from {} \
+                 (electrons above minus holes below)",
+                neutrality
+                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .unwrap_or_else(|| "an empty band".into())
+            ),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("energy_{eu}"),
+        format!("dos_per_{eu}_per_cm2"),
+        "density_from_neutrality_per_cm2".to_string(),
+    ]];
+    for &(e, g) in &j.dos {
+        let occ = Occupation {
+            chemical_potential: e,
+            thermal_energy: 0.0,
+            broadening: ld.broadening,
+            width: ld.width,
+        };
+        rec.push(vec![
+            format!("{e:e}"),
+            format!("{g:e}"),
+            format!(
+                "{:e}",
+                per_cm2(lm.model.units(), carrier_density(ld, &occ, neutrality))
+            ),
+        ]);
+    }
+    csv_text(&header, &rec)
+}
+
+pub(super) fn dos_svg(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
+    let eu = lm.model.units().energy_unit();
+    let note = format!(
+        "{}, {} {}; {:?} width {} {eu}; {} converged levels",
+        lm.model.name(),
+        j.field,
+        lm.model.units().field_unit(),
+        j.shape,
+        fmt_num(j.width, 4),
+        j.levels_used
+    );
+    let fermi = j.fermi.as_ref().map(|f| {
+        (
+            f.fermi_energy,
+            format!(
+                "dashed: Fermi level {} {eu} (nu = {}, n = {} cm^-2)",
+                fmt_num(f.fermi_energy, 6),
+                fmt_num(f.filling_factor, 4),
+                fmt_num(f.density_cm2, 4)
+            ),
+        )
+    });
+    dos_plot(
+        lm,
+        format!("Density of states: {}", lm.model.name()),
+        "cm^2",
+        &j.dos,
+        fermi,
+        note,
+    )
+}
+
+/// A DOS curve against energy, scaled by a power of ten so that the axis labels stay short,
+/// with an optional dashed Fermi level.
+pub(super) fn dos_plot(
+    lm: &LoadedModel,
+    title: String,
+    per: &str,
+    dos: &[(f64, f64)],
+    fermi: Option<(f64, String)>,
+    note: String,
+) -> CliResult<String> {
+    let eu = lm.model.units().energy_unit();
+    let peak = dos.iter().map(|p| p.1).fold(0.0, f64::max);
+    let p = if peak > 0.0 {
+        peak.log10().floor()
+    } else {
+        0.0
+    };
+    let unit = 10f64.powf(p);
+    let mut notes = vec![note];
+    let mut curves = vec![Curve {
+        label: None,
+        color_key: 1,
+        stroke: Stroke::Solid,
+        points: dos.iter().map(|&(e, g)| (e, g / unit)).collect(),
+    }];
+    if let Some((ef, text)) = fermi {
+        curves.push(Curve {
+            label: None,
+            color_key: 0,
+            stroke: Stroke::Dashed,
+            points: vec![(ef, 0.0), (ef, peak / unit)],
+        });
+        notes.push(text);
+    }
+    Ok(line_plot(&LinePlot {
+        title,
+        x_label: format!("E [{eu}]"),
+        y_label: format!("DOS [1e{p} / ({eu} {per})]"),
+        curves,
+        y_range: None,
+        notes,
+    })?)
+}
+
+pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let u = lm.model.units();
+    let header = csv_header(
+        lm,
+        "dos per volume (kz-integrated)",
+        &[
+            format!(
+                "field {} {}, cutoff {}, kz integrated over [{}, {}] {} with {} points (trapezoid, \
+                 last grid change {:e} of the peak DOS)",
+                j.field,
+                u.field_unit(),
+                j.cutoff,
+                -v.kz_max,
+                v.kz_max,
+                u.wavenumber_unit(),
+                v.kz_points,
+                v.quadrature_change
+            ),
+            format!(
+                "{:?} broadening width {:e} {eu}; only converged levels count",
+                j.shape, j.width
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+            format!(
+                "density_from_neutrality: at {} K with the chemical potential at E, counted from {}",
+                v.temperature_k,
+                v.neutrality_energy
+                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .unwrap_or_else(|| "an empty band".into())
+            ),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("energy_{eu}"),
+        format!("dos_per_{eu}_per_cm3"),
+        "density_from_neutrality_per_cm3".to_string(),
+    ]];
+    for &(e, g, n) in &v.dos {
+        rec.push(vec![format!("{e:e}"), format!("{g:e}"), format!("{n:e}")]);
+    }
+    csv_text(&header, &rec)
+}
+
+pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+    let eu = lm.model.units().energy_unit();
+    let note = format!(
+        "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
+        lm.model.name(),
+        j.field,
+        lm.model.units().field_unit(),
+        j.shape,
+        fmt_num(j.width, 4),
+        v.kz_points
+    );
+    let fermi = v.fermi.as_ref().map(|f| {
+        (
+            f.fermi_energy,
+            format!(
+                "dashed: Fermi level {} {eu} (n = {} cm^-3)",
+                fmt_num(f.fermi_energy, 6),
+                fmt_num(f.density_cm3, 4)
+            ),
+        )
+    });
+    let dos: Vec<(f64, f64)> = v.dos.iter().map(|&(e, g, _)| (e, g)).collect();
+    dos_plot(
+        lm,
+        format!("Density of states per volume: {}", lm.model.name()),
+        "cm^3",
+        &dos,
+        fermi,
+        note,
+    )
+}
+
+pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let fu = lm.model.units().field_unit();
+    let header = csv_header(
+        lm,
+        "fermi level sweep per volume (kz-integrated)",
+        &[
+            format!(
+                "density {:e} cm^-3 from neutrality, {:?} broadening, temperature {} K, cutoff {}",
+                v.fermi.map(|f| f.density_cm3).unwrap_or(f64::NAN),
+                j.shape,
+                v.temperature_k,
+                j.cutoff
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("field_{fu}"),
+        format!("fermi_energy_{eu}"),
+        format!("dos_at_fermi_per_{eu}_per_cm3"),
+        "kz_points".to_string(),
+    ]];
+    for p in &v.fermi_sweep {
+        rec.push(vec![
+            format!("{:e}", p.field),
+            format!("{:e}", p.fermi_energy),
+            format!("{:e}", p.dos_at_fermi_per_cm3),
+            p.kz_points.to_string(),
+        ]);
+    }
+    csv_text(&header, &rec)
+}
+
+pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
+    let eu = energy_unit(lm);
+    let fu = lm.model.units().field_unit();
+    let header = csv_header(
+        lm,
+        "fermi level sweep",
+        &[
+            format!(
+                "{:?} broadening, temperature {} K; density from neutrality (electrons minus holes)",
+                j.shape, j.temperature_k
+            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
+        ],
+    );
+    let mut rec = vec![vec![
+        format!("field_{fu}"),
+        format!("fermi_energy_{eu}"),
+        "filling_factor".to_string(),
+        "density_per_cm2".into(),
+        format!("dos_at_fermi_per_{eu}_per_cm2"),
+        format!("width_{eu}"),
+    ]];
+    for f in &j.fermi_sweep {
+        rec.push(vec![
+            format!("{:e}", f.field),
+            format!("{:e}", f.fermi_energy),
+            format!("{:e}", f.filling_factor),
+            format!("{:e}", f.density_cm2),
+            format!("{:e}", f.dos_at_fermi_per_cm2),
+            format!("{:e}", f.width),
+        ]);
+    }
+    csv_text(&header, &rec)
+}
+
+pub(super) fn fermi_svg(
+    lm: &LoadedModel,
+    j: &DosRecord,
+    spectra: &[&Spectrum],
+    broadening: &Broadening,
+) -> CliResult<String> {
+    let u = lm.model.units();
+    let eu = u.energy_unit();
+    let ef: Vec<(f64, f64)> = j
+        .fermi_sweep
+        .iter()
+        .map(|f| (f.field, f.fermi_energy))
+        .collect();
+    let (lo, hi) = ef
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
+            (a.min(p.1), b.max(p.1))
+        });
+    let pad = 0.25 * (hi - lo).max(1e-9) + 2.0 * j.width;
+    let (ylo, yhi) = (lo - pad, hi + pad);
+    // the converged Landau levels in the window, thin, followed by their track keys
+    let owned: Vec<Spectrum> = spectra.iter().map(|s| (*s).clone()).collect();
+    let mut curves: Vec<Curve> = ladderfan::observables::labels::tracks(&owned)
+        .into_iter()
+        .filter(|t| {
+            t.points
+                .iter()
+                .any(|p| p.converged && p.energy > ylo && p.energy < yhi)
+        })
+        .map(|t| Curve {
+            label: None,
+            color_key: 3,
+            stroke: Stroke::Dashed,
+            points: t
+                .points
+                .iter()
+                .map(|p| {
+                    // outside the frame: break the line (plotters would clamp it to the border)
+                    let inside = p.converged && p.energy > ylo && p.energy < yhi;
+                    (p.field, if inside { p.energy } else { f64::NAN })
+                })
+                .collect(),
+        })
+        .collect();
+    curves.push(Curve {
+        label: None,
+        color_key: 1,
+        stroke: Stroke::Solid,
+        points: ef,
+    });
+    Ok(line_plot(&LinePlot {
+        title: format!("Fermi level at fixed density: {}", lm.model.name()),
+        x_label: format!("B [{}]", u.field_unit()),
+        y_label: format!("E [{eu}]"),
+        curves,
+        y_range: Some((ylo, yhi)),
+        notes: vec![
+            format!(
+                "solid: Fermi level, n = {} cm^-2, T = {} K, {:?} width {}",
+                fmt_num(
+                    j.fermi_sweep.first().map(|f| f.density_cm2).unwrap_or(0.0),
+                    4
+                ),
+                j.temperature_k,
+                j.shape,
+                match broadening.scaling {
+                    WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width, 4)),
+                    WidthScaling::SqrtField { reference_field } => format!(
+                        "{} {eu} x sqrt(B / {reference_field} {})",
+                        fmt_num(broadening.width, 4),
+                        u.field_unit()
+                    ),
+                }
+            ),
+            "dashed: Landau levels (converged)".into(),
+        ],
+    })?)
+}

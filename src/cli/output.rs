@@ -1,0 +1,381 @@
+//! Output: stdout (text and JSON, a closed pipe ends quietly) and the files of `--out`,
+//! written atomically after every computation succeeded.
+
+use super::common::{bad_flag, CliError, CliResult};
+use ladderfan::Error;
+use serde::Serialize;
+use std::io::{IsTerminal, Write};
+use std::path::{Path, PathBuf};
+
+/// Write to stdout; a closed pipe ends the command quietly.
+pub fn emit(text: &str) -> CliResult {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|_| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(CliError::BrokenPipe),
+        Err(e) => Err(CliError::Input(Error::Io {
+            action: "write".into(),
+            path: "stdout".into(),
+            source: e,
+        })),
+    }
+}
+
+/// Serialise `value` as pretty JSON and print it. A number that is not finite (JSON would
+/// print it as `null`) is an error naming its path, and nothing is printed.
+pub fn emit_json<T: Serialize>(value: &T) -> CliResult {
+    if let Some((path, x)) = super::finite::first_non_finite(value) {
+        return Err(CliError::Input(Error::BadNumber {
+            name: format!("the result's {path}"),
+            value: x,
+            fix: "the numbers of this run overflow double precision (coefficients, field, \
+                  charge or line width too large or too small); give values of moderate size"
+                .into(),
+        }));
+    }
+    let mut s = serde_json::to_string_pretty(value).map_err(|e| {
+        CliError::Input(Error::Unsupported(format!(
+            "cannot serialise the result: {e}"
+        )))
+    })?;
+    s.push('\n');
+    emit(&s)
+}
+
+/// Files to write into `--out`: name and content. Written only after every computation has
+/// succeeded, each through a temporary name and a rename.
+#[derive(Debug, Default)]
+pub struct OutputFiles {
+    files: Vec<(String, Vec<u8>)>,
+}
+
+/// A `--out` problem with its remedy, located at the flag.
+fn out_error(path: &Path, what: &str, e: &std::io::Error) -> CliError {
+    bad_flag(
+        "--out",
+        format!(
+            "cannot {what} {}: {e}; choose a directory you can write to (or remove what is in \
+             the way); no file was changed",
+            path.display()
+        ),
+    )
+}
+
+/// Whether a process with this id is running (Linux `/proc`; elsewhere every process counts
+/// as running, so nothing of another run is ever removed).
+fn process_alive(pid: u32) -> bool {
+    let proc_dir = Path::new("/proc");
+    !proc_dir.is_dir() || proc_dir.join(pid.to_string()).exists()
+}
+
+/// Remove the temporaries (`.NAME.tmp-PID`) and backups (`.NAME.bak-PID`) that a killed run
+/// left in `dir`: those whose process no longer runs.
+pub fn remove_stale_temporaries(dir: &Path) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        if !name.starts_with('.') {
+            continue;
+        }
+        let pid = [".tmp-", ".bak-"].iter().find_map(|tag| {
+            name.rsplit_once(tag)
+                .and_then(|(_, p)| p.parse::<u32>().ok())
+        });
+        if let Some(pid) = pid {
+            if pid != std::process::id() && !process_alive(pid) {
+                let _ = std::fs::remove_file(e.path());
+            }
+        }
+    }
+}
+
+impl OutputFiles {
+    /// Queue a file.
+    pub fn add(&mut self, name: &str, content: impl Into<Vec<u8>>) {
+        self.files.push((name.to_string(), content.into()));
+    }
+
+    /// Write every queued file into `dir` (created if missing). Returns the written paths.
+    ///
+    /// All files are first written in full under temporary names (`.NAME.tmp-PID`); only when
+    /// every one of them succeeded are they renamed to their final names. A file that already
+    /// exists is first linked to a backup (`.NAME.bak-PID`), so that when a later rename fails
+    /// every earlier file is put back as it was: a failed run changes no file. Temporaries and
+    /// backups of a run that was killed are removed by the next run writing into `dir`.
+    pub fn write_all(self, dir: &Path) -> CliResult<Vec<PathBuf>> {
+        let existed = dir.exists();
+        std::fs::create_dir_all(dir).map_err(|e| out_error(dir, "create the directory", &e))?;
+        remove_stale_temporaries(dir);
+        let remove_dir = || {
+            if !existed {
+                let _ = std::fs::remove_dir(dir);
+            }
+        };
+        // a target that is a directory cannot be replaced: refuse before anything is written
+        for (name, _) in &self.files {
+            let path = dir.join(name);
+            if path.is_dir() {
+                remove_dir();
+                return Err(bad_flag(
+                    "--out",
+                    format!(
+                        "{} is a directory, where this command writes a file; remove or rename \
+                         it, or choose another --out; no file was changed",
+                        path.display()
+                    ),
+                ));
+            }
+        }
+        let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
+        for (name, content) in &self.files {
+            let path = dir.join(name);
+            match write_temp(&path, content) {
+                Ok(tmp) => staged.push((tmp, path)),
+                Err(e) => {
+                    for (tmp, _) in &staged {
+                        let _ = std::fs::remove_file(tmp);
+                    }
+                    remove_dir();
+                    return Err(e);
+                }
+            }
+        }
+        commit_staged(&staged, &|from, to| std::fs::rename(from, to)).inspect_err(|_| {
+            remove_dir();
+        })
+    }
+}
+
+/// Rename every staged `(temporary, target)` pair with `rename`. An existing target is first
+/// linked (or copied) to a backup; when a rename fails, every earlier target gets its old
+/// content back (or is removed if it did not exist), the remaining temporaries are removed,
+/// and the error names the file. On success the backups are removed.
+fn commit_staged(
+    staged: &[(PathBuf, PathBuf)],
+    rename: &dyn Fn(&Path, &Path) -> std::io::Result<()>,
+) -> CliResult<Vec<PathBuf>> {
+    // (target, backup of its old content if it had one) of every file renamed so far
+    let mut done: Vec<(PathBuf, Option<PathBuf>)> = Vec::new();
+    let undo = |done: &[(PathBuf, Option<PathBuf>)], rest: &[(PathBuf, PathBuf)]| {
+        for (path, backup) in done.iter().rev() {
+            match backup {
+                Some(b) => {
+                    let _ = std::fs::rename(b, path);
+                }
+                None => {
+                    let _ = std::fs::remove_file(path);
+                }
+            }
+        }
+        for (t, _) in rest {
+            let _ = std::fs::remove_file(t);
+        }
+    };
+    for (i, (tmp, path)) in staged.iter().enumerate() {
+        let backup = if path.is_file() {
+            let b = sibling(path, "bak");
+            let _ = std::fs::remove_file(&b);
+            match std::fs::hard_link(path, &b).or_else(|_| std::fs::copy(path, &b).map(|_| ())) {
+                Ok(()) => Some(b),
+                Err(e) => {
+                    undo(&done, &staged[i..]);
+                    return Err(out_error(path, "keep a backup of", &e));
+                }
+            }
+        } else {
+            None
+        };
+        if let Err(e) = rename(tmp, path) {
+            if let Some(b) = &backup {
+                let _ = std::fs::remove_file(b);
+            }
+            undo(&done, &staged[i..]);
+            return Err(out_error(path, "write", &e));
+        }
+        done.push((path.clone(), backup));
+    }
+    for (_, backup) in &done {
+        if let Some(b) = backup {
+            let _ = std::fs::remove_file(b);
+        }
+    }
+    Ok(done.into_iter().map(|(p, _)| p).collect())
+}
+
+/// `.NAME.TAG-PID` next to `path`: the temporary (`tmp`) or backup (`bak`) of this process.
+fn sibling(path: &Path, tag: &str) -> PathBuf {
+    let dir = path.parent().unwrap_or(Path::new("."));
+    let file_name = path
+        .file_name()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "out".into());
+    dir.join(format!(".{file_name}.{tag}-{}", std::process::id()))
+}
+
+/// Write `content` in full to a temporary file next to `path` (flushed and synced) and return
+/// its name; on failure nothing is left behind.
+fn write_temp(path: &Path, content: &[u8]) -> CliResult<PathBuf> {
+    let tmp = sibling(path, "tmp");
+    let result = (|| -> std::io::Result<()> {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(content)?;
+        f.sync_all()
+    })();
+    match result {
+        Ok(()) => Ok(tmp),
+        Err(e) => {
+            let _ = std::fs::remove_file(&tmp);
+            Err(out_error(path, "write", &e))
+        }
+    }
+}
+
+/// Write `content` to `path` whole or not at all: a temporary file in the same directory,
+/// then a rename over the target.
+#[allow(dead_code)] // shared helper for commands that write a single file outside --out
+pub fn write_atomic(path: &Path, content: &[u8]) -> CliResult {
+    let tmp = write_temp(path, content)?;
+    std::fs::rename(&tmp, path).map_err(|source| {
+        let _ = std::fs::remove_file(&tmp);
+        CliError::Input(Error::Io {
+            action: "write".into(),
+            path: path.display().to_string(),
+            source,
+        })
+    })
+}
+
+/// Whether progress bars may be drawn: both stderr and stdout are terminals.
+pub fn interactive() -> bool {
+    std::io::stderr().is_terminal() && std::io::stdout().is_terminal()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn scratch(name: &str) -> PathBuf {
+        let d =
+            std::env::temp_dir().join(format!("ladderfan-output-{}-{name}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&d);
+        d
+    }
+
+    fn names(dir: &Path) -> Vec<String> {
+        let mut v: Vec<String> = std::fs::read_dir(dir)
+            .into_iter()
+            .flatten()
+            .flatten()
+            .map(|e| e.file_name().to_string_lossy().into_owned())
+            .collect();
+        v.sort();
+        v
+    }
+
+    #[test]
+    fn output_files_are_written_whole() {
+        let d = scratch("ok");
+        let mut f = OutputFiles::default();
+        f.add("a.csv", "1,2\n");
+        f.add("b.svg", "<svg/>");
+        let w = f
+            .write_all(&d)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(w.len(), 2);
+        assert_eq!(names(&d), vec!["a.csv", "b.svg"]);
+        assert_eq!(
+            std::fs::read_to_string(d.join("a.csv")).ok().as_deref(),
+            Some("1,2\n")
+        );
+        write_atomic(&d.join("a.csv"), b"3").unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(
+            std::fs::read_to_string(d.join("a.csv")).ok().as_deref(),
+            Some("3")
+        );
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn a_failed_rename_puts_back_every_earlier_file() {
+        // regression: a failed write deleted the user's earlier file of the same name. Two
+        // files are staged over existing ones; the second rename fails: both keep their old
+        // content and no temporary or backup remains
+        let d = scratch("restore");
+        std::fs::create_dir_all(&d).unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("a.csv"), "old a\n").unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("b.svg"), "old b\n").unwrap_or_else(|e| panic!("{e}"));
+        let mut staged = Vec::new();
+        for (name, text) in [
+            ("a.csv", "new a\n"),
+            ("b.svg", "new b\n"),
+            ("c.csv", "new c\n"),
+        ] {
+            let path = d.join(name);
+            let tmp =
+                write_temp(&path, text.as_bytes()).unwrap_or_else(|e| panic!("{}", e.message()));
+            staged.push((tmp, path));
+        }
+        let fail_on_b = |from: &Path, to: &Path| {
+            if to.ends_with("b.svg") {
+                Err(std::io::Error::other("injected failure"))
+            } else {
+                std::fs::rename(from, to)
+            }
+        };
+        let r = commit_staged(&staged, &fail_on_b);
+        match r {
+            Ok(_) => panic!("the injected failure was not reported"),
+            Err(e) => assert!(
+                e.message().contains("b.svg") && e.message().contains("no file was changed")
+            ),
+        }
+        let read = |n: &str| std::fs::read_to_string(d.join(n)).ok();
+        assert_eq!(read("a.csv").as_deref(), Some("old a\n"));
+        assert_eq!(read("b.svg").as_deref(), Some("old b\n"));
+        assert_eq!(names(&d), vec!["a.csv", "b.svg"]);
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn stale_temporaries_of_a_killed_run_are_removed() {
+        // a run killed while writing leaves .NAME.tmp-PID; the next run into the directory
+        // removes those of processes that no longer run, and keeps everything else
+        let d = scratch("stale");
+        std::fs::create_dir_all(&d).unwrap_or_else(|e| panic!("{e}"));
+        let dead = u32::MAX - 7; // above any pid_max of Linux (at most 2^22)
+        std::fs::write(d.join(format!(".fan.csv.tmp-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(format!(".fan.csv.bak-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(".notes.tmp-abc"), "x").unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join("keep.csv"), "x").unwrap_or_else(|e| panic!("{e}"));
+        let mut f = OutputFiles::default();
+        f.add("fan.csv", "1\n");
+        f.write_all(&d)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d), vec![".notes.tmp-abc", "fan.csv", "keep.csv"]);
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn a_failed_write_leaves_no_file_behind() {
+        // the second target is an existing directory: refused before anything is written;
+        // nothing new may remain
+        let d = scratch("fail");
+        std::fs::create_dir_all(d.join("b.svg").join("inside")).unwrap_or_else(|e| panic!("{e}"));
+        let mut f = OutputFiles::default();
+        f.add("a.csv", "1,2\n");
+        f.add("b.svg", "<svg/>");
+        let r = f.write_all(&d);
+        assert!(r.is_err());
+        let left = names(&d);
+        assert_eq!(
+            left,
+            vec!["b.svg"],
+            "only the pre-existing directory may remain"
+        );
+        let _ = std::fs::remove_dir_all(&d);
+    }
+}

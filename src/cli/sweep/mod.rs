@@ -1,0 +1,496 @@
+//! Sweeps shared by `fan` and `dispersion`: parallel solves over points, window selection and
+//! the CSV/JSON/SVG views. Tracking by label and the closed-form check are the library's
+//! ([`ladderfan::records::track_records`], [`ladderfan::verify::closed_form_check`]).
+
+use super::common::{
+    self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel,
+};
+use clap::Args;
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use ladderfan::models;
+use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
+use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
+use ladderfan::verify;
+use ladderfan::{FieldPoint, Settings, Spectrum};
+use serde::Serialize;
+
+mod render;
+pub use render::{csv, summary, svg};
+use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+/// Flags shared by every sweep.
+#[derive(Debug, Clone, Args)]
+pub struct SweepArgs {
+    /// Number of sweep points (default: 60 for fan, 61 for dispersion so that kz = 0 is one).
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
+    pub points: Option<usize>,
+    /// Grid spacing.
+    #[arg(long, value_enum, default_value_t = common::Grid::Linear)]
+    pub grid: common::Grid,
+    /// Lower end of the energy window of the plotted/listed levels (default: from the levels
+    /// closest to the reference energy at the end point).
+    #[arg(long, allow_negative_numbers = true)]
+    pub emin: Option<f64>,
+    /// Upper end of the energy window.
+    #[arg(long, allow_negative_numbers = true)]
+    pub emax: Option<f64>,
+    /// How many levels (closest to the reference energy at the end point) set the default window.
+    #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 16)]
+    pub count: usize,
+    /// Worker threads for the sweep (default: all cores). Results do not depend on it.
+    #[arg(value_parser = crate::cli::common::parse_count, long)]
+    pub threads: Option<usize>,
+    /// Compute only shard K of N (1-based) of the points, e.g. as one task of a job array;
+    /// needs --out. Join the N CSV files with `ladderfan merge OUT.csv SHARD.csv...` into
+    /// exactly the single-run table.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
+}
+
+/// What is swept.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Swept {
+    /// The magnetic field.
+    Field,
+    /// kz.
+    Kz,
+}
+
+/// Solve at every point, in parallel over points; the result order is the point order, and
+/// each point's spectrum does not depend on the number of threads.
+pub fn solve_points(
+    lm: &LoadedModel,
+    points: &[FieldPoint],
+    settings: &Settings,
+    what: &str,
+    threads: Option<usize>,
+) -> CliResult<Vec<Spectrum>> {
+    let start = Instant::now();
+    let bar = ProgressBar::hidden();
+    bar.set_length(points.len() as u64);
+    bar.set_style(
+        ProgressStyle::with_template("{msg} [{bar:40}] {pos}/{len} points, eta {eta}")
+            .map_err(|e| CliError::Input(ladderfan::Error::Unsupported(e.to_string())))?
+            .progress_chars("=> "),
+    );
+    bar.set_message(what.to_string());
+    let interactive = common::interactive();
+    let shown = AtomicBool::new(false);
+    let tick = || {
+        bar.inc(1);
+        if interactive
+            && start.elapsed() > Duration::from_millis(800)
+            && shown
+                .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
+                .is_ok()
+        {
+            bar.set_draw_target(ProgressDrawTarget::stderr());
+        }
+    };
+    let work = || ladderfan::sweep::run_with(&lm.model, points, settings, &tick);
+    let results = match threads {
+        None => work(),
+        Some(0) => return Err(bad_flag("--threads", "0 threads; give at least 1")),
+        Some(n) if n > ladderfan::limits::MAX_THREADS => {
+            return Err(bad_flag(
+                "--threads",
+                format!(
+                    "{n} threads is more than the limit of {}; give at most the number of cores \
+                     (results do not depend on it)",
+                    ladderfan::limits::MAX_THREADS
+                ),
+            ))
+        }
+        Some(n) => rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
+            .install(work),
+    };
+    bar.finish_and_clear();
+    let spectra = results?
+        .into_iter()
+        .map(super::common::finite_spectrum)
+        .collect::<CliResult<Vec<_>>>()?;
+    let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
+    eprintln!(
+        "{what}: {} points, {levels} levels, {:.2} s",
+        points.len(),
+        start.elapsed().as_secs_f64()
+    );
+    Ok(spectra)
+}
+
+/// The energy window: flags if given, else the span of the `count` converged levels closest to
+/// the reference energy at the reference point, padded by 10 %.
+pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
+    let mut near: Vec<f64> = reference.converged().map(|l| l.energy).collect();
+    near.sort_by(|x, y| x.abs().total_cmp(&y.abs()));
+    near.truncate(a.count.max(1));
+    let (lo, hi) = near
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+            (a.min(e), b.max(e))
+        });
+    let (lo, hi) = if lo.is_finite() {
+        let pad = 0.1 * (hi - lo).max(reference.energy_scale);
+        (lo - pad, hi + pad)
+    } else {
+        (-reference.energy_scale, reference.energy_scale)
+    };
+    let lo = match a.emin {
+        Some(v) => common::finite_flag("--emin", v)?,
+        None => lo,
+    };
+    let hi = match a.emax {
+        Some(v) => common::finite_flag("--emax", v)?,
+        None => hi,
+    };
+    if lo >= hi {
+        return Err(bad_flag(
+            "--emin",
+            format!("the energy window [{lo}, {hi}] is empty; give --emin below --emax"),
+        ));
+    }
+    Ok((lo, hi))
+}
+
+/// Closed-form overlay curves for the swept points, if the model has a closed form
+/// ([`ladderfan::models::expected_levels`]): one curve per closed-form label, values outside the
+/// window (widened by half its width) dropped.
+pub fn closed_form_curves(
+    lm: &LoadedModel,
+    points: &[FieldPoint],
+    xs: &[f64],
+    reference_energy: f64,
+    cutoff: usize,
+    (lo, hi): (f64, f64),
+) -> Option<Vec<Vec<(f64, f64)>>> {
+    let margin = 0.5 * (hi - lo);
+    let mut curves: BTreeMap<(i64, i8, String), Vec<(f64, f64)>> = BTreeMap::new();
+    for (i, (p, &x)) in points.iter().zip(xs).enumerate() {
+        let levels = models::expected_levels(&lm.model, *p, reference_energy, cutoff)?;
+        for l in levels {
+            let c = curves
+                .entry((l.n, l.s, l.label.clone()))
+                .or_insert_with(|| vec![(f64::NAN, f64::NAN); points.len()]);
+            let keep = l.energy >= lo - margin && l.energy <= hi + margin;
+            c[i] = (x, if keep { l.energy } else { f64::NAN });
+        }
+    }
+    Some(
+        curves
+            .into_values()
+            .filter(|c| c.iter().any(|&(_, e)| e >= lo && e <= hi))
+            .collect(),
+    )
+}
+
+/// Everything a sweep produced.
+#[derive(Debug, Serialize)]
+pub struct SweepJson {
+    /// `fan` or `dispersion`.
+    pub command: &'static str,
+    /// The model.
+    pub model: ModelRecord,
+    /// Units of every number.
+    pub units: UnitsRecord,
+    /// Which quantity is swept.
+    pub swept: Swept,
+    /// Grid spacing.
+    pub grid: common::Grid,
+    /// The swept values.
+    pub values: Vec<f64>,
+    /// The fixed field (dispersion) or null.
+    pub field: Option<f64>,
+    /// The fixed kz (fan) or null.
+    pub kz: Option<f64>,
+    /// Orbital cutoff.
+    pub cutoff: usize,
+    /// Energies are relative to this.
+    pub reference_energy: f64,
+    /// Symmetry found at the reference point.
+    pub symmetry: SymmetryRecord,
+    /// Energy window of the listed tracks.
+    pub window: (f64, f64),
+    /// Index of the point that set the tracks' component and the default window.
+    pub reference_point: usize,
+    /// Comparison with the model's closed form over every point, when it has one.
+    pub closed_form: Option<verify::ClosedFormCheck>,
+    /// The tracked levels entering the window.
+    pub tracks: Vec<TrackRecord>,
+}
+
+/// A sweep to run: the swept values and the field points they map to.
+#[derive(Debug, Clone)]
+pub struct Plan {
+    /// `fan` or `dispersion`.
+    pub command: &'static str,
+    /// What is swept.
+    pub swept: Swept,
+    /// Swept values.
+    pub values: Vec<f64>,
+    /// Points, one per value.
+    pub points: Vec<FieldPoint>,
+    /// Index of the reference point (labels and default window).
+    pub reference_point: usize,
+    /// Cutoff and memory limit.
+    pub cutoff: usize,
+    /// Memory limit, MiB.
+    pub memory_limit_mib: u64,
+}
+
+/// A finished sweep: JSON view and closed-form overlay.
+#[derive(Debug)]
+pub struct Outcome {
+    /// The result.
+    pub json: SweepJson,
+    /// Closed-form curves, if the model has a closed form.
+    pub closed: Option<Vec<Vec<(f64, f64)>>>,
+    /// Set for a `--shard K/N` run: only the CSV of the shard's points is written.
+    pub shard: Option<ShardHeader>,
+}
+
+/// The window flags alone: finite, and --emin below --emax.
+fn check_window_flags(a: &SweepArgs) -> CliResult {
+    for (flag, v) in [("--emin", a.emin), ("--emax", a.emax)] {
+        if let Some(v) = v {
+            common::finite_flag(flag, v)?;
+        }
+    }
+    if let (Some(lo), Some(hi)) = (a.emin, a.emax) {
+        if lo >= hi {
+            return Err(bad_flag(
+                "--emin",
+                format!("the energy window [{lo}, {hi}] is empty; give --emin below --emax"),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Place a shard's values at their indices `block` in the whole sweep of `total` points.
+fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, total: usize) {
+    for t in tracks {
+        let mut e = vec![None; total];
+        let mut b = vec![None; total];
+        e[block.clone()].copy_from_slice(&t.energies);
+        b[block.clone()].copy_from_slice(&t.bounds);
+        t.energies = e;
+        t.bounds = b;
+    }
+}
+
+/// The `# shard` header of a shard's CSV: tracks grouped by identity, kept where they enter
+/// the window `win`.
+fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
+    let e = lm.model.units().energy_unit().replace(' ', "");
+    ShardHeader {
+        shard: s,
+        total_points: total,
+        group_by: vec!["track".into()],
+        keep: Some(KeepGroups {
+            column: format!("energy_{e}"),
+            lo: win.0,
+            hi: win.1,
+        }),
+    }
+}
+
+/// Solve, track and select.
+pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
+    // flag problems first: a bad window must not cost a sweep
+    check_window_flags(a)?;
+    let mut settings = Settings::with_cutoff(plan.cutoff);
+    settings.memory_limit_mib = plan.memory_limit_mib;
+    let shard = match &a.shard {
+        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
+            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
+            e => e.into(),
+        })?),
+        None => None,
+    };
+
+    let total = plan.points.len();
+    let block = match shard {
+        Some(s) => s.range(total)?,
+        None => 0..total,
+    };
+    // every point's spectrum is kept until the tracks are built: one check for all of them
+    common::check_memory(
+        lm,
+        plan.command,
+        "--points",
+        plan.points[plan.reference_point],
+        plan.cutoff,
+        plan.memory_limit_mib,
+        &ladderfan::memory::Footprint::Sweep {
+            points: block.len() as u64,
+            extra_per_level: ladderfan::memory::SWEEP_TRACK_BYTES,
+        },
+        a.threads,
+    )?;
+    let spectra = solve_points(
+        lm,
+        &plan.points[block.clone()],
+        &settings,
+        plan.command,
+        a.threads,
+    )?;
+    // the reference point sets the window; a shard without it solves it once more
+    let outside;
+    let reference = if block.contains(&plan.reference_point) {
+        &spectra[plan.reference_point - block.start]
+    } else {
+        outside = Spectrum::compute(&lm.model, plan.points[plan.reference_point], &settings)?;
+        &outside
+    };
+    let win = window(a, reference)?;
+    let local_reference = plan.reference_point.wrapping_sub(block.start);
+    let mut tracks = records::track_records(&lm.model, &spectra, local_reference);
+    if shard.is_some() {
+        place_in_sweep(&mut tracks, block.clone(), total);
+    }
+    let shard_header = shard.map(|s| shard_header(lm, s, total, win));
+    let tracks = match shard {
+        Some(_) => records::trim_to_margin(tracks, win),
+        None => records::in_window(tracks, win),
+    };
+    let closed = closed_form_curves(
+        lm,
+        &plan.points,
+        &plan.values,
+        reference.reference_energy,
+        plan.cutoff,
+        win,
+    );
+    let all: Vec<&Spectrum> = spectra.iter().collect();
+    let check = verify::closed_form_check(&lm.model, &all, win);
+    let json = SweepJson {
+        command: plan.command,
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        units: UnitsRecord::new(&lm.model),
+        swept: plan.swept,
+        grid: a.grid,
+        values: plan.values.clone(),
+        field: match plan.swept {
+            Swept::Kz => Some(plan.points[0].field),
+            Swept::Field => None,
+        },
+        kz: match plan.swept {
+            Swept::Field => Some(plan.points[0].kz),
+            Swept::Kz => None,
+        },
+        cutoff: plan.cutoff,
+        reference_energy: reference.reference_energy,
+        symmetry: SymmetryRecord::new(reference),
+        window: win,
+        reference_point: plan.reference_point,
+        closed_form: check,
+        tracks,
+    };
+    Ok(Outcome {
+        json,
+        closed,
+        shard: shard_header,
+    })
+}
+
+/// Refuse flags that cannot go together with `--shard`, before any work: a shard writes its
+/// CSV for `ladderfan merge` and has no JSON result.
+pub fn check_shard_output(a: &SweepArgs, output: &common::OutputArgs) -> CliResult {
+    if a.shard.is_some() && output.json {
+        return Err(bad_flag(
+            "--json",
+            "a shard run (--shard) writes its CSV for `ladderfan merge` and has no JSON result; \
+             drop --json, or run the sweep without --shard for JSON",
+        ));
+    }
+    Ok(())
+}
+
+/// Write the files (if `--out`) and print the result.
+pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+    if let Some(h) = &o.shard {
+        let Some(dir) = &output.out else {
+            return Err(bad_flag(
+                "--shard",
+                "a shard run writes its CSV for `ladderfan merge`: give --out DIR",
+            ));
+        };
+        let mut files = common::OutputFiles::default();
+        files.add(&format!("{stem}.csv"), h.attach(&csv(lm, &o.json)?));
+        let written = files.write_all(dir)?;
+        let mut text = format!("{}\n", h.line().trim_start_matches("# "));
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+        return common::emit(&text);
+    }
+    let mut written = Vec::new();
+    if let Some(dir) = &output.out {
+        let mut files = common::OutputFiles::default();
+        files.add(&format!("{stem}.csv"), csv(lm, &o.json)?);
+        files.add(
+            &format!("{stem}.svg"),
+            svg(lm, &o.json, o.closed.as_deref())?,
+        );
+        written = files.write_all(dir)?;
+    }
+    if output.json {
+        common::emit_json(&o.json)?;
+    } else {
+        let mut text = summary(lm, &o.json);
+        for p in written {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+        common::emit(&text)?;
+    }
+    verdict(o.json.closed_form.as_ref())
+}
+
+/// Exit status of a closed-form comparison: a disagreement is a failed verification; levels
+/// that are not comparable at this cutoff are not.
+pub fn verdict(c: Option<&verify::ClosedFormCheck>) -> CliResult {
+    match c {
+        Some(c) if !c.passed => Err(CliError::Verification(format!(
+            "computed levels of {} {}",
+            c.model, c.note
+        ))),
+        _ => Ok(()),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_closed_form_disagreement_is_a_verification_failure() {
+        let mut c = verify::ClosedFormCheck {
+            model: "m".into(),
+            computed_compared: 3,
+            expected_compared: 3,
+            max_deviation: 1e-3,
+            worst_ratio: 5.0,
+            not_comparable_points: 0,
+            failed_points: 1,
+            passed: false,
+            note: "disagrees at 1 of 1 points".into(),
+        };
+        let e = verdict(Some(&c))
+            .err()
+            .unwrap_or_else(|| panic!("no error"));
+        assert_eq!(e.exit_code(), common::EXIT_VERIFICATION);
+        assert!(e
+            .message()
+            .starts_with("verification failed: computed levels of m disagrees"));
+        c.passed = true;
+        assert!(verdict(Some(&c)).is_ok());
+        assert!(verdict(None).is_ok());
+    }
+}

@@ -1,0 +1,240 @@
+//! The views of a sweep: the CSV file, the SVG fan (or dispersion) plot and the text summary.
+
+use super::*;
+
+/// CSV (long format: one row per point and track) with `#` header lines.
+pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
+    let u = lm.model.units();
+    let (xname, xunit) = match j.swept {
+        Swept::Field => ("field", u.field_unit().to_string()),
+        Swept::Kz => ("kz", common::inverse_length(u)),
+    };
+    let fixed = match j.swept {
+        Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
+        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
+    };
+    let header = csv_header(
+        lm,
+        j.command,
+        &[
+            format!(
+                "{fixed}, cutoff {}, {} {} points ({xname} in {xunit})",
+                j.cutoff,
+                j.values.len(),
+                match j.grid {
+                    common::Grid::Linear => "linear",
+                    common::Grid::Log => "log",
+                }
+            ),
+            format!(
+                "energies in {} relative to {}; window [{}, {}] (values kept up to half a window beyond); only converged values",
+                u.energy_unit(),
+                j.reference_energy,
+                j.window.0,
+                j.window.1
+            ),
+            "level = Landau label (+n above the gap, -n below, n unpaired, ' a further level on the same side, ~ continued from the symmetric model, @f<family>, #<copy>); tracked by quantum numbers".into(),
+        ],
+    );
+    let e = u.energy_unit().replace(' ', "");
+    let mut rec = vec![vec![
+        xname.to_string(),
+        "track".into(),
+        "level".into(),
+        "n".into(),
+        "branch".into(),
+        format!("energy_{e}"),
+        format!("bound_{e}"),
+    ]];
+    for t in &j.tracks {
+        for (i, x) in j.values.iter().enumerate() {
+            if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
+                rec.push(vec![
+                    format!("{x:e}"),
+                    t.track.clone(),
+                    t.label.clone(),
+                    t.n.map(|n| n.to_string()).unwrap_or_default(),
+                    common::landau_branch_text(t.branch),
+                    format!("{en:e}"),
+                    format!("{b:e}"),
+                ]);
+            }
+        }
+    }
+    csv_text(&header, &rec)
+}
+
+/// The SVG plot of the tracks, with the closed form dashed when given.
+pub fn svg(
+    lm: &LoadedModel,
+    j: &SweepJson,
+    closed: Option<&[Vec<(f64, f64)>]>,
+) -> CliResult<String> {
+    let u = lm.model.units();
+    let x_label = match j.swept {
+        Swept::Field => format!("B [{}]", u.field_unit()),
+        Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
+    };
+    let mut curves: Vec<Curve> = j
+        .tracks
+        .iter()
+        .map(|t| Curve {
+            // the label sits at the right end, for the tracks that reach it inside the window
+            label: t
+                .energies
+                .last()
+                .copied()
+                .flatten()
+                .filter(|&e| e >= j.window.0 && e <= j.window.1)
+                .map(|_| t.label.clone()),
+            color_key: (t.n.unwrap_or(0).unsigned_abs() as usize) * 3 + t.family,
+            stroke: Stroke::Solid,
+            points: j
+                .values
+                .iter()
+                .zip(&t.energies)
+                .map(|(&x, e)| (x, e.unwrap_or(f64::NAN)))
+                .collect(),
+        })
+        .collect();
+    let mut notes = vec![format!(
+        "{} ({}), cutoff {}; colour and right-hand labels: Landau level",
+        lm.model.name(),
+        lm.origin,
+        j.cutoff
+    )];
+    if let Some(cf) = closed {
+        for c in cf {
+            curves.push(Curve {
+                label: None,
+                color_key: 0,
+                stroke: Stroke::Dashed,
+                points: c.clone(),
+            });
+        }
+        notes.push("dashed: closed form".into());
+    }
+    let reference = if j.reference_energy != 0.0 {
+        format!(" - {}", fmt_num(j.reference_energy, 6))
+    } else {
+        String::new()
+    };
+    let title = match j.swept {
+        Swept::Field => format!("Landau fan: {}", lm.model.name()),
+        Swept::Kz => format!(
+            "Dispersion at {} {}: {}",
+            j.field.unwrap_or(0.0),
+            u.field_unit(),
+            lm.model.name()
+        ),
+    };
+    Ok(ladderfan::plot::line_plot(&LinePlot {
+        title,
+        x_label,
+        y_label: format!("E{reference} [{}]", u.energy_unit()),
+        curves,
+        y_range: Some(j.window),
+        notes,
+    })?)
+}
+
+/// Human-readable summary: the tracks at the reference point.
+pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
+    let u = lm.model.units();
+    let mut s = format!(
+        "model: {} ({}), cutoff {}, {} points from {} to {} ({})\n",
+        lm.model.name(),
+        lm.origin,
+        j.cutoff,
+        j.values.len(),
+        j.values.first().copied().unwrap_or(0.0),
+        j.values.last().copied().unwrap_or(0.0),
+        match j.swept {
+            Swept::Field => u.field_unit().to_string(),
+            Swept::Kz => common::inverse_length(u),
+        }
+    );
+    s.push_str(&format!(
+        "symmetry: {}\n{} tracked levels in the window [{}, {}] {}\n",
+        j.symmetry.description,
+        j.tracks.len(),
+        fmt_num(j.window.0, 6),
+        fmt_num(j.window.1, 6),
+        u.energy_unit()
+    ));
+    match &j.closed_form {
+        Some(c) => {
+            s.push_str(&format!(
+                "closed form: {} ({} levels compared one to one, max deviation {:.2e} {}, {} of the allowed)\n",
+                if !c.passed {
+                    "DISAGREES"
+                } else if c.not_comparable_points > 0 {
+                    "agrees where comparable"
+                } else {
+                    "agrees"
+                },
+                c.computed_compared,
+                c.max_deviation,
+                u.energy_unit(),
+                fmt_num(c.worst_ratio, 3)
+            ));
+            if !c.note.is_empty() {
+                s.push_str(&format!("note: closed form {}\n", c.note));
+            }
+        }
+        None => s.push_str("closed form: none known for this model\n"),
+    }
+    let x_ref = j.values[j.reference_point];
+    let mut rows = vec![vec![
+        "level".to_string(),
+        "n".into(),
+        "branch".into(),
+        "component".into(),
+        format!("E at {} [{}]", fmt_num(x_ref, 6), u.energy_unit()),
+        format!("E min [{}]", u.energy_unit()),
+        format!("E max [{}]", u.energy_unit()),
+    ]];
+    // the table lists the tracks inside the window at the reference point
+    let (lo, hi) = j.window;
+    let mut tracks: Vec<&TrackRecord> = j
+        .tracks
+        .iter()
+        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
+        .collect();
+    tracks.sort_by(|a, b| {
+        let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        ea.total_cmp(&eb)
+    });
+    const MAX_ROWS: usize = 40;
+    for t in tracks.iter().take(MAX_ROWS) {
+        let (lo, hi) = t
+            .energies
+            .iter()
+            .flatten()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+                (a.min(e), b.max(e))
+            });
+        rows.push(vec![
+            t.label.clone(),
+            t.n.map(|n| n.to_string()).unwrap_or_else(|| "?".into()),
+            common::landau_branch_text(t.branch),
+            t.component.clone().unwrap_or_default(),
+            t.energies[j.reference_point]
+                .map(|e| fmt_num(e, 8))
+                .unwrap_or_else(|| "-".into()),
+            fmt_num(lo, 8),
+            fmt_num(hi, 8),
+        ]);
+    }
+    s.push('\n');
+    s.push_str(&common::table(&rows));
+    let hidden = j.tracks.len() - tracks.len().min(MAX_ROWS);
+    if hidden > 0 {
+        s.push_str(&format!(
+            "({hidden} more tracks, outside the window at {} or beyond {MAX_ROWS} rows: see --json or --out)\n",
+            fmt_num(x_ref, 6)
+        ));
+    }
+    s
+}
