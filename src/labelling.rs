@@ -13,10 +13,14 @@
 //! split into H = H_0 + V: H_0 keeps the couplings consistent with one set of shifts s (chosen
 //! greedily by coupling strength, strongest first), V holds the symmetry-breaking rest. H_0
 //! conserves J exactly and its levels carry exact labels. Along H(t) = H_0 + t V, t = 0 .. 1, each
-//! level is followed by the largest overlap |<v_i(t)|v_j(t + dt)>|^2 of its eigenvector, one to
-//! one (a step is halved, at most three times, while some followed level well inside the basis,
-//! top-orbital weight below 1e-4, keeps less than half its weight; levels near the cutoff mix at
-//! will and do not count), so the label of the symmetric model is carried to the full one. Levels labelled this way carry
+//! level is followed by the largest overlap |<p_i(t + dt)|v_j(t + dt)>|^2 between the new
+//! eigenvectors and the old ones carried forward by first-order perturbation theory,
+//! p_i = v_i + dt sum_k v_k <v_k|V|v_i> / (E_i - E_k) (normalised), one to one. The predicted
+//! vectors lose overlap as dt^4 on a smooth path instead of dt^2, so the step is chosen from the
+//! worst loss of the last step (aiming at 0.3) and halved, at most three times, while some
+//! followed level well inside the basis (top-orbital weight below 1e-10) keeps less than half
+//! its weight; levels near the cutoff mix at will and do not count. So the label of the
+//! symmetric model is carried to the full one. Levels labelled this way carry
 //! [`LabelOrigin::Continuation`].
 //!
 //! # Limits
@@ -48,7 +52,7 @@ const MAX_HALVINGS: u32 = 3;
 /// Levels whose weight on the top orbitals of the continuation basis is below this decide the
 /// step size: well inside the basis, where the labels matter. Levels nearer the cutoff mix
 /// strongly with their neighbours at every step and would only make the steps tiny.
-const GENUINE_TOP_WEIGHT: f64 = 1e-4;
+const GENUINE_TOP_WEIGHT: f64 = 1e-10;
 
 /// Branches of `count` levels sorted by ascending energy (see [`Branch`]).
 ///
@@ -256,8 +260,10 @@ pub fn symmetric_part(h: &LadderHamiltonian) -> Option<LadderHamiltonian> {
 /// Those of the dense eigen-solver.
 ///
 /// # Complexity
-/// About 5 dense eigen-solves with vectors per sector of s <= [`CONTINUATION_MAX_STATES`]
-/// states: O(s^3).
+/// O(s^3) per step for a sector of s <= [`CONTINUATION_MAX_STATES`] states: one dense
+/// eigen-solve with vectors and three or four dense products (in real arithmetic where the
+/// sector is real). A symmetry-breaking term comparable to the level spacing takes some 30
+/// steps (the invented tilted cone at 200 states: 31 eigen-solves, 132 before the predictor).
 pub fn continue_labels(
     h: &LadderHamiltonian,
     form: SpectrumForm,
@@ -314,23 +320,39 @@ pub fn continue_labels(
 /// weight on the top `band` orbitals of the continuation's cutoff.
 type Followed = Vec<(f64, LandauLabel, f64)>;
 
-fn sector_matrix(
+/// The sector matrices of H_0 and of V = H - H_0 over `states`, built once per sector so that
+/// every step of the path is one axpy, H(t) = H_0 + t V.
+fn sector_matrices(
     h: &LadderHamiltonian,
     h0: &LadderHamiltonian,
-    t: f64,
     states: &[(usize, usize)],
-) -> DMatrix<Complex64> {
+) -> (DMatrix<Complex64>, DMatrix<Complex64>) {
     let s = states.len();
-    DMatrix::from_fn(s, s, |r, c| {
+    let m0 = DMatrix::from_fn(s, s, |r, c| {
         let (m, a) = states[r];
         let (n, b) = states[c];
-        let z0 = h0.element(m, a, n, b);
-        if t == 0.0 {
-            z0
-        } else {
-            z0 + (h.element(m, a, n, b) - z0) * t
-        }
-    })
+        h0.element(m, a, n, b)
+    });
+    let v = DMatrix::from_fn(s, s, |r, c| {
+        let (m, a) = states[r];
+        let (n, b) = states[c];
+        h.element(m, a, n, b) - m0[(r, c)]
+    });
+    (m0, v)
+}
+
+/// Overlap loss 1 - |<old|new>|^2 of the worst genuine level that a step aims at: well clear of
+/// the acceptance limit 1/2, so that most steps are accepted at the first try.
+const TARGET_LOSS: f64 = 0.3;
+
+/// The next step after one accepted with worst genuine overlap `worst`: against the predicted
+/// vectors the loss of a smooth path grows as the fourth power of the step, so the step is
+/// scaled by (target / loss)^(1/4), by at most a factor 2 either way and never beyond the first
+/// step 1 / [`CONTINUATION_STEPS`].
+fn next_step(step: f64, worst: f64) -> f64 {
+    let loss = (1.0 - worst).max(1e-12);
+    let factor = (TARGET_LOSS / loss).powf(0.25).clamp(0.5, 2.0);
+    (step * factor).min(1.0 / CONTINUATION_STEPS as f64)
 }
 
 fn follow(
@@ -351,11 +373,13 @@ fn follow(
     let mut vecs = DMatrix::<Complex64>::zeros(s, s);
     let mut labels = Vec::with_capacity(s);
     let mut col = 0;
+    let mut values = Vec::with_capacity(s);
+    let (m0, v) = sector_matrices(h, h0, states);
     for ((family, j), idx) in groups {
-        let sub: Vec<(usize, usize)> = idx.iter().map(|&i| states[i]).collect();
-        let e = dense::eigh(&sector_matrix(h, h0, 0.0, &sub), Vectors::Compute)?;
+        let sub = DMatrix::from_fn(idx.len(), idx.len(), |r, c| m0[(idx[r], idx[c])]);
+        let e = dense::eigh(&sub, Vectors::Compute)?;
         let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
-        for (k, b) in branches(sub.len()).into_iter().enumerate() {
+        for (k, b) in branches(idx.len()).into_iter().enumerate() {
             for (r, &i) in idx.iter().enumerate() {
                 vecs[(i, col)] = v[(r, k)];
             }
@@ -365,23 +389,24 @@ fn follow(
                 origin: LabelOrigin::Continuation,
                 family,
             });
+            values.push(e.values[k]);
             col += 1;
         }
     }
     let mut t = 0.0;
     let mut step = 1.0 / CONTINUATION_STEPS as f64;
     let mut halvings = 0;
-    let mut values = Vec::new();
+    let mut mix = mixing(&vecs, &values, &v);
     if !broken {
         // nothing breaks the symmetry (an unsplit sector of a symmetric model): one step
         step = 1.0;
     }
     while t < 1.0 {
         let next = (t + step).min(1.0);
-        let e = dense::eigh(&sector_matrix(h, h0, next, states), Vectors::Compute)?;
-        let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
-        let overlap = adjoint_times(&vecs, &v); // (old, new)
-                                                // only genuine levels decide the step: cutoff artefacts mix among themselves at will
+        let e = dense::eigh(&(&m0 + &v * Complex64::new(next, 0.0)), Vectors::Compute)?;
+        let new = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
+        // (predicted old, new); only genuine levels decide the step: cutoff artefacts mix at will
+        let overlap = predicted_overlap(&mix, next - t, &adjoint_times(&vecs, &new));
         let genuine: Vec<bool> = (0..vecs.ncols())
             .map(|j| top_weight(&vecs, j, states, top_from) < GENUINE_TOP_WEIGHT)
             .collect();
@@ -393,11 +418,14 @@ fn follow(
         }
         // new column j carries the label of old column perm[j]
         labels = perm.iter().map(|&o| labels[o]).collect();
-        vecs = v;
+        vecs = new;
         values = e.values;
         t = next;
         halvings = 0;
-        step = (2.0 * step).min(1.0 / CONTINUATION_STEPS as f64);
+        step = next_step(step, worst);
+        if t < 1.0 {
+            mix = mixing(&vecs, &values, &v);
+        }
     }
     let mut top: Vec<f64> = (0..vecs.ncols())
         .map(|j| top_weight(&vecs, j, states, top_from))
@@ -435,15 +463,88 @@ fn follow(
         .collect())
 }
 
+/// Largest first-order mixing amplitude |dt <i|V|j> / (E_j - E_i)| that the predictor uses:
+/// pairs that mix more than this within one step are near a crossing, where first-order
+/// perturbation theory says nothing reliable, and are left to the overlaps.
+const MIX_CAP: f64 = 1.0;
+
+/// First-order (Rayleigh-Schrodinger) mixing along the path H(t) = H_0 + t V at the current
+/// eigenpairs (`vecs`, `values`): entry (i, j) is <i|V|j> / (E_j - E_i), the amplitude of |i>
+/// in d|j>/dt (zero on the diagonal and for exactly equal energies).
+///
+/// # Complexity
+/// Two dense products, O(s^3).
+fn mixing(vecs: &DMatrix<Complex64>, values: &[f64], v: &DMatrix<Complex64>) -> DMatrix<Complex64> {
+    let w = adjoint_times(vecs, &times(v, vecs));
+    DMatrix::from_fn(w.nrows(), w.ncols(), |i, j| {
+        let gap = values[j] - values[i];
+        if i == j || gap == 0.0 {
+            Complex64::new(0.0, 0.0)
+        } else {
+            w[(i, j)] / gap
+        }
+    })
+}
+
+/// Overlaps |<p_j|new_k>| of the predicted vectors p_j = |j> + dt sum_i mix_ij |i> (normalised;
+/// amplitudes beyond [`MIX_CAP`] dropped) with the new eigenvectors, from the plain overlaps
+/// `plain` = V_old^H V_new. A smooth path loses overlap as dt^2 against the old vectors but
+/// as dt^4 against the predicted ones, so the steps can be longer for the same certainty.
+fn predicted_overlap(
+    mix: &DMatrix<Complex64>,
+    dt: f64,
+    plain: &DMatrix<Complex64>,
+) -> DMatrix<Complex64> {
+    let s = mix.nrows();
+    let mut p = DMatrix::from_fn(s, s, |i, j| {
+        let z = mix[(i, j)] * dt;
+        if i == j {
+            Complex64::new(1.0, 0.0)
+        } else if z.norm() > MIX_CAP {
+            Complex64::new(0.0, 0.0)
+        } else {
+            z
+        }
+    });
+    for j in 0..s {
+        let norm = p.column(j).norm();
+        p.column_mut(j).unscale_mut(norm);
+    }
+    adjoint_times(&p, plain)
+}
+
+/// A B through faer's matrix product (see [`adjoint_times`]).
+fn times(a: &DMatrix<Complex64>, b: &DMatrix<Complex64>) -> DMatrix<Complex64> {
+    product(a, b, false)
+}
+
 /// A^H B through faer's matrix product (nalgebra's generic complex product is instantiated in
 /// this crate, unoptimised in the test profile: it took 70 % of a labelled solve there).
 fn adjoint_times(a: &DMatrix<Complex64>, b: &DMatrix<Complex64>) -> DMatrix<Complex64> {
+    product(a, b, true)
+}
+
+/// A B or A^H B; in real arithmetic (a quarter of the work) when neither factor has an
+/// imaginary part, as for the real sectors of most models.
+fn product(a: &DMatrix<Complex64>, b: &DMatrix<Complex64>, adjoint: bool) -> DMatrix<Complex64> {
     let (n, p) = a.shape();
+    let (rows, inner) = if adjoint { (p, n) } else { (n, p) };
     let q = b.ncols();
+    let real = |m: &DMatrix<Complex64>| m.iter().all(|z| z.im == 0.0);
+    if real(a) && real(b) {
+        let fa = faer::Mat::<f64>::from_fn(n, p, |i, j| a[(i, j)].re);
+        let fb = faer::Mat::<f64>::from_fn(inner, q, |i, j| b[(i, j)].re);
+        let prod = if adjoint {
+            fa.transpose() * &fb
+        } else {
+            &fa * &fb
+        };
+        return DMatrix::from_fn(rows, q, |i, j| Complex64::new(prod[(i, j)], 0.0));
+    }
     let fa = faer::MatRef::from_column_major_slice(a.as_slice(), n, p);
-    let fb = faer::MatRef::from_column_major_slice(b.as_slice(), n, q);
-    let prod = fa.adjoint() * fb;
-    DMatrix::from_fn(p, q, |i, j| prod[(i, j)])
+    let fb = faer::MatRef::from_column_major_slice(b.as_slice(), inner, q);
+    let prod = if adjoint { fa.adjoint() * fb } else { fa * fb };
+    DMatrix::from_fn(rows, q, |i, j| prod[(i, j)])
 }
 
 /// Weight of column `j` of `vecs` on the orbitals from `top_from` on.
