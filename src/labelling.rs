@@ -522,7 +522,7 @@ fn assign(
             .map(|&(lam, lab, top)| match form {
                 SpectrumForm::Direct => (lam, lab, top),
                 SpectrumForm::KleinGordon { rest_energy } => {
-                    let e = crate::solve::kg_energy(lam, rest_energy, sign, reference);
+                    let e = crate::levels::kg_energy(lam, rest_energy, sign, reference);
                     let k = match lab.branch {
                         Branch::Upper(k) | Branch::Lower(k) => k,
                         Branch::Unpaired => 1,

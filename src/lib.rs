@@ -51,6 +51,7 @@ pub mod model;
 pub mod modelfile;
 pub mod observables;
 pub mod plot;
+pub mod problem;
 pub mod sectors;
 pub mod shard;
 pub mod solve;

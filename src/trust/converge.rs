@@ -46,28 +46,13 @@ use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::{BoundKind, Convergence, Level, Spectrum};
 use crate::model::Model;
+use crate::problem::{Problem, Settings};
 use crate::sectors::SectorId;
-use crate::solve::Settings;
 use crate::trust::window::{check_spectrum, EnergyWindow, WindowWarning};
 use serde::Serialize;
 use std::time::Instant;
 
-/// Weight on the top `band` orbitals above which a level counts as a cutoff artefact.
-pub const ARTEFACT_TOP_WEIGHT: f64 = 0.5;
-
-/// Whether a level is a cutoff artefact: its state says so
-/// ([`crate::levels::Convergence::CutoffArtefact`]), or, for a level not flagged converged,
-/// most of its weight sits on the highest `band` orbitals of the basis (an eigenvector of the
-/// untruncated operator would not notice where the basis ends). A converged level never is:
-/// its bound proves an eigenvalue of the untruncated operator.
-pub fn is_cutoff_artefact(level: &Level) -> bool {
-    match level.convergence {
-        Convergence::CutoffArtefact => true,
-        Convergence::Converged => false,
-        // before the states are set (the Kato-Temple pass inside the solve) and after
-        Convergence::NotConverged => level.top_weight >= ARTEFACT_TOP_WEIGHT,
-    }
-}
+pub use crate::levels::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
 
 /// Which levels a study or the automatic cutoff follows.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -268,11 +253,21 @@ pub fn study(
             "a convergence study needs at least one cutoff; give a list such as 25,50,100".into(),
         ));
     };
-    // every spectrum is kept: check their sum before the first solve (src/memory.rs)
-    let shapes: Vec<crate::memory::SolveShape> = cutoffs
+    // one set-up (one assembly) for every cutoff: the Hamiltonian does not depend on it
+    let first = Problem::new(
+        model,
+        point,
+        &Settings {
+            cutoff: cutoffs[0],
+            ..base.clone()
+        },
+    )?;
+    let problems: Vec<Problem<'_>> = cutoffs
         .iter()
-        .map(|&n| crate::memory::SolveShape::of_model(model, point, n, base.splitting))
+        .map(|&n| first.with_cutoff(n))
         .collect::<Result<_>>()?;
+    // every spectrum is kept: check their sum before the first solve (src/memory.rs)
+    let shapes: Vec<crate::memory::SolveShape> = problems.iter().map(|p| *p.shape()).collect();
     crate::memory::check(
         &format!(
             "a convergence study at {} cutoffs up to {largest} ({} levels at the largest; every spectrum is kept)",
@@ -292,16 +287,9 @@ pub fn study(
     )?;
     let mut spectra = Vec::with_capacity(cutoffs.len());
     let mut seconds = Vec::with_capacity(cutoffs.len());
-    for &n in &cutoffs {
+    for problem in &problems {
         let t0 = Instant::now();
-        let s = Spectrum::compute(
-            model,
-            point,
-            &Settings {
-                cutoff: n,
-                ..base.clone()
-            },
-        )?;
+        let s = Spectrum::solve(problem)?;
         seconds.push(t0.elapsed().as_secs_f64());
         spectra.push(s);
     }
@@ -672,6 +660,8 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
     let mut cutoff = settings.start_cutoff.max(model.band() + 1);
     let mut history: Vec<AutoStep> = Vec::new();
     let mut previous: Option<(Spectrum, Vec<usize>, bool)> = None;
+    let mut previous_shape: Option<crate::memory::SolveShape> = None;
+    let mut first: Option<Problem<'_>> = None;
     let mut total = 0.0;
     loop {
         if cutoff > settings.max_cutoff {
@@ -696,21 +686,20 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
                 detail,
             });
         }
-        // the previous spectrum is kept while the next is solved (src/memory.rs)
-        let mut shapes = vec![crate::memory::SolveShape::of_model(
-            model,
-            point,
+        let run = Settings {
             cutoff,
-            settings.base.splitting,
-        )?];
-        if let Some((p, _, _)) = &previous {
-            shapes.push(crate::memory::SolveShape::of_model(
-                model,
-                point,
-                p.cutoff,
-                settings.base.splitting,
-            )?);
-        }
+            tolerance: settings.tolerance,
+            memory_limit_mib: settings.memory_limit_mib,
+            ..settings.base.clone()
+        };
+        // one assembly for the whole run: later cutoffs reuse the first set-up
+        let problem = match &first {
+            Some(p) => p.with_cutoff(cutoff)?,
+            None => Problem::new(model, point, &run)?,
+        };
+        // the previous spectrum is kept while the next is solved (src/memory.rs)
+        let mut shapes = vec![*problem.shape()];
+        shapes.extend(previous_shape);
         crate::memory::check(
             &format!(
                 "a solve with {cutoff} orbitals (tolerance {:e} not met below it; the previous spectrum is kept)",
@@ -720,14 +709,8 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
             settings.memory_limit_mib,
             "loosen the tolerance, lower max_cutoff, or raise the memory limit",
         )?;
-        let run = Settings {
-            cutoff,
-            tolerance: settings.tolerance,
-            memory_limit_mib: settings.memory_limit_mib,
-            ..settings.base.clone()
-        };
         let t0 = Instant::now();
-        let spectrum = Spectrum::compute(model, point, &run).map_err(|e| match e {
+        let spectrum = Spectrum::solve(&problem).map_err(|e| match e {
             Error::MemoryLimit {
                 what,
                 needed_mib,
@@ -832,6 +815,10 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
             });
         }
         previous = Some((spectrum, picked, all_ok));
+        previous_shape = Some(*problem.shape());
+        if first.is_none() {
+            first = Some(problem);
+        }
         let next = (cutoff as f64 * settings.growth).ceil() as usize;
         cutoff = next.max(cutoff + 1);
     }

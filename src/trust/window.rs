@@ -25,9 +25,9 @@
 
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
+use crate::levels::kg_energy;
 use crate::levels::Spectrum;
 use crate::model::{Model, SpectrumForm};
-use crate::solve::kg_energy;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use serde::Serialize;

@@ -57,8 +57,8 @@
 //!   Proc. R. Soc. Lond. A 119, 276 (1928).
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
+use crate::levels::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
 use crate::levels::{Level, Spectrum};
-use crate::trust::converge::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
