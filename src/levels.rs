@@ -101,6 +101,57 @@ impl Branch {
     }
 }
 
+/// Which root of the energy map a level is: the one energy of a direct Hamiltonian, or one of
+/// the two roots E = ± sqrt(M^2 + 2 M lambda) of the Klein-Gordon form
+/// ([`crate::model::SpectrumForm`], [`kg_energy`]).
+///
+/// Not the label's [`Branch`] (the side of the gap within a sector). Written as the integers
+/// -1, 0, +1 ([`Root::sign`]) in JSON and as `-1`, `0`, `1` by `Display`; ordered as those
+/// integers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Root {
+    /// The negative root E = -sqrt(...) (antiparticle): -1.
+    Antiparticle,
+    /// A direct Hamiltonian: eigenvalues are energies (0).
+    Direct,
+    /// The positive root E = +sqrt(...) (particle): +1.
+    Particle,
+}
+
+impl Root {
+    /// The root of sign `sign`: negative -> [`Root::Antiparticle`], zero -> [`Root::Direct`],
+    /// positive -> [`Root::Particle`].
+    pub fn from_sign(sign: i8) -> Self {
+        match sign {
+            s if s < 0 => Root::Antiparticle,
+            0 => Root::Direct,
+            _ => Root::Particle,
+        }
+    }
+
+    /// -1, 0 or +1.
+    pub fn sign(self) -> i8 {
+        match self {
+            Root::Antiparticle => -1,
+            Root::Direct => 0,
+            Root::Particle => 1,
+        }
+    }
+}
+
+impl Serialize for Root {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_i8(self.sign())
+    }
+}
+
+impl std::fmt::Display for Root {
+    /// `-1`, `0` or `1`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}", self.sign())
+    }
+}
+
 /// How a [`LandauLabel`] was obtained.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -206,8 +257,9 @@ pub struct Level {
     pub orbital: usize,
     /// Dominant spinor component.
     pub component: usize,
-    /// Branch for Klein-Gordon form (+1 particle, -1 antiparticle); 0 for direct Hamiltonians.
-    pub branch: i8,
+    /// Root of the Klein-Gordon energy map (written +1 particle, -1 antiparticle), or
+    /// [`Root::Direct`] (written 0) for a direct Hamiltonian. Not the label's [`Branch`].
+    pub branch: Root,
     /// Landau index and branch as the trade writes them (see [`LandauLabel`]); the component
     /// character is [`Spectrum::weights_of`].
     pub label: LandauLabel,
@@ -369,15 +421,15 @@ pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Optio
     (!nonzero.is_empty()).then(|| nonzero[nonzero.len() / 2])
 }
 
-/// Energy of a Klein-Gordon branch relative to `reference`, from the eigenvalue lambda of the
-/// squared-form operator: E = branch sqrt(M^2 + 2 M lambda), M = m c^2, evaluated without
-/// cancellation as E - M = 2 lambda / (sqrt(1 + 2 lambda / M) + 1).
-pub fn kg_energy(lambda: f64, rest_energy: f64, branch: i8, reference: f64) -> f64 {
+/// Energy of the Klein-Gordon root `root` relative to `reference`, from the eigenvalue lambda
+/// of the squared-form operator: E = ± sqrt(M^2 + 2 M lambda), M = m c^2, evaluated without
+/// cancellation as E - M = 2 lambda / (sqrt(1 + 2 lambda / M) + 1). [`Root::Direct`] is
+/// taken as the positive root.
+pub fn kg_energy(lambda: f64, rest_energy: f64, root: Root, reference: f64) -> f64 {
     let x = 2.0 * lambda / rest_energy;
     let excess = 2.0 * lambda / ((1.0 + x).max(0.0).sqrt() + 1.0); // E+ - M
-    if branch >= 0 {
-        excess + (rest_energy - reference)
-    } else {
-        -excess - (rest_energy + reference)
+    match root {
+        Root::Particle | Root::Direct => excess + (rest_energy - reference),
+        Root::Antiparticle => -excess - (rest_energy + reference),
     }
 }

@@ -306,7 +306,7 @@ fn klein_gordon_reduces_to_schrodinger_with_error_of_order_b_squared() {
         let lowest = s
             .levels
             .iter()
-            .filter(|l| l.branch == 1)
+            .filter(|l| l.branch == ladderfan::levels::Root::Particle)
             .map(|l| l.energy)
             .fold(f64::INFINITY, f64::min);
         let dev = lowest - 0.5 * b;

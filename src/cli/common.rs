@@ -873,7 +873,7 @@ pub fn ranks(s: &Spectrum) -> Vec<usize> {
         .iter()
         .map(|l| {
             let c = count
-                .entry((l.sector.class, l.sector.label, l.branch))
+                .entry((l.sector.class, l.sector.label, l.branch.sign()))
                 .or_insert(0);
             *c += 1;
             *c - 1
@@ -899,7 +899,7 @@ pub fn levels_json(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelJson>
                 sector: format!("{}:{}", l.sector.class, l.sector.label),
                 sector_class: l.sector.class,
                 sector_label: l.sector.label,
-                branch: l.branch,
+                branch: l.branch.sign(),
                 orbital: l.orbital,
                 component: l.component,
                 component_name: model

@@ -14,7 +14,7 @@ use super::{Target, Vectors, EXPLICIT_RESIDUAL_MAX_SECTOR, REFINE_MAX_SECTOR, WI
 use crate::dd::DdComplex;
 use crate::error::{Error, Result};
 use crate::hamiltonian::{leakage, LadderHamiltonian};
-use crate::levels::{kg_energy, Convergence, Level, LevelVector};
+use crate::levels::{kg_energy, Convergence, Level, LevelVector, Root};
 use crate::model::SpectrumForm;
 use crate::sectors::{SectorId, SectorPlan};
 use nalgebra::DMatrix;
@@ -329,7 +329,7 @@ impl Job<'_> {
             sector: id,
             orbital: best.1,
             component: best.2,
-            branch: 0,
+            branch: Root::Direct,
             label: crate::levels::LandauLabel::UNLABELLED,
             top_weight: top,
             tail_weight: tail,
@@ -352,7 +352,7 @@ impl Job<'_> {
                 }
             }
             SpectrumForm::KleinGordon { rest_energy } => {
-                for branch in [1i8, -1] {
+                for branch in [Root::Particle, Root::Antiparticle] {
                     let e = kg_energy(lam_full, rest_energy, branch, self.reference);
                     let ep = kg_energy(lam_full + r, rest_energy, branch, self.reference);
                     let em = kg_energy(
@@ -368,7 +368,7 @@ impl Job<'_> {
                         branch,
                         ..base
                     });
-                    if branch == -1 {
+                    if branch == Root::Antiparticle {
                         // the second branch shares the weights of the first
                         let w: Vec<f64> = out.weights[w0..w0 + d].to_vec();
                         out.weights.extend_from_slice(&w);

@@ -151,8 +151,8 @@ pub struct TrackedLevel {
     pub orbital: usize,
     /// Dominant component at the largest cutoff.
     pub component: usize,
-    /// Klein-Gordon branch (0 for direct models).
-    pub branch: i8,
+    /// Klein-Gordon root ([`crate::levels::Root::Direct`] for direct models).
+    pub branch: crate::levels::Root,
     /// The value the actual error refers to.
     pub reference_value: f64,
     /// Whether `reference_value` is an exact (closed-form) value rather than the largest-cutoff
