@@ -6,7 +6,8 @@
 //! * [`cluster`]: rotation inside degenerate clusters that separates artefacts from genuine
 //!   levels (called by the solver: `solve/cluster.rs`, re-exported here).
 //! * [`window`]: detection of bands that re-enter an energy window beyond the cutoff's reach.
-//! * [`converge`]: convergence study over a list of cutoffs, and the automatic cutoff.
+//! * [`converge`]: convergence study over a list of cutoffs.
+//! * [`auto`]: the automatic cutoff (re-exported by [`converge`]).
 //! * [`report`]: CSV / JSON tables and an SVG plot of a study.
 //!
 //! # Layering
@@ -18,6 +19,7 @@
 //! rule with the levels ([`crate::levels::energy_scale`], [`crate::levels::ARTEFACT_TOP_WEIGHT`]).
 
 pub use crate::solve::{bounds, cluster};
+pub mod auto;
 pub mod converge;
 pub mod report;
 pub mod window;
