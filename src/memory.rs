@@ -1,5 +1,7 @@
 //! The memory estimate of a solve, a sweep and each command, in closed form from the sector
-//! plan's sizes; the one guard every path uses before it allocates.
+//! plan's sizes; the one guard every path uses before it allocates. The sizes come from the
+//! set-up of the solve ([`crate::problem::Problem::shape`]: the symmetry detected at the real
+//! (B, kz)), so the pre-checks of the command line and the solve itself judge the same shape.
 //!
 //! # Formula
 //! For a model of d components and B branches (2 in Klein-Gordon form, else 1) at cutoff N the

@@ -303,22 +303,7 @@ impl Job<'_> {
             (pair.in_res * pair.in_res + out_res * out_res).sqrt() + pair.rounding + self.dropped;
         let w0 = out.weights.len();
         out.weights.resize(w0 + d, 0.0);
-        let mut best = (0.0, 0usize, 0usize);
-        let mut top = 0.0;
-        let mut tail = 0.0;
-        for (idx, &(n, a)) in states.iter().enumerate() {
-            let p = v[idx].norm_sqr();
-            out.weights[w0 + a] += p;
-            if p > best.0 {
-                best = (p, n, a);
-            }
-            if n >= top_from {
-                top += p;
-            }
-            if n >= tail_from {
-                tail += p;
-            }
-        }
+        let (best, top, tail) = weigh(states, v, &mut out.weights[w0..], top_from, tail_from);
         let base = Level {
             energy: 0.0,
             bound: 0.0,
@@ -395,4 +380,33 @@ impl Job<'_> {
             crate::labelling::label_exact_sector(levels, id.label, family);
         }
     }
+}
+
+/// Add the component weights |v_(n alpha)|^2 of `v` over `states` into `weights` (d entries);
+/// return the dominant state (weight, n, alpha), the weight on orbitals n >= `top_from` and
+/// the weight on orbitals n >= `tail_from`.
+fn weigh(
+    states: &[(usize, usize)],
+    v: &[Complex64],
+    weights: &mut [f64],
+    top_from: usize,
+    tail_from: usize,
+) -> ((f64, usize, usize), f64, f64) {
+    let mut best = (0.0, 0usize, 0usize);
+    let mut top = 0.0;
+    let mut tail = 0.0;
+    for (idx, &(n, a)) in states.iter().enumerate() {
+        let p = v[idx].norm_sqr();
+        weights[a] += p;
+        if p > best.0 {
+            best = (p, n, a);
+        }
+        if n >= top_from {
+            top += p;
+        }
+        if n >= tail_from {
+            tail += p;
+        }
+    }
+    (best, top, tail)
 }
