@@ -157,6 +157,8 @@ impl LadderHamiltonian {
     /// [`Error::ZeroField`] for a zero or non-finite field; [`Error::BadNumber`] for a
     /// non-finite kz or reference energy.
     pub fn assemble(model: &Model, point: FieldPoint, reference_energy: f64) -> Result<Self> {
+        #[cfg(test)]
+        assembly_count::record(model.name(), point);
         point.validate()?;
         if !reference_energy.is_finite() {
             return Err(Error::BadNumber {
@@ -446,5 +448,109 @@ impl LadderHamiltonian {
             }
         }
         out
+    }
+}
+
+/// The untruncated part of a level that the truncated basis cannot see: the exact norm of the
+/// components of H v beyond orbital N-1.
+///
+/// # Formula
+/// r_out^2 = sum over m >= N and alpha of |sum_(n < N, beta) H_(m alpha, n beta) v_(n beta)|^2,
+/// where only states with n >= N - band contribute.
+pub fn leakage(
+    h: &LadderHamiltonian,
+    cutoff: usize,
+    states: &[(usize, usize)],
+    v: &[Complex64],
+) -> f64 {
+    let mut buckets: Vec<((usize, usize), Complex64)> = Vec::new();
+    for_each_outside(h, cutoff, states, v, |key, val| {
+        match buckets.iter_mut().find(|(k, _)| *k == key) {
+            Some((_, acc)) => *acc += val,
+            None => buckets.push((key, val)),
+        }
+    });
+    buckets
+        .iter()
+        .map(|(_, z)| z.norm_sqr())
+        .sum::<f64>()
+        .sqrt()
+}
+
+/// Visit every contribution H_(m alpha, n beta) v_(n beta) with m >= N (the part of H v beyond
+/// the cutoff) as `(key (m, alpha), value)`; keys repeat and must be summed by the caller.
+pub fn for_each_outside(
+    h: &LadderHamiltonian,
+    cutoff: usize,
+    states: &[(usize, usize)],
+    v: &[Complex64],
+    mut visit: impl FnMut((usize, usize), Complex64),
+) {
+    for (idx, &(n, beta)) in states.iter().enumerate() {
+        if n + h.band < cutoff {
+            continue;
+        }
+        for op in &h.ops {
+            let shift = op.shift();
+            if shift <= 0 {
+                continue;
+            }
+            let m = n + shift as usize;
+            if m < cutoff {
+                continue;
+            }
+            let f = ladder_element(op.j, op.k, n);
+            for alpha in 0..h.dim {
+                let a = op.matrix[(alpha, beta)];
+                if a.re == 0.0 && a.im == 0.0 {
+                    continue;
+                }
+                visit((m, alpha), a * f * v[idx]);
+            }
+        }
+    }
+}
+
+/// Test-only count of assemblies per (model name, B, kz), so that a test can check that one
+/// solve assembles its Hamiltonian once ([`crate::problem`]). Keyed by the model's name so that
+/// tests running in parallel on other models do not disturb each other.
+#[cfg(test)]
+pub(crate) mod assembly_count {
+    use super::FieldPoint;
+    use std::collections::BTreeMap;
+    use std::sync::Mutex;
+
+    static COUNTS: Mutex<BTreeMap<(String, u64, u64), usize>> = Mutex::new(BTreeMap::new());
+
+    fn key(name: &str, point: FieldPoint) -> (String, u64, u64) {
+        (name.to_string(), point.field.to_bits(), point.kz.to_bits())
+    }
+
+    /// Count one assembly of `name` at `point`.
+    pub(crate) fn record(name: &str, point: FieldPoint) {
+        if let Ok(mut m) = COUNTS.lock() {
+            *m.entry(key(name, point)).or_default() += 1;
+        }
+    }
+
+    /// Assemblies of `name` at `point` so far.
+    pub(crate) fn count(name: &str, point: FieldPoint) -> usize {
+        COUNTS
+            .lock()
+            .map(|m| m.get(&key(name, point)).copied().unwrap_or(0))
+            .unwrap_or(0)
+    }
+
+    /// Assemblies of `name` at any point so far.
+    pub(crate) fn total(name: &str) -> usize {
+        COUNTS
+            .lock()
+            .map(|m| {
+                m.iter()
+                    .filter(|((n, _, _), _)| n == name)
+                    .map(|(_, c)| *c)
+                    .sum()
+            })
+            .unwrap_or(0)
     }
 }

@@ -32,7 +32,7 @@
 
 use crate::error::Result;
 use crate::hamiltonian::LadderHamiltonian;
-use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Spectrum};
+use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Root, Spectrum};
 use crate::model::SpectrumForm;
 use crate::numeric::dense::{self, Vectors};
 use crate::sectors::{SectorPlan, Symmetry};
@@ -88,13 +88,13 @@ pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
 
 /// [`label_exact_sector`] for the levels at indices `group` of `levels`.
 fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: usize) {
-    let kg = group.iter().any(|&i| levels[i].branch != 0);
+    let kg = group.iter().any(|&i| levels[i].branch.sign() != 0);
     if kg {
         for sign in [1i8, -1] {
             let mut idx: Vec<usize> = group
                 .iter()
                 .copied()
-                .filter(|&i| levels[i].branch == sign)
+                .filter(|&i| levels[i].branch.sign() == sign)
                 .collect();
             // away from the gap: ascending for +, descending for -
             idx.sort_by(|&a, &b| {
@@ -615,7 +615,7 @@ fn assign(
         let mine: Vec<usize> = members
             .iter()
             .copied()
-            .filter(|&i| spectrum.levels[i].branch == sign)
+            .filter(|&i| spectrum.levels[i].branch.sign() == sign)
             .collect();
         if mine.is_empty() {
             continue;
@@ -626,7 +626,12 @@ fn assign(
             .map(|&(lam, lab, top)| match form {
                 SpectrumForm::Direct => (lam, lab, top),
                 SpectrumForm::KleinGordon { rest_energy } => {
-                    let e = crate::solve::kg_energy(lam, rest_energy, sign, reference);
+                    let e = crate::levels::kg_energy(
+                        lam,
+                        rest_energy,
+                        Root::from_sign(sign),
+                        reference,
+                    );
                     let k = match lab.branch {
                         Branch::Upper(k) | Branch::Lower(k) => k,
                         Branch::Unpaired => 1,

@@ -1,4 +1,11 @@
-//! Results: levels with labels and error bounds, and the spectrum that holds them.
+//! Results: levels with labels and error bounds, and the spectrum that holds them; the rule
+//! that decides a level's state ([`Level::convergence_at`]), the energy scale a relative
+//! tolerance refers to ([`energy_scale`]) and the energy map of the Klein-Gordon form
+//! ([`kg_energy`]).
+//!
+//! # Layering
+//! Layer 4, below the solver: [`crate::solve`] fills these records and [`crate::trust`] reads
+//! them; this module imports neither.
 
 use crate::hamiltonian::FieldPoint;
 use crate::sectors::{SectorId, Symmetry};
@@ -7,7 +14,7 @@ use num_complex::Complex64;
 use serde::Serialize;
 
 /// The state of a level: one of three, decided in this order (see
-/// [`crate::solve::flag_convergence`]).
+/// [`Level::convergence_at`]).
 ///
 /// # Definition
 /// * [`Convergence::Converged`]: the deciding bound ([`Level::deciding_bound`]) is at most
@@ -91,6 +98,57 @@ impl Branch {
             Branch::Lower(_) => -1,
             Branch::Unpaired => 0,
         }
+    }
+}
+
+/// Which root of the energy map a level is: the one energy of a direct Hamiltonian, or one of
+/// the two roots E = ± sqrt(M^2 + 2 M lambda) of the Klein-Gordon form
+/// ([`crate::model::SpectrumForm`], [`kg_energy`]).
+///
+/// Not the label's [`Branch`] (the side of the gap within a sector). Written as the integers
+/// -1, 0, +1 ([`Root::sign`]) in JSON and as `-1`, `0`, `1` by `Display`; ordered as those
+/// integers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Root {
+    /// The negative root E = -sqrt(...) (antiparticle): -1.
+    Antiparticle,
+    /// A direct Hamiltonian: eigenvalues are energies (0).
+    Direct,
+    /// The positive root E = +sqrt(...) (particle): +1.
+    Particle,
+}
+
+impl Root {
+    /// The root of sign `sign`: negative -> [`Root::Antiparticle`], zero -> [`Root::Direct`],
+    /// positive -> [`Root::Particle`].
+    pub fn from_sign(sign: i8) -> Self {
+        match sign {
+            s if s < 0 => Root::Antiparticle,
+            0 => Root::Direct,
+            _ => Root::Particle,
+        }
+    }
+
+    /// -1, 0 or +1.
+    pub fn sign(self) -> i8 {
+        match self {
+            Root::Antiparticle => -1,
+            Root::Direct => 0,
+            Root::Particle => 1,
+        }
+    }
+}
+
+impl Serialize for Root {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_i8(self.sign())
+    }
+}
+
+impl std::fmt::Display for Root {
+    /// `-1`, `0` or `1`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}", self.sign())
     }
 }
 
@@ -180,11 +238,11 @@ pub struct Level {
     /// Kato-Temple bound r^2 / gap (plus a rounding floor), sharper than `bound` when the
     /// distance `gap` from `energy` to the nearest other eigenvalue of the same sector (each
     /// genuine neighbour widened by its own bound, an artefact at its energy) is certified and
-    /// positive; `None` otherwise. Filled by [`crate::trust::bounds::kato_temple_sector`]; see
-    /// [`crate::trust::bounds`] for the certification and its one assumption.
+    /// positive; `None` otherwise. Filled by [`crate::solve::bounds::kato_temple_sector`]; see
+    /// [`crate::solve::bounds`] for the certification and its one assumption.
     pub kato_temple: Option<f64>,
     /// The part of `bound` that comes from leaving the truncated space: the exact norm of the
-    /// components of H v beyond orbital N-1 ([`crate::solve::leakage`]). Large for cutoff
+    /// components of H v beyond orbital N-1 ([`crate::hamiltonian::leakage`]). Large for cutoff
     /// artefacts.
     pub leakage: f64,
     /// The other part: the in-space residual ||P H P v - E v|| of the solver plus its rounding
@@ -199,8 +257,9 @@ pub struct Level {
     pub orbital: usize,
     /// Dominant spinor component.
     pub component: usize,
-    /// Branch for Klein-Gordon form (+1 particle, -1 antiparticle); 0 for direct Hamiltonians.
-    pub branch: i8,
+    /// Root of the Klein-Gordon energy map (written +1 particle, -1 antiparticle), or
+    /// [`Root::Direct`] (written 0) for a direct Hamiltonian. Not the label's [`Branch`].
+    pub branch: Root,
     /// Landau index and branch as the trade writes them (see [`LandauLabel`]); the component
     /// character is [`Spectrum::weights_of`].
     pub label: LandauLabel,
@@ -209,11 +268,46 @@ pub struct Level {
     pub top_weight: f64,
     /// Weight of the eigenvector on the top quarter of the orbitals (n >= 3N/4, at least the
     /// top `band`): a second artefact test for levels that are not converged
-    /// ([`crate::trust::converge::is_cutoff_artefact`]).
+    /// ([`is_cutoff_artefact`]).
     pub tail_weight: f64,
 }
 
+pub use crate::policy::ARTEFACT_TOP_WEIGHT;
+
+/// Whether a level is a cutoff artefact: its state says so ([`Convergence::CutoffArtefact`]),
+/// or, for a level not flagged converged, most of its weight sits on the highest `band`
+/// orbitals of the basis (an eigenvector of the untruncated operator would not notice where
+/// the basis ends). A converged level never is: its bound proves an eigenvalue of the
+/// untruncated operator.
+pub fn is_cutoff_artefact(level: &Level) -> bool {
+    match level.convergence {
+        Convergence::CutoffArtefact => true,
+        Convergence::Converged => false,
+        // before the states are set (the Kato-Temple pass inside the solve) and after
+        Convergence::NotConverged => level.top_weight >= ARTEFACT_TOP_WEIGHT,
+    }
+}
+
 impl Level {
+    /// The state of the level at relative `tolerance` and energy `scale` (see
+    /// [`Convergence`]): converged when its deciding bound ([`Level::deciding_bound`]) is at
+    /// most tolerance x max(|E|, scale) (the bound itself proves the level genuine); else a
+    /// cutoff artefact when its weight on the top `band` orbitals, or on the top quarter of the
+    /// basis, is at least [`ARTEFACT_TOP_WEIGHT`]; else genuine but not converged.
+    pub fn convergence_at(&self, tolerance: f64, scale: f64) -> Convergence {
+        // a bound below the tolerance proves an eigenvalue of the untruncated operator that
+        // close: such a level is genuine whatever its weights (the top sector of an exact-J
+        // model can hold exact eigenvectors with half their weight on the top orbital)
+        if self.deciding_bound().0 <= tolerance * self.energy.abs().max(scale) {
+            Convergence::Converged
+        } else if self.top_weight >= ARTEFACT_TOP_WEIGHT || self.tail_weight >= ARTEFACT_TOP_WEIGHT
+        {
+            Convergence::CutoffArtefact
+        } else {
+            Convergence::NotConverged
+        }
+    }
+
     /// Whether the level is converged.
     pub fn is_converged(&self) -> bool {
         self.convergence == Convergence::Converged
@@ -296,5 +390,45 @@ impl Spectrum {
     /// Energies of all levels (relative to the reference energy).
     pub fn energies(&self) -> Vec<f64> {
         self.levels.iter().map(|l| l.energy).collect()
+    }
+}
+
+/// A typical Landau spacing: the median of the non-zero |E| among the 2d+1 levels closest to
+/// the reference energy (1 if there are none). Any order of `levels`.
+///
+/// # Complexity
+/// O(L) for L levels (a selection, not a sort).
+pub fn energy_scale(levels: &[Level], dim: usize) -> f64 {
+    let mut mags: Vec<f64> = levels.iter().map(|l| l.energy.abs()).collect();
+    median_of_smallest_nonzero(&mut mags, 2 * dim + 1).unwrap_or(1.0)
+}
+
+/// Median of the entries above the smallest positive normal number among the `take` smallest
+/// entries of `mags` (non-negative magnitudes, reordered in place); `None` when there is none.
+///
+/// # Complexity
+/// O(len + take log take).
+pub(crate) fn median_of_smallest_nonzero(mags: &mut [f64], take: usize) -> Option<f64> {
+    let take = take.min(mags.len());
+    if take < mags.len() {
+        mags.select_nth_unstable_by(take, f64::total_cmp);
+    }
+    let near = &mut mags[..take];
+    near.sort_unstable_by(f64::total_cmp);
+    let first = near.partition_point(|&x| x <= f64::MIN_POSITIVE);
+    let nonzero = &near[first..];
+    (!nonzero.is_empty()).then(|| nonzero[nonzero.len() / 2])
+}
+
+/// Energy of the Klein-Gordon root `root` relative to `reference`, from the eigenvalue lambda
+/// of the squared-form operator: E = ± sqrt(M^2 + 2 M lambda), M = m c^2, evaluated without
+/// cancellation as E - M = 2 lambda / (sqrt(1 + 2 lambda / M) + 1). [`Root::Direct`] is
+/// taken as the positive root.
+pub fn kg_energy(lambda: f64, rest_energy: f64, root: Root, reference: f64) -> f64 {
+    let x = 2.0 * lambda / rest_energy;
+    let excess = 2.0 * lambda / ((1.0 + x).max(0.0).sqrt() + 1.0); // E+ - M
+    match root {
+        Root::Particle | Root::Direct => excess + (rest_energy - reference),
+        Root::Antiparticle => -excess - (rest_energy + reference),
     }
 }

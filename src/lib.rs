@@ -55,6 +55,7 @@ pub mod numeric;
 pub mod observables;
 pub mod plot;
 pub mod policy;
+pub mod problem;
 pub mod records;
 pub mod sectors;
 pub mod shard;

@@ -1,5 +1,7 @@
 //! The memory estimate of a solve, a sweep and each command, in closed form from the sector
-//! plan's sizes; the one guard every path uses before it allocates.
+//! plan's sizes; the one guard every path uses before it allocates. The sizes come from the
+//! set-up of the solve ([`crate::problem::Problem::shape`]: the symmetry detected at the real
+//! (B, kz)), so the pre-checks of the command line and the solve itself judge the same shape.
 //!
 //! # Formula
 //! For a model of d components and B branches (2 in Klein-Gordon form, else 1) at cutoff N the
@@ -34,11 +36,9 @@
 //! converge and export paths at mid to large sizes; at small sizes [`BASE_BYTES`] dominates.
 
 use crate::error::{Error, Result};
-use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::levels::{Level, LevelVector};
 use crate::model::{Model, SpectrumForm};
 use crate::sectors::{Conservation, Symmetry};
-use crate::solve::Splitting;
 
 /// Resident memory of the program before any solve (binary, libraries, thread stacks, the
 /// allocator's arenas), in bytes: the measured peak of a run at cutoff 10 is 6.7-7.5 MiB.
@@ -119,23 +119,24 @@ impl SolveShape {
         }
     }
 
-    /// The shape of a solve of `model` at `point` and `cutoff` with `splitting`: the
-    /// Hamiltonian is assembled (cost independent of the cutoff) only to detect the symmetry.
+    /// Peak bytes of a window solve ([`crate::solve::window`]) of the largest sector, with
+    /// `half_bandwidth` (states) and `wanted` levels, including [`BASE_BYTES`].
     ///
-    /// # Errors
-    /// As [`LadderHamiltonian::assemble`] (a zero or non-finite field).
-    pub fn of_model(
-        model: &Model,
-        point: FieldPoint,
-        cutoff: usize,
-        splitting: Splitting,
-    ) -> Result<Self> {
-        let h = LadderHamiltonian::assemble(model, point, 0.0)?;
-        let symmetry = match splitting {
-            Splitting::Auto => Symmetry::detect(&h),
-            Splitting::Off => Symmetry::none(h.dim),
-        };
-        Ok(SolveShape::new(&symmetry, cutoff, branches(model)))
+    /// # Formula
+    /// 16 s (4 b + 4 + 3 w + 20) bytes for a sector of s states: the banded matrix and its LU
+    /// (about 4 b + 4 numbers a row), a Krylov basis of about 3 w vectors for w wanted levels,
+    /// and a few work vectors.
+    pub fn window_bytes(&self, half_bandwidth: u64, wanted: u64) -> u64 {
+        self.largest_sector
+            .saturating_mul(
+                half_bandwidth
+                    .saturating_mul(4)
+                    .saturating_add(4)
+                    .saturating_add(wanted.saturating_mul(3))
+                    .saturating_add(20),
+            )
+            .saturating_mul(16)
+            .saturating_add(BASE_BYTES)
     }
 
     /// Bytes of the result a solve returns: the level records and their weights, plus the

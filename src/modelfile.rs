@@ -45,7 +45,6 @@
 
 use crate::error::{Error, Result};
 use crate::expr::{Front, Scope, FUNCTIONS, KEYWORDS};
-use crate::hamiltonian::FieldPoint;
 use crate::matrix::{self, SpinMatrix};
 use crate::model::{Model, Monomial};
 use crate::models::{self, Origin};
@@ -885,69 +884,6 @@ fn read_defaults(src: &Source, raw: &RawFile, model: &Model) -> Result<FileDefau
     Ok(out)
 }
 
-/// Check that `cutoff` suits `model`: at least band + 1 orbitals (the solver's minimum: every
-/// term must fit inside the truncated basis) and one solve at `field` (kz = 0) within
-/// `memory_limit_mib` (the estimate of [`crate::memory`], from the sector sizes in closed form).
-///
-/// # Errors
-/// [`Error::CutoffTooSmall`], [`Error::MemoryLimit`]; [`Error::ZeroField`] for a zero field.
-pub fn check_cutoff(model: &Model, cutoff: usize, field: f64, memory_limit_mib: u64) -> Result<()> {
-    let needed = model.band() + 1;
-    if cutoff < needed {
-        return Err(Error::CutoffTooSmall {
-            cutoff,
-            needed,
-            why: format!(
-                "for a model whose terms reach in-plane degree {} (ladder power {})",
-                model.band(),
-                model.band()
-            ),
-        });
-    }
-    let (shape, bytes) = solve_estimate(model, cutoff, field)?;
-    crate::memory::check(
-        &format!(
-            "a solve at cutoff {cutoff} ({} levels, largest sector {} states)",
-            shape.levels, shape.largest_sector
-        ),
-        bytes,
-        memory_limit_mib,
-        crate::memory::FIX_SOLVE,
-    )
-}
-
-/// Memory in MiB one solve needs at `cutoff` and `field` (kz = 0): [`crate::memory::estimate`]
-/// of a [`crate::memory::Footprint::Solve`].
-///
-/// # Errors
-/// [`Error::ZeroField`] for a zero or non-finite field.
-pub fn memory_estimate_mib(model: &Model, cutoff: usize, field: f64) -> Result<u64> {
-    Ok(crate::memory::to_mib(
-        solve_estimate(model, cutoff, field)?.1,
-    ))
-}
-
-/// Shape and bytes of one values-only solve at `cutoff` and `field` (kz = 0), the one estimate
-/// behind [`check_cutoff`] and [`memory_estimate_mib`].
-fn solve_estimate(
-    model: &Model,
-    cutoff: usize,
-    field: f64,
-) -> Result<(crate::memory::SolveShape, u64)> {
-    let shape = crate::memory::SolveShape::of_model(
-        model,
-        FieldPoint { field, kz: 0.0 },
-        cutoff,
-        crate::solve::Splitting::Auto,
-    )?;
-    let bytes = crate::memory::estimate(
-        &shape,
-        &crate::memory::Footprint::Solve { vectors: false },
-        rayon::current_num_threads() as u64,
-    );
-    Ok((shape, bytes))
-}
-
 fn is_identifier(s: &str) -> bool {
     let mut c = s.chars();
     matches!(c.next(), Some(ch) if ch.is_ascii_alphabetic() || ch == '_')
@@ -1316,7 +1252,7 @@ monomial = "1"
             ..Default::default()
         })
         .unwrap_or_else(|e| panic!("{e}"));
-        let p = FieldPoint {
+        let p = crate::hamiltonian::FieldPoint {
             field: 3.0,
             kz: 0.0,
         };
@@ -1351,11 +1287,23 @@ monomial = "1"
         let f = parse("t.toml", text).unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(f.model.name(), "dirac2d");
         assert!(Origin::of(&f.model).is_none());
-        assert!(models::expected_levels(&f.model, FieldPoint::field(1.0), 0.0, 3).is_none());
+        assert!(models::expected_levels(
+            &f.model,
+            crate::hamiltonian::FieldPoint::field(1.0),
+            0.0,
+            3
+        )
+        .is_none());
         // the built-in of that name keeps its origin and closed form
         let b = parse("b.toml", "builtin = \"dirac2d\"\n").unwrap_or_else(|e| panic!("{e}"));
         assert!(matches!(Origin::of(&b.model), Some(Origin::Dirac2d(_))));
-        assert!(models::expected_levels(&b.model, FieldPoint::field(1.0), 0.0, 3).is_some());
+        assert!(models::expected_levels(
+            &b.model,
+            crate::hamiltonian::FieldPoint::field(1.0),
+            0.0,
+            3
+        )
+        .is_some());
     }
 
     #[test]

@@ -104,3 +104,144 @@ pub fn run_with(
         })
         .collect()
 }
+
+/// The set-up of every solving path, counted: one assembly per (B, kz) solve
+/// ([`crate::problem`]). Here, in the highest library layer that solves, so that the tests may
+/// use the solver, the sweep and the convergence study.
+#[cfg(test)]
+mod set_up_tests {
+    use crate::error::Error;
+    use crate::hamiltonian::assembly_count;
+    use crate::hamiltonian::FieldPoint;
+    use crate::levels::Spectrum;
+    use crate::matrix::{identity, pauli};
+    use crate::model::Model;
+    use crate::model::Monomial;
+    use crate::problem::{Problem, Settings, Splitting};
+
+    /// An invented two-band model, H = v (kx sigma_x + ky sigma_y) + m sigma_z + c kz kx, whose
+    /// last term couples orbitals n and n +- 1 of the same component: it breaks the exact J of
+    /// the first three terms, but only at kz != 0 (at kz = 0 it vanishes at assembly).
+    fn kz_only_coupling(name: &str) -> Model {
+        let p = |s: &str| pauli(s).unwrap_or_else(|e| panic!("{e}"));
+        Model::builder(name, 2)
+            .term("v kx sigma_x", 500.0, p("x"), Monomial::KX)
+            .term("v ky sigma_y", 500.0, p("y"), Monomial::KY)
+            .term("m sigma_z", 10.0, p("z"), Monomial::new(0, 0, 0))
+            .term("c kz kx", 100.0, identity(2), Monomial::new(1, 0, 1))
+            .build()
+            .unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    #[test]
+    fn a_coupling_only_at_nonzero_kz_is_judged_at_the_real_kz() {
+        // invented parameters; 2000 orbitals x 2 components: split by the exact J at kz = 0
+        // (sectors of at most 2 states, a few MiB), one dense sector of 4000 states at kz != 0
+        // (48 x 4000^2 bytes = 732 MiB, common practice for a complex Hermitian eigen-solve)
+        let model = kz_only_coupling("problem-test kz-only coupling (invented)");
+        let mut settings = Settings::with_cutoff(2000);
+        settings.memory_limit_mib = 64;
+        let at_zero = Problem::new(
+            &model,
+            FieldPoint {
+                field: 5.0,
+                kz: 0.0,
+            },
+            &settings,
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert!(at_zero.shape().largest_sector <= 2);
+        assert!(at_zero.check_memory().is_ok());
+        let kz = FieldPoint {
+            field: 5.0,
+            kz: 0.1,
+        };
+        let at_kz = Problem::new(&model, kz, &settings).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(at_kz.shape().largest_sector, 4000);
+        // the pre-check refuses at the real kz (a check at kz = 0 would have let it through) ...
+        let pre = match at_kz.check_memory() {
+            Err(e @ Error::MemoryLimit { .. }) => e.to_string(),
+            other => panic!("expected a memory refusal, got {other:?}"),
+        };
+        // ... with the verdict, and the very message, of the solve itself
+        let solve = match Spectrum::compute(&model, kz, &settings) {
+            Err(e @ Error::MemoryLimit { .. }) => e.to_string(),
+            Err(e) => panic!("expected a memory refusal, got {e}"),
+            Ok(_) => panic!("expected a memory refusal, the solve ran"),
+        };
+        assert_eq!(pre, solve);
+        assert!(pre.contains("largest sector 4000 states"), "{pre}");
+    }
+
+    #[test]
+    fn one_assembly_per_levels_solve() {
+        let model = kz_only_coupling("problem-test one assembly per solve (invented)");
+        let point = FieldPoint {
+            field: 3.0,
+            kz: 0.05,
+        };
+        let spec = Spectrum::compute(&model, point, &Settings::with_cutoff(30))
+            .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(spec.levels.len(), 60);
+        assert_eq!(assembly_count::count(model.name(), point), 1);
+        // the label families are read at a generic kz (src/labelling.rs): one more assembly,
+        // at another point, and none besides
+        assert_eq!(assembly_count::total(model.name()), 2);
+        // set up, checked and solved by hand: still one assembly at the point
+        let p = Problem::new(&model, point, &Settings::with_cutoff(40))
+            .unwrap_or_else(|e| panic!("{e}"));
+        p.check_memory().unwrap_or_else(|e| panic!("{e}"));
+        let spec = Spectrum::solve(&p).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(spec.levels.len(), 80);
+        assert_eq!(assembly_count::count(model.name(), point), 2);
+    }
+
+    #[test]
+    fn one_assembly_per_sweep_point() {
+        let model = kz_only_coupling("problem-test one assembly per sweep point (invented)");
+        let points: Vec<FieldPoint> = [1.0, 2.0, 4.0]
+            .iter()
+            .map(|&field| FieldPoint { field, kz: 0.02 })
+            .collect();
+        let mut settings = Settings::with_cutoff(25);
+        settings.splitting = Splitting::Off;
+        let out = crate::sweep::run(&model, &points, &settings).unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(out.len(), 3);
+        for p in &points {
+            assert_eq!(assembly_count::count(model.name(), *p), 1, "{p:?}");
+        }
+        // no splitting: no label-family probe either
+        assert_eq!(assembly_count::total(model.name()), 3);
+    }
+
+    #[test]
+    fn one_assembly_per_convergence_study() {
+        use crate::trust::converge::{auto, study, AutoSettings, ExactValues, Selection};
+        let model = kz_only_coupling("problem-test one assembly per study (invented)");
+        let point = FieldPoint::field(2.0);
+        let mut base = Settings::with_cutoff(20);
+        base.splitting = Splitting::Off;
+        let sel = Selection::Nearest {
+            target: 0.0,
+            count: 4,
+        };
+        let s = study(
+            &model,
+            point,
+            &base,
+            &[20, 30, 40],
+            sel,
+            ExactValues::LargestCutoff,
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(s.cutoffs, vec![20, 30, 40]);
+        // three solves at one (B, kz): the Hamiltonian does not depend on the cutoff
+        assert_eq!(assembly_count::count(model.name(), point), 1);
+        let mut a = AutoSettings::new(sel, 1e-6);
+        a.base = base;
+        a.start_cutoff = 20;
+        let r = auto(&model, point, &a).unwrap_or_else(|e| panic!("{e}"));
+        assert!(r.history.len() >= 2, "{:?}", r.history);
+        assert_eq!(assembly_count::count(model.name(), point), 2);
+    }
+}

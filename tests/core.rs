@@ -5,10 +5,10 @@ mod common;
 
 use common::*;
 use ladderfan::matrix::{identity, pauli};
-use ladderfan::sectors::Conservation;
 use ladderfan::models::{
     self, Chirality, Dirac2dParams, MassParams, PauliParams, RelativisticParams, Valley, WeylParams,
 };
+use ladderfan::sectors::Conservation;
 use ladderfan::units::{ELECTRON_CRITICAL_FIELD_T, ELECTRON_REST_ENERGY_MEV};
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum};
 
@@ -307,7 +307,7 @@ fn klein_gordon_reduces_to_schrodinger_with_error_of_order_b_squared() {
         let lowest = s
             .levels
             .iter()
-            .filter(|l| l.branch == 1)
+            .filter(|l| l.branch == ladderfan::levels::Root::Particle)
             .map(|l| l.energy)
             .fold(f64::INFINITY, f64::min);
         let dev = lowest - 0.5 * b;

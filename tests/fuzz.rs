@@ -13,6 +13,7 @@
 
 use ladderfan::expr::{Expr, Scope};
 use ladderfan::modelfile;
+use ladderfan::problem::Problem;
 use ladderfan::units::Units;
 use ladderfan::{FieldPoint, Settings, Spectrum};
 use std::collections::BTreeMap;
@@ -367,14 +368,21 @@ fn model_file(t: &mut Tally, text: &str) {
             // it at once (issue 12 rows 1-3: a huge `[defaults] cutoff` used to abort)
             if let Some(c) = f.defaults.cutoff {
                 if let Err(e) = no_panic("check_cutoff", text, || {
-                    modelfile::check_cutoff(&f.model, c, field, 4096)
+                    Problem::new(
+                        &f.model,
+                        FieldPoint::field(field),
+                        &Settings::with_cutoff(c),
+                    )?
+                    .check_memory()
                 }) {
                     check_message("check_cutoff", text, &e.to_string());
                 }
             }
             let cutoff = f.model.band() + 3;
             let r = no_panic("solve", text, || {
-                modelfile::check_cutoff(&f.model, cutoff, field, 64)?;
+                let mut pre = Settings::with_cutoff(cutoff);
+                pre.memory_limit_mib = 64;
+                Problem::new(&f.model, FieldPoint::field(field), &pre)?.check_memory()?;
                 Spectrum::compute(
                     &f.model,
                     FieldPoint::field(field),

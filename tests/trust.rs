@@ -790,8 +790,8 @@ fn study_tables_and_plot() {
 /// them again: one vector with no leakage, one carrying all of it, energies still zero.
 #[test]
 fn cluster_rotation_separates_a_mixed_pair() {
+    use ladderfan::hamiltonian::leakage;
     use ladderfan::hamiltonian::LadderHamiltonian;
-    use ladderfan::solve::leakage;
     use ladderfan::trust::cluster::separate_leaking;
     use num_complex::Complex64;
     let m = model(Kind::Dirac2dMassless, -1.0);

@@ -344,17 +344,18 @@ pub fn finite_flag(flag: &str, v: f64) -> CliResult<f64> {
 }
 
 /// Combine flags with the file's defaults (flags win), validate, and check the cutoff
-/// against the model's band and the memory limit.
+/// against the model's band and the memory limit of one solve at the real (B, kz)
+/// ([`ladderfan::problem::Problem::check_memory`], the check the solve itself makes).
 pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult<Resolved> {
     let r = resolve_unchecked(lm, a, default_field)?;
-    modelfile::check_cutoff(&lm.model, r.cutoff, r.field, r.memory_limit_mib).map_err(
-        |e| match e {
+    ladderfan::problem::Problem::new(&lm.model, r.point(), &r.settings())
+        .and_then(|p| p.check_memory())
+        .map_err(|e| match e {
             e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
                 bad_flag(&cutoff_location(lm, a.trunc.cutoff), e.to_string())
             }
             other => CliError::Input(other),
-        },
-    )?;
+        })?;
     Ok(r)
 }
 
@@ -452,9 +453,11 @@ pub fn check_memory(
     threads: Option<usize>,
 ) -> CliResult {
     use ladderfan::memory::{self, Footprint};
-    let shape = memory::SolveShape::of_model(&lm.model, point, cutoff, ladderfan::Splitting::Auto)?;
+    let problem =
+        ladderfan::problem::Problem::new(&lm.model, point, &Settings::with_cutoff(cutoff))?;
+    let shape = *problem.shape();
     let threads = threads.unwrap_or_else(rayon::current_num_threads) as u64;
-    let bytes = memory::estimate(&shape, footprint, threads);
+    let bytes = problem.estimate(footprint, threads);
     if memory::to_mib(bytes) <= limit_mib {
         return Ok(());
     }

@@ -19,7 +19,7 @@
 //! * [`orbital_content`]: mean and spread of the orbital index n, and the dominant n.
 
 use crate::error::{Error, Result};
-use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Spectrum};
+use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Root, Spectrum};
 use crate::matrix::SpinMatrix;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -93,9 +93,9 @@ pub fn track_keys(spectrum: &Spectrum) -> Vec<TrackKey> {
                 (l.label.family, Some(l.label.n), l.label.branch)
             } else {
                 let b = match l.branch {
-                    1 => Branch::Upper(1),
-                    -1 => Branch::Lower(1),
-                    _ => Branch::Unpaired,
+                    Root::Particle => Branch::Upper(1),
+                    Root::Antiparticle => Branch::Lower(1),
+                    Root::Direct => Branch::Unpaired,
                 };
                 (l.sector.class, None, b)
             };
@@ -303,7 +303,7 @@ pub fn ranks(s: &Spectrum) -> Vec<usize> {
         .iter()
         .map(|l| {
             let c = count
-                .entry((l.sector.class, l.sector.label, l.branch))
+                .entry((l.sector.class, l.sector.label, l.branch.sign()))
                 .or_insert(0);
             *c += 1;
             *c - 1

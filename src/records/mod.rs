@@ -148,7 +148,7 @@ pub fn level_records(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelRec
                 sector: format!("{}:{}", l.sector.class, l.sector.label),
                 sector_class: l.sector.class,
                 sector_label: l.sector.label,
-                branch: l.branch,
+                branch: l.branch.sign(),
                 orbital: l.orbital,
                 component: l.component,
                 component_name: model

@@ -29,13 +29,8 @@
 //! of its own last two values.
 //!
 //! # Automatic cutoff
-//! [`auto`] grows the cutoff geometrically until every genuine level of the selection (energy
-//! window, or a count of levels nearest a target energy) has a residual bound below the
-//! relative tolerance, and the selection agrees with that of the previous cutoff (same count,
-//! energies within their bounds): the confirmation guards against a level that is missing at
-//! one cutoff rather than unconverged. Cutoff artefacts (weight >= 1/2 on the top orbitals,
-//! [`is_cutoff_artefact`]) never count as genuine. The bands are checked for re-entry into the
-//! window ([`crate::trust::window`]) and any warning is returned with the result.
+//! [`auto`] (in `trust/auto.rs`, re-exported here) grows the cutoff until the selection
+//! converges.
 //!
 //! # Complexity
 //! One solve per cutoff; with geometric growth g the total cost is at most g/(g-1) (doubling:
@@ -46,27 +41,14 @@ use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::{BoundKind, Convergence, Level, Spectrum};
 use crate::model::Model;
+use crate::problem::{Problem, Settings};
 use crate::sectors::SectorId;
-use crate::solve::Settings;
 use crate::trust::window::{check_spectrum, EnergyWindow, WindowWarning};
 use serde::Serialize;
 use std::time::Instant;
 
-use crate::policy::ARTEFACT_TOP_WEIGHT;
-
-/// Whether a level is a cutoff artefact: its state says so
-/// ([`crate::levels::Convergence::CutoffArtefact`]), or, for a level not flagged converged,
-/// most of its weight sits on the highest `band` orbitals of the basis (an eigenvector of the
-/// untruncated operator would not notice where the basis ends). A converged level never is:
-/// its bound proves an eigenvalue of the untruncated operator.
-pub fn is_cutoff_artefact(level: &Level) -> bool {
-    match level.convergence {
-        Convergence::CutoffArtefact => true,
-        Convergence::Converged => false,
-        // before the states are set (the Kato-Temple pass inside the solve) and after
-        Convergence::NotConverged => level.top_weight >= ARTEFACT_TOP_WEIGHT,
-    }
-}
+pub use crate::levels::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
+pub use crate::trust::auto::{auto, AutoResult, AutoSettings, AutoStep, BoundChoice};
 
 /// Which levels a study or the automatic cutoff follows.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -108,7 +90,7 @@ impl Selection {
     }
 
     /// The energy window the selection covers in `spectrum` (for the completeness check).
-    fn window_in(&self, spectrum: &Spectrum, picked: &[usize]) -> Option<EnergyWindow> {
+    pub(crate) fn window_in(&self, spectrum: &Spectrum, picked: &[usize]) -> Option<EnergyWindow> {
         match *self {
             Selection::Window(w) => Some(w),
             Selection::Nearest { .. } => {
@@ -165,8 +147,8 @@ pub struct TrackedLevel {
     pub orbital: usize,
     /// Dominant component at the largest cutoff.
     pub component: usize,
-    /// Klein-Gordon branch (0 for direct models).
-    pub branch: i8,
+    /// Klein-Gordon root ([`crate::levels::Root::Direct`] for direct models).
+    pub branch: crate::levels::Root,
     /// The value the actual error refers to.
     pub reference_value: f64,
     /// Whether `reference_value` is an exact (closed-form) value rather than the largest-cutoff
@@ -267,40 +249,12 @@ pub fn study(
             "a convergence study needs at least one cutoff; give a list such as 25,50,100".into(),
         ));
     };
-    // every spectrum is kept: check their sum before the first solve (src/memory.rs)
-    let shapes: Vec<crate::memory::SolveShape> = cutoffs
-        .iter()
-        .map(|&n| crate::memory::SolveShape::of_model(model, point, n, base.splitting))
-        .collect::<Result<_>>()?;
-    crate::memory::check(
-        &format!(
-            "a convergence study at {} cutoffs up to {largest} ({} levels at the largest; every spectrum is kept)",
-            cutoffs.len(),
-            shapes.last().map_or(0, |s| s.levels)
-        ),
-        crate::memory::study(
-            &shapes,
-            largest,
-            matches!(exact, ExactValues::ClosedFormIfKnown)
-                && crate::models::expected_levels(model, point, model.reference_energy(), 1)
-                    .is_some(),
-            rayon::current_num_threads() as u64,
-        ),
-        base.memory_limit_mib,
-        "lower the cutoff or use fewer cutoffs, or raise the memory limit",
-    )?;
+    let problems = set_up(model, point, base, &cutoffs, exact)?;
     let mut spectra = Vec::with_capacity(cutoffs.len());
     let mut seconds = Vec::with_capacity(cutoffs.len());
-    for &n in &cutoffs {
+    for problem in &problems {
         let t0 = Instant::now();
-        let s = Spectrum::compute(
-            model,
-            point,
-            &Settings {
-                cutoff: n,
-                ..base.clone()
-            },
-        )?;
+        let s = Spectrum::solve(problem)?;
         seconds.push(t0.elapsed().as_secs_f64());
         spectra.push(s);
     }
@@ -330,35 +284,12 @@ pub fn study(
             }
             _ => (top.energy, ReferenceKind::LargestCutoff),
         };
-        let mut entries = Vec::with_capacity(spectra.len());
-        let mut prev_energy: Option<f64> = None;
-        for (k, s) in spectra.iter().enumerate() {
-            let lvl = matches[k][t].map(|j| s.levels[j]);
-            let energy = lvl.map(|l| l.energy);
-            let change = match (energy, prev_energy) {
-                (Some(e), Some(p)) => Some((e - p).abs()),
-                _ => None,
-            };
-            let actual_error = energy.map(|e| (e - reference_value).abs());
-            entries.push(StudyEntry {
-                cutoff: s.cutoff,
-                energy,
-                bound: lvl.map(|l| l.bound),
-                kato_temple: lvl.and_then(|l| l.kato_temple),
-                change,
-                actual_error,
-                converged: lvl.is_some_and(|l| l.best_bound() <= absolute_tolerance(s, &l, tol)),
-                bound_from: lvl.map(|l| l.deciding_bound().1),
-                state: lvl.map(|l| {
-                    if l.best_bound() <= absolute_tolerance(s, &l, tol) {
-                        Convergence::Converged
-                    } else {
-                        Convergence::NotConverged
-                    }
-                }),
-            });
-            prev_energy = energy;
-        }
+        let lvls: Vec<Option<Level>> = spectra
+            .iter()
+            .zip(&matches)
+            .map(|(s, m)| m[t].map(|j| s.levels[j]))
+            .collect();
+        let entries = entries_of(&spectra, &lvls, reference_value, tol);
         let (change_exponent, change_rate_per_orbital) = rates(&entries);
         let needed_cutoff = needed(&entries, absolute_tolerance(last, top, tol));
         levels.push(TrackedLevel {
@@ -388,6 +319,90 @@ pub fn study(
         levels,
         seconds,
     })
+}
+
+/// One set-up (one assembly) for every cutoff of a study (the Hamiltonian does not depend on
+/// it), refused before the first solve when the kept spectra exceed the memory limit together
+/// (src/memory.rs).
+fn set_up<'m>(
+    model: &'m Model,
+    point: FieldPoint,
+    base: &Settings,
+    cutoffs: &[usize],
+    exact: ExactValues<'_>,
+) -> Result<Vec<Problem<'m>>> {
+    let first = Problem::new(
+        model,
+        point,
+        &Settings {
+            cutoff: cutoffs[0],
+            ..base.clone()
+        },
+    )?;
+    let problems: Vec<Problem<'m>> = cutoffs
+        .iter()
+        .map(|&n| first.with_cutoff(n))
+        .collect::<Result<_>>()?;
+    let shapes: Vec<crate::memory::SolveShape> = problems.iter().map(|p| *p.shape()).collect();
+    let largest = cutoffs[cutoffs.len() - 1];
+    crate::memory::check(
+        &format!(
+            "a convergence study at {} cutoffs up to {largest} ({} levels at the largest; every spectrum is kept)",
+            cutoffs.len(),
+            shapes.last().map_or(0, |s| s.levels)
+        ),
+        crate::memory::study(
+            &shapes,
+            largest,
+            matches!(exact, ExactValues::ClosedFormIfKnown)
+                && crate::models::expected_levels(model, point, model.reference_energy(), 1)
+                    .is_some(),
+            rayon::current_num_threads() as u64,
+        ),
+        base.memory_limit_mib,
+        "lower the cutoff or use fewer cutoffs, or raise the memory limit",
+    )?;
+    Ok(problems)
+}
+
+/// The entries of one tracked level: its match `lvls[k]` in each spectrum `spectra[k]`, the
+/// change from the previous cutoff, the error against `reference_value` and the state at
+/// relative tolerance `tol`.
+fn entries_of(
+    spectra: &[Spectrum],
+    lvls: &[Option<Level>],
+    reference_value: f64,
+    tol: f64,
+) -> Vec<StudyEntry> {
+    let mut entries = Vec::with_capacity(spectra.len());
+    let mut prev_energy: Option<f64> = None;
+    for (s, &lvl) in spectra.iter().zip(lvls) {
+        let energy = lvl.map(|l| l.energy);
+        let change = match (energy, prev_energy) {
+            (Some(e), Some(p)) => Some((e - p).abs()),
+            _ => None,
+        };
+        let converged = lvl.map(|l| l.best_bound() <= absolute_tolerance(s, &l, tol));
+        entries.push(StudyEntry {
+            cutoff: s.cutoff,
+            energy,
+            bound: lvl.map(|l| l.bound),
+            kato_temple: lvl.and_then(|l| l.kato_temple),
+            change,
+            actual_error: energy.map(|e| (e - reference_value).abs()),
+            converged: converged == Some(true),
+            bound_from: lvl.map(|l| l.deciding_bound().1),
+            state: converged.map(|c| {
+                if c {
+                    Convergence::Converged
+                } else {
+                    Convergence::NotConverged
+                }
+            }),
+        });
+        prev_energy = energy;
+    }
+    entries
 }
 
 fn nearest(values: &[f64], e: f64) -> f64 {
@@ -506,350 +521,4 @@ fn needed(entries: &[StudyEntry], tol_abs: f64) -> NeededCutoff {
     } else {
         NeededCutoff::Unknown
     }
-}
-
-/// Which bound the automatic cutoff requires below the tolerance.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum BoundChoice {
-    /// The residual (Weinstein) bound only: needs no assumption at all.
-    Residual,
-    /// The deciding bound (the default): the Kato-Temple bound where its gap condition was
-    /// certified and it is sharper, else the residual bound; far sharper for levels that
-    /// converge gradually (see [`crate::trust::bounds`] for the gap and its assumption).
-    #[default]
-    KatoTemple,
-}
-
-impl BoundChoice {
-    /// The bound of `level` this choice uses.
-    pub fn of(self, level: &Level) -> f64 {
-        match self {
-            BoundChoice::Residual => level.bound,
-            BoundChoice::KatoTemple => level.best_bound(),
-        }
-    }
-}
-
-/// Settings of the automatic cutoff.
-#[derive(Debug, Clone, PartialEq)]
-pub struct AutoSettings {
-    /// Which levels must converge.
-    pub selection: Selection,
-    /// Relative tolerance (same rule as the convergence flags).
-    pub tolerance: f64,
-    /// First cutoff tried.
-    pub start_cutoff: usize,
-    /// Growth factor of the cutoff per step (> 1; 2 = doubling).
-    pub growth: f64,
-    /// Largest cutoff allowed before giving up with [`Error::NotConverged`].
-    pub max_cutoff: usize,
-    /// Memory limit in MiB for one solve (dense sectors and the stored levels).
-    pub memory_limit_mib: u64,
-    /// Which bound must meet the tolerance.
-    pub bound: BoundChoice,
-    /// Everything else (reference energy, splitting, precision); its cutoff, tolerance and
-    /// memory limit are overridden.
-    pub base: Settings,
-}
-
-impl AutoSettings {
-    /// Defaults for a selection and tolerance: start at 16 orbitals, doubling, at most 2^22
-    /// orbitals, 4096 MiB, the deciding bound ([`BoundChoice::KatoTemple`]).
-    pub fn new(selection: Selection, tolerance: f64) -> Self {
-        AutoSettings {
-            selection,
-            tolerance,
-            start_cutoff: 16,
-            growth: 2.0,
-            max_cutoff: 1 << 22,
-            memory_limit_mib: crate::policy::DEFAULT_MEMORY_LIMIT_MIB,
-            bound: BoundChoice::KatoTemple,
-            base: Settings::default(),
-        }
-    }
-}
-
-/// One step of the automatic cutoff.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct AutoStep {
-    /// Cutoff N.
-    pub cutoff: usize,
-    /// Matrix dimension N d of the truncated problem.
-    pub matrix_dimension: usize,
-    /// Genuine levels selected.
-    pub selected: usize,
-    /// How many of them are not converged, plus (count selection) how many are missing.
-    pub unconverged: usize,
-    /// Largest bound / absolute tolerance among the selected levels.
-    pub worst_bound_over_tolerance: f64,
-    /// Whether the selection agreed with the previous step's.
-    pub agrees_with_previous: bool,
-    /// Wall-clock seconds of the solve (not serialised, so that two runs give the same JSON;
-    /// `converge --timings` reports them).
-    #[serde(skip_serializing)]
-    pub seconds: f64,
-}
-
-/// Result of the automatic cutoff.
-#[derive(Debug, Clone)]
-pub struct AutoResult {
-    /// The spectrum at the final cutoff.
-    pub spectrum: Spectrum,
-    /// Indices into `spectrum.levels` of the selected genuine levels.
-    pub selected: Vec<usize>,
-    /// Final cutoff (where the tolerance was met and confirmed).
-    pub cutoff: usize,
-    /// The first cutoff at which every selected level met the tolerance (confirmed by the
-    /// final one).
-    pub first_converged_cutoff: usize,
-    /// Matrix dimension N d at the final cutoff.
-    pub matrix_dimension: usize,
-    /// Total wall-clock seconds over all steps.
-    pub seconds: f64,
-    /// The steps taken.
-    pub history: Vec<AutoStep>,
-    /// Bands re-entering the selection's window beyond the final cutoff.
-    pub warnings: Vec<WindowWarning>,
-}
-
-fn validate_auto(a: &AutoSettings) -> Result<()> {
-    if !(a.tolerance.is_finite() && a.tolerance > 0.0) {
-        return Err(Error::BadNumber {
-            name: "tolerance".into(),
-            value: a.tolerance,
-            fix: "use a positive relative tolerance such as 1e-9".into(),
-        });
-    }
-    if !(a.growth.is_finite() && a.growth > 1.0) {
-        return Err(Error::BadNumber {
-            name: "growth".into(),
-            value: a.growth,
-            fix: "the cutoff must grow each step: use a factor above 1, e.g. 2".into(),
-        });
-    }
-    if let Selection::Nearest { count: 0, .. } = a.selection {
-        return Err(Error::BadNumber {
-            name: "count".into(),
-            value: 0.0,
-            fix: "ask for at least one level".into(),
-        });
-    }
-    Ok(())
-}
-
-/// Grow the cutoff until every genuine level of the selection has a bound (residual by
-/// default, see [`BoundChoice`]) below the relative tolerance, confirmed by the next cutoff
-/// (see the module docs).
-///
-/// # Errors
-/// [`Error::NotConverged`] when the cutoff would exceed `max_cutoff` (the message names the
-/// worst level and its bound), or at once when an unconverged level's in-space residual and
-/// rounding floor alone exceed its tolerance (that floor grows with the cutoff, so growing
-/// cannot help); [`Error::MemoryLimit`] when the next solve would exceed the
-/// memory limit; [`Error::BadNumber`] for a non-positive tolerance, a growth factor <= 1 or a
-/// count of zero; any error of [`Spectrum::compute`].
-///
-/// # Complexity
-/// See the module docs: a bounded multiple of the final solve.
-///
-/// # Examples
-/// ```
-/// use ladderfan::{models, FieldPoint};
-/// use ladderfan::trust::converge::{auto, AutoSettings, Selection};
-/// let model = models::dirac2d(models::Dirac2dParams { mass_mev: 10.0, ..Default::default() })?;
-/// let sel = Selection::Nearest { target: 0.0, count: 20 };
-/// let res = auto(&model, FieldPoint::field(5.0), &AutoSettings::new(sel, 1e-9))?;
-/// // n = 0 level at tau sign(qB) Delta = -10 meV for tau = +1, q = -1, B > 0 (McClure 1956)
-/// let e0 = res.selected.iter().map(|&i| res.spectrum.levels[i].energy)
-///     .min_by(|a, b| (a + 10.0).abs().total_cmp(&(b + 10.0).abs())).unwrap_or(f64::NAN);
-/// assert!((e0 + 10.0).abs() < 1e-9);
-/// # Ok::<(), ladderfan::Error>(())
-/// ```
-pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result<AutoResult> {
-    validate_auto(settings)?;
-    let mut cutoff = settings.start_cutoff.max(model.band() + 1);
-    let mut history: Vec<AutoStep> = Vec::new();
-    let mut previous: Option<(Spectrum, Vec<usize>, bool)> = None;
-    let mut total = 0.0;
-    loop {
-        if cutoff > settings.max_cutoff {
-            let detail = match history.last() {
-                Some(h) => format!(
-                    "at the largest cutoff tried ({} orbitals) {} of {} selected levels were not converged \
-                     (worst bound {:.3e} x the tolerance{}); raise max_cutoff (now {}) or loosen the tolerance",
-                    h.cutoff,
-                    h.unconverged,
-                    h.selected,
-                    h.worst_bound_over_tolerance,
-                    if h.agrees_with_previous { "" } else { ", selection still changing" },
-                    settings.max_cutoff
-                ),
-                None => format!(
-                    "the start cutoff {} exceeds max_cutoff {}; raise max_cutoff",
-                    cutoff, settings.max_cutoff
-                ),
-            };
-            return Err(Error::NotConverged {
-                tolerance: settings.tolerance,
-                detail,
-            });
-        }
-        // the previous spectrum is kept while the next is solved (src/memory.rs)
-        let mut shapes = vec![crate::memory::SolveShape::of_model(
-            model,
-            point,
-            cutoff,
-            settings.base.splitting,
-        )?];
-        if let Some((p, _, _)) = &previous {
-            shapes.push(crate::memory::SolveShape::of_model(
-                model,
-                point,
-                p.cutoff,
-                settings.base.splitting,
-            )?);
-        }
-        crate::memory::check(
-            &format!(
-                "a solve with {cutoff} orbitals (tolerance {:e} not met below it; the previous spectrum is kept)",
-                settings.tolerance
-            ),
-            crate::memory::kept_together(&shapes, rayon::current_num_threads() as u64),
-            settings.memory_limit_mib,
-            "loosen the tolerance, lower max_cutoff, or raise the memory limit",
-        )?;
-        let run = Settings {
-            cutoff,
-            tolerance: settings.tolerance,
-            memory_limit_mib: settings.memory_limit_mib,
-            ..settings.base.clone()
-        };
-        let t0 = Instant::now();
-        let spectrum = Spectrum::compute(model, point, &run).map_err(|e| match e {
-            Error::MemoryLimit {
-                what,
-                needed_mib,
-                limit_mib,
-                fix,
-            } => Error::MemoryLimit {
-                fix,
-                what: format!(
-                    "{what} at a cutoff of {cutoff} orbitals (tolerance {:e} not met below it)",
-                    settings.tolerance
-                ),
-                needed_mib,
-                limit_mib,
-            },
-            other => other,
-        })?;
-        let seconds = t0.elapsed().as_secs_f64();
-        total += seconds;
-        let picked = settings.selection.pick(&spectrum);
-        let mut unconverged = 0;
-        let mut worst: f64 = 0.0;
-        let mut floor_limited: Option<(f64, f64, f64)> = None;
-        for &i in &picked {
-            let l = &spectrum.levels[i];
-            let tol_abs = absolute_tolerance(&spectrum, l, settings.tolerance);
-            let ratio = settings.bound.of(l) / tol_abs;
-            worst = worst.max(ratio);
-            if ratio > 1.0 {
-                unconverged += 1;
-                if l.in_space_residual > tol_abs {
-                    floor_limited = Some((l.energy, l.in_space_residual, tol_abs));
-                }
-            }
-        }
-        if let Some((e, floor, tol_abs)) = floor_limited {
-            let advice = match settings.base.splitting {
-                crate::solve::Splitting::Off => {
-                    "loosen the tolerance, or use the split path (Splitting::Auto) whose small \
-                     sectors keep it low"
-                }
-                _ => "loosen the tolerance",
-            };
-            // the solver's own residual and rounding floor grow with the cutoff (with the
-            // norm and size of the truncated matrix): a larger cutoff cannot help
-            return Err(Error::NotConverged {
-                tolerance: settings.tolerance,
-                detail: format!(
-                    "at a cutoff of {cutoff} orbitals the level at {e:.10e} has an in-space residual and \
-                     rounding floor of {floor:.3e}, above its absolute tolerance {tol_abs:.3e}; this floor \
-                     grows with the cutoff, so {advice}"
-                ),
-            });
-        }
-        if let Selection::Nearest { count, .. } = settings.selection {
-            unconverged += count.saturating_sub(picked.len());
-        }
-        let all_ok = unconverged == 0;
-        let agrees = previous.as_ref().is_some_and(|(ps, pp, _)| {
-            selections_agree(
-                ps,
-                pp,
-                &spectrum,
-                &picked,
-                settings.tolerance,
-                settings.bound,
-            )
-        });
-        history.push(AutoStep {
-            cutoff,
-            matrix_dimension: cutoff * model.dim(),
-            selected: picked.len(),
-            unconverged,
-            worst_bound_over_tolerance: worst,
-            agrees_with_previous: agrees,
-            seconds,
-        });
-        let prev_ok = previous.as_ref().is_some_and(|p| p.2);
-        if all_ok && agrees && prev_ok {
-            // earliest step from which on every step met the tolerance and each later step
-            // confirmed its predecessor
-            let mut first = history.len() - 1;
-            while first > 0
-                && history[first - 1].unconverged == 0
-                && history[first].agrees_with_previous
-            {
-                first -= 1;
-            }
-            let first_converged_cutoff = history[first].cutoff;
-            let warnings = match settings.selection.window_in(&spectrum, &picked) {
-                Some(w) => check_spectrum(model, &spectrum, w)?,
-                None => Vec::new(),
-            };
-            return Ok(AutoResult {
-                cutoff,
-                first_converged_cutoff,
-                matrix_dimension: cutoff * model.dim(),
-                seconds: total,
-                history,
-                warnings,
-                selected: picked,
-                spectrum,
-            });
-        }
-        previous = Some((spectrum, picked, all_ok));
-        let next = (cutoff as f64 * settings.growth).ceil() as usize;
-        cutoff = next.max(cutoff + 1);
-    }
-}
-
-/// Same number of selected levels, and each pair (in energy order) within the sum of their
-/// bounds plus the tolerance.
-fn selections_agree(
-    a: &Spectrum,
-    pa: &[usize],
-    b: &Spectrum,
-    pb: &[usize],
-    tol: f64,
-    bound: BoundChoice,
-) -> bool {
-    pa.len() == pb.len()
-        && pa.iter().zip(pb).all(|(&i, &j)| {
-            let (la, lb) = (&a.levels[i], &b.levels[j]);
-            (la.energy - lb.energy).abs()
-                <= bound.of(la) + bound.of(lb) + absolute_tolerance(b, lb, tol)
-        })
 }

@@ -26,8 +26,8 @@
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
+use crate::levels::{kg_energy, Root};
 use crate::model::{Model, SpectrumForm};
-use crate::solve::kg_energy;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use serde::Serialize;
@@ -121,9 +121,12 @@ fn energies(model: &Model, kx: f64, ky: f64, point: FieldPoint, reference: f64) 
         SpectrumForm::KleinGordon { rest_energy } => {
             let mut out: Vec<f64> = ev
                 .iter()
-                .map(|&l| kg_energy(l, rest_energy, 1, reference))
+                .map(|&l| kg_energy(l, rest_energy, Root::Particle, reference))
                 .collect();
-            out.extend(ev.iter().map(|&l| kg_energy(l, rest_energy, -1, reference)));
+            out.extend(
+                ev.iter()
+                    .map(|&l| kg_energy(l, rest_energy, Root::Antiparticle, reference)),
+            );
             out
         }
     }

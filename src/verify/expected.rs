@@ -3,10 +3,10 @@
 
 use super::{CompiledFormula, FormulaValue, LevelFormula};
 use crate::closed_form::ExpectedLevel;
-use crate::models;
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::model::Model;
+use crate::models;
 use crate::solve::Reference;
 use serde::Serialize;
 

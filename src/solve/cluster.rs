@@ -37,7 +37,7 @@ const MAX_RELATIVE_WIDTH: f64 = 1.0e-8;
 ///
 /// # Formula
 /// (L v)_(m alpha) = sum_(n < N, beta) H_(m alpha, n beta) v_(n beta), m >= N; its norm is
-/// [`crate::solve::leakage`].
+/// [`crate::hamiltonian::leakage`].
 pub fn outside_part(
     h: &LadderHamiltonian,
     cutoff: usize,
@@ -45,7 +45,7 @@ pub fn outside_part(
     v: &[Complex64],
 ) -> BTreeMap<(usize, usize), Complex64> {
     let mut out: BTreeMap<(usize, usize), Complex64> = BTreeMap::new();
-    crate::solve::for_each_outside(h, cutoff, states, v, |key, val| {
+    crate::hamiltonian::for_each_outside(h, cutoff, states, v, |key, val| {
         *out.entry(key).or_default() += val;
     });
     out
@@ -56,7 +56,7 @@ pub fn outside_part(
 /// # Formula
 /// width = max(min(tolerance, 1e-8) x scale, 1e3 eps max|lambda|), where scale is the median
 /// of the non-zero |lambda| among the 2d+1 eigenvalues closest to zero (the same typical
-/// spacing as [`crate::solve::energy_scale`]).
+/// spacing as [`crate::levels::energy_scale`]).
 pub fn cluster_width(values: &[f64], relative_tolerance: f64, dim: usize) -> f64 {
     let largest = values.iter().fold(0.0f64, |m, x| m.max(x.abs()));
     // small sectors (the split paths: millions of them) use a stack buffer
@@ -71,7 +71,7 @@ pub fn cluster_width(values: &[f64], relative_tolerance: f64, dim: usize) -> f64
     for (m, x) in mags.iter_mut().zip(values) {
         *m = x.abs();
     }
-    let scale = crate::solve::median_of_smallest_nonzero(mags, 2 * dim + 1).unwrap_or(largest);
+    let scale = crate::levels::median_of_smallest_nonzero(mags, 2 * dim + 1).unwrap_or(largest);
     (relative_tolerance.min(MAX_RELATIVE_WIDTH) * scale)
         .max(ROUNDOFF_WIDTH * f64::EPSILON * largest)
 }

@@ -57,9 +57,9 @@
 //!   Proc. R. Soc. Lond. A 119, 276 (1928).
 //! * T. Kato, "On the upper and lower bounds of eigenvalues", J. Phys. Soc. Jpn. 4, 334 (1949).
 
-use crate::levels::{Level, Spectrum};
+use crate::levels::is_cutoff_artefact;
+use crate::levels::{Level, Root, Spectrum};
 use crate::policy::ARTEFACT_TOP_WEIGHT;
-use crate::trust::converge::is_cutoff_artefact;
 use std::collections::BTreeMap;
 
 /// The Kato-Temple bound r^2 / delta of a level from the residual r and the distances to the
@@ -108,7 +108,7 @@ pub fn finish(spectrum: &mut Spectrum) {
 pub fn apply_kato_temple(spectrum: &mut Spectrum) {
     let mut by_sector: BTreeMap<_, Vec<usize>> = BTreeMap::new();
     for (i, l) in spectrum.levels.iter().enumerate() {
-        if l.branch == 0 {
+        if l.branch == Root::Direct {
             by_sector.entry(l.sector).or_default().push(i);
         }
     }
@@ -149,7 +149,7 @@ pub fn kato_temple_sector(levels: &mut [Level], edges: SectorEdges) {
     let mut count = 0;
     for (i, l) in levels.iter_mut().enumerate() {
         l.kato_temple = None;
-        if l.branch == 0 {
+        if l.branch == Root::Direct {
             idx[count] = i;
             count += 1;
         }

@@ -1,0 +1,412 @@
+//! One sector of a solve: build its matrix, diagonalise it (dense, or the window solver for a
+//! large sector when only some levels are wanted), then turn each eigenpair into a [`Level`]
+//! with its residual bound, weights and (Klein-Gordon form) both roots, and finally the
+//! sector's Kato-Temple bounds and exact-J labels.
+//!
+//! # Formula
+//! The residual bound of a level is r = sqrt(r_in^2 + r_out^2) + rounding + ||E_dropped||,
+//! with r_in the in-space residual ||P H P v - lambda v||, r_out the leakage
+//! ([`crate::hamiltonian::leakage`]), the rounding floor of the solver and the norm of the
+//! cancelling terms dropped at assembly (Weyl's inequality).
+
+use super::{banded, bounds, cluster, dense, refine, window};
+use super::{Target, Vectors, EXPLICIT_RESIDUAL_MAX_SECTOR, REFINE_MAX_SECTOR, WINDOW_MAX_LEVELS};
+use crate::error::{Error, Result};
+use crate::hamiltonian::{leakage, LadderHamiltonian};
+use crate::levels::{kg_energy, Convergence, Level, LevelVector, Root};
+use crate::model::SpectrumForm;
+use crate::numeric::dd::DdComplex;
+use crate::sectors::{SectorId, SectorPlan};
+use nalgebra::DMatrix;
+use num_complex::Complex64;
+
+/// The tail of the basis for [`Level::tail_weight`]: the top 1/TAIL_DENOMINATOR of the orbitals.
+const TAIL_DENOMINATOR: usize = 4;
+
+/// Fraction of the tolerance that rounding may use before a level is refined: with the default
+/// tolerance 1e-9 an unrefined level carries a rounding error below 1e-13 |E|.
+const ROUNDING_SHARE: f64 = 1e-4;
+
+/// Buffers of one chunk of sectors, reused from sector to sector (no heap allocation per
+/// sector once their sizes fit).
+pub(super) struct Scratch {
+    states: Vec<(usize, usize)>,
+    hs: DMatrix<Complex64>,
+    eig: dense::DenseEigen,
+    v: Vec<Complex64>,
+}
+
+impl Scratch {
+    pub(super) fn new() -> Self {
+        Scratch {
+            states: Vec::new(),
+            hs: DMatrix::zeros(0, 0),
+            eig: dense::DenseEigen {
+                values: Vec::new(),
+                vectors: None,
+            },
+            v: Vec::new(),
+        }
+    }
+}
+
+/// The levels of a chunk of sectors, with their weights (d per level) and vectors (if kept).
+pub(super) struct SectorResult {
+    pub(super) levels: Vec<Level>,
+    pub(super) weights: Vec<f64>,
+    pub(super) vectors: Vec<LevelVector>,
+}
+
+/// When the double-double refinement runs.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) enum RefinePolicy {
+    Never,
+    Always,
+    /// Refine a level when the rounding error of a double solve, eps x ||H_s||, exceeds this
+    /// fraction of tolerance x |E|.
+    Adaptive(f64),
+}
+
+/// What every sector of one solve shares.
+pub(super) struct Job<'a> {
+    pub(super) h: &'a LadderHamiltonian,
+    pub(super) plan: &'a SectorPlan,
+    pub(super) form: SpectrumForm,
+    pub(super) reference: f64,
+    pub(super) refine: RefinePolicy,
+    pub(super) keep_vectors: bool,
+    pub(super) real: bool,
+    /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
+    pub(super) tolerance: f64,
+    pub(super) target: Target,
+    pub(super) dense_max: usize,
+    /// Norm of the cancelling terms dropped at assembly over the truncated space
+    /// ([`LadderHamiltonian::dropped_norm`]).
+    pub(super) dropped: f64,
+}
+
+/// What the eigen-solve of a sector leaves besides the eigenpairs (in the scratch).
+struct Diagonalised {
+    /// Whether the dense sector matrix is in the scratch (for explicit residuals).
+    have_hs: bool,
+    /// ||H_s||_F (dense) or a bound on it (window).
+    hs_norm: f64,
+    /// The window solver's own residuals ||H v - lambda v||.
+    window_residuals: Option<Vec<f64>>,
+    /// Whether only a contiguous run of the sector's eigenvalues was computed.
+    windowed: bool,
+}
+
+/// One eigenpair after refinement: the eigenvalue (double-double hi + lo) and its in-space
+/// residual with its rounding floor.
+struct Eigenpair {
+    lam: f64,
+    lam_lo: f64,
+    in_res: f64,
+    rounding: f64,
+}
+
+impl Job<'_> {
+    /// Solve sector `id` and append its levels to `out`.
+    pub(super) fn solve_sector(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        out: &mut SectorResult,
+    ) -> Result<()> {
+        self.plan.states(id, &mut scratch.states);
+        if scratch.states.is_empty() {
+            return Ok(());
+        }
+        let diag = self.diagonalise(id, scratch)?;
+        let Scratch { states, hs, eig, v } = scratch;
+        let states: &[(usize, usize)] = states;
+        let cutoff = self.plan.cutoff;
+        // rotate degenerate clusters so cutoff artefacts separate (src/solve/cluster.rs)
+        if let Some(vectors) = eig.vectors.as_mut() {
+            cluster::separate_leaking(
+                self.h,
+                cutoff,
+                states,
+                &mut eig.values,
+                vectors,
+                self.tolerance,
+            );
+        }
+        let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
+            stage: "sector solve".into(),
+            detail: "eigenvectors missing".into(),
+        })?;
+        let first_level = out.levels.len();
+        for (i, &lam0) in eig.values.iter().enumerate() {
+            v.clear();
+            v.extend(vecs.column(i).iter().copied());
+            let pair = self.eigenpair(states, hs, &diag, i, lam0, v);
+            self.push_levels(id, states, v, &pair, out);
+        }
+        self.finish_sector(id, &mut out.levels[first_level..], diag.windowed);
+        Ok(())
+    }
+
+    /// Matrix element (r, c) of the sector over `states` (real part only for a real model).
+    fn element(&self, states: &[(usize, usize)], r: usize, c: usize) -> Complex64 {
+        let (m, a) = states[r];
+        let (n, b) = states[c];
+        let z = self.h.element(m, a, n, b);
+        if self.real {
+            Complex64::new(z.re, 0.0)
+        } else {
+            z
+        }
+    }
+
+    /// Eigenvalues and eigenvectors of the sector into the scratch: the window solver for a
+    /// sector larger than `dense_max` when only some levels are wanted, else a dense solve.
+    fn diagonalise(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
+        let Scratch {
+            states, hs, eig, ..
+        } = scratch;
+        let states: &[(usize, usize)] = states;
+        let s = states.len();
+        let element = |r: usize, c: usize| self.element(states, r, c);
+        if s > self.dense_max && self.target != Target::All {
+            let hbw = self.plan.half_bandwidth(id, self.h.band).min(s - 1);
+            let banded = banded::BandedHermitian::from_fn(s, hbw, element)?;
+            let w = match self.target {
+                Target::Nearest { energy, count } => {
+                    window::nearest(&banded, energy, count.min(s))?
+                }
+                Target::Window { lo, hi } => window::in_window(&banded, lo, hi, WINDOW_MAX_LEVELS)?,
+                Target::All => unreachable!("the window path is only taken for a partial target"),
+            };
+            eig.values = w.values;
+            eig.vectors = Some(w.vectors);
+            return Ok(Diagonalised {
+                have_hs: false,
+                hs_norm: banded.norm_bound(),
+                window_residuals: Some(w.residuals),
+                windowed: true,
+            });
+        }
+        // the sector matrix and the eigen-solve reuse the chunk's buffers when sizes fit
+        if hs.shape() != (s, s) {
+            *hs = DMatrix::zeros(s, s);
+        }
+        for c in 0..s {
+            for r in 0..s {
+                hs[(r, c)] = element(r, c);
+            }
+        }
+        dense::eigh_into(hs, Vectors::Compute, eig)?;
+        Ok(Diagonalised {
+            have_hs: true,
+            hs_norm: hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt(),
+            window_residuals: None,
+            windowed: false,
+        })
+    }
+
+    /// Whether eigenvalue `lam0` of a sector of `s` states with norm `hs_norm` is refined in
+    /// double-double ([`RefinePolicy`]).
+    fn refines(&self, s: usize, hs_norm: f64, lam0: f64) -> bool {
+        s <= REFINE_MAX_SECTOR
+            && match self.refine {
+                RefinePolicy::Never => false,
+                RefinePolicy::Always => true,
+                RefinePolicy::Adaptive(tol) => {
+                    f64::EPSILON * hs_norm > ROUNDING_SHARE * tol * lam0.abs()
+                }
+            }
+    }
+
+    /// The eigenpair `i` (value `lam0`, vector in `v`): refined in double-double when
+    /// [`Job::refines`] (then `v` is replaced by the refined vector), with its in-space
+    /// residual and rounding floor.
+    fn eigenpair(
+        &self,
+        states: &[(usize, usize)],
+        hs: &DMatrix<Complex64>,
+        diag: &Diagonalised,
+        i: usize,
+        lam0: f64,
+        v: &mut Vec<Complex64>,
+    ) -> Eigenpair {
+        let s = states.len();
+        let hs_norm = diag.hs_norm;
+        if self.refines(s, hs_norm, lam0) {
+            let elem = |r: usize, c: usize| -> DdComplex {
+                let (m, a) = states[r];
+                let (n, b) = states[c];
+                self.h.element_dd(m, a, n, b)
+            };
+            let rf = refine::refine(s, &elem, lam0, v, 4);
+            v.clear();
+            v.extend_from_slice(&rf.vector);
+            let (lam, lam_lo) = (rf.value.hi, rf.value.lo);
+            return Eigenpair {
+                lam,
+                lam_lo,
+                in_res: rf.residual,
+                // the residuals are themselves computed in floating point
+                rounding: 2.0 * f64::EPSILON * (lam + lam_lo).abs()
+                    + s as f64 * f64::EPSILON * f64::EPSILON * hs_norm,
+            };
+        }
+        let in_res = if let Some(res) = &diag.window_residuals {
+            // the window solver's own residual ||H v - lambda v||
+            res[i]
+        } else if s > EXPLICIT_RESIDUAL_MAX_SECTOR {
+            // backward-stable dense solver: ||H v - lambda v|| = O(eps ||H||), covered by the
+            // rounding floor below; an explicit residual would cost O(s^2) per level
+            0.0
+        } else {
+            // in-space residual ||H v - lambda v||
+            let mut acc = 0.0;
+            if diag.have_hs {
+                for r in 0..s {
+                    let mut hv = Complex64::new(0.0, 0.0);
+                    for c in 0..s {
+                        hv += hs[(r, c)] * v[c];
+                    }
+                    acc += (hv - v[r] * lam0).norm_sqr();
+                }
+            }
+            acc.sqrt()
+        };
+        Eigenpair {
+            lam: lam0,
+            lam_lo: 0.0,
+            in_res,
+            // backward-stable dense solvers: eigenvalue error of order eps ||H||_2 <= eps ||H||_F
+            rounding: 4.0 * f64::EPSILON * hs_norm,
+        }
+    }
+
+    /// Append the level(s) of one eigenpair to `out`: its weights, dominant state, top and
+    /// tail weights, leakage and bound; one level (direct form) or both roots (Klein-Gordon).
+    fn push_levels(
+        &self,
+        id: SectorId,
+        states: &[(usize, usize)],
+        v: &[Complex64],
+        pair: &Eigenpair,
+        out: &mut SectorResult,
+    ) {
+        let d = self.h.dim;
+        let cutoff = self.plan.cutoff;
+        let top_from = cutoff.saturating_sub(self.h.band.max(1));
+        let tail_from = top_from.min(cutoff - cutoff / TAIL_DENOMINATOR);
+        let out_res = leakage(self.h, cutoff, states, v);
+        // the rounding residues of cancelling terms dropped at assembly (Weyl's
+        // inequality: they move no eigenvalue by more than their norm)
+        let r =
+            (pair.in_res * pair.in_res + out_res * out_res).sqrt() + pair.rounding + self.dropped;
+        let w0 = out.weights.len();
+        out.weights.resize(w0 + d, 0.0);
+        let (best, top, tail) = weigh(states, v, &mut out.weights[w0..], top_from, tail_from);
+        let base = Level {
+            energy: 0.0,
+            bound: 0.0,
+            kato_temple: None,
+            leakage: out_res,
+            in_space_residual: pair.in_res + pair.rounding,
+            convergence: Convergence::NotConverged,
+            sector: id,
+            orbital: best.1,
+            component: best.2,
+            branch: Root::Direct,
+            label: crate::levels::LandauLabel::UNLABELLED,
+            top_weight: top,
+            tail_weight: tail,
+        };
+        let lam_full = pair.lam + pair.lam_lo;
+        let vector = || LevelVector {
+            states: states.to_vec(),
+            coeffs: v.to_vec(),
+        };
+        match self.form {
+            SpectrumForm::Direct => {
+                // lam is already relative to the reference (subtracted in assembly)
+                out.levels.push(Level {
+                    energy: lam_full,
+                    bound: r,
+                    ..base
+                });
+                if self.keep_vectors {
+                    out.vectors.push(vector());
+                }
+            }
+            SpectrumForm::KleinGordon { rest_energy } => {
+                for branch in [Root::Particle, Root::Antiparticle] {
+                    let e = kg_energy(lam_full, rest_energy, branch, self.reference);
+                    let ep = kg_energy(lam_full + r, rest_energy, branch, self.reference);
+                    let em = kg_energy(
+                        (lam_full - r).max(-0.5 * rest_energy),
+                        rest_energy,
+                        branch,
+                        self.reference,
+                    );
+                    let bound = (ep - e).abs().max((e - em).abs());
+                    out.levels.push(Level {
+                        energy: e,
+                        bound,
+                        branch,
+                        ..base
+                    });
+                    if branch == Root::Antiparticle {
+                        // the second branch shares the weights of the first
+                        let w: Vec<f64> = out.weights[w0..w0 + d].to_vec();
+                        out.weights.extend_from_slice(&w);
+                    }
+                    if self.keep_vectors {
+                        out.vectors.push(vector());
+                    }
+                }
+            }
+        }
+    }
+
+    /// The sector's Kato-Temple bounds from its own neighbours (src/solve/bounds.rs) and, in an
+    /// exact sector, its labels n = J (src/labelling.rs).
+    fn finish_sector(&self, id: SectorId, levels: &mut [Level], windowed: bool) {
+        let edges = if windowed {
+            bounds::SectorEdges::Partial
+        } else {
+            bounds::SectorEdges::Complete
+        };
+        bounds::kato_temple_sector(levels, edges);
+        if self.plan.symmetry.classes[id.class].conservation.is_exact() {
+            let family = self.plan.symmetry.classes[id.class].components[0];
+            crate::labelling::label_exact_sector(levels, id.label, family);
+        }
+    }
+}
+
+/// Add the component weights |v_(n alpha)|^2 of `v` over `states` into `weights` (d entries);
+/// return the dominant state (weight, n, alpha), the weight on orbitals n >= `top_from` and
+/// the weight on orbitals n >= `tail_from`.
+fn weigh(
+    states: &[(usize, usize)],
+    v: &[Complex64],
+    weights: &mut [f64],
+    top_from: usize,
+    tail_from: usize,
+) -> ((f64, usize, usize), f64, f64) {
+    let mut best = (0.0, 0usize, 0usize);
+    let mut top = 0.0;
+    let mut tail = 0.0;
+    for (idx, &(n, a)) in states.iter().enumerate() {
+        let p = v[idx].norm_sqr();
+        weights[a] += p;
+        if p > best.0 {
+            best = (p, n, a);
+        }
+        if n >= top_from {
+            top += p;
+        }
+        if n >= tail_from {
+            tail += p;
+        }
+    }
+    (best, top, tail)
+}
