@@ -119,7 +119,7 @@ impl SolveShape {
         }
     }
 
-    /// Peak bytes of a window solve ([`crate::solve::window`]) of the largest sector, with
+    /// Peak bytes of a window solve ([`crate::numeric::window`]) of the largest sector, with
     /// `half_bandwidth` (states) and `wanted` levels, including [`BASE_BYTES`].
     ///
     /// # Formula

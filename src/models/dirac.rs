@@ -10,7 +10,7 @@ use crate::matrix::pauli_const;
 use crate::model::{Model, ModelBuilder, Monomial};
 use crate::units::Units;
 
-/// Parameters of the relativistic models ([`dirac`], [`super::klein_gordon`]), natural units
+/// Parameters of the relativistic models ([`dirac`], [`super::klein_gordon`](fn@super::klein_gordon)), natural units
 /// (m c^2 = 1, hbar/(m c) = 1, B in B_c).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]

@@ -42,7 +42,7 @@ impl Default for DiracAmmParams {
 
 /// 3+1 Dirac model with an anomalous magnetic moment (Pauli term), natural units, name
 /// `dirac-amm`: H = c alpha . (hbar k) + beta m c^2 + kappa mu_B B beta Sigma_z, with the
-/// matrices of [`super::dirac`] and beta Sigma_z = sigma_z ⊗ sigma_z; mu_B = 1/2 in natural
+/// matrices of [`super::dirac`](fn@super::dirac) and beta Sigma_z = sigma_z ⊗ sigma_z; mu_B = 1/2 in natural
 /// units (see [`Units::bohr_magneton`]). Reference energy m c^2.
 ///
 /// Sign convention: for q = -1 and kappa > 0 the non-relativistic limit of the upper

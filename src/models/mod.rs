@@ -206,27 +206,27 @@ macro_rules! registry {
 }
 
 registry! {
-    /// [`schrodinger`].
+    /// [`schrodinger`](mod@schrodinger).
     Schrodinger => Schrodinger,
-    /// [`pauli`].
+    /// [`pauli`](mod@pauli).
     Pauli => Pauli,
-    /// [`dirac`].
+    /// [`dirac`](mod@dirac).
     Dirac => Dirac,
-    /// [`klein_gordon`].
+    /// [`klein_gordon`](mod@klein_gordon).
     KleinGordon => KleinGordon,
-    /// [`dirac2d`].
+    /// [`dirac2d`](mod@dirac2d).
     Dirac2d => Dirac2d,
-    /// [`weyl`].
+    /// [`weyl`](mod@weyl).
     Weyl => Weyl,
-    /// [`dirac_amm`].
+    /// [`dirac_amm`](mod@dirac_amm).
     DiracAmm => DiracAmm,
-    /// [`tilted_dirac2d`].
+    /// [`tilted_dirac2d`](mod@tilted_dirac2d).
     TiltedDirac2d => TiltedDirac2d,
-    /// [`rashba`].
+    /// [`rashba`](mod@rashba).
     Rashba => Rashba,
-    /// [`bilayer`].
+    /// [`bilayer`](mod@bilayer).
     Bilayer => Bilayer,
-    /// [`bhz`].
+    /// [`bhz`](mod@bhz).
     Bhz => Bhz,
 }
 

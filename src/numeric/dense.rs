@@ -39,14 +39,7 @@ use crate::error::{Error, Result};
 use nalgebra::{DMatrix, Matrix3, Matrix4, SymmetricEigen};
 use num_complex::Complex64;
 
-/// Whether [`eigh`] computes eigenvectors.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Vectors {
-    /// Compute the eigenvectors (columns of [`DenseEigen::vectors`]).
-    Compute,
-    /// Eigenvalues only (cheaper).
-    Skip,
-}
+pub use super::Vectors;
 
 /// Result of a dense Hermitian eigen-solve.
 #[derive(Debug, Clone)]

@@ -27,3 +27,12 @@ mod lanczos;
 pub mod refine;
 mod tridiag;
 pub mod window;
+
+/// Whether an eigen-solve ([`dense::eigh`], the window solver) computes eigenvectors.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Vectors {
+    /// Compute the eigenvectors (columns of [`dense::DenseEigen::vectors`]).
+    Compute,
+    /// Eigenvalues only (cheaper).
+    Skip,
+}

@@ -20,7 +20,7 @@
 //! itself, reduced in place); applying Q to the tridiagonal eigenvectors costs O(s^2 w) for
 //! reflectors of length at most w (O(s^3) in general).
 
-use super::dense::Vectors;
+use super::Vectors;
 use faer::linalg::matmul::matmul;
 use faer::linalg::matmul::triangular::{self as tri, BlockStructure};
 use faer::{Accum, MatMut, MatRef, Par};

@@ -2,9 +2,9 @@
 //!
 //! A solve starts from a [`Problem`] (src/problem.rs: validated inputs, the Hamiltonian
 //! assembled once, the sector plan and the memory estimate); [`Spectrum::compute`] sets one up
-//! and solves it. One sector's work is in [`sector`] (matrix, eigen-solve, residual bounds,
+//! and solves it. One sector's work is in `sector.rs` (matrix, eigen-solve, residual bounds,
 //! Kato-Temple bounds of [`bounds`], the artefact rotation of [`cluster`]), the collection of
-//! the levels in [`gather`].
+//! the levels in `gather.rs`.
 //!
 //! # Layering
 //! Layer 4. The solver uses the set-up ([`crate::problem`], [`crate::memory`]), the

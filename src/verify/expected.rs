@@ -92,7 +92,7 @@ impl Window {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ExpectedList {
     /// The levels; `energy` is E - `origin`. Multiplicities count the states of one orbital
-    /// centre (as in [`closed_form`]).
+    /// centre (as in [`crate::closed_form`]).
     pub levels: Vec<ExpectedLevel>,
     /// The energy the list's energies are measured from (0: absolute energies).
     pub origin: f64,

@@ -3,7 +3,7 @@
 //!
 //! The expected levels come as an [`ExpectedList`]: from a Rust closure over the quantum
 //! numbers ([`ExpectedList::from_fn`]), from formulas in the small expression language of
-//! [`expr`] ([`ExpectedList::from_formula`], documented in the README (section Verifying a level formula)), from a list or a
+//! [`crate::expr`] ([`ExpectedList::from_formula`], documented in the README (section Verifying a level formula)), from a list or a
 //! CSV file ([`ExpectedList::from_levels`], [`ExpectedList::from_csv`]), or from the crate's
 //! own closed forms ([`ExpectedList::from_closed_form`]).
 //!

@@ -1,23 +1,21 @@
-//! The outcome of a check: settings, pairs, the [`Verdict`] and [`check`] itself (see the
+//! The outcome of a check: settings, pairs, the [`Verdict`] and [`check`](fn@crate::verify::check) itself (see the
 //! module documentation of [`crate::verify`]).
 
 use crate::sectors::SectorId;
 use serde::Serialize;
-#[cfg(doc)]
-use {super::check, crate::levels::Spectrum};
 
 /// Which energy scale the relative tolerance multiplies.
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
 #[serde(rename_all = "snake_case", tag = "kind", content = "value")]
 pub enum EnergyScale {
-    /// The spectrum's typical Landau spacing ([`Spectrum::energy_scale`]).
+    /// The spectrum's typical Landau spacing ([`crate::levels::Spectrum::energy_scale`]).
     #[default]
     Spectrum,
     /// A given energy in the model's unit.
     Value(f64),
 }
 
-/// Settings of [`check`].
+/// Settings of [`check`](fn@crate::verify::check).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct VerifySettings {
     /// Relative tolerance: a level agrees when |x - e| <= bound + tolerance x scale +
@@ -132,7 +130,7 @@ fn open_sides_as_null<S: serde::Serializer>(
     serde::Serialize::serialize(&(side(w.0), side(w.1)), s)
 }
 
-/// The result of [`check`].
+/// The result of [`check`](fn@crate::verify::check).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Verdict {
     /// Pass, fail or inconclusive.
