@@ -1,6 +1,8 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
+pub mod cli;
+
 use ladderfan::matrix::pauli;
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum, Splitting};
 use nalgebra::DMatrix;
