@@ -1,6 +1,7 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
+pub mod catalogue;
 pub mod cli;
 
 use ladderfan::matrix::pauli;
