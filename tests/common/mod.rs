@@ -3,6 +3,7 @@
 
 pub mod catalogue;
 pub mod cli;
+pub mod verdict;
 
 use ladderfan::matrix::pauli;
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum, Splitting};
