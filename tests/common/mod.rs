@@ -3,6 +3,7 @@
 
 pub mod catalogue;
 pub mod cli;
+pub mod observables;
 pub mod verdict;
 
 use ladderfan::matrix::pauli;
