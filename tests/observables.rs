@@ -1,38 +1,23 @@
 //! Observables against closed forms and sum rules: Landau degeneracy, Dirac and Schrodinger
-//! magneto-optics, the f-sum rule, density conservation, expectation values and tracking.
-//! Every expected value names its source beside it.
+//! magneto-optics, the f-sum rule, expectation values and tracking.
+//! Every expected value names its source beside it; helpers in tests/common/observables.rs.
 
 use ladderfan::models::{self, Dirac2dParams, MassParams, PauliParams};
 use ladderfan::observables::dos::{
     from_per_cm2, landau_degeneracy_per_area, per_cm2, Broadening, LevelDensity, WidthScaling,
 };
-use ladderfan::observables::filling::{
-    fermi_level, fermi_sweep, thermal_energy, FermiSettings, Neutrality,
-};
+use ladderfan::observables::filling::{fermi_level, FermiSettings, Neutrality};
 use ladderfan::observables::labels::{
     matrix_expectation, orbital_content, pattern_expectation, tracks,
 };
 use ladderfan::observables::optics::{
     transition_sweep, transitions, OpticsSettings, Polarisation, VelocityOperator,
 };
-use ladderfan::units::{Units, ELECTRON_MASS, ELEMENTARY_CHARGE, HBAR, MEV, PLANCK};
-use ladderfan::{FieldPoint, Model, Settings, Spectrum, Vectors};
+use ladderfan::units::{Units, ELECTRON_MASS, ELEMENTARY_CHARGE, MEV, PLANCK};
+use ladderfan::{FieldPoint, Settings, Spectrum, Vectors};
 
-fn with_vectors(cutoff: usize) -> Settings {
-    let mut s = Settings::with_cutoff(cutoff);
-    s.vectors = Vectors::Compute;
-    s
-}
-
-/// hbar omega_c = hbar e B / (m* m_e) in meV (Landau 1930).
-fn cyclotron_mev(mass_ratio: f64, field: f64) -> f64 {
-    HBAR * ELEMENTARY_CHARGE * field / (mass_ratio * ELECTRON_MASS) / MEV
-}
-
-/// First massless Dirac level v sqrt(2 e hbar B) in meV (McClure, Phys. Rev. 104, 666 (1956)).
-fn dirac_e1_mev(v: f64, field: f64) -> f64 {
-    v * (2.0 * ELEMENTARY_CHARGE * HBAR * field).sqrt() / MEV
-}
+mod common;
+use common::observables::*;
 
 #[test]
 fn landau_degeneracy_is_e_b_over_h() {
@@ -69,23 +54,6 @@ fn sqrt_field_width_scales() {
     // w(B) = w sqrt(B / B_ref) (Ando & Uemura 1974 form)
     assert!((b.width_at(4.0).unwrap() - 1.0).abs() < 1e-15);
     assert!(Broadening::gaussian(-1.0).width_at(1.0).is_err());
-}
-
-fn dirac(v: f64, charge: f64) -> Model {
-    models::dirac2d(Dirac2dParams {
-        velocity_m_per_s: v,
-        mass_mev: 0.0,
-        valley: ladderfan::models::Valley::Plus,
-        charge,
-    })
-    .unwrap()
-}
-
-/// |n| of a massless Dirac level from its energy: (E/E_1)^2 (McClure 1956).
-fn dirac_index(e: f64, e1: f64) -> (i64, f64) {
-    let x = (e / e1).powi(2);
-    let n = x.round();
-    (n as i64 * if e < 0.0 { -1 } else { 1 }, (x - n).abs())
 }
 
 #[test]
@@ -269,198 +237,6 @@ fn f_sum_rule_and_closure_for_the_parabolic_band() {
     }
 }
 
-/// Simpson's rule on [a, b] with an even number of panels.
-fn simpson(f: &dyn Fn(f64) -> f64, a: f64, b: f64, panels: usize) -> f64 {
-    let n = panels + panels % 2;
-    let h = (b - a) / n as f64;
-    let mut s = f(a) + f(b);
-    for k in 1..n {
-        s += f(a + k as f64 * h) * if k % 2 == 1 { 4.0 } else { 2.0 };
-    }
-    s * h / 3.0
-}
-
-/// Fermi-Dirac occupation; at T = 0 a step that is 1 up to and including x = 0 (the
-/// integrals below end at the Fermi level, where the limit from below is wanted).
-fn fermi_dirac(x: f64, kt: f64) -> f64 {
-    if kt == 0.0 {
-        if x <= 0.0 {
-            1.0
-        } else {
-            0.0
-        }
-    } else {
-        1.0 / ((x / kt).exp() + 1.0)
-    }
-}
-
-#[test]
-fn integrating_the_dos_to_the_fermi_level_returns_the_density_parabolic() {
-    // n = int g(E) f(E - mu) dE for a band empty at neutrality (definition of the DOS); the
-    // integral is done here by Simpson's rule on the broadened DOS, independently of the
-    // closed-form cumulative lines and the thermal quadrature the library uses.
-    let mass = 0.067;
-    let m = models::schrodinger(MassParams {
-        mass_ratio: mass,
-        charge: -1.0,
-    })
-    .unwrap();
-    for field in [1.0, 4.0] {
-        let spec =
-            Spectrum::compute(&m, FieldPoint::field(field), &Settings::with_cutoff(120)).unwrap();
-        let hw = cyclotron_mev(mass, field);
-        let sigma = 0.2 * hw;
-        let b = Broadening::gaussian(sigma);
-        let dos = LevelDensity::new(&m, &spec, b).unwrap();
-        for n_cm2 in [3e10, 2.2e11, 1e12] {
-            for t_k in [0.0, 4.2, 40.0] {
-                let target = from_per_cm2(Units::Lab, n_cm2);
-                let fs = FermiSettings {
-                    carrier_density: target,
-                    temperature_k: t_k,
-                    broadening: b,
-                    neutrality: Neutrality::Auto,
-                };
-                let sol = fermi_level(&m, &spec, &fs).unwrap();
-                let kt = thermal_energy(Units::Lab, t_k);
-                let lo = spec.levels[0].energy - 12.0 * sigma;
-                let hi = sol.fermi_energy + if t_k > 0.0 { 45.0 * kt } else { 0.0 };
-                let integral = simpson(
-                    &|e| dos.dos(e) * fermi_dirac(e - sol.fermi_energy, kt),
-                    lo,
-                    hi,
-                    40_000,
-                );
-                assert!(
-                    (integral / target - 1.0).abs() < 1e-7,
-                    "B = {field}, n = {n_cm2}, T = {t_k}: {integral} vs {target}"
-                );
-                // filling factor nu = n h / (e B)
-                let nu = target / landau_degeneracy_per_area(Units::Lab, field, -1.0);
-                assert!((sol.filling_factor / nu - 1.0).abs() < 1e-9);
-            }
-        }
-    }
-}
-
-#[test]
-fn integrating_the_dos_to_the_fermi_level_returns_the_density_dirac() {
-    // Dirac model, density from neutrality at E = 0: by the electron-hole symmetry of the
-    // massless spectrum (McClure 1956) the broadened DOS integrates to the neutrality count at
-    // E = 0, so n = int_0^mu g(E) dE at T = 0, negative for holes. Simpson's rule, independent
-    // of the library's closed-form cumulative lines.
-    let v = 1.0e6;
-    let field = 8.0;
-    let m = dirac(v, -1.0);
-    let spec =
-        Spectrum::compute(&m, FieldPoint::field(field), &Settings::with_cutoff(300)).unwrap();
-    let e1 = dirac_e1_mev(v, field);
-    for b in [
-        Broadening::gaussian(0.1 * e1),
-        Broadening::lorentzian(0.05 * e1),
-    ] {
-        let dos = LevelDensity::new(&m, &spec, b).unwrap();
-        for n_cm2 in [-5e12, -1e11, 2e11, 3e12] {
-            let target = from_per_cm2(Units::Lab, n_cm2);
-            let fs = FermiSettings {
-                carrier_density: target,
-                temperature_k: 0.0,
-                broadening: b,
-                neutrality: Neutrality::Auto,
-            };
-            let sol = fermi_level(&m, &spec, &fs).unwrap();
-            assert_eq!(sol.neutrality_energy, Some(0.0));
-            let integral = simpson(&|e| dos.dos(e), 0.0, sol.fermi_energy, 40_000);
-            // levels at +-E share a sector, so the converged set is symmetric too and
-            // C(-E) + C(E) = 1 holds for both symmetric line shapes
-            let tol = 1e-7;
-            assert!(
-                (integral / target - 1.0).abs() < tol,
-                "{b:?} n = {n_cm2}: {integral} vs {target}"
-            );
-        }
-    }
-}
-
-#[test]
-fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
-    // o = int L(E - E_l) f(E - mu) dE (definition), by Simpson's rule over +-60 widths with the
-    // Lorentzian tails beyond added in closed form (f = 1 below, 0 above, up to e^-40):
-    // atan tails, 1/2 - atan(X/w)/pi each.
-    let m = models::schrodinger(MassParams::default()).unwrap();
-    let spec = Spectrum::compute(&m, FieldPoint::field(10.0), &Settings::with_cutoff(40)).unwrap();
-    let w = 0.05;
-    let b = Broadening::lorentzian(w);
-    for t_k in [0.5, 5.0, 50.0] {
-        let kt = thermal_energy(Units::Lab, t_k);
-        let fs = FermiSettings {
-            carrier_density: 2.5 * landau_degeneracy_per_area(Units::Lab, 10.0, -1.0),
-            temperature_k: t_k,
-            broadening: b,
-            neutrality: Neutrality::EmptyBand,
-        };
-        let sol = fermi_level(&m, &spec, &fs).unwrap();
-        let mu = sol.fermi_energy;
-        for el in [mu - 0.3, mu - 0.01, mu, mu + 0.02, mu + 1.0] {
-            let reach = 60.0 * w + 45.0 * kt;
-            let (a, z) = (mu - reach, mu + reach);
-            let core = simpson(
-                &|e| b.line(e - el, w) * fermi_dirac(e - mu, kt),
-                a,
-                z,
-                200_000,
-            );
-            let below = b.cumulative(a - el, w);
-            let o = core + below;
-            let lib = sol.occupation.of_level(el);
-            assert!(
-                (lib - o).abs() < 1e-8,
-                "T = {t_k}, E_l - mu = {}: {lib} vs {o}",
-                el - mu
-            );
-        }
-    }
-}
-
-#[test]
-fn quantum_oscillations_of_the_fermi_level() {
-    // At fixed density the Fermi level pins to the partially filled Landau level and jumps
-    // between levels at even filling factors (spin-degenerate band): at nu = 2k + 1 it sits at
-    // the centre of level k, (k + 1/2) hbar omega_c (Landau 1930; Shubnikov-de Haas).
-    let mass = 0.067;
-    let m = models::schrodinger(MassParams {
-        mass_ratio: mass,
-        charge: -1.0,
-    })
-    .unwrap();
-    let n = from_per_cm2(Units::Lab, 3e11);
-    let unit_nu = landau_degeneracy_per_area(Units::Lab, 1.0, -1.0);
-    // fields where nu = n / (eB/h) is 7, 5, 3
-    let fields: Vec<f64> = [7.0, 5.0, 3.0]
-        .iter()
-        .map(|nu| n / (nu * unit_nu))
-        .collect();
-    let pts: Vec<FieldPoint> = fields.iter().map(|&b| FieldPoint::field(b)).collect();
-    let fs = FermiSettings {
-        carrier_density: n,
-        temperature_k: 0.0,
-        broadening: Broadening::gaussian(0.1),
-        neutrality: Neutrality::Auto,
-    };
-    let out = fermi_sweep(&m, &pts, &Settings::with_cutoff(80), &fs).unwrap();
-    for (p, k) in out.iter().zip([3.0, 2.0, 1.0]) {
-        let hw = cyclotron_mev(mass, p.solution.field);
-        let want = (k + 0.5) * hw;
-        assert!(
-            (p.solution.fermi_energy - want).abs() < 1e-6 * hw,
-            "B = {}: {} vs {want}",
-            p.solution.field,
-            p.solution.fermi_energy
-        );
-        assert!((p.solution.filling_factor - (2.0 * k + 1.0)).abs() < 1e-9);
-    }
-}
-
 #[test]
 fn transition_fan_against_field_follows_sqrt_b() {
     // massless Dirac: every line scales as sqrt(B) (McClure 1956; Sadowski et al. 2006), so
@@ -589,117 +365,6 @@ fn tracks_follow_levels_across_the_sweep() {
         }
     }
     assert!(checked > 50, "{checked}");
-}
-
-// ---- command line: `ladderfan dos` and `ladderfan optics` ----
-
-fn run_cli(args: &[&str]) -> (i32, String, String) {
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ladderfan"))
-        .args(args)
-        .output()
-        .expect("run ladderfan");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
-#[test]
-fn cli_dos_reports_degeneracy_fermi_level_and_files() {
-    let dir = std::env::temp_dir().join(format!("ladderfan-obs-dos-{}", std::process::id()));
-    let d = dir.to_string_lossy().to_string();
-    let (code, out, err) = run_cli(&[
-        "dos",
-        "--builtin",
-        "schrodinger",
-        "--set",
-        "mass_ratio=0.067",
-        "--field",
-        "3",
-        "--cutoff",
-        "80",
-        "--filling",
-        "3",
-        "--width",
-        "0.2",
-        "--json",
-        "--out",
-        &d,
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let j: serde_json::Value = serde_json::from_str(&out).expect("json");
-    // eB/h = 2.417 989 242e10 cm^-2 per tesla (CODATA 2018), times 3 T
-    let deg = j["landau_degeneracy_cm2"].as_f64().unwrap();
-    assert!((deg / (3.0 * 2.417_989_242e10) - 1.0).abs() < 1e-9);
-    assert_eq!(j["model_degeneracy"].as_u64(), Some(2));
-    // nu = 3 in a spin-degenerate parabolic band half fills level 1: E_F = 1.5 hbar omega_c
-    // (Landau 1930)
-    let f = &j["fermi"];
-    assert!((f["filling_factor"].as_f64().unwrap() - 3.0).abs() < 1e-9);
-    let hw = cyclotron_mev(0.067, 3.0);
-    assert!((f["fermi_energy"].as_f64().unwrap() - 1.5 * hw).abs() < 1e-6 * hw);
-    let csv = std::fs::read_to_string(dir.join("dos.csv")).unwrap();
-    assert!(csv.contains("energy_meV,dos_per_meV_per_cm2,density_from_neutrality_per_cm2"));
-    assert!(csv.contains("only the") && csv.contains("converged levels count"));
-    let svg = std::fs::read_to_string(dir.join("dos.svg")).unwrap();
-    assert!(svg.starts_with("<svg") && svg.contains("E [meV]"));
-    let _ = std::fs::remove_dir_all(&dir);
-}
-
-#[test]
-fn cli_optics_kohn_line_and_bad_flags() {
-    // Kohn (1961): one line at hbar omega_c, sigma+ for electrons with B along +z
-    let (code, out, err) = run_cli(&[
-        "optics",
-        "--builtin",
-        "schrodinger",
-        "--set",
-        "mass_ratio=0.067",
-        "--field",
-        "3",
-        "--cutoff",
-        "80",
-        "--filling",
-        "2.5",
-        "--temperature",
-        "4",
-        "--json",
-    ]);
-    assert_eq!(code, 0, "{err}");
-    let j: serde_json::Value = serde_json::from_str(&out).expect("json");
-    let hw = cyclotron_mev(0.067, 3.0);
-    let tr = j["points"][0]["transitions"].as_array().unwrap();
-    assert!(!tr.is_empty());
-    for t in tr {
-        assert!((t["energy"].as_f64().unwrap() - hw).abs() < 1e-9 * hw);
-        assert_eq!(t["polarisation"].as_str(), Some("sigma_plus"));
-    }
-    assert_eq!(j["velocity_unit"].as_str(), Some("m/s"));
-    // a negative width is bad input: exit 2, one error line, nothing on stdout
-    let (code, out, err) = run_cli(&[
-        "optics",
-        "--builtin",
-        "schrodinger",
-        "--field",
-        "3",
-        "--width",
-        "-1",
-    ]);
-    assert_eq!(code, 2, "{err}");
-    assert!(out.is_empty() && err.contains("--width"), "{err}");
-    let (code, _, err) = run_cli(&[
-        "dos",
-        "--builtin",
-        "schrodinger",
-        "--field",
-        "3",
-        "--neutrality",
-        "middle",
-        "--filling",
-        "1",
-    ]);
-    assert_eq!(code, 2, "{err}");
 }
 
 #[test]

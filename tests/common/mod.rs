@@ -1,6 +1,11 @@
 //! Shared helpers for the integration tests.
 #![allow(dead_code)]
 
+pub mod catalogue;
+pub mod cli;
+pub mod observables;
+pub mod verdict;
+
 use ladderfan::matrix::pauli;
 use ladderfan::{FieldPoint, Model, Monomial, Settings, Spectrum, Splitting};
 use nalgebra::DMatrix;
