@@ -197,6 +197,24 @@ mod set_up_tests {
     }
 
     #[test]
+    fn a_model_without_kz_terms_is_assembled_once_in_all() {
+        // the same invented cone without its kz term: the label families need no second
+        // assembly at a generic kz, since no coupling depends on kz
+        let p = |s: &str| pauli(s).unwrap_or_else(|e| panic!("{e}"));
+        let model = Model::builder("problem-test 2D cone, one assembly (invented)", 2)
+            .term("v kx sigma_x", 500.0, p("x"), Monomial::KX)
+            .term("v ky sigma_y", 500.0, p("y"), Monomial::KY)
+            .term("m sigma_z", 10.0, p("z"), Monomial::new(0, 0, 0))
+            .build()
+            .unwrap_or_else(|e| panic!("{e}"));
+        let point = FieldPoint::field(3.0);
+        let spec = Spectrum::compute(&model, point, &Settings::with_cutoff(30))
+            .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(spec.levels.len(), 60);
+        assert_eq!(assembly_count::total(model.name()), 1);
+    }
+
+    #[test]
     fn one_assembly_per_sweep_point() {
         let model = kz_only_coupling("problem-test one assembly per sweep point (invented)");
         let points: Vec<FieldPoint> = [1.0, 2.0, 4.0]

@@ -191,10 +191,12 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
 fn label(problem: &Problem<'_>, spectrum: &mut Spectrum) -> Result<()> {
     let settings = problem.settings();
     let h = problem.hamiltonian();
-    if settings.splitting == Splitting::Auto && settings.target == Target::All {
+    let depends_on_kz = problem.model().terms().iter().any(|t| t.monomial.kz > 0);
+    if settings.splitting == Splitting::Auto && settings.target == Target::All && depends_on_kz {
         // a kz = 0 split must not change the labels; the offset is an arbitrary irrational
         // multiple of 1/l_B so that no coupling vanishes by accident. This second assembly is
-        // at another kz and only feeds the symmetry of the label families.
+        // at another kz and only feeds the symmetry of the label families; a model without kz
+        // terms has the same couplings at every kz and needs none.
         let point = problem.point();
         let generic = FieldPoint {
             kz: point.kz + std::f64::consts::FRAC_1_SQRT_2 / h.magnetic_length,
