@@ -6,7 +6,6 @@ use crate::error::{Error, Result};
 use crate::expr::{eval_expression, Front, Scope};
 use crate::model::Model;
 use crate::models::{self, Origin};
-use crate::units::Units;
 use std::collections::BTreeMap;
 use std::ops::Range;
 use toml::Spanned;
@@ -105,7 +104,9 @@ pub(super) fn from_builtin(
 }
 
 /// The `[set]` entries and `--set` overrides of a `builtin = ...` file, evaluated, each checked
-/// to be a parameter of `origin` (the `[set]` ones located in the file).
+/// to be a parameter of `origin` (the `[set]` ones located in the file). Both are evaluated with
+/// the constants of the built-in's own unit system (`m_e`, `hbar`, `c`, ... are 1 in natural
+/// units), so a value means the same in `[set]` as on the command line.
 fn builtin_values(
     src: &Source,
     raw: &RawFile,
@@ -114,7 +115,7 @@ fn builtin_values(
 ) -> Result<BTreeMap<String, f64>> {
     let mut values = BTreeMap::new();
     if let Some(set) = &raw.set {
-        let scope = Scope::with_constants(Units::Lab).for_front(Front::ModelFile);
+        let scope = Scope::with_constants(origin.info().units).for_front(Front::ModelFile);
         for (k, v) in set.get_ref() {
             if !origin.has_parameter(k.get_ref()) {
                 return Err(src.err(&k.span(), origin.unknown_parameter(k.get_ref())));

@@ -221,3 +221,35 @@ fn builtin_with_overrides() {
         "{m}"
     );
 }
+
+#[test]
+fn set_uses_the_builtins_own_units_like_the_command_line() {
+    // regression: [set] values were evaluated with lab constants (m_e = 5686 meV fs^2/nm^2)
+    // even for a natural-unit built-in, while --set used the built-in's units
+    let file = "builtin = \"dirac\"\n[set]\nmass = \"2 * m_e\"\nspeed = \"0.5 * c\"\n";
+    let f = parse("b.toml", file).unwrap_or_else(|e| panic!("{e}"));
+    let overrides = [
+        ("mass".to_string(), "2 * m_e".to_string()),
+        ("speed".to_string(), "0.5 * c".to_string()),
+    ];
+    let g = parse_with_overrides("b.toml", "builtin = \"dirac\"\n", &overrides)
+        .unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(f.model.units(), Units::Natural);
+    // natural units: m_e = 1 and c = 1 by the definition of the units (common practice)
+    let mass = f.model.param("mass").unwrap_or(f64::NAN);
+    let speed = f.model.param("speed").unwrap_or(f64::NAN);
+    assert!((mass - 2.0).abs() <= 1e-14, "mass = {mass}");
+    assert!((speed - 0.5).abs() <= 1e-14, "speed = {speed}");
+    assert_eq!(f.model.params(), g.model.params());
+    // the same model: the assembled matrices agree element by element
+    let p = crate::hamiltonian::FieldPoint {
+        field: 0.3,
+        kz: 0.2,
+    };
+    let h1 = LadderHamiltonian::assemble(&f.model, p, 0.0).unwrap_or_else(|e| panic!("{e}"));
+    let h2 = LadderHamiltonian::assemble(&g.model, p, 0.0).unwrap_or_else(|e| panic!("{e}"));
+    let (a, c) = (h1.dense(6), h2.dense(6));
+    let scale = c.iter().map(|z| z.norm()).fold(0.0, f64::max);
+    assert!(scale > 0.0);
+    assert!((a - c).iter().all(|z| z.norm() <= 1e-13 * scale));
+}
