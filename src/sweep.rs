@@ -184,7 +184,7 @@ mod set_up_tests {
             .unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(spec.levels.len(), 60);
         assert_eq!(assembly_count::count(model.name(), point), 1);
-        // the label families are read at a generic kz (src/labelling.rs): one more assembly,
+        // the label families are read at a generic kz (src/labelling/): one more assembly,
         // at another point, and none besides
         assert_eq!(assembly_count::total(model.name()), 2);
         // set up, checked and solved by hand: still one assembly at the point

@@ -1,4 +1,4 @@
-//! Quantum numbers of the levels (src/labelling.rs) against the quantum numbers the closed forms
+//! Quantum numbers of the levels (src/labelling/) against the quantum numbers the closed forms
 //! list (src/models/, each model file's formula with its published source in its doc comment), for
 //! every built-in and catalogue model at several fields and both charge signs.
 //!

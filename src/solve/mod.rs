@@ -185,7 +185,7 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
         .collect()
 }
 
-/// Labels that need the whole spectrum (src/labelling.rs): the families of a kz = 0 split
+/// Labels that need the whole spectrum (src/labelling/): the families of a kz = 0 split
 /// joined as at a generic kz, and continued labels where only J mod m (or nothing) is
 /// conserved. Exact sectors were labelled sector by sector.
 fn label(problem: &Problem<'_>, spectrum: &mut Spectrum) -> Result<()> {

@@ -367,7 +367,7 @@ impl Job<'_> {
     }
 
     /// The sector's Kato-Temple bounds from its own neighbours (src/solve/bounds.rs) and, in an
-    /// exact sector, its labels n = J (src/labelling.rs).
+    /// exact sector, its labels n = J (src/labelling/).
     fn finish_sector(&self, id: SectorId, levels: &mut [Level], windowed: bool) {
         let edges = if windowed {
             bounds::SectorEdges::Partial

@@ -1,47 +1,16 @@
-//! Quantum numbers of the levels: the Landau index n and the branch, as the trade writes them.
-//!
-//! # Exact sectors
-//! When J = n_orbital + s_alpha is exactly conserved (shifts s >= 0, the smallest 0), the
-//! Landau index of every level of sector J is n = J: the index counted from the lowest allowed
-//! J of the class. The branch is [`Branch`]: the levels of the sector are split at their middle,
-//! counted away from the gap on either side, the middle one of an odd count unpaired. For the
-//! 2D Dirac cone this gives +E_n and -E_n the same n and the lone level n = 0; for the 3+1 Dirac
-//! equation it gives nu = n + 1/2 + s_z sign(qB)/2 with two levels on each side of the gap.
-//!
-//! # Adiabatic continuation (J mod m, or no conserved quantity)
-//! Where only J mod m survives (cubic warping) or nothing does (tilt), the ladder Hamiltonian is
-//! split into H = H_0 + V: H_0 keeps the couplings consistent with one set of shifts s (chosen
-//! greedily by coupling strength, strongest first), V holds the symmetry-breaking rest. H_0
-//! conserves J exactly and its levels carry exact labels. Along H(t) = H_0 + t V, t = 0 .. 1, each
-//! level is followed by the largest overlap |<p_i(t + dt)|v_j(t + dt)>|^2 between the new
-//! eigenvectors and the old ones carried forward by first-order perturbation theory,
-//! p_i = v_i + dt sum_k v_k <v_k|V|v_i> / (E_i - E_k) (normalised), one to one. The predicted
-//! vectors lose overlap as dt^4 on a smooth path instead of dt^2, so the step is chosen from the
-//! worst loss of the last step (aiming at 0.3) and halved, at most three times, while some
-//! followed level well inside the basis (top-orbital weight below 1e-10) keeps less than half
-//! its weight; levels near the cutoff mix at will and do not count. So the label of the
-//! symmetric model is carried to the full one. Levels labelled this way carry
-//! [`LabelOrigin::Continuation`].
-//!
-//! # Limits
-//! The continuation diagonalises each sector densely a few times; a sector larger than
-//! [`CONTINUATION_MAX_STATES`] is continued at a lower cutoff and its levels matched to the
-//! computed ones by energy (within their bound plus 1e-6 of the energy scale); a level with no
-//! match stays [`LabelOrigin::Unlabelled`]. The unsplit oracle path (`Splitting::Off`) is not
-//! labelled.
+//! Adiabatic continuation of the labels from the symmetric part H_0 to the full Hamiltonian
+//! (see the parent module's docs).
 
+use super::{branches, CONTINUATION_MAX_STATES};
 use crate::error::Result;
 use crate::hamiltonian::LadderHamiltonian;
-use crate::levels::{Branch, LabelOrigin, LandauLabel, Level, Root, Spectrum};
+use crate::levels::{Branch, LabelOrigin, LandauLabel, Root, Spectrum};
 use crate::model::SpectrumForm;
 use crate::numeric::dense::{self, Vectors};
 use crate::sectors::{SectorPlan, Symmetry};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::collections::BTreeMap;
-
-/// Largest sector (states) continued at the spectrum's own cutoff.
-pub const CONTINUATION_MAX_STATES: usize = 200;
 
 /// Steps of the path t = 0 .. 1 before any halving.
 const CONTINUATION_STEPS: usize = 4;
@@ -53,129 +22,6 @@ const MAX_HALVINGS: u32 = 3;
 /// step size: well inside the basis, where the labels matter. Levels nearer the cutoff mix
 /// strongly with their neighbours at every step and would only make the steps tiny.
 const GENUINE_TOP_WEIGHT: f64 = 1e-10;
-
-/// Branches of `count` levels sorted by ascending energy (see [`Branch`]).
-///
-/// # Examples
-/// ```
-/// use ladderfan::labelling::branches;
-/// use ladderfan::levels::Branch;
-/// assert_eq!(branches(3), vec![Branch::Lower(1), Branch::Unpaired, Branch::Upper(1)]);
-/// assert_eq!(branches(2), vec![Branch::Lower(1), Branch::Upper(1)]);
-/// ```
-pub fn branches(count: usize) -> Vec<Branch> {
-    let half = count / 2;
-    (0..count)
-        .map(|i| {
-            if i < half {
-                Branch::Lower((half - i) as u32)
-            } else if count % 2 == 1 && i == half {
-                Branch::Unpaired
-            } else {
-                Branch::Upper((i + 1 - (count - half)) as u32)
-            }
-        })
-        .collect()
-}
-
-/// Label the levels of one exact sector of Landau index `n` (see the module docs). `levels`
-/// holds every level of the sector, in any order; Klein-Gordon levels (`branch` = ±1) are
-/// numbered away from the gap within their own sign.
-pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
-    let all: Vec<usize> = (0..levels.len()).collect();
-    label_group(levels, &all, n, family);
-}
-
-/// [`label_exact_sector`] for the levels at indices `group` of `levels`.
-fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: usize) {
-    let kg = group.iter().any(|&i| levels[i].branch.sign() != 0);
-    if kg {
-        for sign in [1i8, -1] {
-            let mut idx: Vec<usize> = group
-                .iter()
-                .copied()
-                .filter(|&i| levels[i].branch.sign() == sign)
-                .collect();
-            // away from the gap: ascending for +, descending for -
-            idx.sort_by(|&a, &b| {
-                let o = levels[a].energy.total_cmp(&levels[b].energy);
-                if sign > 0 {
-                    o
-                } else {
-                    o.reverse()
-                }
-            });
-            for (k, i) in idx.into_iter().enumerate() {
-                let k = k as u32 + 1;
-                levels[i].label = LandauLabel {
-                    n,
-                    branch: if sign > 0 {
-                        Branch::Upper(k)
-                    } else {
-                        Branch::Lower(k)
-                    },
-                    origin: LabelOrigin::ExactSector,
-                    family,
-                };
-            }
-        }
-        return;
-    }
-    let mut idx: Vec<usize> = group.to_vec();
-    idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
-    for (i, b) in idx.into_iter().zip(branches(group.len())) {
-        levels[i].label = LandauLabel {
-            n,
-            branch: b,
-            origin: LabelOrigin::ExactSector,
-            family,
-        };
-    }
-}
-
-/// Relabel the exact sectors of `spectrum` by the sector families of the model at a generic
-/// kz: where kz = 0 splits a class that any other kz joins (the 3+1 Dirac equation: kz alpha_z
-/// couples the two 2x2 blocks), the sectors with the same J of the joined class are labelled
-/// together, so the labels do not depend on kz (nu = 0 of the 3+1 Dirac equation then has a
-/// level on each side of the gap at every kz). `generic` is the model assembled at a kz where
-/// no coupling vanishes by accident.
-pub fn join_kz_families(generic: &LadderHamiltonian, spectrum: &mut Spectrum) {
-    let g = Symmetry::detect(generic);
-    if !g.is_exact() || g.classes.len() >= spectrum.symmetry.classes.len() {
-        return;
-    }
-    let mut class_of = vec![(0usize, 0i64); generic.dim];
-    for (ci, c) in g.classes.iter().enumerate() {
-        for (&a, &s) in c.components.iter().zip(&c.shifts) {
-            class_of[a] = (ci, s);
-        }
-    }
-    // actual class -> (generic class, offset of J)
-    let map: Vec<Option<(usize, i64)>> = spectrum
-        .symmetry
-        .classes
-        .iter()
-        .map(|c| {
-            c.conservation.is_exact().then(|| {
-                let (gc, gs) = class_of[c.components[0]];
-                (gc, gs - c.shifts[0])
-            })
-        })
-        .collect();
-    let mut groups: BTreeMap<(usize, i64), Vec<usize>> = BTreeMap::new();
-    for (i, l) in spectrum.levels.iter().enumerate() {
-        if let Some((gc, off)) = map[l.sector.class] {
-            groups
-                .entry((gc, l.sector.label + off))
-                .or_default()
-                .push(i);
-        }
-    }
-    for ((gc, j), idx) in groups {
-        let family = g.classes[gc].components[0];
-        label_group(&mut spectrum.levels, &idx, j, family);
-    }
-}
 
 /// The symmetric part H_0 of `h` (see the module docs): every operator entry whose orbital
 /// shift is consistent with shifts chosen greedily, strongest coupling first (strength: the
@@ -355,6 +201,8 @@ fn next_step(step: f64, worst: f64) -> f64 {
     (step * factor).min(1.0 / CONTINUATION_STEPS as f64)
 }
 
+/// Follow the labels of H_0's eigenvectors along H(t) = H_0 + t V, t = 0 .. 1, over one sector
+/// (`states`), with steps chosen from the worst genuine overlap loss (see the module docs).
 fn follow(
     h: &LadderHamiltonian,
     h0: &LadderHamiltonian,
@@ -363,36 +211,8 @@ fn follow(
     shift_of: &[(usize, i64)],
     top_from: usize,
 ) -> Result<Followed> {
-    let s = states.len();
-    // t = 0: exact sub-sectors of H_0 inside this sector
-    let mut groups: BTreeMap<(usize, i64), Vec<usize>> = BTreeMap::new();
-    for (i, &(n, a)) in states.iter().enumerate() {
-        let (c, sh) = shift_of[a];
-        groups.entry((c, n as i64 + sh)).or_default().push(i);
-    }
-    let mut vecs = DMatrix::<Complex64>::zeros(s, s);
-    let mut labels = Vec::with_capacity(s);
-    let mut col = 0;
-    let mut values = Vec::with_capacity(s);
     let (m0, v) = sector_matrices(h, h0, states);
-    for ((family, j), idx) in groups {
-        let sub = DMatrix::from_fn(idx.len(), idx.len(), |r, c| m0[(idx[r], idx[c])]);
-        let e = dense::eigh(&sub, Vectors::Compute)?;
-        let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
-        for (k, b) in branches(idx.len()).into_iter().enumerate() {
-            for (r, &i) in idx.iter().enumerate() {
-                vecs[(i, col)] = v[(r, k)];
-            }
-            labels.push(LandauLabel {
-                n: j,
-                branch: b,
-                origin: LabelOrigin::Continuation,
-                family,
-            });
-            values.push(e.values[k]);
-            col += 1;
-        }
-    }
+    let (mut vecs, mut labels, mut values) = start_basis(&m0, states, shift_of)?;
     let mut t = 0.0;
     let mut step = 1.0 / CONTINUATION_STEPS as f64;
     let mut halvings = 0;
@@ -430,8 +250,57 @@ fn follow(
     let mut top: Vec<f64> = (0..vecs.ncols())
         .map(|j| top_weight(&vecs, j, states, top_from))
         .collect();
-    // inside a cluster of equal values the overlaps cannot tell degenerate levels apart: a
-    // label from deep inside the basis goes to the vector deep inside it (top weight order)
+    order_degenerate_clusters(&values, &mut labels, &mut top);
+    Ok(values
+        .into_iter()
+        .zip(labels)
+        .zip(top)
+        .map(|((e, l), t)| (e, l, t))
+        .collect())
+}
+
+/// The start of the path, t = 0: the eigenvectors of H_0 on its exact sub-sectors inside this
+/// sector (as columns over `states`), their exact labels and their eigenvalues.
+#[allow(clippy::type_complexity)]
+fn start_basis(
+    m0: &DMatrix<Complex64>,
+    states: &[(usize, usize)],
+    shift_of: &[(usize, i64)],
+) -> Result<(DMatrix<Complex64>, Vec<LandauLabel>, Vec<f64>)> {
+    let s = states.len();
+    let mut groups: BTreeMap<(usize, i64), Vec<usize>> = BTreeMap::new();
+    for (i, &(n, a)) in states.iter().enumerate() {
+        let (c, sh) = shift_of[a];
+        groups.entry((c, n as i64 + sh)).or_default().push(i);
+    }
+    let mut vecs = DMatrix::<Complex64>::zeros(s, s);
+    let mut labels = Vec::with_capacity(s);
+    let mut col = 0;
+    let mut values = Vec::with_capacity(s);
+    for ((family, j), idx) in groups {
+        let sub = DMatrix::from_fn(idx.len(), idx.len(), |r, c| m0[(idx[r], idx[c])]);
+        let e = dense::eigh(&sub, Vectors::Compute)?;
+        let v = e.vectors.unwrap_or_else(|| DMatrix::zeros(0, 0));
+        for (k, b) in branches(idx.len()).into_iter().enumerate() {
+            for (r, &i) in idx.iter().enumerate() {
+                vecs[(i, col)] = v[(r, k)];
+            }
+            labels.push(LandauLabel {
+                n: j,
+                branch: b,
+                origin: LabelOrigin::Continuation,
+                family,
+            });
+            values.push(e.values[k]);
+            col += 1;
+        }
+    }
+    Ok((vecs, labels, values))
+}
+
+/// Inside a cluster of equal `values` the overlaps cannot tell degenerate levels apart: a label
+/// from deep inside the basis goes to the vector deep inside it (top weight order).
+fn order_degenerate_clusters(values: &[f64], labels: &mut [LandauLabel], top: &mut [f64]) {
     let scale = values
         .iter()
         .fold(0.0f64, |m, v| m.max(v.abs()))
@@ -455,12 +324,6 @@ fn follow(
         }
         start = end;
     }
-    Ok(values
-        .into_iter()
-        .zip(labels)
-        .zip(top)
-        .map(|((e, l), t)| (e, l, t))
-        .collect())
 }
 
 /// Largest first-order mixing amplitude |dt <i|V|j> / (E_j - E_i)| that the predictor uses:
@@ -609,8 +472,6 @@ fn assign(
     form: SpectrumForm,
     same_cutoff: bool,
 ) {
-    let reference = spectrum.reference_energy;
-    let scale = spectrum.energy_scale;
     for sign in [0i8, 1, -1] {
         let mine: Vec<usize> = members
             .iter()
@@ -620,81 +481,94 @@ fn assign(
         if mine.is_empty() {
             continue;
         }
-        // energies of the followed values as levels of this branch
-        let cand: Vec<(f64, LandauLabel, f64)> = followed
-            .iter()
-            .map(|&(lam, lab, top)| match form {
-                SpectrumForm::Direct => (lam, lab, top),
-                SpectrumForm::KleinGordon { rest_energy } => {
-                    let e = crate::levels::kg_energy(
-                        lam,
-                        rest_energy,
-                        Root::from_sign(sign),
-                        reference,
-                    );
-                    let k = match lab.branch {
-                        Branch::Upper(k) | Branch::Lower(k) => k,
-                        Branch::Unpaired => 1,
-                    };
-                    let branch = if sign > 0 {
-                        Branch::Upper(k)
-                    } else {
-                        Branch::Lower(k)
-                    };
-                    (e, LandauLabel { branch, ..lab }, top)
-                }
-            })
-            .collect();
+        let cand = as_levels(followed, form, sign, spectrum.reference_energy);
         if same_cutoff && cand.len() == mine.len() {
-            let mut c = cand.clone();
-            c.sort_by(|a, b| a.0.total_cmp(&b.0));
-            let mut mine = mine.clone();
-            mine.sort_by(|&a, &b| {
-                let (la, lb) = (&spectrum.levels[a], &spectrum.levels[b]);
-                la.energy.total_cmp(&lb.energy)
-            });
-            // within a cluster of (nearly) equal energies the rank is not an identity: pair
-            // by the weight on the top orbitals instead (a cutoff artefact has weight there)
-            let mut start = 0;
-            while start < c.len() {
-                let mut end = start + 1;
-                while end < c.len() {
-                    let l = &spectrum.levels[mine[end]];
-                    let tol = l.bound + 1e-9 * l.energy.abs().max(scale);
-                    if c[end].0 - c[end - 1].0 > tol {
-                        break;
-                    }
-                    end += 1;
-                }
-                let mut ci: Vec<usize> = (start..end).collect();
-                ci.sort_by(|&a, &b| c[a].2.total_cmp(&c[b].2));
-                let mut li: Vec<usize> = mine[start..end].to_vec();
-                li.sort_by(|&a, &b| {
-                    let (la, lb) = (&spectrum.levels[a], &spectrum.levels[b]);
-                    la.top_weight.total_cmp(&lb.top_weight)
-                });
-                for (k, i) in ci.into_iter().zip(li) {
-                    spectrum.levels[i].label = c[k].1;
-                }
-                start = end;
-            }
-            continue;
+            assign_by_rank(spectrum, mine, cand);
+        } else {
+            assign_by_energy(spectrum, &mine, &cand);
         }
-        let mut used = vec![false; cand.len()];
-        for &i in &mine {
-            let l = spectrum.levels[i];
-            let tol = l.bound + 1e-6 * l.energy.abs().max(scale);
-            let best = cand
-                .iter()
-                .enumerate()
-                .filter(|(k, _)| !used[*k])
-                .map(|(k, c)| (k, (c.0 - l.energy).abs()))
-                .min_by(|a, b| a.1.total_cmp(&b.1));
-            if let Some((k, dist)) = best {
-                if dist <= tol {
-                    used[k] = true;
-                    spectrum.levels[i].label = cand[k].1;
-                }
+    }
+}
+
+/// The followed values as energies of levels of the branch `sign` (for the Klein-Gordon form:
+/// the root of that sign, with the branch relabelled to that side).
+fn as_levels(followed: &Followed, form: SpectrumForm, sign: i8, reference: f64) -> Followed {
+    followed
+        .iter()
+        .map(|&(lam, lab, top)| match form {
+            SpectrumForm::Direct => (lam, lab, top),
+            SpectrumForm::KleinGordon { rest_energy } => {
+                let e =
+                    crate::levels::kg_energy(lam, rest_energy, Root::from_sign(sign), reference);
+                let k = match lab.branch {
+                    Branch::Upper(k) | Branch::Lower(k) => k,
+                    Branch::Unpaired => 1,
+                };
+                let branch = if sign > 0 {
+                    Branch::Upper(k)
+                } else {
+                    Branch::Lower(k)
+                };
+                (e, LandauLabel { branch, ..lab }, top)
+            }
+        })
+        .collect()
+}
+
+/// Pair the levels `mine` with the candidates `cand` (as many) by rank in energy; within a
+/// cluster of (nearly) equal energies by the weight on the top orbitals instead.
+fn assign_by_rank(spectrum: &mut Spectrum, mut mine: Vec<usize>, mut c: Followed) {
+    let scale = spectrum.energy_scale;
+    c.sort_by(|a, b| a.0.total_cmp(&b.0));
+    mine.sort_by(|&a, &b| {
+        let (la, lb) = (&spectrum.levels[a], &spectrum.levels[b]);
+        la.energy.total_cmp(&lb.energy)
+    });
+    // within a cluster of (nearly) equal energies the rank is not an identity: pair
+    // by the weight on the top orbitals instead (a cutoff artefact has weight there)
+    let mut start = 0;
+    while start < c.len() {
+        let mut end = start + 1;
+        while end < c.len() {
+            let l = &spectrum.levels[mine[end]];
+            let tol = l.bound + 1e-9 * l.energy.abs().max(scale);
+            if c[end].0 - c[end - 1].0 > tol {
+                break;
+            }
+            end += 1;
+        }
+        let mut ci: Vec<usize> = (start..end).collect();
+        ci.sort_by(|&a, &b| c[a].2.total_cmp(&c[b].2));
+        let mut li: Vec<usize> = mine[start..end].to_vec();
+        li.sort_by(|&a, &b| {
+            let (la, lb) = (&spectrum.levels[a], &spectrum.levels[b]);
+            la.top_weight.total_cmp(&lb.top_weight)
+        });
+        for (k, i) in ci.into_iter().zip(li) {
+            spectrum.levels[i].label = c[k].1;
+        }
+        start = end;
+    }
+}
+
+/// Give each level of `mine` the label of the nearest unused candidate within the level's
+/// bound plus 1e-6 of the energy scale; a level with none keeps its label.
+fn assign_by_energy(spectrum: &mut Spectrum, mine: &[usize], cand: &Followed) {
+    let scale = spectrum.energy_scale;
+    let mut used = vec![false; cand.len()];
+    for &i in mine {
+        let l = spectrum.levels[i];
+        let tol = l.bound + 1e-6 * l.energy.abs().max(scale);
+        let best = cand
+            .iter()
+            .enumerate()
+            .filter(|(k, _)| !used[*k])
+            .map(|(k, c)| (k, (c.0 - l.energy).abs()))
+            .min_by(|a, b| a.1.total_cmp(&b.1));
+        if let Some((k, dist)) = best {
+            if dist <= tol {
+                used[k] = true;
+                spectrum.levels[i].label = cand[k].1;
             }
         }
     }
