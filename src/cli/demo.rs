@@ -79,7 +79,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         cutoff,
         memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
     };
-    let s = super::levels::compute(&lm, &r)?;
+    let s = super::levels::solve(&common::set_up(&lm, None, r.point(), &r.settings())?)?;
     let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
     let sweep_args = SweepArgs {
         points: Some(80),

@@ -170,7 +170,13 @@ fn parse_case(text: &str, i: usize) -> CliResult<(String, String)> {
 /// is [`CliError::Verification`] (exit 1) after the report has been printed.
 pub fn run(args: &VerifyArgs) -> CliResult {
     let lm = load_model(&args.model)?;
-    let r = common::resolve(&lm, &args.solve, common::default_field(&lm.model))?;
+    // the one set-up of this run (memory checked), solved below once the expected list is read
+    let (r, problem) = common::resolve_problem(
+        &lm,
+        &args.solve,
+        common::default_field(&lm.model),
+        common::Resolved::settings,
+    )?;
     let point = r.point();
     let origin = if args.relative {
         Reference::Model
@@ -246,7 +252,7 @@ pub fn run(args: &VerifyArgs) -> CliResult {
     if let Some(w) = &args.window {
         list = list.with_window(parse_window(w)?);
     }
-    let spectrum = common::finite_spectrum(Spectrum::compute(&lm.model, point, &r.settings())?)?;
+    let spectrum = super::levels::solve(&problem)?;
     let settings = VerifySettings {
         tolerance: common::finite_flag("--tolerance", args.tolerance)?,
         scale: match args.energy_scale {

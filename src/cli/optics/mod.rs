@@ -120,37 +120,31 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         .copied()
         .max_by(|x, y| x.abs().total_cmp(&y.abs()))
         .unwrap_or(r.field);
+    let mut settings = Settings::with_cutoff(cutoff);
+    settings.memory_limit_mib = mem;
+    // the one set-up at the highest field: it sizes the memory check of the whole run and its
+    // solve (the typical Landau spacing there) sets the default width and window
+    let top_point = FieldPoint {
+        field: top,
+        kz: r.kz,
+    };
+    let probe = common::set_up(&lm, a.solve.trunc.cutoff, top_point, &settings)?;
     // eigenvectors and velocity elements of every field are kept (src/memory.rs)
-    common::check_memory(
+    common::check_footprint(
         &lm,
+        &probe,
         "optics",
         if values.len() > 1 {
             "--points"
         } else {
             "--cutoff"
         },
-        FieldPoint {
-            field: top,
-            kz: r.kz,
-        },
-        cutoff,
-        mem,
         &ladderfan::memory::Footprint::Optics {
             points: values.len() as u64,
         },
         None,
     )?;
-    let mut settings = Settings::with_cutoff(cutoff);
-    settings.memory_limit_mib = mem;
-    // the typical Landau spacing at the highest field sets the default width and window
-    let probe = Spectrum::compute(
-        &lm.model,
-        FieldPoint {
-            field: top,
-            kz: r.kz,
-        },
-        &settings,
-    )?;
+    let probe = Spectrum::solve(&probe)?;
     let broadening = a.fermi.broadening(probe.energy_scale)?;
     let max_energy = common::finite_flag(
         "--max-energy",
