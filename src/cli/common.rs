@@ -566,6 +566,16 @@ pub enum Grid {
     Log,
 }
 
+impl Grid {
+    /// The library's spacing of this grid.
+    pub fn spacing(self) -> ladderfan::sweep::Spacing {
+        match self {
+            Grid::Linear => ladderfan::sweep::Spacing::Linear,
+            Grid::Log => ladderfan::sweep::Spacing::Log,
+        }
+    }
+}
+
 /// `points` values from `from` to `to` on `grid`.
 pub fn grid_values(
     flag: &str,
@@ -592,10 +602,7 @@ pub fn grid_values(
             ),
         ));
     }
-    let spacing = match grid {
-        Grid::Linear => ladderfan::sweep::Spacing::Linear,
-        Grid::Log => ladderfan::sweep::Spacing::Log,
-    };
+    let spacing = grid.spacing();
     if grid == Grid::Log && (from == 0.0 || to == 0.0 || from.signum() != to.signum()) {
         return Err(bad_flag(
             "--grid",

@@ -5,8 +5,8 @@
 use super::common::{self, CliResult, LoadedModel};
 use super::sweep::{self, Plan, SweepArgs, Swept};
 use clap::Args;
+use ladderfan::records::DemoJson;
 use ladderfan::{modelfile, FieldPoint};
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// The demo's model file. Every number is INVENTED for the demonstration; it describes no
@@ -45,21 +45,6 @@ impl Default for DemoArgs {
             json: false,
         }
     }
-}
-
-/// The JSON result of the demo.
-#[derive(Debug, Serialize)]
-pub struct DemoJson {
-    /// Always `demo`.
-    pub command: &'static str,
-    /// Levels at the demo field.
-    pub levels: ladderfan::records::SpectrumRecord,
-    /// The fan sweep.
-    pub fan: sweep::SweepJson,
-    /// Closed-form check at the demo field (the fan's own check is in `fan`).
-    pub closed_form_check: Option<ladderfan::verify::ClosedFormCheck>,
-    /// Files written.
-    pub files: Vec<String>,
 }
 
 /// Run the demo.

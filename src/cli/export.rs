@@ -8,10 +8,10 @@ use super::common::{
 use clap::Args;
 use ladderfan::mtx;
 use ladderfan::problem::Problem;
+use ladderfan::records::ExportJson;
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::sectors::{Conservation, SectorId, SectorPlan};
 use num_complex::Complex64;
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// Flags of `ladderfan export`.
@@ -30,33 +30,6 @@ pub struct ExportArgs {
     /// Directory for the .mtx file (default: the current directory).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
-}
-
-/// Description of the written file.
-#[derive(Debug, Serialize)]
-pub struct ExportJson {
-    /// Always `export`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Cutoff.
-    pub cutoff: usize,
-    /// Sector exported, or null for the whole matrix.
-    pub sector: Option<String>,
-    /// File written.
-    pub file: String,
-    /// Matrix size.
-    pub rows: usize,
-    /// Stored entries (lower triangle).
-    pub entries: usize,
-    /// Basis state (orbital n, component) of every row, in order.
-    pub states: Vec<(usize, usize)>,
 }
 
 fn parse_sector(s: &str) -> CliResult<SectorId> {

@@ -7,13 +7,13 @@ use super::common::{
     ModelArgs, SolveArgs,
 };
 use clap::Args;
+use ladderfan::records::VerifyJson;
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::verify::{
     self, Agreement, EnergyScale, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
     Window,
 };
 use ladderfan::{Error, Reference, Spectrum};
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// Flags of `ladderfan verify`.
@@ -98,31 +98,6 @@ pub struct VerifyArgs {
     /// Print a machine-readable JSON result on stdout instead of the table.
     #[arg(long)]
     pub json: bool,
-}
-
-/// The JSON result of `verify`.
-#[derive(Debug, Serialize)]
-pub struct VerifyJson {
-    /// Always `verify`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Orbital cutoff.
-    pub cutoff: usize,
-    /// What the expected levels came from.
-    pub expected_source: String,
-    /// Number of expected levels (before multiplicities).
-    pub expected_levels: usize,
-    /// The one-line verdict.
-    pub verdict_line: String,
-    /// Everything the check found (energies relative to `verdict.reference_energy`).
-    pub verdict: Verdict,
 }
 
 fn parse_window(text: &str) -> CliResult<Window> {

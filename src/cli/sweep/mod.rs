@@ -10,10 +10,10 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
+pub use ladderfan::records::{SweepJson, Swept};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
 use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
-use serde::Serialize;
 
 mod render;
 pub use render::{csv, summary, svg};
@@ -48,16 +48,6 @@ pub struct SweepArgs {
     /// exactly the single-run table.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
-}
-
-/// What is swept.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Swept {
-    /// The magnetic field.
-    Field,
-    /// kz.
-    Kz,
 }
 
 /// Solve at every point, in parallel over points; the result order is the point order, and
@@ -188,41 +178,6 @@ pub fn closed_form_curves(
             .filter(|c| c.iter().any(|&(_, e)| e >= lo && e <= hi))
             .collect(),
     )
-}
-
-/// Everything a sweep produced.
-#[derive(Debug, Serialize)]
-pub struct SweepJson {
-    /// `fan` or `dispersion`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// Which quantity is swept.
-    pub swept: Swept,
-    /// Grid spacing.
-    pub grid: common::Grid,
-    /// The swept values.
-    pub values: Vec<f64>,
-    /// The fixed field (dispersion) or null.
-    pub field: Option<f64>,
-    /// The fixed kz (fan) or null.
-    pub kz: Option<f64>,
-    /// Orbital cutoff.
-    pub cutoff: usize,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// Symmetry found at the reference point.
-    pub symmetry: SymmetryRecord,
-    /// Energy window of the listed tracks.
-    pub window: (f64, f64),
-    /// Index of the point that set the tracks' component and the default window.
-    pub reference_point: usize,
-    /// Comparison with the model's closed form over every point, when it has one.
-    pub closed_form: Option<verify::ClosedFormCheck>,
-    /// The tracked levels entering the window.
-    pub tracks: Vec<TrackRecord>,
 }
 
 /// A sweep to run: the swept values and the field points they map to.
@@ -375,7 +330,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
         swept: plan.swept,
-        grid: a.grid,
+        grid: a.grid.spacing(),
         values: plan.values.clone(),
         field: match plan.swept {
             Swept::Kz => Some(plan.points[0].field),

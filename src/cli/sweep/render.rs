@@ -22,8 +22,8 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                 j.cutoff,
                 j.values.len(),
                 match j.grid {
-                    common::Grid::Linear => "linear",
-                    common::Grid::Log => "log",
+                    ladderfan::sweep::Spacing::Linear => "linear",
+                    ladderfan::sweep::Spacing::Log => "log",
                 }
             ),
             format!(
