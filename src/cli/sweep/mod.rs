@@ -262,13 +262,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
-    let shard = match &a.shard {
-        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
-            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
-            e => e.into(),
-        })?),
-        None => None,
-    };
+    let shard = parse_shard(a)?;
 
     let total = plan.points.len();
     let block = match shard {
@@ -325,7 +319,37 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     );
     let all: Vec<&Spectrum> = spectra.iter().collect();
     let check = verify::closed_form_check(&lm.model, &all, win);
-    let json = SweepJson {
+    let json = sweep_json(lm, plan, a, reference, win, check, tracks);
+    Ok(Outcome {
+        json,
+        closed,
+        shard: shard_header,
+    })
+}
+
+/// The `--shard I/K` flag, if given.
+fn parse_shard(a: &SweepArgs) -> CliResult<Option<Shard>> {
+    Ok(match &a.shard {
+        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
+            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
+            e => e.into(),
+        })?),
+        None => None,
+    })
+}
+
+/// The sweep's result record: the plan, the reference point's energy and symmetry, the
+/// window, the closed-form check and the tracks.
+fn sweep_json(
+    lm: &LoadedModel,
+    plan: &Plan,
+    a: &SweepArgs,
+    reference: &Spectrum,
+    win: (f64, f64),
+    check: Option<verify::ClosedFormCheck>,
+    tracks: Vec<TrackRecord>,
+) -> SweepJson {
+    SweepJson {
         command: plan.command,
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
@@ -347,12 +371,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         reference_point: plan.reference_point,
         closed_form: check,
         tracks,
-    };
-    Ok(Outcome {
-        json,
-        closed,
-        shard: shard_header,
-    })
+    }
 }
 
 /// Refuse flags that cannot go together with `--shard`, before any work: a shard writes its
