@@ -157,7 +157,6 @@ impl LadderHamiltonian {
     /// [`Error::ZeroField`] for a zero or non-finite field; [`Error::BadNumber`] for a
     /// non-finite kz or reference energy.
     pub fn assemble(model: &Model, point: FieldPoint, reference_energy: f64) -> Result<Self> {
-        #[cfg(test)]
         assembly_count::record(model.name(), point);
         point.validate()?;
         if !reference_energy.is_finite() {
@@ -511,12 +510,45 @@ pub fn for_each_outside(
     }
 }
 
-/// Test-only count of assemblies per (model name, B, kz), so that a test can check that one
-/// solve assembles its Hamiltonian once ([`crate::problem`]). Keyed by the model's name so that
-/// tests running in parallel on other models do not disturb each other.
-#[cfg(test)]
-pub(crate) mod assembly_count {
-    use super::FieldPoint;
+/// Diagnostic: how many times a model named `model_name` was assembled
+/// ([`LadderHamiltonian::assemble`]) at exactly `point` (the same bits of B and kz) in this
+/// process so far. It lets a test check that one command or one solve sets up its Hamiltonian
+/// once ([`crate::problem`]); keyed by the model's name so that work on other models running at
+/// the same time does not disturb the count.
+///
+/// # Cost and limit
+/// One lock and one map update per assembly (negligible beside the O(terms x d^2) assembly).
+/// At most [`ASSEMBLY_COUNT_KEYS`] distinct (name, B, kz) keys are kept; assemblies at further
+/// keys are not counted, so that a long-lived process does not grow without bound.
+///
+/// # Examples
+/// ```
+/// use ladderfan::{hamiltonian, models, FieldPoint, Settings, Spectrum};
+/// let model = models::schrodinger(models::MassParams { mass_ratio: 1.0, charge: -1.0 })?;
+/// let point = FieldPoint::field(1.25);
+/// let before = hamiltonian::assemblies(model.name(), point);
+/// Spectrum::compute(&model, point, &Settings::with_cutoff(20))?;
+/// // one assembly at the point; the label families of a split solve are assembled once more
+/// // at a generic kz, which is another point
+/// assert_eq!(hamiltonian::assemblies(model.name(), point), before + 1);
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn assemblies(model_name: &str, point: FieldPoint) -> usize {
+    assembly_count::count(model_name, point)
+}
+
+/// Diagnostic: assemblies of a model named `model_name` at any point so far (see
+/// [`assemblies`]).
+pub fn assemblies_of(model_name: &str) -> usize {
+    assembly_count::total(model_name)
+}
+
+/// The most distinct (model name, B, kz) keys [`assemblies`] keeps.
+pub const ASSEMBLY_COUNT_KEYS: usize = 1 << 16;
+
+/// The store behind [`assemblies`]: counts per (model name, B, kz).
+mod assembly_count {
+    use super::{FieldPoint, ASSEMBLY_COUNT_KEYS};
     use std::collections::BTreeMap;
     use std::sync::Mutex;
 
@@ -527,14 +559,19 @@ pub(crate) mod assembly_count {
     }
 
     /// Count one assembly of `name` at `point`.
-    pub(crate) fn record(name: &str, point: FieldPoint) {
+    pub(super) fn record(name: &str, point: FieldPoint) {
         if let Ok(mut m) = COUNTS.lock() {
-            *m.entry(key(name, point)).or_default() += 1;
+            let k = key(name, point);
+            if let Some(c) = m.get_mut(&k) {
+                *c += 1;
+            } else if m.len() < ASSEMBLY_COUNT_KEYS {
+                m.insert(k, 1);
+            }
         }
     }
 
     /// Assemblies of `name` at `point` so far.
-    pub(crate) fn count(name: &str, point: FieldPoint) -> usize {
+    pub(super) fn count(name: &str, point: FieldPoint) -> usize {
         COUNTS
             .lock()
             .map(|m| m.get(&key(name, point)).copied().unwrap_or(0))
@@ -542,7 +579,7 @@ pub(crate) mod assembly_count {
     }
 
     /// Assemblies of `name` at any point so far.
-    pub(crate) fn total(name: &str) -> usize {
+    pub(super) fn total(name: &str) -> usize {
         COUNTS
             .lock()
             .map(|m| {

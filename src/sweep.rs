@@ -111,8 +111,8 @@ pub fn run_with(
 #[cfg(test)]
 mod set_up_tests {
     use crate::error::Error;
-    use crate::hamiltonian::assembly_count;
     use crate::hamiltonian::FieldPoint;
+    use crate::hamiltonian::{assemblies, assemblies_of};
     use crate::levels::Spectrum;
     use crate::matrix::{identity, pauli};
     use crate::model::Model;
@@ -183,17 +183,17 @@ mod set_up_tests {
         let spec = Spectrum::compute(&model, point, &Settings::with_cutoff(30))
             .unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(spec.levels.len(), 60);
-        assert_eq!(assembly_count::count(model.name(), point), 1);
+        assert_eq!(assemblies(model.name(), point), 1);
         // the label families are read at a generic kz (src/labelling/): one more assembly,
         // at another point, and none besides
-        assert_eq!(assembly_count::total(model.name()), 2);
+        assert_eq!(assemblies_of(model.name()), 2);
         // set up, checked and solved by hand: still one assembly at the point
         let p = Problem::new(&model, point, &Settings::with_cutoff(40))
             .unwrap_or_else(|e| panic!("{e}"));
         p.check_memory().unwrap_or_else(|e| panic!("{e}"));
         let spec = Spectrum::solve(&p).unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(spec.levels.len(), 80);
-        assert_eq!(assembly_count::count(model.name(), point), 2);
+        assert_eq!(assemblies(model.name(), point), 2);
     }
 
     #[test]
@@ -211,7 +211,7 @@ mod set_up_tests {
         let spec = Spectrum::compute(&model, point, &Settings::with_cutoff(30))
             .unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(spec.levels.len(), 60);
-        assert_eq!(assembly_count::total(model.name()), 1);
+        assert_eq!(assemblies_of(model.name()), 1);
     }
 
     #[test]
@@ -226,10 +226,10 @@ mod set_up_tests {
         let out = crate::sweep::run(&model, &points, &settings).unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(out.len(), 3);
         for p in &points {
-            assert_eq!(assembly_count::count(model.name(), *p), 1, "{p:?}");
+            assert_eq!(assemblies(model.name(), *p), 1, "{p:?}");
         }
         // no splitting: no label-family probe either
-        assert_eq!(assembly_count::total(model.name()), 3);
+        assert_eq!(assemblies_of(model.name()), 3);
     }
 
     #[test]
@@ -254,12 +254,12 @@ mod set_up_tests {
         .unwrap_or_else(|e| panic!("{e}"));
         assert_eq!(s.cutoffs, vec![20, 30, 40]);
         // three solves at one (B, kz): the Hamiltonian does not depend on the cutoff
-        assert_eq!(assembly_count::count(model.name(), point), 1);
+        assert_eq!(assemblies(model.name(), point), 1);
         let mut a = AutoSettings::new(sel, 1e-6);
         a.base = base;
         a.start_cutoff = 20;
         let r = auto(&model, point, &a).unwrap_or_else(|e| panic!("{e}"));
         assert!(r.history.len() >= 2, "{:?}", r.history);
-        assert_eq!(assembly_count::count(model.name(), point), 2);
+        assert_eq!(assemblies(model.name(), point), 2);
     }
 }

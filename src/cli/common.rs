@@ -4,6 +4,7 @@
 
 use clap::{Args, ValueEnum};
 use ladderfan::modelfile::{self, FileDefaults, DEFAULT_CUTOFF, DEFAULT_MEMORY_LIMIT_MIB};
+use ladderfan::problem::Problem;
 use ladderfan::{Error, FieldPoint, Model, Settings, Spectrum};
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -343,24 +344,50 @@ pub fn finite_flag(flag: &str, v: f64) -> CliResult<f64> {
     }
 }
 
-/// Combine flags with the file's defaults (flags win), validate, and check the cutoff
-/// against the model's band and the memory limit of one solve at the real (B, kz)
-/// ([`ladderfan::problem::Problem::check_memory`], the check the solve itself makes).
-pub fn resolve(lm: &LoadedModel, a: &SolveArgs, default_field: f64) -> CliResult<Resolved> {
+/// Combine flags with the file's defaults (flags win), validate, and set up the ONE
+/// [`Problem`] of the command's solve at the real (B, kz) with `settings` (one assembly, one
+/// symmetry detection, see [`set_up`]); then check the memory of that one solve
+/// ([`Problem::check_memory`], the check the solve itself makes). The caller solves the
+/// returned problem with [`Spectrum::solve`]: no second set-up.
+pub fn resolve_problem<'m>(
+    lm: &'m LoadedModel,
+    a: &SolveArgs,
+    default_field: f64,
+    settings: impl FnOnce(&Resolved) -> Settings,
+) -> CliResult<(Resolved, Problem<'m>)> {
     let r = resolve_unchecked(lm, a, default_field)?;
-    ladderfan::problem::Problem::new(&lm.model, r.point(), &r.settings())
-        .and_then(|p| p.check_memory())
-        .map_err(|e| match e {
-            e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
-                bad_flag(&cutoff_location(lm, a.trunc.cutoff), e.to_string())
-            }
-            other => CliError::Input(other),
-        })?;
-    Ok(r)
+    let problem = set_up(lm, a.trunc.cutoff, r.point(), &settings(&r))?;
+    problem
+        .check_memory()
+        .map_err(|e| located_at_cutoff(lm, a.trunc.cutoff, e))?;
+    Ok((r, problem))
 }
 
-/// [`resolve`] without the memory check of one solve (for commands that do not solve, such as
-/// `export`, which check their own footprint); the cutoff must still exceed the model's band.
+/// The one [`Problem`] of a solve of `lm` at `point` with `settings`: validated, assembled
+/// once, sectors detected once. A cutoff or memory refusal is located at the cutoff in use
+/// (`flag`: the `--cutoff` flag's value, if given).
+pub fn set_up<'m>(
+    lm: &'m LoadedModel,
+    flag: Option<usize>,
+    point: FieldPoint,
+    settings: &Settings,
+) -> CliResult<Problem<'m>> {
+    Problem::new(&lm.model, point, settings).map_err(|e| located_at_cutoff(lm, flag, e))
+}
+
+/// A cutoff or memory refusal located at the cutoff in use; other errors unchanged.
+fn located_at_cutoff(lm: &LoadedModel, flag: Option<usize>, e: Error) -> CliError {
+    match e {
+        e @ (Error::CutoffTooSmall { .. } | Error::MemoryLimit { .. }) => {
+            bad_flag(&cutoff_location(lm, flag), e.to_string())
+        }
+        other => CliError::Input(other),
+    }
+}
+
+/// The resolved flags without a set-up (for commands that check their own footprint from the
+/// problem they build, or set up one problem per point); the cutoff must still exceed the
+/// model's band.
 pub fn resolve_unchecked(
     lm: &LoadedModel,
     a: &SolveArgs,
@@ -438,9 +465,9 @@ pub fn default_field(m: &Model) -> f64 {
     }
 }
 
-/// The memory check of a whole command (src/memory.rs): `footprint` at `cutoff` and `point`
-/// on `threads` workers (the pool's size when `None`); a refusal names `path` and is located at
-/// `flag`.
+/// The memory check of a whole command (src/memory.rs) whose solves are shaped like the one
+/// at `point` and `cutoff` (a sweep: each point sets up its own problem later): sets up that
+/// problem for the estimate and calls [`check_footprint`].
 #[allow(clippy::too_many_arguments)]
 pub fn check_memory(
     lm: &LoadedModel,
@@ -452,9 +479,27 @@ pub fn check_memory(
     footprint: &ladderfan::memory::Footprint,
     threads: Option<usize>,
 ) -> CliResult {
+    let mut settings = Settings::with_cutoff(cutoff);
+    settings.memory_limit_mib = limit_mib;
+    let problem = Problem::new(&lm.model, point, &settings)?;
+    check_footprint(lm, &problem, path, flag, footprint, threads)
+}
+
+/// The memory check of a whole command (src/memory.rs): `footprint` of solves shaped like
+/// `problem` (its cutoff, its memory limit) on `threads` workers (the pool's size when
+/// `None`); a refusal names `path` and is located at `flag`. A command that solves at one
+/// point passes the problem it then solves, so nothing is set up twice.
+pub fn check_footprint(
+    lm: &LoadedModel,
+    problem: &Problem<'_>,
+    path: &str,
+    flag: &str,
+    footprint: &ladderfan::memory::Footprint,
+    threads: Option<usize>,
+) -> CliResult {
     use ladderfan::memory::{self, Footprint};
-    let problem =
-        ladderfan::problem::Problem::new(&lm.model, point, &Settings::with_cutoff(cutoff))?;
+    let cutoff = problem.settings().cutoff;
+    let limit_mib = problem.settings().memory_limit_mib;
     let shape = *problem.shape();
     let threads = threads.unwrap_or_else(rayon::current_num_threads) as u64;
     let bytes = problem.estimate(footprint, threads);
@@ -521,6 +566,16 @@ pub enum Grid {
     Log,
 }
 
+impl Grid {
+    /// The library's spacing of this grid.
+    pub fn spacing(self) -> ladderfan::sweep::Spacing {
+        match self {
+            Grid::Linear => ladderfan::sweep::Spacing::Linear,
+            Grid::Log => ladderfan::sweep::Spacing::Log,
+        }
+    }
+}
+
 /// `points` values from `from` to `to` on `grid`.
 pub fn grid_values(
     flag: &str,
@@ -547,10 +602,7 @@ pub fn grid_values(
             ),
         ));
     }
-    let spacing = match grid {
-        Grid::Linear => ladderfan::sweep::Spacing::Linear,
-        Grid::Log => ladderfan::sweep::Spacing::Log,
-    };
+    let spacing = grid.spacing();
     if grid == Grid::Log && (from == 0.0 || to == 0.0 || from.signum() != to.signum()) {
         return Err(bad_flag(
             "--grid",

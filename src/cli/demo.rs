@@ -5,8 +5,8 @@
 use super::common::{self, CliResult, LoadedModel};
 use super::sweep::{self, Plan, SweepArgs, Swept};
 use clap::Args;
+use ladderfan::records::DemoJson;
 use ladderfan::{modelfile, FieldPoint};
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// The demo's model file. Every number is INVENTED for the demonstration; it describes no
@@ -47,19 +47,45 @@ impl Default for DemoArgs {
     }
 }
 
-/// The JSON result of the demo.
-#[derive(Debug, Serialize)]
-pub struct DemoJson {
-    /// Always `demo`.
-    pub command: &'static str,
-    /// Levels at the demo field.
-    pub levels: ladderfan::records::SpectrumRecord,
-    /// The fan sweep.
-    pub fan: sweep::SweepJson,
-    /// Closed-form check at the demo field (the fan's own check is in `fan`).
-    pub closed_form_check: Option<ladderfan::verify::ClosedFormCheck>,
-    /// Files written.
-    pub files: Vec<String>,
+/// The text result of the demo: the levels table, the fan's size, both closed-form checks
+/// (at the demo field and over the fan) and the files written.
+fn demo_text(
+    levels_table: &str,
+    fan: &sweep::SweepJson,
+    check: Option<&ladderfan::verify::ClosedFormCheck>,
+    written: &[String],
+) -> String {
+    let mut text = String::from(
+        "ladderfan demo: a hypothetical gapped Dirac film with INVENTED parameters\n\
+         (velocity 4.6e5 m/s, mass term 9 meV); see model.toml in the output directory.\n\n",
+    );
+    text.push_str(levels_table);
+    text.push_str(&format!(
+        "\nfan: {} fields from 0.25 to 10 T, {} levels tracked in [-80, 80] meV\n",
+        fan.values.len(),
+        fan.tracks.len()
+    ));
+    // closed form: E_n = ±sqrt(Delta^2 + 2 n hbar^2 v^2 / l_B^2), n = 0 at tau sign(qB) Delta
+    // (ladderfan::closed_form::dirac2d; McClure 1956 for Delta = 0)
+    for (what, c) in [
+        ("at 6 T", check),
+        ("over the fan", fan.closed_form.as_ref()),
+    ] {
+        match c {
+            Some(c) => text.push_str(&format!(
+                "closed-form check {what}: {} ({} computed and {} closed-form levels, max deviation {:.2e} meV)\n",
+                if c.passed { "passed" } else { "FAILED" },
+                c.computed_compared,
+                c.expected_compared,
+                c.max_deviation
+            )),
+            None => text.push_str(&format!("closed-form check {what}: not available\n")),
+        }
+    }
+    for w in written {
+        text.push_str(&format!("wrote {w}\n"));
+    }
+    text
 }
 
 /// Run the demo.
@@ -79,7 +105,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         cutoff,
         memory_limit_mib: modelfile::DEFAULT_MEMORY_LIMIT_MIB,
     };
-    let s = super::levels::compute(&lm, &r)?;
+    let s = super::levels::solve(&common::set_up(&lm, None, r.point(), &r.settings())?)?;
     let idx = common::nearest_levels(&s, 11, common::Shown::Converged);
     let sweep_args = SweepArgs {
         points: Some(80),
@@ -128,36 +154,12 @@ pub fn run(a: &DemoArgs) -> CliResult {
         sweep::verdict(closed_form_check.as_ref())?;
         return sweep::verdict(fan_check.as_ref());
     }
-    let mut text = String::from(
-        "ladderfan demo: a hypothetical gapped Dirac film with INVENTED parameters\n\
-         (velocity 4.6e5 m/s, mass term 9 meV); see model.toml in the output directory.\n\n",
+    let text = demo_text(
+        &super::levels::to_table(&lm, &s, &idx),
+        &o.json,
+        closed_form_check.as_ref(),
+        &written,
     );
-    text.push_str(&super::levels::to_table(&lm, &s, &idx));
-    text.push_str(&format!(
-        "\nfan: {} fields from 0.25 to 10 T, {} levels tracked in [-80, 80] meV\n",
-        o.json.values.len(),
-        o.json.tracks.len()
-    ));
-    // closed form: E_n = ±sqrt(Delta^2 + 2 n hbar^2 v^2 / l_B^2), n = 0 at tau sign(qB) Delta
-    // (ladderfan::closed_form::dirac2d; McClure 1956 for Delta = 0)
-    for (what, c) in [
-        ("at 6 T", &closed_form_check),
-        ("over the fan", &o.json.closed_form),
-    ] {
-        match c {
-            Some(c) => text.push_str(&format!(
-                "closed-form check {what}: {} ({} computed and {} closed-form levels, max deviation {:.2e} meV)\n",
-                if c.passed { "passed" } else { "FAILED" },
-                c.computed_compared,
-                c.expected_compared,
-                c.max_deviation
-            )),
-            None => text.push_str(&format!("closed-form check {what}: not available\n")),
-        }
-    }
-    for w in &written {
-        text.push_str(&format!("wrote {w}\n"));
-    }
     common::emit(&text)?;
     sweep::verdict(closed_form_check.as_ref())?;
     sweep::verdict(o.json.closed_form.as_ref())

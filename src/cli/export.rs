@@ -6,12 +6,12 @@ use super::common::{
     Resolved, SolveArgs,
 };
 use clap::Args;
-use ladderfan::hamiltonian::LadderHamiltonian;
 use ladderfan::mtx;
+use ladderfan::problem::Problem;
+use ladderfan::records::ExportJson;
 use ladderfan::records::{ModelRecord, UnitsRecord};
-use ladderfan::sectors::{Conservation, SectorId, SectorPlan, Symmetry};
+use ladderfan::sectors::{Conservation, SectorId, SectorPlan};
 use num_complex::Complex64;
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// Flags of `ladderfan export`.
@@ -30,33 +30,6 @@ pub struct ExportArgs {
     /// Directory for the .mtx file (default: the current directory).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
-}
-
-/// Description of the written file.
-#[derive(Debug, Serialize)]
-pub struct ExportJson {
-    /// Always `export`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Cutoff.
-    pub cutoff: usize,
-    /// Sector exported, or null for the whole matrix.
-    pub sector: Option<String>,
-    /// File written.
-    pub file: String,
-    /// Matrix size.
-    pub rows: usize,
-    /// Stored entries (lower triangle).
-    pub entries: usize,
-    /// Basis state (orbital n, component) of every row, in order.
-    pub states: Vec<(usize, usize)>,
 }
 
 fn parse_sector(s: &str) -> CliResult<SectorId> {
@@ -108,92 +81,98 @@ fn first_sectors(plan: &SectorPlan, count: usize) -> Vec<SectorId> {
     out
 }
 
-/// Run `ladderfan export`.
 /// The basis states (orbital n, component) of the exported rows and the half-bandwidth of the
 /// exported matrix, after the memory check: every state for the whole matrix, the sector's
 /// states in banded order for `--sector`.
 fn exported_states(
     a: &ExportArgs,
     lm: &LoadedModel,
-    r: &Resolved,
-    h: &LadderHamiltonian,
+    problem: &Problem<'_>,
 ) -> CliResult<(Vec<(usize, usize)>, usize)> {
-    let d = h.dim;
-    // half-bandwidth of the exported matrix in rows: orbital-major rows n d + alpha couple only
-    // within |m - n| <= band; a sector's rows are in banded order
-    let mut half_bandwidth = (h.band + 1) * d - 1;
-    let states: Vec<(usize, usize)> = match &a.sector {
-        None => {
-            let size = r.cutoff.saturating_mul(d);
-            common::check_memory(
-                lm,
-                "export",
-                "--cutoff",
-                r.point(),
-                r.cutoff,
-                r.memory_limit_mib,
-                &ladderfan::memory::Footprint::Export {
-                    entries: mtx::lower_entries_bound(h, r.cutoff),
-                    line_bytes: mtx::line_bytes(size as u64, h.is_real()),
-                },
-                None,
-            )?;
-            let mib = (size as u64).saturating_mul(size as u64) / (1 << 20);
-            // the text file holds at most (2 band + 1) d entries per row; refuse absurd sizes
-            let entries = size as u64 * ((2 * h.band + 1) * d) as u64;
-            if entries > 50_000_000 {
-                return Err(bad_flag(
-                    "--cutoff",
-                    format!(
-                        "the whole matrix ({size} rows, up to {entries} entries, ~{mib} MiB dense) is too large to export; lower the cutoff or pass --sector"
-                    ),
-                ));
-            }
-            (0..r.cutoff)
-                .flat_map(|n| (0..d).map(move |alpha| (n, alpha)))
-                .collect()
-        }
-        Some(spec) => {
-            let id = parse_sector(spec)?;
-            let plan = SectorPlan::new(Symmetry::detect(h), r.cutoff);
-            let shape = ladderfan::memory::SolveShape::new(&plan.symmetry, r.cutoff, 1);
-            half_bandwidth = plan
-                .half_bandwidth(id, h.band)
-                .min(shape.largest_sector as usize);
-            common::check_memory(
-                lm,
-                "export --sector",
-                "--cutoff",
-                r.point(),
-                r.cutoff,
-                r.memory_limit_mib,
-                &ladderfan::memory::Footprint::Export {
-                    entries: shape
-                        .largest_sector
-                        .saturating_mul((half_bandwidth + 1) as u64),
-                    line_bytes: mtx::line_bytes(shape.largest_sector, h.is_real()),
-                },
-                None,
-            )?;
-            if !sector_exists(&plan, id) {
-                let labels: Vec<String> = first_sectors(&plan, 8)
-                    .iter()
-                    .map(|s| format!("{}:{}", s.class, s.label))
-                    .collect();
-                return Err(bad_flag(
-                    "--sector",
-                    format!(
-                        "sector {spec} does not exist for this model and cutoff (symmetry: {}); sectors are {}, ...",
-                        plan.symmetry.describe(),
-                        labels.join(", "),
-                    ),
-                ));
-            }
-            let mut st = Vec::new();
-            plan.states(id, &mut st);
-            st
-        }
-    };
+    match &a.sector {
+        None => whole_matrix_states(lm, problem),
+        Some(spec) => sector_states(lm, problem, spec),
+    }
+}
+
+/// Every state of the whole matrix (orbital-major rows n d + alpha) and its half-bandwidth
+/// (band + 1) d - 1, after the memory check and the size limit of a text export.
+fn whole_matrix_states(
+    lm: &LoadedModel,
+    problem: &Problem<'_>,
+) -> CliResult<(Vec<(usize, usize)>, usize)> {
+    let h = problem.hamiltonian();
+    let (d, cutoff) = (h.dim, problem.settings().cutoff);
+    let size = cutoff.saturating_mul(d);
+    common::check_footprint(
+        lm,
+        problem,
+        "export",
+        "--cutoff",
+        &ladderfan::memory::Footprint::Export {
+            entries: mtx::lower_entries_bound(h, cutoff),
+            line_bytes: mtx::line_bytes(size as u64, h.is_real()),
+        },
+        None,
+    )?;
+    let mib = (size as u64).saturating_mul(size as u64) / (1 << 20);
+    // the text file holds at most (2 band + 1) d entries per row; refuse absurd sizes
+    let entries = size as u64 * ((2 * h.band + 1) * d) as u64;
+    if entries > 50_000_000 {
+        return Err(bad_flag(
+            "--cutoff",
+            format!(
+                "the whole matrix ({size} rows, up to {entries} entries, ~{mib} MiB dense) is too large to export; lower the cutoff or pass --sector"
+            ),
+        ));
+    }
+    let states = (0..cutoff)
+        .flat_map(|n| (0..d).map(move |alpha| (n, alpha)))
+        .collect();
+    Ok((states, (h.band + 1) * d - 1))
+}
+
+/// The states of sector `spec` in banded order and their half-bandwidth, after the memory
+/// check; the sectors are the problem's plan (detected once at set-up).
+fn sector_states(
+    lm: &LoadedModel,
+    problem: &Problem<'_>,
+    spec: &str,
+) -> CliResult<(Vec<(usize, usize)>, usize)> {
+    let id = parse_sector(spec)?;
+    let (h, plan, shape) = (problem.hamiltonian(), problem.plan(), problem.shape());
+    let half_bandwidth = plan
+        .half_bandwidth(id, h.band)
+        .min(shape.largest_sector as usize);
+    common::check_footprint(
+        lm,
+        problem,
+        "export --sector",
+        "--cutoff",
+        &ladderfan::memory::Footprint::Export {
+            entries: shape
+                .largest_sector
+                .saturating_mul((half_bandwidth + 1) as u64),
+            line_bytes: mtx::line_bytes(shape.largest_sector, h.is_real()),
+        },
+        None,
+    )?;
+    if !sector_exists(plan, id) {
+        let labels: Vec<String> = first_sectors(plan, 8)
+            .iter()
+            .map(|s| format!("{}:{}", s.class, s.label))
+            .collect();
+        return Err(bad_flag(
+            "--sector",
+            format!(
+                "sector {spec} does not exist for this model and cutoff (symmetry: {}); sectors are {}, ...",
+                plan.symmetry.describe(),
+                labels.join(", "),
+            ),
+        ));
+    }
+    let mut states = Vec::new();
+    plan.states(id, &mut states);
     Ok((states, half_bandwidth))
 }
 
@@ -272,8 +251,12 @@ fn check_round_trip(
 pub fn run(a: &ExportArgs) -> CliResult {
     let lm = load_model(&a.model)?;
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
-    let h = LadderHamiltonian::assemble(&lm.model, r.point(), 0.0)?;
-    let (states, half_bandwidth) = exported_states(a, &lm, &r, &h)?;
+    // the one set-up: absolute energies (no reference subtracted), sectors detected once
+    let mut settings = r.settings();
+    settings.reference = ladderfan::Reference::Zero;
+    let problem = common::set_up(&lm, a.solve.trunc.cutoff, r.point(), &settings)?;
+    let h = problem.hamiltonian();
+    let (states, half_bandwidth) = exported_states(a, &lm, &problem)?;
     let comments = comments(a, &lm, &r, &states);
     let element = |i: usize, j: usize| {
         let (m, al) = states[i];

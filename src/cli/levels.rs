@@ -2,11 +2,12 @@
 
 use super::common::{
     self, csv_header, csv_text, emit, emit_json, fmt_num, load_model, nearest_levels, CliResult,
-    LoadedModel, ModelArgs, OutputArgs, OutputFiles, Resolved, SolveArgs,
+    LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use clap::Args;
 use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
+use ladderfan::problem::Problem;
 use ladderfan::records::{count_state, level_records, warnings, SpectrumRecord};
 use ladderfan::Spectrum;
 
@@ -33,9 +34,10 @@ pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> SpectrumRecord 
     SpectrumRecord::new(&lm.model, &lm.origin, s, idx)
 }
 
-/// Compute the spectrum for resolved settings.
-pub fn compute(lm: &LoadedModel, r: &Resolved) -> CliResult<Spectrum> {
-    common::finite_spectrum(Spectrum::compute(&lm.model, r.point(), &r.settings())?)
+/// Solve the one set-up problem of a command (no second assembly), refusing a spectrum that
+/// overflowed ([`common::finite_spectrum`]).
+pub fn solve(problem: &Problem<'_>) -> CliResult<Spectrum> {
+    common::finite_spectrum(Spectrum::solve(problem)?)
 }
 
 /// The aligned text table with a header block.
@@ -201,19 +203,19 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
 pub fn run(a: &LevelsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
+    // the one set-up of this run: its footprint is checked, then it is solved
+    let problem = common::set_up(&lm, a.solve.trunc.cutoff, r.point(), &r.settings())?;
     // the listed levels cost memory too (`--count 0` lists all of them): src/memory.rs
     let files = if a.output.out.is_some() {
         ladderfan::memory::FILES_BYTES_PER_LEVEL
     } else {
         0
     };
-    common::check_memory(
+    common::check_footprint(
         &lm,
+        &problem,
         "levels",
         "--count",
-        r.point(),
-        r.cutoff,
-        r.memory_limit_mib,
         &ladderfan::memory::Footprint::Table {
             shown: if a.count == 0 {
                 u64::MAX
@@ -224,7 +226,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
         },
         None,
     )?;
-    let s = compute(&lm, &r)?;
+    let s = solve(&problem)?;
     let shown = if a.show_unconverged {
         common::Shown::All
     } else {

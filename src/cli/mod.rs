@@ -215,6 +215,9 @@ pub fn main_exit_code() -> i32 {
 }
 
 #[cfg(test)]
+mod one_setup_tests;
+
+#[cfg(test)]
 mod tests {
     use super::*;
 

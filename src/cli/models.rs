@@ -3,7 +3,7 @@
 use super::common::{self, emit, emit_json, CliResult};
 use clap::Args;
 use ladderfan::models::Origin;
-use serde::Serialize;
+use ladderfan::records::{ModelEntry, ParamJson};
 
 /// Flags of `ladderfan models`.
 #[derive(Debug, Clone, Args)]
@@ -45,36 +45,6 @@ pub fn to_csv(e: &[ModelEntry]) -> CliResult<String> {
         }
     }
     common::csv_text(&header, &rec)
-}
-
-/// One parameter in the listing.
-#[derive(Debug, Serialize)]
-pub struct ParamJson {
-    /// Name for `--set` and `[set]`.
-    pub name: &'static str,
-    /// Default value.
-    pub default: f64,
-    /// Unit.
-    pub unit: &'static str,
-    /// Meaning.
-    pub meaning: &'static str,
-}
-
-/// One model in the listing.
-#[derive(Debug, Serialize)]
-pub struct ModelEntry {
-    /// Name for `--builtin` and `builtin = ...`.
-    pub name: &'static str,
-    /// The Hamiltonian.
-    pub summary: &'static str,
-    /// Unit system.
-    pub units: ladderfan::units::Units,
-    /// Units header.
-    pub units_header: String,
-    /// Source of the closed form.
-    pub source: &'static str,
-    /// Parameters.
-    pub parameters: Vec<ParamJson>,
 }
 
 /// The listing.

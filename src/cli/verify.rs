@@ -7,13 +7,13 @@ use super::common::{
     ModelArgs, SolveArgs,
 };
 use clap::Args;
+use ladderfan::records::VerifyJson;
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::verify::{
     self, Agreement, EnergyScale, ExpectedList, LevelFormula, Outcome, Verdict, VerifySettings,
     Window,
 };
 use ladderfan::{Error, Reference, Spectrum};
-use serde::Serialize;
 use std::path::PathBuf;
 
 /// Flags of `ladderfan verify`.
@@ -100,31 +100,6 @@ pub struct VerifyArgs {
     pub json: bool,
 }
 
-/// The JSON result of `verify`.
-#[derive(Debug, Serialize)]
-pub struct VerifyJson {
-    /// Always `verify`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Orbital cutoff.
-    pub cutoff: usize,
-    /// What the expected levels came from.
-    pub expected_source: String,
-    /// Number of expected levels (before multiplicities).
-    pub expected_levels: usize,
-    /// The one-line verdict.
-    pub verdict_line: String,
-    /// Everything the check found (energies relative to `verdict.reference_energy`).
-    pub verdict: Verdict,
-}
-
 fn parse_window(text: &str) -> CliResult<Window> {
     let parts: Vec<&str> = text.split(',').map(str::trim).collect();
     let num = |t: &str| -> CliResult<f64> {
@@ -170,83 +145,24 @@ fn parse_case(text: &str, i: usize) -> CliResult<(String, String)> {
 /// is [`CliError::Verification`] (exit 1) after the report has been printed.
 pub fn run(args: &VerifyArgs) -> CliResult {
     let lm = load_model(&args.model)?;
-    let r = common::resolve(&lm, &args.solve, common::default_field(&lm.model))?;
+    // the one set-up of this run (memory checked), solved below once the expected list is read
+    let (r, problem) = common::resolve_problem(
+        &lm,
+        &args.solve,
+        common::default_field(&lm.model),
+        common::Resolved::settings,
+    )?;
     let point = r.point();
     let origin = if args.relative {
         Reference::Model
     } else {
         Reference::Zero
     };
-    let (mut list, source) = match (&args.formula, &args.expected) {
-        (Some(f), None) => {
-            let n_text = args.n_values.as_deref().ok_or_else(|| {
-                bad_flag(
-                    "--n",
-                    "a formula needs the Landau indices it covers; pass e.g. --n 0..40",
-                )
-            })?;
-            let ns = common::parse_int_list(n_text, "--n")?;
-            let s_text = args.s_values.as_deref().unwrap_or("0");
-            let ss: Vec<i8> = common::parse_int_list(s_text, "--s")?
-                .into_iter()
-                .map(|s| {
-                    i8::try_from(s).map_err(|_| {
-                        bad_flag(
-                            "--s",
-                            format!("s = {s} is out of range; use small integers"),
-                        )
-                    })
-                })
-                .collect::<CliResult<_>>()?;
-            let cases = args
-                .cases
-                .iter()
-                .enumerate()
-                .map(|(i, c)| parse_case(c, i + 1))
-                .collect::<CliResult<Vec<_>>>()?;
-            let formula = LevelFormula {
-                formula: f.clone(),
-                n0: args.formula_n0.clone(),
-                cases,
-                multiplicity: args.multiplicity.clone(),
-                variables: Vec::new(),
-            };
-            let list = ExpectedList::from_formula(&lm.model, point, origin, &formula, &ns, &ss)?;
-            let mut source = format!("formula \"{f}\" for n = {n_text}, s = {s_text}");
-            if let Some(z) = &args.formula_n0 {
-                source.push_str(&format!("; n = 0: \"{z}\""));
-            }
-            for c in &args.cases {
-                source.push_str(&format!("; case \"{c}\""));
-            }
-            if let Some(m) = &args.multiplicity {
-                source.push_str(&format!("; multiplicity \"{m}\""));
-            }
-            (list, source)
-        }
-        (None, Some(path)) => {
-            let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
-                action: "read expected levels".into(),
-                path: path.display().to_string(),
-                source,
-            })?;
-            let origin_energy = match origin {
-                Reference::Model => lm.model.reference_energy(),
-                _ => 0.0,
-            };
-            let name = path.display().to_string();
-            let list = ExpectedList::from_csv(&text, &name, origin_energy)?;
-            (list, format!("file {name}"))
-        }
-        _ => return Err(bad_flag(
-            "--formula",
-            "nothing to verify; pass --formula EXPR --n RANGE [--s LIST] or --expected FILE.csv",
-        )),
-    };
+    let (mut list, source) = expected_list(args, &lm, point, origin)?;
     if let Some(w) = &args.window {
         list = list.with_window(parse_window(w)?);
     }
-    let spectrum = common::finite_spectrum(Spectrum::compute(&lm.model, point, &r.settings())?)?;
+    let spectrum = super::levels::solve(&problem)?;
     let settings = VerifySettings {
         tolerance: common::finite_flag("--tolerance", args.tolerance)?,
         scale: match args.energy_scale {
@@ -306,6 +222,91 @@ fn fmt_edge(x: f64) -> String {
     }
 }
 
+/// The expected levels and a description of where they came from: `--formula` (with its
+/// indices, cases and multiplicity) or `--expected FILE.csv`.
+fn expected_list(
+    args: &VerifyArgs,
+    lm: &LoadedModel,
+    point: ladderfan::FieldPoint,
+    origin: Reference,
+) -> CliResult<(ExpectedList, String)> {
+    match (&args.formula, &args.expected) {
+        (Some(f), None) => formula_list(args, lm, point, origin, f),
+        (None, Some(path)) => {
+            let text = std::fs::read_to_string(path).map_err(|source| Error::Io {
+                action: "read expected levels".into(),
+                path: path.display().to_string(),
+                source,
+            })?;
+            let origin_energy = match origin {
+                Reference::Model => lm.model.reference_energy(),
+                _ => 0.0,
+            };
+            let name = path.display().to_string();
+            let list = ExpectedList::from_csv(&text, &name, origin_energy)?;
+            Ok((list, format!("file {name}")))
+        }
+        _ => Err(bad_flag(
+            "--formula",
+            "nothing to verify; pass --formula EXPR --n RANGE [--s LIST] or --expected FILE.csv",
+        )),
+    }
+}
+
+/// The expected levels of `--formula f` over the `--n` and `--s` values, and their description.
+fn formula_list(
+    args: &VerifyArgs,
+    lm: &LoadedModel,
+    point: ladderfan::FieldPoint,
+    origin: Reference,
+    f: &str,
+) -> CliResult<(ExpectedList, String)> {
+    let n_text = args.n_values.as_deref().ok_or_else(|| {
+        bad_flag(
+            "--n",
+            "a formula needs the Landau indices it covers; pass e.g. --n 0..40",
+        )
+    })?;
+    let ns = common::parse_int_list(n_text, "--n")?;
+    let s_text = args.s_values.as_deref().unwrap_or("0");
+    let ss: Vec<i8> = common::parse_int_list(s_text, "--s")?
+        .into_iter()
+        .map(|s| {
+            i8::try_from(s).map_err(|_| {
+                bad_flag(
+                    "--s",
+                    format!("s = {s} is out of range; use small integers"),
+                )
+            })
+        })
+        .collect::<CliResult<_>>()?;
+    let cases = args
+        .cases
+        .iter()
+        .enumerate()
+        .map(|(i, c)| parse_case(c, i + 1))
+        .collect::<CliResult<Vec<_>>>()?;
+    let formula = LevelFormula {
+        formula: f.to_string(),
+        n0: args.formula_n0.clone(),
+        cases,
+        multiplicity: args.multiplicity.clone(),
+        variables: Vec::new(),
+    };
+    let list = ExpectedList::from_formula(&lm.model, point, origin, &formula, &ns, &ss)?;
+    let mut source = format!("formula \"{f}\" for n = {n_text}, s = {s_text}");
+    if let Some(z) = &args.formula_n0 {
+        source.push_str(&format!("; n = 0: \"{z}\""));
+    }
+    for c in &args.cases {
+        source.push_str(&format!("; case \"{c}\""));
+    }
+    if let Some(m) = &args.multiplicity {
+        source.push_str(&format!("; multiplicity \"{m}\""));
+    }
+    Ok((list, source))
+}
+
 /// The text report: header, one row per checked level (ascending energy), verdict line.
 fn report(
     lm: &LoadedModel,
@@ -314,6 +315,34 @@ fn report(
     source: &str,
     v: &Verdict,
     only_failures: bool,
+) -> String {
+    let unit = lm.model.units().energy_unit();
+    let mut out = report_header(lm, spectrum, list, source, v);
+    let mut table = vec![vec![
+        "expected level".to_string(),
+        format!("expected [{unit}]"),
+        format!("numerical [{unit}]"),
+        "deviation".into(),
+        "allowed".into(),
+        "LL".into(),
+        "component".into(),
+        "verdict".into(),
+    ]];
+    table.extend(report_rows(&lm.model, v, only_failures));
+    out.push_str(&common::table(&table));
+    out.push('\n');
+    out.push_str(&v.verdict_line(unit));
+    out.push('\n');
+    out
+}
+
+/// The header block of the report: model, point, expected source and the window checked.
+fn report_header(
+    lm: &LoadedModel,
+    spectrum: &Spectrum,
+    list: &ExpectedList,
+    source: &str,
+    v: &Verdict,
 ) -> String {
     let m = &lm.model;
     let u = m.units();
@@ -352,6 +381,12 @@ fn report(
         v.tolerance,
         fmt_num(v.energy_scale, 6)
     ));
+    out
+}
+
+/// The report's rows in ascending energy: matched pairs (all, or only the disagreeing ones),
+/// numerical levels without an expected partner, expected levels without a numerical one.
+fn report_rows(m: &ladderfan::Model, v: &Verdict, only_failures: bool) -> Vec<Vec<String>> {
     let comp = |c: usize| {
         m.component_names()
             .get(c)
@@ -417,20 +452,5 @@ fn report(
         }
     }
     rows.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let mut table = vec![vec![
-        "expected level".to_string(),
-        format!("expected [{unit}]"),
-        format!("numerical [{unit}]"),
-        "deviation".into(),
-        "allowed".into(),
-        "LL".into(),
-        "component".into(),
-        "verdict".into(),
-    ]];
-    table.extend(rows.into_iter().map(|r| r.1));
-    out.push_str(&common::table(&table));
-    out.push('\n');
-    out.push_str(&v.verdict_line(unit));
-    out.push('\n');
-    out
+    rows.into_iter().map(|r| r.1).collect()
 }

@@ -11,7 +11,12 @@ use crate::observables::labels;
 use serde::Serialize;
 use std::collections::BTreeMap;
 
+mod commands;
 mod observables;
+pub use commands::{
+    AutoJson, AutoLevelJson, DemoJson, ExportJson, ModelEntry, ParamJson, StudyJson, SweepJson,
+    Swept, VerifyJson,
+};
 pub use observables::{
     transition_record, transition_text, DosRecord, FermiRecord, OpticsPointRecord, OpticsRecord,
     TransitionRecord, VolumeFermiRecord, VolumeFermiSweepRecord, VolumeRecord,

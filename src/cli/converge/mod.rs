@@ -18,15 +18,14 @@ use super::common::{
     ModelArgs, OutputArgs, OutputFiles, SolveArgs, TruncArgs,
 };
 use clap::{Args, ValueEnum};
+use ladderfan::records::{AutoJson, AutoLevelJson, StudyJson};
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
-    auto, study, AutoResult, AutoSettings, AutoStep, BoundChoice, ExactValues, NeededCutoff,
-    Selection, Study,
+    auto, study, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection, Study,
 };
 use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
-use ladderfan::trust::window::{EnergyWindow, WindowWarning};
+use ladderfan::trust::window::EnergyWindow;
 use ladderfan::Settings;
-use serde::Serialize;
 
 mod tables;
 pub use tables::{auto_table, study_table};
@@ -144,84 +143,6 @@ fn study_cutoffs(a: &ConvergeArgs, top: usize) -> CliResult<Vec<usize>> {
     let mut v: Vec<usize> = (0..a.steps).map(|k| top >> k).filter(|&n| n > 0).collect();
     v.reverse();
     Ok(v)
-}
-
-/// The JSON result of a study.
-#[derive(Debug, Serialize)]
-pub struct StudyJson<'a> {
-    /// Always `converge`.
-    pub command: &'static str,
-    /// `study`.
-    pub mode: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// The study.
-    pub study: &'a Study,
-    /// Wall-clock seconds per cutoff, only with `--timings` (they differ from run to run).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub seconds: Option<&'a [f64]>,
-}
-
-/// One selected level of an automatic run.
-#[derive(Debug, Serialize)]
-pub struct AutoLevelJson {
-    /// Energy relative to the reference energy.
-    pub energy: f64,
-    /// Residual bound.
-    pub bound: f64,
-    /// Kato-Temple bound, when its gap condition was certified.
-    pub kato_temple: Option<f64>,
-    /// Which bound decided the state: `residual` or `kato_temple`.
-    pub bound_from: &'static str,
-    /// `converged` or `not_converged` (artefacts are never selected).
-    pub state: ladderfan::levels::Convergence,
-    /// Sector `class:label`.
-    pub sector: String,
-    /// Dominant orbital.
-    pub orbital: usize,
-    /// Dominant component.
-    pub component: usize,
-}
-
-/// The JSON result of an automatic run.
-#[derive(Debug, Serialize)]
-pub struct AutoJson<'a> {
-    /// Always `converge`.
-    pub command: &'static str,
-    /// `auto`.
-    pub mode: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// Field.
-    pub field: f64,
-    /// kz.
-    pub kz: f64,
-    /// Relative tolerance met.
-    pub tolerance: f64,
-    /// Final cutoff.
-    pub cutoff: usize,
-    /// First cutoff that met the tolerance (confirmed by the final one).
-    pub first_converged_cutoff: usize,
-    /// Matrix dimension N d at the final cutoff.
-    pub matrix_dimension: usize,
-    /// Total wall-clock seconds, only with `--timings` (they differ from run to run).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub seconds: Option<f64>,
-    /// Wall-clock seconds of each step, only with `--timings`.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub step_seconds: Option<Vec<f64>>,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// The steps.
-    pub history: &'a [AutoStep],
-    /// The selected levels at the final cutoff.
-    pub levels: Vec<AutoLevelJson>,
-    /// Bands re-entering the window beyond the cutoff.
-    pub warnings: &'a [WindowWarning],
 }
 
 fn auto_json<'a>(

@@ -15,6 +15,22 @@ fn opt_sci(x: Option<f64>) -> String {
     x.map_or_else(|| "-".into(), |v| format!("{v:.2e}"))
 }
 
+/// One cell of the study table: the deciding bound at one cutoff, marked K (Kato-Temple) or R
+/// (residual), then the state (c converged, n not converged, - no genuine level matched).
+fn bound_cell(e: &ladderfan::trust::converge::StudyEntry) -> String {
+    let b = match (e.bound, e.kato_temple) {
+        (Some(b), Some(k)) if k < b => format!("{k:.2e} K"),
+        (Some(b), _) => format!("{b:.2e} R"),
+        _ => "-".into(),
+    };
+    let st = match e.state {
+        Some(ladderfan::levels::Convergence::Converged) => "c",
+        Some(_) => "n",
+        None => "-",
+    };
+    format!("{b} {st}")
+}
+
 /// The study as an aligned table: one row per tracked level, the bound at each cutoff, the
 /// actual error at the second-largest cutoff, rates and the needed cutoff.
 pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> String {
@@ -64,21 +80,7 @@ pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> 
             l.orbital.to_string(),
             fmt_num(l.reference_value, 12),
         ];
-        for e in &l.entries {
-            // the deciding bound, marked: K = Kato-Temple, R = residual; then the state
-            // (c converged, n not converged, - no genuine level matched)
-            let b = match (e.bound, e.kato_temple) {
-                (Some(b), Some(k)) if k < b => format!("{k:.2e} K"),
-                (Some(b), _) => format!("{b:.2e} R"),
-                _ => "-".into(),
-            };
-            let st = match e.state {
-                Some(ladderfan::levels::Convergence::Converged) => "c",
-                Some(_) => "n",
-                None => "-",
-            };
-            r.push(format!("{b} {st}"));
-        }
+        r.extend(l.entries.iter().map(bound_cell));
         r.push(opt_sci(
             l.entries.get(penultimate).and_then(|e| e.actual_error),
         ));

@@ -198,12 +198,6 @@ pub struct DosArgs {
     pub output: OutputArgs,
 }
 
-fn spectrum(lm: &LoadedModel, point: FieldPoint, cutoff: usize, mem: u64) -> CliResult<Spectrum> {
-    let mut s = Settings::with_cutoff(cutoff);
-    s.memory_limit_mib = mem;
-    common::finite_spectrum(Spectrum::compute(&lm.model, point, &s)?)
-}
-
 /// Default DOS window: the 12 converged levels on each side of the reference energy, padded
 /// by 3 widths.
 fn default_window(ld: &LevelDensity, width: f64) -> (f64, f64) {
@@ -237,8 +231,13 @@ pub fn run(a: &DosArgs) -> CliResult {
     }
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
-    let r = common::resolve(&lm, &a.solve, common::default_field(&lm.model))?;
-    let spec = spectrum(&lm, r.point(), r.cutoff, r.memory_limit_mib)?;
+    let (r, problem) = common::resolve_problem(
+        &lm,
+        &a.solve,
+        common::default_field(&lm.model),
+        common::Resolved::settings,
+    )?;
+    let spec = crate::cli::levels::solve(&problem)?;
     let broadening = a.fermi.broadening(spec.energy_scale)?;
     let ld = LevelDensity::new(&lm.model, &spec, broadening)?;
     let (emin, emax, curve) = dos_curve(a, &lm, &ld)?;

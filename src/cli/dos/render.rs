@@ -41,43 +41,7 @@ pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
         fmt_num(j.dos.last().map(|p| p.0).unwrap_or(0.0), 6)
     ));
     match &j.volume {
-        Some(v) => {
-            s.push_str(&format!(
-                "kz-integrated (per volume): kz limit {} {}, {} kz points{}, last grid change {:.1e} of the peak DOS\n",
-                fmt_num(v.kz_max, 6),
-                u.wavenumber_unit(),
-                v.kz_points,
-                if v.even_in_kz { " (spectrum even in kz: kz >= 0 solved)" } else { "" },
-                v.quadrature_change
-            ));
-            let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
-            s.push_str(&format!(
-                "  DOS per volume up to {} /({eu} cm^3) on the grid; density from neutrality {} to {} cm^-3 at {} K\n",
-                fmt_num(peak, 5),
-                fmt_num(v.dos.first().map(|p| p.2).unwrap_or(0.0), 5),
-                fmt_num(v.dos.last().map(|p| p.2).unwrap_or(0.0), 5),
-                v.temperature_k
-            ));
-            if let (Some(first), Some(last)) = (v.fermi_sweep.first(), v.fermi_sweep.last()) {
-                s.push_str(&format!(
-                    "  3D Fermi-level sweep: {} fields from {} to {} {}; E_F from {} to {} {eu}\n",
-                    v.fermi_sweep.len(),
-                    first.field,
-                    last.field,
-                    u.field_unit(),
-                    fmt_num(first.fermi_energy, 6),
-                    fmt_num(last.fermi_energy, 6)
-                ));
-            }
-            if let Some(f) = &v.fermi {
-                s.push_str(&format!(
-                    "  density {} cm^-3: Fermi level {} {eu}, DOS there {} /({eu} cm^3)\n",
-                    fmt_num(f.density_cm3, 6),
-                    fmt_num(f.fermi_energy, 8),
-                    fmt_num(f.dos_at_fermi_per_cm3, 5)
-                ));
-            }
-        }
+        Some(v) => s.push_str(&volume_summary(lm, v)),
         None if lm.model.terms().iter().any(|t| t.monomial.kz > 0) => {
             s.push_str(&format!(
                 "a 3D model: densities are per area of the kz = {} sheet (add --kz-integrate for per volume)\n",
@@ -113,6 +77,50 @@ pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
         ));
     }
     s
+}
+
+/// The per-volume lines of the summary (`--kz-integrate`): the kz quadrature, the DOS per
+/// volume, the 3D Fermi-level sweep and the Fermi level at the given density.
+fn volume_summary(lm: &LoadedModel, v: &VolumeRecord) -> String {
+    let u = lm.model.units();
+    let eu = u.energy_unit();
+    let mut out = String::new();
+    out.push_str(&format!(
+        "kz-integrated (per volume): kz limit {} {}, {} kz points{}, last grid change {:.1e} of the peak DOS\n",
+        fmt_num(v.kz_max, 6),
+        u.wavenumber_unit(),
+        v.kz_points,
+        if v.even_in_kz { " (spectrum even in kz: kz >= 0 solved)" } else { "" },
+        v.quadrature_change
+    ));
+    let peak = v.dos.iter().map(|p| p.1).fold(0.0, f64::max);
+    out.push_str(&format!(
+        "  DOS per volume up to {} /({eu} cm^3) on the grid; density from neutrality {} to {} cm^-3 at {} K\n",
+        fmt_num(peak, 5),
+        fmt_num(v.dos.first().map(|p| p.2).unwrap_or(0.0), 5),
+        fmt_num(v.dos.last().map(|p| p.2).unwrap_or(0.0), 5),
+        v.temperature_k
+    ));
+    if let (Some(first), Some(last)) = (v.fermi_sweep.first(), v.fermi_sweep.last()) {
+        out.push_str(&format!(
+            "  3D Fermi-level sweep: {} fields from {} to {} {}; E_F from {} to {} {eu}\n",
+            v.fermi_sweep.len(),
+            first.field,
+            last.field,
+            u.field_unit(),
+            fmt_num(first.fermi_energy, 6),
+            fmt_num(last.fermi_energy, 6)
+        ));
+    }
+    if let Some(f) = &v.fermi {
+        out.push_str(&format!(
+            "  density {} cm^-3: Fermi level {} {eu}, DOS there {} /({eu} cm^3)\n",
+            fmt_num(f.density_cm3, 6),
+            fmt_num(f.fermi_energy, 8),
+            fmt_num(f.dos_at_fermi_per_cm3, 5)
+        ));
+    }
+    out
 }
 
 pub(super) fn dos_csv(

@@ -109,6 +109,57 @@ fn point_records(fan: &[TransitionPoint], u: ladderfan::units::Units) -> Vec<Opt
         .collect()
 }
 
+/// The one set-up at the highest field `top`: it sizes the memory check of the whole run
+/// (`points` fields, eigenvectors and velocity elements kept) and its solve, the probe,
+/// gives the typical Landau spacing that sets the default width and window.
+fn probe(
+    a: &OpticsArgs,
+    lm: &LoadedModel,
+    top: FieldPoint,
+    points: usize,
+    settings: &Settings,
+) -> CliResult<Spectrum> {
+    // the one set-up at the highest field: it sizes the memory check of the whole run and its
+    // solve (the typical Landau spacing there) sets the default width and window
+    let probe = common::set_up(lm, a.solve.trunc.cutoff, top, settings)?;
+    // eigenvectors and velocity elements of every field are kept (src/memory.rs)
+    common::check_footprint(
+        lm,
+        &probe,
+        "optics",
+        if points > 1 { "--points" } else { "--cutoff" },
+        &ladderfan::memory::Footprint::Optics {
+            points: points as u64,
+        },
+        None,
+    )?;
+    Ok(Spectrum::solve(&probe)?)
+}
+
+/// Write the files of `--out` and print the result (JSON or the text summary).
+fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
+    let mut written = Vec::new();
+    if let Some(dir) = &a.output.out {
+        let mut files = OutputFiles::default();
+        files.add("transitions.csv", to_csv(lm, json)?);
+        let svg = if json.points.len() > 1 {
+            fan_svg(lm, json)?
+        } else {
+            stick_svg(lm, json)?
+        };
+        files.add("transitions.svg", svg);
+        written = files.write_all(dir)?;
+    }
+    if a.output.json {
+        return emit_json(json);
+    }
+    let mut text = summary(lm, json, a.count);
+    for p in written {
+        text.push_str(&format!("wrote {}\n", p.display()));
+    }
+    emit(&text)
+}
+
 /// Run `ladderfan optics`.
 pub fn run(a: &OpticsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
@@ -120,35 +171,16 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         .copied()
         .max_by(|x, y| x.abs().total_cmp(&y.abs()))
         .unwrap_or(r.field);
-    // eigenvectors and velocity elements of every field are kept (src/memory.rs)
-    common::check_memory(
-        &lm,
-        "optics",
-        if values.len() > 1 {
-            "--points"
-        } else {
-            "--cutoff"
-        },
-        FieldPoint {
-            field: top,
-            kz: r.kz,
-        },
-        cutoff,
-        mem,
-        &ladderfan::memory::Footprint::Optics {
-            points: values.len() as u64,
-        },
-        None,
-    )?;
     let mut settings = Settings::with_cutoff(cutoff);
     settings.memory_limit_mib = mem;
-    // the typical Landau spacing at the highest field sets the default width and window
-    let probe = Spectrum::compute(
-        &lm.model,
+    let probe = probe(
+        a,
+        &lm,
         FieldPoint {
             field: top,
             kz: r.kz,
         },
+        values.len(),
         &settings,
     )?;
     let broadening = a.fermi.broadening(probe.energy_scale)?;
@@ -189,26 +221,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         convention: CONVENTION,
         points: point_records(&fan, u),
     };
-    let mut written = Vec::new();
-    if let Some(dir) = &a.output.out {
-        let mut files = OutputFiles::default();
-        files.add("transitions.csv", to_csv(&lm, &json)?);
-        let svg = if json.points.len() > 1 {
-            fan_svg(&lm, &json)?
-        } else {
-            stick_svg(&lm, &json)?
-        };
-        files.add("transitions.svg", svg);
-        written = files.write_all(dir)?;
-    }
-    if a.output.json {
-        return emit_json(&json);
-    }
-    let mut text = summary(&lm, &json, a.count);
-    for p in written {
-        text.push_str(&format!("wrote {}\n", p.display()));
-    }
-    emit(&text)
+    output(a, &lm, &json)
 }
 
 fn pol_name(p: Polarisation) -> &'static str {

@@ -18,12 +18,12 @@ pub(super) fn pol_color(p: Polarisation) -> RGBColor {
     }
 }
 
-/// The fan: transition energy against field, one line per (from, to) pair, line width and
-/// opacity growing with the strength, colour by polarisation.
-pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
-    let u = lm.model.units();
-    let eu = u.energy_unit();
-    let mut lines: BTreeMap<(String, String), Vec<(f64, &TransitionRecord)>> = BTreeMap::new();
+/// The fan's lines: each (from, to) pair's (field, transition) points in field order.
+type Lines<'j> = BTreeMap<(String, String), Vec<(f64, &'j TransitionRecord)>>;
+
+/// Group the transitions of every field by their (from, to) pair.
+fn transition_lines(j: &OpticsRecord) -> Lines<'_> {
+    let mut lines: Lines<'_> = BTreeMap::new();
     for p in &j.points {
         for t in &p.transitions {
             lines
@@ -32,6 +32,50 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
                 .push((p.field, t));
         }
     }
+    lines
+}
+
+/// The order the fan's lines are drawn in.
+fn drawing_order<'a, 'j>(lines: &'a Lines<'j>) -> Vec<&'a [(f64, &'j TransitionRecord)]> {
+    // sigma+ first and 2 px wider, then the others, weakest first: a sigma- line on top of
+    // a degenerate sigma+ line leaves a red rim, and strong lines are drawn over weak ones
+    let mut ordered: Vec<&[(f64, &TransitionRecord)]> = lines.values().map(Vec::as_slice).collect();
+    let key = |v: &[(f64, &TransitionRecord)]| {
+        let plus = v
+            .iter()
+            .any(|p| p.1.polarisation == Polarisation::SigmaPlus);
+        let s = v.iter().map(|p| p.1.relative_strength).fold(0.0, f64::max);
+        (!plus, s)
+    };
+    ordered.sort_by(|a, b| {
+        let (ka, kb) = (key(a), key(b));
+        ka.0.cmp(&kb.0).then(ka.1.total_cmp(&kb.1))
+    });
+    ordered
+}
+
+/// The two notes at the top of the fan: model, density, temperature, cutoff; the legend.
+fn fan_notes(lm: &LoadedModel, j: &OpticsRecord) -> [String; 2] {
+    let p0 = &j.points[0];
+    [
+        format!(
+            "{} ({}); n = {} cm^-2, T = {} K; cutoff {}",
+            lm.model.name(),
+            lm.origin,
+            fmt_num(p0.fermi.density_cm2, 4),
+            j.temperature_k,
+            j.cutoff
+        ),
+        "red: sigma+ (drawn wider), blue: sigma-, grey: mixed; width and opacity: strength".into(),
+    ]
+}
+
+/// The fan: transition energy against field, one line per (from, to) pair, line width and
+/// opacity growing with the strength, colour by polarisation.
+pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
+    let u = lm.model.units();
+    let eu = u.energy_unit();
+    let lines = transition_lines(j);
     let (x0, x1) = j
         .points
         .iter()
@@ -62,21 +106,7 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
             .axis_desc_style(("sans-serif", 17))
             .draw()
             .map_err(plot_err)?;
-        // sigma+ first and 2 px wider, then the others, weakest first: a sigma- line on top of
-        // a degenerate sigma+ line leaves a red rim, and strong lines are drawn over weak ones
-        let mut ordered: Vec<&Vec<(f64, &TransitionRecord)>> = lines.values().collect();
-        let key = |v: &Vec<(f64, &TransitionRecord)>| {
-            let plus = v
-                .iter()
-                .any(|p| p.1.polarisation == Polarisation::SigmaPlus);
-            let s = v.iter().map(|p| p.1.relative_strength).fold(0.0, f64::max);
-            (!plus, s)
-        };
-        ordered.sort_by(|a, b| {
-            let (ka, kb) = (key(a), key(b));
-            ka.0.cmp(&kb.0).then(ka.1.total_cmp(&kb.1))
-        });
-        for pts in ordered {
+        for pts in drawing_order(&lines) {
             for w in pts.windows(2) {
                 let (b0, t0) = w[0];
                 let (b1, t1) = w[1];
@@ -107,22 +137,7 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
                     .map_err(plot_err)?;
             }
         }
-        let p0 = &j.points[0];
-        for (i, note) in [
-            format!(
-                "{} ({}); n = {} cm^-2, T = {} K; cutoff {}",
-                lm.model.name(),
-                lm.origin,
-                fmt_num(p0.fermi.density_cm2, 4),
-                j.temperature_k,
-                j.cutoff
-            ),
-            "red: sigma+ (drawn wider), blue: sigma-, grey: mixed; width and opacity: strength"
-                .into(),
-        ]
-        .iter()
-        .enumerate()
-        {
+        for (i, note) in fan_notes(lm, j).iter().enumerate() {
             root.draw(&Text::new(
                 note.clone(),
                 (100, 60 + 18 * i as i32),

@@ -10,10 +10,10 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
+pub use ladderfan::records::{SweepJson, Swept};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
 use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
-use serde::Serialize;
 
 mod render;
 pub use render::{csv, summary, svg};
@@ -48,16 +48,6 @@ pub struct SweepArgs {
     /// exactly the single-run table.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
-}
-
-/// What is swept.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Swept {
-    /// The magnetic field.
-    Field,
-    /// kz.
-    Kz,
 }
 
 /// Solve at every point, in parallel over points; the result order is the point order, and
@@ -190,41 +180,6 @@ pub fn closed_form_curves(
     )
 }
 
-/// Everything a sweep produced.
-#[derive(Debug, Serialize)]
-pub struct SweepJson {
-    /// `fan` or `dispersion`.
-    pub command: &'static str,
-    /// The model.
-    pub model: ModelRecord,
-    /// Units of every number.
-    pub units: UnitsRecord,
-    /// Which quantity is swept.
-    pub swept: Swept,
-    /// Grid spacing.
-    pub grid: common::Grid,
-    /// The swept values.
-    pub values: Vec<f64>,
-    /// The fixed field (dispersion) or null.
-    pub field: Option<f64>,
-    /// The fixed kz (fan) or null.
-    pub kz: Option<f64>,
-    /// Orbital cutoff.
-    pub cutoff: usize,
-    /// Energies are relative to this.
-    pub reference_energy: f64,
-    /// Symmetry found at the reference point.
-    pub symmetry: SymmetryRecord,
-    /// Energy window of the listed tracks.
-    pub window: (f64, f64),
-    /// Index of the point that set the tracks' component and the default window.
-    pub reference_point: usize,
-    /// Comparison with the model's closed form over every point, when it has one.
-    pub closed_form: Option<verify::ClosedFormCheck>,
-    /// The tracked levels entering the window.
-    pub tracks: Vec<TrackRecord>,
-}
-
 /// A sweep to run: the swept values and the field points they map to.
 #[derive(Debug, Clone)]
 pub struct Plan {
@@ -307,13 +262,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
-    let shard = match &a.shard {
-        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
-            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
-            e => e.into(),
-        })?),
-        None => None,
-    };
+    let shard = parse_shard(a)?;
 
     let total = plan.points.len();
     let block = match shard {
@@ -370,12 +319,42 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     );
     let all: Vec<&Spectrum> = spectra.iter().collect();
     let check = verify::closed_form_check(&lm.model, &all, win);
-    let json = SweepJson {
+    let json = sweep_json(lm, plan, a, reference, win, check, tracks);
+    Ok(Outcome {
+        json,
+        closed,
+        shard: shard_header,
+    })
+}
+
+/// The `--shard I/K` flag, if given.
+fn parse_shard(a: &SweepArgs) -> CliResult<Option<Shard>> {
+    Ok(match &a.shard {
+        Some(text) => Some(Shard::parse(text).map_err(|e| match e {
+            ladderfan::Error::Parse { message, .. } => bad_flag("--shard", message),
+            e => e.into(),
+        })?),
+        None => None,
+    })
+}
+
+/// The sweep's result record: the plan, the reference point's energy and symmetry, the
+/// window, the closed-form check and the tracks.
+fn sweep_json(
+    lm: &LoadedModel,
+    plan: &Plan,
+    a: &SweepArgs,
+    reference: &Spectrum,
+    win: (f64, f64),
+    check: Option<verify::ClosedFormCheck>,
+    tracks: Vec<TrackRecord>,
+) -> SweepJson {
+    SweepJson {
         command: plan.command,
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
         swept: plan.swept,
-        grid: a.grid,
+        grid: a.grid.spacing(),
         values: plan.values.clone(),
         field: match plan.swept {
             Swept::Kz => Some(plan.points[0].field),
@@ -392,12 +371,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         reference_point: plan.reference_point,
         closed_form: check,
         tracks,
-    };
-    Ok(Outcome {
-        json,
-        closed,
-        shard: shard_header,
-    })
+    }
 }
 
 /// Refuse flags that cannot go together with `--shard`, before any work: a shard writes its

@@ -22,8 +22,8 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                 j.cutoff,
                 j.values.len(),
                 match j.grid {
-                    common::Grid::Linear => "linear",
-                    common::Grid::Log => "log",
+                    ladderfan::sweep::Spacing::Linear => "linear",
+                    ladderfan::sweep::Spacing::Log => "log",
                 }
             ),
             format!(
@@ -139,6 +139,87 @@ pub fn svg(
 }
 
 /// Human-readable summary: the tracks at the reference point.
+/// The closed-form lines of the summary: the comparison's verdict and its note, or that none
+/// is known.
+fn closed_form_lines(j: &SweepJson, unit: &str) -> String {
+    let mut out = String::new();
+    match &j.closed_form {
+        Some(c) => {
+            out.push_str(&format!(
+                "closed form: {} ({} levels compared one to one, max deviation {:.2e} {}, {} of the allowed)\n",
+                if !c.passed {
+                    "DISAGREES"
+                } else if c.not_comparable_points > 0 {
+                    "agrees where comparable"
+                } else {
+                    "agrees"
+                },
+                c.computed_compared,
+                c.max_deviation,
+                unit,
+                fmt_num(c.worst_ratio, 3)
+            ));
+            if !c.note.is_empty() {
+                out.push_str(&format!("note: closed form {}\n", c.note));
+            }
+        }
+        None => out.push_str("closed form: none known for this model\n"),
+    }
+    out
+}
+
+/// The most tracks the summary's table lists.
+const MAX_TRACK_ROWS: usize = 40;
+
+/// The summary's table (header row first) of the tracks inside the window at the reference
+/// point `x_ref`, in ascending energy there, at most [`MAX_TRACK_ROWS`]; and how many tracks
+/// it lists.
+fn track_rows(j: &SweepJson, unit: &str, x_ref: f64) -> (Vec<Vec<String>>, usize) {
+    let mut rows = vec![vec![
+        "level".to_string(),
+        "n".into(),
+        "branch".into(),
+        "component".into(),
+        format!("E at {} [{}]", fmt_num(x_ref, 6), unit),
+        format!("E min [{}]", unit),
+        format!("E max [{}]", unit),
+    ]];
+    // the table lists the tracks inside the window at the reference point
+    let (lo, hi) = j.window;
+    let mut tracks: Vec<&TrackRecord> = j
+        .tracks
+        .iter()
+        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
+        .collect();
+    tracks.sort_by(|a, b| {
+        let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        ea.total_cmp(&eb)
+    });
+    for t in tracks.iter().take(MAX_TRACK_ROWS) {
+        let (lo, hi) = t
+            .energies
+            .iter()
+            .flatten()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+                (a.min(e), b.max(e))
+            });
+        rows.push(vec![
+            t.label.clone(),
+            t.n.map(|n| n.to_string()).unwrap_or_else(|| "?".into()),
+            common::landau_branch_text(t.branch),
+            t.component.clone().unwrap_or_default(),
+            t.energies[j.reference_point]
+                .map(|e| fmt_num(e, 8))
+                .unwrap_or_else(|| "-".into()),
+            fmt_num(lo, 8),
+            fmt_num(hi, 8),
+        ]);
+    }
+    let listed = tracks.len().min(MAX_TRACK_ROWS);
+    (rows, listed)
+}
+
 pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
     let u = lm.model.units();
     let mut s = format!(
@@ -162,77 +243,15 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         fmt_num(j.window.1, 6),
         u.energy_unit()
     ));
-    match &j.closed_form {
-        Some(c) => {
-            s.push_str(&format!(
-                "closed form: {} ({} levels compared one to one, max deviation {:.2e} {}, {} of the allowed)\n",
-                if !c.passed {
-                    "DISAGREES"
-                } else if c.not_comparable_points > 0 {
-                    "agrees where comparable"
-                } else {
-                    "agrees"
-                },
-                c.computed_compared,
-                c.max_deviation,
-                u.energy_unit(),
-                fmt_num(c.worst_ratio, 3)
-            ));
-            if !c.note.is_empty() {
-                s.push_str(&format!("note: closed form {}\n", c.note));
-            }
-        }
-        None => s.push_str("closed form: none known for this model\n"),
-    }
+    s.push_str(&closed_form_lines(j, u.energy_unit()));
     let x_ref = j.values[j.reference_point];
-    let mut rows = vec![vec![
-        "level".to_string(),
-        "n".into(),
-        "branch".into(),
-        "component".into(),
-        format!("E at {} [{}]", fmt_num(x_ref, 6), u.energy_unit()),
-        format!("E min [{}]", u.energy_unit()),
-        format!("E max [{}]", u.energy_unit()),
-    ]];
-    // the table lists the tracks inside the window at the reference point
-    let (lo, hi) = j.window;
-    let mut tracks: Vec<&TrackRecord> = j
-        .tracks
-        .iter()
-        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
-        .collect();
-    tracks.sort_by(|a, b| {
-        let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
-        let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
-        ea.total_cmp(&eb)
-    });
-    const MAX_ROWS: usize = 40;
-    for t in tracks.iter().take(MAX_ROWS) {
-        let (lo, hi) = t
-            .energies
-            .iter()
-            .flatten()
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
-                (a.min(e), b.max(e))
-            });
-        rows.push(vec![
-            t.label.clone(),
-            t.n.map(|n| n.to_string()).unwrap_or_else(|| "?".into()),
-            common::landau_branch_text(t.branch),
-            t.component.clone().unwrap_or_default(),
-            t.energies[j.reference_point]
-                .map(|e| fmt_num(e, 8))
-                .unwrap_or_else(|| "-".into()),
-            fmt_num(lo, 8),
-            fmt_num(hi, 8),
-        ]);
-    }
+    let (rows, listed) = track_rows(j, u.energy_unit(), x_ref);
     s.push('\n');
     s.push_str(&common::table(&rows));
-    let hidden = j.tracks.len() - tracks.len().min(MAX_ROWS);
+    let hidden = j.tracks.len() - listed;
     if hidden > 0 {
         s.push_str(&format!(
-            "({hidden} more tracks, outside the window at {} or beyond {MAX_ROWS} rows: see --json or --out)\n",
+            "({hidden} more tracks, outside the window at {} or beyond {MAX_TRACK_ROWS} rows: see --json or --out)\n",
             fmt_num(x_ref, 6)
         ));
     }
