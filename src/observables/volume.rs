@@ -217,6 +217,191 @@ struct Line {
     reach: f64,
 }
 
+/// The checks of a kz-integrated density before any solve; returns whether the model has odd
+/// powers of kz (then the kz grid spans -kz_max..kz_max, else 0..kz_max, doubled).
+fn check_volume_inputs(model: &Model, vs: &VolumeSettings) -> Result<bool> {
+    let (has_kz, odd) = kz_powers(model);
+    if !has_kz {
+        return Err(Error::Unsupported(format!(
+            "model '{}' has no kz term, so it is two-dimensional: use the density per area \
+             (observables::dos::LevelDensity) instead of a kz integral",
+            model.name()
+        )));
+    }
+    if vs.broadening.shape != LineShape::Gaussian {
+        return Err(Error::Unsupported(
+            "kz-integrated densities need a Gaussian line: a Lorentzian's tails make the \
+             3D carrier density diverge with the kz limit; use a Gaussian line shape"
+                .into(),
+        ));
+    }
+    let (from, to) = vs.range;
+    if !(from.is_finite() && to.is_finite() && to > from) {
+        return Err(Error::BadNumber {
+            name: "energy range".into(),
+            value: to - from,
+            fix: "give finite energies with upper > lower".into(),
+        });
+    }
+    check_temperature(vs.temperature_k)?;
+    if !(vs.tolerance.is_finite() && vs.tolerance > 0.0 && vs.tolerance < 1.0) {
+        return Err(Error::BadNumber {
+            name: "kz quadrature tolerance".into(),
+            value: vs.tolerance,
+            fix: "give a relative tolerance between 0 and 1, e.g. 1e-7".into(),
+        });
+    }
+    Ok(odd)
+}
+
+/// The kz limit: the given one, or the first of 1/l_B, 2/l_B, 4/l_B, ... beyond which no
+/// converged level enters the padded energy range (`lo`, `hi`), probed at k and 2k (and -k,
+/// -2k for a model odd in kz).
+fn kz_limit(
+    vs: &VolumeSettings,
+    odd: bool,
+    magnetic_length: f64,
+    (lo, hi): (f64, f64),
+    solve: &dyn Fn(&[f64]) -> Result<Vec<Spectrum>>,
+) -> Result<f64> {
+    match vs.kz_max {
+        Some(k) if k.is_finite() && k > 0.0 => return Ok(k),
+        Some(k) => {
+            return Err(Error::BadNumber {
+                name: "kz limit".into(),
+                value: k,
+                fix: "give a positive wave number, or let it be chosen".into(),
+            })
+        }
+        None => {}
+    }
+    let clear = |s: &Spectrum| s.converged().all(|l| l.energy < lo || l.energy > hi);
+    let mut k = 1.0 / magnetic_length;
+    for _ in 0..MAX_DOUBLINGS {
+        let probe: Vec<f64> = if odd {
+            vec![-k, k, -2.0 * k, 2.0 * k]
+        } else {
+            vec![k, 2.0 * k]
+        };
+        if solve(&probe)?.iter().all(clear) {
+            return Ok(k);
+        }
+        k *= 2.0;
+    }
+    Err(Error::NotConverged {
+        tolerance: vs.tolerance,
+        detail: format!(
+            "no kz limit up to {k:e} clears the energies {lo:e} to {hi:e} of levels; \
+             narrow the energy range or give the kz limit"
+        ),
+    })
+}
+
+/// Largest changes of one grid halving on the check energies: of the DOS (`dg`, against its
+/// largest value `gmax`) and of the carrier density (`dn`, against `nmax`).
+struct Change {
+    dg: f64,
+    gmax: f64,
+    dn: f64,
+    nmax: f64,
+}
+
+/// Running trapezoid sums of the DOS (`sg`) and the carrier density (`sn`) on
+/// [`CHECK_ENERGIES`] energies across the range: sum_i c_i f_i(E), c_i = 1/2 at the ends;
+/// halving the step adds the midpoints with weight 1, so each sheet is evaluated once.
+struct Trapezoid {
+    check: Vec<f64>,
+    line: Line,
+    sg: Vec<f64>,
+    sn: Vec<f64>,
+}
+
+impl Trapezoid {
+    fn new(vs: &VolumeSettings, line: Line) -> Self {
+        let (from, to) = vs.range;
+        let check: Vec<f64> = (0..CHECK_ENERGIES)
+            .map(|i| from + (to - from) * i as f64 / (CHECK_ENERGIES - 1) as f64)
+            .collect();
+        let n = check.len();
+        Trapezoid {
+            check,
+            line,
+            sg: vec![0.0; n],
+            sn: vec![0.0; n],
+        }
+    }
+
+    /// Sums of `sheets` (the ends weighted 1/2 when `ends`), added to `sg`, `sn`.
+    fn sums(&self, sheets: &[Sheet], ends: bool, sg: &mut [f64], sn: &mut [f64]) {
+        for (i, sh) in sheets.iter().enumerate() {
+            let c = if ends && (i == 0 || i + 1 == sheets.len()) {
+                0.5
+            } else {
+                1.0
+            };
+            for (k, &e) in self.check.iter().enumerate() {
+                sg[k] += c * sh.lines(&self.line, e);
+                sn[k] += c * sh.occupied(&self.line, e, 0.0);
+            }
+        }
+    }
+
+    /// Add the first grid.
+    fn add(&mut self, sheets: &[Sheet], ends: bool) {
+        let (mut sg, mut sn) = (std::mem::take(&mut self.sg), std::mem::take(&mut self.sn));
+        self.sums(sheets, ends, &mut sg, &mut sn);
+        (self.sg, self.sn) = (sg, sn);
+    }
+
+    /// Add the midpoints `fresh` of a halving; `c_old`, `c_new` scale the sums before and after
+    /// into densities. Returns the largest changes.
+    fn refine(&mut self, fresh: &[Sheet], c_old: f64, c_new: f64) -> Change {
+        let n = self.check.len();
+        let (mut mg, mut mn) = (vec![0.0; n], vec![0.0; n]);
+        self.sums(fresh, false, &mut mg, &mut mn);
+        let mut c = Change {
+            dg: 0.0,
+            gmax: 0.0,
+            dn: 0.0,
+            nmax: 0.0,
+        };
+        for k in 0..n {
+            let (g1, g2) = (c_old * self.sg[k], c_new * (self.sg[k] + mg[k]));
+            let (n1, n2) = (c_old * self.sn[k], c_new * (self.sn[k] + mn[k]));
+            c.dg = c.dg.max((g1 - g2).abs());
+            c.gmax = c.gmax.max(g2.abs());
+            c.dn = c.dn.max((n1 - n2).abs());
+            c.nmax = c.nmax.max(n2.abs());
+            self.sg[k] += mg[k];
+            self.sn[k] += mn[k];
+        }
+        c
+    }
+}
+
+/// The grid after a halving: old points and sheets with the midpoints between them.
+fn interleave(
+    kz: Vec<f64>,
+    sheets: Vec<Sheet>,
+    mids: &[f64],
+    fresh: Vec<Sheet>,
+) -> (Vec<f64>, Vec<Sheet>) {
+    let mut k2 = Vec::with_capacity(kz.len() + mids.len());
+    let mut s2 = Vec::with_capacity(kz.len() + mids.len());
+    let mut fresh = fresh.into_iter();
+    for (i, (k, sh)) in kz.into_iter().zip(sheets).enumerate() {
+        k2.push(k);
+        s2.push(sh);
+        if i < mids.len() {
+            k2.push(mids[i]);
+            if let Some(f) = fresh.next() {
+                s2.push(f);
+            }
+        }
+    }
+    (k2, s2)
+}
+
 /// Convert a density per (model length unit)^3 into cm^-3.
 ///
 /// Lab units: 1 nm^-3 = 1e21 cm^-3. Natural units: the length unit is the reduced Compton
@@ -265,42 +450,12 @@ impl VolumeDensity {
         settings: &Settings,
         vs: &VolumeSettings,
     ) -> Result<Self> {
-        let (has_kz, odd) = kz_powers(model);
-        if !has_kz {
-            return Err(Error::Unsupported(format!(
-                "model '{}' has no kz term, so it is two-dimensional: use the density per area \
-                 (observables::dos::LevelDensity) instead of a kz integral",
-                model.name()
-            )));
-        }
-        if vs.broadening.shape != LineShape::Gaussian {
-            return Err(Error::Unsupported(
-                "kz-integrated densities need a Gaussian line: a Lorentzian's tails make the \
-                 3D carrier density diverge with the kz limit; use a Gaussian line shape"
-                    .into(),
-            ));
-        }
+        let odd = check_volume_inputs(model, vs)?;
         let (from, to) = vs.range;
-        if !(from.is_finite() && to.is_finite() && to > from) {
-            return Err(Error::BadNumber {
-                name: "energy range".into(),
-                value: to - from,
-                fix: "give finite energies with upper > lower".into(),
-            });
-        }
-        let t = vs.temperature_k;
-        check_temperature(t)?;
-        if !(vs.tolerance.is_finite() && vs.tolerance > 0.0 && vs.tolerance < 1.0) {
-            return Err(Error::BadNumber {
-                name: "kz quadrature tolerance".into(),
-                value: vs.tolerance,
-                fix: "give a relative tolerance between 0 and 1, e.g. 1e-7".into(),
-            });
-        }
         let width = vs.broadening.width_at(field)?;
         let reach = vs.broadening.reach(width).unwrap_or(f64::INFINITY);
         let units = model.units();
-        let kt = thermal_energy(units, t);
+        let kt = thermal_energy(units, vs.temperature_k);
         let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
             let pts: Vec<FieldPoint> = kz.iter().map(|&kz| FieldPoint { field, kz }).collect();
             crate::sweep::run(model, &pts, settings)
@@ -320,40 +475,7 @@ impl VolumeDensity {
             lo = lo.min(e0 - pad);
             hi = hi.max(e0 + pad);
         }
-        let clear = |s: &Spectrum| s.converged().all(|l| l.energy < lo || l.energy > hi);
-        let kz_max = match vs.kz_max {
-            Some(k) if k.is_finite() && k > 0.0 => k,
-            Some(k) => {
-                return Err(Error::BadNumber {
-                    name: "kz limit".into(),
-                    value: k,
-                    fix: "give a positive wave number, or let it be chosen".into(),
-                })
-            }
-            None => {
-                let mut k = 1.0 / first.magnetic_length;
-                let mut found = None;
-                for _ in 0..MAX_DOUBLINGS {
-                    let probe: Vec<f64> = if odd {
-                        vec![-k, k, -2.0 * k, 2.0 * k]
-                    } else {
-                        vec![k, 2.0 * k]
-                    };
-                    if solve(&probe)?.iter().all(clear) {
-                        found = Some(k);
-                        break;
-                    }
-                    k *= 2.0;
-                }
-                found.ok_or_else(|| Error::NotConverged {
-                    tolerance: vs.tolerance,
-                    detail: format!(
-                        "no kz limit up to {k:e} clears the energies {lo:e} to {hi:e} of levels; \
-                         narrow the energy range or give the kz limit"
-                    ),
-                })?
-            }
-        };
+        let kz_max = kz_limit(vs, odd, first.magnetic_length, (lo, hi), &solve)?;
         let start = if odd { -kz_max } else { 0.0 };
         let span = kz_max - start;
         let both = if odd { 1.0 } else { 2.0 };
@@ -365,37 +487,21 @@ impl VolumeDensity {
                 .map(|s| sheet(s, lo, hi, neutrality, bounded, width))
                 .collect()
         };
-        let check: Vec<f64> = (0..CHECK_ENERGIES)
-            .map(|i| from + (to - from) * i as f64 / (CHECK_ENERGIES - 1) as f64)
-            .collect();
-        let line = Line {
-            broadening: vs.broadening,
-            width,
-            reach,
-        };
-        // running trapezoid sums on the check energies: sum_i c_i f_i(E), c_i = 1/2 at the ends;
-        // halving the step adds the midpoints with weight 1 (each sheet is evaluated once)
-        let add = |sheets: &[Sheet], ends: bool, sg: &mut [f64], sn: &mut [f64]| {
-            for (i, sh) in sheets.iter().enumerate() {
-                let c = if ends && (i == 0 || i + 1 == sheets.len()) {
-                    0.5
-                } else {
-                    1.0
-                };
-                for (k, &e) in check.iter().enumerate() {
-                    sg[k] += c * sh.lines(&line, e);
-                    sn[k] += c * sh.occupied(&line, e, 0.0);
-                }
-            }
-        };
+        let mut sums = Trapezoid::new(
+            vs,
+            Line {
+                broadening: vs.broadening,
+                width,
+                reach,
+            },
+        );
         // grid of 2^r (FIRST_POINTS - 1) + 1 points, refined by adding midpoints
         let mut intervals = FIRST_POINTS - 1;
         let mut kz: Vec<f64> = (0..=intervals)
             .map(|i| start + span * i as f64 / intervals as f64)
             .collect();
         let mut sheets = make(&solve(&kz)?)?;
-        let (mut sg, mut sn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
-        add(&sheets, true, &mut sg, &mut sn);
+        sums.add(&sheets, true);
         let scale = |intervals: usize| per_level * both * span / intervals as f64 / (2.0 * PI);
         let mut last_change = f64::INFINITY;
         loop {
@@ -414,39 +520,13 @@ impl VolumeDensity {
                 .map(|i| start + h * (i as f64 + 0.5))
                 .collect();
             let fresh = make(&solve(&mids)?)?;
-            let (mut mg, mut mn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
-            add(&fresh, false, &mut mg, &mut mn);
-            let (c_old, c_new) = (scale(intervals), scale(2 * intervals));
-            let (mut dg, mut gmax, mut dn, mut nmax) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
-            for k in 0..check.len() {
-                let (g1, g2) = (c_old * sg[k], c_new * (sg[k] + mg[k]));
-                let (n1, n2) = (c_old * sn[k], c_new * (sn[k] + mn[k]));
-                dg = dg.max((g1 - g2).abs());
-                gmax = gmax.max(g2.abs());
-                dn = dn.max((n1 - n2).abs());
-                nmax = nmax.max(n2.abs());
-                sg[k] += mg[k];
-                sn[k] += mn[k];
-            }
-            // interleave old and new points
-            let mut k2 = Vec::with_capacity(2 * intervals + 1);
-            let mut s2 = Vec::with_capacity(2 * intervals + 1);
-            let mut fresh = fresh.into_iter();
-            for (i, (k, sh)) in kz.iter().zip(sheets).enumerate() {
-                k2.push(*k);
-                s2.push(sh);
-                if i < intervals {
-                    k2.push(mids[i]);
-                    s2.push(fresh.next().expect("one sheet per midpoint"));
-                }
-            }
-            kz = k2;
-            sheets = s2;
+            let change = sums.refine(&fresh, scale(intervals), scale(2 * intervals));
+            (kz, sheets) = interleave(kz, sheets, &mids, fresh);
             intervals *= 2;
-            last_change = dg / gmax.max(f64::MIN_POSITIVE);
+            last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
             // a density scale that is not zero where n3 crosses zero inside the range
-            let n_scale = nmax.max(gmax * (to - from));
-            if dg <= vs.tolerance * gmax && dn <= vs.tolerance * n_scale {
+            let n_scale = change.nmax.max(change.gmax * (to - from));
+            if change.dg <= vs.tolerance * change.gmax && change.dn <= vs.tolerance * n_scale {
                 let h = span / intervals as f64;
                 let weights = (0..kz.len())
                     .map(|i| {
@@ -473,10 +553,10 @@ impl VolumeDensity {
                     even_in_kz: !odd,
                     kz,
                     weights,
-                    quadrature_error: dg,
-                    density_quadrature_error: dn,
+                    quadrature_error: change.dg,
+                    density_quadrature_error: change.dn,
                     cutoff: settings.cutoff,
-                    line,
+                    line: sums.line,
                     sheets,
                 });
             }
