@@ -346,31 +346,7 @@ impl ModelBuilder {
                 fix: "give at least one component".into(),
             });
         }
-        check_finite("charge", m.charge)?;
-        if m.charge == 0.0 {
-            return Err(Error::BadNumber {
-                name: "charge".into(),
-                value: 0.0,
-                fix: "a neutral carrier has no Landau levels; use -1 (electron) or +1 (hole, positron)"
-                    .into(),
-            });
-        }
-        check_finite("reference energy", m.reference_energy)?;
-        if let SpectrumForm::KleinGordon { rest_energy } = m.form {
-            if !(rest_energy.is_finite() && rest_energy > 0.0) {
-                return Err(Error::BadNumber {
-                    name: "rest energy".into(),
-                    value: rest_energy,
-                    fix: "the Klein-Gordon form needs a positive finite m c^2".into(),
-                });
-            }
-        }
-        if m.degeneracy == 0 {
-            return Err(Error::InvalidModel {
-                what: "degeneracy 0".into(),
-                fix: "use 1 unless spin or valley copies are not among the components".into(),
-            });
-        }
+        check_scalars(&m)?;
         if m.component_names.is_empty() {
             m.component_names = (0..d).map(|i| format!("c{i}")).collect();
         } else if m.component_names.len() != d {
@@ -382,58 +358,97 @@ impl ModelBuilder {
                 fix: "give one name per component".into(),
             });
         }
-        if m.terms.is_empty() {
-            return Err(Error::InvalidModel {
-                what: "the model has no terms".into(),
-                fix: "add at least one term".into(),
-            });
-        }
-        for t in &m.terms {
-            if t.matrix.nrows() != d || t.matrix.ncols() != d {
-                return Err(Error::InvalidModel {
-                    what: format!(
-                        "term '{}' has a {}x{} matrix in a {d}-component model",
-                        t.label,
-                        t.matrix.nrows(),
-                        t.matrix.ncols()
-                    ),
-                    fix: format!(
-                        "give a {d}x{d} matrix (a Pauli string of {} factors)",
-                        d.ilog2()
-                    ),
-                });
-            }
-            if !(t.coefficient.re.is_finite() && t.coefficient.im.is_finite())
-                || t.matrix
-                    .iter()
-                    .any(|z| !(z.re.is_finite() && z.im.is_finite()))
-            {
-                return Err(Error::InvalidModel {
-                    what: format!("term '{}' has a non-finite number", t.label),
-                    fix: "use finite coefficients and matrix entries".into(),
-                });
-            }
-            if t.monomial.inplane_degree() > MAX_INPLANE_DEGREE {
-                return Err(Error::InvalidModel {
-                    what: format!(
-                        "term '{}' has in-plane degree {} ({})",
-                        t.label,
-                        t.monomial.inplane_degree(),
-                        t.monomial
-                    ),
-                    fix: format!("keep kx + ky powers at or below {MAX_INPLANE_DEGREE}"),
-                });
-            }
-            if t.monomial.field > 1 {
-                return Err(Error::InvalidModel {
-                    what: format!("term '{}' has B^{}", t.label, t.monomial.field),
-                    fix: "terms may be at most linear in the field B".into(),
-                });
-            }
-        }
+        check_terms(&m)?;
         check_hermitian(&m)?;
         Ok(m)
     }
+}
+
+/// The scalar checks of [`ModelBuilder::build`]: a finite non-zero charge, a finite reference
+/// energy, a positive rest energy for the Klein-Gordon form, a non-zero degeneracy.
+fn check_scalars(m: &Model) -> Result<()> {
+    check_finite("charge", m.charge)?;
+    if m.charge == 0.0 {
+        return Err(Error::BadNumber {
+            name: "charge".into(),
+            value: 0.0,
+            fix: "a neutral carrier has no Landau levels; use -1 (electron) or +1 (hole, positron)"
+                .into(),
+        });
+    }
+    check_finite("reference energy", m.reference_energy)?;
+    if let SpectrumForm::KleinGordon { rest_energy } = m.form {
+        if !(rest_energy.is_finite() && rest_energy > 0.0) {
+            return Err(Error::BadNumber {
+                name: "rest energy".into(),
+                value: rest_energy,
+                fix: "the Klein-Gordon form needs a positive finite m c^2".into(),
+            });
+        }
+    }
+    if m.degeneracy == 0 {
+        return Err(Error::InvalidModel {
+            what: "degeneracy 0".into(),
+            fix: "use 1 unless spin or valley copies are not among the components".into(),
+        });
+    }
+    Ok(())
+}
+
+/// The term checks of [`ModelBuilder::build`]: at least one term, each with a d x d matrix,
+/// finite numbers, in-plane degree at most [`MAX_INPLANE_DEGREE`], at most linear in B.
+fn check_terms(m: &Model) -> Result<()> {
+    let d = m.dim;
+    if m.terms.is_empty() {
+        return Err(Error::InvalidModel {
+            what: "the model has no terms".into(),
+            fix: "add at least one term".into(),
+        });
+    }
+    for t in &m.terms {
+        if t.matrix.nrows() != d || t.matrix.ncols() != d {
+            return Err(Error::InvalidModel {
+                what: format!(
+                    "term '{}' has a {}x{} matrix in a {d}-component model",
+                    t.label,
+                    t.matrix.nrows(),
+                    t.matrix.ncols()
+                ),
+                fix: format!(
+                    "give a {d}x{d} matrix (a Pauli string of {} factors)",
+                    d.ilog2()
+                ),
+            });
+        }
+        if !(t.coefficient.re.is_finite() && t.coefficient.im.is_finite())
+            || t.matrix
+                .iter()
+                .any(|z| !(z.re.is_finite() && z.im.is_finite()))
+        {
+            return Err(Error::InvalidModel {
+                what: format!("term '{}' has a non-finite number", t.label),
+                fix: "use finite coefficients and matrix entries".into(),
+            });
+        }
+        if t.monomial.inplane_degree() > MAX_INPLANE_DEGREE {
+            return Err(Error::InvalidModel {
+                what: format!(
+                    "term '{}' has in-plane degree {} ({})",
+                    t.label,
+                    t.monomial.inplane_degree(),
+                    t.monomial
+                ),
+                fix: format!("keep kx + ky powers at or below {MAX_INPLANE_DEGREE}"),
+            });
+        }
+        if t.monomial.field > 1 {
+            return Err(Error::InvalidModel {
+                what: format!("term '{}' has B^{}", t.label, t.monomial.field),
+                fix: "terms may be at most linear in the field B".into(),
+            });
+        }
+    }
+    Ok(())
 }
 
 fn check_finite(name: &str, v: f64) -> Result<()> {
