@@ -9,7 +9,7 @@ runs the ladderfan probe (tools/compare_probe.rs, a bench target) on the same pr
 eigenvalues agree within a tolerance scaled by the matrix norm, and prints one table of times,
 ratios and peak memory, all measured in this run.
 
-Element formulas (independent of the Rust code; see src/builtin.rs and src/ladder.rs for the
+Element formulas (independent of the Rust code; see src/models/ and src/ladder.rs for the
 conventions they restate): H = c alpha.k + beta m c^2 with alpha_i = sigma_x (x) sigma_i,
 beta = sigma_z (x) 1; Peierls substitution with s = sign(qB), l_B = 1/sqrt(|q B|):
 kx = (a + a^dag)/(sqrt2 l_B), ky = -i s (a - a^dag)/(sqrt2 l_B), <n-1|a|n> = sqrt(n).
