@@ -297,13 +297,7 @@ pub fn fermi_level(
     let t = settings.temperature_k;
     check_temperature(t)?;
     let target = settings.carrier_density;
-    if !target.is_finite() {
-        return Err(Error::BadNumber {
-            name: "carrier density".into(),
-            value: target,
-            fix: "give a finite density".into(),
-        });
-    }
+    check_target_density(target)?;
     let density = LevelDensity::new(model, spectrum, settings.broadening)?;
     let neutrality = settings.neutrality.resolve(spectrum, &density);
     let kt = thermal_energy(spectrum.units, t);
@@ -315,52 +309,123 @@ pub fn fermi_level(
         width: w,
     };
     let n_at = |mu: f64| carrier_density(&density, &occ_at(mu), neutrality);
-    let margin = 5.0 * w + 10.0 * kt;
-    let (lo_e, hi_e) = density.window;
-    let unit = per_area_unit(spectrum.units);
-    // upper edge: always a limit
-    let hi = hi_e - margin;
-    let n_hi = n_at(hi);
-    if target > n_hi {
-        return Err(Error::BadNumber {
-            name: format!("carrier density ({unit})"),
-            value: target,
-            fix: format!(
-                "the converged levels hold at most {n_hi:.6e} {unit} before the Fermi level comes \
-                 within {margin:.3e} of the top of the converged window at {hi_e:.6e}; raise the \
-                 cutoff or lower the density"
-            ),
-        });
-    }
-    let mut lo = match neutrality {
-        Some(_) => lo_e + margin,
-        None => {
-            if target <= 0.0 {
-                return Err(Error::BadNumber {
-                    name: format!("carrier density ({unit})"),
-                    value: target,
-                    fix: "a band that is empty at neutrality needs a positive density; pass \
-                          a neutrality energy for densities counted from a filled band"
-                        .into(),
-                });
-            }
-            lo_e - margin
-        }
+    let bracket = Bracket {
+        target,
+        margin: 5.0 * w + 10.0 * kt,
+        window: density.window,
+        unit: per_area_unit(spectrum.units),
     };
-    let mut n_lo = n_at(lo);
-    if neutrality.is_some() && target < n_lo {
+    let hi = bracket.upper(&n_at)?;
+    let lo = bracket.lower(&n_at, neutrality)?;
+    // In a gap n(mu) is flat (to rounding): take the middle of the interval where
+    // |n(mu) - target| <= 1e-12 of one level's capacity, found by two bisections.
+    let slack = 1e-12 * density.per_level;
+    let scale = lo.abs().max(hi.abs()).max(w);
+    let mu = flat_middle(&n_at, (lo, hi), target, slack, scale);
+    let n = n_at(mu);
+    let landau = landau_degeneracy_per_area(spectrum.units, spectrum.point.field, model.charge());
+    Ok(FermiSolution {
+        field: spectrum.point.field,
+        fermi_energy: mu,
+        carrier_density: n,
+        filling_factor: n / landau,
+        dos_at_fermi: thermal_dos(&density, &occ_at(mu)),
+        neutrality_energy: neutrality,
+        width: w,
+        thermal_energy: kt,
+        occupation: occ_at(mu),
+    })
+}
+
+/// The requested carrier density must be finite.
+fn check_target_density(target: f64) -> Result<()> {
+    if !target.is_finite() {
         return Err(Error::BadNumber {
-            name: format!("carrier density ({unit})"),
+            name: "carrier density".into(),
             value: target,
-            fix: format!(
-                "the converged levels reach down to {n_lo:.6e} {unit} only before the Fermi level \
-                 comes within {margin:.3e} of the bottom of the converged window at {lo_e:.6e}; \
-                 raise the cutoff or raise the density"
-            ),
+            fix: "give a finite density".into(),
         });
     }
-    // empty band: move down until the density is below the target (Lorentzian tails are long)
-    let mut spread = (hi_e - lo_e).abs().max(margin).max(f64::MIN_POSITIVE);
+    Ok(())
+}
+
+/// What the bracket of the Fermi level needs: the target density, the safety margin
+/// `5 w + 10 kT` from the edges of the converged window `(lo_e, hi_e)`, and the density unit
+/// for messages.
+struct Bracket {
+    target: f64,
+    margin: f64,
+    window: (f64, f64),
+    unit: &'static str,
+}
+
+impl Bracket {
+    /// Upper end `hi_e - margin`: always a limit; the target must not exceed `n(hi)`.
+    fn upper(&self, n_at: &dyn Fn(f64) -> f64) -> Result<f64> {
+        let (target, margin, unit) = (self.target, self.margin, self.unit);
+        let hi_e = self.window.1;
+        let hi = hi_e - margin;
+        let n_hi = n_at(hi);
+        if target > n_hi {
+            return Err(Error::BadNumber {
+                name: format!("carrier density ({unit})"),
+                value: target,
+                fix: format!(
+                    "the converged levels hold at most {n_hi:.6e} {unit} before the Fermi level \
+                     comes within {margin:.3e} of the top of the converged window at {hi_e:.6e}; \
+                     raise the cutoff or lower the density"
+                ),
+            });
+        }
+        Ok(hi)
+    }
+
+    /// Lower end: `lo_e + margin` (a limit) with a neutrality energy; without one,
+    /// `lo_e - margin` moved down until `n(lo) <= target`.
+    fn lower(&self, n_at: &dyn Fn(f64) -> f64, neutrality: Option<f64>) -> Result<f64> {
+        let (target, margin, unit) = (self.target, self.margin, self.unit);
+        let (lo_e, hi_e) = self.window;
+        let lo = match neutrality {
+            Some(_) => lo_e + margin,
+            None => {
+                if target <= 0.0 {
+                    return Err(Error::BadNumber {
+                        name: format!("carrier density ({unit})"),
+                        value: target,
+                        fix: "a band that is empty at neutrality needs a positive density; pass \
+                              a neutrality energy for densities counted from a filled band"
+                            .into(),
+                    });
+                }
+                lo_e - margin
+            }
+        };
+        let n_lo = n_at(lo);
+        if neutrality.is_some() && target < n_lo {
+            return Err(Error::BadNumber {
+                name: format!("carrier density ({unit})"),
+                value: target,
+                fix: format!(
+                    "the converged levels reach down to {n_lo:.6e} {unit} only before the Fermi \
+                     level comes within {margin:.3e} of the bottom of the converged window at \
+                     {lo_e:.6e}; raise the cutoff or raise the density"
+                ),
+            });
+        }
+        // empty band: move down until the density is below the target (Lorentzian tails are long)
+        let spread = (hi_e - lo_e).abs().max(margin).max(f64::MIN_POSITIVE);
+        widen_down(n_at, target, lo, n_lo, spread)
+    }
+}
+
+/// Step `lo` down by a doubling `spread` while `n(lo) > target` (at most 200 steps).
+fn widen_down(
+    n_at: &dyn Fn(f64) -> f64,
+    target: f64,
+    mut lo: f64,
+    mut n_lo: f64,
+    mut spread: f64,
+) -> Result<f64> {
     let mut guard = 0;
     while n_lo > target {
         lo -= spread;
@@ -374,10 +439,18 @@ pub fn fermi_level(
             });
         }
     }
-    // In a gap n(mu) is flat (to rounding): take the middle of the interval where
-    // |n(mu) - target| <= 1e-12 of one level's capacity, found by two bisections.
-    let slack = 1e-12 * density.per_level;
-    let scale = lo.abs().max(hi.abs()).max(w);
+    Ok(lo)
+}
+
+/// Middle of the interval in `[lo, hi]` where `|n(mu) - target| <= slack`: one bisection
+/// for its lower end, one for its upper end, each stopped at `1e-14 * scale`.
+fn flat_middle(
+    n_at: &dyn Fn(f64) -> f64,
+    (lo, hi): (f64, f64),
+    target: f64,
+    slack: f64,
+    scale: f64,
+) -> f64 {
     let bisect = |mut a: f64, mut b: f64, below: &dyn Fn(f64) -> bool| {
         for _ in 0..200 {
             let mid = 0.5 * (a + b);
@@ -394,20 +467,7 @@ pub fn fermi_level(
     };
     let mu_lo = bisect(lo, hi, &|m| n_at(m) < target - slack);
     let mu_hi = bisect(mu_lo, hi, &|m| n_at(m) <= target + slack);
-    let mu = 0.5 * (mu_lo + mu_hi);
-    let n = n_at(mu);
-    let landau = landau_degeneracy_per_area(spectrum.units, spectrum.point.field, model.charge());
-    Ok(FermiSolution {
-        field: spectrum.point.field,
-        fermi_energy: mu,
-        carrier_density: n,
-        filling_factor: n / landau,
-        dos_at_fermi: thermal_dos(&density, &occ_at(mu)),
-        neutrality_energy: neutrality,
-        width: w,
-        thermal_energy: kt,
-        occupation: occ_at(mu),
-    })
+    0.5 * (mu_lo + mu_hi)
 }
 
 /// dn/dmu: the DOS at the Fermi level, thermally smeared at T > 0 (a centred difference of the

@@ -369,29 +369,13 @@ pub fn transitions(
         .iter()
         .map(|&i| occupation.of_level(spectrum.levels[i].energy))
         .collect();
-    // <f|v|i> vanishes unless f has weight on a state that v|i> reaches: index the converged
-    // levels by the states of their vectors, so each i meets only the levels sharing a state
-    // with v|i> (O(L) pairs for exactly conserved J, where sectors hold <= d states)
-    let mut by_state: HashMap<(usize, usize), Vec<usize>> = HashMap::new();
-    for (b, &f) in conv.iter().enumerate() {
-        for &st in &vecs[f].states {
-            by_state.entry(st).or_default().push(b);
-        }
-    }
+    let by_state = index_by_state(&conv, vecs);
     let mut candidates: Vec<usize> = Vec::new();
     let mut out = Vec::new();
     for (a, &i) in conv.iter().enumerate() {
         let applied = vop.apply(&vecs[i]);
         let ei = spectrum.levels[i].energy;
-        candidates.clear();
-        for st in applied.x.keys().chain(applied.y.keys()) {
-            if let Some(bs) = by_state.get(st) {
-                candidates.extend_from_slice(bs);
-            }
-        }
-        // ascending, as in a scan of every pair (the order of equal entries in the result)
-        candidates.sort_unstable();
-        candidates.dedup();
+        reached_levels(&applied, &by_state, &mut candidates);
         for &b in &candidates {
             let f = conv[b];
             let ef = spectrum.levels[f].energy;
@@ -404,46 +388,97 @@ pub fn transitions(
                 continue;
             }
             let v = applied.project(&vecs[f]);
-            let (sx, sy) = (v.x.norm_sqr() * dw, v.y.norm_sqr() * dw);
-            let (sp, sm) = (v.plus().norm_sqr() * dw, v.minus().norm_sqr() * dw);
-            let lf = &spectrum.levels[f];
-            let li = &spectrum.levels[i];
-            out.push(Transition {
-                from: i,
-                to: f,
-                from_key: keys[i],
-                to_key: keys[f],
-                from_label: li.label,
-                to_label: lf.label,
-                from_orbital: li.orbital,
-                to_orbital: lf.orbital,
-                from_energy: ei,
-                to_energy: ef,
-                energy: de,
-                occupation_difference: dw,
-                velocity: v,
-                strength_x: sx,
-                strength_y: sy,
-                strength_plus: sp,
-                strength_minus: sm,
-                relative_strength: 0.0,
-                oscillator_strength_x: oscillator(spectrum.units, v.x.norm_sqr(), de),
-                polarisation: if sm <= 1e-6 * sp {
-                    Polarisation::SigmaPlus
-                } else if sp <= 1e-6 * sm {
-                    Polarisation::SigmaMinus
-                } else {
-                    Polarisation::Mixed
-                },
-            });
+            out.push(transition(spectrum, &keys, (i, f), v, de, dw));
         }
     }
+    keep_relative_strength(&mut out, settings.min_relative_strength);
+    Ok(out)
+}
+
+/// `<f|v|i>` vanishes unless f has weight on a state that `v|i>` reaches: index the converged
+/// levels (positions in `conv`) by the states of their vectors, so each i meets only the levels
+/// sharing a state with `v|i>` (O(L) pairs for exactly conserved J, where sectors hold <= d
+/// states).
+fn index_by_state(conv: &[usize], vecs: &[LevelVector]) -> HashMap<(usize, usize), Vec<usize>> {
+    let mut by_state: HashMap<(usize, usize), Vec<usize>> = HashMap::new();
+    for (b, &f) in conv.iter().enumerate() {
+        for &st in &vecs[f].states {
+            by_state.entry(st).or_default().push(b);
+        }
+    }
+    by_state
+}
+
+/// The converged levels (positions in `conv`) sharing a state with `v|i>`, into `candidates`.
+fn reached_levels(
+    applied: &AppliedVelocity,
+    by_state: &HashMap<(usize, usize), Vec<usize>>,
+    candidates: &mut Vec<usize>,
+) {
+    candidates.clear();
+    for st in applied.x.keys().chain(applied.y.keys()) {
+        if let Some(bs) = by_state.get(st) {
+            candidates.extend_from_slice(bs);
+        }
+    }
+    // ascending, as in a scan of every pair (the order of equal entries in the result)
+    candidates.sort_unstable();
+    candidates.dedup();
+}
+
+/// The transition i -> f with velocity element `v`, energy `de` and occupation difference `dw`
+/// (strengths `|v|^2 dw`; relative strength filled in later).
+fn transition(
+    spectrum: &Spectrum,
+    keys: &[TrackKey],
+    (i, f): (usize, usize),
+    v: VelocityElement,
+    de: f64,
+    dw: f64,
+) -> Transition {
+    let (sx, sy) = (v.x.norm_sqr() * dw, v.y.norm_sqr() * dw);
+    let (sp, sm) = (v.plus().norm_sqr() * dw, v.minus().norm_sqr() * dw);
+    let lf = &spectrum.levels[f];
+    let li = &spectrum.levels[i];
+    Transition {
+        from: i,
+        to: f,
+        from_key: keys[i],
+        to_key: keys[f],
+        from_label: li.label,
+        to_label: lf.label,
+        from_orbital: li.orbital,
+        to_orbital: lf.orbital,
+        from_energy: li.energy,
+        to_energy: lf.energy,
+        energy: de,
+        occupation_difference: dw,
+        velocity: v,
+        strength_x: sx,
+        strength_y: sy,
+        strength_plus: sp,
+        strength_minus: sm,
+        relative_strength: 0.0,
+        oscillator_strength_x: oscillator(spectrum.units, v.x.norm_sqr(), de),
+        polarisation: if sm <= 1e-6 * sp {
+            Polarisation::SigmaPlus
+        } else if sp <= 1e-6 * sm {
+            Polarisation::SigmaMinus
+        } else {
+            Polarisation::Mixed
+        },
+    }
+}
+
+/// Drop transitions weaker than `min_relative` times the strongest (`strength_x + strength_y`),
+/// fill in the relative strengths, sort by energy, then strongest first.
+fn keep_relative_strength(out: &mut Vec<Transition>, min_relative: f64) {
     let max = out
         .iter()
         .map(|t| t.strength_x + t.strength_y)
         .fold(0.0, f64::max);
-    out.retain(|t| t.strength_x + t.strength_y > settings.min_relative_strength * max);
-    for t in &mut out {
+    out.retain(|t| t.strength_x + t.strength_y > min_relative * max);
+    for t in out.iter_mut() {
         t.relative_strength = (t.strength_x + t.strength_y) / max;
     }
     out.sort_by(|p, q| {
@@ -451,7 +486,6 @@ pub fn transitions(
             .total_cmp(&q.energy)
             .then(q.relative_strength.total_cmp(&p.relative_strength))
     });
-    Ok(out)
 }
 
 /// Transitions at one field of a sweep.

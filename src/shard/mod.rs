@@ -379,13 +379,30 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
         parsed.push((name.clone(), parse_table(name, text)?));
     }
     let base = &parsed[0].1;
+    check_same_sweep(&parsed, &first.0)?;
+    let by_k = shards_in_order(&parsed)?;
+    let columns = fields(&base.columns, &format!("{}: column line", first.0))?;
+    let (group_cols, keep) = grouping_columns(base, &columns, &first.0)?;
+    let mut rows = collect_rows(&parsed, &by_k, &columns, &group_cols, keep)?;
+    rows.sort_by(|a, b| a.0.cmp(&b.0)); // stable: keeps shard (= point) order inside a group
+    let keep_group: Option<Vec<bool>> = keep.map(|(_, lo, hi)| groups_entering(&rows, lo, hi));
+    Ok(render_merged(base, &rows, keep_group.as_deref()))
+}
+
+/// One data row of the merged table: group key, filter value (when a filter is set), text.
+type MergeRow<'a> = (Vec<KeyPart>, Option<f64>, &'a str);
+
+/// The filter of a shard header as (column index, lo, hi).
+type KeepWindow = Option<(usize, f64, f64)>;
+
+/// Every shard after the first must agree with the first (named `first`) on N, P, grouping,
+/// filter, column line and comment lines.
+fn check_same_sweep(parsed: &[(String, Parsed)], first: &str) -> Result<()> {
+    let base = &parsed[0].1;
     let (n, p) = (base.header.shard.count, base.header.total_points);
     let mismatch = |name: &str, what: String| Error::Parse {
         location: name.to_string(),
-        message: format!(
-            "{what} (compared with {}); these shards are not from one sweep",
-            first.0
-        ),
+        message: format!("{what} (compared with {first}); these shards are not from one sweep"),
     };
     for (name, t) in &parsed[1..] {
         let h = &t.header;
@@ -417,7 +434,13 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
             return Err(mismatch(name, "a different number of header lines".into()));
         }
     }
-    // every K exactly once
+    Ok(())
+}
+
+/// Shard index K -> position in `parsed`, checking every K in 1..=N appears exactly once.
+fn shards_in_order(parsed: &[(String, Parsed)]) -> Result<BTreeMap<usize, usize>> {
+    let base = &parsed[0].1;
+    let (n, p) = (base.header.shard.count, base.header.total_points);
     let mut by_k: BTreeMap<usize, usize> = BTreeMap::new();
     for (i, (name, t)) in parsed.iter().enumerate() {
         if let Some(j) = by_k.insert(t.header.shard.index, i) {
@@ -443,13 +466,21 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
             ),
         });
     }
-    let columns = fields(&base.columns, &format!("{}: column line", first.0))?;
+    Ok(by_k)
+}
+
+/// Column indices of the grouping columns and of the filter column (with its window).
+fn grouping_columns(
+    base: &Parsed,
+    columns: &[String],
+    first: &str,
+) -> Result<(Vec<usize>, KeepWindow)> {
     let col_index = |c: &str| {
         columns
             .iter()
             .position(|x| x == c)
             .ok_or_else(|| Error::Parse {
-                location: first.0.clone(),
+                location: first.to_string(),
                 message: format!("column `{c}` named in the shard line does not exist"),
             })
     };
@@ -463,9 +494,19 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
         Some(k) => Some((col_index(&k.column)?, k.lo, k.hi)),
         None => None,
     };
-    // rows in shard order; keys; the point of each row belongs to one shard only
+    Ok((group_cols, keep))
+}
+
+/// Rows in shard order with their keys; the point of each row belongs to one shard only.
+fn collect_rows<'a>(
+    parsed: &'a [(String, Parsed)],
+    by_k: &BTreeMap<usize, usize>,
+    columns: &[String],
+    group_cols: &[usize],
+    keep: KeepWindow,
+) -> Result<Vec<MergeRow<'a>>> {
     let mut point_owner: BTreeMap<String, usize> = BTreeMap::new();
-    let mut rows: Vec<(Vec<KeyPart>, Option<f64>, &str)> = Vec::new();
+    let mut rows: Vec<MergeRow<'a>> = Vec::new();
     for &i in by_k.values() {
         let (name, t) = &parsed[i];
         for (r, line) in t.rows.iter().enumerate() {
@@ -503,24 +544,30 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
             rows.push((key, value, line.as_str()));
         }
     }
-    rows.sort_by(|a, b| a.0.cmp(&b.0)); // stable: keeps shard (= point) order inside a group
-    let keep_group: Option<Vec<bool>> = keep.map(|(_, lo, hi)| {
-        // groups are contiguous after the sort: mark each row's group once
-        let mut flags = vec![false; rows.len()];
-        let mut start = 0;
-        while start < rows.len() {
-            let mut end = start;
-            while end < rows.len() && rows[end].0 == rows[start].0 {
-                end += 1;
-            }
-            let enters = rows[start..end]
-                .iter()
-                .any(|r| r.1.is_some_and(|v| v >= lo && v <= hi));
-            flags[start..end].iter_mut().for_each(|x| *x = enters);
-            start = end;
+    Ok(rows)
+}
+
+/// For sorted rows: whether each row's group has a filter value in `[lo, hi]` somewhere.
+fn groups_entering(rows: &[MergeRow<'_>], lo: f64, hi: f64) -> Vec<bool> {
+    // groups are contiguous after the sort: mark each row's group once
+    let mut flags = vec![false; rows.len()];
+    let mut start = 0;
+    while start < rows.len() {
+        let mut end = start;
+        while end < rows.len() && rows[end].0 == rows[start].0 {
+            end += 1;
         }
-        flags
-    });
+        let enters = rows[start..end]
+            .iter()
+            .any(|r| r.1.is_some_and(|v| v >= lo && v <= hi));
+        flags[start..end].iter_mut().for_each(|x| *x = enters);
+        start = end;
+    }
+    flags
+}
+
+/// The merged table: comment lines, column line, then the kept rows.
+fn render_merged(base: &Parsed, rows: &[MergeRow<'_>], keep_group: Option<&[bool]>) -> String {
     let mut out = String::new();
     for c in &base.comments {
         out.push_str(c);
@@ -529,12 +576,12 @@ pub fn merge(tables: &[(String, String)]) -> Result<String> {
     out.push_str(&base.columns);
     out.push('\n');
     for (i, r) in rows.iter().enumerate() {
-        if keep_group.as_ref().map_or(true, |k| k[i]) {
+        if keep_group.map_or(true, |k| k[i]) {
             out.push_str(r.2);
             out.push('\n');
         }
     }
-    Ok(out)
+    out
 }
 
 #[cfg(test)]

@@ -404,14 +404,48 @@ impl ExpectedList {
             .trim(csv::Trim::All)
             .flexible(false)
             .from_reader(text.as_bytes());
-        let perr = |line: u64, message: String| Error::Parse {
-            location: format!("{name}:{line}"),
-            message,
-        };
+        let perr = |line: u64, message: String| csv_error(name, line, message);
         let headers = rdr
             .headers()
             .map_err(|e| perr(1, format!("cannot read the header row: {e}")))?
             .clone();
+        let cols = CsvColumns::find(&headers, name)?;
+        let mut levels = Vec::new();
+        for rec in rdr.records() {
+            let rec = rec.map_err(|e| {
+                let line = e.position().map(|p| p.line()).unwrap_or(0);
+                perr(line, format!("{e}"))
+            })?;
+            if let Some(level) = cols.level(&rec, name)? {
+                levels.push(level);
+            }
+        }
+        levels.sort_by(|a, b| a.energy.total_cmp(&b.energy));
+        Ok(ExpectedList::from_levels(levels, origin))
+    }
+}
+
+/// A parse error located at `name:line`.
+fn csv_error(name: &str, line: u64, message: String) -> Error {
+    Error::Parse {
+        location: format!("{name}:{line}"),
+        message,
+    }
+}
+
+/// Column positions of an expected-levels CSV header (matched ignoring ASCII case).
+struct CsvColumns {
+    energy: usize,
+    n: Option<usize>,
+    s: Option<usize>,
+    multiplicity: Option<usize>,
+    label: Option<usize>,
+}
+
+impl CsvColumns {
+    /// Find the columns; `energy` is required.
+    fn find(headers: &csv::StringRecord, name: &str) -> Result<Self> {
+        let perr = |line: u64, message: String| csv_error(name, line, message);
         let col = |k: &str| headers.iter().position(|h| h.eq_ignore_ascii_case(k));
         let energy_col = col("energy").ok_or_else(|| {
             perr(
@@ -424,64 +458,66 @@ impl ExpectedList {
             )
         })?;
         let (n_col, s_col, m_col, l_col) = (col("n"), col("s"), col("multiplicity"), col("label"));
-        let mut levels = Vec::new();
-        for rec in rdr.records() {
-            let rec = rec.map_err(|e| {
-                let line = e.position().map(|p| p.line()).unwrap_or(0);
-                perr(line, format!("{e}"))
-            })?;
-            let line = rec.position().map(|p| p.line()).unwrap_or(0);
-            let field = |c: usize| rec.get(c).unwrap_or("");
-            let number = |c: usize, what: &str| -> Result<f64> {
-                field(c)
-                    .parse::<f64>()
-                    .map_err(|_| perr(line, format!("{what} '{}' is not a number", field(c))))
-            };
-            let energy = number(energy_col, "energy")?;
-            if !energy.is_finite() {
-                return Err(perr(line, format!("energy {energy} is not finite")));
-            }
-            let whole = |c: Option<usize>, what: &str, default: i64| -> Result<i64> {
-                match c {
-                    None => Ok(default),
-                    Some(c) => {
-                        let x = number(c, what)?;
-                        if x.fract() != 0.0 || x.abs() > 1e9 {
-                            Err(perr(line, format!("{what} {x} is not a whole number")))
-                        } else {
-                            Ok(x as i64)
-                        }
+        Ok(CsvColumns {
+            energy: energy_col,
+            n: n_col,
+            s: s_col,
+            multiplicity: m_col,
+            label: l_col,
+        })
+    }
+
+    /// One data row as a level; `None` for multiplicity 0.
+    fn level(&self, rec: &csv::StringRecord, name: &str) -> Result<Option<ExpectedLevel>> {
+        let perr = |line: u64, message: String| csv_error(name, line, message);
+        let (n_col, s_col, m_col, l_col) = (self.n, self.s, self.multiplicity, self.label);
+        let line = rec.position().map(|p| p.line()).unwrap_or(0);
+        let field = |c: usize| rec.get(c).unwrap_or("");
+        let number = |c: usize, what: &str| -> Result<f64> {
+            field(c)
+                .parse::<f64>()
+                .map_err(|_| perr(line, format!("{what} '{}' is not a number", field(c))))
+        };
+        let energy = number(self.energy, "energy")?;
+        if !energy.is_finite() {
+            return Err(perr(line, format!("energy {energy} is not finite")));
+        }
+        let whole = |c: Option<usize>, what: &str, default: i64| -> Result<i64> {
+            match c {
+                None => Ok(default),
+                Some(c) => {
+                    let x = number(c, what)?;
+                    if x.fract() != 0.0 || x.abs() > 1e9 {
+                        Err(perr(line, format!("{what} {x} is not a whole number")))
+                    } else {
+                        Ok(x as i64)
                     }
                 }
-            };
-            let n = whole(n_col, "n", 0)?;
-            let s = whole(s_col, "s", 0)?;
-            let s = i8::try_from(s).map_err(|_| perr(line, format!("s = {s} is out of range")))?;
-            let m = whole(m_col, "multiplicity", 1)?;
-            let m = u32::try_from(m)
-                .ok()
-                .filter(|&m| m <= 64)
-                .ok_or_else(|| perr(line, format!("multiplicity {m} is not in 0..=64")))?;
-            let label = match l_col {
-                Some(c) if !field(c).is_empty() => field(c).to_string(),
-                _ => match (n_col, s_col) {
-                    (Some(_), Some(_)) => level_label(n, s, false),
-                    (Some(_), None) => level_label(n, s, true),
-                    _ => format!("line {line}"),
-                },
-            };
-            if m > 0 {
-                levels.push(ExpectedLevel {
-                    energy,
-                    multiplicity: m,
-                    n,
-                    s,
-                    label,
-                });
             }
-        }
-        levels.sort_by(|a, b| a.energy.total_cmp(&b.energy));
-        Ok(ExpectedList::from_levels(levels, origin))
+        };
+        let n = whole(n_col, "n", 0)?;
+        let s = whole(s_col, "s", 0)?;
+        let s = i8::try_from(s).map_err(|_| perr(line, format!("s = {s} is out of range")))?;
+        let m = whole(m_col, "multiplicity", 1)?;
+        let m = u32::try_from(m)
+            .ok()
+            .filter(|&m| m <= 64)
+            .ok_or_else(|| perr(line, format!("multiplicity {m} is not in 0..=64")))?;
+        let label = match l_col {
+            Some(c) if !field(c).is_empty() => field(c).to_string(),
+            _ => match (n_col, s_col) {
+                (Some(_), Some(_)) => level_label(n, s, false),
+                (Some(_), None) => level_label(n, s, true),
+                _ => format!("line {line}"),
+            },
+        };
+        Ok((m > 0).then_some(ExpectedLevel {
+            energy,
+            multiplicity: m,
+            n,
+            s,
+            label,
+        }))
     }
 }
 
