@@ -69,6 +69,7 @@ use crate::policy::NEUTRALITY_SNAP_WIDTHS;
 use crate::solve::Settings;
 use crate::units::Units;
 use quadrature::{check_volume_inputs, interleave, kz_limit, Trapezoid};
+use rayon::prelude::*;
 use serde::Serialize;
 use std::f64::consts::PI;
 
@@ -542,8 +543,8 @@ pub struct VolumeFermiPoint {
 /// that fails; the message names the field.
 ///
 /// # Complexity
-/// One [`VolumeDensity::compute`] per field (the fields run one after another; each solves its
-/// kz points in parallel).
+/// One [`VolumeDensity::compute`] per field, in parallel over the fields and, within each, over
+/// its kz points and check energies.
 pub fn fermi_sweep(
     model: &Model,
     fields: &[f64],
@@ -551,8 +552,10 @@ pub fn fermi_sweep(
     vs: &VolumeSettings,
     target: f64,
 ) -> Result<Vec<VolumeFermiPoint>> {
-    fields
-        .iter()
+    // in parallel over the fields (each also solves its kz points in parallel); the results
+    // are kept in field order and the first failing field in that order is reported
+    let points: Vec<Result<VolumeFermiPoint>> = fields
+        .par_iter()
         .map(|&field| {
             let at = |e: Error| at_field(e, field);
             let v = VolumeDensity::compute(model, field, settings, vs).map_err(at)?;
@@ -564,7 +567,8 @@ pub fn fermi_sweep(
                 kz_points: v.kz.len(),
             })
         })
-        .collect()
+        .collect();
+    points.into_iter().collect()
 }
 
 /// The same error, naming the field of the sweep point where it happened.

@@ -8,6 +8,7 @@ use crate::error::{Error, Result};
 use crate::levels::Spectrum;
 use crate::model::Model;
 use crate::observables::dos::LineShape;
+use rayon::prelude::*;
 
 /// The checks of a kz-integrated density before any solve; returns whether the model has odd
 /// powers of kz (then the kz grid spans -kz_max..kz_max, else 0..kz_max, doubled).
@@ -123,19 +124,27 @@ impl Trapezoid {
         }
     }
 
-    /// Sums of `sheets` (the ends weighted 1/2 when `ends`), added to `sg`, `sn`.
+    /// Sums of `sheets` (the ends weighted 1/2 when `ends`), added to `sg`, `sn`. In parallel
+    /// over the check energies; each energy sums its sheets in order, so the result does not
+    /// depend on the thread count.
     fn sums(&self, sheets: &[Sheet], ends: bool, sg: &mut [f64], sn: &mut [f64]) {
-        for (i, sh) in sheets.iter().enumerate() {
-            let c = if ends && (i == 0 || i + 1 == sheets.len()) {
+        let weight = |i: usize| {
+            if ends && (i == 0 || i + 1 == sheets.len()) {
                 0.5
             } else {
                 1.0
-            };
-            for (k, &e) in self.check.iter().enumerate() {
-                sg[k] += c * sh.lines(&self.line, e);
-                sn[k] += c * sh.occupied(&self.line, e, 0.0);
             }
-        }
+        };
+        self.check
+            .par_iter()
+            .zip(sg.par_iter_mut().zip(sn.par_iter_mut()))
+            .for_each(|(&e, (g, n))| {
+                for (i, sh) in sheets.iter().enumerate() {
+                    let c = weight(i);
+                    *g += c * sh.lines(&self.line, e);
+                    *n += c * sh.occupied(&self.line, e, 0.0);
+                }
+            });
     }
 
     /// Add the first grid.
