@@ -62,6 +62,11 @@ fn study_tables_and_plot() {
         Some(csv_columns("meV").join(",").as_str()),
         "the first line is the column line"
     );
+    // the names of the shared column convention (README, "Output files")
+    assert_eq!(
+        csv_columns("meV")[7..12].join(","),
+        "energy_meV,residual_bound_meV,kato_temple_bound_meV,change_meV,actual_error_meV"
+    );
     assert_eq!(lines.count(), 4 * 5);
     let json = study_json(&st).expect("json");
     let v: serde_json::Value = serde_json::from_str(&json).expect("valid JSON");

@@ -26,7 +26,7 @@ pub const STUDY_COLUMNS: [(&str, bool, &str); 16] = [
         true,
         "level energy relative to the reference energy",
     ),
-    ("bound", true, "deciding error bound"),
+    ("residual_bound", true, "residual (Weinstein) bound"),
     (
         "kato_temple_bound",
         true,

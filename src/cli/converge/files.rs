@@ -78,7 +78,11 @@ pub(super) fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<
             e,
             "level energy relative to the reference energy",
         ),
-        Column::new(cu.energy_valued("bound"), e, "deciding error bound"),
+        Column::new(
+            cu.energy_valued("residual_bound"),
+            e,
+            "residual (Weinstein) bound",
+        ),
         Column::new(
             cu.energy_valued("kato_temple_bound"),
             e,
