@@ -123,7 +123,7 @@ fn problems(csv: &str, meta: &str) -> Vec<String> {
             c["name"].as_str().unwrap_or(""),
             c["unit"].as_str().unwrap_or("?"),
         );
-        if c["meaning"].as_str().is_none_or(str::is_empty) {
+        if c["meaning"].as_str().map_or(true, str::is_empty) {
             bad.push(format!("column `{name}` has no meaning in the sidecar"));
         }
         let is_energy = ENERGY_UNITS.contains(&unit);

@@ -420,5 +420,5 @@ fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<CsvFile> {
             ]);
         }
     }
-    csv_file(meta, transition_columns(lm, &j.velocity_unit), &rec)
+    csv_file(meta, transition_columns(lm, j.velocity_unit), &rec)
 }
