@@ -113,9 +113,13 @@ fn fan_tracks_follow_the_closed_form_and_write_csv_and_svg() {
         assert!((f(&first["energies"][i]) - want).abs() <= 1e-9 * want);
     }
     let csv = std::fs::read_to_string(out.join("fan.csv")).unwrap_or_default();
-    assert!(csv.starts_with("# ladderfan"));
-    assert!(csv.contains("# units: energy meV, length nm, field T, kz 1/nm"));
-    assert!(csv.contains("field,track,level,n,branch,energy_meV,bound_meV"));
+    // the column line comes first; the units go to the sidecar fan.meta.json
+    assert!(
+        csv.starts_with("field_T,track,label,landau_index,landau_branch,energy_meV,bound_meV\n")
+    );
+    assert!(!csv.contains('#'));
+    let meta = std::fs::read_to_string(out.join("fan.meta.json")).unwrap_or_default();
+    assert!(meta.contains("\"units\": \"energy meV, length nm, field T, kz 1/nm\""));
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
     assert!(svg.starts_with("<svg") && svg.contains("B [T]") && svg.contains("E [meV]"));
     assert!(svg.contains("dashed: closed form"));
@@ -127,7 +131,7 @@ fn fan_tracks_follow_the_closed_form_and_write_csv_and_svg() {
         .flatten()
         .map(|e| e.file_name().to_string_lossy().into_owned())
         .collect();
-    assert_eq!(names.len(), 2, "{names:?}");
+    assert_eq!(names.len(), 3, "{names:?}");
 }
 
 #[test]
@@ -146,7 +150,9 @@ fn demo_writes_svg_and_csv_and_passes_its_closed_form_check() {
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
     assert!(svg.contains("B [T]") && svg.contains("E [meV]") && svg.trim_end().ends_with("</svg>"));
     let csv = std::fs::read_to_string(out.join("levels.csv")).unwrap_or_default();
-    assert!(csv.contains("# units: energy meV"));
+    assert!(csv.starts_with("sector,label,landau_index,"));
+    let meta = std::fs::read_to_string(out.join("levels.meta.json")).unwrap_or_default();
+    assert!(meta.contains("\"units\": \"energy meV"));
     // the written model file is itself a valid model file
     let m = run(&[
         "levels",

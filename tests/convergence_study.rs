@@ -7,7 +7,7 @@
 use ladderfan::trust::converge::{
     auto, doubling, study, AutoSettings, ExactValues, NeededCutoff, ReferenceKind, Selection,
 };
-use ladderfan::trust::report::{study_csv, study_json, study_svg, CSV_COLUMNS};
+use ladderfan::trust::report::{csv_columns, study_csv, study_json, study_svg};
 use ladderfan::units::HBAR2_OVER_2ME_MEV_NM2;
 use ladderfan::{FieldPoint, Settings};
 
@@ -55,11 +55,17 @@ fn study_tables_and_plot() {
             NeededCutoff::Observed(_) | NeededCutoff::Extrapolated(_)
         ));
     }
-    let csv = study_csv(&st).expect("csv");
+    let csv = study_csv(&st, "meV").expect("csv");
     let mut lines = csv.lines();
     assert_eq!(
-        lines.next().map(|h| h.split(',').count()),
-        Some(CSV_COLUMNS.len())
+        lines.next(),
+        Some(csv_columns("meV").join(",").as_str()),
+        "the first line is the column line"
+    );
+    // the names of the shared column convention (README, "Output files")
+    assert_eq!(
+        csv_columns("meV")[7..12].join(","),
+        "energy_meV,residual_bound_meV,kato_temple_bound_meV,change_meV,actual_error_meV"
     );
     assert_eq!(lines.count(), 4 * 5);
     let json = study_json(&st).expect("json");
@@ -137,7 +143,7 @@ fn study_against_closed_form() {
     assert!(
         decaying >= 3,
         "only {decaying} levels show convergence: {}",
-        ladderfan::trust::report::study_csv(&st).unwrap_or_default()
+        ladderfan::trust::report::study_csv(&st, "meV").unwrap_or_default()
     );
 }
 

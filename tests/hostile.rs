@@ -192,7 +192,7 @@ fn a_failed_out_write_keeps_the_earlier_files() {
         .map(|e| e.file_name().to_string_lossy().into_owned())
         .collect();
     names.sort();
-    assert_eq!(names, ["fan.csv", "fan.svg"]);
+    assert_eq!(names, ["fan.csv", "fan.meta.json", "fan.svg"]);
     // an --out below a regular file cannot be created: a remedy, exit 2
     let below = d.join("out").join("fan.csv").join("sub");
     let r = run(&[

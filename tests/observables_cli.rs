@@ -48,8 +48,9 @@ fn cli_dos_reports_degeneracy_fermi_level_and_files() {
     let hw = cyclotron_mev(0.067, 3.0);
     assert!((f["fermi_energy"].as_f64().unwrap() - 1.5 * hw).abs() < 1e-6 * hw);
     let csv = std::fs::read_to_string(dir.join("dos.csv")).unwrap();
-    assert!(csv.contains("energy_meV,dos_per_meV_per_cm2,density_from_neutrality_per_cm2"));
-    assert!(csv.contains("only the") && csv.contains("converged levels count"));
+    assert!(csv.starts_with("energy_meV,dos_per_meV_cm2,density_invcm2\n"));
+    let meta = std::fs::read_to_string(dir.join("dos.meta.json")).unwrap();
+    assert!(meta.contains("only the") && meta.contains("converged levels count"));
     let svg = std::fs::read_to_string(dir.join("dos.svg")).unwrap();
     assert!(svg.starts_with("<svg") && svg.contains("E [meV]"));
     let _ = std::fs::remove_dir_all(&dir);

@@ -3,7 +3,7 @@
 //! --shard K/N` and `ladderfan merge`). Also: the merge refuses incomplete, duplicated or
 //! inconsistent shard sets.
 
-use ladderfan::shard::{merge, KeepGroups, Shard, ShardHeader};
+use ladderfan::shard::{merge, KeepGroups, Shard, ShardHeader, ShardTable};
 use ladderfan::{models, sweep, FieldPoint, Settings, Spectrum};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
@@ -46,7 +46,16 @@ fn labelled(s: &Spectrum) -> Vec<(String, usize, f64)> {
         .collect()
 }
 
-const HEAD: &str = "# invented gapped Dirac cone, cutoff 80\n";
+/// What every shard of one sweep shares besides its columns (the CLI puts its sidecar here).
+fn context() -> Vec<String> {
+    vec!["invented gapped Dirac cone, cutoff 80".to_string()]
+}
+
+fn table(name: String, header: ShardHeader, text: String) -> ShardTable {
+    let mut t = ShardTable::new(name, header, text);
+    t.context = context();
+    t
+}
 
 /// Table grouped by (sector, rank), rows in point order within a group; `window` keeps only
 /// the groups with some energy inside it (None: keep all).
@@ -61,7 +70,7 @@ fn grouped_table(spectra: &[Spectrum], window: Option<(f64, f64)>) -> String {
                 .push(format!("{:e},{sector},{rank},{e:e}", s.point.field));
         }
     }
-    let mut t = format!("{HEAD}field,sector,rank,energy\n");
+    let mut t = "field,sector,rank,energy\n".to_string();
     for rows in groups.values() {
         let enters = window.map_or(true, |(lo, hi)| {
             rows.iter().any(|r| {
@@ -85,7 +94,7 @@ fn grouped_table(spectra: &[Spectrum], window: Option<(f64, f64)>) -> String {
 
 /// Table in point order: the lowest 6 converged levels of each point.
 fn point_table(spectra: &[Spectrum]) -> String {
-    let mut t = format!("{HEAD}field,index,energy\n");
+    let mut t = "field,index,energy\n".to_string();
     for s in spectra {
         for (i, l) in s.converged().take(6).enumerate() {
             t.push_str(&format!("{:e},{i},{:e}\n", s.point.field, l.energy));
@@ -128,14 +137,14 @@ fn grouped_shards_merge_into_the_single_run_table_with_the_global_window_rule() 
                 }),
             };
             local_sets.push(grouped_table(&part, Some(window)));
-            shards.push((format!("part{k}"), h.attach(&grouped_table(&part, None))));
+            shards.push(table(format!("part{k}"), h, grouped_table(&part, None)));
         }
         let merged = merge(&shards).expect("merge");
         assert_eq!(merged, single, "{n} shards");
         if n > 1 {
             // filtering each shard on its own would lose rows: the global rule matters
-            let local_rows: usize = local_sets.iter().map(|t| t.lines().count() - 2).sum();
-            assert!(local_rows < single.lines().count() - 2, "{n} shards");
+            let local_rows: usize = local_sets.iter().map(|t| t.lines().count() - 1).sum();
+            assert!(local_rows < single.lines().count() - 1, "{n} shards");
         }
     }
 }
@@ -145,32 +154,29 @@ fn point_ordered_shards_concatenate_into_the_single_run_table() {
     let pts = points(17);
     let single = point_table(&solve(&pts));
     for n in [1usize, 4, 17] {
-        let shards: Vec<(String, String)> = (1..=n)
+        let shards: Vec<ShardTable> = (1..=n)
             .map(|k| {
                 let s = Shard { index: k, count: n };
                 let t = point_table(&solve(s.select(&pts).expect("select")));
-                (format!("{k}"), ShardHeader::new(s, pts.len()).attach(&t))
+                table(format!("{k}"), ShardHeader::new(s, pts.len()), t)
             })
             .collect();
         assert_eq!(merge(&shards).expect("merge"), single, "{n} shards");
     }
 }
 
-fn three_shards() -> Vec<(String, String)> {
+fn three_shards() -> Vec<ShardTable> {
     let pts = points(9);
     (1..=3)
         .map(|k| {
             let s = Shard { index: k, count: 3 };
             let t = point_table(&solve(s.select(&pts).expect("select")));
-            (
-                format!("s{k}.csv"),
-                ShardHeader::new(s, pts.len()).attach(&t),
-            )
+            table(format!("s{k}.csv"), ShardHeader::new(s, pts.len()), t)
         })
         .collect()
 }
 
-fn merge_error(tables: &[(String, String)]) -> String {
+fn merge_error(tables: &[ShardTable]) -> String {
     match merge(tables) {
         Ok(_) => panic!("merge accepted a bad shard set"),
         Err(e) => e.to_string(),
@@ -186,24 +192,24 @@ fn merge_refuses_missing_duplicate_and_foreign_shards() {
     let mut dup = good.clone();
     dup.push(good[1].clone());
     assert!(merge_error(&dup).contains("given twice"));
-    // a shard of another sweep: a different header line
+    // a shard of another sweep: a different context line
     let mut foreign = good.clone();
-    foreign[2].1 = foreign[2].1.replace("cutoff 80", "cutoff 90");
+    foreign[2].context = vec!["invented gapped Dirac cone, cutoff 90".to_string()];
     assert!(merge_error(&foreign).contains("differs"));
     // a shard of a split into a different N
     let mut other_n = good.clone();
-    other_n[0].1 = ShardHeader::new(Shard { index: 1, count: 2 }, 9)
-        .attach(other_n[0].1.split_once('\n').map_or("", |x| x.1));
+    other_n[0].header = ShardHeader::new(Shard { index: 1, count: 2 }, 9);
     assert!(merge_error(&other_n).contains("not from one sweep"));
     // a point present in two shards (a row copied across)
     let mut twice = good.clone();
-    let row = good[0].1.lines().last().unwrap_or_default().to_string();
-    twice[1].1.push_str(&row);
-    twice[1].1.push('\n');
+    let row = good[0].text.lines().last().unwrap_or_default().to_string();
+    twice[1].text.push_str(&row);
+    twice[1].text.push('\n');
     assert!(merge_error(&twice).contains("also appears in s1.csv"));
-    // not a shard table at all
-    let plain = vec![("x.csv".to_string(), point_table(&solve(&points(2))))];
-    assert!(merge_error(&plain).contains("no `# shard K/N` line"));
+    // a table with a comment line (the format before the sidecars)
+    let mut old = good.clone();
+    old[0].text = format!("# shard 1/3\n{}", old[0].text);
+    assert!(merge_error(&old).contains("s1.csv:1"));
 }
 
 // ---- through the binary -------------------------------------------------------------------
@@ -264,6 +270,25 @@ fn cli_round_trip(command: &str, model_args: &[&str], n: usize) {
         got == expect,
         "merged {command} table differs from the single run"
     );
+    // the merged table has its own sidecar: the single run's columns, no shard object
+    let side = |p: &Path| -> serde_json::Value {
+        serde_json::from_str(&read(p)).unwrap_or_else(|e| panic!("{}: {e}", p.display()))
+    };
+    let merged_meta = side(&dir.join("merged.meta.json"));
+    let single_meta = side(&single.join(format!("{command}.meta.json")));
+    assert_eq!(merged_meta["columns"], single_meta["columns"]);
+    assert!(merged_meta.get("shard").is_none(), "{merged_meta}");
+    assert_eq!(
+        side(&dir.join("s1").join(format!("{command}.meta.json")))["shard"]["shard"]["index"],
+        1
+    );
+    // a shard without its sidecar is refused, naming the missing file
+    let lone = dir.join("s1").join(format!("{command}.meta.json"));
+    std::fs::remove_file(&lone).unwrap_or_else(|e| panic!("{e}"));
+    let r = Command::new(bin()).args(&m).output().expect("run");
+    assert_eq!(r.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&r.stderr);
+    assert!(err.contains(&*lone.to_string_lossy()), "{err}");
     // an incomplete set is refused with exit code 2
     let status = Command::new(bin())
         .args(["merge", &merged, &shard_files[0]])

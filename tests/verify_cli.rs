@@ -127,7 +127,8 @@ fn cli_failing_formula_exits_one_and_lists_the_forgotten_level() {
 fn cli_csv_and_bad_input() {
     // CSV of Landau 1930 levels for the free electron at 2 T (hbar omega_c = 2 mu_B B)
     let w = 2.0 * BOHR_MAGNETON_MEV_PER_T * 2.0;
-    let mut text = String::from("n,energy\n");
+    // the column names of the files ladderfan writes (levels.csv): landau_index, energy_meV
+    let mut text = String::from("landau_index,energy_meV\n");
     for n in 0..=8 {
         text.push_str(&format!("{n},{:.17e}\n", w * (n as f64 + 0.5)));
     }
@@ -149,6 +150,24 @@ fn cli_csv_and_bad_input() {
     ]);
     assert_eq!(code, 0, "{out}\n{err}");
     assert!(out.contains("verdict: PASS: all 9 levels"), "{out}");
+    // the levels.csv that `levels --out` writes is itself a valid expected list
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("verify_levels_csv");
+    let d = dir.display().to_string();
+    let schrodinger = ["--builtin", "schrodinger", "--field", "2", "--cutoff", "40"];
+    let (code, _, err) = ladderfan(
+        &[
+            &["levels"][..],
+            &schrodinger,
+            &["--count", "6", "--out", &d],
+        ]
+        .concat(),
+    );
+    assert_eq!(code, 0, "{err}");
+    let levels_csv = dir.join("levels.csv").display().to_string();
+    let (code, out, err) =
+        ladderfan(&[&["verify"][..], &schrodinger, &["--expected", &levels_csv]].concat());
+    assert_eq!(code, 0, "{out}\n{err}");
+    assert!(out.contains("verdict: PASS: all 6 levels"), "{out}");
     // bad input: exit 2 with one located error line
     for (args, want) in [
         (

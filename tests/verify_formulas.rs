@@ -348,7 +348,7 @@ fn csv_list_with_explicit_window_passes_and_without_partner_fails() {
     assert!((v.unmatched_numerical[0].energy - 4.5 * w).abs() < 1e-9 * w);
     // bad CSV: located errors
     for (bad, want) in [
-        ("n,e\n0,1\n", "no 'energy' column"),
+        ("n,e\n0,1\n", "no energy column"),
         ("energy\nabc\n", "landau.csv:2"),
         ("energy\ninf\n", "not finite"),
     ] {

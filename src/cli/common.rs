@@ -10,11 +10,11 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-pub use super::output::{emit, emit_json, interactive, write_atomic, OutputFiles};
+pub use super::output::{emit, emit_json, interactive, OutputFiles};
 pub use super::parse::{parse_count, parse_int_list};
 pub use super::render::{
-    branch_text, character_text, csv_header, csv_text, fmt_num, inverse_length, landau_branch_text,
-    nearest_levels, table, Shown,
+    branch_text, character_text, column_units, csv_file, csv_meta, fmt_num, inverse_length,
+    landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
 };
 
 /// Exit code for a run whose verification (closed form, convergence) failed.

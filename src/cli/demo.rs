@@ -134,8 +134,8 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let closed_form_check = ladderfan::verify::closed_form_check(&lm.model, &[&s], win);
     let mut files = common::OutputFiles::default();
     files.add("model.toml", DEMO_MODEL);
-    files.add("levels.csv", super::levels::to_csv(&lm, &s, &idx)?);
-    files.add("fan.csv", sweep::csv(&lm, &o.json)?);
+    files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &idx)?)?;
+    files.add_csv("fan.csv", sweep::csv(&lm, &o.json)?)?;
     files.add("fan.svg", sweep::svg(&lm, &o.json, o.closed.as_deref())?);
     let written: Vec<String> = files
         .write_all(&a.out)?

@@ -1,13 +1,14 @@
 //! `ladderfan levels`: the spectrum at one field and kz as a labelled table.
 
 use super::common::{
-    self, csv_header, csv_text, emit, emit_json, fmt_num, load_model, nearest_levels, CliResult,
-    LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
+    self, column_units, csv_file, csv_meta, emit, emit_json, fmt_num, load_model, nearest_levels,
+    CliResult, CsvFile, LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use clap::Args;
 use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
 use ladderfan::problem::Problem;
+use ladderfan::records::meta::Column;
 use ladderfan::records::{count_state, level_records, warnings, SpectrumRecord};
 use ladderfan::Spectrum;
 
@@ -118,21 +119,87 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     out
 }
 
-/// CSV of the shown levels, with `#` header lines stating the model and the units.
-pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String> {
+/// The columns of `levels.csv` (also written by `demo`), in order.
+fn level_columns(lm: &LoadedModel) -> Vec<Column> {
+    let cu = column_units(lm);
+    let e = cu.energy_unit;
+    let mut c = vec![
+        Column::new("sector", "", "sector `class:J` of the conserved J = n + s"),
+        Column::new(
+            "label",
+            "",
+            "Landau label as printed (+n above the gap, -n below)",
+        ),
+        Column::new(
+            "landau_index",
+            "1",
+            "Landau index n (empty when unlabelled)",
+        ),
+        Column::new(
+            "landau_branch",
+            "",
+            "+ / - nearest the gap, +2 / -2 the next, 0 unpaired",
+        ),
+        Column::new(
+            "label_origin",
+            "",
+            "exact_sector, continuation or unlabelled",
+        ),
+        Column::new(
+            "branch",
+            "1",
+            "Klein-Gordon branch +1 / -1; 0 for a direct Hamiltonian",
+        ),
+        Column::new(
+            "rank",
+            "1",
+            "rank within the (sector, branch) by ascending energy",
+        ),
+        Column::new(
+            "orbital",
+            "1",
+            "dominant orbital (largest weight); not the Landau index",
+        ),
+        Column::new("component", "", "dominant component name"),
+        Column::new(
+            cu.energy_column(),
+            e,
+            "level energy relative to the reference energy",
+        ),
+        Column::new(
+            cu.energy_valued("bound"),
+            e,
+            "deciding error bound of the energy",
+        ),
+        Column::new(
+            cu.energy_valued("residual_bound"),
+            e,
+            "residual (Weinstein) bound",
+        ),
+        Column::new(
+            cu.energy_valued("kato_temple_bound"),
+            e,
+            "Kato-Temple bound (empty where its gap condition was not certified)",
+        ),
+        Column::new(
+            "bound_from",
+            "",
+            "which bound decided: residual or kato_temple",
+        ),
+        Column::new("state", "", "converged, not_converged or cutoff_artefact"),
+        Column::new("converged", "", "true when state is converged"),
+    ];
+    c.extend(common::weight_columns(&lm.model));
+    c
+}
+
+/// `levels.csv` of the shown levels; model, point, units and conventions go to its sidecar.
+pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<CsvFile> {
     let u = lm.model.units();
-    let header = csv_header(
+    let meta = csv_meta(
         lm,
         "levels",
-        &[
-            format!(
-                "field {} {}, kz {} {}, cutoff {}",
-                s.point.field,
-                u.field_unit(),
-                s.point.kz,
-                common::inverse_length(u),
-                s.cutoff
-            ),
+        vec![
             format!(
                 "energies relative to {} {}",
                 s.reference_energy,
@@ -140,34 +207,16 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
             ),
             format!("symmetry: {}", s.symmetry.describe()),
         ],
+        vec![format!(
+            "field {} {}, kz {} {}, cutoff {}",
+            s.point.field,
+            u.field_unit(),
+            s.point.kz,
+            common::inverse_length(u),
+            s.cutoff
+        )],
     );
-    let names = lm.model.component_names();
-    let mut rec = vec![vec![
-        "sector".to_string(),
-        "label".into(),
-        "n".into(),
-        "landau_branch".into(),
-        "label_origin".into(),
-        "branch".into(),
-        "rank".into(),
-        "orbital".into(),
-        "component".into(),
-        format!("energy_{}", u.energy_unit().replace(' ', "")),
-        format!("bound_{}", u.energy_unit().replace(' ', "")),
-        format!("residual_bound_{}", u.energy_unit().replace(' ', "")),
-        format!("kato_temple_bound_{}", u.energy_unit().replace(' ', "")),
-        "bound_from".into(),
-        "state".into(),
-        "converged".into(),
-    ]];
-    for (a, name) in names.iter().enumerate() {
-        let name = if name.is_empty() {
-            a.to_string()
-        } else {
-            name.clone()
-        };
-        rec[0].push(format!("weight_{name}"));
-    }
+    let mut rec = Vec::new();
     for l in level_records(&lm.model, s, idx) {
         let origin = match l.label_origin {
             ladderfan::levels::LabelOrigin::ExactSector => "exact_sector",
@@ -196,7 +245,7 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<String
         row.extend(l.weights.iter().map(|w| format!("{w:e}")));
         rec.push(row);
     }
-    csv_text(&header, &rec)
+    csv_file(meta, level_columns(lm), &rec)
 }
 
 /// Run `ladderfan levels`.
@@ -239,7 +288,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add("levels.csv", to_csv(&lm, &s, &idx)?);
+        files.add_csv("levels.csv", to_csv(&lm, &s, &idx)?)?;
         let svg = ladderfan::plot::level_diagram(&ladderfan::plot::LevelDiagram {
             title: format!(
                 "{}: levels at {} {}",

@@ -1,8 +1,9 @@
 //! `ladderfan models`: the built-in models, their parameters with defaults, and sources.
 
-use super::common::{self, emit, emit_json, CliResult};
+use super::common::{self, emit, emit_json, CliResult, CsvFile};
 use clap::Args;
 use ladderfan::models::Origin;
+use ladderfan::records::meta::{Column, CsvMeta};
 use ladderfan::records::{ModelEntry, ParamJson};
 
 /// Flags of `ladderfan models`.
@@ -16,21 +17,29 @@ pub struct ModelsArgs {
     pub out: Option<std::path::PathBuf>,
 }
 
-/// CSV listing: one row per (model, parameter); the units of each model in its own column.
-pub fn to_csv(e: &[ModelEntry]) -> CliResult<String> {
-    let header = format!(
-        "# ladderfan {} models\n# units: per model, see the units column (Units::header of its unit system)\n",
-        env!("CARGO_PKG_VERSION")
-    );
-    let mut rec = vec![vec![
-        "model".to_string(),
-        "units".into(),
-        "parameter".into(),
-        "default".into(),
-        "unit".into(),
-        "meaning".into(),
-        "source".into(),
-    ]];
+/// `models.csv`: one row per (model, parameter); the units of each model in its own column.
+/// Commas inside texts (units, meanings, sources) are written as `;` (see
+/// `csv_cell` in `cli/render.rs`).
+pub fn to_csv(e: &[ModelEntry]) -> CliResult<CsvFile> {
+    let mut meta = CsvMeta::new("models", std::env::args().collect());
+    meta.conventions = vec![
+        "units: per model, see the units column (the unit header of its unit system)".into(),
+        "commas inside the texts are written as ;".into(),
+    ];
+    let columns = vec![
+        Column::new("model", "", "model name (--builtin NAME)"),
+        Column::new(
+            "units",
+            "",
+            "unit system of the model: energy, length, field, kz units",
+        ),
+        Column::new("parameter", "", "parameter name (--set NAME=VALUE)"),
+        Column::new("default", "", "default value, in the parameter's unit"),
+        Column::new("unit", "", "unit of the parameter"),
+        Column::new("meaning", "", "what the parameter is"),
+        Column::new("source", "", "published source of the model"),
+    ];
+    let mut rec = Vec::new();
     for m in e {
         for p in &m.parameters {
             rec.push(vec![
@@ -44,7 +53,7 @@ pub fn to_csv(e: &[ModelEntry]) -> CliResult<String> {
             ]);
         }
     }
-    common::csv_text(&header, &rec)
+    common::csv_file(meta, columns, &rec)
 }
 
 /// The listing.
@@ -81,7 +90,7 @@ pub fn run(a: &ModelsArgs) -> CliResult {
     let mut written = Vec::new();
     if let Some(dir) = &a.out {
         let mut files = common::OutputFiles::default();
-        files.add("models.csv", to_csv(&e)?);
+        files.add_csv("models.csv", to_csv(&e)?)?;
         written = files.write_all(dir)?;
     }
     if a.json {

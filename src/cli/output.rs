@@ -97,6 +97,15 @@ impl OutputFiles {
         self.files.push((name.to_string(), content.into()));
     }
 
+    /// Queue a CSV file `NAME.csv` and its metadata sidecar `NAME.meta.json`
+    /// ([`ladderfan::records::meta`]): both are written, or neither.
+    pub fn add_csv(&mut self, name: &str, file: super::render::CsvFile) -> CliResult {
+        let json = file.meta.to_json()?;
+        self.add(name, file.text);
+        self.add(&ladderfan::records::meta::sidecar_name(name), json);
+        Ok(())
+    }
+
     /// Write every queued file into `dir` (created if missing). Returns the written paths.
     ///
     /// All files are first written in full under temporary names (`.NAME.tmp-PID`); only when

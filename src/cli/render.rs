@@ -1,33 +1,122 @@
-//! Rendering helpers shared by the commands: the `#` header of CSV files, aligned text tables,
+//! Rendering helpers shared by the commands: CSV files with their metadata sidecars, aligned text tables,
 //! number formats, level characters and branch names, and which levels a table shows.
 
 use super::common::{CliError, CliResult, LoadedModel};
+use ladderfan::records::meta::{Column, ColumnUnits, CsvMeta, ModelMeta};
+use ladderfan::records::ModelRecord;
 use ladderfan::{Error, Model, Spectrum};
 
-/// `#` comment lines for CSV headers: tool, model, origin, units and extra lines.
-pub fn csv_header(lm: &LoadedModel, what: &str, extra: &[String]) -> String {
-    let mut s = format!("# ladderfan {} {what}\n", env!("CARGO_PKG_VERSION"));
-    s.push_str(&format!(
-        "# model: {} ({}), {} component(s), charge {} e\n",
-        lm.model.name(),
-        lm.origin,
-        lm.model.dim(),
-        lm.model.charge()
-    ));
-    if !lm.model.params().is_empty() {
-        let p: Vec<String> = lm
-            .model
-            .params()
-            .iter()
-            .map(|(k, v)| format!("{k} = {v}"))
-            .collect();
-        s.push_str(&format!("# parameters: {}\n", p.join(", ")));
+/// The unit parts of column names for this model's output: the one place the CLI asks for
+/// them (`energy_meV`, `field_T`, `kz_invnm`, ...).
+pub fn column_units(lm: &LoadedModel) -> ColumnUnits {
+    ColumnUnits::of(lm.model.units())
+}
+
+/// A CSV file and its metadata sidecar, ready for [`super::output::OutputFiles::add_csv`].
+#[derive(Debug, Clone)]
+pub struct CsvFile {
+    /// The sidecar (`NAME.meta.json`).
+    pub meta: CsvMeta,
+    /// The CSV text: column line, then the rows.
+    pub text: String,
+}
+
+/// The sidecar of a file about model `lm`, written by `command`: tool, version, command line,
+/// model, units, conventions and notes (the columns are added by [`csv_file`]).
+pub fn csv_meta(
+    lm: &LoadedModel,
+    command: &str,
+    conventions: Vec<String>,
+    notes: Vec<String>,
+) -> CsvMeta {
+    let mut m = CsvMeta::new(command, std::env::args().collect());
+    m.model = Some(ModelMeta {
+        model: ModelRecord::new(&lm.model, &lm.origin),
+        component_names: lm.model.component_names().to_vec(),
+    });
+    m.units = lm.model.units().header();
+    m.conventions = conventions;
+    m.notes = notes;
+    m
+}
+
+/// A cell as written: the characters a plain CSV reader would misread are replaced (`,` by
+/// `;`, `"` by `'`, `#` by `*` since numpy treats `#` as a comment, line breaks by spaces),
+/// so no cell is ever quoted.
+pub fn csv_cell(text: &str) -> String {
+    text.chars()
+        .map(|c| match c {
+            ',' => ';',
+            '"' => '\'',
+            '#' => '*',
+            '\n' | '\r' => ' ',
+            c => c,
+        })
+        .collect()
+}
+
+/// The CSV file of `rows` under `columns` with sidecar `meta` (its columns set to `columns`).
+/// Cells pass through [`csv_cell`]; every row must have one cell per column.
+pub fn csv_file(
+    mut meta: CsvMeta,
+    columns: Vec<Column>,
+    rows: &[Vec<String>],
+) -> CliResult<CsvFile> {
+    let mut text = columns
+        .iter()
+        .map(|c| csv_cell(&c.name))
+        .collect::<Vec<_>>()
+        .join(",");
+    text.push('\n');
+    for (i, r) in rows.iter().enumerate() {
+        if r.len() != columns.len() {
+            return Err(CliError::Input(Error::Unsupported(format!(
+                "internal: row {} of the {} table has {} cells for {} columns; please report",
+                i + 1,
+                meta.command,
+                r.len(),
+                columns.len()
+            ))));
+        }
+        text.push_str(&r.iter().map(|c| csv_cell(c)).collect::<Vec<_>>().join(","));
+        text.push('\n');
     }
-    s.push_str(&format!("# units: {}\n", lm.model.units().header()));
-    for e in extra {
-        s.push_str(&format!("# {e}\n"));
-    }
-    s
+    meta.columns = columns;
+    Ok(CsvFile { meta, text })
+}
+
+/// The `weight_<component>` columns of a model: the component name in lower case with every
+/// character outside `a-z0-9` as `_` (so `A` gives `weight_a`); the index when the name is
+/// empty or two names would coincide.
+pub fn weight_columns(model: &Model) -> Vec<Column> {
+    let names: Vec<String> = model
+        .component_names()
+        .iter()
+        .map(|n| {
+            n.to_lowercase()
+                .chars()
+                .map(|c| if c.is_ascii_alphanumeric() { c } else { '_' })
+                .collect::<String>()
+        })
+        .collect();
+    (0..model.dim())
+        .map(|a| {
+            let given = model.component_names().get(a).cloned().unwrap_or_default();
+            let clean = names.get(a).cloned().unwrap_or_default();
+            let unique = clean.chars().any(|c| c != '_')
+                && names.iter().filter(|n| **n == clean).count() == 1;
+            let name = if unique {
+                format!("weight_{clean}")
+            } else {
+                format!("weight_{a}")
+            };
+            Column::new(
+                name,
+                "1",
+                format!("weight of component {a} ({given}) in the state, summed over orbitals"),
+            )
+        })
+        .collect()
 }
 
 /// Format rows as an aligned text table (first row is the header; numeric-looking cells right-aligned).
@@ -62,19 +151,6 @@ pub fn table(rows: &[Vec<String>]) -> String {
         s.push('\n');
     }
     s
-}
-
-/// CSV text of `records` (header row first) after the `#` header lines.
-pub fn csv_text(header: &str, records: &[Vec<String>]) -> CliResult<String> {
-    let mut w = csv::Writer::from_writer(Vec::new());
-    for r in records {
-        w.write_record(r)
-            .map_err(|e| CliError::Input(Error::Unsupported(format!("csv: {e}"))))?;
-    }
-    let bytes = w
-        .into_inner()
-        .map_err(|e| CliError::Input(Error::Unsupported(format!("csv: {e}"))))?;
-    Ok(format!("{header}{}", String::from_utf8_lossy(&bytes)))
 }
 
 /// A number with `sig` significant digits: fixed notation for moderate magnitudes, else

@@ -8,10 +8,11 @@
 use crate::levels::{Branch, Convergence, LabelOrigin, Spectrum};
 use crate::model::Model;
 use crate::observables::labels;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 mod commands;
+pub mod meta;
 mod observables;
 pub use commands::{
     AutoJson, AutoLevelJson, DemoJson, ExportJson, ModelEntry, ParamJson, StudyJson, SweepJson,
@@ -23,7 +24,7 @@ pub use observables::{
 };
 
 /// The model block every result starts with.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ModelRecord {
     /// Model name.
     pub name: String,

@@ -8,36 +8,38 @@
 //! 0..P exactly once, and depend on nothing but K, N and P.
 //!
 //! # Shard tables
-//! A shard table is a CSV text as one run would write it for the whole sweep (leading `#`
-//! comment lines, one column line, data rows one per line), restricted to the rows of the
-//! shard's points, plus one first line describing the shard ([`ShardHeader::line`]):
+//! A shard table is the CSV text one run would write for the whole sweep (one column line,
+//! data rows one per line, no comment line), restricted to the rows of the shard's points.
+//! What makes it a shard, a [`ShardHeader`], travels beside it: the command line writes it as
+//! the `shard` object of the CSV's metadata sidecar ([`crate::records::meta::CsvMeta`]), e.g.
 //!
 //! ```text
-//! # shard 2/4: points 251-500 of 1000; rows grouped by sector,branch,rank; keep groups with energy in [-1.5, 2.5]
+//! "shard": { "shard": { "index": 2, "count": 4 }, "total_points": 1000,
+//!            "group_by": ["track"], "keep": { "column": "energy_meV", "lo": -1.5, "hi": 2.5 } }
 //! ```
 //!
-//! * `rows grouped by C1,C2,..` (optional): in the single-run table the rows are ordered by
-//!   these columns first and by point second. A key field is compared as a list of integers
-//!   when every `:`-separated part parses as one (so `0:10` sorts after `0:9`, `-1` before `0`),
-//!   else as text. Without it, the rows are in point order.
-//! * `keep groups with COL in [lo, hi]` (optional): the single run keeps only the groups
-//!   having at least one row with lo <= COL <= hi somewhere in the sweep. A shard cannot know
-//!   that, so it writes every group and the merge applies the rule over all shards.
+//! * `group_by` (may be empty): in the single-run table the rows are ordered by these
+//!   columns first and by point second. A key field is compared as a list of integers when
+//!   every `:`-separated part parses as one (so `0:10` sorts after `0:9`, `-1` before `0`),
+//!   else as text. When empty, the rows are in point order.
+//! * `keep` (optional): the single run keeps only the groups having at least one row with
+//!   lo <= COL <= hi somewhere in the sweep. A shard cannot know that, so it writes every
+//!   group and the merge applies the rule over all shards.
 //!
 //! # Merge
-//! [`merge`] checks that the shards agree on N, P, the grouping, the filter, every other
-//! comment line and the column line, that every K in 1..=N is present exactly once, and that
-//! no value of the first column (the swept point) occurs in two shards; it then concatenates
-//! the data rows in shard order, stable-sorts them by group key (which keeps the point order
-//! inside a group), applies the filter, and returns the header without the shard line plus
-//! the rows, byte for byte as written by the shards.
+//! [`merge`] checks that the shards agree on N, P, the grouping, the filter, the context
+//! (everything else the sidecars say, see [`ShardTable::context`]) and the column line, that
+//! every K in 1..=N is present exactly once, and that no value of the first column (the swept
+//! point) occurs in two shards; it then concatenates the data rows in shard order,
+//! stable-sorts them by group key (which keeps the point order inside a group), applies the
+//! filter, and returns the column line plus the rows, byte for byte as written by the shards.
 //!
 //! # Examples
 //! ```
-//! use ladderfan::shard::{merge, Shard, ShardHeader};
+//! use ladderfan::shard::{merge, Shard, ShardHeader, ShardTable};
 //! let points: Vec<f64> = (1..=5).map(f64::from).collect();
 //! let table = |rows: &[f64]| -> String {
-//!     let mut t = String::from("# invented table\nfield,energy\n");
+//!     let mut t = String::from("field_T,energy_meV\n");
 //!     for b in rows {
 //!         t.push_str(&format!("{b:e},{:e}\n", 0.5 * b));
 //!     }
@@ -48,20 +50,21 @@
 //! for k in 1..=2 {
 //!     let s: Shard = format!("{k}/2").parse()?;
 //!     let header = ShardHeader::new(s, points.len());
-//!     shards.push((format!("part{k}.csv"), header.attach(&table(s.select(&points)?))));
+//!     shards.push(ShardTable::new(format!("part{k}.csv"), header, table(s.select(&points)?)));
 //! }
 //! assert_eq!(merge(&shards)?, single);
 //! # Ok::<(), ladderfan::Error>(())
 //! ```
 
 use crate::error::{Error, Result};
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::fmt;
 use std::ops::Range;
 use std::str::FromStr;
 
 /// Shard K of N (1-based K): which block of a sweep's points one job computes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 pub struct Shard {
     /// K, 1-based: 1 <= index <= count.
     pub index: usize,
@@ -163,7 +166,7 @@ impl fmt::Display for Shard {
 }
 
 /// The single-run rule that keeps only the groups that enter a window somewhere in the sweep.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct KeepGroups {
     /// Column compared with the window (parsed as a number).
     pub column: String,
@@ -173,20 +176,21 @@ pub struct KeepGroups {
     pub hi: f64,
 }
 
-/// What the first line of a shard table says (see the module docs for the format).
-#[derive(Debug, Clone, PartialEq)]
+/// What makes a table a shard table (see the module docs): which shard, of how many points,
+/// and how the merge orders and filters the rows.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ShardHeader {
     /// Which shard.
     pub shard: Shard,
     /// Points of the whole sweep (P).
     pub total_points: usize,
     /// Columns ordering the rows before the point order (empty: point order only).
+    #[serde(default)]
     pub group_by: Vec<String>,
     /// Group filter applied by the merge, if any.
+    #[serde(default)]
     pub keep: Option<KeepGroups>,
 }
-
-const PREFIX: &str = "# shard ";
 
 impl ShardHeader {
     /// A header for rows in point order without a group filter.
@@ -199,8 +203,8 @@ impl ShardHeader {
         }
     }
 
-    /// The line, e.g. `# shard 2/4: points 3-4 of 8; rows grouped by a,b`. Points are
-    /// 1-based and inclusive for humans; a shard without points says `points none`.
+    /// A line for humans, e.g. `shard 2/4: points 3-4 of 8; rows grouped by a,b`. Points are
+    /// 1-based and inclusive; a shard without points says `points none`.
     pub fn line(&self) -> String {
         let r = self.shard.range(self.total_points).unwrap_or(0..0);
         let pts = if r.is_empty() {
@@ -209,7 +213,7 @@ impl ShardHeader {
             format!("{}-{}", r.start + 1, r.end)
         };
         let mut s = format!(
-            "{PREFIX}{}: points {pts} of {}",
+            "shard {}: points {pts} of {}",
             self.shard, self.total_points
         );
         if !self.group_by.is_empty() {
@@ -223,61 +227,33 @@ impl ShardHeader {
         }
         s
     }
+}
 
-    /// `table` with this header's line put first.
-    pub fn attach(&self, table: &str) -> String {
-        format!("{}\n{table}", self.line())
-    }
+/// One shard's table for [`merge`]: where it came from, its [`ShardHeader`], the context it
+/// must share with the other shards, and the CSV text.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShardTable {
+    /// Name for messages (usually the file path).
+    pub name: String,
+    /// Which shard this is.
+    pub header: ShardHeader,
+    /// Lines that every shard of one sweep has in common (model, units, notes, ...; the
+    /// command line writes its sidecar without the command line and shard object): the merge
+    /// refuses shards whose context differs. May be empty.
+    pub context: Vec<String>,
+    /// The CSV text: column line, then the data rows.
+    pub text: String,
+}
 
-    /// Parse a line written by [`ShardHeader::line`]; `Ok(None)` when the line is not a shard
-    /// line at all.
-    ///
-    /// # Errors
-    /// [`Error::Parse`] (location `where_`) for a shard line that does not follow the format.
-    pub fn parse_line(line: &str, where_: &str) -> Result<Option<ShardHeader>> {
-        let Some(rest) = line.strip_prefix(PREFIX) else {
-            return Ok(None);
-        };
-        let bad = |why: &str| Error::Parse {
-            location: where_.to_string(),
-            message: format!(
-                "malformed shard line ({why}): `{line}`; shard tables must come unedited from a \
-                 `--shard K/N` run"
-            ),
-        };
-        let (shard, rest) = rest
-            .split_once(": points ")
-            .ok_or_else(|| bad("no `: points`"))?;
-        let shard = Shard::parse(shard).map_err(|_| bad("K/N"))?;
-        let mut parts = rest.split("; ");
-        let pts = parts.next().ok_or_else(|| bad("no points"))?;
-        let (block, total) = pts.split_once(" of ").ok_or_else(|| bad("no `of P`"))?;
-        let total: usize = total.parse().map_err(|_| bad("P"))?;
-        let mut h = ShardHeader::new(shard, total);
-        let expect = h.line();
-        for p in parts {
-            if let Some(cols) = p.strip_prefix("rows grouped by ") {
-                h.group_by = cols.split(',').map(str::to_string).collect();
-            } else if let Some(k) = p.strip_prefix("keep groups with ") {
-                let (col, win) = k.rsplit_once(" in [").ok_or_else(|| bad("keep window"))?;
-                let win = win.strip_suffix(']').ok_or_else(|| bad("keep window"))?;
-                let (lo, hi) = win.split_once(", ").ok_or_else(|| bad("keep window"))?;
-                h.keep = Some(KeepGroups {
-                    column: col.to_string(),
-                    lo: lo.parse().map_err(|_| bad("window lower end"))?,
-                    hi: hi.parse().map_err(|_| bad("window upper end"))?,
-                });
-            } else {
-                return Err(bad("unknown clause"));
-            }
+impl ShardTable {
+    /// A table with an empty context.
+    pub fn new(name: impl Into<String>, header: ShardHeader, text: impl Into<String>) -> Self {
+        ShardTable {
+            name: name.into(),
+            header,
+            context: Vec::new(),
+            text: text.into(),
         }
-        // the point block must be the one K/N of P selects
-        let mut plain = expect;
-        plain.truncate(plain.find("; ").unwrap_or(plain.len()));
-        if plain != format!("{PREFIX}{}: points {block} of {total}", h.shard) {
-            return Err(bad("the point block is not the one K/N selects"));
-        }
-        Ok(Some(h))
     }
 }
 
@@ -317,72 +293,61 @@ struct Parsed {
     rows: Vec<String>,
 }
 
-fn parse_table(name: &str, text: &str) -> Result<Parsed> {
-    let mut header = None;
-    let mut comments = Vec::new();
+fn parse_table(t: &ShardTable) -> Result<Parsed> {
     let mut columns = None;
     let mut rows = Vec::new();
-    for (i, line) in text.lines().enumerate() {
-        let at = format!("{name}:{}", i + 1);
-        if columns.is_none() && line.starts_with('#') {
-            match ShardHeader::parse_line(line, &at)? {
-                Some(h) if header.is_none() => header = Some(h),
-                Some(_) => {
-                    return Err(Error::Parse {
-                        location: at,
-                        message: "a second shard line; merge the shard outputs, not merged tables"
-                            .into(),
-                    })
-                }
-                None => comments.push(line.to_string()),
-            }
-        } else if columns.is_none() {
+    for (i, line) in t.text.lines().enumerate() {
+        if line.starts_with('#') {
+            return Err(Error::Parse {
+                location: format!("{}:{}", t.name, i + 1),
+                message: "a `#` line: shard tables have none (an older ladderfan wrote this \
+                          one); run the shard again"
+                    .into(),
+            });
+        }
+        if columns.is_none() {
             columns = Some(line.to_string());
         } else if !line.is_empty() {
             rows.push(line.to_string());
         }
     }
-    let header = header.ok_or_else(|| Error::Parse {
-        location: name.to_string(),
-        message: "no `# shard K/N` line: this is not the output of a `--shard K/N` run".into(),
-    })?;
     let columns = columns.ok_or_else(|| Error::Parse {
-        location: name.to_string(),
-        message: "no column line after the comment lines".into(),
+        location: t.name.clone(),
+        message: "empty table: no column line".into(),
     })?;
     Ok(Parsed {
-        header,
-        comments,
+        header: t.header.clone(),
+        comments: t.context.clone(),
         columns,
         rows,
     })
 }
 
-/// Merge shard tables `(name, text)` (any order) into the single-run table.
+/// Merge shard tables (any order) into the single-run table.
 ///
 /// # Errors
-/// [`Error::Parse`] naming the file when a table is not a shard table, when the shards
-/// disagree (N, P, grouping, filter, comment or column lines; the first differing line is
-/// quoted), when a shard is missing or given twice, when a grouping/filter column does not
+/// [`Error::Parse`] naming the file when a table has a `#` line or no column line, when the
+/// shards disagree (N, P, grouping, filter, context or column lines; the first differing line
+/// is quoted), when a shard is missing or given twice, when a grouping/filter column does not
 /// exist or a filter value is not a number, or when a point (first column value) appears in
 /// two shards.
 ///
 /// # Complexity
 /// O(R log R) for R data rows in total; memory O(total text).
-pub fn merge(tables: &[(String, String)]) -> Result<String> {
+pub fn merge(tables: &[ShardTable]) -> Result<String> {
     let first = tables.first().ok_or_else(|| Error::Parse {
         location: "merge".into(),
         message: "no shard tables given".into(),
     })?;
     let mut parsed: Vec<(String, Parsed)> = Vec::with_capacity(tables.len());
-    for (name, text) in tables {
-        parsed.push((name.clone(), parse_table(name, text)?));
+    for t in tables {
+        parsed.push((t.name.clone(), parse_table(t)?));
     }
     let base = &parsed[0].1;
-    check_same_sweep(&parsed, &first.0)?;
+    check_same_sweep(&parsed, &first.name)?;
     let by_k = shards_in_order(&parsed)?;
-    let columns = fields(&base.columns, &format!("{}: column line", first.0))?;
-    let (group_cols, keep) = grouping_columns(base, &columns, &first.0)?;
+    let columns = fields(&base.columns, &format!("{}: column line", first.name))?;
+    let (group_cols, keep) = grouping_columns(base, &columns, &first.name)?;
     let mut rows = collect_rows(&parsed, &by_k, &columns, &group_cols, keep)?;
     rows.sort_by(|a, b| a.0.cmp(&b.0)); // stable: keeps shard (= point) order inside a group
     let keep_group: Option<Vec<bool>> = keep.map(|(_, lo, hi)| groups_entering(&rows, lo, hi));
@@ -427,11 +392,11 @@ fn check_same_sweep(parsed: &[(String, Parsed)], first: &str) -> Result<()> {
         if let Some((a, b)) = t.comments.iter().zip(&base.comments).find(|(a, b)| a != b) {
             return Err(mismatch(
                 name,
-                format!("header line `{a}` differs from `{b}`"),
+                format!("context line `{a}` differs from `{b}`"),
             ));
         }
         if t.comments.len() != base.comments.len() {
-            return Err(mismatch(name, "a different number of header lines".into()));
+            return Err(mismatch(name, "a different number of context lines".into()));
         }
     }
     Ok(())
@@ -481,7 +446,7 @@ fn grouping_columns(
             .position(|x| x == c)
             .ok_or_else(|| Error::Parse {
                 location: first.to_string(),
-                message: format!("column `{c}` named in the shard line does not exist"),
+                message: format!("column `{c}` named in the shard header does not exist"),
             })
     };
     let group_cols: Vec<usize> = base
@@ -566,13 +531,9 @@ fn groups_entering(rows: &[MergeRow<'_>], lo: f64, hi: f64) -> Vec<bool> {
     flags
 }
 
-/// The merged table: comment lines, column line, then the kept rows.
+/// The merged table: column line, then the kept rows.
 fn render_merged(base: &Parsed, rows: &[MergeRow<'_>], keep_group: Option<&[bool]>) -> String {
     let mut out = String::new();
-    for c in &base.comments {
-        out.push_str(c);
-        out.push('\n');
-    }
     out.push_str(&base.columns);
     out.push('\n');
     for (i, r) in rows.iter().enumerate() {

@@ -6,25 +6,74 @@ use crate::trust::converge::{NeededCutoff, Study};
 use plotters::prelude::*;
 use std::path::Path;
 
-/// Column names of [`study_csv`], in order.
-pub const CSV_COLUMNS: [&str; 16] = [
-    "level",
-    "sector_class",
-    "sector_label",
-    "orbital",
-    "component",
-    "branch",
-    "cutoff",
-    "energy",
-    "bound",
-    "kato_temple",
-    "change",
-    "actual_error",
-    "converged",
-    "bound_from",
-    "state",
-    "needed_cutoff",
+/// The columns of [`study_csv`], in order: (quantity, whether it is an energy in the study's
+/// energy unit, meaning). An energy-valued column is named `<quantity>_<energy suffix>`
+/// ([`csv_columns`]); the others by their quantity alone.
+pub const STUDY_COLUMNS: [(&str, bool, &str); 16] = [
+    ("level", false, "index of the tracked level"),
+    ("sector_class", false, "component class of the sector"),
+    ("sector_label", false, "J (or J mod m) of the sector"),
+    ("orbital", false, "dominant orbital"),
+    ("component", false, "dominant component index"),
+    (
+        "branch",
+        false,
+        "Klein-Gordon branch +1 / -1; 0 for a direct Hamiltonian",
+    ),
+    ("cutoff", false, "orbitals kept in this solve"),
+    (
+        "energy",
+        true,
+        "level energy relative to the reference energy",
+    ),
+    ("residual_bound", true, "residual (Weinstein) bound"),
+    (
+        "kato_temple_bound",
+        true,
+        "Kato-Temple bound (empty where not certified)",
+    ),
+    (
+        "change",
+        true,
+        "change of the energy from the previous cutoff",
+    ),
+    (
+        "actual_error",
+        true,
+        "difference from the exact value (empty when none is known)",
+    ),
+    ("converged", false, "true when converged at this cutoff"),
+    (
+        "bound_from",
+        false,
+        "which bound decided: residual or kato_temple",
+    ),
+    (
+        "state",
+        false,
+        "converged, not_converged or cutoff_artefact",
+    ),
+    (
+        "needed_cutoff",
+        false,
+        "cutoff needed for convergence; ~ marks an extrapolation",
+    ),
 ];
+
+/// The column names of [`study_csv`] for the energy suffix `energy_suffix` (e.g. `meV`, as
+/// the front end spells energy units in column names): `energy_meV`, `bound_meV`, ...
+pub fn csv_columns(energy_suffix: &str) -> Vec<String> {
+    STUDY_COLUMNS
+        .iter()
+        .map(|&(q, energy, _)| {
+            if energy {
+                format!("{q}_{energy_suffix}")
+            } else {
+                q.to_string()
+            }
+        })
+        .collect()
+}
 
 fn opt(x: Option<f64>) -> String {
     x.map_or_else(String::new, |v| format!("{v:.17e}"))
@@ -38,16 +87,17 @@ fn needed_str(n: NeededCutoff) -> String {
     }
 }
 
-/// The study as CSV, one row per tracked level and cutoff (columns [`CSV_COLUMNS`]; energies
-/// and errors in the study's energy unit, relative to the reference energy; empty cells for
-/// missing values; a needed cutoff prefixed by `~` is extrapolated).
+/// The study as CSV, one row per tracked level and cutoff (columns [`csv_columns`] of
+/// `energy_suffix`; energies and errors in the study's energy unit, relative to the reference
+/// energy; empty cells for missing values; a needed cutoff prefixed by `~` is extrapolated).
+/// The first line is the column line; there are no comment lines.
 ///
 /// # Errors
 /// [`Error::Unsupported`] if the CSV writer fails (it writes to memory).
-pub fn study_csv(study: &Study) -> Result<String> {
+pub fn study_csv(study: &Study, energy_suffix: &str) -> Result<String> {
     let mut w = csv::Writer::from_writer(Vec::new());
     let fail = |e: csv::Error| Error::Unsupported(format!("cannot format the CSV table: {e}"));
-    w.write_record(CSV_COLUMNS).map_err(fail)?;
+    w.write_record(csv_columns(energy_suffix)).map_err(fail)?;
     for (t, l) in study.levels.iter().enumerate() {
         for e in &l.entries {
             w.write_record([

@@ -382,9 +382,11 @@ impl ExpectedList {
         })
     }
 
-    /// Levels from CSV text: a header row naming the columns, `energy` required, `n`, `s`,
-    /// `multiplicity` (default 1) and `label` optional; `#` starts a comment line. Energies
-    /// are E - `origin`. The window is [lowest, highest] energy.
+    /// Levels from CSV text: a header row naming the columns, the energy required as
+    /// `energy_<unit>` (e.g. `energy_meV`, the column name every ladderfan CSV uses, in the
+    /// model's energy unit) or `energy`; `landau_index` (or `n`), `s`, `multiplicity`
+    /// (default 1) and `label` optional. A `#` line is skipped (older files had them).
+    /// Energies are E - `origin`. The window is [lowest, highest] energy.
     ///
     /// # Errors
     /// [`Error::Parse`] located at `name:line` for a missing `energy` column, a value that is
@@ -392,7 +394,7 @@ impl ExpectedList {
     ///
     /// # Examples
     /// ```
-    /// let text = "n,s,energy\n# the two lowest\n0,1,0.5\n1,1,1.5\n";
+    /// let text = "landau_index,s,energy_meV\n0,1,0.5\n1,1,1.5\n";
     /// let list = ladderfan::verify::ExpectedList::from_csv(text, "levels.csv", 0.0)?;
     /// assert_eq!(list.levels.len(), 2);
     /// assert_eq!(list.levels[1].energy, 1.5);
@@ -447,17 +449,25 @@ impl CsvColumns {
     fn find(headers: &csv::StringRecord, name: &str) -> Result<Self> {
         let perr = |line: u64, message: String| csv_error(name, line, message);
         let col = |k: &str| headers.iter().position(|h| h.eq_ignore_ascii_case(k));
-        let energy_col = col("energy").ok_or_else(|| {
-            perr(
-                1,
-                format!(
-                    "no 'energy' column in the header ({}); the first row must name the \
-                     columns, e.g. n,s,energy",
-                    headers.iter().collect::<Vec<_>>().join(",")
-                ),
-            )
-        })?;
-        let (n_col, s_col, m_col, l_col) = (col("n"), col("s"), col("multiplicity"), col("label"));
+        let energy_col = headers
+            .iter()
+            .position(|h| {
+                h.eq_ignore_ascii_case("energy")
+                    || h.get(..7)
+                        .is_some_and(|p| p.eq_ignore_ascii_case("energy_"))
+            })
+            .ok_or_else(|| {
+                perr(
+                    1,
+                    format!(
+                        "no energy column in the header ({}); the first row must name the \
+                         columns, e.g. landau_index,s,energy_meV",
+                        headers.iter().collect::<Vec<_>>().join(",")
+                    ),
+                )
+            })?;
+        let n_col = col("landau_index").or_else(|| col("n"));
+        let (s_col, m_col, l_col) = (col("s"), col("multiplicity"), col("label"));
         Ok(CsvColumns {
             energy: energy_col,
             n: n_col,

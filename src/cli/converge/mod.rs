@@ -14,8 +14,8 @@
 //! `--count` levels nearest `--target`.
 
 use super::common::{
-    self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
-    ModelArgs, OutputArgs, OutputFiles, SolveArgs, TruncArgs,
+    self, bad_flag, emit, emit_json, fmt_num, load_model, CliResult, ModelArgs, OutputArgs,
+    OutputFiles, SolveArgs, TruncArgs,
 };
 use clap::{Args, ValueEnum};
 use ladderfan::records::{AutoJson, AutoLevelJson, StudyJson};
@@ -23,11 +23,13 @@ use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
     auto, study, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection, Study,
 };
-use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
+use ladderfan::trust::report::{study_json, study_svg_string};
 use ladderfan::trust::window::EnergyWindow;
 use ladderfan::Settings;
 
+mod files;
 mod tables;
+use files::{auto_csv, study_file};
 pub use tables::{auto_table, study_table};
 
 /// What `converge` does.
@@ -188,49 +190,6 @@ fn auto_json<'a>(
     }
 }
 
-fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
-    let unit = lm.model.units().energy_unit().replace(' ', "");
-    let s = &res.spectrum;
-    let header = csv_header(
-        lm,
-        "converge --mode auto",
-        &[format!(
-            "field {} {}, kz {} {}, final cutoff {}, first converged cutoff {}, energies relative to {}",
-            s.point.field,
-            s.units.field_unit(),
-            s.point.kz,
-            s.units.wavenumber_unit(),
-            res.cutoff,
-            res.first_converged_cutoff,
-            s.reference_energy
-        )],
-    );
-    let mut rec = vec![vec![
-        "sector".to_string(),
-        "orbital".into(),
-        "component".into(),
-        format!("energy_{unit}"),
-        format!("bound_{unit}"),
-        format!("kato_temple_{unit}"),
-        "bound_from".into(),
-        "state".into(),
-    ]];
-    for &i in &res.selected {
-        let l = &s.levels[i];
-        rec.push(vec![
-            format!("{}:{}", l.sector.class, l.sector.label),
-            l.orbital.to_string(),
-            l.component.to_string(),
-            format!("{:e}", l.energy),
-            format!("{:e}", l.bound),
-            l.kato_temple.map_or_else(String::new, |k| format!("{k:e}")),
-            l.deciding_bound().1.name().into(),
-            l.convergence.word().replace(' ', "_"),
-        ]);
-    }
-    csv_text(&header, &rec)
-}
-
 /// Run `ladderfan converge`.
 pub fn run(a: &ConvergeArgs) -> CliResult {
     let lm = load_model(&a.model)?;
@@ -293,7 +252,7 @@ fn run_study(
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add("converge.csv", study_csv(&st)?);
+        files.add_csv("converge.csv", study_file(lm, r, &st)?)?;
         files.add("converge.json", study_json(&st)?);
         files.add("converge.svg", study_svg_string(&st)?);
         written = files.write_all(dir)?;
@@ -348,7 +307,7 @@ fn run_auto(
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add("converge-auto.csv", auto_csv(lm, &res)?);
+        files.add_csv("converge-auto.csv", auto_csv(lm, &res)?)?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

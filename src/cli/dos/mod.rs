@@ -2,7 +2,7 @@
 //! carrier density, and (with `--b-max`) the Fermi level against the field.
 
 use super::common::{
-    self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
+    self, bad_flag, csv_file, csv_meta, emit, emit_json, fmt_num, load_model, CliResult, CsvFile,
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use clap::{Args, ValueEnum};
@@ -16,6 +16,7 @@ use ladderfan::observables::volume::{
     fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
 };
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
+use ladderfan::records::meta::Column;
 use ladderfan::records::{
     DosRecord, FermiRecord, ModelRecord, UnitsRecord, VolumeFermiRecord, VolumeFermiSweepRecord,
     VolumeRecord,
@@ -313,17 +314,17 @@ fn write_files(
     };
     let mut files = OutputFiles::default();
     let neutrality = a.fermi.neutrality()?.resolve(spec, ld);
-    files.add("dos.csv", dos_csv(lm, json, ld, neutrality)?);
+    files.add_csv("dos.csv", dos_csv(lm, json, ld, neutrality)?)?;
     files.add("dos.svg", dos_svg(lm, json)?);
     if let Some(v) = &json.volume {
-        files.add("dos3d.csv", dos3d_csv(lm, json, v)?);
+        files.add_csv("dos3d.csv", dos3d_csv(lm, json, v)?)?;
         files.add("dos3d.svg", dos3d_svg(lm, json, v)?);
         if !v.fermi_sweep.is_empty() {
-            files.add("fermi3d.csv", fermi3d_csv(lm, json, v)?);
+            files.add_csv("fermi3d.csv", fermi3d_csv(lm, json, v)?)?;
         }
     }
     if !sweep_points.is_empty() {
-        files.add("fermi.csv", fermi_csv(lm, json)?);
+        files.add_csv("fermi.csv", fermi_csv(lm, json)?)?;
         let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
         files.add("fermi.svg", fermi_svg(lm, json, &spectra, broadening)?);
     }

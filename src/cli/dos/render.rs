@@ -2,8 +2,19 @@
 
 use super::*;
 
+/// The energy unit as printed in the sidecars' notes.
 pub(super) fn energy_unit(lm: &LoadedModel) -> String {
-    lm.model.units().energy_unit().replace(' ', "")
+    lm.model.units().energy_unit().to_string()
+}
+
+/// `dos_<what>per_<energy>_<area or volume>`, e.g. `dos_per_meV_cm2`, and its unit.
+fn dos_column(lm: &LoadedModel, what: &str, per: &str, meaning: &str) -> Column {
+    let cu = common::column_units(lm);
+    Column::new(
+        format!("dos_{what}per_{}_{per}", cu.energy),
+        format!("1/({} {})", cu.energy_unit, per.replace("cm", "cm^")),
+        meaning,
+    )
 }
 
 pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
@@ -128,12 +139,23 @@ pub(super) fn dos_csv(
     j: &DosRecord,
     ld: &LevelDensity,
     neutrality: Option<f64>,
-) -> CliResult<String> {
+) -> CliResult<CsvFile> {
     let eu = energy_unit(lm);
-    let header = csv_header(
+    let cu = common::column_units(lm);
+    let meta = csv_meta(
         lm,
         "dos",
-        &[
+        vec![
+            format!("energies relative to {} {eu}", j.reference_energy),
+            format!(
+                "density_invcm2: n(E) at T = 0 with the Fermi level at E, counted from {} \
+                 (electrons above minus holes below)",
+                neutrality
+                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .unwrap_or_else(|| "an empty band".into())
+            ),
+        ],
+        vec![
             format!(
                 "field {} {}, kz {}, cutoff {}",
                 j.field,
@@ -149,21 +171,22 @@ pub(super) fn dos_csv(
                 "{:?} broadening width {:e} {eu}; only the {} converged levels count",
                 j.shape, j.width, j.levels_used
             ),
-            format!("energies relative to {} {eu}", j.reference_energy),
-            format!(
-                "density_from_neutrality: n(E) at T = 0 with the Fermi level at E, counted from {} \
-                 (electrons above minus holes below)",
-                neutrality
-                    .map(|e| format!("neutrality at {e} {eu}"))
-                    .unwrap_or_else(|| "an empty band".into())
-            ),
         ],
     );
-    let mut rec = vec![vec![
-        format!("energy_{eu}"),
-        format!("dos_per_{eu}_per_cm2"),
-        "density_from_neutrality_per_cm2".to_string(),
-    ]];
+    let columns = vec![
+        Column::new(
+            cu.energy_column(),
+            cu.energy_unit,
+            "energy of the grid point",
+        ),
+        dos_column(lm, "", "cm2", "broadened density of states per area"),
+        Column::new(
+            "density_invcm2",
+            "1/cm^2",
+            "carrier density with the Fermi level at this energy, from neutrality",
+        ),
+    ];
+    let mut rec = Vec::new();
     for &(e, g) in &j.dos {
         let occ = Occupation {
             chemical_potential: e,
@@ -180,7 +203,7 @@ pub(super) fn dos_csv(
             ),
         ]);
     }
-    csv_text(&header, &rec)
+    csv_file(meta, columns, &rec)
 }
 
 pub(super) fn dos_svg(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
@@ -259,15 +282,27 @@ pub(super) fn dos_plot(
     })?)
 }
 
-pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<CsvFile> {
     let eu = energy_unit(lm);
     let u = lm.model.units();
-    let header = csv_header(
+    let cu = common::column_units(lm);
+    let meta = csv_meta(
         lm,
-        "dos per volume (kz-integrated)",
-        &[
+        "dos",
+        vec![
+            format!("energies relative to {} {eu}", j.reference_energy),
             format!(
-                "field {} {}, cutoff {}, kz integrated over [{}, {}] {} with {} points (trapezoid, \
+                "density_invcm3: at {} K with the chemical potential at E, counted from {}",
+                v.temperature_k,
+                v.neutrality_energy
+                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .unwrap_or_else(|| "an empty band".into())
+            ),
+        ],
+        vec![
+            "per volume (kz-integrated)".into(),
+            format!(
+                "field {} {}, cutoff {}, kz integrated over [{}, {}] {} with {} points (trapezoid; \
                  last grid change {:e} of the peak DOS)",
                 j.field,
                 u.field_unit(),
@@ -282,25 +317,27 @@ pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> Cl
                 "{:?} broadening width {:e} {eu}; only converged levels count",
                 j.shape, j.width
             ),
-            format!("energies relative to {} {eu}", j.reference_energy),
-            format!(
-                "density_from_neutrality: at {} K with the chemical potential at E, counted from {}",
-                v.temperature_k,
-                v.neutrality_energy
-                    .map(|e| format!("neutrality at {e} {eu}"))
-                    .unwrap_or_else(|| "an empty band".into())
-            ),
         ],
     );
-    let mut rec = vec![vec![
-        format!("energy_{eu}"),
-        format!("dos_per_{eu}_per_cm3"),
-        "density_from_neutrality_per_cm3".to_string(),
-    ]];
-    for &(e, g, n) in &v.dos {
-        rec.push(vec![format!("{e:e}"), format!("{g:e}"), format!("{n:e}")]);
-    }
-    csv_text(&header, &rec)
+    let columns = vec![
+        Column::new(
+            cu.energy_column(),
+            cu.energy_unit,
+            "energy of the grid point",
+        ),
+        dos_column(lm, "", "cm3", "broadened density of states per volume"),
+        Column::new(
+            "density_invcm3",
+            "1/cm^3",
+            "carrier density with the chemical potential at this energy, from neutrality",
+        ),
+    ];
+    let rec: Vec<Vec<String>> = v
+        .dos
+        .iter()
+        .map(|&(e, g, n)| vec![format!("{e:e}"), format!("{g:e}"), format!("{n:e}")])
+        .collect();
+    csv_file(meta, columns, &rec)
 }
 
 pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
@@ -335,13 +372,15 @@ pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> Cl
     )
 }
 
-pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<CsvFile> {
     let eu = energy_unit(lm);
-    let fu = lm.model.units().field_unit();
-    let header = csv_header(
+    let cu = common::column_units(lm);
+    let meta = csv_meta(
         lm,
-        "fermi level sweep per volume (kz-integrated)",
-        &[
+        "dos",
+        vec![format!("energies relative to {} {eu}", j.reference_energy)],
+        vec![
+            "Fermi level sweep per volume (kz-integrated)".into(),
             format!(
                 "density {:e} cm^-3 from neutrality, {:?} broadening, temperature {} K, cutoff {}",
                 v.fermi.map(|f| f.density_cm3).unwrap_or(f64::NAN),
@@ -349,59 +388,93 @@ pub(super) fn fermi3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> 
                 v.temperature_k,
                 j.cutoff
             ),
-            format!("energies relative to {} {eu}", j.reference_energy),
         ],
     );
-    let mut rec = vec![vec![
-        format!("field_{fu}"),
-        format!("fermi_energy_{eu}"),
-        format!("dos_at_fermi_per_{eu}_per_cm3"),
-        "kz_points".to_string(),
-    ]];
-    for p in &v.fermi_sweep {
-        rec.push(vec![
-            format!("{:e}", p.field),
-            format!("{:e}", p.fermi_energy),
-            format!("{:e}", p.dos_at_fermi_per_cm3),
-            p.kz_points.to_string(),
-        ]);
-    }
-    csv_text(&header, &rec)
+    let columns = vec![
+        Column::new(cu.field_column(), cu.field_unit, "magnetic field B"),
+        Column::new(
+            cu.energy_valued("fermi_energy"),
+            cu.energy_unit,
+            "Fermi level at the fixed density",
+        ),
+        dos_column(
+            lm,
+            "at_fermi_",
+            "cm3",
+            "density of states per volume at the Fermi level",
+        ),
+        Column::new("kz_points", "1", "kz quadrature points used"),
+    ];
+    let rec: Vec<Vec<String>> = v
+        .fermi_sweep
+        .iter()
+        .map(|p| {
+            vec![
+                format!("{:e}", p.field),
+                format!("{:e}", p.fermi_energy),
+                format!("{:e}", p.dos_at_fermi_per_cm3),
+                p.kz_points.to_string(),
+            ]
+        })
+        .collect();
+    csv_file(meta, columns, &rec)
 }
 
-pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
+pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<CsvFile> {
     let eu = energy_unit(lm);
-    let fu = lm.model.units().field_unit();
-    let header = csv_header(
+    let cu = common::column_units(lm);
+    let meta = csv_meta(
         lm,
-        "fermi level sweep",
-        &[
-            format!(
-                "{:?} broadening, temperature {} K; density from neutrality (electrons minus holes)",
-                j.shape, j.temperature_k
-            ),
+        "dos",
+        vec![
             format!("energies relative to {} {eu}", j.reference_energy),
+            "density from neutrality (electrons minus holes)".into(),
         ],
+        vec![format!(
+            "Fermi level sweep; {:?} broadening, temperature {} K",
+            j.shape, j.temperature_k
+        )],
     );
-    let mut rec = vec![vec![
-        format!("field_{fu}"),
-        format!("fermi_energy_{eu}"),
-        "filling_factor".to_string(),
-        "density_per_cm2".into(),
-        format!("dos_at_fermi_per_{eu}_per_cm2"),
-        format!("width_{eu}"),
-    ]];
-    for f in &j.fermi_sweep {
-        rec.push(vec![
-            format!("{:e}", f.field),
-            format!("{:e}", f.fermi_energy),
-            format!("{:e}", f.filling_factor),
-            format!("{:e}", f.density_cm2),
-            format!("{:e}", f.dos_at_fermi_per_cm2),
-            format!("{:e}", f.width),
-        ]);
-    }
-    csv_text(&header, &rec)
+    let columns = vec![
+        Column::new(cu.field_column(), cu.field_unit, "magnetic field B"),
+        Column::new(
+            cu.energy_valued("fermi_energy"),
+            cu.energy_unit,
+            "Fermi level at the fixed density",
+        ),
+        Column::new("filling_factor", "1", "filling factor nu"),
+        Column::new(
+            "density_invcm2",
+            "1/cm^2",
+            "carrier density from neutrality",
+        ),
+        dos_column(
+            lm,
+            "at_fermi_",
+            "cm2",
+            "density of states per area at the Fermi level",
+        ),
+        Column::new(
+            cu.energy_valued("width"),
+            cu.energy_unit,
+            "broadening width",
+        ),
+    ];
+    let rec: Vec<Vec<String>> = j
+        .fermi_sweep
+        .iter()
+        .map(|f| {
+            vec![
+                format!("{:e}", f.field),
+                format!("{:e}", f.fermi_energy),
+                format!("{:e}", f.filling_factor),
+                format!("{:e}", f.density_cm2),
+                format!("{:e}", f.dos_at_fermi_per_cm2),
+                format!("{:e}", f.width),
+            ]
+        })
+        .collect();
+    csv_file(meta, columns, &rec)
 }
 
 pub(super) fn fermi_svg(

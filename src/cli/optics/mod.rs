@@ -2,7 +2,7 @@
 //! against the field (the transition-energy fan) with `--b-max`.
 
 use super::common::{
-    self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
+    self, bad_flag, csv_file, csv_meta, emit, emit_json, fmt_num, load_model, CliResult, CsvFile,
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use super::dos::FermiArgs;
@@ -10,6 +10,7 @@ use clap::Args;
 use ladderfan::observables::optics::{
     transition_sweep, OpticsSettings, Polarisation, TransitionPoint,
 };
+use ladderfan::records::meta::Column;
 use ladderfan::records::{
     transition_record, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord,
 };
@@ -141,7 +142,7 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add("transitions.csv", to_csv(lm, json)?);
+        files.add_csv("transitions.csv", to_csv(lm, json)?)?;
         let svg = if json.points.len() > 1 {
             fan_svg(lm, json)?
         } else {
@@ -305,42 +306,95 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     s
 }
 
-fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
-    let eu = lm.model.units().energy_unit().replace(' ', "");
-    let fu = lm.model.units().field_unit();
-    let v = j.velocity_unit.replace('/', "_per_");
-    let header = csv_header(
+/// The columns of `transitions.csv`, in order (`vu`: the velocity unit, e.g. `m/s`).
+fn transition_columns(lm: &LoadedModel, vu: &str) -> Vec<Column> {
+    let cu = common::column_units(lm);
+    let e = cu.energy_unit;
+    let v = vu.replace('/', "_per_").replace(' ', "_");
+    let sq = format!("({vu})^2");
+    vec![
+        Column::new(cu.field_column(), cu.field_unit, "magnetic field B"),
+        Column::new(
+            cu.energy_valued("fermi_energy"),
+            e,
+            "Fermi level at this field",
+        ),
+        Column::new("filling_factor", "1", "filling factor nu at this field"),
+        Column::new(cu.energy_column(), e, "transition energy E_to - E_from"),
+        Column::new("from_label", "", "Landau label of the initial level"),
+        Column::new("to_label", "", "Landau label of the final level"),
+        Column::new(
+            "transition",
+            "",
+            "the transition as printed, LL(from) -> LL(to)",
+        ),
+        Column::new("from_orbital", "1", "dominant orbital of the initial level"),
+        Column::new("to_orbital", "1", "dominant orbital of the final level"),
+        Column::new(
+            cu.energy_valued("from_energy"),
+            e,
+            "energy of the initial level",
+        ),
+        Column::new(
+            cu.energy_valued("to_energy"),
+            e,
+            "energy of the final level",
+        ),
+        Column::new("occupation_difference", "1", "o_i - o_f"),
+        Column::new(
+            format!("strength_x_{v}_sq"),
+            sq.clone(),
+            "|<f|v_x|i>|^2 (o_i - o_f)",
+        ),
+        Column::new(
+            format!("strength_y_{v}_sq"),
+            sq.clone(),
+            "|<f|v_y|i>|^2 (o_i - o_f)",
+        ),
+        Column::new(
+            format!("strength_sigma_plus_{v}_sq"),
+            sq.clone(),
+            "|<f|e+.v|i>|^2 (o_i - o_f), e+ = (x + i y)/sqrt2",
+        ),
+        Column::new(
+            format!("strength_sigma_minus_{v}_sq"),
+            sq,
+            "|<f|e-.v|i>|^2 (o_i - o_f), e- = (x - i y)/sqrt2",
+        ),
+        Column::new(
+            "relative_strength",
+            "1",
+            "strength relative to the strongest at this field",
+        ),
+        Column::new(
+            "oscillator_strength_x",
+            "1",
+            "dimensionless oscillator strength, x polarisation",
+        ),
+        Column::new(
+            "polarisation",
+            "",
+            "the circular polarisation that carries it (or both)",
+        ),
+    ]
+}
+
+/// `transitions.csv`: one row per field and transition; conventions go to its sidecar.
+fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<CsvFile> {
+    let eu = lm.model.units().energy_unit();
+    let meta = csv_meta(
         lm,
         "optics",
-        &[
+        vec![
             CONVENTION.to_string(),
-            format!(
-                "kz {}, cutoff {}, T {} K; energies relative to {} {eu}",
-                j.kz, j.cutoff, j.temperature_k, j.reference_energy
-            ),
+            format!("energies relative to {} {eu}", j.reference_energy),
         ],
+        vec![format!(
+            "kz {}, cutoff {}, T {} K",
+            j.kz, j.cutoff, j.temperature_k
+        )],
     );
-    let mut rec = vec![vec![
-        format!("field_{fu}"),
-        format!("fermi_energy_{eu}"),
-        "filling_factor".into(),
-        format!("energy_{eu}"),
-        "from".into(),
-        "to".into(),
-        "transition".into(),
-        "from_orbital".into(),
-        "to_orbital".into(),
-        format!("from_energy_{eu}"),
-        format!("to_energy_{eu}"),
-        "occupation_difference".into(),
-        format!("strength_x_{v}_sq"),
-        format!("strength_y_{v}_sq"),
-        format!("strength_sigma_plus_{v}_sq"),
-        format!("strength_sigma_minus_{v}_sq"),
-        "relative_strength".into(),
-        "oscillator_strength_x".into(),
-        "polarisation".into(),
-    ]];
+    let mut rec = Vec::new();
     for p in &j.points {
         for t in &p.transitions {
             rec.push(vec![
@@ -366,5 +420,5 @@ fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
             ]);
         }
     }
-    csv_text(&header, &rec)
+    csv_file(meta, transition_columns(lm, j.velocity_unit), &rec)
 }

@@ -3,12 +3,13 @@
 //! ([`ladderfan::records::track_records`], [`ladderfan::verify::closed_form_check`]).
 
 use super::common::{
-    self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel,
+    self, bad_flag, csv_file, csv_meta, fmt_num, CliError, CliResult, CsvFile, LoadedModel,
 };
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::records::meta::Column;
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
 pub use ladderfan::records::{SweepJson, Swept};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
@@ -240,16 +241,15 @@ fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, tot
     }
 }
 
-/// The `# shard` header of a shard's CSV: tracks grouped by identity, kept where they enter
+/// The shard object of a shard's sidecar: tracks grouped by identity, kept where they enter
 /// the window `win`.
 fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
-    let e = lm.model.units().energy_unit().replace(' ', "");
     ShardHeader {
         shard: s,
         total_points: total,
         group_by: vec!["track".into()],
         keep: Some(KeepGroups {
-            column: format!("energy_{e}"),
+            column: common::column_units(lm).energy_column(),
             lo: win.0,
             hi: win.1,
         }),
@@ -397,9 +397,11 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
             ));
         };
         let mut files = common::OutputFiles::default();
-        files.add(&format!("{stem}.csv"), h.attach(&csv(lm, &o.json)?));
+        let mut file = csv(lm, &o.json)?;
+        file.meta.shard = Some(h.clone());
+        files.add_csv(&format!("{stem}.csv"), file)?;
         let written = files.write_all(dir)?;
-        let mut text = format!("{}\n", h.line().trim_start_matches("# "));
+        let mut text = format!("{}\n", h.line());
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }
@@ -408,7 +410,7 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
     let mut written = Vec::new();
     if let Some(dir) = &output.out {
         let mut files = common::OutputFiles::default();
-        files.add(&format!("{stem}.csv"), csv(lm, &o.json)?);
+        files.add_csv(&format!("{stem}.csv"), csv(lm, &o.json)?)?;
         files.add(
             &format!("{stem}.svg"),
             svg(lm, &o.json, o.closed.as_deref())?,

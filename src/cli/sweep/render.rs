@@ -2,8 +2,51 @@
 
 use super::*;
 
-/// CSV (long format: one row per point and track) with `#` header lines.
-pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
+/// The columns of a sweep's CSV (`fan.csv`, `dispersion.csv`), in order.
+pub fn sweep_columns(lm: &LoadedModel, swept: Swept) -> Vec<Column> {
+    let cu = common::column_units(lm);
+    let x = match swept {
+        Swept::Field => Column::new(cu.field_column(), cu.field_unit, "magnetic field B"),
+        Swept::Kz => Column::new(cu.kz_column(), cu.kz_unit, "wave number kz along B"),
+    };
+    vec![
+        x,
+        Column::new(
+            "track",
+            "",
+            "identity of the tracked level (sector:branch:family:copy)",
+        ),
+        Column::new(
+            "label",
+            "",
+            "Landau label as printed (+n above the gap, -n below; @f<family>, *<copy>)",
+        ),
+        Column::new(
+            "landau_index",
+            "1",
+            "Landau index n (empty when unlabelled)",
+        ),
+        Column::new(
+            "landau_branch",
+            "",
+            "+ / - nearest the gap, +2 / -2 the next, 0 unpaired",
+        ),
+        Column::new(
+            cu.energy_column(),
+            cu.energy_unit,
+            "level energy relative to the reference energy",
+        ),
+        Column::new(
+            cu.energy_valued("bound"),
+            cu.energy_unit,
+            "deciding error bound of the energy",
+        ),
+    ]
+}
+
+/// The CSV of a sweep (long format: one row per point and track); grid, window and
+/// conventions go to its sidecar.
+pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
     let u = lm.model.units();
     let (xname, xunit) = match j.swept {
         Swept::Field => ("field", u.field_unit().to_string()),
@@ -13,10 +56,21 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
         Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
         Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
     };
-    let header = csv_header(
+    let meta = csv_meta(
         lm,
         j.command,
-        &[
+        vec![
+            format!(
+                "energies in {} relative to {}",
+                u.energy_unit(),
+                j.reference_energy
+            ),
+            "label = Landau label (+n above the gap, -n below, n unpaired, ' a further level on \
+             the same side, ~ continued from the symmetric model, @f<family>, *<copy> (the JSON \
+             writes #<copy>)); tracked by quantum numbers"
+                .into(),
+        ],
+        vec![
             format!(
                 "{fixed}, cutoff {}, {} {} points ({xname} in {xunit})",
                 j.cutoff,
@@ -27,25 +81,12 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                 }
             ),
             format!(
-                "energies in {} relative to {}; window [{}, {}] (values kept up to half a window beyond); only converged values",
-                u.energy_unit(),
-                j.reference_energy,
-                j.window.0,
-                j.window.1
+                "window [{}, {}] (values kept up to half a window beyond); only converged values",
+                j.window.0, j.window.1
             ),
-            "level = Landau label (+n above the gap, -n below, n unpaired, ' a further level on the same side, ~ continued from the symmetric model, @f<family>, #<copy>); tracked by quantum numbers".into(),
         ],
     );
-    let e = u.energy_unit().replace(' ', "");
-    let mut rec = vec![vec![
-        xname.to_string(),
-        "track".into(),
-        "level".into(),
-        "n".into(),
-        "branch".into(),
-        format!("energy_{e}"),
-        format!("bound_{e}"),
-    ]];
+    let mut rec = Vec::new();
     for t in &j.tracks {
         for (i, x) in j.values.iter().enumerate() {
             if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
@@ -61,7 +102,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
             }
         }
     }
-    csv_text(&header, &rec)
+    csv_file(meta, sweep_columns(lm, j.swept), &rec)
 }
 
 /// The SVG plot of the tracks, with the closed form dashed when given.
