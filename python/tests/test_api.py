@@ -229,3 +229,15 @@ def test_sweep_shapes_and_natural_units():
     assert "kz_mc" in df.columns and "energy_mc2" in df.columns
     f = lf.fan(lf.builtin("schrodinger"), b_min=1, b_max=2, points=4, cutoff=20)
     assert "field_T" in f.to_pandas().columns and f.energy.shape[1] == 4
+
+
+def test_readme_python_example_runs():
+    # the README's "From Python" example, run as written (it must stay true)
+    text = (REPO / "README.md").read_text()
+    section = text.split("## From Python", 1)[1].split("\n## ", 1)[0]
+    code = section.split("```python\n", 1)[1].split("```", 1)[0]
+    scope = {}
+    exec(compile(code, "README.md (From Python)", "exec"), scope)
+    assert scope["v"].passed
+    assert scope["h"].shape == (100, 100)
+    assert list(scope["s"].label[scope["near"]]) == ["-3", "-2", "-1", "0", "+1", "+2", "+3"]
