@@ -91,6 +91,29 @@ def test_fan_equals_cli_bit_for_bit():
     assert compared >= 5
 
 
+def test_dos_and_optics_equal_cli_bit_for_bit():
+    dos_args = ["--builtin", "schrodinger", "--field", "2", "--cutoff", "40", "--emin", "0",
+                "--emax", "0.45", "--energy-points", "50", "--width", "0.005",
+                "--density-cm2", "1e11", "--json"]
+    cli = json.loads(_cli("dos", *dos_args).stdout)
+    d = lf.dos(lf.builtin("schrodinger"), field=2, cutoff=40, emin=0, emax=0.45, points=50,
+               width=0.005, density_cm2=1e11)
+    curve = np.array(cli["dos"])
+    assert np.array_equal(_bits(curve[:, 0]), _bits(d.energy))
+    assert np.array_equal(_bits(curve[:, 1]), _bits(d.dos))
+    assert _bits(cli["fermi"]["fermi_energy"]) == _bits(d.fermi["fermi_energy"])
+    cli = json.loads(
+        _cli("optics", "--builtin", "pauli", "--field", "2", "--cutoff", "40",
+             "--density-cm2", "1e11", "--json").stdout
+    )
+    o = lf.optics(lf.builtin("pauli"), 2.0, cutoff=40, density_cm2=1e11)
+    tr = cli["points"][0]["transitions"]
+    assert len(tr) == len(o) >= 1
+    assert np.array_equal(_bits([t["energy"] for t in tr]), _bits(o.energy))
+    assert np.array_equal(_bits([t["strength_plus"] for t in tr]), _bits(o.strength_plus))
+    assert [t["from"] for t in tr] == list(o.from_label)
+
+
 # --- closed forms checked from Python -------------------------------------------------------
 
 
@@ -241,3 +264,16 @@ def test_readme_python_example_runs():
     assert scope["v"].passed
     assert scope["h"].shape == (100, 100)
     assert list(scope["s"].label[scope["near"]]) == ["-3", "-2", "-1", "0", "+1", "+2", "+3"]
+
+
+def test_solves_from_threads_give_the_same_bits():
+    # the GIL is released during a solve: threads may call in parallel, results unchanged
+    from concurrent.futures import ThreadPoolExecutor
+
+    m = lf.builtin("dirac2d", mass_mev=3.0)  # invented mass term
+    fields = [1.0, 2.0, 3.0, 4.0]
+    serial = [lf.spectrum(m, field=b, cutoff=80).energy for b in fields]
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        threaded = list(pool.map(lambda b: lf.spectrum(m, field=b, cutoff=80).energy, fields))
+    for a, b in zip(serial, threaded):
+        assert np.array_equal(_bits(a), _bits(b))
