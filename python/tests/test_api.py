@@ -74,6 +74,19 @@ def test_spectrum_equals_cli_bit_for_bit_model_file():
     assert np.array_equal(_bits(cli_e), _bits(np.sort(s.energy)))
 
 
+def test_toml_string_and_overrides():
+    text = (DATA / "dirac_film.toml").read_text()
+    a = lf.spectrum(lf.load_toml(text, name="film"), cutoff=60)
+    b = lf.spectrum(lf.load(DATA / "dirac_film.toml"), cutoff=60)
+    assert np.array_equal(_bits(a.energy), _bits(b.energy))
+    # an override of a [parameters] entry, as `--set delta=9` (invented value)
+    c = lf.spectrum(lf.load_toml(text, name="film", delta=9.0), cutoff=60)
+    assert np.min(np.abs(c.energy + c.reference_energy - 9.0)) < 1e-9 * 9.0 or \
+        np.min(np.abs(c.energy + c.reference_energy + 9.0)) < 1e-9 * 9.0
+    with pytest.raises(lf.LadderfanError, match=r"^film:\d+:\d+: "):
+        lf.load_toml(text.replace("velocity = 5.0e5", "velocity = [1, 2]"), name="film")
+
+
 def test_fan_equals_cli_bit_for_bit():
     m = lf.builtin("dirac2d")
     fan = lf.fan(m, [1.0, 2.0, 3.0], cutoff=60)
@@ -112,6 +125,18 @@ def test_dos_and_optics_equal_cli_bit_for_bit():
     assert np.array_equal(_bits([t["energy"] for t in tr]), _bits(o.energy))
     assert np.array_equal(_bits([t["strength_plus"] for t in tr]), _bits(o.strength_plus))
     assert [t["from"] for t in tr] == list(o.from_label)
+
+
+def test_converge_equals_cli_bit_for_bit():
+    cli = json.loads(
+        _cli("converge", "--builtin", "dirac2d", "--field", "2", "--cutoffs", "20,40,80",
+             "--count", "4", "--json").stdout
+    )["study"]
+    c = lf.converge(lf.builtin("dirac2d"), [20, 40, 80], field=2, count=4)
+    e = np.array([[np.nan if x["energy"] is None else x["energy"] for x in lv["entries"]]
+                  for lv in cli["levels"]])
+    assert e.shape == c.energy.shape == (4, 3)
+    assert np.array_equal(_bits(e), _bits(c.energy))
 
 
 # --- closed forms checked from Python -------------------------------------------------------
