@@ -9,12 +9,13 @@ use ladderfan::observables::dos::{
     WidthScaling,
 };
 use ladderfan::observables::filling::{fermi_level, FermiSettings, Neutrality};
-use ladderfan::observables::optics::{transition_sweep, OpticsSettings};
+use ladderfan::observables::optics::{transition_sweep, OpticsSettings, TransitionPoint};
 use ladderfan::problem::Problem;
 use ladderfan::records::{
     transition_record, DosRecord, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord,
     UnitsRecord, VerifyJson,
 };
+use ladderfan::units::Units;
 use ladderfan::verify::{self, EnergyScale, ExpectedList, LevelFormula, VerifySettings};
 use ladderfan::{Error, FieldPoint, Reference, Spectrum};
 use pyo3::prelude::*;
@@ -357,19 +358,13 @@ fn optics_json(
     let fan = py
         .detach(|| transition_sweep(&model.model, &pts, &r.settings, &fs, &opts))
         .map_err(py_err)?;
-    let max = fan
-        .iter()
-        .flat_map(|p| p.transitions.iter())
-        .map(|t| t.strength_x + t.strength_y)
-        .fold(0.0, f64::max)
-        .max(f64::MIN_POSITIVE);
     json(&OpticsRecord {
         command: "optics",
         model: ModelRecord::new(&model.model, &model.origin),
         units: UnitsRecord::new(&model.model),
         velocity_unit: match u {
-            ladderfan::units::Units::Lab => "m/s",
-            ladderfan::units::Units::Natural => "c",
+            Units::Lab => "m/s",
+            Units::Natural => "c",
         },
         kz: r.point.kz,
         cutoff: r.settings.cutoff,
@@ -377,17 +372,28 @@ fn optics_json(
         temperature_k: fs.temperature_k,
         max_energy,
         convention: CONVENTION,
-        points: fan
-            .iter()
-            .map(|p| OpticsPointRecord {
-                field: p.field,
-                fermi: FermiRecord::new(u, &p.fermi),
-                transitions: p
-                    .transitions
-                    .iter()
-                    .map(|t| transition_record(t, max))
-                    .collect(),
-            })
-            .collect(),
+        points: point_records(&fan, u),
     })
+}
+
+/// The records of a transition fan, strengths relative to the strongest transition of the
+/// whole fan (as `ladderfan optics`).
+fn point_records(fan: &[TransitionPoint], u: Units) -> Vec<OpticsPointRecord> {
+    let max = fan
+        .iter()
+        .flat_map(|p| p.transitions.iter())
+        .map(|t| t.strength_x + t.strength_y)
+        .fold(0.0, f64::max)
+        .max(f64::MIN_POSITIVE);
+    fan.iter()
+        .map(|p| OpticsPointRecord {
+            field: p.field,
+            fermi: FermiRecord::new(u, &p.fermi),
+            transitions: p
+                .transitions
+                .iter()
+                .map(|t| transition_record(t, max))
+                .collect(),
+        })
+        .collect()
 }
