@@ -307,6 +307,32 @@ mod tests {
     }
 
     #[test]
+    fn a_csv_is_written_with_its_sidecar() {
+        let d = scratch("sidecar");
+        let mut meta = ladderfan::records::meta::CsvMeta::new("test", vec!["ladderfan".into()]);
+        meta.columns.push(ladderfan::records::meta::Column::new(
+            "energy_meV",
+            "meV",
+            "invented",
+        ));
+        let mut f = OutputFiles::default();
+        let file = super::super::render::CsvFile {
+            meta,
+            text: "energy_meV\n1e0\n".into(),
+        };
+        f.add_csv("a.csv", file)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        f.write_all(&d)
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d), vec!["a.csv", "a.meta.json"]);
+        let side = std::fs::read_to_string(d.join("a.meta.json")).unwrap_or_default();
+        let back = ladderfan::records::meta::CsvMeta::from_json(&side, "a.meta.json")
+            .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(back.column_names(), vec!["energy_meV"]);
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
     fn a_failed_rename_puts_back_every_earlier_file() {
         // regression: a failed write deleted the user's earlier file of the same name. Two
         // files are staged over existing ones; the second rename fails: both keep their old

@@ -73,8 +73,9 @@ pub struct VerifyArgs {
         allow_hyphen_values = true
     )]
     pub s_values: Option<String>,
-    /// CSV of expected levels instead of a formula: header row with `energy` and optionally
-    /// `n`, `s`, `multiplicity`, `label`.
+    /// CSV of expected levels instead of a formula: header row with `energy_<unit>` (e.g.
+    /// `energy_meV`; `energy` also read) and optionally `landau_index` (or `n`), `s`,
+    /// `multiplicity`, `label`.
     #[arg(long, value_name = "FILE.csv")]
     pub expected: Option<PathBuf>,
     /// The expected energies are relative to the model's reference energy (m c^2 for the

@@ -14,7 +14,7 @@ pub const STUDY_COLUMNS: [(&str, bool, &str); 16] = [
     ("sector_class", false, "component class of the sector"),
     ("sector_label", false, "J (or J mod m) of the sector"),
     ("orbital", false, "dominant orbital"),
-    ("component", false, "dominant component index"),
+    ("component_index", false, "dominant component index"),
     (
         "branch",
         false,

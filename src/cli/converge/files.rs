@@ -72,7 +72,7 @@ pub(super) fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<
     let columns = vec![
         Column::new("sector", "", "sector `class:J` of the conserved J = n + s"),
         Column::new("orbital", "1", "dominant orbital"),
-        Column::new("component", "1", "dominant component index"),
+        Column::new("component_index", "1", "dominant component index"),
         Column::new(
             cu.energy_column(),
             e,
