@@ -11,7 +11,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 pub use super::output::{emit, emit_json, interactive, write_atomic, OutputFiles};
-pub use super::parse::{parse_count, parse_int_list};
+pub use super::parse::{parse_count, parse_field, parse_int_list};
 pub use super::render::{
     branch_text, character_text, csv_header, csv_text, fmt_num, inverse_length, landau_branch_text,
     nearest_levels, table, Shown,
@@ -106,9 +106,10 @@ pub struct ModelArgs {
 /// Field, kz and truncation flags.
 #[derive(Debug, Clone, Args)]
 pub struct SolveArgs {
-    /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// Magnetic field along z, signed: a plain number is in the model's field unit (T, or B_c
+    /// in natural units); a suffix picks the unit (`1T`, `2.2e-10Bc`).
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<ladderfan::units::FieldValue>,
     /// Wave number along the field, in 1/length of the model's units.
     #[arg(long, allow_negative_numbers = true)]
     pub kz: Option<f64>,
@@ -136,6 +137,31 @@ pub struct OutputArgs {
     /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    /// Energy unit of every printed or written energy: meV, eV, K, cm-1, THz, or mc2 (natural-unit
+    /// models only; their m c^2 is the electron's, so they may also be shown in lab units).
+    /// Energies given in flags (windows, Fermi energy) stay in the model's unit.
+    #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_energy_unit)]
+    pub energy_unit: Option<ladderfan::units::EnergyUnit>,
+    /// Field unit of every printed or written field: T, or Bc (B_c = 4.414e9 T, the
+    /// electron's critical field). Default: the model's own.
+    #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_field_unit)]
+    pub field_unit: Option<ladderfan::units::FieldUnit>,
+}
+
+impl OutputArgs {
+    /// The output units of these flags for `lm` ([`ladderfan::units::OutputUnits`]).
+    pub fn units(&self, lm: &LoadedModel) -> CliResult<ladderfan::units::OutputUnits> {
+        Ok(ladderfan::units::OutputUnits::new(
+            lm.model.units(),
+            self.energy_unit,
+            self.field_unit,
+        )?)
+    }
+}
+
+/// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
+pub fn field_in(lm: &LoadedModel, v: Option<ladderfan::units::FieldValue>) -> Option<f64> {
+    v.map(|f| f.in_units(lm.model.units()))
 }
 
 /// A model ready to solve, with where it came from and the file's solve defaults.
@@ -395,7 +421,9 @@ pub fn resolve_unchecked(
 ) -> CliResult<Resolved> {
     let field = finite_flag(
         "--field",
-        a.field.or(lm.defaults.field).unwrap_or(default_field),
+        field_in(lm, a.field)
+            .or(lm.defaults.field)
+            .unwrap_or(default_field),
     )?;
     if field == 0.0 {
         return Err(bad_flag(

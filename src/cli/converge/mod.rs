@@ -55,8 +55,9 @@ pub struct ConvergeArgs {
     #[command(flatten)]
     pub model: ModelArgs,
     /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// A suffix picks the unit: `1T`, `2.2e-10Bc`.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<ladderfan::units::FieldValue>,
     /// Wave number along the field, in 1/length of the model's units.
     #[arg(long, allow_negative_numbers = true)]
     pub kz: Option<f64>,

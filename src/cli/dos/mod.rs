@@ -174,11 +174,12 @@ pub struct DosArgs {
     pub energy_points: usize,
     /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2 (or, with
     /// --kz-integrate, at fixed --density-cm3).
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_max: Option<f64>,
+    /// A suffix picks the unit (`10T`, `2e-9Bc`); a plain number is in the model's unit.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<ladderfan::units::FieldValue>,
     /// Lowest field of the Fermi-level sweep (default: a tenth of --b-max).
-    #[arg(long, allow_negative_numbers = true, requires = "b_max")]
-    pub b_min: Option<f64>,
+    #[arg(long, allow_negative_numbers = true, requires = "b_max", value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<ladderfan::units::FieldValue>,
     /// Points of the Fermi-level sweep.
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 200)]
     pub points: usize,
@@ -372,9 +373,12 @@ fn field_sweep(
 ) -> CliResult<(Vec<FermiPoint>, Option<Vec<f64>>)> {
     let mut sweep_points = Vec::new();
     let mut sweep_fields = None;
-    if let Some(b_max) = a.b_max {
+    if let Some(b_max) = common::field_in(lm, a.b_max) {
         let b_max = common::finite_flag("--b-max", b_max)?;
-        let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
+        let b_min = common::finite_flag(
+            "--b-min",
+            common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
+        )?;
         let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
         if values.contains(&0.0) || b_min.signum() != b_max.signum() {
             return Err(bad_flag(

@@ -40,11 +40,12 @@ pub struct OpticsArgs {
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 30)]
     pub count: usize,
     /// Sweep the field up to this value: the transition-energy fan.
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_max: Option<f64>,
+    /// A suffix picks the unit (`10T`, `2e-9Bc`); a plain number is in the model's unit.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<ladderfan::units::FieldValue>,
     /// Lowest field of the sweep (default: a tenth of --b-max).
-    #[arg(long, allow_negative_numbers = true, requires = "b_max")]
-    pub b_min: Option<f64>,
+    #[arg(long, allow_negative_numbers = true, requires = "b_max", value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<ladderfan::units::FieldValue>,
     /// Points of the sweep.
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 40)]
     pub points: usize,
@@ -63,11 +64,14 @@ fn fields(
     lm: &LoadedModel,
     r: &common::Resolved,
 ) -> CliResult<(Vec<f64>, usize, u64)> {
-    let fields = match a.b_max {
+    let fields = match common::field_in(lm, a.b_max) {
         None => (vec![r.field], r.cutoff, r.memory_limit_mib),
         Some(b_max) => {
             let b_max = common::finite_flag("--b-max", b_max)?;
-            let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
+            let b_min = common::finite_flag(
+                "--b-min",
+                common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
+            )?;
             let v = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
             if v.contains(&0.0) || b_min.signum() != b_max.signum() {
                 return Err(bad_flag(
