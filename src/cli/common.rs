@@ -11,7 +11,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 pub use super::output::{emit, emit_json, interactive, write_atomic, OutputFiles};
-pub use super::parse::{parse_count, parse_field, parse_int_list};
+pub use super::parse::{parse_count, parse_int_list};
 pub use super::render::{
     branch_text, character_text, csv_header, csv_text, fmt_num, inverse_length, landau_branch_text,
     nearest_levels, table, Shown,
@@ -159,6 +159,26 @@ impl OutputArgs {
     }
 }
 
+/// Refuse output units other than the model's for a command that does not convert its
+/// output yet (`what` names it), so that no number is printed under a wrong unit.
+pub fn native_units_only(output: &OutputArgs, what: &str) -> CliResult {
+    for (flag, given) in [
+        ("--energy-unit", output.energy_unit.is_some()),
+        ("--field-unit", output.field_unit.is_some()),
+    ] {
+        if given {
+            return Err(bad_flag(
+                flag,
+                format!(
+                    "`{what}` prints its results in the model's own units only; drop {flag} \
+                     (levels, fan and dispersion take it)"
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
 /// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
 pub fn field_in(lm: &LoadedModel, v: Option<ladderfan::units::FieldValue>) -> Option<f64> {
     v.map(|f| f.in_units(lm.model.units()))
@@ -175,6 +195,20 @@ pub struct LoadedModel {
     pub origin: String,
     /// The model file's path, when there is one (errors about its `[defaults]` point into it).
     pub file: Option<String>,
+    /// The units of the output edge (`--energy-unit`, `--field-unit`; the model's own until
+    /// a command sets them with [`LoadedModel::show_in`]).
+    pub shown: ladderfan::units::OutputUnits,
+}
+
+impl LoadedModel {
+    /// Set the output units from the command's output flags.
+    ///
+    /// # Errors
+    /// An m c^2 energy unit for a lab model (exit 2).
+    pub fn show_in(&mut self, output: &OutputArgs) -> CliResult {
+        self.shown = output.units(self)?;
+        Ok(())
+    }
 }
 
 fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
@@ -255,6 +289,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 origin.push_str(&format!(" with {}", args.set.join(", ")));
             }
             Ok(LoadedModel {
+                shown: ladderfan::units::OutputUnits::native(f.model.units()),
                 model: f.model,
                 defaults: f.defaults,
                 origin,
@@ -288,6 +323,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 origin.push_str(&format!(" with {}", args.set.join(", ")));
             }
             Ok(LoadedModel {
+                shown: ladderfan::units::OutputUnits::native(model.units()),
                 model,
                 defaults: FileDefaults::default(),
                 origin,

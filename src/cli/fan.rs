@@ -84,8 +84,9 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
 /// Run `ladderfan fan`.
 pub fn run(a: &FanArgs) -> CliResult {
     sweep::check_shard_output(&a.sweep, &a.output)?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let p = plan(&lm, a)?;
     let o = sweep::execute(&lm, &p, &a.sweep)?;
-    sweep::finish(&lm, &o, &a.output, "fan")
+    sweep::finish(&lm, o, &a.output, "fan")
 }

@@ -23,7 +23,14 @@ pub fn csv_header(lm: &LoadedModel, what: &str, extra: &[String]) -> String {
             .collect();
         s.push_str(&format!("# parameters: {}\n", p.join(", ")));
     }
-    s.push_str(&format!("# units: {}\n", lm.model.units().header()));
+    let u = lm.model.units();
+    s.push_str(&format!(
+        "# units: energy {}, length {}, field {}, kz {}\n",
+        lm.shown.energy.label(),
+        u.length_unit(),
+        lm.shown.field.label(),
+        u.wavenumber_unit()
+    ));
     for e in extra {
         s.push_str(&format!("# {e}\n"));
     }

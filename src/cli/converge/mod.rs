@@ -234,6 +234,7 @@ fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<String> {
 
 /// Run `ladderfan converge`.
 pub fn run(a: &ConvergeArgs) -> CliResult {
+    common::native_units_only(&a.output, "converge")?;
     let lm = load_model(&a.model)?;
     let sel = selection(a)?;
     if !(a.tolerance.is_finite() && a.tolerance > 0.0) {

@@ -230,6 +230,7 @@ pub fn run(a: &DosArgs) -> CliResult {
             ),
         ));
     }
+    common::native_units_only(&a.output, "dos")?;
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
     let (r, problem) = common::resolve_problem(

@@ -166,6 +166,7 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
 
 /// Run `ladderfan optics`.
 pub fn run(a: &OpticsArgs) -> CliResult {
+    common::native_units_only(&a.output, "optics")?;
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;

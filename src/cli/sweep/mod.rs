@@ -48,6 +48,11 @@ pub struct SweepArgs {
     /// exactly the single-run table.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
+    /// Also report each level's character at every point: component weights
+    /// (`weight_<component>` columns, `weights` in JSON) and the mean orbital index <n>
+    /// (`mean_n`).
+    #[arg(long)]
+    pub character: bool,
 }
 
 /// Solve at every point, in parallel over points; the result order is the point order, and
@@ -237,13 +242,23 @@ fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, tot
         b[block.clone()].copy_from_slice(&t.bounds);
         t.energies = e;
         t.bounds = b;
+        if let Some(w) = &mut t.weights {
+            let mut all = vec![None; total];
+            all[block.clone()].clone_from_slice(w);
+            *w = all;
+        }
+        if let Some(m) = &mut t.mean_n {
+            let mut all = vec![None; total];
+            all[block.clone()].copy_from_slice(m);
+            *m = all;
+        }
     }
 }
 
 /// The `# shard` header of a shard's CSV: tracks grouped by identity, kept where they enter
 /// the window `win`.
 fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
-    let e = lm.model.units().energy_unit().replace(' ', "");
+    let e = ladderfan::units::EnergyUnit::native(lm.model.units()).suffix();
     ShardHeader {
         shard: s,
         total_points: total,
@@ -262,6 +277,9 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
+    if a.character {
+        settings.character = ladderfan::Character::Compute;
+    }
     let shard = parse_shard(a)?;
 
     let total = plan.points.len();
@@ -387,8 +405,31 @@ pub fn check_shard_output(a: &SweepArgs, output: &common::OutputArgs) -> CliResu
     Ok(())
 }
 
-/// Write the files (if `--out`) and print the result.
-pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+/// The outcome with its energies and fields in the output units `lm.shown` (the record, the
+/// closed-form curves and a shard's window of kept tracks).
+fn in_output_units(lm: &LoadedModel, mut o: Outcome) -> Outcome {
+    let u = lm.shown;
+    let (e, f) = (u.energy_factor(), u.field_factor());
+    let xf = if o.json.swept == Swept::Field { f } else { 1.0 };
+    if let Some(curves) = &mut o.closed {
+        for c in curves {
+            for p in c {
+                *p = (p.0 * xf, p.1 * e);
+            }
+        }
+    }
+    if let Some(k) = o.shard.as_mut().and_then(|h| h.keep.as_mut()) {
+        k.column = u.energy_column("energy");
+        k.lo *= e;
+        k.hi *= e;
+    }
+    o.json = o.json.in_units(u);
+    o
+}
+
+/// Write the files (if `--out`) and print the result, in the output units `lm.shown`.
+pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+    let o = in_output_units(lm, o);
     if let Some(h) = &o.shard {
         let Some(dir) = &output.out else {
             return Err(bad_flag(

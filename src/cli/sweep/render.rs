@@ -5,13 +5,14 @@ use super::*;
 /// CSV (long format: one row per point and track) with `#` header lines.
 pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
     let u = lm.model.units();
+    let o = j.units.output;
     let (xname, xunit) = match j.swept {
-        Swept::Field => ("field", u.field_unit().to_string()),
+        Swept::Field => ("field", j.units.field.clone()),
         Swept::Kz => ("kz", common::inverse_length(u)),
     };
     let fixed = match j.swept {
         Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
-        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
+        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), j.units.field),
     };
     let header = csv_header(
         lm,
@@ -28,7 +29,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
             ),
             format!(
                 "energies in {} relative to {}; window [{}, {}] (values kept up to half a window beyond); only converged values",
-                u.energy_unit(),
+                j.units.energy,
                 j.reference_energy,
                 j.window.0,
                 j.window.1
@@ -36,20 +37,24 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
             "level = Landau label (+n above the gap, -n below, n unpaired, ' a further level on the same side, ~ continued from the symmetric model, @f<family>, #<copy>); tracked by quantum numbers".into(),
         ],
     );
-    let e = u.energy_unit().replace(' ', "");
+    let character = j.tracks.iter().any(|t| t.weights.is_some());
     let mut rec = vec![vec![
         xname.to_string(),
         "track".into(),
         "level".into(),
         "n".into(),
         "branch".into(),
-        format!("energy_{e}"),
-        format!("bound_{e}"),
+        o.energy_column("energy"),
+        o.energy_column("bound"),
     ]];
+    if character {
+        rec[0].extend(crate::cli::levels::weight_columns(lm));
+        rec[0].push("mean_n".into());
+    }
     for t in &j.tracks {
         for (i, x) in j.values.iter().enumerate() {
             if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
-                rec.push(vec![
+                let mut row = vec![
                     format!("{x:e}"),
                     t.track.clone(),
                     t.label.clone(),
@@ -57,11 +62,31 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<String> {
                     common::landau_branch_text(t.branch),
                     format!("{en:e}"),
                     format!("{b:e}"),
-                ]);
+                ];
+                if character {
+                    row.extend(character_cells(t, i, lm.model.dim()));
+                }
+                rec.push(row);
             }
         }
     }
     csv_text(&header, &rec)
+}
+
+/// The weight cells (`dim` of them) and the <n> cell of track `t` at point `i` (empty where
+/// the track carries no character there).
+fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
+    let mut cells = match t.weights.as_ref().and_then(|w| w[i].as_ref()) {
+        Some(w) => w.iter().map(|x| format!("{x:e}")).collect(),
+        None => vec![String::new(); dim],
+    };
+    cells.push(
+        t.mean_n
+            .as_ref()
+            .and_then(|m| m[i])
+            .map_or_else(String::new, |m| format!("{m:e}")),
+    );
+    cells
 }
 
 /// The SVG plot of the tracks, with the closed form dashed when given.
@@ -72,7 +97,7 @@ pub fn svg(
 ) -> CliResult<String> {
     let u = lm.model.units();
     let x_label = match j.swept {
-        Swept::Field => format!("B [{}]", u.field_unit()),
+        Swept::Field => format!("B [{}]", j.units.field),
         Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
     let mut curves: Vec<Curve> = j
@@ -124,14 +149,14 @@ pub fn svg(
         Swept::Kz => format!(
             "Dispersion at {} {}: {}",
             j.field.unwrap_or(0.0),
-            u.field_unit(),
+            j.units.field,
             lm.model.name()
         ),
     };
     Ok(ladderfan::plot::line_plot(&LinePlot {
         title,
         x_label,
-        y_label: format!("E{reference} [{}]", u.energy_unit()),
+        y_label: format!("E{reference} [{}]", j.units.energy),
         curves,
         y_range: Some(j.window),
         notes,
@@ -231,7 +256,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.values.first().copied().unwrap_or(0.0),
         j.values.last().copied().unwrap_or(0.0),
         match j.swept {
-            Swept::Field => u.field_unit().to_string(),
+            Swept::Field => j.units.field.clone(),
             Swept::Kz => common::inverse_length(u),
         }
     );
@@ -241,11 +266,11 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.tracks.len(),
         fmt_num(j.window.0, 6),
         fmt_num(j.window.1, 6),
-        u.energy_unit()
+        j.units.energy
     ));
-    s.push_str(&closed_form_lines(j, u.energy_unit()));
+    s.push_str(&closed_form_lines(j, &j.units.energy));
     let x_ref = j.values[j.reference_point];
-    let (rows, listed) = track_rows(j, u.energy_unit(), x_ref);
+    let (rows, listed) = track_rows(j, &j.units.energy, x_ref);
     s.push('\n');
     s.push_str(&common::table(&rows));
     let hidden = j.tracks.len() - listed;
