@@ -242,3 +242,71 @@ fn bad_units_are_one_clear_error() {
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
 }
+
+/// Bytes a drawn progress bar leaves: carriage returns, escape sequences, the bar's `eta`.
+fn has_progress_bytes(stderr: &str) -> bool {
+    stderr.contains('\r') || stderr.contains('\u{1b}') || stderr.contains("eta ")
+}
+
+#[test]
+fn progress_never_reaches_a_pipe() {
+    // stderr is a pipe here, as in scripts and CI: the long commands (a kz-integrated Fermi
+    // sweep of several seconds, past the bar's 0.8 s delay; an optics fan; a convergence
+    // study; a fan) write no progress, with or without --json.
+    let runs: [&[&str]; 4] = [
+        &[
+            "dos",
+            "--builtin",
+            "weyl",
+            "--field",
+            "10",
+            "--cutoff",
+            "100",
+            "--kz-integrate",
+            "--width",
+            "1",
+            "--density-cm3",
+            "1e17",
+            "--b-min",
+            "4",
+            "--b-max",
+            "10",
+            "--points",
+            "4",
+            "--json",
+        ],
+        &[
+            "optics",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "8T",
+            "--points",
+            "20",
+            "--cutoff",
+            "120",
+        ],
+        &[
+            "converge",
+            "--builtin",
+            "dirac2d",
+            "--cutoffs",
+            "50,100,200",
+        ],
+        &[
+            "fan",
+            "--builtin",
+            "dirac2d",
+            "--points",
+            "80",
+            "--cutoff",
+            "150",
+        ],
+    ];
+    for args in runs {
+        let r = run(args);
+        assert_eq!(r.code, 0, "{args:?}: {}", r.stderr);
+        assert!(!has_progress_bytes(&r.stderr), "{args:?}: {:?}", r.stderr);
+        assert!(!has_progress_bytes(&r.stdout), "{args:?}");
+    }
+}

@@ -10,7 +10,7 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-pub use super::output::{emit, emit_json, interactive, write_atomic, OutputFiles};
+pub use super::output::{emit, emit_json, write_atomic, OutputFiles};
 pub use super::parse::{parse_count, parse_int_list};
 pub use super::render::{
     branch_text, character_text, csv_header, csv_text, fmt_num, inverse_length, landau_branch_text,

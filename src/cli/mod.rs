@@ -25,6 +25,7 @@ pub mod models;
 pub mod optics;
 pub mod output;
 pub mod parse;
+pub mod progress;
 pub mod render;
 pub mod sweep;
 pub mod verify;

@@ -21,7 +21,8 @@ use clap::{Args, ValueEnum};
 use ladderfan::records::{AutoJson, AutoLevelJson, StudyJson};
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
-    auto, study, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection, Study,
+    auto, study_with, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection,
+    Study,
 };
 use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
 use ladderfan::trust::window::EnergyWindow;
@@ -284,14 +285,18 @@ fn run_study(
     requested: usize,
 ) -> CliResult {
     let cutoffs = study_cutoffs(a, requested)?;
-    let st = study(
+    let bar = super::progress::Progress::new("converge", cutoffs.len(), "cutoffs");
+    let st = study_with(
         &lm.model,
         r.point(),
         base,
         &cutoffs,
         sel,
         ExactValues::ClosedFormIfKnown,
-    )?;
+        &|| bar.tick(),
+    );
+    bar.finish();
+    let st = st?;
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();

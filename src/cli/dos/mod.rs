@@ -5,15 +5,17 @@ use super::common::{
     self, bad_flag, csv_header, csv_text, emit, emit_json, fmt_num, load_model, CliResult,
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
+use super::progress::Progress;
 use clap::{Args, ValueEnum};
 use ladderfan::observables::dos::{
     from_per_cm2, per_cm2, Broadening, LevelDensity, LineShape, WidthScaling,
 };
 use ladderfan::observables::filling::{
-    carrier_density, fermi_level, fermi_sweep, FermiPoint, FermiSettings, Neutrality, Occupation,
+    carrier_density, fermi_level, fermi_sweep_with, FermiPoint, FermiSettings, Neutrality,
+    Occupation,
 };
 use ladderfan::observables::volume::{
-    fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
+    fermi_sweep_with as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
 };
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 use ladderfan::records::{
@@ -420,7 +422,11 @@ fn field_sweep(
             )?;
             let mut s = Settings::with_cutoff(cutoff);
             s.memory_limit_mib = mem;
-            sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
+            let fermi = a.fermi.settings(n, broadening)?;
+            let bar = Progress::new("dos --b-max", pts.len(), "fields");
+            let swept = fermi_sweep_with(&lm.model, &pts, &s, &fermi, &|| bar.tick());
+            bar.finish();
+            sweep_points = swept?;
         }
         sweep_fields = Some(values);
     }
@@ -473,7 +479,12 @@ fn volume_json(
     };
     let mut fermi_sweep = Vec::new();
     if let (Some(n), Some(fields)) = (a.density_cm3, sweep_fields) {
-        let pts = volume_fermi_sweep(&lm.model, fields, &s, &vs, from_per_cm3(u, n))?;
+        let bar = Progress::new("dos --kz-integrate --b-max", fields.len(), "fields");
+        let swept = volume_fermi_sweep(&lm.model, fields, &s, &vs, from_per_cm3(u, n), &|| {
+            bar.tick()
+        });
+        bar.finish();
+        let pts = swept?;
         fermi_sweep = pts
             .iter()
             .map(|p| VolumeFermiSweepRecord {

@@ -6,9 +6,10 @@ use super::common::{
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use super::dos::FermiArgs;
+use super::progress::Progress;
 use clap::Args;
 use ladderfan::observables::optics::{
-    transition_sweep, OpticsSettings, Polarisation, TransitionPoint,
+    transition_sweep_with, OpticsSettings, Polarisation, TransitionPoint,
 };
 use ladderfan::records::{
     transition_record, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord,
@@ -209,7 +210,10 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         max_energy: Some(max_energy),
         min_relative_strength: a.min_strength,
     };
-    let fan = transition_sweep(&lm.model, &pts, &settings, &fs, &opts)?;
+    let bar = Progress::new("optics", pts.len(), "fields");
+    let fan = transition_sweep_with(&lm.model, &pts, &settings, &fs, &opts, &|| bar.tick());
+    bar.finish();
+    let fan = fan?;
     let json = OpticsRecord {
         command: "optics",
         model: ModelRecord::new(&lm.model, &lm.origin),

@@ -6,7 +6,6 @@ use super::common::{
     self, bad_flag, csv_header, csv_text, fmt_num, CliError, CliResult, LoadedModel,
 };
 use clap::Args;
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
@@ -18,8 +17,6 @@ use ladderfan::{FieldPoint, Settings, Spectrum};
 mod render;
 pub use render::{csv, summary, svg};
 use std::collections::BTreeMap;
-use std::sync::atomic::{AtomicBool, Ordering};
-use std::time::{Duration, Instant};
 
 /// Flags shared by every sweep.
 #[derive(Debug, Clone, Args)]
@@ -64,28 +61,8 @@ pub fn solve_points(
     what: &str,
     threads: Option<usize>,
 ) -> CliResult<Vec<Spectrum>> {
-    let start = Instant::now();
-    let bar = ProgressBar::hidden();
-    bar.set_length(points.len() as u64);
-    bar.set_style(
-        ProgressStyle::with_template("{msg} [{bar:40}] {pos}/{len} points, eta {eta}")
-            .map_err(|e| CliError::Input(ladderfan::Error::Unsupported(e.to_string())))?
-            .progress_chars("=> "),
-    );
-    bar.set_message(what.to_string());
-    let interactive = common::interactive();
-    let shown = AtomicBool::new(false);
-    let tick = || {
-        bar.inc(1);
-        if interactive
-            && start.elapsed() > Duration::from_millis(800)
-            && shown
-                .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
-                .is_ok()
-        {
-            bar.set_draw_target(ProgressDrawTarget::stderr());
-        }
-    };
+    let bar = crate::cli::progress::Progress::new(what, points.len(), "points");
+    let tick = || bar.tick();
     let work = || ladderfan::sweep::run_with(&lm.model, points, settings, &tick);
     let results = match threads {
         None => work(),
@@ -106,7 +83,7 @@ pub fn solve_points(
             .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
             .install(work),
     };
-    bar.finish_and_clear();
+    bar.finish();
     let spectra = results?
         .into_iter()
         .map(super::common::finite_spectrum)
@@ -115,7 +92,7 @@ pub fn solve_points(
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
         points.len(),
-        start.elapsed().as_secs_f64()
+        bar.elapsed().as_secs_f64()
     );
     Ok(spectra)
 }
