@@ -365,6 +365,12 @@ impl FieldValue {
         // an exponent such as 1e5 is part of the number: suffixes start with T or B
         let (num, suffix) = t.split_at(cut);
         let num = num.trim();
+        if suffix.is_empty() || num.is_empty() {
+            return Err(format!(
+                "'{t}' is not a field; write a number in the model's field unit, or with T \
+                 (tesla) or Bc (B_c = 4.414e9 T), e.g. 5, 1T or 2.2e-10Bc"
+            ));
+        }
         let Some(unit) = FieldUnit::parse(suffix) else {
             return Err(format!(
                 "'{t}' has the unknown field unit '{suffix}'; write a number in the model's field \
@@ -547,7 +553,7 @@ mod tests {
         assert!(rel(n, -2e-10 * bc) < 1e-6);
         assert_eq!(p("0.5B_c").map(|f| f.in_units(Units::Natural)), Ok(0.5));
         assert_eq!(p("10 T").map(|f| f.in_units(Units::Lab)), Ok(10.0));
-        for bad in ["1G", "T", "1 tesla", "abc", ""] {
+        for bad in ["1G", "T", "1 tesla", "abc", "", "1,2", "--"] {
             let e = p(bad).err().unwrap_or_default();
             assert!(e.contains("1T") || e.contains("field unit"), "{bad}: {e}");
         }

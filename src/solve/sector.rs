@@ -315,7 +315,7 @@ impl Job<'_> {
                 SpectrumForm::Direct => 1,
                 SpectrumForm::KleinGordon { .. } => 2,
             };
-            out.mean_n.extend(std::iter::repeat_n(mean_n, roots));
+            out.mean_n.extend(std::iter::repeat(mean_n).take(roots));
         }
         let base = Level {
             energy: 0.0,
