@@ -11,7 +11,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 pub use super::output::{emit, emit_json, write_atomic, OutputFiles};
-pub use super::parse::{parse_count, parse_int_list};
+pub use super::parse::{field_in, native_units_only, parse_count, parse_int_list};
 pub use super::render::{
     branch_text, character_text, csv_header, csv_text, fmt_num, inverse_length, landau_branch_text,
     nearest_levels, table, Shown,
@@ -157,31 +157,6 @@ impl OutputArgs {
             self.field_unit,
         )?)
     }
-}
-
-/// Refuse output units other than the model's for a command that does not convert its
-/// output yet (`what` names it), so that no number is printed under a wrong unit.
-pub fn native_units_only(output: &OutputArgs, what: &str) -> CliResult {
-    for (flag, given) in [
-        ("--energy-unit", output.energy_unit.is_some()),
-        ("--field-unit", output.field_unit.is_some()),
-    ] {
-        if given {
-            return Err(bad_flag(
-                flag,
-                format!(
-                    "`{what}` prints its results in the model's own units only; drop {flag} \
-                     (levels, fan and dispersion take it)"
-                ),
-            ));
-        }
-    }
-    Ok(())
-}
-
-/// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
-pub fn field_in(lm: &LoadedModel, v: Option<ladderfan::units::FieldValue>) -> Option<f64> {
-    v.map(|f| f.in_units(lm.model.units()))
 }
 
 /// A model ready to solve, with where it came from and the file's solve defaults.

@@ -33,6 +33,37 @@ pub fn parse_field_unit(s: &str) -> std::result::Result<FieldUnit, String> {
     })
 }
 
+/// Refuse output units other than the model's for a command that does not convert its
+/// output yet (`what` names it), so that no number is printed under a wrong unit.
+pub fn native_units_only(
+    output: &super::common::OutputArgs,
+    what: &str,
+) -> super::common::CliResult {
+    for (flag, given) in [
+        ("--energy-unit", output.energy_unit.is_some()),
+        ("--field-unit", output.field_unit.is_some()),
+    ] {
+        if given {
+            return Err(super::common::bad_flag(
+                flag,
+                format!(
+                    "`{what}` prints its results in the model's own units only; drop {flag} \
+                     (levels, fan and dispersion take it)"
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
+pub fn field_in(
+    lm: &super::common::LoadedModel,
+    v: Option<ladderfan::units::FieldValue>,
+) -> Option<f64> {
+    v.map(|f| f.in_units(lm.model.units()))
+}
+
 /// Parse a count flag (`--cutoff`, `--points`, ...): a whole number, with a message that
 /// says what is wrong with a negative, fractional or huge value.
 pub fn parse_count(s: &str) -> std::result::Result<usize, String> {
