@@ -310,3 +310,40 @@ fn progress_never_reaches_a_pipe() {
         assert!(!has_progress_bytes(&r.stdout), "{args:?}");
     }
 }
+
+#[test]
+fn optics_energies_convert_too() {
+    let base = [
+        "optics",
+        "--builtin",
+        "dirac2d",
+        "--set",
+        "mass_mev=4",
+        "--field",
+        "3T",
+        "--cutoff",
+        "80",
+        "--json",
+    ];
+    let run_with = |extra: &[&str]| {
+        let mut a = base.to_vec();
+        a.extend_from_slice(extra);
+        json(&a)
+    };
+    let transition_energies = |j: &Value| -> Vec<f64> {
+        j["points"][0]["transitions"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no transitions: {j}"))
+            .iter()
+            .map(|t| f(&t["energy"]))
+            .collect()
+    };
+    let mev = run_with(&[]);
+    let invcm = run_with(&["--energy-unit", "cm-1", "--field-unit", "Bc"]);
+    assert_eq!(invcm["units"]["energy"], "cm^-1");
+    let (a, b) = (transition_energies(&mev), transition_energies(&invcm));
+    assert!(!a.is_empty());
+    assert_scaled(&a, &b, MEV_IN_INVCM, 1e-9);
+    let bc = critical_field_t();
+    assert!((f(&invcm["points"][0]["field"]) - 3.0 / bc).abs() < 1e-9 * 3.0 / bc);
+}

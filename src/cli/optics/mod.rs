@@ -167,8 +167,8 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
 
 /// Run `ladderfan optics`.
 pub fn run(a: &OpticsArgs) -> CliResult {
-    common::native_units_only(&a.output, "optics")?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let u = lm.model.units();
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
     let (values, cutoff, mem) = fields(a, &lm, &r)?;
@@ -230,7 +230,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         convention: CONVENTION,
         points: point_records(&fan, u),
     };
-    output(a, &lm, &json)
+    output(a, &lm, &json.in_units(lm.shown))
 }
 
 fn pol_name(p: Polarisation) -> &'static str {
@@ -243,7 +243,8 @@ fn pol_name(p: Polarisation) -> &'static str {
 
 fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     let mut s = format!(
         "model: {} ({}), kz {} {}, cutoff {}, T = {} K\n{CONVENTION}\n",
         lm.model.name(),
@@ -264,7 +265,7 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
             j.points.len(),
             j.points[0].field,
             j.points[j.points.len() - 1].field,
-            u.field_unit(),
+            fu,
             fmt_num(j.max_energy, 6)
         ));
         return s;
@@ -273,7 +274,7 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     s.push_str(&format!(
         "field {} {}: Fermi level {} {eu}, filling factor {}, {} allowed transitions below {} {eu}\n\n",
         p.field,
-        u.field_unit(),
+        fu,
         fmt_num(p.fermi.fermi_energy, 8),
         fmt_num(p.fermi.filling_factor, 6),
         p.transitions.len(),
@@ -315,8 +316,8 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
 }
 
 fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
-    let eu = lm.model.units().energy_unit().replace(' ', "");
-    let fu = lm.model.units().field_unit();
+    let eu = lm.shown.energy.suffix();
+    let fu = lm.shown.field.suffix();
     let v = j.velocity_unit.replace('/', "_per_");
     let header = csv_header(
         lm,
