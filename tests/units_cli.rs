@@ -253,7 +253,7 @@ fn progress_never_reaches_a_pipe() {
     // stderr is a pipe here, as in scripts and CI: the long commands (a kz-integrated Fermi
     // sweep of several seconds, past the bar's 0.8 s delay; an optics fan; a convergence
     // study; a fan) write no progress, with or without --json.
-    let runs: [&[&str]; 4] = [
+    let runs: [&[&str]; 5] = [
         &[
             "dos",
             "--builtin",
@@ -292,6 +292,16 @@ fn progress_never_reaches_a_pipe() {
             "dirac2d",
             "--cutoffs",
             "50,100,200",
+        ],
+        &[
+            "converge",
+            "--builtin",
+            "dirac2d",
+            "--mode",
+            "auto",
+            "--count",
+            "10",
+            "--json",
         ],
         &[
             "fan",

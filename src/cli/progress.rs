@@ -40,6 +40,18 @@ impl Progress {
         }
     }
 
+    /// A counter of steps whose number is not known in advance (e.g. the cutoffs an automatic
+    /// run tries), counting `unit`.
+    pub fn open_ended(what: &str, unit: &str) -> Self {
+        let p = Progress::new(what, 0, unit);
+        if let Ok(style) = ProgressStyle::with_template(&format!(
+            "{{msg}} {{spinner}} {{pos}} {unit}, {{elapsed}}"
+        )) {
+            p.bar.set_style(style);
+        }
+        p
+    }
+
     /// One step done (callable from any worker thread).
     pub fn tick(&self) {
         self.bar.inc(1);

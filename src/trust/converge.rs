@@ -48,7 +48,7 @@ use serde::Serialize;
 use std::time::Instant;
 
 pub use crate::levels::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
-pub use crate::trust::auto::{auto, AutoResult, AutoSettings, AutoStep, BoundChoice};
+pub use crate::trust::auto::{auto, auto_with, AutoResult, AutoSettings, AutoStep, BoundChoice};
 
 /// Which levels a study or the automatic cutoff follows.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]

@@ -21,8 +21,8 @@ use clap::{Args, ValueEnum};
 use ladderfan::records::{AutoJson, AutoLevelJson, StudyJson};
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
-    auto, study_with, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection,
-    Study,
+    auto_with, study_with, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff,
+    Selection, Study,
 };
 use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
 use ladderfan::trust::window::EnergyWindow;
@@ -351,7 +351,10 @@ fn run_auto(
         BoundFlag::KatoTemple => BoundChoice::KatoTemple,
     };
     s.base = base;
-    let res = auto(&lm.model, r.point(), &s)?;
+    let bar = super::progress::Progress::open_ended("converge --mode auto", "cutoffs");
+    let res = auto_with(&lm.model, r.point(), &s, &|| bar.tick());
+    bar.finish();
+    let res = res?;
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
