@@ -370,6 +370,9 @@ pub struct Spectrum {
     pub levels: Vec<Level>,
     /// Component weights, `dim` per level, in the order of `levels`.
     pub weights: Vec<f64>,
+    /// Mean orbital index <n> = sum_(n, alpha) n |psi_(n alpha)|^2 per level, in the order of
+    /// `levels`, when the solve was asked for it ([`crate::problem::Character::Compute`]).
+    pub mean_n: Option<Vec<f64>>,
     /// Eigenvectors in the order of `levels`, if requested.
     #[serde(skip)]
     pub vectors: Option<Vec<LevelVector>>,
@@ -380,6 +383,13 @@ impl Spectrum {
     /// character.
     pub fn weights_of(&self, i: usize) -> &[f64] {
         &self.weights[i * self.dim..(i + 1) * self.dim]
+    }
+
+    /// Mean orbital index <n> = sum_(n, alpha) n |psi_(n alpha)|^2 of level `i`, when the solve
+    /// computed it ([`crate::problem::Character::Compute`]); for a level of the Schrodinger
+    /// model in Landau level n it is n.
+    pub fn mean_n_of(&self, i: usize) -> Option<f64> {
+        self.mean_n.as_ref().and_then(|m| m.get(i).copied())
     }
 
     /// Converged levels only.

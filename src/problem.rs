@@ -88,6 +88,20 @@ pub struct Settings {
     /// Sectors larger than this (states) use the window solver when `target` is not
     /// [`Target::All`]; smaller ones are diagonalised densely and then filtered.
     pub dense_max: usize,
+    /// Whether the solve also reports each level's mean orbital index <n>
+    /// ([`crate::levels::Spectrum::mean_n`]); the component weights are always reported.
+    pub character: Character,
+}
+
+/// Whether a solve reports the orbital character of its levels: the mean orbital index
+/// <n> = sum_(n, alpha) n |psi_(n alpha)|^2 of each eigenvector.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Character {
+    /// Only the component weights (the default; nothing extra is stored).
+    #[default]
+    Skip,
+    /// Also <n> per level (8 bytes per level).
+    Compute,
 }
 
 /// Which levels a solve returns. Energies are relative to the reference energy, in the model's
@@ -127,6 +141,7 @@ impl Settings {
             memory_limit_mib: crate::policy::DEFAULT_MEMORY_LIMIT_MIB,
             target: Target::All,
             dense_max: DENSE_MAX_DEFAULT,
+            character: Character::Skip,
         }
     }
 

@@ -10,8 +10,8 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-pub use super::output::{emit, emit_json, interactive, OutputFiles};
-pub use super::parse::{parse_count, parse_int_list};
+pub use super::output::{emit, emit_json, OutputFiles};
+pub use super::parse::{field_in, native_units_only, parse_count, parse_int_list};
 pub use super::render::{
     branch_text, character_text, column_units, csv_file, csv_meta, fmt_num, inverse_length,
     landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
@@ -106,9 +106,10 @@ pub struct ModelArgs {
 /// Field, kz and truncation flags.
 #[derive(Debug, Clone, Args)]
 pub struct SolveArgs {
-    /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// Magnetic field along z, signed: a plain number is in the model's field unit (T, or B_c
+    /// in natural units); a suffix picks the unit (`1T`, `2.2e-10Bc`).
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<ladderfan::units::FieldValue>,
     /// Wave number along the field, in 1/length of the model's units.
     #[arg(long, allow_negative_numbers = true)]
     pub kz: Option<f64>,
@@ -136,6 +137,26 @@ pub struct OutputArgs {
     /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    /// Energy unit of every printed or written energy: meV, eV, K, cm-1, THz, or mc2 (natural-unit
+    /// models only; their m c^2 is the electron's, so they may also be shown in lab units).
+    /// Energies given in flags (windows, Fermi energy) stay in the model's unit.
+    #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_energy_unit)]
+    pub energy_unit: Option<ladderfan::units::EnergyUnit>,
+    /// Field unit of every printed or written field: T, or Bc (B_c = 4.414e9 T, the
+    /// electron's critical field). Default: the model's own.
+    #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_field_unit)]
+    pub field_unit: Option<ladderfan::units::FieldUnit>,
+}
+
+impl OutputArgs {
+    /// The output units of these flags for `lm` ([`ladderfan::units::OutputUnits`]).
+    pub fn units(&self, lm: &LoadedModel) -> CliResult<ladderfan::units::OutputUnits> {
+        Ok(ladderfan::units::OutputUnits::new(
+            lm.model.units(),
+            self.energy_unit,
+            self.field_unit,
+        )?)
+    }
 }
 
 /// A model ready to solve, with where it came from and the file's solve defaults.
@@ -149,6 +170,20 @@ pub struct LoadedModel {
     pub origin: String,
     /// The model file's path, when there is one (errors about its `[defaults]` point into it).
     pub file: Option<String>,
+    /// The units of the output edge (`--energy-unit`, `--field-unit`; the model's own until
+    /// a command sets them with [`LoadedModel::show_in`]).
+    pub shown: ladderfan::units::OutputUnits,
+}
+
+impl LoadedModel {
+    /// Set the output units from the command's output flags.
+    ///
+    /// # Errors
+    /// An m c^2 energy unit for a lab model (exit 2).
+    pub fn show_in(&mut self, output: &OutputArgs) -> CliResult {
+        self.shown = output.units(self)?;
+        Ok(())
+    }
 }
 
 fn parse_set(items: &[String]) -> CliResult<Vec<(String, String)>> {
@@ -229,6 +264,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 origin.push_str(&format!(" with {}", args.set.join(", ")));
             }
             Ok(LoadedModel {
+                shown: ladderfan::units::OutputUnits::native(f.model.units()),
                 model: f.model,
                 defaults: f.defaults,
                 origin,
@@ -262,6 +298,7 @@ pub fn load_model(args: &ModelArgs) -> CliResult<LoadedModel> {
                 origin.push_str(&format!(" with {}", args.set.join(", ")));
             }
             Ok(LoadedModel {
+                shown: ladderfan::units::OutputUnits::native(model.units()),
                 model,
                 defaults: FileDefaults::default(),
                 origin,
@@ -395,7 +432,9 @@ pub fn resolve_unchecked(
 ) -> CliResult<Resolved> {
     let field = finite_flag(
         "--field",
-        a.field.or(lm.defaults.field).unwrap_or(default_field),
+        field_in(lm, a.field)
+            .or(lm.defaults.field)
+            .unwrap_or(default_field),
     )?;
     if field == 0.0 {
         return Err(bad_flag(

@@ -92,6 +92,7 @@ fn demo_text(
 pub fn run(a: &DemoArgs) -> CliResult {
     let f = modelfile::parse("demo-model.toml", DEMO_MODEL)?;
     let lm = LoadedModel {
+        shown: ladderfan::units::OutputUnits::native(f.model.units()),
         model: f.model,
         defaults: f.defaults,
         origin: "invented demo: hypothetical gapped Dirac film".into(),
@@ -115,6 +116,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         count: 16,
         threads: None,
         shard: None,
+        character: false,
     };
     let values = common::grid_values("--b-min", 0.25, 10.0, 80, sweep_args.grid)?;
     let plan = Plan {
@@ -134,7 +136,8 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let closed_form_check = ladderfan::verify::closed_form_check(&lm.model, &[&s], win);
     let mut files = common::OutputFiles::default();
     files.add("model.toml", DEMO_MODEL);
-    files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &idx)?)?;
+    let rec = super::levels::to_json(&lm, &s, &idx);
+    files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &rec)?)?;
     files.add_csv("fan.csv", sweep::csv(&lm, &o.json)?)?;
     files.add("fan.svg", sweep::svg(&lm, &o.json, o.closed.as_deref())?);
     let written: Vec<String> = files
@@ -146,7 +149,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         let fan_check = o.json.closed_form.clone();
         common::emit_json(&DemoJson {
             command: "demo",
-            levels: super::levels::to_json(&lm, &s, &idx),
+            levels: rec,
             fan: o.json,
             closed_form_check: closed_form_check.clone(),
             files: written,
@@ -155,7 +158,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
         return sweep::verdict(fan_check.as_ref());
     }
     let text = demo_text(
-        &super::levels::to_table(&lm, &s, &idx),
+        &super::levels::to_table(&lm, &s, &rec, false),
         &o.json,
         closed_form_check.as_ref(),
         &written,

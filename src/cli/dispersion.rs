@@ -10,9 +10,10 @@ use ladderfan::FieldPoint;
 pub struct DispersionArgs {
     #[command(flatten)]
     pub model: ModelArgs,
-    /// Magnetic field along z, signed, in the model's field unit.
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// Magnetic field along z, signed, in the model's field unit; a suffix picks the unit
+    /// (`1T`, `2.2e-10Bc`).
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<ladderfan::units::FieldValue>,
     /// Lowest kz (default: -3 / l_B).
     #[arg(long, allow_negative_numbers = true)]
     pub kz_min: Option<f64>,
@@ -31,7 +32,7 @@ pub struct DispersionArgs {
 pub fn plan(lm: &common::LoadedModel, a: &DispersionArgs) -> CliResult<Plan> {
     let field = common::finite_flag(
         "--field",
-        a.field
+        common::field_in(lm, a.field)
             .or(lm.defaults.field)
             .unwrap_or(common::default_field(&lm.model)),
     )?;
@@ -72,8 +73,9 @@ pub fn plan(lm: &common::LoadedModel, a: &DispersionArgs) -> CliResult<Plan> {
 /// Run `ladderfan dispersion`.
 pub fn run(a: &DispersionArgs) -> CliResult {
     sweep::check_shard_output(&a.sweep, &a.output)?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let p = plan(&lm, a)?;
     let o = sweep::execute(&lm, &p, &a.sweep)?;
-    sweep::finish(&lm, &o, &a.output, "dispersion")
+    sweep::finish(&lm, o, &a.output, "dispersion")
 }

@@ -11,11 +11,13 @@ pub struct FanArgs {
     #[command(flatten)]
     pub model: ModelArgs,
     /// Lowest field of the sweep (default: a twentieth of --b-max).
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_min: Option<f64>,
+    /// A suffix picks the unit (`0.5T`, `1e-10Bc`); a plain number is in the model's unit.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<ladderfan::units::FieldValue>,
     /// Highest field of the sweep (default: the file's field, else 10 T or 0.2 B_c).
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_max: Option<f64>,
+    /// A suffix picks the unit (`10T`, `2e-9Bc`).
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<ladderfan::units::FieldValue>,
     /// Wave number along the field, in 1/length of the model's units.
     #[arg(long, allow_negative_numbers = true)]
     pub kz: Option<f64>,
@@ -33,8 +35,14 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
         ladderfan::units::Units::Lab => 10.0,
         ladderfan::units::Units::Natural => 0.2,
     });
-    let b_max = common::finite_flag("--b-max", a.b_max.unwrap_or(default_max))?;
-    let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 20.0))?;
+    let b_max = common::finite_flag(
+        "--b-max",
+        common::field_in(lm, a.b_max).unwrap_or(default_max),
+    )?;
+    let b_min = common::finite_flag(
+        "--b-min",
+        common::field_in(lm, a.b_min).unwrap_or(b_max / 20.0),
+    )?;
     let kz = common::finite_flag("--kz", a.kz.or(lm.defaults.kz).unwrap_or(0.0))?;
     let values = common::grid_values(
         "--b-min",
@@ -76,8 +84,9 @@ pub fn plan(lm: &common::LoadedModel, a: &FanArgs) -> CliResult<Plan> {
 /// Run `ladderfan fan`.
 pub fn run(a: &FanArgs) -> CliResult {
     sweep::check_shard_output(&a.sweep, &a.output)?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let p = plan(&lm, a)?;
     let o = sweep::execute(&lm, &p, &a.sweep)?;
-    sweep::finish(&lm, &o, &a.output, "fan")
+    sweep::finish(&lm, o, &a.output, "fan")
 }

@@ -9,7 +9,7 @@ use ladderfan::levels::Convergence;
 use ladderfan::model::SpectrumForm;
 use ladderfan::problem::Problem;
 use ladderfan::records::meta::Column;
-use ladderfan::records::{count_state, level_records, warnings, SpectrumRecord};
+use ladderfan::records::{count_state, warnings, SpectrumRecord};
 use ladderfan::Spectrum;
 
 /// Flags of `ladderfan levels`.
@@ -26,13 +26,33 @@ pub struct LevelsArgs {
     /// are always shown, marked `not converged`).
     #[arg(long)]
     pub show_unconverged: bool,
+    /// Also report each level's mean orbital index <n> = sum n |psi_n|^2 (column `mean_n`)
+    /// and its component weights in the table (JSON and CSV always carry the weights).
+    #[arg(long)]
+    pub character: bool,
     #[command(flatten)]
     pub output: OutputArgs,
 }
 
-/// The JSON result for a spectrum and the shown level indices.
+/// The JSON result for a spectrum and the shown level indices, in the model's units.
 pub fn to_json(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> SpectrumRecord {
     SpectrumRecord::new(&lm.model, &lm.origin, s, idx)
+}
+
+/// The component names as column suffixes (`weight_<name>`; the index for an unnamed one).
+pub fn weight_columns(lm: &LoadedModel) -> Vec<String> {
+    lm.model
+        .component_names()
+        .iter()
+        .enumerate()
+        .map(|(a, name)| {
+            if name.is_empty() {
+                format!("weight_{a}")
+            } else {
+                format!("weight_{name}")
+            }
+        })
+        .collect()
 }
 
 /// Solve the one set-up problem of a command (no second assembly), refusing a spectrum that
@@ -41,10 +61,12 @@ pub fn solve(problem: &Problem<'_>) -> CliResult<Spectrum> {
     common::finite_spectrum(Spectrum::solve(problem)?)
 }
 
-/// The aligned text table with a header block.
-pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
+/// The aligned text table with a header block, from the record `rec` of `s` (energies and
+/// field in the record's output units); `character` adds <n> and the weight columns.
+pub fn to_table(lm: &LoadedModel, s: &Spectrum, rec: &SpectrumRecord, character: bool) -> String {
     let artefacts = count_state(s, Convergence::CutoffArtefact);
     let u = lm.model.units();
+    let (eu, fu) = (rec.units.energy.as_str(), rec.units.field.as_str());
     let kg = matches!(lm.model.form(), SpectrumForm::KleinGordon { .. });
     let mut out = format!(
         "model: {} ({}), {} component(s), charge {} e\n",
@@ -55,8 +77,8 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     );
     out.push_str(&format!(
         "field {} {}, kz {} {}, cutoff {}, magnetic length {} {}\n",
-        s.point.field,
-        u.field_unit(),
+        rec.field,
+        fu,
         s.point.kz,
         common::inverse_length(u),
         s.cutoff,
@@ -66,15 +88,15 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
     out.push_str(&format!("symmetry: {}\n", s.symmetry.describe()));
     out.push_str(&format!(
         "energies in {} relative to {} {}; {} of {} levels shown (closest to the reference); in total {} converged, {} genuine but not converged (raise the cutoff), {} cutoff artefacts{}\n\n",
-        u.energy_unit(),
-        s.reference_energy,
-        u.energy_unit(),
-        idx.len(),
+        eu,
+        rec.reference_energy,
+        eu,
+        rec.levels.len(),
         s.levels.len(),
         s.converged().count(),
         count_state(s, Convergence::NotConverged),
         artefacts,
-        if artefacts > 0 && idx.iter().all(|&i| s.levels[i].is_genuine()) {
+        if artefacts > 0 && rec.levels.iter().all(|l| l.state != Convergence::CutoffArtefact) {
             " (artefacts hidden; --show-unconverged lists them)"
         } else {
             ""
@@ -88,12 +110,16 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
         rows[0].push("branch".into());
     }
     rows[0].extend([
-        format!("energy [{}]", u.energy_unit()),
-        format!("bound [{}]", u.energy_unit()),
+        format!("energy [{eu}]"),
+        format!("bound [{eu}]"),
         "from".into(),
         "state".into(),
     ]);
-    for l in level_records(&lm.model, s, idx) {
+    if character {
+        rows[0].push("mean_n".into());
+        rows[0].extend(weight_columns(lm));
+    }
+    for l in &rec.levels {
         let mut r = vec![
             l.sector.clone(),
             l.label.clone(),
@@ -113,6 +139,10 @@ pub fn to_table(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> String {
             .into(),
             l.state.word().into(),
         ]);
+        if character {
+            r.push(l.mean_n.map_or_else(|| "-".into(), |m| fmt_num(m, 4)));
+            r.extend(l.weights.iter().map(|w| fmt_num(*w, 4)));
+        }
         rows.push(r);
     }
     out.push_str(&common::table(&rows));
@@ -193,8 +223,10 @@ fn level_columns(lm: &LoadedModel) -> Vec<Column> {
     c
 }
 
-/// `levels.csv` of the shown levels; model, point, units and conventions go to its sidecar.
-pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<CsvFile> {
+/// `levels.csv` of the shown levels of the record `rec` of `s` (energies and field in the
+/// record's output units); model, point, units and conventions go to its sidecar; `mean_n`
+/// when the solve computed it.
+pub fn to_csv(lm: &LoadedModel, s: &Spectrum, rec: &SpectrumRecord) -> CliResult<CsvFile> {
     let u = lm.model.units();
     let meta = csv_meta(
         lm,
@@ -202,22 +234,30 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<CsvFil
         vec![
             format!(
                 "energies relative to {} {}",
-                s.reference_energy,
-                u.energy_unit()
+                rec.reference_energy, rec.units.energy
             ),
             format!("symmetry: {}", s.symmetry.describe()),
         ],
         vec![format!(
             "field {} {}, kz {} {}, cutoff {}",
-            s.point.field,
-            u.field_unit(),
+            rec.field,
+            rec.units.field,
             s.point.kz,
             common::inverse_length(u),
             s.cutoff
         )],
     );
-    let mut rec = Vec::new();
-    for l in level_records(&lm.model, s, idx) {
+    let mean_n = s.mean_n.is_some();
+    let mut columns = level_columns(lm);
+    if mean_n {
+        columns.push(Column::new(
+            "mean_n",
+            "1",
+            "mean orbital index <n> = sum_n n |psi_n|^2 of the state",
+        ));
+    }
+    let mut rows = Vec::new();
+    for l in rec.levels.iter().cloned() {
         let origin = match l.label_origin {
             ladderfan::levels::LabelOrigin::ExactSector => "exact_sector",
             ladderfan::levels::LabelOrigin::Continuation => "continuation",
@@ -243,17 +283,25 @@ pub fn to_csv(lm: &LoadedModel, s: &Spectrum, idx: &[usize]) -> CliResult<CsvFil
             l.converged.to_string(),
         ];
         row.extend(l.weights.iter().map(|w| format!("{w:e}")));
-        rec.push(row);
+        if mean_n {
+            row.push(l.mean_n.map_or_else(String::new, |m| format!("{m:e}")));
+        }
+        rows.push(row);
     }
-    csv_file(meta, level_columns(lm), &rec)
+    csv_file(meta, columns, &rows)
 }
 
 /// Run `ladderfan levels`.
 pub fn run(a: &LevelsArgs) -> CliResult {
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
     // the one set-up of this run: its footprint is checked, then it is solved
-    let problem = common::set_up(&lm, a.solve.trunc.cutoff, r.point(), &r.settings())?;
+    let mut settings = r.settings();
+    if a.character {
+        settings.character = ladderfan::Character::Compute;
+    }
+    let problem = common::set_up(&lm, a.solve.trunc.cutoff, r.point(), &settings)?;
     // the listed levels cost memory too (`--count 0` lists all of them): src/memory.rs
     let files = if a.output.out.is_some() {
         ladderfan::memory::FILES_BYTES_PER_LEVEL
@@ -285,33 +333,32 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     for w in warnings(&s) {
         eprintln!("ladderfan: warning: {w}");
     }
+    let rec = to_json(&lm, &s, &idx).in_units(lm.shown);
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add_csv("levels.csv", to_csv(&lm, &s, &idx)?)?;
+        files.add_csv("levels.csv", to_csv(&lm, &s, &rec)?)?;
         let svg = ladderfan::plot::level_diagram(&ladderfan::plot::LevelDiagram {
             title: format!(
                 "{}: levels at {} {}",
                 lm.model.name(),
-                s.point.field,
-                lm.model.units().field_unit()
+                rec.field,
+                rec.units.field
             ),
-            energy_unit: lm.model.units().energy_unit().to_string(),
+            energy_unit: rec.units.energy.clone(),
             levels: idx
                 .iter()
-                .map(|&i| {
-                    let l = &s.levels[i];
-                    (l.label.n.max(0) as f64, l.energy)
-                })
+                .zip(&rec.levels)
+                .map(|(&i, l)| (s.levels[i].label.n.max(0) as f64, l.energy))
                 .collect(),
         })?;
         files.add("levels.svg", svg);
         written = files.write_all(dir)?;
     }
     if a.output.json {
-        emit_json(&to_json(&lm, &s, &idx))
+        emit_json(&rec)
     } else {
-        let mut text = to_table(&lm, &s, &idx);
+        let mut text = to_table(&lm, &s, &rec, a.character);
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }

@@ -25,6 +25,7 @@ pub mod models;
 pub mod optics;
 pub mod output;
 pub mod parse;
+pub mod progress;
 pub mod render;
 pub mod sweep;
 pub mod verify;
@@ -92,11 +93,13 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// Whether `s` is a negative number such as `-5`, `-1e-3`, `-.5` or `-inf`.
+/// Whether `s` is a negative number such as `-5`, `-1e-3`, `-.5` or `-inf`, or a negative
+/// field with a unit suffix such as `-1T` or `-2e-10Bc`.
 fn is_negative_number(s: &str) -> bool {
     s.strip_prefix('-').is_some_and(|rest| {
         rest.starts_with(|c: char| c.is_ascii_digit() || c == '.' || c == 'i' || c == 'I')
-            && s.parse::<f64>().is_ok()
+            && (s.parse::<f64>().is_ok()
+                || ladderfan::units::FieldValue::parse(s).is_ok_and(|f| f.unit.is_some()))
     })
 }
 
@@ -267,6 +270,11 @@ mod tests {
             ["ladderfan", "levels", "--field=-1e-3", "--kz=-.5"]
         );
         assert_eq!(norm(&["x", "--cutoff", "-5"]), ["x", "--cutoff=-5"]);
+        assert_eq!(norm(&["x", "--field", "-1T"]), ["x", "--field=-1T"]);
+        assert_eq!(
+            norm(&["x", "--b-max", "-2e-10Bc"]),
+            ["x", "--b-max=-2e-10Bc"]
+        );
         // flags and names that merely start with '-' stay as they are
         assert_eq!(
             norm(&["x", "--json", "--field", "2"]),

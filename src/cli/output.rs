@@ -4,7 +4,7 @@
 use super::common::{bad_flag, CliError, CliResult};
 use ladderfan::Error;
 use serde::Serialize;
-use std::io::{IsTerminal, Write};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// Write to stdout; a closed pipe ends the command quietly.
@@ -254,11 +254,6 @@ pub fn write_atomic(path: &Path, content: &[u8]) -> CliResult {
             source,
         })
     })
-}
-
-/// Whether progress bars may be drawn: both stderr and stdout are terminals.
-pub fn interactive() -> bool {
-    std::io::stderr().is_terminal() && std::io::stdout().is_terminal()
 }
 
 #[cfg(test)]

@@ -1,6 +1,68 @@
-//! Parsers of flag values that clap cannot type by itself: counts and lists of whole numbers.
+//! Parsers of flag values that clap cannot type by itself: counts, lists of whole numbers,
+//! fields with a unit suffix and the output units. The unit arithmetic is the library's
+//! ([`ladderfan::units`]); this file only turns text into it.
 
+use ladderfan::units::{EnergyUnit, FieldUnit, FieldValue};
 use ladderfan::{Error, Result};
+
+/// Parse a field flag (`--field`, `--b-min`, `--b-max`): `1T`, `2.2e-10Bc` or a plain number
+/// in the model's field unit ([`FieldValue::parse`]).
+pub fn parse_field(s: &str) -> std::result::Result<FieldValue, String> {
+    FieldValue::parse(s)
+}
+
+/// Parse `--energy-unit`: meV, eV, K, cm-1, THz or mc2.
+pub fn parse_energy_unit(s: &str) -> std::result::Result<EnergyUnit, String> {
+    EnergyUnit::parse(s).ok_or_else(|| {
+        let all: Vec<&str> = EnergyUnit::ALL.iter().map(|u| u.flag()).collect();
+        format!(
+            "'{}' is not an energy unit; choose one of {}",
+            ladderfan::limits::excerpt(s),
+            all.join(", ")
+        )
+    })
+}
+
+/// Parse `--field-unit`: T or Bc.
+pub fn parse_field_unit(s: &str) -> std::result::Result<FieldUnit, String> {
+    FieldUnit::parse(s).ok_or_else(|| {
+        format!(
+            "'{}' is not a field unit; choose T or Bc (B_c = 4.414e9 T)",
+            ladderfan::limits::excerpt(s)
+        )
+    })
+}
+
+/// Refuse output units other than the model's for a command that does not convert its
+/// output yet (`what` names it), so that no number is printed under a wrong unit.
+pub fn native_units_only(
+    output: &super::common::OutputArgs,
+    what: &str,
+) -> super::common::CliResult {
+    for (flag, given) in [
+        ("--energy-unit", output.energy_unit.is_some()),
+        ("--field-unit", output.field_unit.is_some()),
+    ] {
+        if given {
+            return Err(super::common::bad_flag(
+                flag,
+                format!(
+                    "`{what}` prints its results in the model's own units only; drop {flag} \
+                     (levels, fan, dispersion and optics take it)"
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
+pub fn field_in(
+    lm: &super::common::LoadedModel,
+    v: Option<ladderfan::units::FieldValue>,
+) -> Option<f64> {
+    v.map(|f| f.in_units(lm.model.units()))
+}
 
 /// Parse a count flag (`--cutoff`, `--points`, ...): a whole number, with a message that
 /// says what is wrong with a negative, fractional or huge value.

@@ -9,7 +9,7 @@ use ladderfan::{Error, Model, Spectrum};
 /// The unit parts of column names for this model's output: the one place the CLI asks for
 /// them (`energy_meV`, `field_T`, `kz_invnm`, ...).
 pub fn column_units(lm: &LoadedModel) -> ColumnUnits {
-    ColumnUnits::of(lm.model.units())
+    ColumnUnits::shown(lm.shown)
 }
 
 /// A CSV file and its metadata sidecar, ready for [`super::output::OutputFiles::add_csv`].
@@ -34,7 +34,14 @@ pub fn csv_meta(
         model: ModelRecord::new(&lm.model, &lm.origin),
         component_names: lm.model.component_names().to_vec(),
     });
-    m.units = lm.model.units().header();
+    let u = lm.model.units();
+    m.units = format!(
+        "energy {}, length {}, field {}, kz {}",
+        lm.shown.energy.label(),
+        u.length_unit(),
+        lm.shown.field.label(),
+        u.wavenumber_unit()
+    );
     m.conventions = conventions;
     m.notes = notes;
     m

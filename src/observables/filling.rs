@@ -515,8 +515,23 @@ pub fn fermi_sweep(
     settings: &Settings,
     fermi: &FermiSettings,
 ) -> Result<Vec<FermiPoint>> {
+    fermi_sweep_with(model, points, settings, fermi, &|| ())
+}
+
+/// [`fermi_sweep`], calling `tick` once per finished point (from any worker thread; a front
+/// end draws its progress from it).
+///
+/// # Errors
+/// As [`fermi_sweep`].
+pub fn fermi_sweep_with(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    fermi: &FermiSettings,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Vec<FermiPoint>> {
     use rayon::prelude::*;
-    let spectra = crate::sweep::run(model, points, settings)?;
+    let spectra = crate::sweep::run_with(model, points, settings, tick)?;
     spectra
         .into_par_iter()
         .map(|s| {

@@ -512,6 +512,22 @@ pub fn transition_sweep(
     fermi: &FermiSettings,
     optics: &OpticsSettings,
 ) -> Result<Vec<TransitionPoint>> {
+    transition_sweep_with(model, points, settings, fermi, optics, &|| ())
+}
+
+/// [`transition_sweep`], calling `tick` once per finished point (from any worker thread; a
+/// front end draws its progress from it).
+///
+/// # Errors
+/// As [`transition_sweep`].
+pub fn transition_sweep_with(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    fermi: &FermiSettings,
+    optics: &OpticsSettings,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Vec<TransitionPoint>> {
     use rayon::prelude::*;
     let mut s = settings.clone();
     s.vectors = Vectors::Compute;
@@ -521,6 +537,7 @@ pub fn transition_sweep(
             let spec = Spectrum::compute(model, p, &s)?;
             let sol = fermi_level(model, &spec, fermi)?;
             let tr = transitions(model, &spec, &sol.occupation, optics)?;
+            tick();
             Ok(TransitionPoint {
                 field: p.field,
                 fermi: sol,

@@ -8,6 +8,7 @@ use crate::levels::Convergence;
 use crate::sweep::Spacing;
 use crate::trust::converge::{AutoStep, Study};
 use crate::trust::window::WindowWarning;
+use crate::units::OutputUnits;
 use crate::verify::{ClosedFormCheck, Verdict};
 use serde::Serialize;
 
@@ -54,6 +55,30 @@ pub struct SweepJson {
     pub closed_form: Option<ClosedFormCheck>,
     /// The tracked levels entering the window.
     pub tracks: Vec<TrackRecord>,
+}
+
+impl SweepJson {
+    /// The record with energies (tracks, window, reference energy, closed-form deviation)
+    /// multiplied by [`OutputUnits::energy_factor`] and fields (the swept values of a fan, the
+    /// fixed field of a dispersion) by [`OutputUnits::field_factor`]: the conversion at the
+    /// output edge. Applied once, to a record in the model's units.
+    pub fn in_units(mut self, o: OutputUnits) -> Self {
+        let (e, f) = (o.energy_factor(), o.field_factor());
+        self.units = self.units.shown(o);
+        if self.swept == Swept::Field {
+            self.values.iter_mut().for_each(|v| *v *= f);
+        }
+        self.field = self.field.map(|b| b * f);
+        self.reference_energy *= e;
+        self.window = (self.window.0 * e, self.window.1 * e);
+        if let Some(c) = &mut self.closed_form {
+            c.max_deviation *= e;
+        }
+        for t in &mut self.tracks {
+            t.scale_energies(e);
+        }
+        self
+    }
 }
 
 /// The result of verifying expected levels against the spectrum.

@@ -196,6 +196,19 @@ impl ColumnUnits {
         }
     }
 
+    /// The column units of an output shown in `o` (the `--energy-unit` / `--field-unit` of a
+    /// command): energy and field suffixes from [`crate::units::EnergyUnit::suffix`] and
+    /// [`crate::units::FieldUnit::suffix`], the wave number in the model's own unit.
+    pub fn shown(o: crate::units::OutputUnits) -> Self {
+        ColumnUnits {
+            energy: o.energy.suffix(),
+            energy_unit: o.energy.label(),
+            field: o.field.suffix(),
+            field_unit: o.field.label(),
+            ..ColumnUnits::of(o.system)
+        }
+    }
+
     /// `energy_<unit>`: the energy of a level or grid point.
     pub fn energy_column(&self) -> String {
         format!("energy_{}", self.energy)

@@ -8,6 +8,7 @@
 use crate::levels::{Branch, Convergence, LabelOrigin, Spectrum};
 use crate::model::Model;
 use crate::observables::labels;
+use crate::units::OutputUnits;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -52,7 +53,9 @@ impl ModelRecord {
     }
 }
 
-/// The unit block of every result: the units all its numbers are given in.
+/// The unit block of every result: the units all its numbers are given in (the model's own,
+/// or the output units of [`UnitsRecord::shown`] after the record's energies and fields were
+/// converted at the output edge).
 #[derive(Debug, Clone, Serialize)]
 pub struct UnitsRecord {
     /// `lab` or `natural`.
@@ -67,6 +70,10 @@ pub struct UnitsRecord {
     pub field: String,
     /// Wave-number (kz) unit.
     pub wavenumber: String,
+    /// The output units the energies and fields are in (suffixes of column names, factors
+    /// from the model's units).
+    #[serde(skip)]
+    pub output: OutputUnits,
 }
 
 impl UnitsRecord {
@@ -80,7 +87,21 @@ impl UnitsRecord {
             length: u.length_unit().into(),
             field: u.field_unit().into(),
             wavenumber: u.wavenumber_unit().into(),
+            output: OutputUnits::native(u),
         }
+    }
+
+    /// This block after converting to the output units `o`: the energy and field names
+    /// become those of `o` (the header line says so too); lengths and kz stay in the model's.
+    pub fn shown(mut self, o: OutputUnits) -> Self {
+        self.energy = o.energy.label().into();
+        self.field = o.field.label().into();
+        self.header = format!(
+            "energy {}, length {}, field {}, kz {}",
+            self.energy, self.length, self.field, self.wavenumber
+        );
+        self.output = o;
+        self
     }
 }
 
@@ -133,6 +154,9 @@ pub struct LevelRecord {
     pub family: usize,
     /// Weight on each component (sum 1), in the model's component order.
     pub weights: Vec<f64>,
+    /// Mean orbital index <n> = sum n |psi_n|^2, when the solve computed it (`--character`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean_n: Option<f64>,
 }
 
 /// The records of the levels of `s` with indices `idx` (in that order); `model` names the
@@ -169,6 +193,7 @@ pub fn level_records(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelRec
                 label_origin: l.label.origin,
                 family: l.label.family,
                 weights: s.weights_of(i).to_vec(),
+                mean_n: s.mean_n_of(i),
             }
         })
         .collect()
@@ -221,6 +246,13 @@ pub struct TrackRecord {
     pub energies: Vec<Option<f64>>,
     /// Bounds per sweep point.
     pub bounds: Vec<Option<f64>>,
+    /// Component weights per sweep point (in the model's component order; null where the
+    /// energy is), present when the sweep computed the character (`--character`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub weights: Option<Vec<Option<Vec<f64>>>>,
+    /// Mean orbital index <n> per sweep point, present with `weights`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mean_n: Option<Vec<Option<f64>>>,
 }
 
 /// Follow every level across the sweep by its quantum numbers (the library's
@@ -237,6 +269,7 @@ pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> V
         };
         [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
     };
+    let character = spectra.iter().all(|s| s.mean_n.is_some()) && !spectra.is_empty();
     let mut all = labels::tracks(spectra);
     // the order of the integer identity, which is also the order of a shard merge
     all.sort_by_key(|t| ids(&t.key));
@@ -244,6 +277,8 @@ pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> V
         .map(|t| {
             let mut energies = vec![None; np];
             let mut bounds = vec![None; np];
+            let mut weights = vec![None; np];
+            let mut mean_n = vec![None; np];
             let mut origin = None;
             let mut component = None;
             for p in &t.points {
@@ -251,6 +286,11 @@ pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> V
                 if p.converged {
                     energies[p.point] = Some(l.energy);
                     bounds[p.point] = Some(l.bound);
+                    if character {
+                        let s = &spectra[p.point];
+                        weights[p.point] = Some(s.weights_of(p.level).to_vec());
+                        mean_n[p.point] = s.mean_n_of(p.level);
+                    }
                 }
                 if origin.is_none() || p.point == reference {
                     origin = Some(l.label.origin);
@@ -270,6 +310,8 @@ pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> V
                 component,
                 energies,
                 bounds,
+                weights: character.then_some(weights),
+                mean_n: character.then_some(mean_n),
             }
         })
         .collect()
@@ -298,9 +340,30 @@ pub fn trim_to_margin(tracks: Vec<TrackRecord>, (lo, hi): (f64, f64)) -> Vec<Tra
                     *b = None;
                 }
             }
+            clear_character_where_no_energy(&mut t);
             t
         })
         .collect()
+}
+
+/// Drop the character values of the points where a track has no energy (kept in step with
+/// the energies when the window trims them).
+fn clear_character_where_no_energy(t: &mut TrackRecord) {
+    let gone: Vec<bool> = t.energies.iter().map(Option::is_none).collect();
+    if let Some(w) = &mut t.weights {
+        for (w, &g) in w.iter_mut().zip(&gone) {
+            if g {
+                *w = None;
+            }
+        }
+    }
+    if let Some(m) = &mut t.mean_n {
+        for (m, &g) in m.iter_mut().zip(&gone) {
+            if g {
+                *m = None;
+            }
+        }
+    }
 }
 
 /// The spectrum at one point as reported (`levels`): the model, units, point, symmetry, level
@@ -378,6 +441,39 @@ impl SpectrumRecord {
             levels_artefacts: count_state(s, Convergence::CutoffArtefact),
             levels: level_records(model, s, idx),
             warnings: warnings(s),
+        }
+    }
+}
+
+impl SpectrumRecord {
+    /// The record with its energies (levels, bounds, reference energy) multiplied by
+    /// [`OutputUnits::energy_factor`] and its field by [`OutputUnits::field_factor`]: the
+    /// conversion at the output edge. Applied once, to a record in the model's units.
+    pub fn in_units(mut self, o: OutputUnits) -> Self {
+        let (e, f) = (o.energy_factor(), o.field_factor());
+        self.units = self.units.shown(o);
+        self.field *= f;
+        self.reference_energy *= e;
+        for l in &mut self.levels {
+            l.energy *= e;
+            l.bound *= e;
+            l.residual_bound *= e;
+            l.kato_temple_bound = l.kato_temple_bound.map(|k| k * e);
+        }
+        self
+    }
+}
+
+impl TrackRecord {
+    /// Multiply the energies and bounds by `factor` (conversion at the output edge).
+    pub fn scale_energies(&mut self, factor: f64) {
+        for v in self
+            .energies
+            .iter_mut()
+            .chain(self.bounds.iter_mut())
+            .flatten()
+        {
+            *v *= factor;
         }
     }
 }

@@ -5,7 +5,7 @@ use super::{ModelRecord, UnitsRecord};
 use crate::observables::dos::{per_cm2, LineShape};
 use crate::observables::filling::FermiSolution;
 use crate::observables::optics::{Polarisation, Transition};
-use crate::units::Units;
+use crate::units::{OutputUnits, Units};
 use serde::Serialize;
 
 /// The kz-integrated (per volume) density of states of a 3D model at one field
@@ -239,4 +239,38 @@ pub struct OpticsRecord {
     pub convention: &'static str,
     /// The points.
     pub points: Vec<OpticsPointRecord>,
+}
+
+impl FermiRecord {
+    /// Energies times `e`, the DOS per energy divided by `e`, the field times `f`.
+    fn scale(&mut self, e: f64, f: f64) {
+        self.field *= f;
+        self.fermi_energy *= e;
+        self.dos_at_fermi_per_cm2 /= e;
+        self.width *= e;
+        self.neutrality_energy = self.neutrality_energy.map(|x| x * e);
+    }
+}
+
+impl OpticsRecord {
+    /// The record in the output units `o`: transition and level energies, Fermi levels,
+    /// widths and the reference energy times [`OutputUnits::energy_factor`], the DOS at the
+    /// Fermi level per output energy unit, fields times [`OutputUnits::field_factor`]; strengths
+    /// and densities unchanged. Applied once, to a record in the model's units.
+    pub fn in_units(mut self, o: OutputUnits) -> Self {
+        let (e, f) = (o.energy_factor(), o.field_factor());
+        self.units = self.units.shown(o);
+        self.reference_energy *= e;
+        self.max_energy *= e;
+        for p in &mut self.points {
+            p.field *= f;
+            p.fermi.scale(e, f);
+            for t in &mut p.transitions {
+                t.energy *= e;
+                t.from_energy *= e;
+                t.to_energy *= e;
+            }
+        }
+        self
+    }
 }

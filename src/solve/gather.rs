@@ -28,7 +28,7 @@ pub(super) fn gather(
     dim: usize,
     target: Target,
     tolerance: f64,
-    vectors: Vectors,
+    (vectors, character): (Vectors, crate::problem::Character),
     memory_limit_mib: u64,
 ) -> Result<Gathered> {
     let keys = sorted_keys(&parts, target, memory_limit_mib)?;
@@ -54,6 +54,12 @@ pub(super) fn gather(
             let i = k.index();
             w.copy_from_slice(&parts[k.part()].weights[i * d..(i + 1) * d]);
         });
+    let mean_n = (character == crate::problem::Character::Compute).then(|| {
+        keys.par_iter()
+            .with_min_len(GATHER_GRAIN)
+            .map(|k| parts[k.part()].mean_n[k.index()])
+            .collect()
+    });
     let vectors = if vectors == Vectors::Compute {
         let empty = || LevelVector {
             states: Vec::new(),
@@ -72,6 +78,7 @@ pub(super) fn gather(
     Ok(Gathered {
         levels,
         weights,
+        mean_n,
         vectors,
         energy_scale,
     })
@@ -81,6 +88,7 @@ pub(super) fn gather(
 pub(super) struct Gathered {
     pub(super) levels: Vec<Level>,
     pub(super) weights: Vec<f64>,
+    pub(super) mean_n: Option<Vec<f64>>,
     pub(super) vectors: Option<Vec<LevelVector>>,
     pub(super) energy_scale: f64,
 }

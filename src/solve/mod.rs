@@ -44,7 +44,7 @@ use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::levels::Spectrum;
 use crate::model::Model;
 pub use crate::problem::{
-    Precision, Problem, Reference, Settings, Splitting, Target, DENSE_MAX_DEFAULT,
+    Character, Precision, Problem, Reference, Settings, Splitting, Target, DENSE_MAX_DEFAULT,
     WINDOW_MAX_LEVELS,
 };
 pub use dense::Vectors;
@@ -96,7 +96,7 @@ impl Spectrum {
             h.dim,
             settings.target,
             settings.tolerance,
-            settings.vectors,
+            (settings.vectors, settings.character),
             settings.memory_limit_mib,
         )?;
         let model = problem.model();
@@ -113,6 +113,7 @@ impl Spectrum {
             energy_scale: g.energy_scale,
             levels: g.levels,
             weights: g.weights,
+            mean_n: g.mean_n,
             vectors: g.vectors,
         };
         label(problem, &mut spectrum)?;
@@ -147,6 +148,7 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
         reference: problem.reference(),
         refine: refine_policy(problem),
         keep_vectors: settings.vectors == Vectors::Compute,
+        keep_mean_n: settings.character == crate::problem::Character::Compute,
         real: h.is_real(),
         tolerance: settings.tolerance,
         target: settings.target,
@@ -175,6 +177,7 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
             let mut acc = SectorResult {
                 levels: Vec::with_capacity(expected),
                 weights: Vec::with_capacity(expected * h.dim),
+                mean_n: Vec::new(),
                 vectors: Vec::new(),
             };
             for &id in chunk_ids {

@@ -54,6 +54,8 @@ impl Scratch {
 pub(super) struct SectorResult {
     pub(super) levels: Vec<Level>,
     pub(super) weights: Vec<f64>,
+    /// Mean orbital index <n> per level, when the job keeps it (else empty).
+    pub(super) mean_n: Vec<f64>,
     pub(super) vectors: Vec<LevelVector>,
 }
 
@@ -75,6 +77,8 @@ pub(super) struct Job<'a> {
     pub(super) reference: f64,
     pub(super) refine: RefinePolicy,
     pub(super) keep_vectors: bool,
+    /// Keep <n> of every level ([`crate::problem::Character::Compute`]).
+    pub(super) keep_mean_n: bool,
     pub(super) real: bool,
     /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
     pub(super) tolerance: f64,
@@ -303,7 +307,16 @@ impl Job<'_> {
             (pair.in_res * pair.in_res + out_res * out_res).sqrt() + pair.rounding + self.dropped;
         let w0 = out.weights.len();
         out.weights.resize(w0 + d, 0.0);
-        let (best, top, tail) = weigh(states, v, &mut out.weights[w0..], top_from, tail_from);
+        let (best, top, tail, mean_n) =
+            weigh(states, v, &mut out.weights[w0..], top_from, tail_from);
+        // one value per level pushed below: both roots of the Klein-Gordon form share it
+        if self.keep_mean_n {
+            let roots = match self.form {
+                SpectrumForm::Direct => 1,
+                SpectrumForm::KleinGordon { .. } => 2,
+            };
+            out.mean_n.extend(std::iter::repeat(mean_n).take(roots));
+        }
         let base = Level {
             energy: 0.0,
             bound: 0.0,
@@ -383,21 +396,26 @@ impl Job<'_> {
 }
 
 /// Add the component weights |v_(n alpha)|^2 of `v` over `states` into `weights` (d entries);
-/// return the dominant state (weight, n, alpha), the weight on orbitals n >= `top_from` and
-/// the weight on orbitals n >= `tail_from`.
+/// return the dominant state (weight, n, alpha), the weight on orbitals n >= `top_from`, the
+/// weight on orbitals n >= `tail_from` and the mean orbital index
+/// <n> = sum n |v_(n alpha)|^2 / sum |v_(n alpha)|^2.
 fn weigh(
     states: &[(usize, usize)],
     v: &[Complex64],
     weights: &mut [f64],
     top_from: usize,
     tail_from: usize,
-) -> ((f64, usize, usize), f64, f64) {
+) -> ((f64, usize, usize), f64, f64, f64) {
     let mut best = (0.0, 0usize, 0usize);
     let mut top = 0.0;
     let mut tail = 0.0;
+    let mut norm = 0.0;
+    let mut first_moment = 0.0;
     for (idx, &(n, a)) in states.iter().enumerate() {
         let p = v[idx].norm_sqr();
         weights[a] += p;
+        norm += p;
+        first_moment += n as f64 * p;
         if p > best.0 {
             best = (p, n, a);
         }
@@ -408,5 +426,6 @@ fn weigh(
             tail += p;
         }
     }
-    (best, top, tail)
+    let mean_n = if norm > 0.0 { first_moment / norm } else { 0.0 };
+    (best, top, tail, mean_n)
 }

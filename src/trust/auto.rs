@@ -183,6 +183,19 @@ fn validate_auto(a: &AutoSettings) -> Result<()> {
 /// # Ok::<(), ladderfan::Error>(())
 /// ```
 pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result<AutoResult> {
+    auto_with(model, point, settings, &|| ())
+}
+
+/// [`auto`], calling `tick` once per solved cutoff (a front end draws its progress from it).
+///
+/// # Errors
+/// As [`auto`].
+pub fn auto_with(
+    model: &Model,
+    point: FieldPoint,
+    settings: &AutoSettings,
+    tick: &(dyn Fn() + Sync),
+) -> Result<AutoResult> {
     validate_auto(settings)?;
     let mut cutoff = settings.start_cutoff.max(model.band() + 1);
     let mut history: Vec<AutoStep> = Vec::new();
@@ -210,6 +223,7 @@ pub fn auto(model: &Model, point: FieldPoint, settings: &AutoSettings) -> Result
         };
         let t0 = Instant::now();
         let spectrum = solve_step(&problem, previous_shape, settings)?;
+        tick();
         let seconds = t0.elapsed().as_secs_f64();
         total += seconds;
         let picked = settings.selection.pick(&spectrum);

@@ -48,7 +48,7 @@ use serde::Serialize;
 use std::time::Instant;
 
 pub use crate::levels::{is_cutoff_artefact, ARTEFACT_TOP_WEIGHT};
-pub use crate::trust::auto::{auto, AutoResult, AutoSettings, AutoStep, BoundChoice};
+pub use crate::trust::auto::{auto, auto_with, AutoResult, AutoSettings, AutoStep, BoundChoice};
 
 /// Which levels a study or the automatic cutoff follows.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -241,6 +241,23 @@ pub fn study(
     selection: Selection,
     exact: ExactValues<'_>,
 ) -> Result<Study> {
+    study_with(model, point, base, cutoffs, selection, exact, &|| ())
+}
+
+/// [`study`], calling `tick` once per finished cutoff (a front end draws its progress from
+/// it).
+///
+/// # Errors
+/// As [`study`].
+pub fn study_with(
+    model: &Model,
+    point: FieldPoint,
+    base: &Settings,
+    cutoffs: &[usize],
+    selection: Selection,
+    exact: ExactValues<'_>,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Study> {
     let mut cutoffs = cutoffs.to_vec();
     cutoffs.sort_unstable();
     cutoffs.dedup();
@@ -257,6 +274,7 @@ pub fn study(
         let s = Spectrum::solve(problem)?;
         seconds.push(t0.elapsed().as_secs_f64());
         spectra.push(s);
+        tick();
     }
     let last = &spectra[spectra.len() - 1];
     debug_assert_eq!(last.cutoff, largest);

@@ -21,7 +21,8 @@ use clap::{Args, ValueEnum};
 use ladderfan::records::{AutoJson, AutoLevelJson, StudyJson};
 use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
-    auto, study, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection, Study,
+    auto_with, study_with, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff,
+    Selection, Study,
 };
 use ladderfan::trust::report::{study_json, study_svg_string};
 use ladderfan::trust::window::EnergyWindow;
@@ -57,8 +58,9 @@ pub struct ConvergeArgs {
     #[command(flatten)]
     pub model: ModelArgs,
     /// Magnetic field along z, signed, in the model's field unit (T, or B_c in natural units).
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// A suffix picks the unit: `1T`, `2.2e-10Bc`.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<ladderfan::units::FieldValue>,
     /// Wave number along the field, in 1/length of the model's units.
     #[arg(long, allow_negative_numbers = true)]
     pub kz: Option<f64>,
@@ -192,6 +194,7 @@ fn auto_json<'a>(
 
 /// Run `ladderfan converge`.
 pub fn run(a: &ConvergeArgs) -> CliResult {
+    common::native_units_only(&a.output, "converge")?;
     let lm = load_model(&a.model)?;
     let sel = selection(a)?;
     if !(a.tolerance.is_finite() && a.tolerance > 0.0) {
@@ -241,14 +244,18 @@ fn run_study(
     requested: usize,
 ) -> CliResult {
     let cutoffs = study_cutoffs(a, requested)?;
-    let st = study(
+    let bar = super::progress::Progress::new("converge", cutoffs.len(), "cutoffs");
+    let st = study_with(
         &lm.model,
         r.point(),
         base,
         &cutoffs,
         sel,
         ExactValues::ClosedFormIfKnown,
-    )?;
+        &|| bar.tick(),
+    );
+    bar.finish();
+    let st = st?;
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
@@ -303,7 +310,10 @@ fn run_auto(
         BoundFlag::KatoTemple => BoundChoice::KatoTemple,
     };
     s.base = base;
-    let res = auto(&lm.model, r.point(), &s)?;
+    let bar = super::progress::Progress::open_ended("converge --mode auto", "cutoffs");
+    let res = auto_with(&lm.model, r.point(), &s, &|| bar.tick());
+    bar.finish();
+    let res = res?;
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();

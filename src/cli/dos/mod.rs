@@ -5,15 +5,17 @@ use super::common::{
     self, bad_flag, csv_file, csv_meta, emit, emit_json, fmt_num, load_model, CliResult, CsvFile,
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
+use super::progress::Progress;
 use clap::{Args, ValueEnum};
 use ladderfan::observables::dos::{
     from_per_cm2, per_cm2, Broadening, LevelDensity, LineShape, WidthScaling,
 };
 use ladderfan::observables::filling::{
-    carrier_density, fermi_level, fermi_sweep, FermiPoint, FermiSettings, Neutrality, Occupation,
+    carrier_density, fermi_level, fermi_sweep_with, FermiPoint, FermiSettings, Neutrality,
+    Occupation,
 };
 use ladderfan::observables::volume::{
-    fermi_sweep as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
+    fermi_sweep_with as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
 };
 use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
 use ladderfan::records::meta::Column;
@@ -175,11 +177,12 @@ pub struct DosArgs {
     pub energy_points: usize,
     /// Sweep the Fermi level from --b-min to --b-max at fixed --density-cm2 (or, with
     /// --kz-integrate, at fixed --density-cm3).
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_max: Option<f64>,
+    /// A suffix picks the unit (`10T`, `2e-9Bc`); a plain number is in the model's unit.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<ladderfan::units::FieldValue>,
     /// Lowest field of the Fermi-level sweep (default: a tenth of --b-max).
-    #[arg(long, allow_negative_numbers = true, requires = "b_max")]
-    pub b_min: Option<f64>,
+    #[arg(long, allow_negative_numbers = true, requires = "b_max", value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<ladderfan::units::FieldValue>,
     /// Points of the Fermi-level sweep.
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 200)]
     pub points: usize,
@@ -230,6 +233,7 @@ pub fn run(a: &DosArgs) -> CliResult {
             ),
         ));
     }
+    common::native_units_only(&a.output, "dos")?;
     let lm = load_model(&a.model)?;
     let u = lm.model.units();
     let (r, problem) = common::resolve_problem(
@@ -373,9 +377,12 @@ fn field_sweep(
 ) -> CliResult<(Vec<FermiPoint>, Option<Vec<f64>>)> {
     let mut sweep_points = Vec::new();
     let mut sweep_fields = None;
-    if let Some(b_max) = a.b_max {
+    if let Some(b_max) = common::field_in(lm, a.b_max) {
         let b_max = common::finite_flag("--b-max", b_max)?;
-        let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
+        let b_min = common::finite_flag(
+            "--b-min",
+            common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
+        )?;
         let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
         if values.contains(&0.0) || b_min.signum() != b_max.signum() {
             return Err(bad_flag(
@@ -416,7 +423,11 @@ fn field_sweep(
             )?;
             let mut s = Settings::with_cutoff(cutoff);
             s.memory_limit_mib = mem;
-            sweep_points = fermi_sweep(&lm.model, &pts, &s, &a.fermi.settings(n, broadening)?)?;
+            let fermi = a.fermi.settings(n, broadening)?;
+            let bar = Progress::new("dos --b-max", pts.len(), "fields");
+            let swept = fermi_sweep_with(&lm.model, &pts, &s, &fermi, &|| bar.tick());
+            bar.finish();
+            sweep_points = swept?;
         }
         sweep_fields = Some(values);
     }
@@ -469,7 +480,12 @@ fn volume_json(
     };
     let mut fermi_sweep = Vec::new();
     if let (Some(n), Some(fields)) = (a.density_cm3, sweep_fields) {
-        let pts = volume_fermi_sweep(&lm.model, fields, &s, &vs, from_per_cm3(u, n))?;
+        let bar = Progress::new("dos --kz-integrate --b-max", fields.len(), "fields");
+        let swept = volume_fermi_sweep(&lm.model, fields, &s, &vs, from_per_cm3(u, n), &|| {
+            bar.tick()
+        });
+        bar.finish();
+        let pts = swept?;
         fermi_sweep = pts
             .iter()
             .map(|p| VolumeFermiSweepRecord {

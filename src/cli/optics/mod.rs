@@ -6,9 +6,10 @@ use super::common::{
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use super::dos::FermiArgs;
+use super::progress::Progress;
 use clap::Args;
 use ladderfan::observables::optics::{
-    transition_sweep, OpticsSettings, Polarisation, TransitionPoint,
+    transition_sweep_with, OpticsSettings, Polarisation, TransitionPoint,
 };
 use ladderfan::records::meta::Column;
 use ladderfan::records::{
@@ -41,11 +42,12 @@ pub struct OpticsArgs {
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 30)]
     pub count: usize,
     /// Sweep the field up to this value: the transition-energy fan.
-    #[arg(long, allow_negative_numbers = true)]
-    pub b_max: Option<f64>,
+    /// A suffix picks the unit (`10T`, `2e-9Bc`); a plain number is in the model's unit.
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<ladderfan::units::FieldValue>,
     /// Lowest field of the sweep (default: a tenth of --b-max).
-    #[arg(long, allow_negative_numbers = true, requires = "b_max")]
-    pub b_min: Option<f64>,
+    #[arg(long, allow_negative_numbers = true, requires = "b_max", value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<ladderfan::units::FieldValue>,
     /// Points of the sweep.
     #[arg(value_parser = crate::cli::common::parse_count, long, default_value_t = 40)]
     pub points: usize,
@@ -64,11 +66,14 @@ fn fields(
     lm: &LoadedModel,
     r: &common::Resolved,
 ) -> CliResult<(Vec<f64>, usize, u64)> {
-    let fields = match a.b_max {
+    let fields = match common::field_in(lm, a.b_max) {
         None => (vec![r.field], r.cutoff, r.memory_limit_mib),
         Some(b_max) => {
             let b_max = common::finite_flag("--b-max", b_max)?;
-            let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(b_max / 10.0))?;
+            let b_min = common::finite_flag(
+                "--b-min",
+                common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
+            )?;
             let v = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
             if v.contains(&0.0) || b_min.signum() != b_max.signum() {
                 return Err(bad_flag(
@@ -163,7 +168,8 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
 
 /// Run `ladderfan optics`.
 pub fn run(a: &OpticsArgs) -> CliResult {
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let u = lm.model.units();
     let r = common::resolve_unchecked(&lm, &a.solve, common::default_field(&lm.model))?;
     let (values, cutoff, mem) = fields(a, &lm, &r)?;
@@ -205,7 +211,10 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         max_energy: Some(max_energy),
         min_relative_strength: a.min_strength,
     };
-    let fan = transition_sweep(&lm.model, &pts, &settings, &fs, &opts)?;
+    let bar = Progress::new("optics", pts.len(), "fields");
+    let fan = transition_sweep_with(&lm.model, &pts, &settings, &fs, &opts, &|| bar.tick());
+    bar.finish();
+    let fan = fan?;
     let json = OpticsRecord {
         command: "optics",
         model: ModelRecord::new(&lm.model, &lm.origin),
@@ -222,7 +231,7 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         convention: CONVENTION,
         points: point_records(&fan, u),
     };
-    output(a, &lm, &json)
+    output(a, &lm, &json.in_units(lm.shown))
 }
 
 fn pol_name(p: Polarisation) -> &'static str {
@@ -235,7 +244,8 @@ fn pol_name(p: Polarisation) -> &'static str {
 
 fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     let mut s = format!(
         "model: {} ({}), kz {} {}, cutoff {}, T = {} K\n{CONVENTION}\n",
         lm.model.name(),
@@ -256,7 +266,7 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
             j.points.len(),
             j.points[0].field,
             j.points[j.points.len() - 1].field,
-            u.field_unit(),
+            fu,
             fmt_num(j.max_energy, 6)
         ));
         return s;
@@ -265,7 +275,7 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     s.push_str(&format!(
         "field {} {}: Fermi level {} {eu}, filling factor {}, {} allowed transitions below {} {eu}\n\n",
         p.field,
-        u.field_unit(),
+        fu,
         fmt_num(p.fermi.fermi_energy, 8),
         fmt_num(p.fermi.filling_factor, 6),
         p.transitions.len(),
@@ -381,7 +391,7 @@ fn transition_columns(lm: &LoadedModel, vu: &str) -> Vec<Column> {
 
 /// `transitions.csv`: one row per field and transition; conventions go to its sidecar.
 fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<CsvFile> {
-    let eu = lm.model.units().energy_unit();
+    let eu = lm.shown.energy.label();
     let meta = csv_meta(
         lm,
         "optics",

@@ -73,8 +73,7 @@ fn fan_notes(lm: &LoadedModel, j: &OpticsRecord) -> [String; 2] {
 /// The fan: transition energy against field, one line per (from, to) pair, line width and
 /// opacity growing with the strength, colour by polarisation.
 pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
-    let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
     let lines = transition_lines(j);
     let (x0, x1) = j
         .points
@@ -99,7 +98,7 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
             .map_err(plot_err)?;
         chart
             .configure_mesh()
-            .x_desc(format!("B [{}]", u.field_unit()))
+            .x_desc(format!("B [{}]", lm.shown.field.label()))
             .y_desc(format!("transition energy [{eu}]"))
             .light_line_style(WHITE.mix(0.0))
             .label_style(("sans-serif", 15))
@@ -152,8 +151,7 @@ pub(super) fn fan_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
 
 /// Stick spectrum at one field: a vertical line per transition, height = relative strength.
 pub(super) fn stick_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String> {
-    let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
     let p = &j.points[0];
     let mut svg = String::new();
     {
@@ -164,7 +162,7 @@ pub(super) fn stick_svg(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<String>
                 format!(
                     "Transitions at {} {}: {}",
                     p.field,
-                    u.field_unit(),
+                    lm.shown.field.label(),
                     lm.model.name()
                 ),
                 ("sans-serif", 22),

@@ -6,7 +6,6 @@ use super::common::{
     self, bad_flag, csv_file, csv_meta, fmt_num, CliError, CliResult, CsvFile, LoadedModel,
 };
 use clap::Args;
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
 use ladderfan::plot::{Curve, LinePlot, Stroke};
 use ladderfan::records::meta::Column;
@@ -19,8 +18,6 @@ use ladderfan::{FieldPoint, Settings, Spectrum};
 mod render;
 pub use render::{csv, summary, svg};
 use std::collections::BTreeMap;
-use std::sync::atomic::{AtomicBool, Ordering};
-use std::time::{Duration, Instant};
 
 /// Flags shared by every sweep.
 #[derive(Debug, Clone, Args)]
@@ -49,6 +46,11 @@ pub struct SweepArgs {
     /// exactly the single-run table.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
+    /// Also report each level's character at every point: component weights
+    /// (`weight_<component>` columns, `weights` in JSON) and the mean orbital index <n>
+    /// (`mean_n`).
+    #[arg(long)]
+    pub character: bool,
 }
 
 /// Solve at every point, in parallel over points; the result order is the point order, and
@@ -60,28 +62,8 @@ pub fn solve_points(
     what: &str,
     threads: Option<usize>,
 ) -> CliResult<Vec<Spectrum>> {
-    let start = Instant::now();
-    let bar = ProgressBar::hidden();
-    bar.set_length(points.len() as u64);
-    bar.set_style(
-        ProgressStyle::with_template("{msg} [{bar:40}] {pos}/{len} points, eta {eta}")
-            .map_err(|e| CliError::Input(ladderfan::Error::Unsupported(e.to_string())))?
-            .progress_chars("=> "),
-    );
-    bar.set_message(what.to_string());
-    let interactive = common::interactive();
-    let shown = AtomicBool::new(false);
-    let tick = || {
-        bar.inc(1);
-        if interactive
-            && start.elapsed() > Duration::from_millis(800)
-            && shown
-                .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
-                .is_ok()
-        {
-            bar.set_draw_target(ProgressDrawTarget::stderr());
-        }
-    };
+    let bar = crate::cli::progress::Progress::new(what, points.len(), "points");
+    let tick = || bar.tick();
     let work = || ladderfan::sweep::run_with(&lm.model, points, settings, &tick);
     let results = match threads {
         None => work(),
@@ -102,7 +84,7 @@ pub fn solve_points(
             .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
             .install(work),
     };
-    bar.finish_and_clear();
+    bar.finish();
     let spectra = results?
         .into_iter()
         .map(super::common::finite_spectrum)
@@ -111,7 +93,7 @@ pub fn solve_points(
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
         points.len(),
-        start.elapsed().as_secs_f64()
+        bar.elapsed().as_secs_f64()
     );
     Ok(spectra)
 }
@@ -238,20 +220,32 @@ fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, tot
         b[block.clone()].copy_from_slice(&t.bounds);
         t.energies = e;
         t.bounds = b;
+        if let Some(w) = &mut t.weights {
+            let mut all = vec![None; total];
+            all[block.clone()].clone_from_slice(w);
+            *w = all;
+        }
+        if let Some(m) = &mut t.mean_n {
+            let mut all = vec![None; total];
+            all[block.clone()].copy_from_slice(m);
+            *m = all;
+        }
     }
 }
 
 /// The shard object of a shard's sidecar: tracks grouped by identity, kept where they enter
 /// the window `win`.
 fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
+    // the shard's rows are in the shown energy unit; the window flags in the model's
+    let f = lm.shown.energy_factor();
     ShardHeader {
         shard: s,
         total_points: total,
         group_by: vec!["track".into()],
         keep: Some(KeepGroups {
             column: common::column_units(lm).energy_column(),
-            lo: win.0,
-            hi: win.1,
+            lo: win.0 * f,
+            hi: win.1 * f,
         }),
     }
 }
@@ -262,6 +256,9 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
+    if a.character {
+        settings.character = ladderfan::Character::Compute;
+    }
     let shard = parse_shard(a)?;
 
     let total = plan.points.len();
@@ -387,8 +384,31 @@ pub fn check_shard_output(a: &SweepArgs, output: &common::OutputArgs) -> CliResu
     Ok(())
 }
 
-/// Write the files (if `--out`) and print the result.
-pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+/// The outcome with its energies and fields in the output units `lm.shown` (the record, the
+/// closed-form curves and a shard's window of kept tracks).
+fn in_output_units(lm: &LoadedModel, mut o: Outcome) -> Outcome {
+    let u = lm.shown;
+    let (e, f) = (u.energy_factor(), u.field_factor());
+    let xf = if o.json.swept == Swept::Field { f } else { 1.0 };
+    if let Some(curves) = &mut o.closed {
+        for c in curves {
+            for p in c {
+                *p = (p.0 * xf, p.1 * e);
+            }
+        }
+    }
+    if let Some(k) = o.shard.as_mut().and_then(|h| h.keep.as_mut()) {
+        k.column = u.energy_column("energy");
+        k.lo *= e;
+        k.hi *= e;
+    }
+    o.json = o.json.in_units(u);
+    o
+}
+
+/// Write the files (if `--out`) and print the result, in the output units `lm.shown`.
+pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &str) -> CliResult {
+    let o = in_output_units(lm, o);
     if let Some(h) = &o.shard {
         let Some(dir) = &output.out else {
             return Err(bad_flag(

@@ -49,12 +49,12 @@ pub fn sweep_columns(lm: &LoadedModel, swept: Swept) -> Vec<Column> {
 pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
     let u = lm.model.units();
     let (xname, xunit) = match j.swept {
-        Swept::Field => ("field", u.field_unit().to_string()),
+        Swept::Field => ("field", j.units.field.clone()),
         Swept::Kz => ("kz", common::inverse_length(u)),
     };
     let fixed = match j.swept {
         Swept::Field => format!("kz {} {}", j.kz.unwrap_or(0.0), common::inverse_length(u)),
-        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), u.field_unit()),
+        Swept::Kz => format!("field {} {}", j.field.unwrap_or(0.0), j.units.field),
     };
     let meta = csv_meta(
         lm,
@@ -62,8 +62,7 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
         vec![
             format!(
                 "energies in {} relative to {}",
-                u.energy_unit(),
-                j.reference_energy
+                j.units.energy, j.reference_energy
             ),
             "label = Landau label (+n above the gap, -n below, n unpaired, ' a further level on \
              the same side, ~ continued from the symmetric model, @f<family>, *<copy> (the JSON \
@@ -86,11 +85,21 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
             ),
         ],
     );
+    let character = j.tracks.iter().any(|t| t.weights.is_some());
+    let mut columns = sweep_columns(lm, j.swept);
+    if character {
+        columns.extend(common::weight_columns(&lm.model));
+        columns.push(Column::new(
+            "mean_n",
+            "1",
+            "mean orbital index <n> = sum_n n |psi_n|^2 of the state",
+        ));
+    }
     let mut rec = Vec::new();
     for t in &j.tracks {
         for (i, x) in j.values.iter().enumerate() {
             if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
-                rec.push(vec![
+                let mut row = vec![
                     format!("{x:e}"),
                     t.track.clone(),
                     t.label.clone(),
@@ -98,11 +107,31 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
                     common::landau_branch_text(t.branch),
                     format!("{en:e}"),
                     format!("{b:e}"),
-                ]);
+                ];
+                if character {
+                    row.extend(character_cells(t, i, lm.model.dim()));
+                }
+                rec.push(row);
             }
         }
     }
-    csv_file(meta, sweep_columns(lm, j.swept), &rec)
+    csv_file(meta, columns, &rec)
+}
+
+/// The weight cells (`dim` of them) and the <n> cell of track `t` at point `i` (empty where
+/// the track carries no character there).
+fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
+    let mut cells = match t.weights.as_ref().and_then(|w| w[i].as_ref()) {
+        Some(w) => w.iter().map(|x| format!("{x:e}")).collect(),
+        None => vec![String::new(); dim],
+    };
+    cells.push(
+        t.mean_n
+            .as_ref()
+            .and_then(|m| m[i])
+            .map_or_else(String::new, |m| format!("{m:e}")),
+    );
+    cells
 }
 
 /// The SVG plot of the tracks, with the closed form dashed when given.
@@ -113,7 +142,7 @@ pub fn svg(
 ) -> CliResult<String> {
     let u = lm.model.units();
     let x_label = match j.swept {
-        Swept::Field => format!("B [{}]", u.field_unit()),
+        Swept::Field => format!("B [{}]", j.units.field),
         Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
     let mut curves: Vec<Curve> = j
@@ -165,14 +194,14 @@ pub fn svg(
         Swept::Kz => format!(
             "Dispersion at {} {}: {}",
             j.field.unwrap_or(0.0),
-            u.field_unit(),
+            j.units.field,
             lm.model.name()
         ),
     };
     Ok(ladderfan::plot::line_plot(&LinePlot {
         title,
         x_label,
-        y_label: format!("E{reference} [{}]", u.energy_unit()),
+        y_label: format!("E{reference} [{}]", j.units.energy),
         curves,
         y_range: Some(j.window),
         notes,
@@ -272,7 +301,7 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.values.first().copied().unwrap_or(0.0),
         j.values.last().copied().unwrap_or(0.0),
         match j.swept {
-            Swept::Field => u.field_unit().to_string(),
+            Swept::Field => j.units.field.clone(),
             Swept::Kz => common::inverse_length(u),
         }
     );
@@ -282,11 +311,11 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
         j.tracks.len(),
         fmt_num(j.window.0, 6),
         fmt_num(j.window.1, 6),
-        u.energy_unit()
+        j.units.energy
     ));
-    s.push_str(&closed_form_lines(j, u.energy_unit()));
+    s.push_str(&closed_form_lines(j, &j.units.energy));
     let x_ref = j.values[j.reference_point];
-    let (rows, listed) = track_rows(j, u.energy_unit(), x_ref);
+    let (rows, listed) = track_rows(j, &j.units.energy, x_ref);
     s.push('\n');
     s.push_str(&common::table(&rows));
     let hidden = j.tracks.len() - listed;

@@ -552,6 +552,22 @@ pub fn fermi_sweep(
     vs: &VolumeSettings,
     target: f64,
 ) -> Result<Vec<VolumeFermiPoint>> {
+    fermi_sweep_with(model, fields, settings, vs, target, &|| ())
+}
+
+/// [`fermi_sweep`], calling `tick` once per finished field (a front end draws its progress
+/// from it).
+///
+/// # Errors
+/// As [`fermi_sweep`].
+pub fn fermi_sweep_with(
+    model: &Model,
+    fields: &[f64],
+    settings: &Settings,
+    vs: &VolumeSettings,
+    target: f64,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Vec<VolumeFermiPoint>> {
     // in parallel over the fields (each also solves its kz points in parallel); the results
     // are kept in field order and the first failing field in that order is reported
     let points: Vec<Result<VolumeFermiPoint>> = fields
@@ -560,6 +576,7 @@ pub fn fermi_sweep(
             let at = |e: Error| at_field(e, field);
             let v = VolumeDensity::compute(model, field, settings, vs).map_err(at)?;
             let ef = v.fermi_level(target).map_err(at)?;
+            tick();
             Ok(VolumeFermiPoint {
                 field,
                 fermi_energy: ef,

@@ -1,0 +1,78 @@
+//! Progress of a long command on stderr: drawn only when stderr is a terminal and the work has
+//! run for a moment (indicatif's bar, hidden otherwise), so pipes, files and `--json` output
+//! never receive a progress byte. The library reports finished work through a `tick` callback
+//! (`ladderfan::sweep::run_with` and the other `*_with` functions); this file only draws it.
+
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use std::io::IsTerminal;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::{Duration, Instant};
+
+/// How long a command runs before its bar appears: shorter runs stay silent.
+const SHOW_AFTER: Duration = Duration::from_millis(800);
+
+/// A progress bar over `len` steps that draws itself on stderr once [`SHOW_AFTER`] has passed,
+/// and only when stderr is a terminal.
+pub struct Progress {
+    bar: ProgressBar,
+    start: Instant,
+    shown: AtomicBool,
+    terminal: bool,
+}
+
+impl Progress {
+    /// A bar for `len` steps of `what` (e.g. `fan`), counting `unit` (e.g. `points`).
+    pub fn new(what: &str, len: usize, unit: &str) -> Self {
+        let bar = ProgressBar::hidden();
+        bar.set_length(len as u64);
+        // a template error would be ours; the bar then shows the default style
+        if let Ok(style) = ProgressStyle::with_template(&format!(
+            "{{msg}} [{{bar:40}}] {{pos}}/{{len}} {unit}, eta {{eta}}"
+        )) {
+            bar.set_style(style.progress_chars("=> "));
+        }
+        bar.set_message(what.to_string());
+        Progress {
+            bar,
+            start: Instant::now(),
+            shown: AtomicBool::new(false),
+            terminal: std::io::stderr().is_terminal(),
+        }
+    }
+
+    /// A counter of steps whose number is not known in advance (e.g. the cutoffs an automatic
+    /// run tries), counting `unit`.
+    pub fn open_ended(what: &str, unit: &str) -> Self {
+        let p = Progress::new(what, 0, unit);
+        if let Ok(style) = ProgressStyle::with_template(&format!(
+            "{{msg}} {{spinner}} {{pos}} {unit}, {{elapsed}}"
+        )) {
+            p.bar.set_style(style);
+        }
+        p
+    }
+
+    /// One step done (callable from any worker thread).
+    pub fn tick(&self) {
+        self.bar.inc(1);
+        if self.terminal
+            && self.start.elapsed() > SHOW_AFTER
+            && self
+                .shown
+                .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)
+                .is_ok()
+        {
+            self.bar.set_draw_target(ProgressDrawTarget::stderr());
+        }
+    }
+
+    /// The time since the bar was made.
+    pub fn elapsed(&self) -> Duration {
+        self.start.elapsed()
+    }
+
+    /// Remove the bar (if drawn) before the command prints its result.
+    pub fn finish(&self) {
+        self.bar.finish_and_clear();
+    }
+}
