@@ -497,3 +497,69 @@ fn rashba_exact_approaches_semiclassical() {
     assert!(p.last().unwrap().1 < 0.06);
     assert!(k < -0.3, "rate {k}");
 }
+
+/// Runs the binary; returns (exit code, stdout, stderr).
+fn ladderfan(args: &[&str]) -> (i32, String, String) {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ladderfan"))
+        .args(args)
+        .output()
+        .unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+// `ladderfan orbits` at a density: spin-degenerate parabolic band (the built-in declares
+// degeneracy 2), so F = n h / (2 e) (Onsager 1952; common practice), intercept -1/2; and its
+// bad-input lines.
+#[test]
+fn orbits_command_density_and_errors() {
+    let (code, out, err) = ladderfan(&[
+        "orbits",
+        "--builtin",
+        "schrodinger",
+        "--set",
+        "mass_ratio=0.1",
+        "--density",
+        "1e12",
+        "--field",
+        "2",
+        "--levels",
+        "3",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let h = 2.0 * PI * HBAR;
+    let f_want = 1e16 * h / (2.0 * ELEMENTARY_CHARGE);
+    let f = v["fan"]["frequency"].as_f64().unwrap();
+    let beta = v["fan"]["intercept"].as_f64().unwrap();
+    assert!((f / f_want - 1.0).abs() < 1e-9, "F {f} vs {f_want}");
+    assert!((beta + 0.5).abs() < 1e-7, "intercept {beta}");
+    let onsager = v["orbit"]["onsager_frequency"].as_f64().unwrap();
+    assert!((onsager / f_want - 1.0).abs() < 1e-9);
+
+    for args in [
+        &["orbits", "--builtin", "schrodinger"][..],
+        &["orbits", "--builtin", "dirac2d", "--energy", "-5"][..],
+        &[
+            "orbits",
+            "--builtin",
+            "dirac2d",
+            "--energy",
+            "50",
+            "--band",
+            "7",
+        ][..],
+    ] {
+        let (code, out, err) = ladderfan(args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(out.is_empty());
+        assert!(
+            err.starts_with("ladderfan: error: ") && err.trim_end().lines().count() == 1,
+            "{err}"
+        );
+    }
+}

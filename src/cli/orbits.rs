@@ -132,7 +132,22 @@ fn bad(flag: &str, m: &str) -> common::CliError {
 fn fermi_energy(a: &OrbitsArgs, lm: &LoadedModel, bands: &Bands, s: &Search) -> CliResult<f64> {
     let edge = band_edge(bands, s)?;
     if let Some(e) = a.energy {
-        return common::finite_flag("--energy", e);
+        let e = common::finite_flag("--energy", e)?;
+        if edge.direction * (e - edge.energy) <= 0.0 {
+            let side = if edge.direction > 0.0 {
+                "above"
+            } else {
+                "below"
+            };
+            return Err(bad(
+                "--energy",
+                &format!(
+                    "{e} is not inside band {} (its edge at the centre is {}); give an energy                      {side} the edge, or another --band",
+                    s.band, edge.energy
+                ),
+            ));
+        }
+        return Ok(e);
     }
     let n = a.density.ok_or_else(|| {
         bad(

@@ -77,7 +77,7 @@ pub struct FanSetup {
 
 impl FanSetup {
     /// Distances d = direction (E - edge) of the exact levels with d >= -tol, ascending.
-    fn from_edge(&self, model: &Model, field: f64) -> Result<Vec<f64>> {
+    fn distances_from_edge(&self, model: &Model, field: f64) -> Result<Vec<f64>> {
         let tol = 1e-6 * (self.fermi_energy - self.edge).abs();
         let (lo, hi) = if self.direction > 0.0 {
             (self.edge - tol, self.fermi_energy)
@@ -98,7 +98,7 @@ impl FanSetup {
     fn count(&self, model: &Model, field: f64) -> Result<usize> {
         let df = self.direction * (self.fermi_energy - self.edge);
         Ok(self
-            .from_edge(model, field)?
+            .distances_from_edge(model, field)?
             .iter()
             .filter(|&&d| d < df)
             .count())
@@ -159,7 +159,7 @@ pub fn crossings(
 fn refine(model: &Model, setup: &FanSetup, k: usize, xa: f64, xb: f64) -> Result<f64> {
     let df = setup.direction * (setup.fermi_energy - setup.edge);
     let h = |x: f64| -> Result<f64> {
-        let d = setup.from_edge(model, 1.0 / x)?;
+        let d = setup.distances_from_edge(model, 1.0 / x)?;
         d.get(k).map(|v| v - df).ok_or_else(|| Error::Numerical {
             stage: "fan crossing".into(),
             detail: format!(
