@@ -50,6 +50,10 @@ pub struct OrbitsArgs {
     /// Field of the level-by-level table, in the model's field unit (default 5 T or 0.1 B_c).
     #[arg(long, allow_negative_numbers = true)]
     pub field: Option<f64>,
+    /// Add the orbital magnetic moment of the Bloch states to the bands of the level table
+    /// (the second first-order correction besides the Zeeman terms).
+    #[arg(long)]
+    pub orbital_moment: bool,
     /// Number of Onsager levels in the table.
     #[arg(long, default_value_t = 12)]
     pub levels: usize,
@@ -119,6 +123,7 @@ struct OrbitsRecord {
     units: Units,
     band: usize,
     field: f64,
+    orbital_moment: bool,
     orbit: OrbitRecord,
     levels: Vec<LevelRow>,
     fan: FanRecord,
@@ -211,7 +216,11 @@ fn level_table(
     field: f64,
     cutoff: usize,
 ) -> CliResult<(SemiSpectrum, Vec<LevelRow>)> {
-    let bands = Bands::new(&lm.model, a.kz, field)?;
+    let bands = if a.orbital_moment {
+        Bands::with_orbital_moment(&lm.model, a.kz, field)?
+    } else {
+        Bands::new(&lm.model, a.kz, field)?
+    };
     let q = Quantisation {
         units: lm.model.units(),
         charge: lm.model.charge(),
@@ -367,6 +376,7 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
         units: u,
         band,
         field,
+        orbital_moment: a.orbital_moment,
         orbit: rec,
         levels: rows,
         fan: fan_rec,
@@ -463,8 +473,13 @@ fn to_text(r: &OrbitsRecord) -> String {
         o.phase_error,
         o.onsager_frequency
     ));
+    let moment = if r.orbital_moment {
+        ", orbital moment"
+    } else {
+        "; no orbital moment"
+    };
     t.push_str(&format!(
-        "levels at B = {} {fu}: Onsager (with Berry phase and Zeeman terms) against exact\n",
+        "levels at B = {} {fu}: Onsager (with Berry phase, Zeeman terms{moment}) against exact\n",
         r.field
     ));
     t.push_str(&format!(
