@@ -228,7 +228,18 @@ fn level_table(
         index: 0,
         count: a.levels,
     };
-    let semi = semiclassical_levels(&bands, s, &q, &Resolution::default())?;
+    let semi = semiclassical_levels(&bands, s, &q, &Resolution::default()).map_err(|e| {
+        if a.orbital_moment {
+            bad(
+                "--orbital-moment",
+                &format!(
+                    "{e}; the moment correction is first order in B and can bend the band near                      its edge at this field: use a lower --field"
+                ),
+            )
+        } else {
+            e.into()
+        }
+    })?;
     let span = semi.levels.iter().map(|l| l.energy);
     let lo = span.clone().fold(f64::INFINITY, f64::min);
     let hi = span.fold(f64::NEG_INFINITY, f64::max);

@@ -12,8 +12,9 @@
 //! gamma is known modulo 2 pi, which only relabels n; it is made continuous in E starting from
 //! its representative in [-pi/2, 3 pi/2) at the band edge. Field-linear (Zeeman-like) terms of
 //! the model are in the bands at the field of the levels ([`Bands::new`]): the first Zeeman
-//! correction. The orbital moment of the Bloch states (the other O(B) correction) is not
-//! included, so for a gapped model the levels carry an O(level spacing x gap / E) error.
+//! correction. The orbital moment of the Bloch states (the other O(B) correction) is in the
+//! bands only when they are built with [`Bands::with_orbital_moment`]; without it a gapped
+//! model's levels carry an O(level spacing x gap / E) error.
 //!
 //! # Method
 //! g(E) = A l_B^2 / (2 pi) + gamma / (2 pi) - 1/2 is sampled from the band edge outward on a grid
