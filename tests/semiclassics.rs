@@ -553,6 +553,24 @@ fn orbits_command_density_and_errors() {
             "--band",
             "7",
         ][..],
+        &[
+            "orbits",
+            "--builtin",
+            "dirac2d",
+            "--energy",
+            "50",
+            "--levels",
+            "100000",
+        ][..],
+        &[
+            "orbits",
+            "--builtin",
+            "schrodinger",
+            "--energy",
+            "20",
+            "--cutoff",
+            "1000000000",
+        ][..],
     ] {
         let (code, out, err) = ladderfan(args);
         assert_eq!(code, 2, "{args:?}: {err}");

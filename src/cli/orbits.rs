@@ -54,7 +54,7 @@ pub struct OrbitsArgs {
     /// (the second first-order correction besides the Zeeman terms).
     #[arg(long)]
     pub orbital_moment: bool,
-    /// Number of Onsager levels in the table.
+    /// Number of Onsager levels in the table (1 to 500).
     #[arg(long, default_value_t = 12)]
     pub levels: usize,
     /// Lowest |B| of the fan (default F / 25, F the Onsager frequency).
@@ -360,8 +360,11 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
             Units::Natural => 1.0,
         },
     };
-    if a.levels == 0 {
-        return Err(bad("--levels", "ask for at least 1 level"));
+    if a.levels == 0 || a.levels > 500 {
+        return Err(bad(
+            "--levels",
+            "ask for 1 to 500 levels (each Onsager level costs a few contours)",
+        ));
     }
     let (_, rec) = zero_field_orbit(&lm, &s, a)?;
     let direction = band_edge(&Bands::new(&lm.model, a.kz, 0.0)?, &s)?.direction;
