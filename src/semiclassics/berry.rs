@@ -50,8 +50,10 @@ pub fn wilson_loop(bands: &Bands, band: usize, contour: &Contour) -> Result<Wils
         return Err(Error::Numerical {
             stage: "Berry phase".into(),
             detail: format!(
-                "band {band} touches another band on the contour at energy {} (gap {min_gap:e}); \
-                 the phase of a single band is undefined there, pick another energy",
+                "band {band} touches another band on the contour at energy {} (gap {min_gap:e}): \
+                 the phase of a single band is undefined there; pick an energy where the band is \
+                 alone (bands degenerate everywhere, such as the spin pairs of dirac or bhz at \
+                 zero field, need a many-band Wilson loop, not available yet)",
                 contour.energy
             ),
         });
