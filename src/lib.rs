@@ -58,6 +58,7 @@ pub mod policy;
 pub mod problem;
 pub mod records;
 pub mod sectors;
+pub mod semiclassics;
 pub mod shard;
 pub mod solve;
 pub mod sweep;

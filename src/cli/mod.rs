@@ -23,6 +23,7 @@ pub mod levels;
 pub mod merge;
 pub mod models;
 pub mod optics;
+pub mod orbits;
 pub mod output;
 pub mod parse;
 pub mod progress;
@@ -68,6 +69,9 @@ pub enum Command {
     Verify(verify::VerifyArgs),
     /// Convergence in the cutoff: a study over cutoffs, or the cutoff a tolerance needs.
     Converge(converge::ConvergeArgs),
+    /// Semiclassics next to the exact levels: zero-field orbit (area, mass, Berry phase),
+    /// Onsager levels, and the index-vs-1/B fan with its frequency and intercept.
+    Orbits(orbits::OrbitsArgs),
     /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
     Merge(merge::MergeArgs),
 }
@@ -86,6 +90,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Verify(a) => verify::run(&a),
         Command::Converge(a) => converge::run(&a),
         Command::Merge(a) => merge::run(&a),
+        Command::Orbits(a) => orbits::run(&a),
     }
 }
 

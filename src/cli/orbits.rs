@@ -1,0 +1,529 @@
+//! `ladderfan orbits`: the semiclassical picture of a model next to its exact levels: the
+//! zero-field orbit at a Fermi energy (area, cyclotron mass, Berry phase), Onsager levels against
+//! exact levels, and the index-vs-1/B fan an experiment would fit, with the DOS Fourier frequency.
+
+use super::common::{self, emit, emit_json, load_model, CliResult, LoadedModel, ModelArgs};
+use super::common::{OutputArgs, OutputFiles};
+use clap::Args;
+use ladderfan::observables::dos::Broadening;
+use ladderfan::semiclassics::fan::{
+    crossings, exact_levels, fit_fan, onsager_frequency, predicted_intercept, Crossing, FanSetup,
+    LineFit,
+};
+use ladderfan::semiclassics::fft::{dominant_frequency, dos_trace, FrequencyPeak};
+use ladderfan::semiclassics::figure::{fan_figure, levels_figure};
+use ladderfan::semiclassics::onsager::{
+    band_edge, semiclassical_levels, Quantisation, SemiSpectrum,
+};
+use ladderfan::semiclassics::orbit::{
+    area_slope, cyclotron_mass, energy_for_area, orbit, Orbit, Resolution,
+};
+use ladderfan::semiclassics::{Bands, Search};
+use ladderfan::units::Units;
+use serde::Serialize;
+use std::f64::consts::PI;
+
+/// Flags of `ladderfan orbits`.
+#[derive(Debug, Clone, Args)]
+pub struct OrbitsArgs {
+    #[command(flatten)]
+    pub model: ModelArgs,
+    /// Band, counted from 0 (lowest) at the centre (default: the lowest band of the upper half).
+    #[arg(long)]
+    pub band: Option<usize>,
+    /// Centre of the orbits, kx (band extremum), in the model's inverse length unit.
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    pub center_kx: f64,
+    /// Centre of the orbits, ky.
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    pub center_ky: f64,
+    /// Wave number along the field.
+    #[arg(long, default_value_t = 0.0, allow_negative_numbers = true)]
+    pub kz: f64,
+    /// Fermi energy in the model's energy unit.
+    #[arg(long, allow_negative_numbers = true, conflicts_with = "density")]
+    pub energy: Option<f64>,
+    /// Carrier density in cm^-2 (lab units) or per (hbar/mc)^2 (natural units), counting the
+    /// model's spin/valley degeneracy; sets the Fermi energy from the zero-field orbit.
+    #[arg(long)]
+    pub density: Option<f64>,
+    /// Field of the level-by-level table, in the model's field unit (default 5 T or 0.1 B_c).
+    #[arg(long, allow_negative_numbers = true)]
+    pub field: Option<f64>,
+    /// Add the orbital magnetic moment of the Bloch states to the bands of the level table
+    /// (the second first-order correction besides the Zeeman terms).
+    #[arg(long)]
+    pub orbital_moment: bool,
+    /// Number of Onsager levels in the table (1 to 500).
+    #[arg(long, default_value_t = 12)]
+    pub levels: usize,
+    /// Lowest |B| of the fan (default F / 25, F the Onsager frequency).
+    #[arg(long)]
+    pub b_min: Option<f64>,
+    /// Highest |B| of the fan (default F / 3).
+    #[arg(long)]
+    pub b_max: Option<f64>,
+    /// Lorentzian half width of the levels for the DOS, energy unit (default 0.15 hbar omega_c
+    /// at the lowest field).
+    #[arg(long)]
+    pub broadening: Option<f64>,
+    /// Orbital cutoff of the exact solves (default 4 F / B_min + 60).
+    #[arg(long)]
+    pub cutoff: Option<usize>,
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// The zero-field orbit at the Fermi energy.
+#[derive(Debug, Serialize)]
+struct OrbitRecord {
+    fermi_energy: f64,
+    band_edge: f64,
+    area: f64,
+    area_error: f64,
+    area_slope: f64,
+    cyclotron_mass: f64,
+    mass_error: f64,
+    berry_phase: f64,
+    phase_error: f64,
+    rays: usize,
+    onsager_frequency: f64,
+}
+
+/// One row of the level table.
+#[derive(Debug, Serialize)]
+struct LevelRow {
+    n: usize,
+    semiclassical: f64,
+    exact: f64,
+    miss_over_spacing: f64,
+}
+
+/// The fan fit.
+#[derive(Debug, Serialize)]
+struct FanRecord {
+    b_min: f64,
+    b_max: f64,
+    crossings: Vec<(usize, f64)>,
+    frequency: f64,
+    frequency_error: f64,
+    intercept: f64,
+    intercept_error: f64,
+    predicted_intercept: f64,
+    fft_frequency: f64,
+    fft_uncertainty: f64,
+    broadening: f64,
+}
+
+/// The whole result (JSON).
+#[derive(Debug, Serialize)]
+struct OrbitsRecord {
+    model: String,
+    origin: String,
+    units: Units,
+    band: usize,
+    field: f64,
+    orbital_moment: bool,
+    orbit: OrbitRecord,
+    levels: Vec<LevelRow>,
+    fan: FanRecord,
+}
+
+fn bad(flag: &str, m: &str) -> common::CliError {
+    common::bad_flag(flag, m)
+}
+
+/// The Fermi energy from --energy or --density.
+fn fermi_energy(a: &OrbitsArgs, lm: &LoadedModel, bands: &Bands, s: &Search) -> CliResult<f64> {
+    let edge = band_edge(bands, s)?;
+    if let Some(e) = a.energy {
+        let e = common::finite_flag("--energy", e)?;
+        if edge.direction * (e - edge.energy) <= 0.0 {
+            let side = if edge.direction > 0.0 {
+                "above"
+            } else {
+                "below"
+            };
+            return Err(bad(
+                "--energy",
+                &format!(
+                    "{e} is not inside band {} (its edge at the centre is {}); give an energy                      {side} the edge, or another --band",
+                    s.band, edge.energy
+                ),
+            ));
+        }
+        return Ok(e);
+    }
+    let n = a.density.ok_or_else(|| {
+        bad(
+            "--energy",
+            "give the Fermi energy (--energy) or a density (--density)",
+        )
+    })?;
+    let per_area = match lm.model.units() {
+        Units::Lab => n * 1e-14,
+        Units::Natural => n,
+    };
+    let target = 4.0 * PI * PI * per_area / f64::from(lm.model.degeneracy());
+    let mut span = (bands.energy(s.band, s.center.0 + s.k_max, s.center.1)? - edge.energy).abs();
+    for _ in 0..60 {
+        let r = energy_for_area(bands, s, 0, target, edge.energy, edge.direction, span, 128);
+        match r {
+            Ok(e) => return Ok(e),
+            Err(ladderfan::Error::BadNumber { .. }) => span *= 2.0,
+            Err(e) => return Err(e.into()),
+        }
+    }
+    Err(bad(
+        "--density",
+        "no orbit of that area in the band; give a smaller density",
+    ))
+}
+
+fn zero_field_orbit(
+    lm: &LoadedModel,
+    s: &Search,
+    a: &OrbitsArgs,
+) -> CliResult<(Orbit, OrbitRecord)> {
+    let bands = Bands::new(&lm.model, a.kz, 0.0)?;
+    let ef = fermi_energy(a, lm, &bands, s)?;
+    let edge = band_edge(&bands, s)?;
+    let o = orbit(&bands, s, ef, 0, &Resolution::default())?;
+    let h = 1e-2 * (ef - edge.energy).abs();
+    let (da, da_err) = area_slope(&bands, s, ef, 0, h, o.contour.rays())?;
+    let u = lm.model.units();
+    let rec = OrbitRecord {
+        fermi_energy: ef,
+        band_edge: edge.energy,
+        area: o.area,
+        area_error: o.area_error,
+        area_slope: da,
+        cyclotron_mass: cyclotron_mass(u, da),
+        mass_error: cyclotron_mass(u, da_err).abs(),
+        berry_phase: o.berry_phase,
+        phase_error: o.phase_error,
+        rays: o.contour.rays(),
+        onsager_frequency: onsager_frequency(u, o.area, lm.model.charge()),
+    };
+    Ok((o, rec))
+}
+
+/// Onsager levels at `field` against the nearest exact levels.
+fn level_table(
+    lm: &LoadedModel,
+    s: &Search,
+    a: &OrbitsArgs,
+    field: f64,
+    cutoff: usize,
+) -> CliResult<(SemiSpectrum, Vec<LevelRow>)> {
+    let bands = if a.orbital_moment {
+        Bands::with_orbital_moment(&lm.model, a.kz, field)?
+    } else {
+        Bands::new(&lm.model, a.kz, field)?
+    };
+    let q = Quantisation {
+        units: lm.model.units(),
+        charge: lm.model.charge(),
+        field,
+        index: 0,
+        count: a.levels,
+    };
+    let semi = semiclassical_levels(&bands, s, &q, &Resolution::default()).map_err(|e| {
+        if a.orbital_moment {
+            bad(
+                "--orbital-moment",
+                &format!(
+                    "{e}; the moment correction is first order in B and can bend the band near                      its edge at this field: use a lower --field"
+                ),
+            )
+        } else {
+            e.into()
+        }
+    })?;
+    let span = semi.levels.iter().map(|l| l.energy);
+    let lo = span.clone().fold(f64::INFINITY, f64::min);
+    let hi = span.fold(f64::NEG_INFINITY, f64::max);
+    let exact = exact_levels(&lm.model, field, a.kz, cutoff, (lo, hi))?;
+    let rows = semi
+        .levels
+        .iter()
+        .filter_map(|l| {
+            let i = (0..exact.len()).min_by(|&x, &y| {
+                (exact[x] - l.energy)
+                    .abs()
+                    .total_cmp(&(exact[y] - l.energy).abs())
+            })?;
+            let up = exact.get(i + 1).map(|e| e - exact[i]);
+            let down = i.checked_sub(1).map(|j| exact[i] - exact[j]);
+            let spacing = up.into_iter().chain(down).fold(f64::INFINITY, f64::min);
+            Some(LevelRow {
+                n: l.n,
+                semiclassical: l.energy,
+                exact: exact[i],
+                miss_over_spacing: (l.energy - exact[i]).abs() / spacing,
+            })
+        })
+        .collect();
+    Ok((semi, rows))
+}
+
+fn verdict(x: f64) -> &'static str {
+    if x < 0.02 {
+        "accurate"
+    } else if x < 0.2 {
+        "fair"
+    } else {
+        "fails"
+    }
+}
+
+/// The fan: crossings, fit, prediction and the DOS Fourier frequency.
+fn fan(
+    lm: &LoadedModel,
+    a: &OrbitsArgs,
+    rec: &OrbitRecord,
+    direction: f64,
+    (b_min, b_max): (f64, f64),
+    cutoff: usize,
+) -> CliResult<(Vec<Crossing>, LineFit, FrequencyPeak, FanRecord)> {
+    let setup = FanSetup {
+        edge: rec.band_edge,
+        direction,
+        fermi_energy: rec.fermi_energy,
+        kz: a.kz,
+        cutoff,
+    };
+    let sign = common::default_field(&lm.model).signum();
+    let c = crossings(&lm.model, &setup, sign * b_min, sign * b_max, 80)?;
+    let fit = fit_fan(&c, 0)?;
+    // hbar omega_c = 2 pi / (l_B^2 |dA/dE|) at the lowest field
+    let hw_min =
+        2.0 * PI * inverse_lb2(lm.model.units(), b_min, lm.model.charge()) / rec.area_slope.abs();
+    let width = match a.broadening {
+        Some(w) => common::finite_flag("--broadening", w)?,
+        None => 0.15 * hw_min,
+    };
+    let tr = dos_trace(
+        &lm.model,
+        a.kz,
+        rec.fermi_energy,
+        &Broadening::lorentzian(width),
+        (sign * b_min, sign * b_max),
+        256,
+        cutoff,
+    )?;
+    let peak = dominant_frequency(&tr, 0.3 * rec.onsager_frequency)?;
+    let record = FanRecord {
+        b_min,
+        b_max,
+        crossings: c.iter().map(|x| (x.index, x.field)).collect(),
+        frequency: fit.slope,
+        frequency_error: fit.slope_error,
+        intercept: fit.intercept,
+        intercept_error: fit.intercept_error,
+        predicted_intercept: predicted_intercept(
+            -(lm.model.charge() * sign * direction).signum() * rec.berry_phase,
+            fit.intercept,
+        ),
+        fft_frequency: peak.frequency,
+        fft_uncertainty: peak.uncertainty,
+        broadening: width,
+    };
+    Ok((c, fit, peak, record))
+}
+
+/// 1 / l_B^2 at `field`.
+fn inverse_lb2(u: Units, field: f64, charge: f64) -> f64 {
+    let lb = u.magnetic_length(field, charge);
+    1.0 / (lb * lb)
+}
+
+/// The default band: the lowest band of the upper half (the conduction band of a two-band
+/// model; band 0 of a one-component model).
+fn default_band(lm: &LoadedModel) -> usize {
+    lm.model.dim() / 2
+}
+
+/// Run `ladderfan orbits`.
+pub fn run(a: &OrbitsArgs) -> CliResult {
+    let lm = load_model(&a.model)?;
+    let u = lm.model.units();
+    let band = a.band.unwrap_or_else(|| default_band(&lm));
+    let s = Search {
+        band,
+        center: (
+            common::finite_flag("--center-kx", a.center_kx)?,
+            common::finite_flag("--center-ky", a.center_ky)?,
+        ),
+        k_max: match u {
+            Units::Lab => 0.5,
+            Units::Natural => 1.0,
+        },
+    };
+    if a.levels == 0 || a.levels > 500 {
+        return Err(bad(
+            "--levels",
+            "ask for 1 to 500 levels (each Onsager level costs a few contours)",
+        ));
+    }
+    let (_, rec) = zero_field_orbit(&lm, &s, a)?;
+    let direction = band_edge(&Bands::new(&lm.model, a.kz, 0.0)?, &s)?.direction;
+    let f = rec.onsager_frequency;
+    let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(f / 25.0))?.abs();
+    let b_max = common::finite_flag("--b-max", a.b_max.unwrap_or(f / 3.0))?.abs();
+    if !(b_min > 0.0 && b_max > b_min) {
+        return Err(bad("--b-min", "give 0 < --b-min < --b-max"));
+    }
+    let field = common::finite_flag(
+        "--field",
+        a.field
+            .or(lm.defaults.field)
+            .unwrap_or(common::default_field(&lm.model)),
+    )?;
+    let n_max = (f / b_min).max(f / field.abs()).max(a.levels as f64);
+    let cutoff = a.cutoff.unwrap_or((4.0 * n_max) as usize + 60);
+    let (semi, rows) = level_table(&lm, &s, a, field, cutoff)?;
+    let (c, fit, _, fan_rec) = fan(&lm, a, &rec, direction, (b_min, b_max), cutoff)?;
+    let record = OrbitsRecord {
+        model: lm.model.name().to_string(),
+        origin: lm.origin.clone(),
+        units: u,
+        band,
+        field,
+        orbital_moment: a.orbital_moment,
+        orbit: rec,
+        levels: rows,
+        fan: fan_rec,
+    };
+    if let Some(dir) = &a.output.out {
+        let mut files = OutputFiles::default();
+        files.add("orbits_levels.csv", levels_csv(&record));
+        files.add("orbits_fan.csv", fan_csv(&record));
+        let pts: Vec<(f64, f64)> = c
+            .iter()
+            .map(|x| (1.0 / x.field.abs(), x.index as f64))
+            .collect();
+        let fu = u.field_unit();
+        let fan_svg = fan_figure(
+            &pts,
+            fit.slope,
+            fit.intercept,
+            record.fan.predicted_intercept,
+            fu,
+        )?;
+        files.add("orbits_fan.svg", fan_svg);
+        let ex: Vec<(f64, f64)> = record
+            .levels
+            .iter()
+            .map(|r| (r.n as f64, r.exact))
+            .collect();
+        let se: Vec<(f64, f64)> = semi.levels.iter().map(|l| (l.n as f64, l.energy)).collect();
+        files.add(
+            "orbits_levels.svg",
+            levels_figure(&ex, &se, u.energy_unit())?,
+        );
+        files.write_all(dir)?;
+    }
+    if a.output.json {
+        emit_json(&record)
+    } else {
+        emit(&to_text(&record))
+    }
+}
+
+/// The unit suffix of an energy column (`meV` or `mc2`) and of a field column (`T` or `Bc`).
+fn suffixes(u: Units) -> (&'static str, &'static str) {
+    match u {
+        Units::Lab => ("meV", "T"),
+        Units::Natural => ("mc2", "Bc"),
+    }
+}
+
+fn levels_csv(r: &OrbitsRecord) -> String {
+    let (e, _) = suffixes(r.units);
+    let mut out = format!("landau_index,energy_{e},energy_semiclassical_{e},miss_over_spacing\n");
+    for l in &r.levels {
+        out.push_str(&format!(
+            "{},{},{},{}\n",
+            l.n, l.exact, l.semiclassical, l.miss_over_spacing
+        ));
+    }
+    out
+}
+
+fn fan_csv(r: &OrbitsRecord) -> String {
+    let (_, b) = suffixes(r.units);
+    let mut out = format!("landau_index,field_{b},inverse_field_inv{b}\n");
+    for (n, f) in &r.fan.crossings {
+        out.push_str(&format!("{n},{f},{}\n", 1.0 / f.abs()));
+    }
+    out
+}
+
+fn to_text(r: &OrbitsRecord) -> String {
+    let (eu, lu, fu) = (
+        r.units.energy_unit(),
+        r.units.length_unit(),
+        r.units.field_unit(),
+    );
+    let mass_unit = match r.units {
+        Units::Lab => "m_e",
+        Units::Natural => "m",
+    };
+    let o = &r.orbit;
+    let mut t = format!("model: {} ({}), band {}\n", r.model, r.origin, r.band);
+    t.push_str(&format!(
+        "zero-field orbit at E_F = {:.6} {eu} (band edge {:.6} {eu}), {} rays:\n",
+        o.fermi_energy, o.band_edge, o.rays
+    ));
+    t.push_str(&format!(
+        "  area A = {:.9e} 1/{lu}^2 (+- {:.1e})\n  cyclotron mass m* = {:.7} {mass_unit} (+- {:.1e})\n",
+        o.area, o.area_error, o.cyclotron_mass, o.mass_error
+    ));
+    t.push_str(&format!(
+        "  Berry phase {:.6} rad = {:.6} pi (+- {:.1e} rad, modulo 2 pi)\n  Onsager frequency F = hbar A / (2 pi e) = {:.6} {fu}\n",
+        o.berry_phase,
+        o.berry_phase / PI,
+        o.phase_error,
+        o.onsager_frequency
+    ));
+    let moment = if r.orbital_moment {
+        ", orbital moment"
+    } else {
+        "; no orbital moment"
+    };
+    t.push_str(&format!(
+        "levels at B = {} {fu}: Onsager (with Berry phase, Zeeman terms{moment}) against exact\n",
+        r.field
+    ));
+    t.push_str(&format!(
+        "  {:>4} {:>14} {:>14} {:>13}  verdict\n",
+        "n", "E_semi", "E_exact", "miss/spacing"
+    ));
+    for l in &r.levels {
+        t.push_str(&format!(
+            "  {:>4} {:>14.6} {:>14.6} {:>13.4}  {}\n",
+            l.n,
+            l.semiclassical,
+            l.exact,
+            l.miss_over_spacing,
+            verdict(l.miss_over_spacing)
+        ));
+    }
+    let f = &r.fan;
+    t.push_str(&format!(
+        "fan at E_F: {} exact crossings for |B| in [{:.4}, {:.4}] {fu}\n",
+        f.crossings.len(),
+        f.b_min,
+        f.b_max
+    ));
+    t.push_str(&format!(
+        "  fit n = F/B + beta: F = {:.6} +- {:.1e} {fu} (Onsager {:.6}), beta = {:.4} +- {:.1e} (Berry-phase prediction {:.4})\n",
+        f.frequency, f.frequency_error, o.onsager_frequency, f.intercept, f.intercept_error, f.predicted_intercept
+    ));
+    t.push_str(&format!(
+        "  Fourier transform of the DOS at E_F against 1/B (Lorentzian half width {:.4} {eu}, 256 fields): F = {:.4} +- {:.4} {fu}\n",
+        f.broadening, f.fft_frequency, f.fft_uncertainty
+    ));
+    t
+}
