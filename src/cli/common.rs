@@ -136,6 +136,10 @@ pub struct OutputArgs {
     /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    /// Figure formats written into `--out` by commands that draw: a comma-separated list of
+    /// svg, png, pdf (PNG at twice the SVG's size; text in the shipped DejaVu Sans font).
+    #[arg(long, value_name = "LIST", default_value = "svg")]
+    pub format: String,
 }
 
 /// A model ready to solve, with where it came from and the file's solve defaults.

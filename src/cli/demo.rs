@@ -136,7 +136,8 @@ pub fn run(a: &DemoArgs) -> CliResult {
     files.add("model.toml", DEMO_MODEL);
     files.add("levels.csv", super::levels::to_csv(&lm, &s, &idx)?);
     files.add("fan.csv", sweep::csv(&lm, &o.json)?);
-    files.add("fan.svg", sweep::svg(&lm, &o.json, o.closed.as_deref())?);
+    let fig = sweep::figure(&lm, &o.json, o.closed.as_deref(), None);
+    super::plot::add_figure(&mut files, "fan", &fig, &[ladderfan::plot::Format::Svg])?;
     let written: Vec<String> = files
         .write_all(&a.out)?
         .iter()

@@ -240,7 +240,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add("levels.csv", to_csv(&lm, &s, &idx)?);
-        let svg = ladderfan::plot::level_diagram(&ladderfan::plot::LevelDiagram {
+        let fig = ladderfan::plot::level_plot(&ladderfan::plot::LevelDiagram {
             title: format!(
                 "{}: levels at {} {}",
                 lm.model.name(),
@@ -255,8 +255,9 @@ pub fn run(a: &LevelsArgs) -> CliResult {
                     (l.label.n.max(0) as f64, l.energy)
                 })
                 .collect(),
-        })?;
-        files.add("levels.svg", svg);
+        });
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(&mut files, "levels", &fig, &formats)?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

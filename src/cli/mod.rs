@@ -25,6 +25,8 @@ pub mod models;
 pub mod optics;
 pub mod output;
 pub mod parse;
+pub mod plot;
+mod plot_json;
 pub mod render;
 pub mod sweep;
 pub mod verify;
@@ -69,6 +71,9 @@ pub enum Command {
     Converge(converge::ConvergeArgs),
     /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
     Merge(merge::MergeArgs),
+    /// Re-draw a CSV or JSON file the tools wrote (other axes, colours, labels, size, format)
+    /// without recomputing.
+    Plot(plot::PlotArgs),
 }
 
 /// Run one command.
@@ -85,6 +90,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Verify(a) => verify::run(&a),
         Command::Converge(a) => converge::run(&a),
         Command::Merge(a) => merge::run(&a),
+        Command::Plot(a) => plot::run(&a),
     }
 }
 

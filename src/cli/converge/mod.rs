@@ -23,10 +23,11 @@ use ladderfan::records::{ModelRecord, UnitsRecord};
 use ladderfan::trust::converge::{
     auto, study, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff, Selection, Study,
 };
-use ladderfan::trust::report::{study_csv, study_json, study_svg_string};
+use ladderfan::trust::report::{study_csv, study_json};
 use ladderfan::trust::window::EnergyWindow;
 use ladderfan::Settings;
 
+mod figure;
 mod tables;
 pub use tables::{auto_table, study_table};
 
@@ -295,7 +296,13 @@ fn run_study(
         let mut files = OutputFiles::default();
         files.add("converge.csv", study_csv(&st)?);
         files.add("converge.json", study_json(&st)?);
-        files.add("converge.svg", study_svg_string(&st)?);
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(
+            &mut files,
+            "converge",
+            &figure::convergence_plot(&st),
+            &formats,
+        )?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

@@ -8,7 +8,7 @@ use super::common::{
 use clap::Args;
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use ladderfan::models;
-use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::plot::{Colouring, Curve, LegendEntry, LinePlot, Rgb, Stroke};
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
 pub use ladderfan::records::{SweepJson, Swept};
 use ladderfan::shard::{KeepGroups, Shard, ShardHeader};
@@ -16,7 +16,7 @@ use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
 
 mod render;
-pub use render::{csv, summary, svg};
+pub use render::{csv, figure, summary};
 use std::collections::BTreeMap;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant};
@@ -409,10 +409,8 @@ pub fn finish(lm: &LoadedModel, o: &Outcome, output: &common::OutputArgs, stem: 
     if let Some(dir) = &output.out {
         let mut files = common::OutputFiles::default();
         files.add(&format!("{stem}.csv"), csv(lm, &o.json)?);
-        files.add(
-            &format!("{stem}.svg"),
-            svg(lm, &o.json, o.closed.as_deref())?,
-        );
+        let fig = figure(lm, &o.json, o.closed.as_deref(), None);
+        super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         written = files.write_all(dir)?;
     }
     if output.json {
