@@ -397,7 +397,7 @@ fn draw_curves(
     ya: &Axis,
     cs: Option<&ColourScale>,
 ) -> Vec<(f64, String, Rgb)> {
-    let mut px: Vec<(bool, Vec<Option<P>>)> = p
+    let mut px: Vec<(u8, Vec<Option<P>>)> = p
         .curves
         .iter()
         .map(|c| (c.stroke as u8, pixels(c, xa, ya, lay)))
