@@ -439,7 +439,16 @@ fn draw_curves(
                 run.iter().for_each(|q| s.dot((q.0, q.1), 2.5, base));
             }
         }
-        if let (Some(text), Some(last)) = (&c.label, runs.last().and_then(|r| r.last())) {
+        // the end nearest the right edge (the first point on a 1/x axis)
+        let ends_of = [
+            runs.first().and_then(|r| r.first()),
+            runs.last().and_then(|r| r.last()),
+        ];
+        let right_end = ends_of
+            .into_iter()
+            .flatten()
+            .max_by(|a, b| a.0.total_cmp(&b.0));
+        if let (Some(text), Some(last)) = (&c.label, right_end) {
             if last.0 >= lay.right - 0.03 * (lay.right - lay.left) {
                 let col = match (by_value, cs) {
                     (true, Some(sc)) => scale_colour(sc, last.2),
