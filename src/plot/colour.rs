@@ -75,9 +75,8 @@ mod tests {
 
     #[test]
     fn categorical_colours_are_distinct() {
-        for i in 0..CATEGORICAL.len() {
-            for j in 0..i {
-                let (a, b) = (CATEGORICAL[i], CATEGORICAL[j]);
+        for (i, a) in CATEGORICAL.iter().enumerate() {
+            for (j, b) in CATEGORICAL.iter().enumerate().take(i) {
                 let d = (a.0 as i32 - b.0 as i32).abs()
                     + (a.1 as i32 - b.1 as i32).abs()
                     + (a.2 as i32 - b.2 as i32).abs();

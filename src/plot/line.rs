@@ -356,9 +356,9 @@ fn breaks(p: &LinePlot, c: &Curve, pts: &[Option<P>], lay: &Layout) -> Vec<bool>
         vec![false; pts.len()]
     };
     if p.split_at_zero_x || p.x_scale == Scale::Inverse {
-        for i in 1..c.points.len() {
-            if c.points[i - 1].0 * c.points[i].0 < 0.0 {
-                b[i] = true;
+        for (i, w) in c.points.windows(2).enumerate() {
+            if w[0].0 * w[1].0 < 0.0 {
+                b[i + 1] = true;
             }
         }
     }
