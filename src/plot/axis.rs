@@ -182,7 +182,8 @@ mod tests {
         assert_eq!(t[1].1, "2");
         let t = nice_ticks(0.013, 0.071, 6);
         assert!(t.iter().all(|p| p.0 >= 0.013 && p.0 <= 0.071));
-        assert_eq!(t[0].1, "0.020");
+        // step 0.01 (1-2-5 rule), so two decimals
+        assert_eq!(t[0].1, "0.02");
     }
 
     #[test]

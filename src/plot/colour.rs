@@ -24,14 +24,14 @@ pub fn categorical(k: usize) -> Rgb {
 }
 
 /// Anchors of the continuous scale at u = 0, 0.25, 0.5, 0.75, 1: deep indigo, steel blue,
-/// green-teal, olive-yellow, orange. Lightness rises monotonically, so the order survives a
+/// green-teal, olive-yellow, light gold. Lightness rises monotonically, so the order survives a
 /// grey-scale print.
 const ANCHORS: [Rgb; 5] = [
     Rgb(45, 27, 105),
     Rgb(38, 104, 170),
     Rgb(40, 160, 130),
     Rgb(176, 196, 60),
-    Rgb(245, 160, 40),
+    Rgb(250, 215, 90),
 ];
 
 /// Colour of u in [0, 1] (clamped; NaN gives grey) on the continuous scale.
