@@ -484,24 +484,33 @@ fn draw_graded(s: &mut Svg, run: &[P], c: &Curve, sc: &ColourScale) {
     }
 }
 
-/// Labels right of the frame at their lines' ends, pushed apart to one line height; those
-/// pushed below the frame are left out.
+/// Labels right of the frame at their lines' ends, pushed apart to one line height (down
+/// first, then back up from the bottom of the frame); those that still do not fit between the
+/// top and bottom of the frame are left out.
 fn draw_labels(s: &mut Svg, lay: &Layout, mut ends: Vec<(f64, String, Rgb)>) {
     ends.sort_by(|a, b| a.0.total_cmp(&b.0));
-    let mut last = f64::NEG_INFINITY;
+    let step = LABEL + 1.0;
+    let mut ys: Vec<f64> = Vec::with_capacity(ends.len());
+    for e in &ends {
+        let y = ys.last().map_or(e.0, |&l: &f64| e.0.max(l + step));
+        ys.push(y);
+    }
+    let mut next = lay.bottom;
+    for y in ys.iter_mut().rev() {
+        *y = y.min(next);
+        next = *y - step;
+    }
     s.group("labels");
-    for (y, text, colour) in ends {
-        let y = y.max(last + LABEL + 1.0);
-        if y > lay.bottom + 2.0 {
-            break;
+    for ((_, text, colour), y) in ends.iter().zip(ys) {
+        if y < lay.top {
+            continue;
         }
-        last = y;
         s.text(
             (lay.right + 6.0, y + 4.0),
             LABEL,
             Anchor::Start,
-            colour,
-            &text,
+            *colour,
+            text,
             false,
         );
     }
