@@ -528,7 +528,11 @@ fn plus_and_minus_e_n_of_the_gapped_2d_dirac_model_share_n_in_levels_verify_and_
     ]);
     assert_eq!(r.code, 0, "{}", r.stderr);
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
+    let texts: Vec<String> = ladderfan::plot::geometry::text_boxes(&svg)
+        .into_iter()
+        .map(|t| t.text)
+        .collect();
     for label in ["+1", "-1", "+2", "-2"] {
-        assert!(svg.lines().any(|l| l.trim() == label), "{label} missing");
+        assert!(texts.iter().any(|t| t == label), "{label} missing");
     }
 }

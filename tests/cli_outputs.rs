@@ -122,7 +122,8 @@ fn fan_tracks_follow_the_closed_form_and_write_csv_and_svg() {
     assert!(meta.contains("\"units\": \"energy meV, length nm, field T, kz 1/nm\""));
     let svg = std::fs::read_to_string(out.join("fan.svg")).unwrap_or_default();
     assert!(svg.starts_with("<svg") && svg.contains("B [T]") && svg.contains("E [meV]"));
-    assert!(svg.contains("dashed: closed form"));
+    // the key names the dashed closed-form overlay
+    assert!(svg.contains(">closed form</text>"));
 
     // no temporary files left next to the results
     let names: Vec<String> = std::fs::read_dir(&out)

@@ -146,6 +146,10 @@ pub struct OutputArgs {
     /// electron's critical field). Default: the model's own.
     #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_field_unit)]
     pub field_unit: Option<ladderfan::units::FieldUnit>,
+    /// Figure formats written into `--out` by commands that draw: a comma-separated list of
+    /// svg, png, pdf (PNG at twice the SVG's size; text in the shipped DejaVu Sans font).
+    #[arg(long, value_name = "LIST", default_value = "svg")]
+    pub format: String,
 }
 
 impl OutputArgs {

@@ -139,7 +139,8 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let rec = super::levels::to_json(&lm, &s, &idx);
     files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &rec)?)?;
     files.add_csv("fan.csv", sweep::csv(&lm, &o.json)?)?;
-    files.add("fan.svg", sweep::svg(&lm, &o.json, o.closed.as_deref())?);
+    let fig = sweep::figure(&lm, &o.json, o.closed.as_deref(), None);
+    super::plot::add_figure(&mut files, "fan", &fig, &[ladderfan::plot::Format::Svg])?;
     let written: Vec<String> = files
         .write_all(&a.out)?
         .iter()

@@ -338,7 +338,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add_csv("levels.csv", to_csv(&lm, &s, &rec)?)?;
-        let svg = ladderfan::plot::level_diagram(&ladderfan::plot::LevelDiagram {
+        let fig = ladderfan::plot::level_plot(&ladderfan::plot::LevelDiagram {
             title: format!(
                 "{}: levels at {} {}",
                 lm.model.name(),
@@ -351,8 +351,9 @@ pub fn run(a: &LevelsArgs) -> CliResult {
                 .zip(&rec.levels)
                 .map(|(&i, l)| (s.levels[i].label.n.max(0) as f64, l.energy))
                 .collect(),
-        })?;
-        files.add("levels.svg", svg);
+        });
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(&mut files, "levels", &fig, &formats)?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

@@ -27,6 +27,8 @@ pub mod orbits;
 pub mod output;
 pub mod parse;
 pub mod progress;
+pub mod plot;
+mod plot_json;
 pub mod render;
 pub mod sweep;
 pub mod verify;
@@ -74,6 +76,9 @@ pub enum Command {
     Orbits(orbits::OrbitsArgs),
     /// Join the CSV files of the shards of a sweep (`--shard K/N`) into the single-run table.
     Merge(merge::MergeArgs),
+    /// Re-draw a CSV or JSON file the tools wrote (other axes, colours, labels, size, format)
+    /// without recomputing.
+    Plot(plot::PlotArgs),
 }
 
 /// Run one command.
@@ -91,6 +96,7 @@ pub fn dispatch(command: Command) -> CliResult {
         Command::Converge(a) => converge::run(&a),
         Command::Merge(a) => merge::run(&a),
         Command::Orbits(a) => orbits::run(&a),
+        Command::Plot(a) => plot::run(&a),
     }
 }
 

@@ -24,10 +24,11 @@ use ladderfan::trust::converge::{
     auto_with, study_with, AutoResult, AutoSettings, BoundChoice, ExactValues, NeededCutoff,
     Selection, Study,
 };
-use ladderfan::trust::report::{study_json, study_svg_string};
+use ladderfan::trust::report::study_json;
 use ladderfan::trust::window::EnergyWindow;
 use ladderfan::Settings;
 
+mod figure;
 mod files;
 mod tables;
 use files::{auto_csv, study_file};
@@ -261,7 +262,13 @@ fn run_study(
         let mut files = OutputFiles::default();
         files.add_csv("converge.csv", study_file(lm, r, &st)?)?;
         files.add("converge.json", study_json(&st)?);
-        files.add("converge.svg", study_svg_string(&st)?);
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(
+            &mut files,
+            "converge",
+            &figure::convergence_plot(&st),
+            &formats,
+        )?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

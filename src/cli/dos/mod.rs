@@ -17,7 +17,7 @@ use ladderfan::observables::filling::{
 use ladderfan::observables::volume::{
     fermi_sweep_with as volume_fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
 };
-use ladderfan::plot::{line_plot, Curve, LinePlot, Stroke};
+use ladderfan::plot::{Curve, LegendEntry, LinePlot, Rgb, Stroke};
 use ladderfan::records::meta::Column;
 use ladderfan::records::{
     DosRecord, FermiRecord, ModelRecord, UnitsRecord, VolumeFermiRecord, VolumeFermiSweepRecord,
@@ -26,7 +26,10 @@ use ladderfan::records::{
 use ladderfan::{FieldPoint, Settings, Spectrum};
 
 mod render;
-use render::{dos3d_csv, dos3d_svg, dos_csv, dos_svg, fermi3d_csv, fermi_csv, fermi_svg, summary};
+use render::{
+    dos3d_csv, dos3d_plot, dos_csv, dos_plot_of, fermi3d_csv, fermi3d_plot, fermi_csv, fermi_plot,
+    summary,
+};
 
 /// Line shape flag.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -319,18 +322,27 @@ fn write_files(
     let mut files = OutputFiles::default();
     let neutrality = a.fermi.neutrality()?.resolve(spec, ld);
     files.add_csv("dos.csv", dos_csv(lm, json, ld, neutrality)?)?;
-    files.add("dos.svg", dos_svg(lm, json)?);
+    let formats = super::plot::formats(&a.output)?;
+    let fig = |files: &mut OutputFiles, stem: &str, p: &LinePlot| {
+        super::plot::add_figure(files, stem, p, &formats)
+    };
+    fig(&mut files, "dos", &dos_plot_of(lm, json))?;
     if let Some(v) = &json.volume {
         files.add_csv("dos3d.csv", dos3d_csv(lm, json, v)?)?;
-        files.add("dos3d.svg", dos3d_svg(lm, json, v)?);
+        fig(&mut files, "dos3d", &dos3d_plot(lm, json, v))?;
         if !v.fermi_sweep.is_empty() {
             files.add_csv("fermi3d.csv", fermi3d_csv(lm, json, v)?)?;
+            fig(&mut files, "fermi3d", &fermi3d_plot(lm, json, v))?;
         }
     }
     if !sweep_points.is_empty() {
         files.add_csv("fermi.csv", fermi_csv(lm, json)?)?;
         let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
-        files.add("fermi.svg", fermi_svg(lm, json, &spectra, broadening)?);
+        fig(
+            &mut files,
+            "fermi",
+            &fermi_plot(lm, json, &spectra, broadening),
+        )?;
     }
     files.write_all(dir)
 }

@@ -206,7 +206,7 @@ pub(super) fn dos_csv(
     csv_file(meta, columns, &rec)
 }
 
-pub(super) fn dos_svg(lm: &LoadedModel, j: &DosRecord) -> CliResult<String> {
+pub(super) fn dos_plot_of(lm: &LoadedModel, j: &DosRecord) -> LinePlot {
     let eu = lm.model.units().energy_unit();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; {} converged levels",
@@ -247,7 +247,7 @@ pub(super) fn dos_plot(
     dos: &[(f64, f64)],
     fermi: Option<(f64, String)>,
     note: String,
-) -> CliResult<String> {
+) -> LinePlot {
     let eu = lm.model.units().energy_unit();
     let peak = dos.iter().map(|p| p.1).fold(0.0, f64::max);
     let p = if peak > 0.0 {
@@ -256,30 +256,47 @@ pub(super) fn dos_plot(
         0.0
     };
     let unit = 10f64.powf(p);
-    let mut notes = vec![note];
     let mut curves = vec![Curve {
-        label: None,
-        color_key: 1,
-        stroke: Stroke::Solid,
+        color_key: 0,
         points: dos.iter().map(|&(e, g)| (e, g / unit)).collect(),
+        ..Curve::default()
     }];
+    let mut legend = vec![LegendEntry::solid(
+        "density of states",
+        ladderfan::plot::colour::categorical(0),
+    )];
     if let Some((ef, text)) = fermi {
         curves.push(Curve {
-            label: None,
-            color_key: 0,
             stroke: Stroke::Dashed,
             points: vec![(ef, 0.0), (ef, peak / unit)],
+            ..Curve::default()
         });
-        notes.push(text);
+        legend.push(LegendEntry::dashed("Fermi level"));
+        return LinePlot {
+            title,
+            x_label: format!("E [{eu}]"),
+            y_label: format!("DOS [1e{p} / ({eu} {per})]"),
+            curves,
+            notes: vec![note, text],
+            legend,
+            labels: false,
+            split_jumps: false,
+            split_at_zero_x: false,
+            ..LinePlot::default()
+        };
     }
-    Ok(line_plot(&LinePlot {
+    LinePlot {
         title,
         x_label: format!("E [{eu}]"),
         y_label: format!("DOS [1e{p} / ({eu} {per})]"),
         curves,
-        y_range: None,
-        notes,
-    })?)
+        notes: vec![note],
+        legend,
+        labels: false,
+        split_jumps: false,
+        split_at_zero_x: false,
+        ..LinePlot::default()
+    }
 }
 
 pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<CsvFile> {
@@ -340,7 +357,7 @@ pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> Cl
     csv_file(meta, columns, &rec)
 }
 
-pub(super) fn dos3d_svg(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<String> {
+pub(super) fn dos3d_plot(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> LinePlot {
     let eu = lm.model.units().energy_unit();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
@@ -477,12 +494,12 @@ pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<CsvFile> {
     csv_file(meta, columns, &rec)
 }
 
-pub(super) fn fermi_svg(
+pub(super) fn fermi_plot(
     lm: &LoadedModel,
     j: &DosRecord,
     spectra: &[&Spectrum],
     broadening: &Broadening,
-) -> CliResult<String> {
+) -> LinePlot {
     let u = lm.model.units();
     let eu = u.energy_unit();
     let ef: Vec<(f64, f64)> = j
@@ -507,9 +524,9 @@ pub(super) fn fermi_svg(
                 .any(|p| p.converged && p.energy > ylo && p.energy < yhi)
         })
         .map(|t| Curve {
-            label: None,
-            color_key: 3,
-            stroke: Stroke::Dashed,
+            colour: Some(Rgb(150, 150, 150)),
+            width: 1.0,
+            stroke: Stroke::Dotted,
             points: t
                 .points
                 .iter()
@@ -519,39 +536,88 @@ pub(super) fn fermi_svg(
                     (p.field, if inside { p.energy } else { f64::NAN })
                 })
                 .collect(),
+            ..Curve::default()
         })
         .collect();
     curves.push(Curve {
-        label: None,
         color_key: 1,
-        stroke: Stroke::Solid,
+        width: 2.4,
         points: ef,
+        ..Curve::default()
     });
-    Ok(line_plot(&LinePlot {
+    LinePlot {
         title: format!("Fermi level at fixed density: {}", lm.model.name()),
         x_label: format!("B [{}]", u.field_unit()),
         y_label: format!("E [{eu}]"),
         curves,
         y_range: Some((ylo, yhi)),
-        notes: vec![
-            format!(
-                "solid: Fermi level, n = {} cm^-2, T = {} K, {:?} width {}",
-                fmt_num(
-                    j.fermi_sweep.first().map(|f| f.density_cm2).unwrap_or(0.0),
-                    4
-                ),
-                j.temperature_k,
-                j.shape,
-                match broadening.scaling {
-                    WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width, 4)),
-                    WidthScaling::SqrtField { reference_field } => format!(
-                        "{} {eu} x sqrt(B / {reference_field} {})",
-                        fmt_num(broadening.width, 4),
-                        u.field_unit()
-                    ),
-                }
+        notes: vec![format!(
+            "solid: Fermi level, n = {} cm^-2, T = {} K, {:?} width {}",
+            fmt_num(
+                j.fermi_sweep.first().map(|f| f.density_cm2).unwrap_or(0.0),
+                4
             ),
-            "dashed: Landau levels (converged)".into(),
+            j.temperature_k,
+            j.shape,
+            match broadening.scaling {
+                WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width, 4)),
+                WidthScaling::SqrtField { reference_field } => format!(
+                    "{} {eu} x sqrt(B / {reference_field} {})",
+                    fmt_num(broadening.width, 4),
+                    u.field_unit()
+                ),
+            }
+        )],
+        legend: vec![
+            LegendEntry::solid("Fermi level", ladderfan::plot::colour::categorical(1)),
+            LegendEntry {
+                text: "Landau levels (converged)".into(),
+                colour: Some(Rgb(150, 150, 150)),
+                stroke: Stroke::Dotted,
+            },
         ],
-    })?)
+        labels: false,
+        split_jumps: false,
+        ..LinePlot::default()
+    }
+}
+
+/// The kz-integrated Fermi level at fixed 3D density against the field.
+pub(super) fn fermi3d_plot(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> LinePlot {
+    let u = lm.model.units();
+    let eu = u.energy_unit();
+    LinePlot {
+        title: format!(
+            "Fermi level at fixed density per volume: {}",
+            lm.model.name()
+        ),
+        x_label: format!("B [{}]", u.field_unit()),
+        y_label: format!("E_F [{eu}]"),
+        curves: vec![Curve {
+            color_key: 1,
+            width: 2.4,
+            markers: v.fermi_sweep.len() < 40,
+            points: v
+                .fermi_sweep
+                .iter()
+                .map(|p| (p.field, p.fermi_energy))
+                .collect(),
+            ..Curve::default()
+        }],
+        notes: vec![format!(
+            "{}; n = {} cm^-3, T = {} K, {:?} broadening, cutoff {}, kz integrated",
+            lm.model.name(),
+            fmt_num(v.fermi.map(|f| f.density_cm3).unwrap_or(f64::NAN), 4),
+            v.temperature_k,
+            j.shape,
+            j.cutoff
+        )],
+        legend: vec![LegendEntry::solid(
+            "Fermi level (kz integrated)",
+            ladderfan::plot::colour::categorical(1),
+        )],
+        labels: false,
+        split_jumps: false,
+        ..LinePlot::default()
+    }
 }

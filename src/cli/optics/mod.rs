@@ -16,10 +16,9 @@ use ladderfan::records::{
     transition_record, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord,
 };
 use ladderfan::{FieldPoint, Settings, Spectrum};
-use plotters::prelude::*;
 
 mod plot;
-use plot::{fan_svg, stick_svg};
+use plot::{fan_plot, stick_plot};
 use std::collections::BTreeMap;
 
 /// Flags of `ladderfan optics`.
@@ -148,12 +147,13 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add_csv("transitions.csv", to_csv(lm, json)?)?;
-        let svg = if json.points.len() > 1 {
-            fan_svg(lm, json)?
+        let fig = if json.points.len() > 1 {
+            fan_plot(lm, json)
         } else {
-            stick_svg(lm, json)?
+            stick_plot(lm, json)
         };
-        files.add("transitions.svg", svg);
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(&mut files, "transitions", &fig, &formats)?;
         written = files.write_all(dir)?;
     }
     if a.output.json {

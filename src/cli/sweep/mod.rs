@@ -7,7 +7,7 @@ use super::common::{
 };
 use clap::Args;
 use ladderfan::models;
-use ladderfan::plot::{Curve, LinePlot, Stroke};
+use ladderfan::plot::{Colouring, Curve, LegendEntry, LinePlot, Rgb, Stroke};
 use ladderfan::records::meta::Column;
 use ladderfan::records::{self, ModelRecord, SymmetryRecord, TrackRecord, UnitsRecord};
 pub use ladderfan::records::{SweepJson, Swept};
@@ -16,7 +16,7 @@ use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
 
 mod render;
-pub use render::{csv, summary, svg};
+pub use render::{csv, figure, summary};
 use std::collections::BTreeMap;
 
 /// Flags shared by every sweep.
@@ -431,10 +431,8 @@ pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &
     if let Some(dir) = &output.out {
         let mut files = common::OutputFiles::default();
         files.add_csv(&format!("{stem}.csv"), csv(lm, &o.json)?)?;
-        files.add(
-            &format!("{stem}.svg"),
-            svg(lm, &o.json, o.closed.as_deref())?,
-        );
+        let fig = figure(lm, &o.json, o.closed.as_deref(), None);
+        super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         written = files.write_all(dir)?;
     }
     if output.json {

@@ -134,55 +134,106 @@ fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
     cells
 }
 
-/// The SVG plot of the tracks, with the closed form dashed when given.
-pub fn svg(
+/// A per-point quantity that colours the lines of a sweep figure on a continuous scale with a
+/// colour bar: its name (with unit) and, per track, one value per swept point (NaN: none).
+/// No command passes one yet: the per-level component weights arrive with the level-character
+/// work, and the fan then colours by the weight the user names.
+#[allow(dead_code)]
+pub struct PointColours<'a> {
+    /// The quantity, e.g. `weight of component 1`.
+    pub name: &'a str,
+    /// `values[track][point]`, in the order of `SweepJson::tracks` and `SweepJson::values`.
+    pub values: &'a [Vec<f64>],
+}
+
+/// The figure of the tracks: lines labelled by their Landau labels at the right edge,
+/// coloured by |n| (or by `colours`), the closed form dashed when given, lines thinned where
+/// they crowd closer than 2 px (the low-field corner of a fan).
+pub fn figure(
     lm: &LoadedModel,
     j: &SweepJson,
     closed: Option<&[Vec<(f64, f64)>]>,
-) -> CliResult<String> {
+    colours: Option<PointColours<'_>>,
+) -> LinePlot {
     let u = lm.model.units();
     let x_label = match j.swept {
         Swept::Field => format!("B [{}]", j.units.field),
         Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
-    let mut curves: Vec<Curve> = j
-        .tracks
+    let mut order: Vec<usize> = (0..j.tracks.len()).collect();
+    order.sort_by_key(|&i| {
+        (
+            j.tracks[i].n.map(|n| n.unsigned_abs()).unwrap_or(u64::MAX),
+            i,
+        )
+    });
+    let mut curves: Vec<Curve> = order
         .iter()
-        .map(|t| Curve {
-            // the label sits at the right end, for the tracks that reach it inside the window
-            label: t
-                .energies
-                .last()
-                .copied()
-                .flatten()
-                .filter(|&e| e >= j.window.0 && e <= j.window.1)
-                .map(|_| t.label.clone()),
-            color_key: (t.n.unwrap_or(0).unsigned_abs() as usize) * 3 + t.family,
-            stroke: Stroke::Solid,
-            points: j
-                .values
-                .iter()
-                .zip(&t.energies)
-                .map(|(&x, e)| (x, e.unwrap_or(f64::NAN)))
-                .collect(),
+        .map(|&i| {
+            let t = &j.tracks[i];
+            Curve {
+                label: Some(t.label.clone()),
+                color_key: t.n.map(|n| n.unsigned_abs() as usize).unwrap_or(0),
+                points: j
+                    .values
+                    .iter()
+                    .zip(&t.energies)
+                    .map(|(&x, e)| (x, e.unwrap_or(f64::NAN)))
+                    .collect(),
+                values: colours.as_ref().and_then(|c| c.values.get(i).cloned()),
+                ..Curve::default()
+            }
         })
         .collect();
-    let mut notes = vec![format!(
-        "{} ({}), cutoff {}; colour and right-hand labels: Landau level",
+    let notes = vec![format!(
+        "{} ({}), cutoff {}; lines end where levels crowd closer than 2 px",
         lm.model.name(),
         lm.origin,
         j.cutoff
     )];
+    let mut keys: Vec<usize> = curves.iter().map(|c| c.color_key).collect();
+    keys.sort_unstable();
+    keys.dedup();
+    let mut legend: Vec<LegendEntry> = Vec::new();
+    let colouring = match &colours {
+        Some(c) => {
+            legend.push(LegendEntry::solid(
+                "level (colour: scale)",
+                Rgb(120, 120, 120),
+            ));
+            Colouring::Values {
+                name: c.name.to_string(),
+                range: None,
+            }
+        }
+        None => {
+            if keys.len() <= ladderfan::plot::colour::CATEGORICAL.len() {
+                legend.extend(keys.iter().map(|&k| {
+                    LegendEntry::solid(
+                        format!("|n| = {k}"),
+                        ladderfan::plot::colour::categorical(k),
+                    )
+                }));
+            } else {
+                legend.push(LegendEntry::solid(
+                    "level (colour: |n|)",
+                    Rgb(120, 120, 120),
+                ));
+            }
+            Colouring::Key {
+                name: "Landau index |n|".into(),
+            }
+        }
+    };
     if let Some(cf) = closed {
         for c in cf {
             curves.push(Curve {
-                label: None,
-                color_key: 0,
                 stroke: Stroke::Dashed,
                 points: c.clone(),
+                ..Curve::default()
             });
         }
-        notes.push("dashed: closed form".into());
+        legend.push(LegendEntry::dashed("closed form"));
     }
     let reference = if j.reference_energy != 0.0 {
         format!(" - {}", fmt_num(j.reference_energy, 6))
@@ -198,14 +249,19 @@ pub fn svg(
             lm.model.name()
         ),
     };
-    Ok(ladderfan::plot::line_plot(&LinePlot {
+    LinePlot {
         title,
         x_label,
         y_label: format!("E{reference} [{}]", j.units.energy),
         curves,
         y_range: Some(j.window),
         notes,
-    })?)
+        legend,
+        colouring,
+        thin_px: 2.0,
+        split_at_zero_x: j.swept == Swept::Field,
+        ..LinePlot::default()
+    }
 }
 
 /// Human-readable summary: the tracks at the reference point.
