@@ -279,6 +279,20 @@ fn commands() -> Vec<Vec<&'static str>> {
     }
     v.push(vec!["models"]);
     v.push(vec!["demo"]);
+    // the semiclassics command (its own cutoff choice; a small parabolic-band run)
+    v.push(vec![
+        "orbits",
+        "--builtin",
+        "schrodinger",
+        "--set",
+        "mass_ratio=0.1",
+        "--density",
+        "1e12",
+        "--field",
+        "2",
+        "--levels",
+        "3",
+    ]);
     v
 }
 

@@ -38,6 +38,8 @@ COMMANDS = [
     (["optics", "--builtin", "dirac2d", "--b-max", "6", "--points", "3", "--cutoff", "24"], "optics-fan"),
     (["models"], "models"),
     (["demo"], "demo"),
+    (["orbits", "--builtin", "schrodinger", "--set", "mass_ratio=0.1", "--density", "1e12",
+      "--field", "2", "--levels", "3"], "orbits"),
 ]
 
 SHARD_SWEEP = ["fan", "--builtin", "dirac2d", "--points", "6", "--b-max", "5", "--cutoff", "24"]
@@ -45,6 +47,7 @@ SHARD_SWEEP = ["fan", "--builtin", "dirac2d", "--points", "6", "--b-max", "5", "
 EXPECTED_FILES = {
     "levels.csv", "fan.csv", "dispersion.csv", "converge.csv", "converge-auto.csv", "dos.csv",
     "fermi.csv", "dos3d.csv", "fermi3d.csv", "transitions.csv", "models.csv",
+    "orbits_levels.csv", "orbits_fan.csv",
 }
 
 

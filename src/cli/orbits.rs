@@ -3,9 +3,10 @@
 //! exact levels, and the index-vs-1/B fan an experiment would fit, with the DOS Fourier frequency.
 
 use super::common::{self, emit, emit_json, load_model, CliResult, LoadedModel, ModelArgs};
-use super::common::{OutputArgs, OutputFiles};
+use super::common::{csv_file, csv_meta, CsvFile, OutputArgs, OutputFiles};
 use clap::Args;
 use ladderfan::observables::dos::Broadening;
+use ladderfan::records::meta::Column;
 use ladderfan::semiclassics::fan::{
     crossings, exact_levels, fit_fan, onsager_frequency, predicted_intercept, Crossing, FanSetup,
     LineFit,
@@ -347,6 +348,7 @@ fn default_band(lm: &LoadedModel) -> usize {
 /// Run `ladderfan orbits`.
 pub fn run(a: &OrbitsArgs) -> CliResult {
     let lm = load_model(&a.model)?;
+    common::native_units_only(&a.output, "orbits")?;
     let u = lm.model.units();
     let band = a.band.unwrap_or_else(|| default_band(&lm));
     let s = Search {
@@ -397,8 +399,8 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
     };
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
-        files.add("orbits_levels.csv", levels_csv(&record));
-        files.add("orbits_fan.csv", fan_csv(&record));
+        files.add_csv("orbits_levels.csv", levels_csv(&lm, &record)?)?;
+        files.add_csv("orbits_fan.csv", fan_csv(&lm, &record)?)?;
         let pts: Vec<(f64, f64)> = c
             .iter()
             .map(|x| (1.0 / x.field.abs(), x.index as f64))
@@ -431,33 +433,91 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
     }
 }
 
-/// The unit suffix of an energy column (`meV` or `mc2`) and of a field column (`T` or `Bc`).
-fn suffixes(u: Units) -> (&'static str, &'static str) {
-    match u {
-        Units::Lab => ("meV", "T"),
-        Units::Natural => ("mc2", "Bc"),
-    }
+/// `orbits_levels.csv`: exact against Onsager levels, level by level; model and point in the
+/// sidecar.
+fn levels_csv(lm: &LoadedModel, r: &OrbitsRecord) -> CliResult<CsvFile> {
+    let cu = common::column_units(lm);
+    let e = cu.energy_unit;
+    let meta = csv_meta(
+        lm,
+        "orbits",
+        vec![format!(
+            "energies absolute (not relative to the reference energy), {e}; Onsager levels with \
+             the Berry phase{}",
+            if r.orbital_moment {
+                " and the orbital moment"
+            } else {
+                ""
+            }
+        )],
+        vec![format!(
+            "field {} {}, band {}",
+            r.field, cu.field_unit, r.band
+        )],
+    );
+    let columns = vec![
+        Column::new("landau_index", "1", "Landau index n"),
+        Column::new(cu.energy_column(), e, "exact level energy"),
+        Column::new(
+            cu.energy_valued("energy_semiclassical"),
+            e,
+            "Onsager (semiclassical) level energy",
+        ),
+        Column::new(
+            "miss_over_spacing",
+            "1",
+            "(semiclassical - exact) over the local level spacing",
+        ),
+    ];
+    let rows: Vec<Vec<String>> = r
+        .levels
+        .iter()
+        .map(|l| {
+            vec![
+                l.n.to_string(),
+                format!("{:e}", l.exact),
+                format!("{:e}", l.semiclassical),
+                format!("{:e}", l.miss_over_spacing),
+            ]
+        })
+        .collect();
+    csv_file(meta, columns, &rows)
 }
 
-fn levels_csv(r: &OrbitsRecord) -> String {
-    let (e, _) = suffixes(r.units);
-    let mut out = format!("landau_index,energy_{e},energy_semiclassical_{e},miss_over_spacing\n");
-    for l in &r.levels {
-        out.push_str(&format!(
-            "{},{},{},{}\n",
-            l.n, l.exact, l.semiclassical, l.miss_over_spacing
-        ));
-    }
-    out
-}
-
-fn fan_csv(r: &OrbitsRecord) -> String {
-    let (_, b) = suffixes(r.units);
-    let mut out = format!("landau_index,field_{b},inverse_field_inv{b}\n");
-    for (n, f) in &r.fan.crossings {
-        out.push_str(&format!("{n},{f},{}\n", 1.0 / f.abs()));
-    }
-    out
+/// `orbits_fan.csv`: the fields where exact level n crosses the Fermi energy.
+fn fan_csv(lm: &LoadedModel, r: &OrbitsRecord) -> CliResult<CsvFile> {
+    let cu = common::column_units(lm);
+    let meta = csv_meta(
+        lm,
+        "orbits",
+        vec!["index n of the exact level crossing the Fermi energy at that field".into()],
+        vec![format!(
+            "fit n = F/B + beta: F = {} {}, beta = {}",
+            r.fan.frequency, cu.field_unit, r.fan.intercept
+        )],
+    );
+    let columns = vec![
+        Column::new("landau_index", "1", "Landau index n of the crossing level"),
+        Column::new(cu.field_column(), cu.field_unit, "field of the crossing"),
+        Column::new(
+            format!("inverse_field_per_{}", cu.field),
+            format!("1/{}", cu.field_unit),
+            "1/|B| of the crossing",
+        ),
+    ];
+    let rows: Vec<Vec<String>> = r
+        .fan
+        .crossings
+        .iter()
+        .map(|(n, f)| {
+            vec![
+                n.to_string(),
+                format!("{f:e}"),
+                format!("{:e}", 1.0 / f.abs()),
+            ]
+        })
+        .collect();
+    csv_file(meta, columns, &rows)
 }
 
 fn to_text(r: &OrbitsRecord) -> String {
