@@ -173,10 +173,15 @@ fn fan_fields_take_suffixes_and_convert_on_output() {
     assert!((f(&plus1["mean_n"][3]) - 0.5).abs() < 1e-6);
     let csv = std::fs::read_to_string(dir.join("fan.csv")).unwrap_or_default();
     assert!(
-        csv.contains("energy_invcm,bound_invcm,weight_A,weight_B,mean_n"),
+        csv.contains("energy_invcm,bound_invcm,weight_a,weight_b,mean_n"),
         "{csv}"
     );
-    assert!(csv.contains("# units: energy cm^-1, length nm, field B_c"));
+    // the units sit in the sidecar (the CSV has no comment line)
+    let meta = std::fs::read_to_string(dir.join("fan.meta.json")).unwrap_or_default();
+    assert!(
+        meta.contains("energy cm^-1, length nm, field B_c"),
+        "{meta}"
+    );
 }
 
 #[test]
@@ -193,7 +198,7 @@ fn levels_character_in_table_and_csv() {
         .lines()
         .find(|l| !l.starts_with('#'))
         .unwrap_or_default();
-    assert!(header.ends_with("weight_A,weight_B,mean_n"), "{header}");
+    assert!(header.ends_with("weight_a,weight_b,mean_n"), "{header}");
     // without --character: no mean_n anywhere
     let j = levels_json(&[]);
     assert!(j["levels"][0].get("mean_n").is_none());

@@ -189,7 +189,7 @@ pub(crate) fn table_plot(t: &Table, a: &PlotArgs, title: &str) -> CliResult<Line
     let group = ["track", "level", "transition"]
         .iter()
         .find_map(|q| t.find(q));
-    let label_col = ["level", "transition"]
+    let label_col = ["label", "level", "transition"]
         .iter()
         .find_map(|q| t.find(q))
         .or(group);
