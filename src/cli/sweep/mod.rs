@@ -431,7 +431,20 @@ pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &
     if let Some(dir) = &output.out {
         let mut files = common::OutputFiles::default();
         files.add_csv(&format!("{stem}.csv"), csv(lm, &o.json)?)?;
-        let fig = figure(lm, &o.json, o.closed.as_deref(), None);
+        // with --character the figure is coloured by the weight of the first component
+        let weights = first_weights(&o.json);
+        let name = format!(
+            "weight of component {}",
+            lm.model
+                .component_names()
+                .first()
+                .map_or("0", String::as_str)
+        );
+        let colours = weights.as_ref().map(|values| render::PointColours {
+            name: &name,
+            values,
+        });
+        let fig = figure(lm, &o.json, o.closed.as_deref(), colours);
         super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         written = files.write_all(dir)?;
     }
@@ -487,4 +500,28 @@ mod tests {
         assert!(verdict(Some(&c)).is_ok());
         assert!(verdict(None).is_ok());
     }
+}
+
+/// Per track and swept point, the weight of the model's first component (NaN where the track
+/// has no value there), when the sweep computed the level character; `None` otherwise.
+fn first_weights(j: &SweepJson) -> Option<Vec<Vec<f64>>> {
+    if !j.tracks.iter().any(|t| t.weights.is_some()) {
+        return None;
+    }
+    Some(
+        j.tracks
+            .iter()
+            .map(|t| {
+                (0..j.values.len())
+                    .map(|i| {
+                        t.weights
+                            .as_ref()
+                            .and_then(|w| w.get(i).cloned().flatten())
+                            .and_then(|w| w.first().copied())
+                            .unwrap_or(f64::NAN)
+                    })
+                    .collect()
+            })
+            .collect(),
+    )
 }

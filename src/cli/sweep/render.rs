@@ -136,9 +136,7 @@ fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
 
 /// A per-point quantity that colours the lines of a sweep figure on a continuous scale with a
 /// colour bar: its name (with unit) and, per track, one value per swept point (NaN: none).
-/// No command passes one yet: the per-level component weights arrive with the level-character
-/// work, and the fan then colours by the weight the user names.
-#[allow(dead_code)]
+/// `fan`/`dispersion --character` pass the weight of the model's first component.
 pub struct PointColours<'a> {
     /// The quantity, e.g. `weight of component 1`.
     pub name: &'a str,
