@@ -472,6 +472,30 @@ pub fn verdict(c: Option<&verify::ClosedFormCheck>) -> CliResult {
     }
 }
 
+/// Per track and swept point, the weight of the model's first component (NaN where the track
+/// has no value there), when the sweep computed the level character; `None` otherwise.
+fn first_weights(j: &SweepJson) -> Option<Vec<Vec<f64>>> {
+    if !j.tracks.iter().any(|t| t.weights.is_some()) {
+        return None;
+    }
+    Some(
+        j.tracks
+            .iter()
+            .map(|t| {
+                (0..j.values.len())
+                    .map(|i| {
+                        t.weights
+                            .as_ref()
+                            .and_then(|w| w.get(i).cloned().flatten())
+                            .and_then(|w| w.first().copied())
+                            .unwrap_or(f64::NAN)
+                    })
+                    .collect()
+            })
+            .collect(),
+    )
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -500,28 +524,4 @@ mod tests {
         assert!(verdict(Some(&c)).is_ok());
         assert!(verdict(None).is_ok());
     }
-}
-
-/// Per track and swept point, the weight of the model's first component (NaN where the track
-/// has no value there), when the sweep computed the level character; `None` otherwise.
-fn first_weights(j: &SweepJson) -> Option<Vec<Vec<f64>>> {
-    if !j.tracks.iter().any(|t| t.weights.is_some()) {
-        return None;
-    }
-    Some(
-        j.tracks
-            .iter()
-            .map(|t| {
-                (0..j.values.len())
-                    .map(|i| {
-                        t.weights
-                            .as_ref()
-                            .and_then(|w| w.get(i).cloned().flatten())
-                            .and_then(|w| w.first().copied())
-                            .unwrap_or(f64::NAN)
-                    })
-                    .collect()
-            })
-            .collect(),
-    )
 }
