@@ -366,7 +366,7 @@ fn main() {
                 "what": "numeric::window::nearest on the unsplit band matrix (values, vectors, residuals)",
             })
         }
-        "volume" => volume_case(n, threads, &flag),
+        "volume" => volume_case(n, threads, (flag("--b-min"), flag("--b-max"))),
         other => fail(&format!(
             "unknown path {other}; use split, dense, sweep, window or volume"
         )),
@@ -387,13 +387,13 @@ fn volume_case(
 ) -> serde_json::Value {
     use ladderfan::observables::dos::Broadening;
     use ladderfan::observables::volume::{fermi_sweep, Quadrature, VolumeSettings};
-    let num = |name: &str, default: f64| {
-        flag(name).map_or(default, |v| {
+    let num = |value: Option<&str>, name: &str, default: f64| {
+        value.map_or(default, |v| {
             v.parse::<f64>()
                 .unwrap_or_else(|_| fail(&format!("bad {name}")))
         })
     };
-    let (b_min, b_max) = (num("--b-min", 2.0), num("--b-max", 10.0));
+    let (b_min, b_max) = (num(b_min, "--b-min", 2.0), num(b_max, "--b-max", 10.0));
     let model =
         models::weyl(models::WeylParams::default()).unwrap_or_else(|e| fail(&e.to_string()));
     let fields = ladderfan::sweep::grid(b_min, b_max, points, ladderfan::sweep::Spacing::Linear)

@@ -26,7 +26,10 @@
 //! agree on 401 check energies to `tolerance`: g3 relative to its largest value, n3 relative
 //! to its largest value or to that DOS times the width of the range, whichever is larger;
 //! that difference (the error of the coarser grid, an over-estimate of the finer one's) is
-//! reported as [`VolumeDensity::quadrature_error`].
+//! reported as [`VolumeDensity::quadrature_error`]. That is [`Quadrature::Uniform`], the
+//! reference; the default [`Quadrature::Adaptive`] (`adaptive.rs`) keeps the same check but
+//! sets up each field once, skips the labels, halves the kz range when [`kz_mirror`] finds
+//! U H(kz) U^-1 = H(-kz), and stops halving intervals whose sheets have no level within reach.
 //!
 //! Gaussian lines only: a Lorentzian's 1/x^2 tail makes n3 diverge logarithmically with K
 //! (every sheet far out still contributes w/(pi |E - E_l|)), so the result would depend on an
@@ -38,7 +41,7 @@
 //! 1/(meV nm^3).
 //!
 //! # Complexity
-//! One spectrum per kz point (in parallel over the points, [`crate::sweep::run`]); then
+//! One spectrum per kz point (in parallel over the points); then
 //! O(points x levels within reach) per energy.
 //!
 //! # Examples
