@@ -383,7 +383,7 @@ fn main() {
 fn volume_case(
     points: usize,
     threads: usize,
-    flag: &dyn Fn(&str) -> Option<&str>,
+    (b_min, b_max): (Option<&str>, Option<&str>),
 ) -> serde_json::Value {
     use ladderfan::observables::dos::Broadening;
     use ladderfan::observables::volume::{fermi_sweep, Quadrature, VolumeSettings};
