@@ -276,6 +276,40 @@ impl<'m> Problem<'m> {
         )
     }
 
+    /// The same problem at another kz: one new assembly, while the symmetry (sector plan) of
+    /// this problem is reused when every coupling of the new assembly is among this one's (a
+    /// problem set up at a generic kz has every coupling any kz can have); otherwise it is
+    /// detected anew. The lean path of the kz integrals (`observables::volume`).
+    ///
+    /// # Errors
+    /// Those of [`LadderHamiltonian::assemble`] for the new point.
+    pub fn at_kz(&self, kz: f64) -> Result<Problem<'m>> {
+        let point = FieldPoint { kz, ..self.point };
+        let hamiltonian = LadderHamiltonian::assemble(self.model, point, self.assembly_reference)?;
+        let symmetry = if self.settings.splitting == Splitting::Off {
+            self.plan.symmetry.clone()
+        } else {
+            let old = self.hamiltonian.couplings();
+            let covered = hamiltonian
+                .couplings()
+                .iter()
+                .all(|c| old.binary_search(c).is_ok());
+            if covered {
+                self.plan.symmetry.clone()
+            } else {
+                Symmetry::detect(&hamiltonian)
+            }
+        };
+        Self::from_parts(
+            self.model,
+            point,
+            self.settings.clone(),
+            (self.reference, self.assembly_reference),
+            hamiltonian,
+            symmetry,
+        )
+    }
+
     fn from_parts(
         model: &'m Model,
         point: FieldPoint,

@@ -4,7 +4,7 @@
 use ladderfan::models::{self, MassParams, WeylParams};
 use ladderfan::observables::dos::{landau_degeneracy_per_area, Broadening};
 use ladderfan::observables::volume::{
-    fermi_sweep, from_per_cm3, per_cm3, VolumeDensity, VolumeSettings,
+    fermi_sweep, from_per_cm3, per_cm3, Quadrature, VolumeDensity, VolumeSettings,
 };
 use ladderfan::units::{Units, ELEMENTARY_CHARGE, HBAR, HBAR2_OVER_2ME_MEV_NM2, MEV};
 use ladderfan::{Error, Settings};
@@ -233,4 +233,92 @@ fn weyl_quantum_limit_fermi_level_falls_as_one_over_the_field() {
     // a density whose Fermi level leaves the range at the lowest field is refused, naming it
     let err = fermi_sweep(&m, &[1.0, 10.0], &Settings::with_cutoff(200), &vs, 5e-5).unwrap_err();
     assert!(err.to_string().contains("at field 1"), "{err}");
+}
+
+/// The largest |a - b| of the DOS and of the carrier density of two integrals on `count`
+/// energies of the range, relative to the largest DOS and to the largest density (or that DOS
+/// times the width of the range, the scale of the library's own check).
+fn largest_differences(a: &VolumeDensity, b: &VolumeDensity, count: usize) -> (f64, f64) {
+    let (lo, hi) = a.range;
+    let es: Vec<f64> = (0..count)
+        .map(|i| lo + (hi - lo) * i as f64 / (count - 1) as f64)
+        .collect();
+    let gmax = es.iter().map(|&e| a.dos(e).abs()).fold(0.0, f64::max);
+    let nmax = es
+        .iter()
+        .map(|&e| a.carrier_density(e).abs())
+        .fold(gmax * (hi - lo), f64::max);
+    let dg = es
+        .iter()
+        .map(|&e| (a.dos(e) - b.dos(e)).abs())
+        .fold(0.0, f64::max);
+    let dn = es
+        .iter()
+        .map(|&e| (a.carrier_density(e) - b.carrier_density(e)).abs())
+        .fold(0.0, f64::max);
+    (dg / gmax, dn / nmax)
+}
+
+#[test]
+fn adaptive_path_agrees_with_the_uniform_reference_on_a_weyl_node() {
+    // Reference: Quadrature::Uniform (full solves, uniform grid halved until two grids agree
+    // to 1e-7). Both paths stop at a change of 1e-7 of the peak, so they agree within 2e-7
+    // (the sum of both stated errors); measured far below that.
+    let m = models::weyl(WeylParams::default()).unwrap(); // v = 3e5 m/s (invented)
+    let settings = Settings::with_cutoff(200);
+    let fast = VolumeSettings::new(Broadening::gaussian(1.0), (-40.0, 40.0));
+    assert_eq!(fast.quadrature, Quadrature::Adaptive, "the default");
+    let reference = VolumeSettings {
+        quadrature: Quadrature::Uniform,
+        ..fast
+    };
+    let field = 4.0;
+    let a = VolumeDensity::compute(&m, field, &settings, &reference).unwrap();
+    let b = VolumeDensity::compute(&m, field, &settings, &fast).unwrap();
+    assert!(
+        !a.even_in_kz && !b.even_in_kz,
+        "a Weyl node has no kz mirror"
+    );
+    let (dg, dn) = largest_differences(&a, &b, 161);
+    assert!(dg < 2e-7, "DOS differs by {dg:e} of its peak");
+    assert!(dn < 2e-7, "density differs by {dn:e} of its scale");
+    // the sheets beyond the chiral level's reach (|kz| > 49 meV / hbar v) are frozen early
+    assert!(
+        b.kz.len() < a.kz.len(),
+        "{} adaptive vs {} uniform points",
+        b.kz.len(),
+        a.kz.len()
+    );
+    // the Fermi level at 1e16 cm^-3 (invented) from both, within 1e-6 of the line width
+    let n3 = from_per_cm3(Units::Lab, 1e16);
+    let (ea, eb) = (a.fermi_level(n3).unwrap(), b.fermi_level(n3).unwrap());
+    assert!((ea - eb).abs() < 1e-6, "E_F {ea} vs {eb} meV");
+}
+
+#[test]
+fn adaptive_path_uses_the_mirror_of_a_gapped_dirac_model_and_agrees_with_the_reference() {
+    // 3+1 Dirac, natural units (m c^2 = 1, invented field 0.05 B_c): levels
+    // E = ±sqrt(1 + kz^2 + 2 nu B) - 1 relative to m c^2 (Johnson & Lippmann, Phys. Rev. 76,
+    // 828 (1949)), a gap of 2 m c^2 below the reference. The model has an odd power of kz
+    // (alpha_z kz) but a mirror U = alpha_x alpha_y beta, so only kz >= 0 is solved.
+    let m = models::dirac(models::RelativisticParams::default()).unwrap();
+    let settings = Settings::with_cutoff(80);
+    let fast = VolumeSettings::new(Broadening::gaussian(0.005), (-0.05, 0.3));
+    let reference = VolumeSettings {
+        quadrature: Quadrature::Uniform,
+        ..fast
+    };
+    let field = 0.05;
+    let a = VolumeDensity::compute(&m, field, &settings, &reference).unwrap();
+    let b = VolumeDensity::compute(&m, field, &settings, &fast).unwrap();
+    assert!(!a.even_in_kz, "the reference only knows even powers");
+    assert!(b.even_in_kz, "the mirror is detected");
+    assert!(b.kz.iter().all(|&k| k >= 0.0));
+    let (dg, dn) = largest_differences(&a, &b, 141);
+    assert!(dg < 2e-7, "DOS differs by {dg:e} of its peak");
+    assert!(dn < 2e-7, "density differs by {dn:e} of its scale");
+    // inside the gap above the first level (E_0(kz) = sqrt(1 + kz^2) - 1 >= 0, each kz sheet
+    // with (eB/h) states per area, Johnson & Lippmann 1949) the density at the bottom of the
+    // range, below every level by 10 widths, is zero
+    assert!(b.carrier_density(-0.05).abs() < 1e-9 * b.carrier_density(0.3));
 }

@@ -10,6 +10,10 @@
 //! compare_probe sweep P [--threads T] [--rounds R]   P-point sweep, 1 thread vs T, alternately
 //! compare_probe window N [--target E] [--count K] [--values FILE]   K levels nearest E (1.01)
 //!                                                  of the unsplit 4N-state band matrix
+//! compare_probe volume P [--threads T] [--b-min B] [--b-max B]   P-field kz-integrated Fermi
+//!                                                  sweep of the Weyl node, fixed-grid reference
+//!                                                  path against the default path (see
+//!                                                  `volume_case`)
 //! ```
 //! Setup (model, assembly of the dense matrix) is not timed; each timing is the median of
 //! repeated runs (as many as fit in about 2 s, at least 1, at most 15). `dense ... --full` also
@@ -362,7 +366,72 @@ fn main() {
                 "what": "numeric::window::nearest on the unsplit band matrix (values, vectors, residuals)",
             })
         }
-        other => fail(&format!("unknown path {other}; use split, dense, sweep or window")),
+        "volume" => volume_case(n, threads, (flag("--b-min"), flag("--b-max"))),
+        other => fail(&format!(
+            "unknown path {other}; use split, dense, sweep, window or volume"
+        )),
     });
     println!("{json}");
+}
+
+/// `volume P`: the kz-integrated Fermi level of the Weyl node (built-in `weyl`, v = 3e5 m/s,
+/// invented) at a fixed density of 1e16 cm^-3 on P fields from `--b-min` (2 T) to `--b-max`
+/// (10 T), cutoff 200, Gaussian lines of 1 meV, energies -40..40 meV: once with
+/// `Quadrature::Uniform` (the fixed-grid reference path: full solves, halved uniform grid) and
+/// once with the default `Quadrature::Adaptive`, on the same inputs in this one process. Prints
+/// both times, their ratio and the largest differences of the Fermi level and of the DOS there.
+fn volume_case(
+    points: usize,
+    threads: usize,
+    (b_min, b_max): (Option<&str>, Option<&str>),
+) -> serde_json::Value {
+    use ladderfan::observables::dos::Broadening;
+    use ladderfan::observables::volume::{fermi_sweep, Quadrature, VolumeSettings};
+    let num = |value: Option<&str>, name: &str, default: f64| {
+        value.map_or(default, |v| {
+            v.parse::<f64>()
+                .unwrap_or_else(|_| fail(&format!("bad {name}")))
+        })
+    };
+    let (b_min, b_max) = (num(b_min, "--b-min", 2.0), num(b_max, "--b-max", 10.0));
+    let model =
+        models::weyl(models::WeylParams::default()).unwrap_or_else(|e| fail(&e.to_string()));
+    let fields = ladderfan::sweep::grid(b_min, b_max, points, ladderfan::sweep::Spacing::Linear)
+        .unwrap_or_else(|e| fail(&e.to_string()));
+    let settings = Settings::with_cutoff(200);
+    let n3 = 1e-5; // 1/nm^3 = 1e16 cm^-3 (invented)
+    let mut reference = VolumeSettings::new(Broadening::gaussian(1.0), (-40.0, 40.0));
+    reference.quadrature = Quadrature::Uniform;
+    let fast = VolumeSettings {
+        quadrature: Quadrature::Adaptive,
+        ..reference
+    };
+    let run = |vs: &VolumeSettings| {
+        let t = Instant::now();
+        let c = cpu_seconds();
+        let r = fermi_sweep(&model, &fields, &settings, vs, n3)
+            .unwrap_or_else(|e| fail(&e.to_string()));
+        (t.elapsed().as_secs_f64(), cpu_seconds() - c, r)
+    };
+    let (t_old, c_old, old) = run(&reference);
+    let (t_new, c_new, new) = run(&fast);
+    let mut max_def = 0.0f64;
+    let mut max_ddos = 0.0f64;
+    for (a, b) in old.iter().zip(&new) {
+        max_def = max_def.max((a.fermi_energy - b.fermi_energy).abs());
+        max_ddos = max_ddos.max(
+            (a.dos_at_fermi - b.dos_at_fermi).abs() / a.dos_at_fermi.abs().max(f64::MIN_POSITIVE),
+        );
+    }
+    let kz_old: usize = old.iter().map(|p| p.kz_points).sum();
+    let kz_new: usize = new.iter().map(|p| p.kz_points).sum();
+    serde_json::json!({
+        "path": "volume", "points": points, "threads": threads, "b_min": b_min, "b_max": b_max,
+        "cutoff": 200, "width_meV": 1.0, "density_invnm3": n3,
+        "uniform_seconds": t_old, "adaptive_seconds": t_new, "ratio": t_old / t_new,
+        "uniform_cpu": c_old, "adaptive_cpu": c_new,
+        "uniform_kz_points": kz_old, "adaptive_kz_points": kz_new,
+        "max_fermi_difference_meV": max_def, "max_relative_dos_difference": max_ddos,
+        "what": "volume::fermi_sweep of the Weyl node, Quadrature::Uniform vs Quadrature::Adaptive",
+    })
 }

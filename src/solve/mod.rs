@@ -87,6 +87,19 @@ impl Spectrum {
     /// # Errors
     /// [`crate::Error::MemoryLimit`]; any error of a sector's eigen-solve or of the labelling.
     pub fn solve(problem: &Problem<'_>) -> Result<Spectrum> {
+        let mut spectrum = Spectrum::solve_unlabelled(problem)?;
+        label(problem, &mut spectrum)?;
+        Ok(spectrum)
+    }
+
+    /// [`Spectrum::solve`] without the labels that need the whole spectrum (the families
+    /// joined across a kz = 0 split and the continued labels): energies, bounds, convergence
+    /// flags and weights are the same. For consumers that only count levels, such as the kz
+    /// integrals of `observables::volume`.
+    ///
+    /// # Errors
+    /// As [`Spectrum::solve`].
+    pub fn solve_unlabelled(problem: &Problem<'_>) -> Result<Spectrum> {
         problem.check_memory()?;
         let settings = problem.settings();
         let h = problem.hamiltonian();
@@ -100,7 +113,7 @@ impl Spectrum {
             settings.memory_limit_mib,
         )?;
         let model = problem.model();
-        let mut spectrum = Spectrum {
+        let spectrum = Spectrum {
             model: model.name().to_string(),
             units: model.units(),
             point: problem.point(),
@@ -116,7 +129,6 @@ impl Spectrum {
             mean_n: g.mean_n,
             vectors: g.vectors,
         };
-        label(problem, &mut spectrum)?;
         Ok(spectrum)
     }
 }

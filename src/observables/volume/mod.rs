@@ -26,7 +26,10 @@
 //! agree on 401 check energies to `tolerance`: g3 relative to its largest value, n3 relative
 //! to its largest value or to that DOS times the width of the range, whichever is larger;
 //! that difference (the error of the coarser grid, an over-estimate of the finer one's) is
-//! reported as [`VolumeDensity::quadrature_error`].
+//! reported as [`VolumeDensity::quadrature_error`]. That is [`Quadrature::Uniform`], the
+//! reference; the default [`Quadrature::Adaptive`] (`adaptive.rs`) keeps the same check but
+//! sets up each field once, skips the labels, halves the kz range when [`kz_mirror`] finds
+//! U H(kz) U^-1 = H(-kz), and stops halving intervals whose sheets have no level within reach.
 //!
 //! Gaussian lines only: a Lorentzian's 1/x^2 tail makes n3 diverge logarithmically with K
 //! (every sheet far out still contributes w/(pi |E - E_l|)), so the result would depend on an
@@ -38,7 +41,7 @@
 //! 1/(meV nm^3).
 //!
 //! # Complexity
-//! One spectrum per kz point (in parallel over the points, [`crate::sweep::run`]); then
+//! One spectrum per kz point (in parallel over the points); then
 //! O(points x levels within reach) per energy.
 //!
 //! # Examples
@@ -57,20 +60,26 @@
 //! # Ok::<(), ladderfan::Error>(())
 //! ```
 
+mod adaptive;
+mod fermi;
+pub mod mirror;
 mod quadrature;
+mod sheet;
+
+pub use fermi::{fermi_sweep, fermi_sweep_with, VolumeFermiPoint};
+pub use mirror::kz_mirror;
 
 use super::dos::{bounded_below, landau_degeneracy_per_area, per_cm2, Broadening};
-use super::filling::{check_temperature, thermal_energy, Neutrality, Occupation, THERMAL_REACH};
+use super::filling::{check_temperature, thermal_energy, Neutrality, THERMAL_REACH};
 use crate::error::{Error, Result};
 use crate::hamiltonian::FieldPoint;
 use crate::levels::Spectrum;
 use crate::model::Model;
-use crate::policy::NEUTRALITY_SNAP_WIDTHS;
 use crate::solve::Settings;
 use crate::units::Units;
-use quadrature::{check_volume_inputs, interleave, kz_limit, Trapezoid};
-use rayon::prelude::*;
+use quadrature::{check_volume_inputs, interleave, kz_limit, Change, Trapezoid};
 use serde::Serialize;
+use sheet::{sheet, Sheet};
 use std::f64::consts::PI;
 
 /// Points of the first kz grid (on [-K, K], or [0, K] for an even spectrum).
@@ -100,6 +109,22 @@ pub struct VolumeSettings {
     pub tolerance: f64,
     /// Most kz points allowed (the refinement stops with an error beyond).
     pub max_points: usize,
+    /// How the kz integral is done: the fast default or the fixed-grid reference.
+    pub quadrature: Quadrature,
+}
+
+/// The kz quadrature of [`VolumeDensity::compute`] (module docs, "Method").
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Quadrature {
+    /// The reference path: every sheet a full [`Spectrum::compute`] (labels, bounds), one
+    /// uniform trapezoid grid on [-K, K] ([0, K] only when no term has an odd power of kz),
+    /// halved everywhere until two grids agree. Kept as the accuracy reference of the tests and
+    /// of `tools/compare_probe.rs volume`.
+    Uniform,
+    /// The default: lean sheet solves (one set-up per field reused across kz, no labels), the
+    /// kz -> -kz mirror of the model detected and used, and the trapezoid grid refined only on
+    /// the panels whose halving still changes the sums (module docs).
+    Adaptive,
 }
 
 impl VolumeSettings {
@@ -113,58 +138,8 @@ impl VolumeSettings {
             kz_max: None,
             tolerance: 1e-7,
             max_points: 16385,
+            quadrature: Quadrature::Adaptive,
         }
-    }
-}
-
-/// One kz sheet reduced to what the densities need.
-#[derive(Debug, Clone)]
-struct Sheet {
-    /// Converged levels within the active range, ascending: (energy, filled at neutrality:
-    /// 0, 1/2 or 1).
-    near: Vec<(f64, f64)>,
-    /// Running sums of the filled column: `filled_before[i]` = sum of filled over near[..i].
-    filled_before: Vec<f64>,
-    /// sum over the converged levels outside the active range of (occupation - filled at
-    /// neutrality): 1 - filled below it, -filled above it.
-    base: f64,
-}
-
-impl Sheet {
-    /// Indices of the levels within `r` of `e`: near[i0..i1].
-    fn span(&self, e: f64, r: f64) -> (usize, usize) {
-        let i0 = self.near.partition_point(|&(el, _)| el < e - r);
-        let i1 = self.near.partition_point(|&(el, _)| el <= e + r);
-        (i0, i1.max(i0))
-    }
-
-    /// sum_l L(e - E_l) over this sheet's levels (levels beyond the reach add below 1e-17).
-    fn lines(&self, line: &Line, e: f64) -> f64 {
-        let (i0, i1) = self.span(e, line.reach);
-        self.near[i0..i1]
-            .iter()
-            .map(|&(el, _)| line.broadening.line(e - el, line.width))
-            .sum()
-    }
-
-    /// sum_l (o_l(mu) - filled_l) over this sheet's levels at temperature kt: levels far below
-    /// mu are full, far above empty.
-    fn occupied(&self, line: &Line, mu: f64, kt: f64) -> f64 {
-        let occ = Occupation {
-            chemical_potential: mu,
-            thermal_energy: kt,
-            broadening: line.broadening,
-            width: line.width,
-        };
-        let (i0, i1) = self.span(mu, line.reach + THERMAL_REACH * kt);
-        let total = self.filled_before[self.near.len()];
-        let below = i0 as f64 - self.filled_before[i0];
-        let above = -(total - self.filled_before[i1]);
-        let inside: f64 = self.near[i0..i1]
-            .iter()
-            .map(|&(el, filled)| occ.of_level(el) - filled)
-            .sum();
-        self.base + below + inside + above
     }
 }
 
@@ -269,116 +244,9 @@ impl VolumeDensity {
         settings: &Settings,
         vs: &VolumeSettings,
     ) -> Result<Self> {
-        let odd = check_volume_inputs(model, vs)?;
-        let (from, to) = vs.range;
-        let width = vs.broadening.width_at(field)?;
-        let reach = vs.broadening.reach(width).unwrap_or(f64::INFINITY);
-        let units = model.units();
-        let kt = thermal_energy(units, vs.temperature_k);
-        let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
-            let pts: Vec<FieldPoint> = kz.iter().map(|&kz| FieldPoint { field, kz }).collect();
-            crate::sweep::run(model, &pts, settings)
-        };
-        // reference spectrum at kz = 0: reference energy, neutrality, length scale
-        let first = solve(&[0.0])?.remove(0);
-        let bounded = bounded_below(model);
-        let neutrality = match vs.neutrality {
-            Neutrality::EmptyBand => None,
-            Neutrality::Energy(e) => Some(e),
-            Neutrality::Auto if bounded => None,
-            Neutrality::Auto => Some(0.0 - first.reference_energy),
-        };
-        let pad = reach + THERMAL_REACH * kt;
-        let (mut lo, mut hi) = (from - pad, to + pad);
-        if let Some(e0) = neutrality {
-            lo = lo.min(e0 - pad);
-            hi = hi.max(e0 + pad);
-        }
-        let kz_max = kz_limit(vs, odd, first.magnetic_length, (lo, hi), &solve)?;
-        let start = if odd { -kz_max } else { 0.0 };
-        let span = kz_max - start;
-        let both = if odd { 1.0 } else { 2.0 };
-        let per_level =
-            landau_degeneracy_per_area(units, field, model.charge()) * model.degeneracy() as f64;
-        let make = |spectra: &[Spectrum]| -> Result<Vec<Sheet>> {
-            spectra
-                .iter()
-                .map(|s| sheet(s, lo, hi, neutrality, bounded, width))
-                .collect()
-        };
-        let mut sums = Trapezoid::new(
-            vs,
-            Line {
-                broadening: vs.broadening,
-                width,
-                reach,
-            },
-        );
-        // grid of 2^r (FIRST_POINTS - 1) + 1 points, refined by adding midpoints
-        let mut intervals = FIRST_POINTS - 1;
-        let mut kz: Vec<f64> = (0..=intervals)
-            .map(|i| start + span * i as f64 / intervals as f64)
-            .collect();
-        let mut sheets = make(&solve(&kz)?)?;
-        sums.add(&sheets, true);
-        let scale = |intervals: usize| per_level * both * span / intervals as f64 / (2.0 * PI);
-        let mut last_change = f64::INFINITY;
-        loop {
-            if 2 * intervals + 1 > vs.max_points {
-                return Err(Error::NotConverged {
-                    tolerance: vs.tolerance,
-                    detail: format!(
-                        "the kz grid did not settle within {} points (last relative change \
-                         {last_change:e} in the DOS); widen the line or allow more points",
-                        vs.max_points
-                    ),
-                });
-            }
-            let h = span / intervals as f64;
-            let mids: Vec<f64> = (0..intervals)
-                .map(|i| start + h * (i as f64 + 0.5))
-                .collect();
-            let fresh = make(&solve(&mids)?)?;
-            let change = sums.refine(&fresh, scale(intervals), scale(2 * intervals));
-            (kz, sheets) = interleave(kz, sheets, &mids, fresh);
-            intervals *= 2;
-            last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
-            // a density scale that is not zero where n3 crosses zero inside the range
-            let n_scale = change.nmax.max(change.gmax * (to - from));
-            if change.dg <= vs.tolerance * change.gmax && change.dn <= vs.tolerance * n_scale {
-                let h = span / intervals as f64;
-                let weights = (0..kz.len())
-                    .map(|i| {
-                        let end = if i == 0 || i + 1 == kz.len() {
-                            0.5
-                        } else {
-                            1.0
-                        };
-                        both * end * h / (2.0 * PI)
-                    })
-                    .collect();
-                return Ok(VolumeDensity {
-                    units,
-                    field,
-                    reference_energy: first.reference_energy,
-                    per_level,
-                    model_degeneracy: model.degeneracy(),
-                    broadening: vs.broadening,
-                    width,
-                    thermal_energy: kt,
-                    neutrality_energy: neutrality,
-                    range: (from, to),
-                    kz_max,
-                    even_in_kz: !odd,
-                    kz,
-                    weights,
-                    quadrature_error: change.dg,
-                    density_quadrature_error: change.dn,
-                    cutoff: settings.cutoff,
-                    line: sums.line,
-                    sheets,
-                });
-            }
+        match vs.quadrature {
+            Quadrature::Uniform => uniform(model, field, settings, vs),
+            Quadrature::Adaptive => adaptive::compute(model, field, settings, vs),
         }
     }
 
@@ -438,233 +306,209 @@ impl VolumeDensity {
             })
             .collect())
     }
-
-    /// The chemical potential at which [`VolumeDensity::carrier_density`] equals `target`
-    /// (1/(length unit)^3), by bisection inside the range (the density is non-decreasing in
-    /// mu); in a gap, the middle of the interval where the density is flat.
-    ///
-    /// # Errors
-    /// [`Error::BadNumber`] when the target is not finite or not reached inside the range
-    /// (widen the range).
-    pub fn fermi_level(&self, target: f64) -> Result<f64> {
-        let (lo, hi) = self.range;
-        let (n_lo, n_hi) = (self.carrier_density(lo), self.carrier_density(hi));
-        if !target.is_finite() || target < n_lo || target > n_hi {
-            return Err(Error::BadNumber {
-                name: "carrier density per volume".into(),
-                value: target,
-                fix: format!(
-                    "the energies {lo} to {hi} hold densities {n_lo:e} to {n_hi:e} per length \
-                     unit cubed; widen the energy range or change the density"
-                ),
-            });
-        }
-        if self.thermal_energy > 0.0 {
-            // n(mu) is smooth and strictly increasing: regula falsi with the Illinois
-            // modification (superlinear; every evaluation costs a thermal convolution per level)
-            let f = |m: f64| self.carrier_density(m) - target;
-            let (mut a, mut b) = (lo, hi);
-            let (mut fa, mut fb) = (n_lo - target, n_hi - target);
-            let small = 1e-13 * (n_hi - n_lo).abs().max(target.abs());
-            let mut side = 0;
-            for _ in 0..200 {
-                if fa.abs() <= small {
-                    return Ok(a);
-                }
-                if fb.abs() <= small || fb == fa {
-                    return Ok(b);
-                }
-                let c = (a * fb - b * fa) / (fb - fa);
-                let fc = f(c);
-                if fc.abs() <= small || (b - a).abs() <= 1e-15 * (a.abs() + b.abs()) {
-                    return Ok(c);
-                }
-                if fc > 0.0 {
-                    b = c;
-                    fb = fc;
-                    if side == -1 {
-                        fa *= 0.5;
-                    }
-                    side = -1;
-                } else {
-                    a = c;
-                    fa = fc;
-                    if side == 1 {
-                        fb *= 0.5;
-                    }
-                    side = 1;
-                }
-            }
-            return Ok(0.5 * (a + b));
-        }
-        // T = 0: n may be flat in a gap; the lowest mu with n >= target and the highest with
-        // n <= target, then their middle
-        let bisect = |above: bool| {
-            let (mut a, mut b) = (lo, hi);
-            for _ in 0..200 {
-                let m = 0.5 * (a + b);
-                let n = self.carrier_density(m);
-                let go_left = if above { n >= target } else { n > target };
-                if go_left {
-                    b = m;
-                } else {
-                    a = m;
-                }
-                if b - a <= 1e-15 * (a.abs() + b.abs()).max(self.width) {
-                    break;
-                }
-            }
-            0.5 * (a + b)
-        };
-        Ok(0.5 * (bisect(true) + bisect(false)))
-    }
 }
 
-/// The 3D Fermi level at fixed carrier density against the field: one point per field.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct VolumeFermiPoint {
-    /// Field in the model's field unit.
-    pub field: f64,
-    /// Fermi level relative to the reference energy.
-    pub fermi_energy: f64,
-    /// DOS per volume there, 1/(energy unit x length unit^3).
-    pub dos_at_fermi: f64,
-    /// kz points the integral needed at this field.
-    pub kz_points: usize,
-}
-
-/// The Fermi level for the carrier density `target` (1/(length unit)^3, from neutrality) at
-/// each of `fields`: the quantum oscillations of a 3D model at fixed density. Every field gets
-/// its own [`VolumeDensity`] over `vs.range` (the broadening's field scaling applies), so the
-/// Fermi level must stay inside that range at every field.
-///
-/// # Errors
-/// Those of [`VolumeDensity::compute`] and [`VolumeDensity::fermi_level`] at the first field
-/// that fails; the message names the field.
-///
-/// # Complexity
-/// One [`VolumeDensity::compute`] per field, in parallel over the fields and, within each, over
-/// its kz points and check energies.
-pub fn fermi_sweep(
-    model: &Model,
-    fields: &[f64],
-    settings: &Settings,
-    vs: &VolumeSettings,
-    target: f64,
-) -> Result<Vec<VolumeFermiPoint>> {
-    fermi_sweep_with(model, fields, settings, vs, target, &|| ())
-}
-
-/// [`fermi_sweep`], calling `tick` once per finished field (a front end draws its progress
-/// from it).
-///
-/// # Errors
-/// As [`fermi_sweep`].
-pub fn fermi_sweep_with(
-    model: &Model,
-    fields: &[f64],
-    settings: &Settings,
-    vs: &VolumeSettings,
-    target: f64,
-    tick: &(dyn Fn() + Sync),
-) -> Result<Vec<VolumeFermiPoint>> {
-    // in parallel over the fields (each also solves its kz points in parallel); the results
-    // are kept in field order and the first failing field in that order is reported
-    let points: Vec<Result<VolumeFermiPoint>> = fields
-        .par_iter()
-        .map(|&field| {
-            let at = |e: Error| at_field(e, field);
-            let v = VolumeDensity::compute(model, field, settings, vs).map_err(at)?;
-            let ef = v.fermi_level(target).map_err(at)?;
-            tick();
-            Ok(VolumeFermiPoint {
-                field,
-                fermi_energy: ef,
-                dos_at_fermi: v.dos(ef),
-                kz_points: v.kz.len(),
-            })
-        })
-        .collect();
-    points.into_iter().collect()
-}
-
-/// The same error, naming the field of the sweep point where it happened.
-fn at_field(e: Error, field: f64) -> Error {
-    match e {
-        Error::BadNumber { name, value, fix } => Error::BadNumber {
-            name: format!("{name} at field {field}"),
-            value,
-            fix,
-        },
-        Error::NotConverged { tolerance, detail } => Error::NotConverged {
-            tolerance,
-            detail: format!("at field {field}: {detail}"),
-        },
-        Error::Numerical { stage, detail } => Error::Numerical {
-            stage: format!("{stage} at field {field}"),
-            detail,
-        },
-        other => other,
-    }
-}
-
-/// Reduce one spectrum to a sheet, after checking that its converged levels cover [lo, hi].
-fn sheet(
-    s: &Spectrum,
-    lo: f64,
-    hi: f64,
+/// What both quadratures derive from the inputs and the kz = 0 sheet: the line, the
+/// neutrality, the padded energy range (`lo`, `hi`) every sheet must cover, and the states per
+/// level and area.
+struct Frame {
+    line: Line,
+    thermal_energy: f64,
     neutrality: Option<f64>,
     bounded: bool,
-    width: f64,
-) -> Result<Sheet> {
-    let conv: Vec<f64> = s.converged().map(|l| l.energy).collect();
-    let (Some(&first), Some(&last)) = (conv.first(), conv.last()) else {
-        return Err(Error::NotConverged {
-            tolerance: s.tolerance,
-            detail: format!(
-                "no level is converged at kz = {}; raise the cutoff",
-                s.point.kz
-            ),
-        });
-    };
-    if last < hi || (!bounded && first > lo) {
-        return Err(Error::NotConverged {
-            tolerance: s.tolerance,
-            detail: format!(
-                "at kz = {:e} the converged levels span {first:e} to {last:e}, but the energies \
-                 {lo:e} to {hi:e} are needed; raise the cutoff (now {})",
-                s.point.kz, s.cutoff
-            ),
-        });
+    lo: f64,
+    hi: f64,
+    per_level: f64,
+    reference_energy: f64,
+    magnetic_length: f64,
+}
+
+impl Frame {
+    /// The frame of `model` at `field` from the kz = 0 spectrum `first`.
+    fn new(model: &Model, field: f64, vs: &VolumeSettings, first: &Spectrum) -> Result<Self> {
+        let (from, to) = vs.range;
+        let width = vs.broadening.width_at(field)?;
+        let reach = vs.broadening.reach(width).unwrap_or(f64::INFINITY);
+        let units = model.units();
+        let kt = thermal_energy(units, vs.temperature_k);
+        let bounded = bounded_below(model);
+        let neutrality = match vs.neutrality {
+            Neutrality::EmptyBand => None,
+            Neutrality::Energy(e) => Some(e),
+            Neutrality::Auto if bounded => None,
+            Neutrality::Auto => Some(0.0 - first.reference_energy),
+        };
+        let pad = reach + THERMAL_REACH * kt;
+        let (mut lo, mut hi) = (from - pad, to + pad);
+        if let Some(e0) = neutrality {
+            lo = lo.min(e0 - pad);
+            hi = hi.max(e0 + pad);
+        }
+        Ok(Frame {
+            line: Line {
+                broadening: vs.broadening,
+                width,
+                reach,
+            },
+            thermal_energy: kt,
+            neutrality,
+            bounded,
+            lo,
+            hi,
+            per_level: landau_degeneracy_per_area(units, field, model.charge())
+                * model.degeneracy() as f64,
+            reference_energy: first.reference_energy,
+            magnetic_length: first.magnetic_length,
+        })
     }
-    let at = NEUTRALITY_SNAP_WIDTHS * width;
-    let filled = |el: f64| match neutrality {
-        None => 0.0,
-        Some(e0) if (el - e0).abs() <= at => 0.5,
-        Some(e0) if el < e0 => 1.0,
-        Some(_) => 0.0,
-    };
-    let mut near = Vec::new();
-    let mut base = 0.0;
-    for el in conv {
-        if el < lo {
-            base += 1.0 - filled(el);
-        } else if el > hi {
-            base -= filled(el);
-        } else {
-            near.push((el, filled(el)));
+
+    /// Reduce the spectra of some kz points to sheets.
+    fn sheets(&self, spectra: &[Spectrum]) -> Result<Vec<Sheet>> {
+        spectra
+            .iter()
+            .map(|s| {
+                sheet(
+                    s,
+                    (self.lo, self.hi),
+                    self.neutrality,
+                    self.bounded,
+                    self.line.width,
+                )
+            })
+            .collect()
+    }
+}
+
+/// The parts of a finished integral that are not in the [`Frame`].
+struct Integral {
+    kz_max: f64,
+    even_in_kz: bool,
+    kz: Vec<f64>,
+    weights: Vec<f64>,
+    sheets: Vec<Sheet>,
+    change: Change,
+}
+
+impl VolumeDensity {
+    /// Assemble the result.
+    fn finish(
+        model: &Model,
+        field: f64,
+        settings: &Settings,
+        vs: &VolumeSettings,
+        frame: Frame,
+        integral: Integral,
+    ) -> Self {
+        VolumeDensity {
+            units: model.units(),
+            field,
+            reference_energy: frame.reference_energy,
+            per_level: frame.per_level,
+            model_degeneracy: model.degeneracy(),
+            broadening: vs.broadening,
+            width: frame.line.width,
+            thermal_energy: frame.thermal_energy,
+            neutrality_energy: frame.neutrality,
+            range: vs.range,
+            kz_max: integral.kz_max,
+            even_in_kz: integral.even_in_kz,
+            kz: integral.kz,
+            weights: integral.weights,
+            quadrature_error: integral.change.dg,
+            density_quadrature_error: integral.change.dn,
+            cutoff: settings.cutoff,
+            line: frame.line,
+            sheets: integral.sheets,
         }
     }
-    let mut filled_before = Vec::with_capacity(near.len() + 1);
-    let mut acc = 0.0;
-    filled_before.push(acc);
-    for &(_, f) in &near {
-        acc += f;
-        filled_before.push(acc);
+}
+
+/// Whether the last grid change is within the tolerance: the DOS relative to its largest value,
+/// the density relative to its largest value or to that DOS times the width of the range,
+/// whichever is larger (a density scale that is not zero where n3 crosses zero in the range).
+fn settled(change: &Change, vs: &VolumeSettings) -> bool {
+    let n_scale = change.nmax.max(change.gmax * (vs.range.1 - vs.range.0));
+    change.dg <= vs.tolerance * change.gmax && change.dn <= vs.tolerance * n_scale
+}
+
+/// The error of a grid that did not settle within `max_points`.
+fn too_many_points(vs: &VolumeSettings, last_change: f64) -> Error {
+    Error::NotConverged {
+        tolerance: vs.tolerance,
+        detail: format!(
+            "the kz grid did not settle within {} points (last relative change \
+             {last_change:e} in the DOS); widen the line or allow more points",
+            vs.max_points
+        ),
     }
-    Ok(Sheet {
-        near,
-        filled_before,
-        base,
-    })
+}
+
+/// The reference path of [`VolumeDensity::compute`] ([`Quadrature::Uniform`]): full solves on
+/// a uniform grid halved everywhere (module docs, "Method").
+fn uniform(
+    model: &Model,
+    field: f64,
+    settings: &Settings,
+    vs: &VolumeSettings,
+) -> Result<VolumeDensity> {
+    let odd = check_volume_inputs(model, vs)?;
+    let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
+        let pts: Vec<FieldPoint> = kz.iter().map(|&kz| FieldPoint { field, kz }).collect();
+        crate::sweep::run(model, &pts, settings)
+    };
+    // reference spectrum at kz = 0: reference energy, neutrality, length scale
+    let first = solve(&[0.0])?.remove(0);
+    let frame = Frame::new(model, field, vs, &first)?;
+    let kz_max = kz_limit(vs, odd, frame.magnetic_length, (frame.lo, frame.hi), &solve)?;
+    let start = if odd { -kz_max } else { 0.0 };
+    let span = kz_max - start;
+    let both = if odd { 1.0 } else { 2.0 };
+    let mut sums = Trapezoid::new(vs, frame.line);
+    // grid of 2^r (FIRST_POINTS - 1) + 1 points, refined by adding midpoints
+    let mut intervals = FIRST_POINTS - 1;
+    let mut kz: Vec<f64> = (0..=intervals)
+        .map(|i| start + span * i as f64 / intervals as f64)
+        .collect();
+    let mut sheets = frame.sheets(&solve(&kz)?)?;
+    sums.add(&sheets, true);
+    let scale = |intervals: usize| frame.per_level * both * span / intervals as f64 / (2.0 * PI);
+    let mut last_change = f64::INFINITY;
+    loop {
+        if 2 * intervals + 1 > vs.max_points {
+            return Err(too_many_points(vs, last_change));
+        }
+        let h = span / intervals as f64;
+        let mids: Vec<f64> = (0..intervals)
+            .map(|i| start + h * (i as f64 + 0.5))
+            .collect();
+        let fresh = frame.sheets(&solve(&mids)?)?;
+        let change = sums.refine(&fresh, scale(intervals), scale(2 * intervals));
+        (kz, sheets) = interleave(kz, sheets, &mids, fresh);
+        intervals *= 2;
+        last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
+        if settled(&change, vs) {
+            let h = span / intervals as f64;
+            let weights = (0..kz.len())
+                .map(|i| {
+                    let end = if i == 0 || i + 1 == kz.len() {
+                        0.5
+                    } else {
+                        1.0
+                    };
+                    both * end * h / (2.0 * PI)
+                })
+                .collect();
+            let integral = Integral {
+                kz_max,
+                even_in_kz: !odd,
+                kz,
+                weights,
+                sheets,
+                change,
+            };
+            return Ok(VolumeDensity::finish(
+                model, field, settings, vs, frame, integral,
+            ));
+        }
+    }
 }

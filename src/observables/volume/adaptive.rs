@@ -1,0 +1,229 @@
+//! The default kz quadrature ([`super::Quadrature::Adaptive`]): lean sheet solves, the kz
+//! mirror used when the model has one, and a trapezoid grid refined only where the sheets are
+//! not inert.
+//!
+//! # Method
+//! * One set-up per field: the [`Problem`] is assembled once at a generic kz (an irrational
+//!   multiple of 1/l_B, where every coupling any kz can have is present), its sector plan and
+//!   memory estimate reused at every kz ([`Problem::at_kz`]: one assembly per kz, the plan kept
+//!   when the couplings are covered), and each sheet solved by
+//!   [`Spectrum::solve_unlabelled`] (no label families: the densities only count levels).
+//!   Sheets are solved in parallel over kz (and the fields of a sweep in parallel over fields,
+//!   in the same rayon pool: work stealing, no second pool).
+//! * Mirror: when [`super::kz_mirror`] finds U with U H(kz) U^-1 = H(-kz), only [0, K] is
+//!   solved and counted twice; otherwise [-K, K].
+//! * Grid: the first grid has [`super::FIRST_POINTS`] points; each round halves every interval
+//!   that is still active and adds the change of the trapezoid sums on the check energies,
+//!   (h/4) (2 f(m) - f(a) - f(b)) for an interval [a, b] with midpoint m. An interval is
+//!   frozen (never halved again) when its ends and its midpoint were all inert sheets (no
+//!   converged level within reach of the padded range) with the same count of levels
+//!   outside: the integrand is constant there to the line's reach (below 1e-17 of a line), so
+//!   its trapezoid sum is exact, and at its ends every derivative vanishes, so the uniform
+//!   refinement of the active intervals keeps the trapezoid rule's fast convergence. The
+//!   refinement stops when one round changes the sums by at most the tolerance, as for the
+//!   uniform grid (the change is reported as the quadrature error); the result is the finer
+//!   grid, with the weights of the trapezoid rule on the non-uniform grid.
+
+use super::mirror::kz_mirror;
+use super::quadrature::{check_volume_inputs, kz_limit, Change};
+use super::sheet::Sheet;
+use super::{
+    settled, too_many_points, Frame, Integral, Line, VolumeDensity, VolumeSettings, CHECK_ENERGIES,
+    FIRST_POINTS,
+};
+use crate::error::Result;
+use crate::hamiltonian::FieldPoint;
+use crate::levels::Spectrum;
+use crate::model::Model;
+use crate::solve::{Problem, Settings};
+use rayon::prelude::*;
+use std::f64::consts::{FRAC_1_SQRT_2, PI};
+
+/// One grid point: its kz, its sheet and the sheet's DOS and density sums on the check
+/// energies.
+struct Node {
+    kz: f64,
+    sheet: Sheet,
+    g: Vec<f64>,
+    n: Vec<f64>,
+}
+
+impl Node {
+    /// Inert: no converged level within reach of the padded range.
+    fn inert(&self) -> bool {
+        self.sheet.near.is_empty()
+    }
+}
+
+/// [`super::VolumeDensity::compute`] with [`super::Quadrature::Adaptive`] (module docs).
+pub(super) fn compute(
+    model: &Model,
+    field: f64,
+    settings: &Settings,
+    vs: &VolumeSettings,
+) -> Result<VolumeDensity> {
+    check_volume_inputs(model, vs)?;
+    let even = kz_mirror(model).is_some();
+    let lb = model.units().magnetic_length(field, model.charge());
+    // a generic kz: an irrational multiple of 1/l_B (kz = 0 when l_B is not usable, so that
+    // the set-up reports the field's own error)
+    let generic = if lb.is_finite() && lb > 0.0 {
+        FRAC_1_SQRT_2 / lb
+    } else {
+        0.0
+    };
+    let template = Problem::new(model, FieldPoint { field, kz: generic }, settings)?;
+    let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
+        kz.par_iter()
+            .map(|&k| Spectrum::solve_unlabelled(&template.at_kz(k)?))
+            .collect()
+    };
+    let first = solve(&[0.0])?.remove(0);
+    let frame = Frame::new(model, field, vs, &first)?;
+    let kz_max = kz_limit(
+        vs,
+        !even,
+        frame.magnetic_length,
+        (frame.lo, frame.hi),
+        &solve,
+    )?;
+    let start = if even { 0.0 } else { -kz_max };
+    let both = if even { 2.0 } else { 1.0 };
+    let check: Vec<f64> = (0..CHECK_ENERGIES)
+        .map(|i| vs.range.0 + (vs.range.1 - vs.range.0) * i as f64 / (CHECK_ENERGIES - 1) as f64)
+        .collect();
+    let nodes_at = |kz: &[f64]| -> Result<Vec<Node>> {
+        let sheets = frame.sheets(&solve(kz)?)?;
+        Ok(kz
+            .par_iter()
+            .zip(sheets)
+            .map(|(&kz, sheet)| node(kz, sheet, &frame.line, &check))
+            .collect())
+    };
+    let intervals = FIRST_POINTS - 1;
+    let first_grid: Vec<f64> = (0..=intervals)
+        .map(|i| start + (kz_max - start) * i as f64 / intervals as f64)
+        .collect();
+    let mut nodes = nodes_at(&first_grid)?;
+    let mut active = vec![true; intervals];
+    // sums over the intervals of (h/2)(f(a) + f(b)), per check energy
+    let (mut sg, mut sn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
+    for w in nodes.windows(2) {
+        let h = w[1].kz - w[0].kz;
+        for k in 0..check.len() {
+            sg[k] += 0.5 * h * (w[0].g[k] + w[1].g[k]);
+            sn[k] += 0.5 * h * (w[0].n[k] + w[1].n[k]);
+        }
+    }
+    let scale = frame.per_level * both / (2.0 * PI);
+    let mut last_change = f64::INFINITY;
+    loop {
+        let refine: Vec<usize> = (0..active.len()).filter(|&i| active[i]).collect();
+        if nodes.len() + refine.len() > vs.max_points {
+            return Err(too_many_points(vs, last_change));
+        }
+        let mids: Vec<f64> = refine
+            .iter()
+            .map(|&i| 0.5 * (nodes[i].kz + nodes[i + 1].kz))
+            .collect();
+        let fresh = nodes_at(&mids)?;
+        let (mut dg, mut dn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
+        for (&i, m) in refine.iter().zip(&fresh) {
+            let (a, b) = (&nodes[i], &nodes[i + 1]);
+            let q = 0.25 * (b.kz - a.kz);
+            for k in 0..check.len() {
+                dg[k] += q * (2.0 * m.g[k] - a.g[k] - b.g[k]);
+                dn[k] += q * (2.0 * m.n[k] - a.n[k] - b.n[k]);
+            }
+        }
+        let mut change = Change {
+            dg: 0.0,
+            gmax: 0.0,
+            dn: 0.0,
+            nmax: 0.0,
+        };
+        for k in 0..check.len() {
+            sg[k] += dg[k];
+            sn[k] += dn[k];
+            change.dg = change.dg.max(scale * dg[k].abs());
+            change.dn = change.dn.max(scale * dn[k].abs());
+            change.gmax = change.gmax.max(scale * sg[k].abs());
+            change.nmax = change.nmax.max(scale * sn[k].abs());
+        }
+        (nodes, active) = merge(nodes, &active, fresh);
+        last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
+        if settled(&change, vs) || !active.contains(&true) {
+            let kz: Vec<f64> = nodes.iter().map(|n| n.kz).collect();
+            let weights = (0..kz.len())
+                .map(|i| {
+                    let left = if i > 0 { kz[i] - kz[i - 1] } else { 0.0 };
+                    let right = kz.get(i + 1).map_or(0.0, |k| k - kz[i]);
+                    both * 0.5 * (left + right) / (2.0 * PI)
+                })
+                .collect();
+            let integral = Integral {
+                kz_max,
+                even_in_kz: even,
+                kz,
+                weights,
+                sheets: nodes.into_iter().map(|n| n.sheet).collect(),
+                change,
+            };
+            return Ok(VolumeDensity::finish(
+                model, field, settings, vs, frame, integral,
+            ));
+        }
+    }
+}
+
+/// A grid point with its sums on the check energies (T = 0 densities, as the uniform check).
+fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
+    let g = check.iter().map(|&e| sheet.lines(line, e)).collect();
+    let n = check
+        .iter()
+        .map(|&e| sheet.occupied(line, e, 0.0))
+        .collect();
+    Node { kz, sheet, g, n }
+}
+
+/// The grid after a round: each halved interval i (active[i]) gets its midpoint from `fresh`
+/// (in order); its two halves stay active unless the ends and the midpoint are all inert with
+/// the same count of levels outside. Frozen intervals stay frozen.
+fn merge(nodes: Vec<Node>, active: &[bool], fresh: Vec<Node>) -> (Vec<Node>, Vec<bool>) {
+    let mut out: Vec<Node> = Vec::with_capacity(nodes.len() + fresh.len());
+    let mut flags = Vec::with_capacity(active.len() + fresh.len());
+    let mut fresh = fresh.into_iter();
+    let last = nodes.len() - 1;
+    for (i, a) in nodes.into_iter().enumerate() {
+        // the interval to the left of `a` (between the previous node and a) is settled here
+        out.push(a);
+        if i == last || !active[i] {
+            if i < last {
+                flags.push(false);
+            }
+            continue;
+        }
+        if let Some(m) = fresh.next() {
+            out.push(m);
+            // the right end is not pushed yet: flags are fixed once it is (below)
+            flags.push(true);
+            flags.push(true);
+        }
+    }
+    // freeze the halves of halved intervals whose three points are inert alike
+    let mut i = 0;
+    while i + 1 < out.len() {
+        if flags[i] && i + 2 < out.len() && flags[i + 1] {
+            let (a, m, b) = (&out[i], &out[i + 1], &out[i + 2]);
+            let alike = a.sheet.base == m.sheet.base && m.sheet.base == b.sheet.base;
+            if a.inert() && m.inert() && b.inert() && alike {
+                flags[i] = false;
+                flags[i + 1] = false;
+            }
+            i += 2;
+        } else {
+            i += 1;
+        }
+    }
+    (out, flags)
+}

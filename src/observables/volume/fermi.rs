@@ -1,0 +1,179 @@
+//! The Fermi level of a kz-integrated density at a fixed carrier density, at one field and
+//! against the field.
+
+use super::{VolumeDensity, VolumeSettings};
+use crate::error::{Error, Result};
+use crate::model::Model;
+use crate::solve::Settings;
+use rayon::prelude::*;
+use serde::Serialize;
+
+impl VolumeDensity {
+    /// The chemical potential at which [`VolumeDensity::carrier_density`] equals `target`
+    /// (1/(length unit)^3), by bisection inside the range (the density is non-decreasing in
+    /// mu); in a gap, the middle of the interval where the density is flat.
+    ///
+    /// # Errors
+    /// [`Error::BadNumber`] when the target is not finite or not reached inside the range
+    /// (widen the range).
+    pub fn fermi_level(&self, target: f64) -> Result<f64> {
+        let (lo, hi) = self.range;
+        let (n_lo, n_hi) = (self.carrier_density(lo), self.carrier_density(hi));
+        if !target.is_finite() || target < n_lo || target > n_hi {
+            return Err(Error::BadNumber {
+                name: "carrier density per volume".into(),
+                value: target,
+                fix: format!(
+                    "the energies {lo} to {hi} hold densities {n_lo:e} to {n_hi:e} per length \
+                     unit cubed; widen the energy range or change the density"
+                ),
+            });
+        }
+        if self.thermal_energy > 0.0 {
+            // n(mu) is smooth and strictly increasing: regula falsi with the Illinois
+            // modification (superlinear; every evaluation costs a thermal convolution per level)
+            let f = |m: f64| self.carrier_density(m) - target;
+            let (mut a, mut b) = (lo, hi);
+            let (mut fa, mut fb) = (n_lo - target, n_hi - target);
+            let small = 1e-13 * (n_hi - n_lo).abs().max(target.abs());
+            let mut side = 0;
+            for _ in 0..200 {
+                if fa.abs() <= small {
+                    return Ok(a);
+                }
+                if fb.abs() <= small || fb == fa {
+                    return Ok(b);
+                }
+                let c = (a * fb - b * fa) / (fb - fa);
+                let fc = f(c);
+                if fc.abs() <= small || (b - a).abs() <= 1e-15 * (a.abs() + b.abs()) {
+                    return Ok(c);
+                }
+                if fc > 0.0 {
+                    b = c;
+                    fb = fc;
+                    if side == -1 {
+                        fa *= 0.5;
+                    }
+                    side = -1;
+                } else {
+                    a = c;
+                    fa = fc;
+                    if side == 1 {
+                        fb *= 0.5;
+                    }
+                    side = 1;
+                }
+            }
+            return Ok(0.5 * (a + b));
+        }
+        // T = 0: n may be flat in a gap; the lowest mu with n >= target and the highest with
+        // n <= target, then their middle
+        let bisect = |above: bool| {
+            let (mut a, mut b) = (lo, hi);
+            for _ in 0..200 {
+                let m = 0.5 * (a + b);
+                let n = self.carrier_density(m);
+                let go_left = if above { n >= target } else { n > target };
+                if go_left {
+                    b = m;
+                } else {
+                    a = m;
+                }
+                if b - a <= 1e-15 * (a.abs() + b.abs()).max(self.width) {
+                    break;
+                }
+            }
+            0.5 * (a + b)
+        };
+        Ok(0.5 * (bisect(true) + bisect(false)))
+    }
+}
+
+/// The 3D Fermi level at fixed carrier density against the field: one point per field.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VolumeFermiPoint {
+    /// Field in the model's field unit.
+    pub field: f64,
+    /// Fermi level relative to the reference energy.
+    pub fermi_energy: f64,
+    /// DOS per volume there, 1/(energy unit x length unit^3).
+    pub dos_at_fermi: f64,
+    /// kz points the integral needed at this field.
+    pub kz_points: usize,
+}
+
+/// The Fermi level for the carrier density `target` (1/(length unit)^3, from neutrality) at
+/// each of `fields`: the quantum oscillations of a 3D model at fixed density. Every field gets
+/// its own [`VolumeDensity`] over `vs.range` (the broadening's field scaling applies), so the
+/// Fermi level must stay inside that range at every field.
+///
+/// # Errors
+/// Those of [`VolumeDensity::compute`] and [`VolumeDensity::fermi_level`] at the first field
+/// that fails; the message names the field.
+///
+/// # Complexity
+/// One [`VolumeDensity::compute`] per field, in parallel over the fields and, within each, over
+/// its kz points and check energies.
+pub fn fermi_sweep(
+    model: &Model,
+    fields: &[f64],
+    settings: &Settings,
+    vs: &VolumeSettings,
+    target: f64,
+) -> Result<Vec<VolumeFermiPoint>> {
+    fermi_sweep_with(model, fields, settings, vs, target, &|| ())
+}
+
+/// [`fermi_sweep`], calling `tick` once per finished field (a front end draws its progress
+/// from it).
+///
+/// # Errors
+/// As [`fermi_sweep`].
+pub fn fermi_sweep_with(
+    model: &Model,
+    fields: &[f64],
+    settings: &Settings,
+    vs: &VolumeSettings,
+    target: f64,
+    tick: &(dyn Fn() + Sync),
+) -> Result<Vec<VolumeFermiPoint>> {
+    // in parallel over the fields (each also solves its kz points in parallel); the results
+    // are kept in field order and the first failing field in that order is reported
+    let points: Vec<Result<VolumeFermiPoint>> = fields
+        .par_iter()
+        .map(|&field| {
+            let at = |e: Error| at_field(e, field);
+            let v = VolumeDensity::compute(model, field, settings, vs).map_err(at)?;
+            let ef = v.fermi_level(target).map_err(at)?;
+            tick();
+            Ok(VolumeFermiPoint {
+                field,
+                fermi_energy: ef,
+                dos_at_fermi: v.dos(ef),
+                kz_points: v.kz.len(),
+            })
+        })
+        .collect();
+    points.into_iter().collect()
+}
+
+/// The same error, naming the field of the sweep point where it happened.
+fn at_field(e: Error, field: f64) -> Error {
+    match e {
+        Error::BadNumber { name, value, fix } => Error::BadNumber {
+            name: format!("{name} at field {field}"),
+            value,
+            fix,
+        },
+        Error::NotConverged { tolerance, detail } => Error::NotConverged {
+            tolerance,
+            detail: format!("at field {field}: {detail}"),
+        },
+        Error::Numerical { stage, detail } => Error::Numerical {
+            stage: format!("{stage} at field {field}"),
+            detail,
+        },
+        other => other,
+    }
+}

@@ -1,0 +1,120 @@
+//! One kz sheet of a kz-integrated density reduced to what the densities need: the converged
+//! levels near the energies asked for, and the count of those far from them.
+
+use super::Line;
+use crate::error::{Error, Result};
+use crate::levels::Spectrum;
+use crate::observables::filling::Occupation;
+use crate::observables::filling::THERMAL_REACH;
+use crate::policy::NEUTRALITY_SNAP_WIDTHS;
+
+/// One kz sheet reduced to what the densities need.
+#[derive(Debug, Clone)]
+pub(super) struct Sheet {
+    /// Converged levels within the active range, ascending: (energy, filled at neutrality:
+    /// 0, 1/2 or 1).
+    pub(super) near: Vec<(f64, f64)>,
+    /// Running sums of the filled column: `filled_before[i]` = sum of filled over near[..i].
+    pub(super) filled_before: Vec<f64>,
+    /// sum over the converged levels outside the active range of (occupation - filled at
+    /// neutrality): 1 - filled below it, -filled above it.
+    pub(super) base: f64,
+}
+
+impl Sheet {
+    /// Indices of the levels within `r` of `e`: near[i0..i1].
+    pub(super) fn span(&self, e: f64, r: f64) -> (usize, usize) {
+        let i0 = self.near.partition_point(|&(el, _)| el < e - r);
+        let i1 = self.near.partition_point(|&(el, _)| el <= e + r);
+        (i0, i1.max(i0))
+    }
+
+    /// sum_l L(e - E_l) over this sheet's levels (levels beyond the reach add below 1e-17).
+    pub(super) fn lines(&self, line: &Line, e: f64) -> f64 {
+        let (i0, i1) = self.span(e, line.reach);
+        self.near[i0..i1]
+            .iter()
+            .map(|&(el, _)| line.broadening.line(e - el, line.width))
+            .sum()
+    }
+
+    /// sum_l (o_l(mu) - filled_l) over this sheet's levels at temperature kt: levels far below
+    /// mu are full, far above empty.
+    pub(super) fn occupied(&self, line: &Line, mu: f64, kt: f64) -> f64 {
+        let occ = Occupation {
+            chemical_potential: mu,
+            thermal_energy: kt,
+            broadening: line.broadening,
+            width: line.width,
+        };
+        let (i0, i1) = self.span(mu, line.reach + THERMAL_REACH * kt);
+        let total = self.filled_before[self.near.len()];
+        let below = i0 as f64 - self.filled_before[i0];
+        let above = -(total - self.filled_before[i1]);
+        let inside: f64 = self.near[i0..i1]
+            .iter()
+            .map(|&(el, filled)| occ.of_level(el) - filled)
+            .sum();
+        self.base + below + inside + above
+    }
+}
+
+/// Reduce one spectrum to a sheet, after checking that its converged levels cover [lo, hi].
+pub(super) fn sheet(
+    s: &Spectrum,
+    (lo, hi): (f64, f64),
+    neutrality: Option<f64>,
+    bounded: bool,
+    width: f64,
+) -> Result<Sheet> {
+    let conv: Vec<f64> = s.converged().map(|l| l.energy).collect();
+    let (Some(&first), Some(&last)) = (conv.first(), conv.last()) else {
+        return Err(Error::NotConverged {
+            tolerance: s.tolerance,
+            detail: format!(
+                "no level is converged at kz = {}; raise the cutoff",
+                s.point.kz
+            ),
+        });
+    };
+    if last < hi || (!bounded && first > lo) {
+        return Err(Error::NotConverged {
+            tolerance: s.tolerance,
+            detail: format!(
+                "at kz = {:e} the converged levels span {first:e} to {last:e}, but the energies \
+                 {lo:e} to {hi:e} are needed; raise the cutoff (now {})",
+                s.point.kz, s.cutoff
+            ),
+        });
+    }
+    let at = NEUTRALITY_SNAP_WIDTHS * width;
+    let filled = |el: f64| match neutrality {
+        None => 0.0,
+        Some(e0) if (el - e0).abs() <= at => 0.5,
+        Some(e0) if el < e0 => 1.0,
+        Some(_) => 0.0,
+    };
+    let mut near = Vec::new();
+    let mut base = 0.0;
+    for el in conv {
+        if el < lo {
+            base += 1.0 - filled(el);
+        } else if el > hi {
+            base -= filled(el);
+        } else {
+            near.push((el, filled(el)));
+        }
+    }
+    let mut filled_before = Vec::with_capacity(near.len() + 1);
+    let mut acc = 0.0;
+    filled_before.push(acc);
+    for &(_, f) in &near {
+        acc += f;
+        filled_before.push(acc);
+    }
+    Ok(Sheet {
+        near,
+        filled_before,
+        base,
+    })
+}
