@@ -224,6 +224,43 @@ def run_measured(cmd, env):
     return json.loads(line), rss
 
 
+def window_vs_eigsh(out_rows):
+    """Window rows side by side: for each window case, scipy eigsh (shift-invert) against the
+    ladderfan window solver on the same band matrix, with the time ratio (eigsh / ladderfan,
+    goal at least 2) and the peak-memory ratio (ladderfan / eigsh, goal at most 1), both from
+    this run. Returns the summary dicts (also written to --json as "window_vs_eigsh")."""
+    out = []
+    for case in dict.fromkeys(r["case"] for r in out_rows if r["case"].startswith("window")):
+        by = {r["solver"]: r for r in out_rows if r["case"] == case}
+        ref, mine = by.get("scipy-eigsh"), by.get("ladderfan window")
+        if ref is None or mine is None:
+            continue
+        speed = ref["seconds"] / mine["seconds"]
+        mem = (mine["peak_rss_mib"] / ref["peak_rss_mib"]
+               if mine["peak_rss_mib"] and ref["peak_rss_mib"] else float("nan"))
+        out.append({"case": case, "eigsh_seconds": ref["seconds"],
+                    "ladderfan_seconds": mine["seconds"], "speedup": speed,
+                    "eigsh_rss_mib": ref["peak_rss_mib"], "ladderfan_rss_mib": mine["peak_rss_mib"],
+                    "memory_ratio": mem, "agrees": mine["agrees"],
+                    "max_dev_over_eps_norm": mine["max_dev_over_eps_norm"],
+                    "speed_goal_met": bool(speed >= 2.0), "memory_goal_met": bool(mem <= 1.0)})
+    if out:
+        print()
+        print("Window solver vs scipy eigsh (shift-invert), same band matrix, one thread each "
+              "(goal: at least 2x faster, peak memory at or below eigsh's)")
+        print("| case | eigsh (s) | ladderfan (s) | eigsh / ladderfan | eigsh RSS (MiB) "
+              "| ladderfan RSS (MiB) | ladderfan / eigsh RSS | max abs dE / (eps norm) |")
+        print("|---|---:|---:|---:|---:|---:|---:|---:|")
+        for w in out:
+            f = lambda x: "n/a" if x is None else f"{x:.0f}"  # noqa: E731
+            print(f"| {w['case']} | {w['eigsh_seconds']:.4g} | {w['ladderfan_seconds']:.4g} "
+                  f"| {w['speedup']:.2f}{'' if w['speed_goal_met'] else ' (< 2)'} "
+                  f"| {f(w['eigsh_rss_mib'])} | {f(w['ladderfan_rss_mib'])} "
+                  f"| {w['memory_ratio']:.2f}{'' if w['memory_goal_met'] else ' (> 1)'} "
+                  f"| {w['max_dev_over_eps_norm']:.3g} |")
+    return out
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--probe", required=True,
@@ -499,6 +536,7 @@ def main():
         slow = [r for r in dense_out if not r["within_1_5x"]]
         print(f"dense cells within 1.5x of LAPACK: {len(dense_out) - len(slow)} of "
               f"{len(dense_out)}")
+    window_summary = window_vs_eigsh(out_rows)
     if window_note:
         print(window_note)
     print("matrix:", matrix_check)
@@ -508,7 +546,7 @@ def main():
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,
                        "matrix_check": matrix_check, "sweep": sw, "rows": out_rows,
-                       "dense": dense_out},
+                       "dense": dense_out, "window_vs_eigsh": window_summary},
                       f, indent=1)
     return 0 if ok else 1
 

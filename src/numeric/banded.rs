@@ -27,17 +27,31 @@ pub trait Scalar: nalgebra::ComplexField<RealField = f64> + Copy {
     /// Conversion from a complex number; the real type keeps the real part (the real kernels
     /// run only when every imaginary part is exactly zero).
     fn from_c64(z: Complex64) -> Self;
+    /// The number re + i im (the real type drops `im`, as [`Scalar::from_c64`]).
+    fn from_parts(re: f64, im: f64) -> Self;
+    /// Whether the type is real (then imaginary parts are never read).
+    const IS_REAL: bool;
 }
 impl Scalar for f64 {
+    const IS_REAL: bool = true;
     #[inline]
     fn from_c64(z: Complex64) -> Self {
         z.re
     }
+    #[inline]
+    fn from_parts(re: f64, _im: f64) -> Self {
+        re
+    }
 }
 impl Scalar for Complex64 {
+    const IS_REAL: bool = false;
     #[inline]
     fn from_c64(z: Complex64) -> Self {
         z
+    }
+    #[inline]
+    fn from_parts(re: f64, im: f64) -> Self {
+        Complex64::new(re, im)
     }
 }
 
@@ -46,9 +60,12 @@ impl Scalar for Complex64 {
 pub struct BandedHermitian {
     n: usize,
     b: usize,
-    /// Row i holds columns i-b..=i at `i*(b+1) + (j + b - i)`; entries with j < 0 are zero.
-    data: Vec<Complex64>,
-    real: bool,
+    /// Real parts: row i holds columns i-b..=i at `i*(b+1) + (j + b - i)`; entries with
+    /// j < 0 are zero.
+    re: Vec<f64>,
+    /// Imaginary parts in the same layout, or empty when every element is real (a real
+    /// matrix is stored in 8 bytes an element, half the complex storage).
+    im: Vec<f64>,
 }
 
 /// Inertia of H - sigma I: how many eigenvalues of H lie below sigma.
@@ -71,7 +88,8 @@ impl BandedHermitian {
     /// [`Error::BadNumber`] when n = 0 or an element is not finite.
     ///
     /// # Complexity
-    /// n (b + 1) calls of `f`; memory 16 n (b + 1) bytes.
+    /// n (b + 1) calls of `f`; memory 8 n (b + 1) bytes for a real matrix (every imaginary
+    /// part zero), 16 n (b + 1) bytes otherwise.
     ///
     /// # Examples
     /// ```
@@ -98,8 +116,9 @@ impl BandedHermitian {
         }
         let b = b.min(n - 1);
         let w = b + 1;
-        let mut data = vec![Complex64::new(0.0, 0.0); n * w];
-        let mut real = true;
+        let mut re = vec![0.0; n * w];
+        // the imaginary parts are allocated at the first non-zero one only
+        let mut im: Vec<f64> = Vec::new();
         for i in 0..n {
             for j in i.saturating_sub(b)..=i {
                 let mut z = f(i, j);
@@ -113,13 +132,17 @@ impl BandedHermitian {
                         fix: "every element must be finite; check the model parameters".into(),
                     });
                 }
-                if z.im != 0.0 {
-                    real = false;
+                let k = i * w + (j + b - i);
+                if z.im != 0.0 && im.is_empty() {
+                    im = vec![0.0; n * w];
                 }
-                data[i * w + (j + b - i)] = z;
+                re[k] = z.re;
+                if !im.is_empty() {
+                    im[k] = z.im;
+                }
             }
         }
-        Ok(BandedHermitian { n, b, data, real })
+        Ok(BandedHermitian { n, b, re, im })
     }
 
     /// Matrix size n.
@@ -134,7 +157,17 @@ impl BandedHermitian {
 
     /// Whether every stored element is real (then the real-arithmetic kernels are used).
     pub fn is_real(&self) -> bool {
-        self.real
+        self.im.is_empty()
+    }
+
+    /// Stored element at flat index `k` of the lower-band layout, in the kernel's scalar type.
+    #[inline]
+    fn at<T: Scalar>(&self, k: usize) -> T {
+        if T::IS_REAL || self.im.is_empty() {
+            T::from_parts(self.re[k], 0.0)
+        } else {
+            T::from_parts(self.re[k], self.im[k])
+        }
     }
 
     /// Element H_ij for any i, j < n (zero outside the band, conjugate in the upper band).
@@ -142,9 +175,10 @@ impl BandedHermitian {
         if i >= self.n || j >= self.n || i.abs_diff(j) > self.b {
             Complex64::new(0.0, 0.0)
         } else if j <= i {
-            self.data[i * (self.b + 1) + (j + self.b - i)]
+            self.at::<Complex64>(i * (self.b + 1) + (j + self.b - i))
         } else {
-            self.data[j * (self.b + 1) + (i + self.b - j)].conj()
+            self.at::<Complex64>(j * (self.b + 1) + (i + self.b - j))
+                .conj()
         }
     }
 
@@ -155,7 +189,7 @@ impl BandedHermitian {
         let w = self.b + 1;
         for i in 0..self.n {
             for j in i.saturating_sub(self.b)..=i {
-                let a = self.data[i * w + (j + self.b - i)].norm();
+                let a = self.at::<Complex64>(i * w + (j + self.b - i)).norm();
                 rows[i] += a;
                 if j != i {
                     rows[j] += a;
@@ -195,16 +229,15 @@ impl BandedHermitian {
         let w = self.b + 1;
         y.iter_mut().for_each(|yi| *yi = T::zero());
         for i in 0..self.n {
-            let row = &self.data[i * w..(i + 1) * w];
             let j0 = i.saturating_sub(self.b);
             let mut acc = T::zero();
             let xi = x[i];
             for j in j0..i {
-                let h = conv::<T>(row[j + self.b - i]);
+                let h = self.at::<T>(i * w + (j + self.b - i));
                 acc += h * x[j];
                 y[j] += h.conjugate() * xi;
             }
-            acc += conv::<T>(row[self.b]) * xi;
+            acc += self.at::<T>(i * w + self.b) * xi;
             y[i] += acc;
         }
     }
@@ -216,8 +249,8 @@ impl BandedHermitian {
     /// column is zero (sigma is an eigenvalue to machine precision: move it slightly).
     ///
     /// # Complexity
-    /// Time O(n b^2) (about 2 n b^2 complex multiply-adds), memory 16 n (3 b + 1) bytes
-    /// (16 n (4 b + 1) during the factorisation).
+    /// Time O(n b^2) (about 2 n b^2 complex multiply-adds), memory 16 n (3 b + 1) bytes, also
+    /// during the factorisation (one buffer, see [`BandedLu`]).
     pub fn lu(&self, sigma: f64) -> Result<BandedLu<Complex64>> {
         BandedLu::factor(self, sigma)
     }
@@ -229,9 +262,9 @@ impl BandedHermitian {
     /// As [`BandedHermitian::lu`].
     ///
     /// # Complexity
-    /// Time O(n b^2), memory 8 n (3 b + 1) bytes (8 n (4 b + 1) during the factorisation).
+    /// Time O(n b^2), memory 8 n (3 b + 1) bytes, also during the factorisation.
     pub fn lu_real(&self, sigma: f64) -> Result<Option<BandedLu<f64>>> {
-        if self.real {
+        if self.is_real() {
             BandedLu::factor(self, sigma).map(Some)
         } else {
             Ok(None)
@@ -256,7 +289,7 @@ impl BandedHermitian {
     /// Golub and Van Loan, Matrix Computations, 4th ed. (2013), sec. 8.4.
     pub fn inertia(&self, sigma: f64) -> Result<Inertia> {
         check_finite("shift sigma", sigma)?;
-        if self.real {
+        if self.is_real() {
             Ok(self.inertia_t::<f64>(sigma))
         } else {
             Ok(self.inertia_t::<Complex64>(sigma))
@@ -276,7 +309,7 @@ impl BandedHermitian {
                 ring[s + off] = if j < 0 {
                     T::zero()
                 } else {
-                    let mut z = conv::<T>(self.data[i * w + off]);
+                    let mut z = self.at::<T>(i * w + off);
                     if off == b {
                         z -= T::from_real(sigma);
                     }
@@ -320,11 +353,6 @@ impl BandedHermitian {
     }
 }
 
-#[inline]
-fn conv<T: Scalar>(z: Complex64) -> T {
-    T::from_c64(z)
-}
-
 fn check_finite(name: &str, x: f64) -> Result<()> {
     if x.is_finite() {
         Ok(())
@@ -337,17 +365,25 @@ fn check_finite(name: &str, x: f64) -> Result<()> {
     }
 }
 
-/// LU factors with partial pivoting of a banded H - sigma I (P A = L U in LAPACK `gbtrf` form).
+/// LU factors with partial pivoting of a banded H - sigma I (P A = L U, the factorisation of
+/// LAPACK's `gbtrf`), all in one buffer.
+///
+/// # Storage
+/// Row k of the buffer holds w = 3b + 1 numbers: U_kk, U_k,k+1, ..., U_k,k+2b (the pivoted
+/// upper factor gains at most b super-diagonals beyond the band), then the b multipliers
+/// l_(k+1),k .. l_(k+b),k of elimination step k. The pivot row of step k is k + `piv[k]`.
+/// The factorisation runs in a ring of the b + 1 rows still active (a few kilobytes, resident
+/// in cache); each row is written to the buffer once, when its step is done, so the peak
+/// memory is the buffer itself: 8 n (3b + 1) bytes real, 16 n (3b + 1) complex, plus 4 n for
+/// the pivots.
 #[derive(Debug, Clone)]
 pub struct BandedLu<T: Scalar> {
     n: usize,
     b: usize,
-    /// Row k of U holds columns k..=k+2b at `k*(2b+1) + (j - k)`.
-    u: Vec<T>,
-    /// Multipliers of step k at `k*b + (i - k - 1)`, i in k+1..=k+b.
-    mult: Vec<T>,
-    /// Row interchanged with row k at step k.
-    piv: Vec<usize>,
+    /// n rows of 3b + 1: U row (2b + 1 numbers) then the b multipliers.
+    f: Vec<T>,
+    /// Pivot row of step k is k + piv[k] (piv[k] <= b).
+    piv: Vec<u32>,
 }
 
 impl<T: Scalar> BandedLu<T> {
@@ -355,28 +391,44 @@ impl<T: Scalar> BandedLu<T> {
         Self::factor(h, sigma)
     }
 
+    /// Row i of H - sigma I, columns i-b..=i+b, into a ring slot that holds columns
+    /// i-b..=i+2b (offset j - i + b); the fill columns start at zero.
+    fn load_row(h: &BandedHermitian, sigma: f64, i: usize, slot: &mut [T]) {
+        let (n, b) = (h.n, h.b);
+        let hw = b + 1;
+        slot.iter_mut().for_each(|z| *z = T::zero());
+        // lower part and diagonal from row i: H_ij, j = i-b..=i
+        for j in i.saturating_sub(b)..=i {
+            slot[j + b - i] = h.at::<T>(i * hw + (j + b - i));
+        }
+        slot[b] -= T::from_real(sigma);
+        // upper part from the rows below: H_ij = conj(H_ji), j = i+1..=i+b
+        for j in i + 1..=(i + b).min(n - 1) {
+            slot[j + b - i] = h.at::<T>(j * hw + (i + b - j)).conjugate();
+        }
+    }
+
     fn factor(h: &BandedHermitian, sigma: f64) -> Result<Self> {
         check_finite("shift sigma", sigma)?;
         let (n, b) = (h.n, h.b);
-        let w = 3 * b + 1;
-        let mut u = vec![T::zero(); n * w];
-        for i in 0..n {
-            for j in i.saturating_sub(b)..=(i + b).min(n - 1) {
-                let mut z = conv::<T>(h.get(i, j));
-                if i == j {
-                    z -= T::from_real(sigma);
-                }
-                u[i * w + (j + b - i)] = z;
-            }
+        let sw = 3 * b + 1; // ring slot: columns i-b..=i+2b of active row i
+        let wu = 2 * b + 1;
+        let w = wu + b;
+        let mut ring = vec![T::zero(); (b + 1) * sw];
+        for i in 0..(b + 1).min(n) {
+            let s = (i % (b + 1)) * sw;
+            Self::load_row(h, sigma, i, &mut ring[s..s + sw]);
         }
-        let mut mult = vec![T::zero(); n * b];
-        let mut piv = vec![0usize; n];
+        let mut f = vec![T::zero(); n * w];
+        let mut piv = vec![0u32; n];
+        let mut urow = vec![T::zero(); wu];
         for k in 0..n {
             let last = (k + b).min(n - 1);
+            let slot = |i: usize| (i % (b + 1)) * sw;
             let mut p = k;
             let mut best = -1.0f64;
             for i in k..=last {
-                let a = u[i * w + (k + b - i)].norm1();
+                let a = ring[slot(i) + (k + b - i)].norm1();
                 if a > best {
                     best = a;
                     p = i;
@@ -391,37 +443,40 @@ impl<T: Scalar> BandedLu<T> {
                     ),
                 });
             }
-            piv[k] = p;
+            piv[k] = (p - k) as u32;
             let jmax = (k + 2 * b).min(n - 1);
+            let (sk, sp) = (slot(k), slot(p));
             if p != k {
                 for j in k..=jmax {
-                    u.swap(k * w + (j + b - k), p * w + (j + b - p));
+                    ring.swap(sk + (j + b - k), sp + (j + b - p));
                 }
             }
-            let pivot = u[k * w + b];
+            // row k of U, columns k..=jmax (offsets b.. of its slot)
+            let len = jmax - k + 1;
+            urow[..len].copy_from_slice(&ring[sk + b..sk + b + len]);
+            let urow = &urow[..len];
+            let pivot = urow[0];
+            let out = &mut f[k * w..(k + 1) * w];
+            out[..len].copy_from_slice(urow);
             for i in k + 1..=last {
-                let l = u[i * w + (k + b - i)] / pivot;
-                mult[k * b + (i - k - 1)] = l;
-                u[i * w + (k + b - i)] = T::zero();
+                let si = slot(i);
+                let l = ring[si + (k + b - i)] / pivot;
+                out[wu + (i - k - 1)] = l;
+                ring[si + (k + b - i)] = T::zero();
                 if l == T::zero() {
                     continue;
                 }
-                let (head, tail) = u.split_at_mut(i * w);
-                let rowk = &head[k * w + b..k * w + b + (jmax - k) + 1];
-                let rowi = &mut tail[(k + b - i)..(k + b - i) + (jmax - k) + 1];
-                for (x, &y) in rowi.iter_mut().zip(rowk.iter()).skip(1) {
+                let rowi = &mut ring[si + (k + b - i)..si + (k + b - i) + len];
+                for (x, &y) in rowi.iter_mut().zip(urow.iter()).skip(1) {
                     *x -= l * y;
                 }
             }
+            // the slot of row k takes row k + b + 1
+            if k + b + 1 < n {
+                Self::load_row(h, sigma, k + b + 1, &mut ring[sk..sk + sw]);
+            }
         }
-        // keep only U's 2b + 1 columns a row: row k moves from k*w + b to k*(2b+1)
-        let wu = 2 * b + 1;
-        for k in 0..n {
-            u.copy_within(k * w + b..k * w + b + wu, k * wu);
-        }
-        u.truncate(n * wu);
-        u.shrink_to_fit();
-        Ok(BandedLu { n, b, u, mult, piv })
+        Ok(BandedLu { n, b, f, piv })
     }
 
     /// Overwrite `x` with (H - sigma I)^(-1) x.
@@ -430,7 +485,8 @@ impl<T: Scalar> BandedLu<T> {
     /// [`Error::BadNumber`] when `x` does not have n elements.
     ///
     /// # Complexity
-    /// O(n b): one forward and one backward sweep.
+    /// O(n b): one forward and one backward sweep, reading the 3b + 1 numbers of each row of
+    /// the factors once.
     pub fn solve_in_place(&self, x: &mut [T]) -> Result<()> {
         if x.len() != self.n {
             return Err(Error::BadNumber {
@@ -446,21 +502,22 @@ impl<T: Scalar> BandedLu<T> {
     pub(crate) fn solve_unchecked(&self, x: &mut [T]) {
         let (n, b) = (self.n, self.b);
         let wu = 2 * b + 1;
+        let w = wu + b;
         for k in 0..n {
-            let p = self.piv[k];
+            let p = k + self.piv[k] as usize;
             if p != k {
                 x.swap(k, p);
             }
             let xk = x[k];
             let last = (k + b).min(n - 1);
-            let mult = &self.mult[k * b..k * b + (last - k)];
+            let mult = &self.f[k * w + wu..k * w + wu + (last - k)];
             for (xi, &l) in x[k + 1..=last].iter_mut().zip(mult) {
                 *xi -= l * xk;
             }
         }
         for k in (0..n).rev() {
             let jmax = (k + 2 * b).min(n - 1);
-            let row = &self.u[k * wu..k * wu + (jmax - k) + 1];
+            let row = &self.f[k * w..k * w + (jmax - k) + 1];
             let mut s = x[k];
             for (uj, &xj) in row.iter().skip(1).zip(x[k + 1..=jmax].iter()) {
                 s -= *uj * xj;

@@ -7,13 +7,16 @@
 //! three-term part, then orthogonalises against the whole basis (and any locked vectors) by
 //! classical Gram–Schmidt with the DGKS test; when the basis reaches m vectors it is contracted
 //! to the (m + k)/2 Ritz vectors of largest |theta| plus the residual vector (Krylov–Schur
-//! restart). A Ritz pair (theta, y) is accepted when its residual |beta_m y_m| is below
+//! restart, in place). A Ritz pair (theta, y) is accepted when its residual |beta_m y_m| is below
 //! 1e-10 |theta|.
 //!
 //! # Complexity
 //! Per step one O(n b) solve and O(n m) for the reorthogonalisation, plus an O(m^3) dense
 //! eigen-solve of the projected matrix every other step; in all O((r + 1) n m^2) for r
-//! restarts. Memory O(n m) for the basis, m = max(2k + 10, k + 30) capped at n.
+//! restarts. Memory: the basis of m + 1 vectors, m = k + max(k/2, 12) capped at n, and one
+//! work vector; the restart and the final Ritz vectors are computed in place in the basis,
+//! a block of rows at a time (no n x m temporary). The Gram–Schmidt passes are blocked over
+//! rows so that each reads every basis column once and the vector once.
 //!
 //! # References
 //! G. W. Stewart, "A Krylov–Schur algorithm for large eigenproblems", SIAM J. Matrix Anal.
@@ -23,7 +26,7 @@
 use super::banded::{BandedLu, Scalar};
 use super::dense::{eigh, Vectors};
 use crate::error::{Error, Result};
-use nalgebra::{DMatrix, DVector};
+use nalgebra::DMatrix;
 use num_complex::Complex64;
 
 /// Relative tolerance of the inverted-problem residual.
@@ -32,33 +35,47 @@ pub(super) const TOL: f64 = 1e-10;
 pub(super) const MAX_RESTARTS: usize = 200;
 
 /// Outcome of one Krylov–Schur run.
-pub(super) enum Krylov<T> {
-    Done(Vec<DVector<T>>),
+pub(super) enum Krylov<T: Scalar> {
+    /// The basis buffer (n rows); its first `count` columns hold the wanted unit Ritz vectors,
+    /// by decreasing |theta|. Returning the buffer itself keeps the peak memory at the basis.
+    Done { basis: DMatrix<T>, count: usize },
+    /// An eigenvalue sits almost on the shift; `radius` is the distance of the k-th one.
     ShiftTooClose { radius: f64 },
 }
 
+/// Basis size m for `want` wanted pairs: want + max(want / 2, 12), at most `room`.
+///
+/// Shift-invert separates the wanted eigenvalues well, so a basis of about 1.5 times the
+/// count converges in a few restarts; each vector less saves n numbers of memory and one pass
+/// over n numbers per Lanczos step (the reorthogonalisation dominates the time; measured in
+/// `tools/window_timing.rs` and `scripts/compare.sh`).
+pub(super) fn basis_size(want: usize, room: usize) -> usize {
+    (want + (want / 2).max(12)).min(room)
+}
+
 /// Krylov–Schur Lanczos on (H - sigma)^(-1) restricted to the complement of `locked`;
-/// returns the `want` Ritz vectors of largest |theta| (unit vectors).
+/// returns the `want` Ritz vectors of largest |theta| (unit vectors) in place in the basis.
 pub(super) fn krylov_schur<T: Scalar>(
     lu: &BandedLu<T>,
     n: usize,
     want: usize,
-    locked: &[&DVector<T>],
+    locked: &[&[T]],
     rng: &mut SplitMix,
 ) -> Result<Krylov<T>> {
     let room = n - locked.len();
-    let mmax = (2 * want + 10).max(want + 30).min(room);
+    let mmax = basis_size(want, room).max(want.min(room));
     let k = want.min(mmax);
     let mut v = DMatrix::<T>::zeros(n, mmax + 1);
     let mut tm = DMatrix::<T>::zeros(mmax, mmax);
+    let mut w = vec![T::zero(); n];
     // start vector: random, in the complement of the locked vectors
-    let mut w = random_vector::<T>(n, rng);
-    orthogonalize(&mut w, locked, &v, 0, None);
-    let nw = w.norm();
+    random_fill(&mut w, rng);
+    orthogonalize(&mut w, locked, v.as_slice(), 0, None);
+    let nw = norm(&w);
     if nw == 0.0 {
         return Err(breakdown("the start vector lies in the locked subspace"));
     }
-    v.set_column(0, &(w / T::from_real(nw)));
+    scale_into(&w, 1.0 / nw, &mut v.as_mut_slice()[..n]);
     let mut start = 0;
     let mut restarts = 0;
     loop {
@@ -70,13 +87,30 @@ pub(super) fn krylov_schur<T: Scalar>(
                 room,
                 start,
             };
-            let (beta, exhausted) = basis.step(&mut v, &mut tm, j, rng);
+            let (beta, exhausted) = basis.step(&mut v, &mut tm, &mut w, j, rng);
             let m = j + 1;
             // Ritz pairs: at a full basis, and every few steps once k of them can exist
             if exhausted || m == mmax || (m >= k + 2 && (m - start) % 2 == 0) {
                 let ritz = Ritz::of(&tm, m)?;
-                if let Some(out) = ritz.accept(&v, k, beta, exhausted) {
-                    return Ok(out);
+                match ritz.verdict(k, beta, exhausted) {
+                    Verdict::Done => {
+                        let kk = k.min(m);
+                        let y = ritz.columns::<T>(kk);
+                        transform_in_place(&mut v, m, &y);
+                        for c in 0..kk {
+                            let col = &mut v.as_mut_slice()[c * n..(c + 1) * n];
+                            let inv = T::from_real(1.0 / norm(col));
+                            col.iter_mut().for_each(|z| *z = *z * inv);
+                        }
+                        return Ok(Krylov::Done {
+                            basis: v,
+                            count: kk,
+                        });
+                    }
+                    Verdict::ShiftTooClose(radius) => {
+                        return Ok(Krylov::ShiftTooClose { radius });
+                    }
+                    Verdict::GoOn => {}
                 }
                 if m == mmax {
                     break (m, beta, ritz);
@@ -103,7 +137,7 @@ pub(super) fn krylov_schur<T: Scalar>(
 /// the room left beside them, and the first column after the last restart.
 struct Basis<'a, T: Scalar> {
     lu: &'a BandedLu<T>,
-    locked: &'a [&'a DVector<T>],
+    locked: &'a [&'a [T]],
     room: usize,
     start: usize,
 }
@@ -117,13 +151,14 @@ impl<T: Scalar> Basis<'_, T> {
         &self,
         v: &mut DMatrix<T>,
         tm: &mut DMatrix<T>,
+        w: &mut [T],
         j: usize,
         rng: &mut SplitMix,
     ) -> (f64, bool) {
         let n = v.nrows();
-        let mut w: DVector<T> = v.column(j).into_owned();
-        self.lu.solve_unchecked(w.as_mut_slice());
-        let scale = w.norm();
+        w.copy_from_slice(&v.as_slice()[j * n..(j + 1) * n]);
+        self.lu.solve_unchecked(w);
+        let scale = norm(w);
         // three-term part first (cheap), then the full pass on the small remainder;
         // right after a restart column j couples to all kept vectors, so no local part
         let local = if j == self.start && j > 0 {
@@ -131,27 +166,38 @@ impl<T: Scalar> Basis<'_, T> {
         } else {
             Some((j.saturating_sub(1), j))
         };
-        let hcol = orthogonalize(&mut w, self.locked, v, j + 1, local);
+        let hcol = orthogonalize(w, self.locked, v.as_slice(), j + 1, local);
         for i in 0..j {
             tm[(i, j)] = hcol[i];
             tm[(j, i)] = hcol[i].conjugate();
         }
         tm[(j, j)] = T::from_real(hcol[j].real());
-        let beta = w.norm();
+        let beta = norm(w);
         if beta > 1e-13 * scale.max(f64::MIN_POSITIVE) {
-            v.set_column(j + 1, &(w / T::from_real(beta)));
+            scale_into(
+                w,
+                1.0 / beta,
+                &mut v.as_mut_slice()[(j + 1) * n..(j + 2) * n],
+            );
             return (beta, false);
         }
         // invariant subspace found: continue with a fresh direction, coupling 0
-        let mut r = random_vector::<T>(n, rng);
-        orthogonalize(&mut r, self.locked, v, j + 1, None);
-        let nr = r.norm();
+        random_fill(w, rng);
+        orthogonalize(w, self.locked, v.as_slice(), j + 1, None);
+        let nr = norm(w);
         if nr <= 1e-10 * (n as f64).sqrt() || j + 1 == self.room {
             return (0.0, true);
         }
-        v.set_column(j + 1, &(r / T::from_real(nr)));
+        scale_into(w, 1.0 / nr, &mut v.as_mut_slice()[(j + 1) * n..(j + 2) * n]);
         (0.0, false)
     }
+}
+
+/// What the Ritz pairs say about the run.
+enum Verdict {
+    Done,
+    ShiftTooClose(f64),
+    GoOn,
 }
 
 /// Ritz pairs of the leading m x m projected matrix: values theta, vectors y (columns) and the
@@ -177,16 +223,15 @@ impl Ritz {
         Ok(Ritz { values, y, order })
     }
 
-    /// The run's outcome when the `k` largest pairs have converged (residual beta |y_m| below
-    /// TOL |theta|), the space is exhausted, or the shift sits too close to an eigenvalue;
-    /// `None` to go on.
-    fn accept<T: Scalar>(
-        &self,
-        v: &DMatrix<T>,
-        k: usize,
-        beta: f64,
-        exhausted: bool,
-    ) -> Option<Krylov<T>> {
+    /// The first `count` Ritz vectors y (by decreasing |theta|) as an m x count matrix.
+    fn columns<T: Scalar>(&self, count: usize) -> DMatrix<T> {
+        let m = self.values.len();
+        DMatrix::from_fn(m, count, |r, c| T::from_c64(self.y[(r, self.order[c])]))
+    }
+
+    /// Done when the `k` largest pairs have converged (residual beta |y_m| below TOL |theta|)
+    /// or the space is exhausted; ShiftTooClose when an eigenvalue sits almost on the shift.
+    fn verdict(&self, k: usize, beta: f64, exhausted: bool) -> Verdict {
         let (values, y, order) = (&self.values, &self.y, &self.order);
         let m = values.len();
         let kk = k.min(m);
@@ -198,25 +243,17 @@ impl Ritz {
         // even a "converged" Ritz estimate cannot be trusted
         let (t_max, t_k) = (values[order[0]].abs(), values[order[kk - 1]].abs());
         if !exhausted && t_max * f64::EPSILON * 64.0 > TOL * t_k {
-            return Some(Krylov::ShiftTooClose { radius: 1.0 / t_k });
+            return Verdict::ShiftTooClose(1.0 / t_k);
         }
-        if !(converged || exhausted) {
-            return None;
+        if converged || exhausted {
+            Verdict::Done
+        } else {
+            Verdict::GoOn
         }
-        let ysel = DMatrix::from_fn(m, kk, |r, c| T::from_c64(y[(r, order[c])]));
-        let x = v.columns(0, m) * ysel;
-        Some(Krylov::Done(
-            x.column_iter()
-                .map(|c| {
-                    let nx = c.norm();
-                    c.into_owned() / T::from_real(nx)
-                })
-                .collect(),
-        ))
     }
 
     /// Krylov–Schur restart: contract the basis of `m` vectors to `keep` Ritz vectors plus the
-    /// residual vector, with the arrowhead projected matrix; returns `keep`.
+    /// residual vector, in place, with the arrowhead projected matrix; returns `keep`.
     fn contract<T: Scalar>(
         &self,
         v: &mut DMatrix<T>,
@@ -227,11 +264,9 @@ impl Ritz {
     ) -> usize {
         let (values, y, order) = (&self.values, &self.y, &self.order);
         let keep = ((m + k) / 2).max(k).min(m - 1);
-        let ykeep = DMatrix::from_fn(m, keep, |r, c| T::from_c64(y[(r, order[c])]));
-        let u = v.columns(0, m) * &ykeep;
-        let resid = v.column(m).into_owned();
-        v.columns_mut(0, keep).copy_from(&u);
-        v.set_column(keep, &resid);
+        transform_in_place(v, m, &self.columns::<T>(keep));
+        let n = v.nrows();
+        v.as_mut_slice().copy_within(m * n..(m + 1) * n, keep * n);
         tm.fill(T::zero());
         for c in 0..keep {
             let i = order[c];
@@ -244,43 +279,160 @@ impl Ritz {
     }
 }
 
-/// Orthogonalise `w` against the locked vectors and the first `cols` columns of `v` by
-/// classical Gram–Schmidt with the DGKS safeguard (a repeated pass only when the previous one
-/// removed more than 1 - 1/sqrt(2) of the norm; Daniel, Gragg, Kaufman and Stewart, Math.
-/// Comp. 30, 772 (1976)); returns the projections on the columns of `v`. With
-/// `local = Some((p, j))` the projections on columns p and j (the Lanczos three-term part) are
-/// removed first, so that the full pass acts on a small remainder and rarely needs repeating.
+/// Rows per block of the blocked kernels: a block of the vector being orthogonalised (16 or
+/// 32 KiB) stays in cache while the basis columns stream past, so each pass over the basis
+/// reads it once and the vector once.
+const ROW_BLOCK: usize = 2048;
+
+/// Columns 0..k of the column-major n x c matrix `v` become V[:, 0..m] Y for the m x k matrix
+/// `y` (k <= m), in place, one block of rows at a time (no n x k temporary).
+pub(super) fn transform_in_place<T: Scalar>(v: &mut DMatrix<T>, m: usize, y: &DMatrix<T>) {
+    transform_columns(v, 0, m, y);
+}
+
+/// Columns c0..c0+k of `v` become V[:, c0..c0+m] Y, in place, blocked over rows.
+pub(super) fn transform_columns<T: Scalar>(
+    v: &mut DMatrix<T>,
+    c0: usize,
+    m: usize,
+    y: &DMatrix<T>,
+) {
+    let (n, k) = (v.nrows(), y.ncols());
+    let rb = ROW_BLOCK.min(n);
+    let mut tmp = DMatrix::<T>::zeros(rb, k);
+    let mut r0 = 0;
+    while r0 < n {
+        let r = rb.min(n - r0);
+        let mut t = tmp.view_mut((0, 0), (r, k));
+        t.gemm(T::one(), &v.view((r0, c0), (r, m)), y, T::zero());
+        v.view_mut((r0, c0), (r, k)).copy_from(&t);
+        r0 += r;
+    }
+}
+
+/// sum conj(a_i) b_i with four partial sums (vectorisable).
+#[inline]
+pub(super) fn dotc<T: Scalar>(a: &[T], b: &[T]) -> T {
+    let mut s = [T::zero(); 4];
+    let (ca, cb) = (a.chunks_exact(4), b.chunks_exact(4));
+    let (ra, rb) = (ca.remainder(), cb.remainder());
+    for (x, y) in ca.zip(cb) {
+        s[0] += x[0].conjugate() * y[0];
+        s[1] += x[1].conjugate() * y[1];
+        s[2] += x[2].conjugate() * y[2];
+        s[3] += x[3].conjugate() * y[3];
+    }
+    let mut t = (s[0] + s[1]) + (s[2] + s[3]);
+    for (x, y) in ra.iter().zip(rb) {
+        t += x.conjugate() * *y;
+    }
+    t
+}
+
+/// y -= c x.
+#[inline]
+pub(super) fn sub_scaled<T: Scalar>(y: &mut [T], c: T, x: &[T]) {
+    for (yi, &xi) in y.iter_mut().zip(x) {
+        *yi -= c * xi;
+    }
+}
+
+/// Euclidean norm of a slice.
+pub(super) fn norm<T: Scalar>(a: &[T]) -> f64 {
+    let mut s = [0.0f64; 4];
+    let c = a.chunks_exact(4);
+    let r = c.remainder();
+    for x in c {
+        s[0] += x[0].modulus_squared();
+        s[1] += x[1].modulus_squared();
+        s[2] += x[2].modulus_squared();
+        s[3] += x[3].modulus_squared();
+    }
+    let mut t = (s[0] + s[1]) + (s[2] + s[3]);
+    for x in r {
+        t += x.modulus_squared();
+    }
+    t.sqrt()
+}
+
+/// out = a * x.
+fn scale_into<T: Scalar>(x: &[T], a: f64, out: &mut [T]) {
+    let a = T::from_real(a);
+    for (o, &xi) in out.iter_mut().zip(x) {
+        *o = xi * a;
+    }
+}
+
+/// c_j = v_j^H w for the first `cols` columns of the column-major basis `v` (n = w.len()
+/// rows), blocked over rows.
+pub(super) fn project<T: Scalar>(v: &[T], cols: usize, w: &[T], c: &mut [T]) {
+    let n = w.len();
+    c.iter_mut().for_each(|x| *x = T::zero());
+    let mut r0 = 0;
+    while r0 < n {
+        let r1 = (r0 + ROW_BLOCK).min(n);
+        let wb = &w[r0..r1];
+        for (j, cj) in c.iter_mut().enumerate().take(cols) {
+            *cj += dotc(&v[j * n + r0..j * n + r1], wb);
+        }
+        r0 = r1;
+    }
+}
+
+/// w -= sum_j c_j v_j over the first `cols` columns of `v`, blocked over rows.
+fn subtract<T: Scalar>(v: &[T], cols: usize, c: &[T], w: &mut [T]) {
+    let n = w.len();
+    let mut r0 = 0;
+    while r0 < n {
+        let r1 = (r0 + ROW_BLOCK).min(n);
+        let wb = &mut w[r0..r1];
+        for (j, &cj) in c.iter().enumerate().take(cols) {
+            sub_scaled(wb, cj, &v[j * n + r0..j * n + r1]);
+        }
+        r0 = r1;
+    }
+}
+
+/// Orthogonalise `w` against the locked vectors and the first `cols` columns of the
+/// column-major basis `v` (n = w.len() rows) by classical Gram–Schmidt with the DGKS safeguard
+/// (a repeated pass only when the previous one removed more than 1 - 1/sqrt(2) of the norm;
+/// Daniel, Gragg, Kaufman and Stewart, Math. Comp. 30, 772 (1976)); returns the projections
+/// on the columns of `v`. With `local = Some((p, j))` the projections on columns p and j (the
+/// Lanczos three-term part) are removed first, so that the full pass acts on a small
+/// remainder and rarely needs repeating. Each pass reads the basis once (blocked kernels).
 pub(super) fn orthogonalize<T: Scalar>(
-    w: &mut DVector<T>,
-    locked: &[&DVector<T>],
-    v: &DMatrix<T>,
+    w: &mut [T],
+    locked: &[&[T]],
+    v: &[T],
     cols: usize,
     local: Option<(usize, usize)>,
 ) -> Vec<T> {
+    let n = w.len();
     let mut h = vec![T::zero(); cols];
     if let Some((p, j)) = local {
         let idx: &[usize] = if p == j { &[j] } else { &[p, j] };
         for &i in idx {
-            let c = v.column(i).dotc(w);
-            w.axpy(-c, &v.column(i), T::one());
+            let col = &v[i * n..(i + 1) * n];
+            let c = dotc(col, w);
+            sub_scaled(w, c, col);
             h[i] += c;
         }
     }
-    let mut before = w.norm();
+    let mut before = norm(w);
+    let mut c = vec![T::zero(); cols];
     for _pass in 0..3 {
         for x in locked {
-            let c = x.dotc(w);
-            w.axpy(-c, *x, T::one());
+            let cx = dotc(x, w);
+            sub_scaled(w, cx, x);
         }
         if cols > 0 {
-            let vc = v.columns(0, cols);
-            let c = vc.ad_mul(w);
-            w.gemv(-T::one(), &vc, &c, T::one());
+            project(v, cols, w, &mut c);
+            subtract(v, cols, &c, w);
             for (hi, ci) in h.iter_mut().zip(c.iter()) {
                 *hi += *ci;
             }
         }
-        let after = w.norm();
+        let after = norm(w);
         if after > std::f64::consts::FRAC_1_SQRT_2 * before {
             break;
         }
@@ -296,13 +448,13 @@ pub(super) fn breakdown(why: &str) -> Error {
     }
 }
 
-/// Random unit-box vector (deterministic, SplitMix64).
-fn random_vector<T: Scalar>(n: usize, rng: &mut SplitMix) -> DVector<T> {
-    DVector::from_fn(n, |_, _| {
+/// Fill with random unit-box numbers (deterministic, SplitMix64).
+pub(super) fn random_fill<T: Scalar>(w: &mut [T], rng: &mut SplitMix) {
+    for z in w.iter_mut() {
         let re = rng.uniform();
         let im = rng.uniform();
-        T::from_c64(Complex64::new(re, im))
-    })
+        *z = T::from_c64(Complex64::new(re, im));
+    }
 }
 
 /// SplitMix64 generator (Steele, Lea and Flood, OOPSLA 2014), for reproducible start vectors

@@ -16,6 +16,9 @@
 //! * [`window`]: the eigenvalues nearest a target or in an interval of a huge banded matrix,
 //!   by shift-invert Krylov-Schur Lanczos (the iteration itself in the private `lanczos`):
 //!   O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
+//! * [`slicing`]: a wide window cut into slices of at most [`slicing::SLICE_LEVELS`] levels,
+//!   each count certified by inertia counts at borders kept clear of eigenvalues, solved in
+//!   parallel: O(n b^2) per slice plus its own basis work.
 //! * [`refine`]: Dongarra-Moler-Wilkinson refinement of one eigenpair in double-double: O(s^3)
 //!   per step, for small matrices.
 //! * [`dd`]: double-double numbers (about 32 significant digits), O(1) per operation.
@@ -25,6 +28,7 @@ pub mod dd;
 pub mod dense;
 mod lanczos;
 pub mod refine;
+pub mod slicing;
 mod tridiag;
 pub mod window;
 
