@@ -243,7 +243,16 @@ fn sweep_refused_when_all_points_together_exceed_the_limit() {
         ],
         Some(CAP_BYTES),
     );
-    assert_refused(&o, &["fan", "2000 points", "in flight", "fewer points", "--points"]);
+    assert_refused(
+        &o,
+        &[
+            "fan",
+            "2000 points",
+            "in flight",
+            "fewer points",
+            "--points",
+        ],
+    );
     let streamed = estimate_mib(&[
         "fan",
         "--builtin",
