@@ -261,6 +261,42 @@ def window_vs_eigsh(out_rows):
     return out
 
 
+def streaming_fan_rows(ladderfan, points_list, cutoff=1000):
+    """Peak resident memory of `ladderfan fan` at `cutoff` for each number of points (GNU time
+    -v): a streamed sweep holds a few spectra and the values it shows, so its memory should
+    stay nearly flat in the number of points. Returns rows of dicts."""
+    rows = []
+    for points in points_list:
+        with tempfile.TemporaryDirectory() as d:
+            cmd = [ladderfan, "fan", "--builtin", "dirac2d", "--b-max", "5", "--cutoff",
+                   str(cutoff), "--points", str(points), "--out", d]
+            gnu_time = "/usr/bin/time"
+            full = [gnu_time, "-v"] + cmd if os.path.exists(gnu_time) else cmd
+            t0 = time.perf_counter()
+            p = subprocess.run(full, capture_output=True, text=True)
+            wall = time.perf_counter() - t0
+            if p.returncode != 0:
+                sys.stderr.write(p.stderr)
+                raise SystemExit(f"compare.py: {' '.join(cmd)} failed ({p.returncode})")
+            m = re.search(r"Maximum resident set size \(kbytes\): (\d+)", p.stderr)
+            rows.append({"points": points, "cutoff": cutoff, "seconds": wall,
+                         "rss_mib": int(m.group(1)) / 1024.0 if m else None})
+    return rows
+
+
+def print_streaming_fan(rows):
+    """The streaming fan rows as a table, with the ratio of the peak memory to the first row's."""
+    print()
+    print("Streaming fan memory (`ladderfan fan --builtin dirac2d --b-max 5`, CSV + SVG written)")
+    print("| points | cutoff | wall (s) | peak RSS (MiB) | RSS / first row |")
+    print("|---:|---:|---:|---:|---:|")
+    first = rows[0]["rss_mib"] if rows else None
+    for r in rows:
+        ratio = "n/a" if not (first and r["rss_mib"]) else f"{r['rss_mib'] / first:.2f}"
+        rss = "n/a" if r["rss_mib"] is None else f"{r['rss_mib']:.1f}"
+        print(f"| {r['points']} | {r['cutoff']} | {r['seconds']:.1f} | {rss} | {ratio} |")
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--probe", required=True,
@@ -276,6 +312,10 @@ def main():
                     help="also time the complete unsplit Spectrum::compute at 4N = 2000")
     ap.add_argument("--skip-window", action="store_true")
     ap.add_argument("--json", help="also write the rows as JSON to this file")
+    ap.add_argument("--skip-stream", action="store_true",
+                    help="skip the streaming fan memory rows (500 and 4000 points at cutoff 1000)")
+    ap.add_argument("--stream-points", default="500,4000",
+                    help="numbers of points of the streaming fan memory rows")
     ap.add_argument("--worker", help=argparse.SUPPRESS)
     ap.add_argument("--cutoff", type=int, help=argparse.SUPPRESS)
     ap.add_argument("--values", help=argparse.SUPPRESS)
@@ -542,6 +582,14 @@ def main():
     print("matrix:", matrix_check)
     print("agreement:", "all eigenvalues agree within 10 sqrt(size) eps norm"
           if ok else "MISMATCH (see above)")
+    if not args.skip_stream and args.ladderfan and os.path.exists(args.ladderfan):
+        stream_rows = streaming_fan_rows(
+            args.ladderfan, [int(x) for x in args.stream_points.split(",")])
+        print_streaming_fan(stream_rows)
+        if args.json:
+            with open(os.path.splitext(args.json)[0] + ".stream.json", "w") as f:
+                json.dump({"date": now, "load_average": load_avg, "streaming_fan": stream_rows},
+                          f, indent=1)
     if args.json:
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,

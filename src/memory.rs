@@ -239,6 +239,17 @@ pub enum Footprint {
         /// Bytes the command adds per level and point.
         extra_per_level: u64,
     },
+    /// A streamed sweep (`fan`, `dispersion`; [`crate::sweep::stream`]): `in_flight` results
+    /// at once (two batches), and `extra_per_level` bytes of the command's own records per
+    /// level and point of all P points (at most every level at every point is shown).
+    Stream {
+        /// Number of points P.
+        points: u64,
+        /// Results held at once.
+        in_flight: u64,
+        /// Bytes the command adds per level and point.
+        extra_per_level: u64,
+    },
     /// One solve with eigenvectors and the velocity matrix elements between its levels
     /// (`optics` at one field), for `points` fields solved together.
     Optics {
@@ -304,6 +315,20 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
                 .saturating_add(shape.levels.saturating_mul(*extra_per_level));
             p.saturating_mul(per_point)
                 .saturating_add(shape.sweep_transient_bytes(p, threads))
+        }
+        Footprint::Stream {
+            points,
+            in_flight,
+            extra_per_level,
+        } => {
+            let held = (*in_flight).clamp(1, (*points).max(1));
+            let records = (*points)
+                .max(1)
+                .saturating_mul(shape.levels)
+                .saturating_mul(*extra_per_level);
+            held.saturating_mul(shape.kept_bytes(false))
+                .saturating_add(records)
+                .saturating_add(shape.sweep_transient_bytes(held, threads))
         }
         Footprint::Optics { points } => {
             let p = (*points).max(1);

@@ -105,6 +105,120 @@ pub fn run_with(
         .collect()
 }
 
+/// How a streaming sweep ([`stream`]) went.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct StreamStats {
+    /// Points per batch: a batch is solved in parallel while the one before it is handed, in
+    /// order, to the sink.
+    pub batch: usize,
+    /// The most spectra held at once (finished, not yet handed on, or being solved); at most
+    /// `2 batch`, whatever the number of points.
+    pub max_held: usize,
+    /// Points solved and handed on.
+    pub points: usize,
+}
+
+/// The batch size [`stream`] uses when given 0: four points per worker thread (at least 2),
+/// enough to keep the threads busy across a batch's end.
+pub fn default_batch() -> usize {
+    (4 * rayon::current_num_threads()).max(2)
+}
+
+/// Solve every point in parallel and hand each spectrum to `sink` as soon as it and every point
+/// before it are done, in the order of `points`, holding at most `2 batch` spectra at once: a
+/// batch of `batch` points (0: [`default_batch`]) is solved in parallel while the previous one
+/// is handed on, so the memory of a sweep does not grow with its number of points. The sink
+/// sees exactly the spectra of [`run`] (each point's solve does not depend on the threads).
+/// `reuse` offers a spectrum computed beforehand (say the reference point's) for its index:
+/// that point is not solved again.
+///
+/// # Errors
+/// The first error in input order, of a solve or of `sink`; points after it are not handed on.
+///
+/// # Examples
+/// ```
+/// use ladderfan::{models, sweep, FieldPoint, Settings};
+/// let m = models::schrodinger(models::MassParams::default())?;
+/// let pts: Vec<FieldPoint> = (1..=9).map(|b| FieldPoint::field(b as f64)).collect();
+/// let mut lowest = Vec::new();
+/// let stats = sweep::stream(&m, &pts, &Settings::with_cutoff(20), 2, None, &|| {}, &mut |i, s| {
+///     lowest.push((i, s.levels[0].energy));
+///     Ok(())
+/// })?;
+/// assert_eq!(lowest.len(), 9);
+/// assert!(lowest.iter().enumerate().all(|(k, &(i, _))| k == i));
+/// assert!(stats.max_held <= 4);
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn stream(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    batch: usize,
+    reuse: Option<(usize, Spectrum)>,
+    tick: &(dyn Fn() + Sync),
+    sink: &mut (dyn FnMut(usize, Spectrum) -> Result<()> + Send),
+) -> Result<StreamStats> {
+    let batch = if batch == 0 { default_batch() } else { batch };
+    let mut reuse = reuse;
+    let mut stats = StreamStats {
+        batch,
+        max_held: 0,
+        points: 0,
+    };
+    let solve = |range: std::ops::Range<usize>, given: Option<(usize, Spectrum)>| {
+        let skip = given.as_ref().map(|g| g.0);
+        let mut out: Vec<(usize, Result<Spectrum>)> = range
+            .into_par_iter()
+            .filter(|&i| Some(i) != skip)
+            .map(|i| {
+                let r = Spectrum::compute(model, points[i], settings);
+                tick();
+                (i, r)
+            })
+            .collect();
+        if let Some((i, s)) = given {
+            let at = out.partition_point(|(j, _)| *j < i);
+            out.insert(at, (i, Ok(s)));
+        }
+        out
+    };
+    let mut pending: Vec<(usize, Result<Spectrum>)> = Vec::new();
+    let mut start = 0;
+    loop {
+        let next = start..(start + batch).min(points.len());
+        stats.max_held = stats.max_held.max(pending.len() + next.len());
+        let given = match &reuse {
+            Some((i, _)) if next.contains(i) => reuse.take(),
+            _ => None,
+        };
+        let (fed, solved) = rayon::join(
+            || -> Result<usize> {
+                let n = pending.len();
+                for (i, r) in pending.drain(..) {
+                    sink(i, r?)?;
+                }
+                Ok(n)
+            },
+            || solve(next.clone(), given),
+        );
+        stats.points += fed?;
+        if solved.is_empty() {
+            // a reused spectrum whose index is not a point is an error of the caller
+            if let Some((i, _)) = reuse {
+                return Err(crate::Error::BadNumber {
+                    name: "reused point index".into(),
+                    value: i as f64,
+                    fix: format!("give an index below the {} points", points.len()),
+                });
+            }
+            return Ok(stats);
+        }
+        pending = solved;
+        start = next.end;
+    }
+}
+
 /// The set-up of every solving path, counted: one assembly per (B, kz) solve
 /// ([`crate::problem`]). Here, in the highest library layer that solves, so that the tests may
 /// use the solver, the sweep and the convergence study.
@@ -261,5 +375,101 @@ mod set_up_tests {
         let r = auto(&model, point, &a).unwrap_or_else(|e| panic!("{e}"));
         assert!(r.history.len() >= 2, "{:?}", r.history);
         assert_eq!(assemblies(model.name(), point), 2);
+    }
+}
+
+#[cfg(test)]
+mod stream_tests {
+    use super::*;
+    use crate::models;
+
+    fn schrodinger() -> Model {
+        models::schrodinger(models::MassParams::default()).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    fn fields(n: usize) -> Vec<FieldPoint> {
+        (1..=n).map(|b| FieldPoint::field(0.5 * b as f64)).collect()
+    }
+
+    #[test]
+    fn streamed_spectra_are_the_batch_spectra_in_order_with_a_bounded_buffer() {
+        let m = schrodinger();
+        let pts = fields(41);
+        let settings = Settings::with_cutoff(25);
+        let all = run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));
+        for batch in [1, 3, 8] {
+            let mut seen = Vec::new();
+            let stats = stream(&m, &pts, &settings, batch, None, &|| {}, &mut |i, s| {
+                // bit-identical to the all-at-once sweep (each point's solve is deterministic)
+                assert_eq!(s.levels, all[i].levels, "point {i}");
+                seen.push(i);
+                Ok(())
+            })
+            .unwrap_or_else(|e| panic!("{e}"));
+            assert_eq!(seen, (0..41).collect::<Vec<_>>());
+            assert_eq!(stats.points, 41);
+            // the buffer holds one batch being solved and one being handed on, not 41 points
+            assert!(stats.max_held <= 2 * batch, "{stats:?}");
+            assert_eq!(stats.max_held, 2 * batch.min(41 / 2), "{stats:?}");
+        }
+    }
+
+    #[test]
+    fn a_reused_spectrum_is_handed_on_in_its_place_and_not_solved_again() {
+        let m = schrodinger();
+        let pts = fields(7);
+        let settings = Settings::with_cutoff(20);
+        let reference = Spectrum::compute(&m, pts[4], &settings).unwrap_or_else(|e| panic!("{e}"));
+        let solved = std::sync::atomic::AtomicUsize::new(0);
+        let tick = || {
+            solved.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        };
+        let mut seen = Vec::new();
+        stream(
+            &m,
+            &pts,
+            &settings,
+            2,
+            Some((4, reference)),
+            &tick,
+            &mut |i, s| {
+                seen.push((i, s.point.field));
+                Ok(())
+            },
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        let want: Vec<(usize, f64)> = pts.iter().map(|p| p.field).enumerate().collect();
+        assert_eq!(seen, want);
+        assert_eq!(solved.into_inner(), 6);
+        // an index beyond the points is the caller's mistake, said so
+        let r = Spectrum::compute(&m, pts[0], &settings).unwrap_or_else(|e| panic!("{e}"));
+        let e = stream(&m, &pts, &settings, 2, Some((9, r)), &|| {}, &mut |_, _| {
+            Ok(())
+        });
+        assert!(matches!(e, Err(crate::Error::BadNumber { .. })), "{e:?}");
+    }
+
+    #[test]
+    fn the_first_error_in_point_order_stops_the_stream() {
+        let m = schrodinger();
+        let pts = fields(12);
+        let mut seen = Vec::new();
+        let r = stream(
+            &m,
+            &pts,
+            &Settings::with_cutoff(15),
+            4,
+            None,
+            &|| {},
+            &mut |i, _| {
+                seen.push(i);
+                if i == 5 {
+                    return Err(crate::Error::Unsupported(format!("stop at {i}")));
+                }
+                Ok(())
+            },
+        );
+        assert!(matches!(r, Err(crate::Error::Unsupported(ref s)) if s == "stop at 5"));
+        assert_eq!(seen, (0..=5).collect::<Vec<_>>());
     }
 }

@@ -224,7 +224,9 @@ fn cutoff_flag_overrides_a_huge_defaults_cutoff() {
     let _ = std::fs::remove_dir_all(&dir);
 }
 
-// Issue #12 row 3: a sweep keeps every point and had no guard (5.8 GB peak for this line).
+// Issue #12 row 3: a sweep kept every point and had no guard (5.8 GB peak for 200 points).
+// The fan now streams (a few points in flight), so 200 points fit; 2000 points are refused
+// for the track records, counted at 64 bytes per level and point (an upper bound).
 #[test]
 fn sweep_refused_when_all_points_together_exceed_the_limit() {
     let o = run(
@@ -237,11 +239,32 @@ fn sweep_refused_when_all_points_together_exceed_the_limit() {
             "--cutoff",
             "100000",
             "--points",
-            "200",
+            "2000",
         ],
         Some(CAP_BYTES),
     );
-    assert_refused(&o, &["fan", "200 points", "fewer points", "--points"]);
+    assert_refused(
+        &o,
+        &[
+            "fan",
+            "2000 points",
+            "in flight",
+            "fewer points",
+            "--points",
+        ],
+    );
+    let streamed = estimate_mib(&[
+        "fan",
+        "--builtin",
+        "dirac2d",
+        "--b-max",
+        "5",
+        "--cutoff",
+        "100000",
+        "--points",
+        "200",
+    ]);
+    assert!(streamed < 4096, "200 streamed points: {streamed} MiB");
     // two points of the same sweep fit: the refusal is about keeping all of them
     let two = estimate_mib(&[
         "fan",

@@ -13,8 +13,8 @@ use std::path::{Path, PathBuf};
 pub use super::output::{emit, emit_json, OutputFiles};
 pub use super::parse::{field_in, native_units_only, parse_count, parse_int_list};
 pub use super::render::{
-    branch_text, character_text, column_units, csv_file, csv_meta, fmt_num, inverse_length,
-    landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
+    branch_text, character_text, column_units, csv_file, csv_file_from_iter, csv_meta, fmt_num,
+    inverse_length, landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
 };
 
 /// Exit code for a run whose verification (closed form, convergence) failed.
@@ -587,7 +587,17 @@ pub fn check_footprint(
             memory::FIX_SWEEP,
             )
         }
-        Footprint::Sweep { .. } | Footprint::Optics { .. } => (
+        Footprint::Stream {
+            points, in_flight, ..
+        } if *points > 1 && !solve_alone => (
+            format!(
+                "{path}: {points} points at cutoff {cutoff} ({} levels each, {} in flight)",
+                shape.levels,
+                (*in_flight).min(*points)
+            ),
+            memory::FIX_SWEEP,
+        ),
+        Footprint::Sweep { .. } | Footprint::Optics { .. } | Footprint::Stream { .. } => (
             format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
             memory::FIX_SOLVE,
         ),

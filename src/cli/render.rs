@@ -92,6 +92,41 @@ pub fn csv_file(
     Ok(CsvFile { meta, text })
 }
 
+/// [`csv_file`] from rows made one at a time (each row is turned into text and dropped, so a
+/// long table holds its text only, not its cells).
+pub fn csv_file_from_iter(
+    mut meta: CsvMeta,
+    columns: Vec<Column>,
+    rows: impl Iterator<Item = Vec<String>>,
+) -> CliResult<CsvFile> {
+    let mut text = columns
+        .iter()
+        .map(|c| csv_cell(&c.name))
+        .collect::<Vec<_>>()
+        .join(",");
+    text.push('\n');
+    for (i, r) in rows.enumerate() {
+        if r.len() != columns.len() {
+            return Err(CliError::Input(Error::Unsupported(format!(
+                "internal: row {} of the {} table has {} cells for {} columns; please report",
+                i + 1,
+                meta.command,
+                r.len(),
+                columns.len()
+            ))));
+        }
+        for (k, c) in r.iter().enumerate() {
+            if k > 0 {
+                text.push(',');
+            }
+            text.push_str(&csv_cell(c));
+        }
+        text.push('\n');
+    }
+    meta.columns = columns;
+    Ok(CsvFile { meta, text })
+}
+
 /// The `weight_<component>` columns of a model: the component name in lower case with every
 /// character outside `a-z0-9` as `_` (so `A` gives `weight_a`); the index when the name is
 /// empty or two names would coincide.

@@ -12,7 +12,9 @@ use crate::units::OutputUnits;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
+mod collect;
 mod commands;
+pub use collect::{KeepTracks, TrackCollector};
 pub mod meta;
 mod observables;
 pub use commands::{
@@ -255,20 +257,23 @@ pub struct TrackRecord {
     pub mean_n: Option<Vec<Option<f64>>>,
 }
 
+/// The integer identity `[family, n (-1: none), branch (+k, -k, 0), copy]` of a track key, the
+/// order of [`TrackRecord::track`] and of a shard merge.
+fn ids(k: &labels::TrackKey) -> [i64; 4] {
+    let b = match k.branch {
+        Branch::Upper(x) => x as i64,
+        Branch::Lower(x) => -(x as i64),
+        Branch::Unpaired => 0,
+    };
+    [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
+}
+
 /// Follow every level across the sweep by its quantum numbers (the library's
 /// [`labels::tracks`]; cutoff artefacts never enter). Only converged values are kept; the
 /// label origin and component are taken at the point `reference`. Sorted by the integer
 /// identity [`TrackRecord::track`], the order of a shard merge.
 pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> Vec<TrackRecord> {
     let np = spectra.len();
-    let ids = |k: &labels::TrackKey| {
-        let b = match k.branch {
-            Branch::Upper(x) => x as i64,
-            Branch::Lower(x) => -(x as i64),
-            Branch::Unpaired => 0,
-        };
-        [k.family as i64, k.n.unwrap_or(-1), b, k.copy as i64]
-    };
     let character = spectra.iter().all(|s| s.mean_n.is_some()) && !spectra.is_empty();
     let mut all = labels::tracks(spectra);
     // the order of the integer identity, which is also the order of a shard merge

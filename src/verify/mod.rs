@@ -45,7 +45,7 @@ mod verdict;
 pub use check::check;
 pub use expected::{Edge, ExpectedList, Vars, Window};
 pub use formula::{formula_scope, LevelFormula};
-pub use sweep::{closed_form_check, ClosedFormCheck};
+pub use sweep::{closed_form_check, ClosedFormCheck, ClosedFormTally};
 pub use verdict::{
     Agreement, EnergyScale, ExpectedState, NumericalLevel, Outcome, Pair, Unpartnered, Verdict,
     VerifySettings,

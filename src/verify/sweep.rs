@@ -57,29 +57,61 @@ fn clip_window(list: ExpectedList, (lo, hi): (f64, f64)) -> ExpectedList {
 pub fn closed_form_check(
     model: &Model,
     spectra: &[&Spectrum],
-    (lo, hi): (f64, f64),
+    window: (f64, f64),
 ) -> Option<ClosedFormCheck> {
-    let mut out = ClosedFormCheck {
-        model: model.name().to_string(),
-        computed_compared: 0,
-        expected_compared: 0,
-        max_deviation: 0.0,
-        worst_ratio: 0.0,
-        not_comparable_points: 0,
-        failed_points: 0,
-        passed: true,
-        note: String::new(),
-    };
-    let settings = VerifySettings::default();
-    let mut first_failure = None;
+    let mut tally = ClosedFormTally::new(model, window);
     for s in spectra {
+        tally.add(s)?;
+    }
+    Some(tally.finish())
+}
+
+/// [`closed_form_check`] one point at a time (a streamed sweep hands each spectrum on and
+/// drops it): [`ClosedFormTally::add`] every spectrum, then [`ClosedFormTally::finish`].
+#[derive(Debug)]
+pub struct ClosedFormTally<'a> {
+    model: &'a Model,
+    window: (f64, f64),
+    out: ClosedFormCheck,
+    points: usize,
+    first_failure: Option<(crate::hamiltonian::FieldPoint, String)>,
+}
+
+impl<'a> ClosedFormTally<'a> {
+    /// An empty tally of the levels in `window` (energy unit of the model).
+    pub fn new(model: &'a Model, window: (f64, f64)) -> Self {
+        ClosedFormTally {
+            model,
+            window,
+            out: ClosedFormCheck {
+                model: model.name().to_string(),
+                computed_compared: 0,
+                expected_compared: 0,
+                max_deviation: 0.0,
+                worst_ratio: 0.0,
+                not_comparable_points: 0,
+                failed_points: 0,
+                passed: true,
+                note: String::new(),
+            },
+            points: 0,
+            first_failure: None,
+        }
+    }
+
+    /// Compare one more point; `None` when the model has no closed form there (then the sweep
+    /// has no check at all).
+    pub fn add(&mut self, s: &Spectrum) -> Option<()> {
+        let (lo, hi) = self.window;
+        let out = &mut self.out;
         // Landau indices the truncated basis can hold: n <= N - 1
         let max_n = s.cutoff.saturating_sub(1).max(1);
-        let list = ExpectedList::from_closed_form(model, s.point, max_n)?;
+        let list = ExpectedList::from_closed_form(self.model, s.point, max_n)?;
         // the list's energies are relative to the model reference, the spectrum's to its own
         let shift = list.origin - s.reference_energy;
         let list = clip_window(list, (lo - shift, hi - shift));
-        let v = check(s, &list, &settings).ok()?;
+        let v = check(s, &list, &VerifySettings::default()).ok()?;
+        self.points += 1;
         // closed-form states inside the window that were neither paired nor reported missing or
         // unresolved lie beyond the converged range: not comparable at this cutoff
         let inside: usize = list
@@ -102,31 +134,34 @@ pub fn closed_form_check(
             Outcome::Inconclusive => out.not_comparable_points += 1,
             Outcome::Fail => {
                 out.failed_points += 1;
-                if first_failure.is_none() {
-                    first_failure = Some((s.point, v.verdict_line(s.units.energy_unit())));
+                if self.first_failure.is_none() {
+                    self.first_failure = Some((s.point, v.verdict_line(s.units.energy_unit())));
                 }
             }
         }
+        Some(())
     }
-    out.passed = out.failed_points == 0;
-    if let Some((p, line)) = first_failure {
-        out.note = format!(
-            "disagrees at {} of {} points (first at field {}, kz {}: {line})",
-            out.failed_points,
-            spectra.len(),
-            p.field,
-            p.kz
-        );
-    } else if out.not_comparable_points > 0 {
-        out.note = format!(
-            "not comparable at this cutoff at {} of {} points: closed-form levels in the window \
-             have only unconverged partners there (raise the cutoff or narrow the window); the \
-             converged levels agree",
-            out.not_comparable_points,
-            spectra.len()
-        );
+
+    /// The check over the points added.
+    pub fn finish(self) -> ClosedFormCheck {
+        let mut out = self.out;
+        let points = self.points;
+        out.passed = out.failed_points == 0;
+        if let Some((p, line)) = self.first_failure {
+            out.note = format!(
+                "disagrees at {} of {points} points (first at field {}, kz {}: {line})",
+                out.failed_points, p.field, p.kz
+            );
+        } else if out.not_comparable_points > 0 {
+            out.note = format!(
+                "not comparable at this cutoff at {} of {points} points: closed-form levels in \
+                 the window have only unconverged partners there (raise the cutoff or narrow the \
+                 window); the converged levels agree",
+                out.not_comparable_points
+            );
+        }
+        out
     }
-    Some(out)
 }
 
 #[cfg(test)]

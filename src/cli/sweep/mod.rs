@@ -2,9 +2,7 @@
 //! the CSV/JSON/SVG views. Tracking by label and the closed-form check are the library's
 //! ([`ladderfan::records::track_records`], [`ladderfan::verify::closed_form_check`]).
 
-use super::common::{
-    self, bad_flag, csv_file, csv_meta, fmt_num, CliError, CliResult, CsvFile, LoadedModel,
-};
+use super::common::{self, bad_flag, csv_meta, fmt_num, CliError, CliResult, CsvFile, LoadedModel};
 use clap::Args;
 use ladderfan::models;
 use ladderfan::plot::{Colouring, Curve, LegendEntry, LinePlot, Rgb, Stroke};
@@ -53,49 +51,81 @@ pub struct SweepArgs {
     pub character: bool,
 }
 
-/// Solve at every point, in parallel over points; the result order is the point order, and
-/// each point's spectrum does not depend on the number of threads.
-pub fn solve_points(
+/// Run `work` on `threads` worker threads (all cores when `None`).
+fn with_threads<T: Send>(threads: Option<usize>, work: impl FnOnce() -> T + Send) -> CliResult<T> {
+    match threads {
+        None => Ok(work()),
+        Some(0) => Err(bad_flag("--threads", "0 threads; give at least 1")),
+        Some(n) if n > ladderfan::limits::MAX_THREADS => Err(bad_flag(
+            "--threads",
+            format!(
+                "{n} threads is more than the limit of {}; give at most the number of cores \
+                 (results do not depend on it)",
+                ladderfan::limits::MAX_THREADS
+            ),
+        )),
+        Some(n) => Ok(rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
+            .install(work)),
+    }
+}
+
+/// Points a streamed sweep on `threads` workers holds at once ([`ladderfan::sweep::stream`]:
+/// two batches of four points per thread), at most `points`.
+pub fn in_flight(threads: Option<usize>, points: usize) -> usize {
+    let t = threads.unwrap_or_else(rayon::current_num_threads).max(1);
+    (2 * (4 * t).max(2)).min(points.max(1))
+}
+
+/// Solve at every point, in parallel over points, handing each spectrum (checked finite) to
+/// `sink` in point order as soon as it and the points before it are done; at most
+/// [`in_flight`] spectra are held at once. `reuse` is a spectrum already solved at one of the
+/// points (its index). Each point's spectrum does not depend on the number of threads.
+pub fn stream_points(
     lm: &LoadedModel,
     points: &[FieldPoint],
     settings: &Settings,
     what: &str,
     threads: Option<usize>,
-) -> CliResult<Vec<Spectrum>> {
+    reuse: Option<(usize, Spectrum)>,
+    sink: &mut (dyn FnMut(usize, &Spectrum) + Send),
+) -> CliResult<ladderfan::sweep::StreamStats> {
     let bar = crate::cli::progress::Progress::new(what, points.len(), "points");
+    if reuse.is_some() {
+        bar.tick();
+    }
     let tick = || bar.tick();
-    let work = || ladderfan::sweep::run_with(&lm.model, points, settings, &tick);
-    let results = match threads {
-        None => work(),
-        Some(0) => return Err(bad_flag("--threads", "0 threads; give at least 1")),
-        Some(n) if n > ladderfan::limits::MAX_THREADS => {
-            return Err(bad_flag(
-                "--threads",
-                format!(
-                    "{n} threads is more than the limit of {}; give at most the number of cores \
-                     (results do not depend on it)",
-                    ladderfan::limits::MAX_THREADS
-                ),
-            ))
+    let mut levels = 0usize;
+    let mut failed: Option<CliError> = None;
+    let mut take = |i: usize, s: Spectrum| -> ladderfan::Result<()> {
+        match super::common::finite_spectrum(s) {
+            Ok(s) => {
+                levels += s.levels.len();
+                sink(i, &s);
+                Ok(())
+            }
+            Err(e) => {
+                failed = Some(e);
+                // stops the stream; the CLI error above is the one reported
+                Err(ladderfan::Error::Unsupported("a non-finite level".into()))
+            }
         }
-        Some(n) => rayon::ThreadPoolBuilder::new()
-            .num_threads(n)
-            .build()
-            .map_err(|e| bad_flag("--threads", format!("cannot start {n} threads: {e}")))?
-            .install(work),
     };
+    let work = || ladderfan::sweep::stream(&lm.model, points, settings, 0, reuse, &tick, &mut take);
+    let result = with_threads(threads, work)?;
     bar.finish();
-    let spectra = results?
-        .into_iter()
-        .map(super::common::finite_spectrum)
-        .collect::<CliResult<Vec<_>>>()?;
-    let levels: usize = spectra.iter().map(|s| s.levels.len()).sum();
+    if let Some(e) = failed {
+        return Err(e);
+    }
+    let stats = result?;
     eprintln!(
         "{what}: {} points, {levels} levels, {:.2} s",
         points.len(),
         bar.elapsed().as_secs_f64()
     );
-    Ok(spectra)
+    Ok(stats)
 }
 
 /// The energy window: flags if given, else the span of the `count` converged levels closest to
@@ -211,28 +241,6 @@ fn check_window_flags(a: &SweepArgs) -> CliResult {
     Ok(())
 }
 
-/// Place a shard's values at their indices `block` in the whole sweep of `total` points.
-fn place_in_sweep(tracks: &mut [TrackRecord], block: std::ops::Range<usize>, total: usize) {
-    for t in tracks {
-        let mut e = vec![None; total];
-        let mut b = vec![None; total];
-        e[block.clone()].copy_from_slice(&t.energies);
-        b[block.clone()].copy_from_slice(&t.bounds);
-        t.energies = e;
-        t.bounds = b;
-        if let Some(w) = &mut t.weights {
-            let mut all = vec![None; total];
-            all[block.clone()].clone_from_slice(w);
-            *w = all;
-        }
-        if let Some(m) = &mut t.mean_n {
-            let mut all = vec![None; total];
-            all[block.clone()].copy_from_slice(m);
-            *m = all;
-        }
-    }
-}
-
 /// The shard object of a shard's sidecar: tracks grouped by identity, kept where they enter
 /// the window `win`.
 fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> ShardHeader {
@@ -266,7 +274,9 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         Some(s) => s.range(total)?,
         None => 0..total,
     };
-    // every point's spectrum is kept until the tracks are built: one check for all of them
+    // the sweep streams: a few spectra in flight, and the track records of the values shown
+    // (at most every level at every point)
+    let held = in_flight(a.threads, block.len()) as u64;
     common::check_memory(
         lm,
         plan.command,
@@ -274,38 +284,46 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         plan.points[plan.reference_point],
         plan.cutoff,
         plan.memory_limit_mib,
-        &ladderfan::memory::Footprint::Sweep {
+        &ladderfan::memory::Footprint::Stream {
             points: block.len() as u64,
+            in_flight: held,
             extra_per_level: ladderfan::memory::SWEEP_TRACK_BYTES,
         },
         a.threads,
     )?;
-    let spectra = solve_points(
+    // the reference point sets the window, so it is solved first (and not again in the sweep)
+    let reference = with_threads(a.threads, || {
+        Spectrum::compute(&lm.model, plan.points[plan.reference_point], &settings)
+    })??;
+    let reference = common::finite_spectrum(reference)?;
+    let win = window(a, &reference)?;
+    let keep = match shard {
+        Some(_) => records::KeepTracks::All,
+        None => records::KeepTracks::EnteringWindow,
+    };
+    let mut collector =
+        records::TrackCollector::new(&lm.model, total, Some(plan.reference_point), win, keep);
+    let mut tally = Some(verify::ClosedFormTally::new(&lm.model, win));
+    let reuse = block
+        .contains(&plan.reference_point)
+        .then(|| (plan.reference_point - block.start, reference.clone()));
+    stream_points(
         lm,
         &plan.points[block.clone()],
         &settings,
         plan.command,
         a.threads,
+        reuse,
+        &mut |i, s| {
+            collector.add(block.start + i, s);
+            if tally.as_mut().and_then(|t| t.add(s)).is_none() {
+                tally = None;
+            }
+        },
     )?;
-    // the reference point sets the window; a shard without it solves it once more
-    let outside;
-    let reference = if block.contains(&plan.reference_point) {
-        &spectra[plan.reference_point - block.start]
-    } else {
-        outside = Spectrum::compute(&lm.model, plan.points[plan.reference_point], &settings)?;
-        &outside
-    };
-    let win = window(a, reference)?;
-    let local_reference = plan.reference_point.wrapping_sub(block.start);
-    let mut tracks = records::track_records(&lm.model, &spectra, local_reference);
-    if shard.is_some() {
-        place_in_sweep(&mut tracks, block.clone(), total);
-    }
+    let reference = &reference;
     let shard_header = shard.map(|s| shard_header(lm, s, total, win));
-    let tracks = match shard {
-        Some(_) => records::trim_to_margin(tracks, win),
-        None => records::in_window(tracks, win),
-    };
+    let tracks = collector.finish();
     let closed = closed_form_curves(
         lm,
         &plan.points,
@@ -314,8 +332,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         plan.cutoff,
         win,
     );
-    let all: Vec<&Spectrum> = spectra.iter().collect();
-    let check = verify::closed_form_check(&lm.model, &all, win);
+    let check = tally.map(verify::ClosedFormTally::finish);
     let json = sweep_json(lm, plan, a, reference, win, check, tracks);
     Ok(Outcome {
         json,

@@ -95,27 +95,27 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
             "mean orbital index <n> = sum_n n |psi_n|^2 of the state",
         ));
     }
-    let mut rec = Vec::new();
-    for t in &j.tracks {
-        for (i, x) in j.values.iter().enumerate() {
-            if let (Some(en), Some(b)) = (t.energies[i], t.bounds[i]) {
-                let mut row = vec![
-                    format!("{x:e}"),
-                    t.track.clone(),
-                    t.label.clone(),
-                    t.n.map(|n| n.to_string()).unwrap_or_default(),
-                    common::landau_branch_text(t.branch),
-                    format!("{en:e}"),
-                    format!("{b:e}"),
-                ];
-                if character {
-                    row.extend(character_cells(t, i, lm.model.dim()));
-                }
-                rec.push(row);
+    // rows made as the text is written: a long sweep never holds all its cells
+    let dim = lm.model.dim();
+    let rows = j.tracks.iter().flat_map(|t| {
+        j.values.iter().enumerate().filter_map(move |(i, x)| {
+            let (en, b) = (t.energies[i]?, t.bounds[i]?);
+            let mut row = vec![
+                format!("{x:e}"),
+                t.track.clone(),
+                t.label.clone(),
+                t.n.map(|n| n.to_string()).unwrap_or_default(),
+                common::landau_branch_text(t.branch),
+                format!("{en:e}"),
+                format!("{b:e}"),
+            ];
+            if character {
+                row.extend(character_cells(t, i, dim));
             }
-        }
-    }
-    csv_file(meta, columns, &rec)
+            Some(row)
+        })
+    });
+    common::csv_file_from_iter(meta, columns, rows)
 }
 
 /// The weight cells (`dim` of them) and the <n> cell of track `t` at point `i` (empty where
