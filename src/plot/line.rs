@@ -396,7 +396,8 @@ fn pen_of(c: &Curve, colour: Rgb) -> Pen {
 }
 
 /// Where a line's label goes: the line reaches the right edge, leaves the frame through its
-/// top or bottom edge, or ends inside the frame.
+/// top or bottom edge (or ends within 5 % of the frame height of it), or ends inside the
+/// frame.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Side {
     Right,
@@ -474,11 +475,14 @@ fn draw_curves(
             .flatten()
             .max_by(|a, b| a.0.total_cmp(&b.0));
         if let (Some(text), Some(last)) = (&c.label, right_end) {
+            // an end this close to the top or bottom edge is labelled in the band there (a
+            // fan cut at its energy window ends just inside the padded frame)
+            let near = 0.05 * (lay.bottom - lay.top);
             let side = if last.0 >= lay.right - 0.03 * (lay.right - lay.left) {
                 Side::Right
-            } else if last.1 <= lay.top + 0.5 {
+            } else if last.1 <= lay.top + near {
                 Side::Top
-            } else if last.1 >= lay.bottom - 0.5 {
+            } else if last.1 >= lay.bottom - near {
                 Side::Bottom
             } else {
                 Side::Inside
