@@ -4,10 +4,11 @@
 //! Expected values come from `ladderfan::closed_form` (published formulas, each with its
 //! source there), never from the solver; helpers in tests/common/catalogue.rs.
 
+use ladderfan::plot::study::study_svg;
 use ladderfan::trust::converge::{
     auto, doubling, study, AutoSettings, ExactValues, NeededCutoff, ReferenceKind, Selection,
 };
-use ladderfan::trust::report::{csv_columns, study_csv, study_json, study_svg};
+use ladderfan::trust::report::{csv_columns, study_csv, study_json};
 use ladderfan::units::HBAR2_OVER_2ME_MEV_NM2;
 use ladderfan::{FieldPoint, Settings};
 

@@ -9,7 +9,7 @@ use common::cli::{run, scratch};
 use ladderfan::plot::{
     geometry, line_plot, render, Colouring, Curve, Format, LegendEntry, LinePlot, Rgb, Scale,
 };
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 /// Width and height from a PNG's IHDR chunk (PNG specification, ISO/IEC 15948: bytes 16-23).
 fn png_size(b: &[u8]) -> (u32, u32) {
@@ -45,9 +45,10 @@ fn check_figure(dir: &Path, stem: &str, labels: &[&str]) -> String {
     let (w, h) = geometry::canvas(&svg).unwrap_or_else(|| panic!("{stem}: no canvas"));
     let png = std::fs::read(dir.join(format!("{stem}.png")))
         .unwrap_or_else(|e| panic!("{stem}.png: {e}"));
+    let k = f64::from(ladderfan::plot::render::PNG_SCALE);
     assert_eq!(
         png_size(&png),
-        ((2.0 * w) as u32, (2.0 * h) as u32),
+        ((k * w).round() as u32, (k * h).round() as u32),
         "{stem}.png size"
     );
     let pdf = std::fs::read(dir.join(format!("{stem}.pdf")))
@@ -66,143 +67,165 @@ fn ok(args: &[&str]) {
     assert_eq!(r.code, 0, "ladderfan {args:?}: {}", r.stderr);
 }
 
-const FORMATS: [&str; 2] = ["--format", "svg,png,pdf"];
-
-#[test]
-fn fan_and_dispersion_figures_in_three_formats_with_labels() {
-    let d = scratch("fig-fan");
+/// Run `args` with `--out` a fresh directory named `tag` and `--format svg,png,pdf`; the
+/// directory.
+fn figures_of(tag: &str, args: &[&str]) -> PathBuf {
+    let d = scratch(tag);
     let ds = d.display().to_string();
-    let fan = [
-        "fan",
-        "--builtin",
-        "dirac2d",
-        "--set",
-        "mass_mev=10",
-        "--b-max",
-        "5",
-        "--points",
-        "12",
-        "--cutoff",
-        "80",
-        "--emin",
-        "-130",
-        "--emax",
-        "130",
-        "--out",
-        &ds,
-    ];
-    ok(&[&fan[..], &FORMATS[..]].concat());
-    // +-1, +-2 reach the right edge inside the window (massive Dirac fan, E = +-sqrt(m^2 + 2n
-    // (hbar v / l_B)^2): from memory, the levels below 130 meV at 5 T)
-    check_figure(&d, "fan", &["+1", "-1", "+2", "-2", "B [T]"]);
-    let d2 = scratch("fig-disp");
-    let ds2 = d2.display().to_string();
-    ok(&[
-        "dispersion",
-        "--builtin",
-        "weyl",
-        "--field",
-        "5",
-        "--points",
-        "9",
-        "--cutoff",
-        "60",
-        "--out",
-        &ds2,
-        "--format",
-        "svg,png,pdf",
-    ]);
-    let files: Vec<String> = std::fs::read_dir(&d2)
+    ok(&[args, &["--out", &ds, "--format", "svg,png,pdf"][..]].concat());
+    d
+}
+
+/// The stems of the SVG files in `dir`.
+fn svg_stems(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
         .map(|r| {
             r.flatten()
                 .map(|e| e.file_name().to_string_lossy().into_owned())
+                .filter_map(|f| f.strip_suffix(".svg").map(str::to_string))
                 .collect()
         })
         .unwrap_or_default();
-    let stem = files
-        .iter()
-        .find(|f| f.ends_with(".svg"))
-        .map(|f| f.trim_end_matches(".svg").to_string())
-        .unwrap_or_else(|| panic!("no SVG among {files:?}"));
-    check_figure(&d2, &stem, &[]);
+    v.sort();
+    v
+}
+
+/// Every CSV in `dir` has a figure of the same stem (`NAME.csv` -> `NAME.svg`).
+fn every_csv_has_a_figure(dir: &Path) {
+    let stems = svg_stems(dir);
+    let csvs: Vec<String> = std::fs::read_dir(dir)
+        .map(|r| {
+            r.flatten()
+                .map(|e| e.file_name().to_string_lossy().into_owned())
+                .filter_map(|f| f.strip_suffix(".csv").map(str::to_string))
+                .collect()
+        })
+        .unwrap_or_default();
+    assert!(!csvs.is_empty(), "no CSV in {}", dir.display());
+    for c in csvs {
+        assert!(
+            stems.contains(&c),
+            "{c}.csv has no figure; figures: {stems:?}"
+        );
+    }
+}
+
+/// The line labels of a figure (`class="line-label"`).
+fn line_labels(svg: &str) -> Vec<geometry::TextBox> {
+    geometry::text_boxes(svg)
+        .into_iter()
+        .filter(|t| t.line_label)
+        .collect()
+}
+
+#[test]
+fn fan_and_dispersion_figures_in_three_formats_with_labels() {
+    let d = figures_of(
+        "fig-fan",
+        &[
+            "fan",
+            "--builtin",
+            "dirac2d",
+            "--set",
+            "mass_mev=10",
+            "--b-max",
+            "5",
+            "--points",
+            "12",
+            "--cutoff",
+            "80",
+            "--emin",
+            "-130",
+            "--emax",
+            "130",
+        ],
+    );
+    // +-1, +-2 reach the right edge inside the window (massive Dirac fan, E = +-sqrt(m^2 + 2n
+    // (hbar v / l_B)^2): from memory, the levels below 130 meV at 5 T); higher levels leave
+    // through the top and bottom edges and are labelled there
+    let svg = check_figure(&d, "fan", &["+1", "-1", "+2", "-2", "B [T]"]);
+    every_csv_has_a_figure(&d);
+    let labels = line_labels(&svg);
+    let (_, fy0, _, fy1) = geometry::plot_area(&svg).unwrap_or_default();
+    assert!(
+        labels.iter().any(|t| t.y1 <= fy0) && labels.iter().any(|t| t.y0 >= fy1),
+        "no label above and below the frame: {labels:?}"
+    );
+    for (i, a) in labels.iter().enumerate() {
+        for b in &labels[i + 1..] {
+            assert!(!a.overlaps(b), "labels overlap: {a:?} {b:?}");
+        }
+    }
+    let d2 = figures_of(
+        "fig-disp",
+        &[
+            "dispersion",
+            "--builtin",
+            "weyl",
+            "--field",
+            "5",
+            "--points",
+            "9",
+            "--cutoff",
+            "60",
+        ],
+    );
+    for stem in svg_stems(&d2) {
+        check_figure(&d2, &stem, &[]);
+    }
+    every_csv_has_a_figure(&d2);
 }
 
 #[test]
 fn levels_optics_and_converge_figures_in_three_formats() {
-    let d = scratch("fig-levels");
-    let ds = d.display().to_string();
-    ok(&[
-        "levels",
-        "--builtin",
-        "dirac2d",
-        "--field",
-        "5",
-        "--cutoff",
-        "60",
-        "--out",
-        &ds,
-        "--format",
-        "svg,png,pdf",
-    ]);
+    let d = figures_of(
+        "fig-levels",
+        &[
+            "levels",
+            "--builtin",
+            "dirac2d",
+            "--field",
+            "5",
+            "--cutoff",
+            "60",
+        ],
+    );
     check_figure(&d, "levels", &["Landau index n"]);
-    let d = scratch("fig-sticks");
-    let ds = d.display().to_string();
-    ok(&[
+    every_csv_has_a_figure(&d);
+    let optics = [
         "optics",
         "--builtin",
         "dirac2d",
         "--set",
         "mass_mev=10",
-        "--field",
-        "5",
         "--cutoff",
         "80",
-        "--out",
-        &ds,
-        "--format",
-        "svg,png,pdf",
-    ]);
+        "--field",
+    ];
+    let d = figures_of("fig-sticks", &[&optics[..], &["5"]].concat());
     let svg = check_figure(&d, "transitions", &["σ+", "σ−"]);
     // mirror: sticks go both up and down from the zero line (sigma+ up, sigma- down)
     assert!(svg.contains("id=\"plot-area\""));
-    let d = scratch("fig-optics-fan");
-    let ds = d.display().to_string();
-    ok(&[
-        "optics",
-        "--builtin",
-        "dirac2d",
-        "--set",
-        "mass_mev=10",
-        "--field",
-        "1",
-        "--b-max",
-        "5",
-        "--points",
-        "6",
-        "--cutoff",
-        "80",
-        "--out",
-        &ds,
-        "--format",
-        "svg,png,pdf",
-    ]);
+    every_csv_has_a_figure(&d);
+    let d = figures_of(
+        "fig-optics-fan",
+        &[&optics[..], &["1", "--b-max", "5", "--points", "6"]].concat(),
+    );
     check_figure(&d, "transitions", &["σ+", "transition energy [meV]"]);
-    let d = scratch("fig-converge");
-    let ds = d.display().to_string();
-    ok(&[
-        "converge",
-        "--builtin",
-        "dirac2d",
-        "--field",
-        "5",
-        "--count",
-        "3",
-        "--out",
-        &ds,
-        "--format",
-        "svg,png,pdf",
-    ]);
+    let d = figures_of(
+        "fig-converge",
+        &[
+            "converge",
+            "--builtin",
+            "dirac2d",
+            "--field",
+            "5",
+            "--count",
+            "3",
+        ],
+    );
     let svg = check_figure(&d, "converge", &["cutoff N (orbitals)"]);
+    every_csv_has_a_figure(&d);
     // proper ticks: more than one labelled x tick below the frame
     let (_, _, _, y1) = geometry::plot_area(&svg).unwrap_or_default();
     let below = geometry::text_boxes(&svg)
@@ -210,45 +233,109 @@ fn levels_optics_and_converge_figures_in_three_formats() {
         .filter(|t| t.y0 > y1 && t.y0 < y1 + 25.0)
         .count();
     assert!(below >= 2, "{below} x tick labels");
+    let d = figures_of(
+        "fig-converge-auto",
+        &[
+            "converge",
+            "--builtin",
+            "dirac2d",
+            "--field",
+            "5",
+            "--mode",
+            "auto",
+            "--count",
+            "4",
+        ],
+    );
+    check_figure(&d, "converge-auto", &["residual bound", "E [meV]"]);
+    every_csv_has_a_figure(&d);
+}
+
+#[test]
+fn demo_and_orbits_figures_in_three_formats() {
+    let d = figures_of("fig-demo", &["demo"]);
+    check_figure(&d, "fan", &[]);
+    check_figure(&d, "levels", &["Landau index n"]);
+    every_csv_has_a_figure(&d);
+    let d = figures_of(
+        "fig-orbits",
+        &[
+            "orbits",
+            "--builtin",
+            "schrodinger",
+            "--set",
+            "mass_ratio=0.1",
+            "--density",
+            "1e12",
+            "--field",
+            "2",
+            "--levels",
+            "3",
+        ],
+    );
+    check_figure(&d, "orbits_fan", &["1/B [1/T]", "Landau index n"]);
+    check_figure(&d, "orbits_levels", &["Landau index n"]);
+    every_csv_has_a_figure(&d);
 }
 
 #[test]
 fn dos_figures_including_the_3d_fermi_sweep() {
-    let d = scratch("fig-dos3d");
-    let ds = d.display().to_string();
-    ok(&[
-        "dos",
-        "--builtin",
-        "weyl",
-        "--field",
-        "10",
-        "--cutoff",
-        "100",
-        "--kz-integrate",
-        "--width",
-        "1",
-        "--emin",
-        "-40",
-        "--emax",
-        "40",
-        "--energy-points",
-        "41",
-        "--density-cm3",
-        "1e16",
-        "--b-max",
-        "10",
-        "--b-min",
-        "5",
-        "--points",
-        "3",
-        "--out",
-        &ds,
-        "--format",
-        "svg,png,pdf",
-    ]);
+    let d = figures_of(
+        "fig-dos3d",
+        &[
+            "dos",
+            "--builtin",
+            "weyl",
+            "--field",
+            "10",
+            "--cutoff",
+            "100",
+            "--kz-integrate",
+            "--width",
+            "1",
+            "--emin",
+            "-40",
+            "--emax",
+            "40",
+            "--energy-points",
+            "41",
+            "--density-cm3",
+            "1e16",
+            "--b-max",
+            "10",
+            "--b-min",
+            "5",
+            "--points",
+            "3",
+        ],
+    );
     for stem in ["dos", "dos3d", "fermi3d"] {
         check_figure(&d, stem, &[]);
     }
+    every_csv_has_a_figure(&d);
+    let d = figures_of(
+        "fig-fermi2d",
+        &[
+            "dos",
+            "--builtin",
+            "dirac2d",
+            "--field",
+            "5",
+            "--cutoff",
+            "60",
+            "--density-cm2",
+            "1e12",
+            "--b-max",
+            "8",
+            "--points",
+            "6",
+            "--energy-unit",
+            "eV",
+        ],
+    );
+    check_figure(&d, "dos", &["E [eV]"]);
+    check_figure(&d, "fermi", &["E [eV]"]);
+    every_csv_has_a_figure(&d);
 }
 
 #[test]
@@ -365,7 +452,11 @@ fn weight_colouring_has_a_colour_bar_and_every_format_renders() {
     }
     assert!(texts.contains(&"weight of component 1".to_string()));
     let png = render(&svg, Format::Png).unwrap_or_else(|e| panic!("{e}"));
-    assert_eq!(png_size(&png), (1920, 1360));
+    let k = f64::from(ladderfan::plot::render::PNG_SCALE);
+    assert_eq!(
+        png_size(&png),
+        ((k * 960.0).round() as u32, (k * 680.0).round() as u32)
+    );
     let pdf = render(&svg, Format::Pdf).unwrap_or_else(|e| panic!("{e}"));
     assert!(pdf.starts_with(b"%PDF"));
 }

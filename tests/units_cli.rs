@@ -223,15 +223,7 @@ fn bad_units_are_one_clear_error() {
         assert!(r.stderr.contains(says), "{args:?}: {}", r.stderr);
     }
     // a command that does not convert yet refuses rather than mislabel its numbers
-    let r = run(&[
-        "dos",
-        "--builtin",
-        "dirac2d",
-        "--energy-unit",
-        "eV",
-        "--cutoff",
-        "40",
-    ]);
+    let r = run(&["orbits", "--builtin", "schrodinger", "--energy-unit", "eV"]);
     assert_eq!(r.code, 2, "{}", r.stderr);
     assert!(r.stderr.contains("--energy-unit"), "{}", r.stderr);
     // a negative field with a suffix reaches its flag
@@ -257,8 +249,20 @@ fn has_progress_bytes(stderr: &str) -> bool {
 fn progress_never_reaches_a_pipe() {
     // stderr is a pipe here, as in scripts and CI: the long commands (a kz-integrated Fermi
     // sweep of several seconds, past the bar's 0.8 s delay; an optics fan; a convergence
-    // study; a fan) write no progress, with or without --json.
-    let runs: [&[&str]; 5] = [
+    // study; a fan; the semiclassical orbits) write no progress, with or without --json.
+    let runs: [&[&str]; 6] = [
+        &[
+            "orbits",
+            "--builtin",
+            "schrodinger",
+            "--set",
+            "mass_ratio=0.1",
+            "--density",
+            "1e12",
+            "--field",
+            "2",
+            "--json",
+        ],
         &[
             "dos",
             "--builtin",
@@ -361,4 +365,115 @@ fn optics_energies_convert_too() {
     assert_scaled(&a, &b, MEV_IN_INVCM, 1e-9);
     let bc = critical_field_t();
     assert!((f(&invcm["points"][0]["field"]) - 3.0 / bc).abs() < 1e-9 * 3.0 / bc);
+}
+
+/// `dos` and `converge` (study and auto) on the natural-unit 3+1 Dirac model with the field
+/// given as `--field 1e8T`: the same run in m c^2 and in meV differ by m_e c^2 = 510 998.950 00
+/// eV (CODATA 2018, Tiesinga et al. 2021); densities of states per energy by its inverse.
+#[test]
+fn dos_and_converge_convert_energies_and_fields() {
+    // 1e-10: the published m_e c^2 (510 998.950 00 eV, standard uncertainty 1.5e-4 eV, 3e-10
+    // relative) and the product of CODATA 2018 m_e and c over e differ by 7e-12 relative
+    let mev_per_mc2 = ME_C2_EV * 1e3;
+    let dos = |extra: &[&str]| {
+        let mut a = vec![
+            "dos",
+            "--builtin",
+            "dirac",
+            "--field",
+            "1e8T",
+            "--cutoff",
+            "60",
+            "--width",
+            "0.002",
+            "--energy-points",
+            "21",
+            "--emin",
+            "-0.5",
+            "--emax",
+            "0.5",
+            "--json",
+        ];
+        a.extend_from_slice(extra);
+        json(&a)
+    };
+    let nat = dos(&[]);
+    let mev = dos(&["--energy-unit", "meV", "--field-unit", "T"]);
+    assert_eq!(mev["units"]["energy"], "meV");
+    assert_eq!(mev["units"]["field"], "T");
+    let col = |j: &Value, k: usize| -> Vec<f64> {
+        j["dos"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no dos: {j}"))
+            .iter()
+            .map(|p| f(&p[k]))
+            .collect()
+    };
+    assert_scaled(&col(&nat, 0), &col(&mev, 0), mev_per_mc2, 1e-10);
+    assert_scaled(&col(&nat, 1), &col(&mev, 1), 1.0 / mev_per_mc2, 1e-9);
+    assert!(
+        (f(&mev["field"]) - 1e8).abs() < 1e-9 * 1e8,
+        "{}",
+        mev["field"]
+    );
+    assert!((f(&mev["width"]) - 0.002 * mev_per_mc2).abs() < 1e-9 * f(&mev["width"]));
+    // the CSV column names follow the unit, DOS per energy included
+    let dir = scratch("units-dos");
+    let d = dir.to_string_lossy().to_string();
+    dos(&["--energy-unit", "eV", "--out", &d]);
+    let text = std::fs::read_to_string(dir.join("dos.csv")).unwrap_or_default();
+    assert!(
+        text.starts_with("energy_eV,dos_per_eV_cm2,density_invcm2"),
+        "{}",
+        text.lines().next().unwrap_or_default()
+    );
+    // converge, study and auto
+    let conv = |extra: &[&str]| {
+        let mut a = vec![
+            "converge",
+            "--builtin",
+            "dirac",
+            "--field",
+            "1e8T",
+            "--count",
+            "3",
+            "--json",
+        ];
+        a.extend_from_slice(extra);
+        json(&a)
+    };
+    let refs = |j: &Value| -> Vec<f64> {
+        j["study"]["levels"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no levels: {j}"))
+            .iter()
+            .map(|l| f(&l["reference_value"]))
+            .collect()
+    };
+    let (a, b) = (
+        conv(&["--cutoffs", "20,40"]),
+        conv(&["--cutoffs", "20,40", "--energy-unit", "meV"]),
+    );
+    assert_eq!(b["study"]["energy_unit"], "meV");
+    assert_scaled(&refs(&a), &refs(&b), mev_per_mc2, 1e-10);
+    let auto = |extra: &[&str]| {
+        let mut e = vec!["--mode", "auto"];
+        e.extend_from_slice(extra);
+        conv(&e)
+    };
+    let (a, b) = (
+        auto(&[]),
+        auto(&["--energy-unit", "K", "--field-unit", "T"]),
+    );
+    let lv = |j: &Value| -> Vec<f64> {
+        j["levels"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no levels: {j}"))
+            .iter()
+            .map(|l| f(&l["energy"]))
+            .collect()
+    };
+    // MEV_IN_K is written to 10 digits (1.3e-10 relative)
+    assert_scaled(&lv(&a), &lv(&b), mev_per_mc2 * MEV_IN_K, 1e-9);
+    assert!((f(&b["field"]) - 1e8).abs() < 1e-9 * 1e8, "{}", b["field"]);
 }

@@ -36,6 +36,10 @@ pub struct DemoArgs {
     /// Print a JSON result on stdout instead of the text.
     #[arg(long)]
     pub json: bool,
+    /// Comma-separated figure formats: svg, png, pdf (PNG at twice the SVG's size; text in
+    /// the shipped DejaVu Sans font).
+    #[arg(long, value_name = "LIST", default_value = "svg")]
+    pub format: String,
 }
 
 impl Default for DemoArgs {
@@ -43,6 +47,7 @@ impl Default for DemoArgs {
         DemoArgs {
             out: PathBuf::from("ladderfan-demo"),
             json: false,
+            format: "svg".into(),
         }
     }
 }
@@ -140,7 +145,11 @@ pub fn run(a: &DemoArgs) -> CliResult {
     files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &rec)?)?;
     files.add_csv("fan.csv", sweep::csv(&lm, &o.json)?)?;
     let fig = sweep::figure(&lm, &o.json, o.closed.as_deref(), None);
-    super::plot::add_figure(&mut files, "fan", &fig, &[ladderfan::plot::Format::Svg])?;
+    let formats = ladderfan::plot::Format::parse_list(&a.format)
+        .map_err(|e| common::bad_flag("--format", e.to_string()))?;
+    super::plot::add_figure(&mut files, "fan", &fig, &formats)?;
+    let levels_fig = super::levels::level_figure(&lm, &s, &idx, &rec);
+    super::plot::add_figure(&mut files, "levels", &levels_fig, &formats)?;
     let written: Vec<String> = files
         .write_all(&a.out)?
         .iter()

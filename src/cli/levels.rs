@@ -338,20 +338,7 @@ pub fn run(a: &LevelsArgs) -> CliResult {
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add_csv("levels.csv", to_csv(&lm, &s, &rec)?)?;
-        let fig = ladderfan::plot::level_plot(&ladderfan::plot::LevelDiagram {
-            title: format!(
-                "{}: levels at {} {}",
-                lm.model.name(),
-                rec.field,
-                rec.units.field
-            ),
-            energy_unit: rec.units.energy.clone(),
-            levels: idx
-                .iter()
-                .zip(&rec.levels)
-                .map(|(&i, l)| (s.levels[i].label.n.max(0) as f64, l.energy))
-                .collect(),
-        });
+        let fig = level_figure(&lm, &s, &idx, &rec);
         let formats = super::plot::formats(&a.output)?;
         super::plot::add_figure(&mut files, "levels", &fig, &formats)?;
         written = files.write_all(dir)?;
@@ -365,4 +352,28 @@ pub fn run(a: &LevelsArgs) -> CliResult {
         }
         emit(&text)
     }
+}
+
+/// The level diagram of `levels.csv`: each listed level (`idx` into `s`, records `rec` in the
+/// output units) a bar at its Landau index n.
+pub fn level_figure(
+    lm: &LoadedModel,
+    s: &Spectrum,
+    idx: &[usize],
+    rec: &SpectrumRecord,
+) -> ladderfan::plot::LinePlot {
+    ladderfan::plot::level_plot(&ladderfan::plot::LevelDiagram {
+        title: format!(
+            "{}: levels at {} {}",
+            lm.model.name(),
+            rec.field,
+            rec.units.field
+        ),
+        energy_unit: rec.units.energy.clone(),
+        levels: idx
+            .iter()
+            .zip(&rec.levels)
+            .map(|(&i, l)| (s.levels[i].label.n.max(0) as f64, l.energy))
+            .collect(),
+    })
 }

@@ -12,7 +12,7 @@ use ladderfan::semiclassics::fan::{
     LineFit,
 };
 use ladderfan::semiclassics::fft::{dominant_frequency, dos_trace, FrequencyPeak};
-use ladderfan::semiclassics::figure::{fan_figure, levels_figure};
+use ladderfan::semiclassics::figure::{fan_plot, levels_plot};
 use ladderfan::semiclassics::onsager::{
     band_edge, semiclassical_levels, Quantisation, SemiSpectrum,
 };
@@ -368,7 +368,10 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
             "ask for 1 to 500 levels (each Onsager level costs a few contours)",
         ));
     }
+    // three stages: the zero-field orbit, the level table, the fan of exact crossings
+    let bar = super::progress::Progress::new("orbits", 3, "stages");
     let (_, rec) = zero_field_orbit(&lm, &s, a)?;
+    bar.tick();
     let direction = band_edge(&Bands::new(&lm.model, a.kz, 0.0)?, &s)?.direction;
     let f = rec.onsager_frequency;
     let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(f / 25.0))?.abs();
@@ -385,7 +388,10 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
     let n_max = (f / b_min).max(f / field.abs()).max(a.levels as f64);
     let cutoff = a.cutoff.unwrap_or((4.0 * n_max) as usize + 60);
     let (semi, rows) = level_table(&lm, &s, a, field, cutoff)?;
+    bar.tick();
     let (c, fit, _, fan_rec) = fan(&lm, a, &rec, direction, (b_min, b_max), cutoff)?;
+    bar.tick();
+    bar.finish();
     let record = OrbitsRecord {
         model: lm.model.name().to_string(),
         origin: lm.origin.clone(),
@@ -405,25 +411,23 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
             .iter()
             .map(|x| (1.0 / x.field.abs(), x.index as f64))
             .collect();
-        let fu = u.field_unit();
-        let fan_svg = fan_figure(
+        let formats = super::plot::formats(&a.output)?;
+        let fan = fan_plot(
             &pts,
             fit.slope,
             fit.intercept,
             record.fan.predicted_intercept,
-            fu,
-        )?;
-        files.add("orbits_fan.svg", fan_svg);
+            u.field_unit(),
+        );
+        super::plot::add_figure(&mut files, "orbits_fan", &fan, &formats)?;
         let ex: Vec<(f64, f64)> = record
             .levels
             .iter()
             .map(|r| (r.n as f64, r.exact))
             .collect();
         let se: Vec<(f64, f64)> = semi.levels.iter().map(|l| (l.n as f64, l.energy)).collect();
-        files.add(
-            "orbits_levels.svg",
-            levels_figure(&ex, &se, u.energy_unit())?,
-        );
+        let levels = levels_plot(&ex, &se, u.energy_unit());
+        super::plot::add_figure(&mut files, "orbits_levels", &levels, &formats)?;
         files.write_all(dir)?;
     }
     if a.output.json {

@@ -48,7 +48,7 @@ pub fn native_units_only(
                 flag,
                 format!(
                     "`{what}` prints its results in the model's own units only; drop {flag} \
-                     (levels, fan, dispersion and optics take it)"
+                     (levels, fan, dispersion, optics, dos and converge take it)"
                 ),
             ));
         }

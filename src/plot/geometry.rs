@@ -17,6 +17,15 @@ pub struct TextBox {
     pub x1: f64,
     /// Bottom edge.
     pub y1: f64,
+    /// A line label (`class="line-label"`): allowed over the data, never over another text.
+    pub line_label: bool,
+}
+
+impl TextBox {
+    /// Whether the two boxes share more than half a pixel in both directions.
+    pub fn overlaps(&self, o: &TextBox) -> bool {
+        self.x0 < o.x1 - 0.5 && o.x0 < self.x1 - 0.5 && self.y0 < o.y1 - 0.5 && o.y0 < self.y1 - 0.5
+    }
 }
 
 fn attr(tag: &str, name: &str) -> Option<String> {
@@ -82,6 +91,7 @@ pub fn text_boxes(svg: &str) -> Vec<TextBox> {
             _ => (0.0, w),
         };
         let vertical = attr(tag, "transform").is_some_and(|t| t.starts_with("rotate(-90"));
+        let line_label = attr(tag, "class").is_some_and(|c| c == "line-label");
         let tb = if vertical {
             TextBox {
                 text,
@@ -89,6 +99,7 @@ pub fn text_boxes(svg: &str) -> Vec<TextBox> {
                 x1: x + 0.24 * size,
                 y0: y - b,
                 y1: y - a,
+                line_label,
             }
         } else {
             TextBox {
@@ -97,6 +108,7 @@ pub fn text_boxes(svg: &str) -> Vec<TextBox> {
                 x1: x + b,
                 y0: y - 0.76 * size,
                 y1: y + 0.24 * size,
+                line_label,
             }
         };
         out.push(tb);
@@ -104,22 +116,38 @@ pub fn text_boxes(svg: &str) -> Vec<TextBox> {
     out
 }
 
-/// What is wrong with the text layout: texts that leave the canvas and texts that overlap the
-/// plot area (each as one line naming the text). Empty when the figure is clean.
+/// What is wrong with the text layout: texts that leave the canvas, texts other than line
+/// labels that overlap the plot area, and line labels that overlap any other text (each as
+/// one line naming the text). Empty when the figure is clean.
 pub fn problems(svg: &str) -> Vec<String> {
     let mut out = Vec::new();
     let Some((w, h)) = canvas(svg) else {
         return vec!["no canvas size on the root element".into()];
     };
     let frame = plot_area(svg);
-    for t in text_boxes(svg) {
+    let boxes = text_boxes(svg);
+    for (i, t) in boxes.iter().enumerate().filter(|(_, t)| t.line_label) {
+        // each pair of labels once, every other text against every label
+        let clash = boxes
+            .iter()
+            .enumerate()
+            .filter(|&(j, o)| j != i && (!o.line_label || j > i))
+            .find(|&(_, o)| t.overlaps(o));
+        if let Some((_, o)) = clash {
+            out.push(format!(
+                "line label `{}` overlaps the text `{}`",
+                t.text, o.text
+            ));
+        }
+    }
+    for t in boxes {
         if t.x0 < -0.5 || t.y0 < -0.5 || t.x1 > w + 0.5 || t.y1 > h + 0.5 {
             out.push(format!(
                 "text `{}` leaves the {w}x{h} canvas: box ({:.1}, {:.1})-({:.1}, {:.1})",
                 t.text, t.x0, t.y0, t.x1, t.y1
             ));
         }
-        if let Some((fx0, fy0, fx1, fy1)) = frame {
+        if let Some((fx0, fy0, fx1, fy1)) = frame.filter(|_| !t.line_label) {
             if t.x0 < fx1 - 0.5 && t.x1 > fx0 + 0.5 && t.y0 < fy1 - 0.5 && t.y1 > fy0 + 0.5 {
                 out.push(format!(
                     "text `{}` overlaps the plot area: box ({:.1}, {:.1})-({:.1}, {:.1})",

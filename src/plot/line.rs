@@ -87,6 +87,8 @@ struct Layout {
     right: f64,
     top: f64,
     bottom: f64,
+    /// Height of the label bands above and below the frame (0 without labels).
+    band: f64,
     notes: Vec<String>,
     title_size: f64,
     key_x: f64,
@@ -101,7 +103,11 @@ fn layout(p: &LinePlot, cs: Option<&ColourScale>, y_ticks: &[(f64, String)]) -> 
         .flat_map(|n| wrap(n, NOTE, w - 40.0))
         .collect();
     let title_size = TITLE.min(TITLE * (w - 30.0) / text_width(&p.title, TITLE).max(1.0));
-    let top = 34.0 + 16.0 * notes.len() as f64 + 12.0;
+    let labelled = p.labels && p.curves.iter().any(|c| c.label.is_some());
+    // bands above and below the frame for the labels of lines leaving through the top or
+    // bottom edge
+    let band = if labelled { LABEL + 5.0 } else { 0.0 };
+    let top = 34.0 + 16.0 * notes.len() as f64 + 12.0 + band;
     let mut key_w: f64 = p
         .legend
         .iter()
@@ -122,7 +128,7 @@ fn layout(p: &LinePlot, cs: Option<&ColourScale>, y_ticks: &[(f64, String)]) -> 
         KEY
     };
     let key_w = key_w.min(max_key).max(90.0);
-    let label_w = if p.labels && p.curves.iter().any(|c| c.label.is_some()) {
+    let label_w = if labelled {
         p.curves
             .iter()
             .filter_map(|c| c.label.as_deref())
@@ -145,7 +151,8 @@ fn layout(p: &LinePlot, cs: Option<&ColourScale>, y_ticks: &[(f64, String)]) -> 
         left,
         right,
         top,
-        bottom: h - 58.0,
+        bottom: h - 58.0 - band,
+        band,
         notes,
         title_size,
         key_x: w - key_w - 4.0,
@@ -282,7 +289,7 @@ fn draw_axes(s: &mut Svg, p: &LinePlot, lay: &Layout, xa: &Axis, ya: &Axis) {
         s.path(&[(x, lay.top), (x, lay.bottom)], grid);
         s.path(&[(x, lay.bottom), (x, lay.bottom + 5.0)], tick);
         s.text(
-            (x, lay.bottom + 19.0),
+            (x, lay.bottom + lay.band + 19.0),
             TICK,
             Anchor::Middle,
             INK,
@@ -317,7 +324,7 @@ fn draw_axes(s: &mut Svg, p: &LinePlot, lay: &Layout, xa: &Axis, ya: &Axis) {
     }
     let xmid = 0.5 * (lay.left + lay.right);
     s.text(
-        (xmid, lay.bottom + 44.0),
+        (xmid, lay.bottom + lay.band + 44.0),
         AXIS,
         Anchor::Middle,
         INK,
@@ -388,7 +395,26 @@ fn pen_of(c: &Curve, colour: Rgb) -> Pen {
     }
 }
 
-/// Draw every curve; returns the label candidates (right-end y, text, colour).
+/// Where a line's label goes: the line reaches the right edge, leaves the frame through its
+/// top or bottom edge (or ends within 5 % of the frame height of it), or ends inside the
+/// frame.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Side {
+    Right,
+    Top,
+    Bottom,
+    Inside,
+}
+
+/// A label candidate: where its line ends (pixels), the text and its colour.
+struct EndLabel {
+    side: Side,
+    at: (f64, f64),
+    text: String,
+    colour: Rgb,
+}
+
+/// Draw every curve; returns the label candidates, one per labelled line that is drawn.
 fn draw_curves(
     s: &mut Svg,
     p: &LinePlot,
@@ -396,7 +422,7 @@ fn draw_curves(
     xa: &Axis,
     ya: &Axis,
     cs: Option<&ColourScale>,
-) -> Vec<(f64, String, Rgb)> {
+) -> Vec<EndLabel> {
     let mut px: Vec<(u8, Vec<Option<P>>)> = p
         .curves
         .iter()
@@ -449,13 +475,28 @@ fn draw_curves(
             .flatten()
             .max_by(|a, b| a.0.total_cmp(&b.0));
         if let (Some(text), Some(last)) = (&c.label, right_end) {
-            if last.0 >= lay.right - 0.03 * (lay.right - lay.left) {
-                let col = match (by_value, cs) {
-                    (true, Some(sc)) => scale_colour(sc, last.2),
-                    _ => base,
-                };
-                ends.push((last.1, text.clone(), col));
-            }
+            // an end this close to the top or bottom edge is labelled in the band there (a
+            // fan cut at its energy window ends just inside the padded frame)
+            let near = 0.05 * (lay.bottom - lay.top);
+            let side = if last.0 >= lay.right - 0.03 * (lay.right - lay.left) {
+                Side::Right
+            } else if last.1 <= lay.top + near {
+                Side::Top
+            } else if last.1 >= lay.bottom - near {
+                Side::Bottom
+            } else {
+                Side::Inside
+            };
+            let colour = match (by_value, cs) {
+                (true, Some(sc)) => scale_colour(sc, last.2),
+                _ => base,
+            };
+            ends.push(EndLabel {
+                side,
+                at: (last.0, last.1),
+                text: text.clone(),
+                colour,
+            });
         }
     }
     s.end_group();
@@ -484,15 +525,83 @@ fn draw_graded(s: &mut Svg, run: &[P], c: &Curve, sc: &ColourScale) {
     }
 }
 
-/// Labels right of the frame at their lines' ends, pushed apart to one line height (down
-/// first, then back up from the bottom of the frame); those that still do not fit between the
-/// top and bottom of the frame are left out.
-fn draw_labels(s: &mut Svg, lay: &Layout, mut ends: Vec<(f64, String, Rgb)>) {
-    ends.sort_by(|a, b| a.0.total_cmp(&b.0));
+/// Labels in the trade's notation where their lines end: right of the frame for lines that
+/// reach the right edge (pushed apart to one line height, down first, then back up from the
+/// bottom of the frame), in the bands above and below the frame for lines that leave through
+/// the top or bottom edge (centred on the exit, nudged sideways), and beside the end for lines
+/// that end inside the frame. A label that would overlap one already placed (or leave its
+/// band) is left out, so no two labels overlap.
+fn draw_labels(s: &mut Svg, lay: &Layout, ends: Vec<EndLabel>) {
+    let mut placed: Vec<Rect> = Vec::new();
+    s.group("labels");
+    let right: Vec<&EndLabel> = ends.iter().filter(|e| e.side == Side::Right).collect();
+    for (e, y) in right_column(lay, &right) {
+        let x = lay.right + 6.0;
+        let r = label_rect(x, y + 4.0, &e.text);
+        if y >= lay.top && !placed.iter().any(|p| p.overlaps(&r)) {
+            placed.push(r);
+            s.line_label((x, y + 4.0), LABEL, Anchor::Start, e.colour, &e.text);
+        }
+    }
+    let mut rest: Vec<&EndLabel> = ends.iter().filter(|e| e.side != Side::Right).collect();
+    rest.sort_by(|a, b| a.at.0.total_cmp(&b.at.0));
+    for e in rest {
+        let w = text_width(&e.text, LABEL);
+        let (x0, y) = match e.side {
+            Side::Top => (e.at.0 - 0.5 * w, lay.top - 4.0),
+            Side::Bottom => (e.at.0 - 0.5 * w, lay.bottom + LABEL + 1.0),
+            _ => (e.at.0 + 4.0, e.at.1 + 4.0),
+        };
+        // nudge right by up to three label widths, then give up
+        let spot = (0..8)
+            .map(|k| x0 + k as f64 * 0.5 * w.max(LABEL))
+            .map(|x| label_rect(x, y, &e.text))
+            .find(|r| {
+                r.x0 >= lay.left
+                    && r.x1 <= lay.right
+                    && (e.side != Side::Inside || r.y0 >= lay.top && r.y1 <= lay.bottom)
+                    && !placed.iter().any(|p| p.overlaps(r))
+            });
+        if let Some(r) = spot {
+            s.line_label((r.x0, y), LABEL, Anchor::Start, e.colour, &e.text);
+            placed.push(r);
+        }
+    }
+    s.end_group();
+}
+
+/// A label's box (baseline at `y`, start at `x`): 0.76 em above, 0.24 em below.
+struct Rect {
+    x0: f64,
+    y0: f64,
+    x1: f64,
+    y1: f64,
+}
+
+impl Rect {
+    fn overlaps(&self, o: &Rect) -> bool {
+        self.x0 < o.x1 && o.x0 < self.x1 && self.y0 < o.y1 && o.y0 < self.y1
+    }
+}
+
+fn label_rect(x: f64, y: f64, text: &str) -> Rect {
+    Rect {
+        x0: x,
+        y0: y - 0.76 * LABEL,
+        x1: x + text_width(text, LABEL),
+        y1: y + 0.24 * LABEL,
+    }
+}
+
+/// The right-hand column: the labels' y pushed apart to one line height, down first, then
+/// back up from the bottom of the frame.
+fn right_column<'a>(lay: &Layout, ends: &[&'a EndLabel]) -> Vec<(&'a EndLabel, f64)> {
+    let mut ends: Vec<&EndLabel> = ends.to_vec();
+    ends.sort_by(|a, b| a.at.1.total_cmp(&b.at.1));
     let step = LABEL + 1.0;
     let mut ys: Vec<f64> = Vec::with_capacity(ends.len());
     for e in &ends {
-        let y = ys.last().map_or(e.0, |&l: &f64| e.0.max(l + step));
+        let y = ys.last().map_or(e.at.1, |&l: &f64| e.at.1.max(l + step));
         ys.push(y);
     }
     let mut next = lay.bottom;
@@ -500,21 +609,7 @@ fn draw_labels(s: &mut Svg, lay: &Layout, mut ends: Vec<(f64, String, Rgb)>) {
         *y = y.min(next);
         next = *y - step;
     }
-    s.group("labels");
-    for ((_, text, colour), y) in ends.iter().zip(ys) {
-        if y < lay.top {
-            continue;
-        }
-        s.text(
-            (lay.right + 6.0, y + 4.0),
-            LABEL,
-            Anchor::Start,
-            *colour,
-            text,
-            false,
-        );
-    }
-    s.end_group();
+    ends.into_iter().zip(ys).collect()
 }
 
 fn draw_key(s: &mut Svg, p: &LinePlot, lay: &Layout, cs: Option<&ColourScale>) {

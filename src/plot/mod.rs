@@ -16,6 +16,7 @@ pub mod colour;
 pub mod geometry;
 mod line;
 pub mod render;
+pub mod study;
 pub mod svg;
 mod thin;
 

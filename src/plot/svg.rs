@@ -174,6 +174,25 @@ impl Svg {
         );
     }
 
+    /// A line label (`class="line-label"`, the only text allowed over the data: the geometry
+    /// checks ([`super::geometry`]) require that no two of them overlap).
+    pub fn line_label(
+        &mut self,
+        (x, y): (f64, f64),
+        size: f64,
+        anchor: Anchor,
+        colour: Rgb,
+        s: &str,
+    ) {
+        let _ = writeln!(
+            self.buf,
+            "<text class=\"line-label\" x=\"{x:.2}\" y=\"{y:.2}\" font-size=\"{size:.1}\" text-anchor=\"{}\" fill=\"{}\">{}</text>",
+            anchor.name(),
+            colour.hex(),
+            escape(s)
+        );
+    }
+
     /// The finished document.
     pub fn finish(mut self) -> String {
         self.buf.push_str("</svg>\n");
@@ -181,20 +200,56 @@ impl Svg {
     }
 }
 
-/// Estimated advance width of `s` in pixels at font size `size`, from DejaVu Sans' glyph
-/// widths rounded up by class (digits 0.64 em, narrow glyphs 0.34 em, capitals 0.78 em, `m`
-/// and `w` 1.0 em, other glyphs 0.64 em; DejaVu Sans' advances, read from the font, from
-/// memory). Layout and the geometry checks both use it, so it errs on the wide side.
+/// The shipped font's advance widths in em (advance / units per em): the first 128 code
+/// points in a table, read once from `assets/fonts/DejaVuSans.ttf` with ttf-parser.
+struct Metrics {
+    face: Option<ttf_parser::Face<'static>>,
+    ascii: [f64; 128],
+}
+
+fn metrics() -> &'static Metrics {
+    static M: std::sync::OnceLock<Metrics> = std::sync::OnceLock::new();
+    M.get_or_init(|| {
+        let face = ttf_parser::Face::parse(super::render::FONT, 0).ok();
+        let mut ascii = [FALLBACK_EM; 128];
+        if let Some(f) = &face {
+            for (c, w) in ascii.iter_mut().enumerate() {
+                if let Some(a) = char::from_u32(c as u32).and_then(|ch| advance_em(f, ch)) {
+                    *w = a;
+                }
+            }
+        }
+        Metrics { face, ascii }
+    })
+}
+
+/// Width used for a glyph the font lacks (its `.notdef` box is about this wide).
+const FALLBACK_EM: f64 = 0.6;
+
+fn advance_em(f: &ttf_parser::Face<'_>, c: char) -> Option<f64> {
+    let upem = f64::from(f.units_per_em());
+    let g = f.glyph_index(c)?;
+    f.glyph_hor_advance(g).map(|a| f64::from(a) / upem)
+}
+
+/// Advance width of `s` in pixels at font size `size`: the sum of the glyph advances of the
+/// shipped font (DejaVu Sans, read with ttf-parser and cached), the width the renderers lay the
+/// text out with before kerning (DejaVu's kerning pairs only tighten text, so this is never
+/// narrower than the drawn text). Layout and the geometry checks both use it.
 pub fn text_width(s: &str, size: f64) -> f64 {
+    let m = metrics();
     let em: f64 = s
         .chars()
-        .map(|c| match c {
-            '0'..='9' => 0.64,
-            'i' | 'j' | 'l' | '.' | ',' | ':' | ';' | '\'' | '|' | '!' | ' ' | '(' | ')' | '['
-            | ']' | 'f' | 't' | 'r' | 'I' | '-' => 0.42,
-            'm' | 'w' | 'M' | 'W' => 1.0,
-            'A'..='Z' => 0.78,
-            _ => 0.64,
+        .map(|c| {
+            let i = c as usize;
+            if i < 128 {
+                m.ascii[i]
+            } else {
+                m.face
+                    .as_ref()
+                    .and_then(|f| advance_em(f, c))
+                    .unwrap_or(FALLBACK_EM)
+            }
         })
         .sum();
     em * size

@@ -252,6 +252,57 @@ impl FermiRecord {
     }
 }
 
+impl VolumeRecord {
+    /// Energies times `e`, densities of states per energy divided by `e`, fields times `f`;
+    /// carrier densities and kz unchanged.
+    fn scale(&mut self, e: f64, f: f64) {
+        self.neutrality_energy = self.neutrality_energy.map(|x| x * e);
+        for p in &mut self.dos {
+            p.0 *= e;
+            p.1 /= e;
+        }
+        if let Some(r) = &mut self.fermi {
+            r.fermi_energy *= e;
+            r.dos_at_fermi_per_cm3 /= e;
+        }
+        for r in &mut self.fermi_sweep {
+            r.field *= f;
+            r.fermi_energy *= e;
+            r.dos_at_fermi_per_cm3 /= e;
+        }
+    }
+}
+
+impl DosRecord {
+    /// The record in the output units `o`: energies (grid, Fermi levels, widths, window,
+    /// reference) times [`OutputUnits::energy_factor`], densities of states per energy divided
+    /// by it (a DOS per meV becomes a DOS per eV, 1000 times larger), fields times
+    /// [`OutputUnits::field_factor`]; carrier densities, degeneracies and kz unchanged.
+    /// Applied once, to a record in the model's units.
+    pub fn in_units(mut self, o: OutputUnits) -> Self {
+        let (e, f) = (o.energy_factor(), o.field_factor());
+        self.units = self.units.shown(o);
+        self.field *= f;
+        self.reference_energy *= e;
+        self.width *= e;
+        self.converged_window = (self.converged_window.0 * e, self.converged_window.1 * e);
+        for p in &mut self.dos {
+            p.0 *= e;
+            p.1 /= e;
+        }
+        if let Some(r) = &mut self.fermi {
+            r.scale(e, f);
+        }
+        for r in &mut self.fermi_sweep {
+            r.scale(e, f);
+        }
+        if let Some(v) = &mut self.volume {
+            v.scale(e, f);
+        }
+        self
+    }
+}
+
 impl OpticsRecord {
     /// The record in the output units `o`: transition and level energies, Fermi levels,
     /// widths and the reference energy times [`OutputUnits::energy_factor`], the DOS at the

@@ -1,101 +1,47 @@
-//! The convergence figure: residual bound (solid), Kato-Temple bound (dotted) and actual
-//! error (dashed, with dots) against the cutoff, both axes logarithmic, the key beside the
-//! data.
+//! The figures of `converge`: the study's is the library's
+//! ([`ladderfan::plot::study::study_plot`]); `converge-auto` draws the error bounds of the
+//! selected levels at the final cutoff against their energies.
 
 use ladderfan::plot::colour::categorical;
-use ladderfan::plot::{Curve, LegendEntry, LinePlot, Rgb, Scale, Stroke};
-use ladderfan::trust::converge::Study;
-use ladderfan::trust::report::PLOT_MAX_LEVELS;
+pub(super) use ladderfan::plot::study::study_plot as convergence_plot;
+use ladderfan::plot::{Curve, LegendEntry, LinePlot, Scale};
+use ladderfan::trust::auto::AutoResult;
 
-/// The figure of a study (the lowest [`PLOT_MAX_LEVELS`] tracked levels); zero errors sit at
-/// the bottom of the axis (the smallest positive value / 10).
-pub(super) fn convergence_plot(study: &Study) -> LinePlot {
-    let shown = &study.levels[..study.levels.len().min(PLOT_MAX_LEVELS)];
-    let floor = shown
-        .iter()
-        .flat_map(|l| {
-            l.entries
-                .iter()
-                .flat_map(|e| [e.bound, e.actual_error, e.kato_temple])
-        })
-        .flatten()
-        .filter(|v| v.is_finite() && *v > 0.0)
-        .fold(f64::INFINITY, f64::min)
-        / 10.0;
-    let floor = if floor.is_finite() { floor } else { 1e-300 };
+/// The figure of `converge-auto.csv`: residual bound (dots) and Kato-Temple bound (dots of a
+/// second colour, where certified) of every selected level against its energy, the bound on a
+/// log axis; `unit` is the energy unit of `res` (already converted to the output unit).
+pub(super) fn auto_plot(res: &AutoResult, unit: &str, tolerance: f64) -> LinePlot {
+    let s = &res.spectrum;
+    let dot = |key: usize, x: f64, y: f64| Curve {
+        color_key: key,
+        points: vec![(x, y)],
+        ..Curve::default()
+    };
     let mut curves = Vec::new();
-    let mut legend = Vec::new();
-    for (t, l) in shown.iter().enumerate() {
-        let colour = categorical(t);
-        let series = |f: &dyn Fn(&ladderfan::trust::converge::StudyEntry) -> Option<f64>| {
-            l.entries
-                .iter()
-                .filter_map(|e| f(e).map(|v| (e.cutoff as f64, v.max(floor))))
-                .collect::<Vec<_>>()
-        };
-        let base = Curve {
-            colour: Some(colour),
-            ..Curve::default()
-        };
-        curves.push(Curve {
-            points: series(&|e| e.bound),
-            width: 2.0,
-            ..base.clone()
-        });
-        curves.push(Curve {
-            points: series(&|e| e.kato_temple),
-            stroke: Stroke::Dotted,
-            width: 1.4,
-            ..base.clone()
-        });
-        curves.push(Curve {
-            points: series(&|e| e.actual_error),
-            stroke: Stroke::Dotted,
-            width: 1.0,
-            markers: true,
-            ..base
-        });
-        legend.push(LegendEntry::solid(
-            format!(
-                "E = {:.6e} ({}:{})",
-                l.reference_value, l.sector.class, l.sector.label
-            ),
-            colour,
-        ));
+    for &i in &res.selected {
+        let l = &s.levels[i];
+        if l.bound > 0.0 {
+            curves.push(dot(0, l.energy, l.bound));
+        }
+        if let Some(k) = l.kato_temple.filter(|k| *k > 0.0) {
+            curves.push(dot(1, l.energy, k));
+        }
     }
-    let grey = Some(Rgb(90, 90, 90));
-    legend.push(LegendEntry {
-        text: "solid: residual bound".into(),
-        colour: grey,
-        stroke: Stroke::Solid,
-    });
-    legend.push(LegendEntry {
-        text: "dotted: Kato-Temple bound".into(),
-        colour: grey,
-        stroke: Stroke::Dotted,
-    });
-    legend.push(LegendEntry {
-        text: "dots: actual error".into(),
-        colour: grey,
-        stroke: Stroke::Dotted,
-    });
     LinePlot {
-        title: format!("Convergence in the cutoff: {}", study.model),
-        x_label: "cutoff N (orbitals)".into(),
-        y_label: format!("error [{}]", study.energy_unit),
+        title: format!("Error bounds at the automatic cutoff: {}", s.model),
+        x_label: format!("E [{unit}]"),
+        y_label: format!("bound [{unit}]"),
         curves,
         notes: vec![format!(
-            "cutoffs {}; errors against the largest cutoff; zero errors drawn at the floor {:.1e}",
-            study
-                .cutoffs
-                .iter()
-                .map(|c| c.to_string())
-                .collect::<Vec<_>>()
-                .join(", "),
-            floor
+            "{} selected levels; tolerance {tolerance:e} (relative) met at cutoff {} (first at {})",
+            res.selected.len(),
+            res.cutoff,
+            res.first_converged_cutoff
         )],
-        legend,
-        x_scale: Scale::Log,
+        legend: vec![
+            LegendEntry::solid("residual bound", categorical(0)),
+            LegendEntry::solid("Kato-Temple bound", categorical(1)),
+        ],
         y_scale: Scale::Log,
         labels: false,
         split_jumps: false,

@@ -22,8 +22,8 @@ pub(super) fn study_file(
         vec!["energies and errors relative to the reference energy".into()],
         vec![format!(
             "field {} {}, kz {} {}, cutoffs {:?}, relative tolerance {:e}",
-            point.field,
-            u.field_unit(),
+            point.field * lm.shown.field_factor(),
+            lm.shown.field.label(),
             point.kz,
             u.wavenumber_unit(),
             st.cutoffs,
@@ -62,7 +62,7 @@ pub(super) fn auto_csv(lm: &common::LoadedModel, res: &AutoResult) -> CliResult<
         vec![format!(
             "--mode auto: field {} {}, kz {} {}, final cutoff {}, first converged cutoff {}",
             s.point.field,
-            s.units.field_unit(),
+            lm.shown.field.label(),
             s.point.kz,
             s.units.wavenumber_unit(),
             res.cutoff,

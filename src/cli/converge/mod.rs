@@ -161,7 +161,7 @@ fn auto_json<'a>(
         command: "converge",
         mode: "auto",
         model: ModelRecord::new(&lm.model, &lm.origin),
-        units: UnitsRecord::new(&lm.model),
+        units: UnitsRecord::new(&lm.model).shown(lm.shown),
         field: s.point.field,
         kz: s.point.kz,
         tolerance: tol,
@@ -195,8 +195,8 @@ fn auto_json<'a>(
 
 /// Run `ladderfan converge`.
 pub fn run(a: &ConvergeArgs) -> CliResult {
-    common::native_units_only(&a.output, "converge")?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let sel = selection(a)?;
     if !(a.tolerance.is_finite() && a.tolerance > 0.0) {
         return Err(bad_flag(
@@ -256,7 +256,7 @@ fn run_study(
         &|| bar.tick(),
     );
     bar.finish();
-    let st = st?;
+    let st = study_in_units(st?, lm.shown);
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
@@ -276,12 +276,12 @@ fn run_study(
             command: "converge",
             mode: "study",
             model: ModelRecord::new(&lm.model, &lm.origin),
-            units: UnitsRecord::new(&lm.model),
+            units: UnitsRecord::new(&lm.model).shown(lm.shown),
             study: &st,
             seconds: a.timings.then_some(st.seconds.as_slice()),
         })
     } else {
-        let mut text = study_table(&st, &lm.origin, lm.model.units());
+        let mut text = study_table(&st, &lm.origin, lm.model.units(), lm.shown);
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }
@@ -297,7 +297,7 @@ fn run_auto(
     base: Settings,
     sel: Selection,
 ) -> CliResult {
-    let unit = lm.model.units().energy_unit();
+    let unit = lm.shown.energy.label();
     if r.cutoff > a.max_cutoff {
         return Err(bad_flag(
             "--max-cutoff",
@@ -320,20 +320,67 @@ fn run_auto(
     let bar = super::progress::Progress::open_ended("converge --mode auto", "cutoffs");
     let res = auto_with(&lm.model, r.point(), &s, &|| bar.tick());
     bar.finish();
-    let res = res?;
+    let res = auto_in_units(res?, lm.shown);
     let mut written = Vec::new();
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add_csv("converge-auto.csv", auto_csv(lm, &res)?)?;
+        let formats = super::plot::formats(&a.output)?;
+        super::plot::add_figure(
+            &mut files,
+            "converge-auto",
+            &figure::auto_plot(&res, unit, a.tolerance),
+            &formats,
+        )?;
         written = files.write_all(dir)?;
     }
     if a.output.json {
         emit_json(&auto_json(lm, &res, a.tolerance, a.timings))
     } else {
-        let mut text = auto_table(&res, unit, &lm.origin, a.tolerance);
+        let mut text = auto_table(&res, unit, lm.shown.field.label(), &lm.origin, a.tolerance);
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }
         emit(&text)
     }
+}
+
+/// The study in the output units `o`: energies, bounds, changes and errors times
+/// [`ladderfan::units::OutputUnits::energy_factor`], the field times
+/// [`ladderfan::units::OutputUnits::field_factor`]; rates and cutoffs unchanged.
+fn study_in_units(mut st: Study, o: ladderfan::units::OutputUnits) -> Study {
+    let (e, f) = (o.energy_factor(), o.field_factor());
+    st.energy_unit = o.energy.label().to_string();
+    st.point.field *= f;
+    for l in &mut st.levels {
+        l.reference_value *= e;
+        for x in &mut l.entries {
+            for v in [
+                &mut x.energy,
+                &mut x.bound,
+                &mut x.kato_temple,
+                &mut x.change,
+                &mut x.actual_error,
+            ] {
+                *v = v.map(|y| y * e);
+            }
+        }
+    }
+    st
+}
+
+/// The automatic result in the output units `o`: the energies and bounds of the spectrum's
+/// levels and its reference energy times the energy factor, its field times the field factor
+/// (bound over tolerance is a ratio and stays).
+fn auto_in_units(mut res: AutoResult, o: ladderfan::units::OutputUnits) -> AutoResult {
+    let (e, f) = (o.energy_factor(), o.field_factor());
+    let s = &mut res.spectrum;
+    s.point.field *= f;
+    s.reference_energy *= e;
+    for l in &mut s.levels {
+        l.energy *= e;
+        l.bound *= e;
+        l.kato_temple = l.kato_temple.map(|k| k * e);
+    }
+    res
 }

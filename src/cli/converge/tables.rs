@@ -33,7 +33,12 @@ fn bound_cell(e: &ladderfan::trust::converge::StudyEntry) -> String {
 
 /// The study as an aligned table: one row per tracked level, the bound at each cutoff, the
 /// actual error at the second-largest cutoff, rates and the needed cutoff.
-pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> String {
+pub fn study_table(
+    st: &Study,
+    origin: &str,
+    units: ladderfan::units::Units,
+    shown: ladderfan::units::OutputUnits,
+) -> String {
     let mut out = format!(
         "model: {} ({}), field {} {}, kz {} {}\nconvergence study over cutoffs {:?}, tolerance {:e} (relative); \
          energies in {} relative to the reference energy\n\
@@ -43,7 +48,7 @@ pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> 
         st.model,
         origin,
         st.point.field,
-        units.field_unit(),
+        shown.field.label(),
         st.point.kz,
         units.wavenumber_unit(),
         st.cutoffs,
@@ -103,7 +108,13 @@ pub fn study_table(st: &Study, origin: &str, units: ladderfan::units::Units) -> 
 }
 
 /// The automatic run as text: summary, steps, selected levels, warnings.
-pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> String {
+pub fn auto_table(
+    res: &AutoResult,
+    unit: &str,
+    field_unit: &str,
+    origin: &str,
+    tol: f64,
+) -> String {
     let s = &res.spectrum;
     let mut out = format!(
         "model: {} ({}), field {} {}, kz {} {}\ntolerance {tol:e} met at cutoff {} (first met at {}, confirmed), \
@@ -111,7 +122,7 @@ pub fn auto_table(res: &AutoResult, unit: &str, origin: &str, tol: f64) -> Strin
         s.model,
         origin,
         s.point.field,
-        s.units.field_unit(),
+        field_unit,
         s.point.kz,
         s.units.wavenumber_unit(),
         res.cutoff,

@@ -236,8 +236,8 @@ pub fn run(a: &DosArgs) -> CliResult {
             ),
         ));
     }
-    common::native_units_only(&a.output, "dos")?;
-    let lm = load_model(&a.model)?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let u = lm.model.units();
     let (r, problem) = common::resolve_problem(
         &lm,
@@ -293,7 +293,8 @@ pub fn run(a: &DosArgs) -> CliResult {
             .map(|p| FermiRecord::new(u, &p.solution))
             .collect(),
         volume,
-    };
+    }
+    .in_units(lm.shown);
     let written = write_files(a, &lm, &json, &spec, &ld, &sweep_points, &broadening)?;
     if a.output.json {
         return emit_json(&json);

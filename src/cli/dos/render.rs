@@ -4,7 +4,7 @@ use super::*;
 
 /// The energy unit as printed in the sidecars' notes.
 pub(super) fn energy_unit(lm: &LoadedModel) -> String {
-    lm.model.units().energy_unit().to_string()
+    lm.shown.energy.label().to_string()
 }
 
 /// `dos_<what>per_<energy>_<area or volume>`, e.g. `dos_per_meV_cm2`, and its unit.
@@ -19,13 +19,14 @@ fn dos_column(lm: &LoadedModel, what: &str, per: &str, meaning: &str) -> Column 
 
 pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
     let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     let mut s = format!(
         "model: {} ({}), field {} {}, kz {} {}, cutoff {}\n",
         lm.model.name(),
         lm.origin,
         j.field,
-        u.field_unit(),
+        fu,
         j.kz,
         u.wavenumber_unit(),
         j.cutoff
@@ -82,7 +83,7 @@ pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
             j.fermi_sweep.len(),
             first.field,
             last.field,
-            u.field_unit(),
+            fu,
             fmt_num(first.filling_factor, 5),
             fmt_num(last.filling_factor, 5)
         ));
@@ -94,7 +95,8 @@ pub(super) fn summary(lm: &LoadedModel, j: &DosRecord) -> String {
 /// volume, the 3D Fermi-level sweep and the Fermi level at the given density.
 fn volume_summary(lm: &LoadedModel, v: &VolumeRecord) -> String {
     let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     let mut out = String::new();
     out.push_str(&format!(
         "kz-integrated (per volume): kz limit {} {}, {} kz points{}, last grid change {:.1e} of the peak DOS\n",
@@ -118,7 +120,7 @@ fn volume_summary(lm: &LoadedModel, v: &VolumeRecord) -> String {
             v.fermi_sweep.len(),
             first.field,
             last.field,
-            u.field_unit(),
+            fu,
             fmt_num(first.fermi_energy, 6),
             fmt_num(last.fermi_energy, 6)
         ));
@@ -151,7 +153,7 @@ pub(super) fn dos_csv(
                 "density_invcm2: n(E) at T = 0 with the Fermi level at E, counted from {} \
                  (electrons above minus holes below)",
                 neutrality
-                    .map(|e| format!("neutrality at {e} {eu}"))
+                    .map(|e| format!("neutrality at {} {eu}", e * lm.shown.energy_factor()))
                     .unwrap_or_else(|| "an empty band".into())
             ),
         ],
@@ -159,7 +161,7 @@ pub(super) fn dos_csv(
             format!(
                 "field {} {}, kz {}, cutoff {}",
                 j.field,
-                lm.model.units().field_unit(),
+                lm.shown.field.label(),
                 j.kz,
                 j.cutoff
             ),
@@ -187,9 +189,11 @@ pub(super) fn dos_csv(
         ),
     ];
     let mut rec = Vec::new();
+    // the grid is in the output unit; the occupation is computed in the model's
+    let to_model = 1.0 / lm.shown.energy_factor();
     for &(e, g) in &j.dos {
         let occ = Occupation {
-            chemical_potential: e,
+            chemical_potential: e * to_model,
             thermal_energy: 0.0,
             broadening: ld.broadening,
             width: ld.width,
@@ -207,12 +211,12 @@ pub(super) fn dos_csv(
 }
 
 pub(super) fn dos_plot_of(lm: &LoadedModel, j: &DosRecord) -> LinePlot {
-    let eu = lm.model.units().energy_unit();
+    let eu = lm.shown.energy.label();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; {} converged levels",
         lm.model.name(),
         j.field,
-        lm.model.units().field_unit(),
+        lm.shown.field.label(),
         j.shape,
         fmt_num(j.width, 4),
         j.levels_used
@@ -248,7 +252,7 @@ pub(super) fn dos_plot(
     fermi: Option<(f64, String)>,
     note: String,
 ) -> LinePlot {
-    let eu = lm.model.units().energy_unit();
+    let eu = lm.shown.energy.label();
     let peak = dos.iter().map(|p| p.1).fold(0.0, f64::max);
     let p = if peak > 0.0 {
         peak.log10().floor()
@@ -302,6 +306,7 @@ pub(super) fn dos_plot(
 pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> CliResult<CsvFile> {
     let eu = energy_unit(lm);
     let u = lm.model.units();
+    let fu = lm.shown.field.label();
     let cu = common::column_units(lm);
     let meta = csv_meta(
         lm,
@@ -322,7 +327,7 @@ pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> Cl
                 "field {} {}, cutoff {}, kz integrated over [{}, {}] {} with {} points (trapezoid; \
                  last grid change {:e} of the peak DOS)",
                 j.field,
-                u.field_unit(),
+                fu,
                 j.cutoff,
                 -v.kz_max,
                 v.kz_max,
@@ -358,12 +363,12 @@ pub(super) fn dos3d_csv(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> Cl
 }
 
 pub(super) fn dos3d_plot(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> LinePlot {
-    let eu = lm.model.units().energy_unit();
+    let eu = lm.shown.energy.label();
     let note = format!(
         "{}, {} {}; {:?} width {} {eu}; kz integrated, {} points",
         lm.model.name(),
         j.field,
-        lm.model.units().field_unit(),
+        lm.shown.field.label(),
         j.shape,
         fmt_num(j.width, 4),
         v.kz_points
@@ -500,8 +505,8 @@ pub(super) fn fermi_plot(
     spectra: &[&Spectrum],
     broadening: &Broadening,
 ) -> LinePlot {
-    let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     let ef: Vec<(f64, f64)> = j
         .fermi_sweep
         .iter()
@@ -512,7 +517,9 @@ pub(super) fn fermi_plot(
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
             (a.min(p.1), b.max(p.1))
         });
-    let pad = 0.25 * (hi - lo).max(1e-9) + 2.0 * j.width;
+    // the spectra and the broadening are in the model's units, the record in the output's
+    let (ke, kf) = (lm.shown.energy_factor(), lm.shown.field_factor());
+    let pad = 0.25 * (hi - lo).max(1e-9 * ke) + 2.0 * j.width;
     let (ylo, yhi) = (lo - pad, hi + pad);
     // the converged Landau levels in the window, thin, followed by their track keys
     let owned: Vec<Spectrum> = spectra.iter().map(|s| (*s).clone()).collect();
@@ -521,7 +528,7 @@ pub(super) fn fermi_plot(
         .filter(|t| {
             t.points
                 .iter()
-                .any(|p| p.converged && p.energy > ylo && p.energy < yhi)
+                .any(|p| p.converged && p.energy * ke > ylo && p.energy * ke < yhi)
         })
         .map(|t| Curve {
             colour: Some(Rgb(150, 150, 150)),
@@ -531,9 +538,10 @@ pub(super) fn fermi_plot(
                 .points
                 .iter()
                 .map(|p| {
-                    // outside the frame: break the line (plotters would clamp it to the border)
-                    let inside = p.converged && p.energy > ylo && p.energy < yhi;
-                    (p.field, if inside { p.energy } else { f64::NAN })
+                    // outside the frame: break the line (never clamped to the border)
+                    let e = p.energy * ke;
+                    let inside = p.converged && e > ylo && e < yhi;
+                    (p.field * kf, if inside { e } else { f64::NAN })
                 })
                 .collect(),
             ..Curve::default()
@@ -547,7 +555,7 @@ pub(super) fn fermi_plot(
     });
     LinePlot {
         title: format!("Fermi level at fixed density: {}", lm.model.name()),
-        x_label: format!("B [{}]", u.field_unit()),
+        x_label: format!("B [{}]", fu),
         y_label: format!("E [{eu}]"),
         curves,
         y_range: Some((ylo, yhi)),
@@ -560,11 +568,12 @@ pub(super) fn fermi_plot(
             j.temperature_k,
             j.shape,
             match broadening.scaling {
-                WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width, 4)),
+                WidthScaling::Constant => format!("{} {eu}", fmt_num(broadening.width * ke, 4)),
                 WidthScaling::SqrtField { reference_field } => format!(
-                    "{} {eu} x sqrt(B / {reference_field} {})",
-                    fmt_num(broadening.width, 4),
-                    u.field_unit()
+                    "{} {eu} x sqrt(B / {} {})",
+                    fmt_num(broadening.width * ke, 4),
+                    reference_field * kf,
+                    fu
                 ),
             }
         )],
@@ -584,14 +593,14 @@ pub(super) fn fermi_plot(
 
 /// The kz-integrated Fermi level at fixed 3D density against the field.
 pub(super) fn fermi3d_plot(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) -> LinePlot {
-    let u = lm.model.units();
-    let eu = u.energy_unit();
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
     LinePlot {
         title: format!(
             "Fermi level at fixed density per volume: {}",
             lm.model.name()
         ),
-        x_label: format!("B [{}]", u.field_unit()),
+        x_label: format!("B [{}]", fu),
         y_label: format!("E_F [{eu}]"),
         curves: vec![Curve {
             color_key: 1,
