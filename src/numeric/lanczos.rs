@@ -100,7 +100,7 @@ pub(super) fn krylov_schur<T: Scalar>(
                         for c in 0..kk {
                             let col = &mut v.as_mut_slice()[c * n..(c + 1) * n];
                             let inv = T::from_real(1.0 / norm(col));
-                            col.iter_mut().for_each(|z| *z = *z * inv);
+                            col.iter_mut().for_each(|z| *z *= inv);
                         }
                         return Ok(Krylov::Done {
                             basis: v,
