@@ -271,6 +271,14 @@ pub enum Footprint {
 /// a few more.
 pub const SWEEP_TRACK_BYTES: u64 = 64;
 
+/// Bytes a streamed sweep ([`Footprint::Stream`]) keeps per level and point: 32 for the track's
+/// optional energy and bound (an upper bound: only the levels shown are kept) and 8 for the CSV
+/// row's text, built before the atomic write (about 9 measured per level and point over all of
+/// them, 71 MB for 4000 points of 2000 levels; the tracks' slack covers the difference). Checked
+/// against the measured peak at both ends: a 16-point fan at cutoff 20000 (tests/memory.rs,
+/// estimate / peak 1.2-1.3) and a 4000-point fan at cutoff 1000 (see the README, Memory).
+pub const SWEEP_STREAM_BYTES: u64 = 40;
+
 /// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
 /// measured: about 420).
 pub const TABLE_BYTES_PER_LEVEL: u64 = 480;

@@ -434,10 +434,21 @@ fn draw_curves(
         .zip(&px)
         .map(|(c, q)| breaks(p, c, &q.1, lay))
         .collect();
+    // where each line ends before thinning: a line that thinning cuts short does not end where
+    // its drawn part does, so it gets no label beside that cut
+    let drawn_to: Vec<f64> = px
+        .iter()
+        .map(|(_, q)| {
+            q.iter()
+                .flatten()
+                .map(|a| a.0)
+                .fold(f64::NEG_INFINITY, f64::max)
+        })
+        .collect();
     thin(&mut px, p.thin_px, (lay.top, lay.bottom));
     let mut ends = Vec::new();
     s.group("data");
-    for ((c, (_, pts)), b) in p.curves.iter().zip(&px).zip(&brk) {
+    for (((c, (_, pts)), b), &full_x) in p.curves.iter().zip(&px).zip(&brk).zip(&drawn_to) {
         let base = c.colour.unwrap_or_else(|| match (&p.colouring, cs) {
             (Colouring::Key { .. }, Some(sc)) => scale_colour(sc, c.color_key as f64),
             _ => categorical(c.color_key),
@@ -487,6 +498,10 @@ fn draw_curves(
             } else {
                 Side::Inside
             };
+            if side == Side::Inside && last.0 < full_x - 0.5 {
+                // cut short by thinning: its end is not here
+                continue;
+            }
             let colour = match (by_value, cs) {
                 (true, Some(sc)) => scale_colour(sc, last.2),
                 _ => base,

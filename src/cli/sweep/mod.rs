@@ -287,7 +287,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         &ladderfan::memory::Footprint::Stream {
             points: block.len() as u64,
             in_flight: held,
-            extra_per_level: ladderfan::memory::SWEEP_TRACK_BYTES,
+            extra_per_level: ladderfan::memory::SWEEP_STREAM_BYTES,
         },
         a.threads,
     )?;
