@@ -317,39 +317,47 @@ fn sweep_refused_when_all_points_together_exceed_the_limit() {
 
 /// Estimate and measured peak of one command line: the estimate must not be below the peak and
 /// at most 1.3x above it (issue #12, "within 1.3x of the measured peak").
-fn assert_estimate_tracks_peak(args: &[&str]) {
+///
+/// `runs` > 1 for a command whose peak depends on the schedule of its threads (a streamed
+/// sweep holds up to two batches of results, fewer when a batch is handed on before the next
+/// one finishes): the estimate is an upper bound for every schedule, so it is held against
+/// the largest peak of the runs.
+fn assert_estimate_tracks_peak(args: &[&str], runs: usize) {
     let est_kib = estimate_mib(args) * 1024;
-    let o = run(args, None);
-    assert_eq!(o.code, Some(0), "{args:?}: {}", o.stderr);
-    let ratio = est_kib as f64 / o.peak_kib as f64;
-    eprintln!(
-        "{args:?}: estimate {est_kib} KiB, peak {} KiB, ratio {ratio:.2}",
-        o.peak_kib
-    );
+    let mut peak_kib = 0;
+    for _ in 0..runs.max(1) {
+        let o = run(args, None);
+        assert_eq!(o.code, Some(0), "{args:?}: {}", o.stderr);
+        peak_kib = peak_kib.max(o.peak_kib);
+    }
+    let ratio = est_kib as f64 / peak_kib as f64;
+    eprintln!("{args:?}: estimate {est_kib} KiB, largest peak of {runs} run(s) {peak_kib} KiB, ratio {ratio:.2}");
     assert!(
         (1.0..=1.3).contains(&ratio),
-        "{args:?}: estimate {est_kib} KiB vs peak {} KiB (ratio {ratio:.2})",
-        o.peak_kib
+        "{args:?}: estimate {est_kib} KiB vs largest peak {peak_kib} KiB of {runs} run(s) (ratio {ratio:.2})"
     );
 }
 
 // Issue #12 row 2: the estimate was about 2.25x below the peak.
 #[test]
 fn estimate_is_not_below_the_peak_of_a_solve() {
-    assert_estimate_tracks_peak(&["levels", "--builtin", "dirac2d", "--cutoff", "400000"]);
+    assert_estimate_tracks_peak(&["levels", "--builtin", "dirac2d", "--cutoff", "400000"], 1);
 }
 
 #[test]
 fn estimate_is_not_below_the_peak_of_a_sweep() {
-    assert_estimate_tracks_peak(&[
-        "fan",
-        "--builtin",
-        "dirac2d",
-        "--b-max",
-        "5",
-        "--cutoff",
-        "20000",
-        "--points",
-        "16",
-    ]);
+    assert_estimate_tracks_peak(
+        &[
+            "fan",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "5",
+            "--cutoff",
+            "20000",
+            "--points",
+            "16",
+        ],
+        4,
+    );
 }

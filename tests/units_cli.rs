@@ -222,10 +222,12 @@ fn bad_units_are_one_clear_error() {
         assert!(r.stderr.starts_with("ladderfan: error: "), "{}", r.stderr);
         assert!(r.stderr.contains(says), "{args:?}: {}", r.stderr);
     }
-    // a command that does not convert yet refuses rather than mislabel its numbers
-    let r = run(&["orbits", "--builtin", "schrodinger", "--energy-unit", "eV"]);
-    assert_eq!(r.code, 2, "{}", r.stderr);
-    assert!(r.stderr.contains("--energy-unit"), "{}", r.stderr);
+    // m c^2 is refused for a lab model by the commands that took no unit flag before too
+    for cmd in ["orbits", "verify"] {
+        let r = run(&[cmd, "--builtin", "schrodinger", "--energy-unit", "mc2"]);
+        assert_eq!(r.code, 2, "{cmd}: {}", r.stderr);
+        assert!(r.stderr.contains("--energy-unit"), "{cmd}: {}", r.stderr);
+    }
     // a negative field with a suffix reaches its flag
     let r = run(&[
         "levels",
@@ -476,4 +478,148 @@ fn dos_and_converge_convert_energies_and_fields() {
     // MEV_IN_K is written to 10 digits (1.3e-10 relative)
     assert_scaled(&lv(&a), &lv(&b), mev_per_mc2 * MEV_IN_K, 1e-9);
     assert!((f(&b["field"]) - 1e8).abs() < 1e-9 * 1e8, "{}", b["field"]);
+}
+
+#[test]
+fn orbits_and_verify_convert_energies_and_fields() {
+    // orbits: the same run in meV/T and in eV/B_c (field flags given with a suffix): every
+    // energy a thousand times smaller (1 eV = 1000 meV by definition of the prefix), every
+    // field divided by B_c (CODATA 2018, above), indices and phases unchanged
+    let orbits = |extra: &[&str]| {
+        let mut a = vec![
+            "orbits",
+            "--builtin",
+            "schrodinger",
+            "--set",
+            "mass_ratio=0.1",
+            "--density",
+            "1e12",
+            "--levels",
+            "3",
+            "--json",
+        ];
+        a.extend_from_slice(extra);
+        json(&a)
+    };
+    let native = orbits(&["--field", "2"]);
+    let shown = orbits(&["--field", "2T", "--energy-unit", "eV", "--field-unit", "Bc"]);
+    assert_eq!(shown["units"]["energy"], "eV");
+    assert_eq!(shown["units"]["field"], "B_c");
+    let bc = critical_field_t();
+    let close = |a: f64, b: f64, what: &str| {
+        assert!((a - b).abs() <= 1e-9 * b.abs(), "{what}: {a} vs {b}");
+    };
+    close(
+        f(&shown["orbit"]["fermi_energy"]),
+        1e-3 * f(&native["orbit"]["fermi_energy"]),
+        "Fermi energy",
+    );
+    close(f(&shown["field"]), 2.0 / bc, "table field");
+    for k in ["frequency", "b_min", "b_max", "fft_frequency"] {
+        close(f(&shown["fan"][k]), f(&native["fan"][k]) / bc, k);
+    }
+    close(
+        f(&shown["fan"]["broadening"]),
+        1e-3 * f(&native["fan"]["broadening"]),
+        "broadening",
+    );
+    assert_eq!(shown["fan"]["intercept"], native["fan"]["intercept"]);
+    let exact = |j: &Value| -> Vec<f64> {
+        j["levels"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no levels: {j}"))
+            .iter()
+            .map(|l| f(&l["exact"]))
+            .collect()
+    };
+    assert_scaled(&exact(&native), &exact(&shown), 1e-3, 1e-12);
+    // the text names the units it prints in
+    let r = run(&[
+        "orbits",
+        "--builtin",
+        "schrodinger",
+        "--set",
+        "mass_ratio=0.1",
+        "--density",
+        "1e12",
+        "--levels",
+        "3",
+        "--energy-unit",
+        "K",
+    ]);
+    assert_eq!(r.code, 0, "{}", r.stderr);
+    assert!(r.stdout.contains("units: energy K"), "{}", r.stdout);
+
+    // verify: the same check of E_n = hbar omega_c (n + 1/2) (Landau 1930) shown in cm^-1
+    fn verify<'a>(extra: &[&'a str]) -> Vec<&'a str> {
+        let mut a = vec![
+            "verify",
+            "--builtin",
+            "schrodinger",
+            "--field",
+            "3",
+            "--cutoff",
+            "60",
+            "--formula",
+            "hbar*e*abs(q*B)/(mass_ratio*m_e)*(n+1/2)",
+            "--n",
+            "0..10",
+        ];
+        a.extend_from_slice(extra);
+        a
+    }
+    let (a, b) = (
+        json(&verify(&["--json"])),
+        json(&verify(&["--json", "--energy-unit", "cm-1"])),
+    );
+    assert_eq!(b["units"]["energy"], "cm^-1");
+    let pairs = |j: &Value, side: &str| -> Vec<f64> {
+        j["verdict"]["pairs"]
+            .as_array()
+            .unwrap_or_else(|| panic!("no pairs: {j}"))
+            .iter()
+            .map(|p| f(&p[side]["energy"]))
+            .collect()
+    };
+    assert_eq!(pairs(&a, "numerical").len(), 11);
+    assert_scaled(
+        &pairs(&a, "numerical"),
+        &pairs(&b, "numerical"),
+        MEV_IN_INVCM,
+        1e-9,
+    );
+    assert_scaled(
+        &pairs(&a, "expected"),
+        &pairs(&b, "expected"),
+        MEV_IN_INVCM,
+        1e-9,
+    );
+    assert_eq!(a["verdict"]["outcome"], b["verdict"]["outcome"]);
+    let text = run(&verify(&["--energy-unit", "cm-1"]));
+    assert_eq!(text.code, 0, "{}", text.stderr);
+    assert!(text.stdout.contains("expected [cm^-1]"), "{}", text.stdout);
+    assert!(text.stdout.contains("cm^-1 = "), "{}", text.stdout);
+}
+
+#[test]
+fn progress_reaches_a_terminal() {
+    // the other side of `progress_never_reaches_a_pipe`: `script` (util-linux, on every Debian
+    // machine) runs the command on a pseudo-terminal, and LADDERFAN_PROGRESS_AFTER_MS=0 draws
+    // at once, so the spinner of a one-field kz-integrated DOS must appear in what the
+    // terminal received
+    let bin = env!("CARGO_BIN_EXE_ladderfan");
+    let cmd = format!(
+        "{bin} dos --builtin weyl --field 10 --cutoff 60 --kz-integrate --width 1 \
+         --energy-points 11"
+    );
+    let out = std::process::Command::new("script")
+        .args(["-q", "-e", "-c", &cmd, "/dev/null"])
+        .env("LADDERFAN_PROGRESS_AFTER_MS", "0")
+        .output()
+        .expect("script (util-linux) runs the command on a pseudo-terminal");
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(out.status.success(), "{text}");
+    assert!(text.contains("dos --kz-integrate"), "{text}");
+    // and the result itself is there, after the spinner was cleared
+    assert!(text.contains("kz-integrated (per volume)"), "{text}");
 }

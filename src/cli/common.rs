@@ -11,7 +11,7 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 pub use super::output::{emit, emit_json, OutputFiles};
-pub use super::parse::{field_in, native_units_only, parse_count, parse_int_list};
+pub use super::parse::{field_in, parse_count, parse_int_list};
 pub use super::render::{
     branch_text, character_text, column_units, csv_file, csv_file_from_iter, csv_meta, fmt_num,
     inverse_length, landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
@@ -128,15 +128,10 @@ pub struct TruncArgs {
     pub memory_limit_mib: Option<u64>,
 }
 
-/// Output flags every command takes.
-#[derive(Debug, Clone, Args)]
-pub struct OutputArgs {
-    /// Print a machine-readable JSON result on stdout instead of the table.
-    #[arg(long)]
-    pub json: bool,
-    /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
+/// The output-unit flags (`--energy-unit`, `--field-unit`): part of [`OutputArgs`], and taken
+/// alone by `verify`, which writes no files.
+#[derive(Debug, Clone, Default, Args)]
+pub struct UnitArgs {
     /// Energy unit of every printed or written energy: meV, eV, K, cm-1, THz, or mc2 (natural-unit
     /// models only; their m c^2 is the electron's, so they may also be shown in lab units).
     /// Energies given in flags (windows, Fermi energy) stay in the model's unit.
@@ -146,6 +141,33 @@ pub struct OutputArgs {
     /// electron's critical field). Default: the model's own.
     #[arg(long, value_name = "UNIT", value_parser = crate::cli::parse::parse_field_unit)]
     pub field_unit: Option<ladderfan::units::FieldUnit>,
+}
+
+impl UnitArgs {
+    /// The output units of these flags for `lm` ([`ladderfan::units::OutputUnits`]).
+    ///
+    /// # Errors
+    /// An m c^2 energy unit for a lab model (exit 2).
+    pub fn units(&self, lm: &LoadedModel) -> CliResult<ladderfan::units::OutputUnits> {
+        Ok(ladderfan::units::OutputUnits::new(
+            lm.model.units(),
+            self.energy_unit,
+            self.field_unit,
+        )?)
+    }
+}
+
+/// Output flags every command takes.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Print a machine-readable JSON result on stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Directory for CSV and SVG files (created if needed; files are written whole or not at all).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub units: UnitArgs,
     /// Figure formats written into `--out` by commands that draw: a comma-separated list of
     /// svg, png, pdf (PNG at twice the SVG's size; text in the shipped DejaVu Sans font).
     #[arg(long, value_name = "LIST", default_value = "svg")]
@@ -155,11 +177,7 @@ pub struct OutputArgs {
 impl OutputArgs {
     /// The output units of these flags for `lm` ([`ladderfan::units::OutputUnits`]).
     pub fn units(&self, lm: &LoadedModel) -> CliResult<ladderfan::units::OutputUnits> {
-        Ok(ladderfan::units::OutputUnits::new(
-            lm.model.units(),
-            self.energy_unit,
-            self.field_unit,
-        )?)
+        self.units.units(lm)
     }
 }
 

@@ -7,20 +7,18 @@ use super::common::{csv_file, csv_meta, CsvFile, OutputArgs, OutputFiles};
 use clap::Args;
 use ladderfan::observables::dos::Broadening;
 use ladderfan::records::meta::Column;
+use ladderfan::records::UnitsRecord;
 use ladderfan::semiclassics::fan::{
-    crossings, exact_levels, fit_fan, onsager_frequency, predicted_intercept, Crossing, FanSetup,
-    LineFit,
+    crossings, exact_levels, fit_fan, onsager_frequency, predicted_intercept, FanSetup,
 };
-use ladderfan::semiclassics::fft::{dominant_frequency, dos_trace, FrequencyPeak};
+use ladderfan::semiclassics::fft::{dominant_frequency, dos_trace};
 use ladderfan::semiclassics::figure::{fan_plot, levels_plot};
-use ladderfan::semiclassics::onsager::{
-    band_edge, semiclassical_levels, Quantisation, SemiSpectrum,
-};
+use ladderfan::semiclassics::onsager::{band_edge, semiclassical_levels, Quantisation};
 use ladderfan::semiclassics::orbit::{
     area_slope, cyclotron_mass, energy_for_area, orbit, Orbit, Resolution,
 };
 use ladderfan::semiclassics::{Bands, Search};
-use ladderfan::units::Units;
+use ladderfan::units::{FieldValue, OutputUnits, Units};
 use serde::Serialize;
 use std::f64::consts::PI;
 
@@ -48,9 +46,10 @@ pub struct OrbitsArgs {
     /// model's spin/valley degeneracy; sets the Fermi energy from the zero-field orbit.
     #[arg(long)]
     pub density: Option<f64>,
-    /// Field of the level-by-level table, in the model's field unit (default 5 T or 0.1 B_c).
-    #[arg(long, allow_negative_numbers = true)]
-    pub field: Option<f64>,
+    /// Field of the level-by-level table: a plain number in the model's field unit, or with a
+    /// suffix (`5T`, `1e-3Bc`) (default 5 T or 0.1 B_c).
+    #[arg(long, allow_negative_numbers = true, value_parser = crate::cli::parse::parse_field)]
+    pub field: Option<FieldValue>,
     /// Add the orbital magnetic moment of the Bloch states to the bands of the level table
     /// (the second first-order correction besides the Zeeman terms).
     #[arg(long)]
@@ -58,12 +57,13 @@ pub struct OrbitsArgs {
     /// Number of Onsager levels in the table (1 to 500).
     #[arg(long, default_value_t = 12)]
     pub levels: usize,
-    /// Lowest |B| of the fan (default F / 25, F the Onsager frequency).
-    #[arg(long)]
-    pub b_min: Option<f64>,
-    /// Highest |B| of the fan (default F / 3).
-    #[arg(long)]
-    pub b_max: Option<f64>,
+    /// Lowest |B| of the fan, model field unit or with a suffix (default F / 25, F the Onsager
+    /// frequency).
+    #[arg(long, value_parser = crate::cli::parse::parse_field)]
+    pub b_min: Option<FieldValue>,
+    /// Highest |B| of the fan, model field unit or with a suffix (default F / 3).
+    #[arg(long, value_parser = crate::cli::parse::parse_field)]
+    pub b_max: Option<FieldValue>,
     /// Lorentzian half width of the levels for the DOS, energy unit (default 0.15 hbar omega_c
     /// at the lowest field).
     #[arg(long)]
@@ -116,18 +116,52 @@ struct FanRecord {
     broadening: f64,
 }
 
-/// The whole result (JSON).
+/// The whole result (JSON), in the output units of `units`.
 #[derive(Debug, Serialize)]
 struct OrbitsRecord {
     model: String,
     origin: String,
-    units: Units,
+    units: UnitsRecord,
     band: usize,
     field: f64,
     orbital_moment: bool,
     orbit: OrbitRecord,
     levels: Vec<LevelRow>,
     fan: FanRecord,
+}
+
+impl OrbitsRecord {
+    /// The record in the output units `o`: energies (Fermi energy, band edge, levels,
+    /// broadening) times [`OutputUnits::energy_factor`], dA/dE divided by it, fields (table
+    /// field, fan range, crossings, frequencies F and their errors) times
+    /// [`OutputUnits::field_factor`]; areas, masses, phases and indices unchanged. Applied once,
+    /// to a record in the model's units.
+    fn in_units(mut self, o: OutputUnits) -> Self {
+        let (e, f) = (o.energy_factor(), o.field_factor());
+        self.units = self.units.shown(o);
+        self.field *= f;
+        let orbit = &mut self.orbit;
+        orbit.fermi_energy *= e;
+        orbit.band_edge *= e;
+        orbit.area_slope /= e;
+        orbit.onsager_frequency *= f;
+        for l in &mut self.levels {
+            l.semiclassical *= e;
+            l.exact *= e;
+        }
+        let fan = &mut self.fan;
+        fan.b_min *= f;
+        fan.b_max *= f;
+        for c in &mut fan.crossings {
+            c.1 *= f;
+        }
+        fan.frequency *= f;
+        fan.frequency_error *= f;
+        fan.fft_frequency *= f;
+        fan.fft_uncertainty *= f;
+        fan.broadening *= e;
+        self
+    }
 }
 
 fn bad(flag: &str, m: &str) -> common::CliError {
@@ -216,7 +250,7 @@ fn level_table(
     a: &OrbitsArgs,
     field: f64,
     cutoff: usize,
-) -> CliResult<(SemiSpectrum, Vec<LevelRow>)> {
+) -> CliResult<Vec<LevelRow>> {
     let bands = if a.orbital_moment {
         Bands::with_orbital_moment(&lm.model, a.kz, field)?
     } else {
@@ -265,7 +299,7 @@ fn level_table(
             })
         })
         .collect();
-    Ok((semi, rows))
+    Ok(rows)
 }
 
 fn verdict(x: f64) -> &'static str {
@@ -286,7 +320,7 @@ fn fan(
     direction: f64,
     (b_min, b_max): (f64, f64),
     cutoff: usize,
-) -> CliResult<(Vec<Crossing>, LineFit, FrequencyPeak, FanRecord)> {
+) -> CliResult<FanRecord> {
     let setup = FanSetup {
         edge: rec.band_edge,
         direction,
@@ -330,7 +364,7 @@ fn fan(
         fft_uncertainty: peak.uncertainty,
         broadening: width,
     };
-    Ok((c, fit, peak, record))
+    Ok(record)
 }
 
 /// 1 / l_B^2 at `field`.
@@ -347,8 +381,8 @@ fn default_band(lm: &LoadedModel) -> usize {
 
 /// Run `ladderfan orbits`.
 pub fn run(a: &OrbitsArgs) -> CliResult {
-    let lm = load_model(&a.model)?;
-    common::native_units_only(&a.output, "orbits")?;
+    let mut lm = load_model(&a.model)?;
+    lm.show_in(&a.output)?;
     let u = lm.model.units();
     let band = a.band.unwrap_or_else(|| default_band(&lm));
     let s = Search {
@@ -374,50 +408,55 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
     bar.tick();
     let direction = band_edge(&Bands::new(&lm.model, a.kz, 0.0)?, &s)?.direction;
     let f = rec.onsager_frequency;
-    let b_min = common::finite_flag("--b-min", a.b_min.unwrap_or(f / 25.0))?.abs();
-    let b_max = common::finite_flag("--b-max", a.b_max.unwrap_or(f / 3.0))?.abs();
+    let b_min = common::field_in(&lm, a.b_min).unwrap_or(f / 25.0);
+    let b_max = common::field_in(&lm, a.b_max).unwrap_or(f / 3.0);
+    let b_min = common::finite_flag("--b-min", b_min)?.abs();
+    let b_max = common::finite_flag("--b-max", b_max)?.abs();
     if !(b_min > 0.0 && b_max > b_min) {
         return Err(bad("--b-min", "give 0 < --b-min < --b-max"));
     }
     let field = common::finite_flag(
         "--field",
-        a.field
+        common::field_in(&lm, a.field)
             .or(lm.defaults.field)
             .unwrap_or(common::default_field(&lm.model)),
     )?;
     let n_max = (f / b_min).max(f / field.abs()).max(a.levels as f64);
     let cutoff = a.cutoff.unwrap_or((4.0 * n_max) as usize + 60);
-    let (semi, rows) = level_table(&lm, &s, a, field, cutoff)?;
+    let rows = level_table(&lm, &s, a, field, cutoff)?;
     bar.tick();
-    let (c, fit, _, fan_rec) = fan(&lm, a, &rec, direction, (b_min, b_max), cutoff)?;
+    let fan_rec = fan(&lm, a, &rec, direction, (b_min, b_max), cutoff)?;
     bar.tick();
     bar.finish();
     let record = OrbitsRecord {
         model: lm.model.name().to_string(),
         origin: lm.origin.clone(),
-        units: u,
+        units: UnitsRecord::new(&lm.model),
         band,
         field,
         orbital_moment: a.orbital_moment,
         orbit: rec,
         levels: rows,
         fan: fan_rec,
-    };
+    }
+    .in_units(lm.shown);
     if let Some(dir) = &a.output.out {
         let mut files = OutputFiles::default();
         files.add_csv("orbits_levels.csv", levels_csv(&lm, &record)?)?;
         files.add_csv("orbits_fan.csv", fan_csv(&lm, &record)?)?;
-        let pts: Vec<(f64, f64)> = c
+        let pts: Vec<(f64, f64)> = record
+            .fan
+            .crossings
             .iter()
-            .map(|x| (1.0 / x.field.abs(), x.index as f64))
+            .map(|&(n, field)| (1.0 / field.abs(), n as f64))
             .collect();
         let formats = super::plot::formats(&a.output)?;
         let fan = fan_plot(
             &pts,
-            fit.slope,
-            fit.intercept,
+            record.fan.frequency,
+            record.fan.intercept,
             record.fan.predicted_intercept,
-            u.field_unit(),
+            &record.units.field,
         );
         super::plot::add_figure(&mut files, "orbits_fan", &fan, &formats)?;
         let ex: Vec<(f64, f64)> = record
@@ -425,8 +464,12 @@ pub fn run(a: &OrbitsArgs) -> CliResult {
             .iter()
             .map(|r| (r.n as f64, r.exact))
             .collect();
-        let se: Vec<(f64, f64)> = semi.levels.iter().map(|l| (l.n as f64, l.energy)).collect();
-        let levels = levels_plot(&ex, &se, u.energy_unit());
+        let se: Vec<(f64, f64)> = record
+            .levels
+            .iter()
+            .map(|r| (r.n as f64, r.semiclassical))
+            .collect();
+        let levels = levels_plot(&ex, &se, &record.units.energy);
         super::plot::add_figure(&mut files, "orbits_levels", &levels, &formats)?;
         files.write_all(dir)?;
     }
@@ -525,31 +568,32 @@ fn fan_csv(lm: &LoadedModel, r: &OrbitsRecord) -> CliResult<CsvFile> {
 }
 
 fn to_text(r: &OrbitsRecord) -> String {
-    let (eu, lu, fu) = (
-        r.units.energy_unit(),
-        r.units.length_unit(),
-        r.units.field_unit(),
-    );
-    let mass_unit = match r.units {
+    let (eu, lu, fu) = (&r.units.energy, &r.units.length, &r.units.field);
+    let mass_unit = match r.units.system {
         Units::Lab => "m_e",
         Units::Natural => "m",
     };
     let o = &r.orbit;
+    // significant digits, not fixed decimals: the same text reads right in meV, eV or K
+    let g = |x: f64, sig: usize| common::fmt_num(x, sig);
     let mut t = format!("model: {} ({}), band {}\n", r.model, r.origin, r.band);
+    t.push_str(&format!("units: {}\n", r.units.header));
     t.push_str(&format!(
-        "zero-field orbit at E_F = {:.6} {eu} (band edge {:.6} {eu}), {} rays:\n",
-        o.fermi_energy, o.band_edge, o.rays
+        "zero-field orbit at E_F = {} {eu} (band edge {} {eu}), {} rays:\n",
+        g(o.fermi_energy, 7),
+        g(o.band_edge, 7),
+        o.rays
     ));
     t.push_str(&format!(
         "  area A = {:.9e} 1/{lu}^2 (+- {:.1e})\n  cyclotron mass m* = {:.7} {mass_unit} (+- {:.1e})\n",
         o.area, o.area_error, o.cyclotron_mass, o.mass_error
     ));
     t.push_str(&format!(
-        "  Berry phase {:.6} rad = {:.6} pi (+- {:.1e} rad, modulo 2 pi)\n  Onsager frequency F = hbar A / (2 pi e) = {:.6} {fu}\n",
+        "  Berry phase {:.6} rad = {:.6} pi (+- {:.1e} rad, modulo 2 pi)\n  Onsager frequency F = hbar A / (2 pi e) = {} {fu}\n",
         o.berry_phase,
         o.berry_phase / PI,
         o.phase_error,
-        o.onsager_frequency
+        g(o.onsager_frequency, 7)
     ));
     let moment = if r.orbital_moment {
         ", orbital moment"
@@ -557,8 +601,8 @@ fn to_text(r: &OrbitsRecord) -> String {
         "; no orbital moment"
     };
     t.push_str(&format!(
-        "levels at B = {} {fu}: Onsager (with Berry phase, Zeeman terms{moment}) against exact\n",
-        r.field
+        "levels at B = {} {fu}: Onsager (with Berry phase, Zeeman terms{moment}) against exact, {eu}\n",
+        g(r.field, 7)
     ));
     t.push_str(&format!(
         "  {:>4} {:>14} {:>14} {:>13}  verdict\n",
@@ -566,28 +610,28 @@ fn to_text(r: &OrbitsRecord) -> String {
     ));
     for l in &r.levels {
         t.push_str(&format!(
-            "  {:>4} {:>14.6} {:>14.6} {:>13.4}  {}\n",
+            "  {:>4} {:>14} {:>14} {:>13.4}  {}\n",
             l.n,
-            l.semiclassical,
-            l.exact,
+            g(l.semiclassical, 8),
+            g(l.exact, 8),
             l.miss_over_spacing,
             verdict(l.miss_over_spacing)
         ));
     }
     let f = &r.fan;
     t.push_str(&format!(
-        "fan at E_F: {} exact crossings for |B| in [{:.4}, {:.4}] {fu}\n",
+        "fan at E_F: {} exact crossings for |B| in [{}, {}] {fu}\n",
         f.crossings.len(),
-        f.b_min,
-        f.b_max
+        g(f.b_min, 5),
+        g(f.b_max, 5)
     ));
     t.push_str(&format!(
-        "  fit n = F/B + beta: F = {:.6} +- {:.1e} {fu} (Onsager {:.6}), beta = {:.4} +- {:.1e} (Berry-phase prediction {:.4})\n",
-        f.frequency, f.frequency_error, o.onsager_frequency, f.intercept, f.intercept_error, f.predicted_intercept
+        "  fit n = F/B + beta: F = {} +- {:.1e} {fu} (Onsager {}), beta = {:.4} +- {:.1e} (Berry-phase prediction {:.4})\n",
+        g(f.frequency, 7), f.frequency_error, g(o.onsager_frequency, 7), f.intercept, f.intercept_error, f.predicted_intercept
     ));
     t.push_str(&format!(
-        "  Fourier transform of the DOS at E_F against 1/B (Lorentzian half width {:.4} {eu}, 256 fields): F = {:.4} +- {:.4} {fu}\n",
-        f.broadening, f.fft_frequency, f.fft_uncertainty
+        "  Fourier transform of the DOS at E_F against 1/B (Lorentzian half width {} {eu}, 256 fields): F = {} +- {} {fu}\n",
+        g(f.broadening, 4), g(f.fft_frequency, 5), g(f.fft_uncertainty, 4)
     ));
     t
 }

@@ -33,29 +33,6 @@ pub fn parse_field_unit(s: &str) -> std::result::Result<FieldUnit, String> {
     })
 }
 
-/// Refuse output units other than the model's for a command that does not convert its
-/// output yet (`what` names it), so that no number is printed under a wrong unit.
-pub fn native_units_only(
-    output: &super::common::OutputArgs,
-    what: &str,
-) -> super::common::CliResult {
-    for (flag, given) in [
-        ("--energy-unit", output.energy_unit.is_some()),
-        ("--field-unit", output.field_unit.is_some()),
-    ] {
-        if given {
-            return Err(super::common::bad_flag(
-                flag,
-                format!(
-                    "`{what}` prints its results in the model's own units only; drop {flag} \
-                     (levels, fan, dispersion, optics, dos and converge take it)"
-                ),
-            ));
-        }
-    }
-    Ok(())
-}
-
 /// A field flag's value in the model's field unit (a suffix `T`/`Bc` converted).
 pub fn field_in(
     lm: &super::common::LoadedModel,

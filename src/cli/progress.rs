@@ -11,11 +11,21 @@ use std::time::{Duration, Instant};
 /// How long a command runs before its bar appears: shorter runs stay silent.
 const SHOW_AFTER: Duration = Duration::from_millis(800);
 
-/// A progress bar over `len` steps that draws itself on stderr once [`SHOW_AFTER`] has passed,
+/// [`SHOW_AFTER`], or the milliseconds of `LADDERFAN_PROGRESS_AFTER_MS` (0: at once; the
+/// terminal test uses it, and so may a user who wants every bar).
+fn show_after() -> Duration {
+    std::env::var("LADDERFAN_PROGRESS_AFTER_MS")
+        .ok()
+        .and_then(|v| v.trim().parse::<u64>().ok())
+        .map_or(SHOW_AFTER, Duration::from_millis)
+}
+
+/// A progress bar over `len` steps that draws itself on stderr once [`show_after`] has passed,
 /// and only when stderr is a terminal.
 pub struct Progress {
     bar: ProgressBar,
     start: Instant,
+    after: Duration,
     shown: AtomicBool,
     terminal: bool,
 }
@@ -35,6 +45,7 @@ impl Progress {
         Progress {
             bar,
             start: Instant::now(),
+            after: show_after(),
             shown: AtomicBool::new(false),
             terminal: std::io::stderr().is_terminal(),
         }
@@ -52,11 +63,35 @@ impl Progress {
         p
     }
 
+    /// Run `work` on this thread while a spinner with the elapsed time is drawn (on the same
+    /// terms as every bar: stderr a terminal, after [`show_after`]), for one long library call
+    /// that reports no steps of its own; the spinner is removed before this returns.
+    pub fn while_running<T>(what: &str, work: impl FnOnce() -> T) -> T {
+        let p = Progress::new(what, 0, "");
+        if let Ok(style) = ProgressStyle::with_template("{msg} {spinner} {elapsed}") {
+            p.bar.set_style(style);
+        }
+        let done = AtomicBool::new(false);
+        let out = std::thread::scope(|scope| {
+            scope.spawn(|| {
+                while !done.load(Ordering::Relaxed) {
+                    p.tick();
+                    std::thread::sleep(Duration::from_millis(100));
+                }
+            });
+            let out = work();
+            done.store(true, Ordering::Relaxed);
+            out
+        });
+        p.finish();
+        out
+    }
+
     /// One step done (callable from any worker thread).
     pub fn tick(&self) {
         self.bar.inc(1);
         if self.terminal
-            && self.start.elapsed() > SHOW_AFTER
+            && self.start.elapsed() >= self.after
             && self
                 .shown
                 .compare_exchange(false, true, Ordering::SeqCst, Ordering::SeqCst)

@@ -99,6 +99,8 @@ pub struct VerifyArgs {
     /// Print a machine-readable JSON result on stdout instead of the table.
     #[arg(long)]
     pub json: bool,
+    #[command(flatten)]
+    pub units: common::UnitArgs,
 }
 
 fn parse_window(text: &str) -> CliResult<Window> {
@@ -145,7 +147,8 @@ fn parse_case(text: &str, i: usize) -> CliResult<(String, String)> {
 /// Bad input (exit 2): model, flags, formula syntax, CSV. A failed or inconclusive verification
 /// is [`CliError::Verification`] (exit 1) after the report has been printed.
 pub fn run(args: &VerifyArgs) -> CliResult {
-    let lm = load_model(&args.model)?;
+    let mut lm = load_model(&args.model)?;
+    lm.shown = args.units.units(&lm)?;
     // the one set-up of this run (memory checked), solved below once the expected list is read
     let (r, problem) = common::resolve_problem(
         &lm,
@@ -179,14 +182,16 @@ pub fn run(args: &VerifyArgs) -> CliResult {
         ),
         other => CliError::Input(other),
     })?;
-    let unit = lm.model.units().energy_unit();
+    // the outcome is decided in the model's units; only what is shown is converted
+    let verdict = verdict.in_units(lm.shown);
+    let unit = lm.shown.energy.label();
     let line = verdict.verdict_line(unit);
     if args.json {
         emit_json(&VerifyJson {
             command: "verify",
             model: ModelRecord::new(&lm.model, &lm.origin),
-            units: UnitsRecord::new(&lm.model),
-            field: point.field,
+            units: UnitsRecord::new(&lm.model).shown(lm.shown),
+            field: point.field * lm.shown.field_factor(),
             kz: point.kz,
             cutoff: r.cutoff,
             expected_source: source,
@@ -317,7 +322,7 @@ fn report(
     v: &Verdict,
     only_failures: bool,
 ) -> String {
-    let unit = lm.model.units().energy_unit();
+    let unit = lm.shown.energy.label();
     let mut out = report_header(lm, spectrum, list, source, v);
     let mut table = vec![vec![
         "expected level".to_string(),
@@ -347,7 +352,8 @@ fn report_header(
 ) -> String {
     let m = &lm.model;
     let u = m.units();
-    let unit = u.energy_unit();
+    let o = lm.shown;
+    let (unit, e) = (o.energy.label(), o.energy_factor());
     let mut out = format!(
         "verify: model {} ({}), {} components, charge {} e\n",
         m.name(),
@@ -357,12 +363,12 @@ fn report_header(
     );
     out.push_str(&format!(
         "field {} {}, kz {} 1/{}, cutoff {}; energies in {unit} relative to {} {unit}\n",
-        spectrum.point.field,
-        u.field_unit(),
+        spectrum.point.field * o.field_factor(),
+        o.field.label(),
         spectrum.point.kz,
         u.length_unit(),
         spectrum.cutoff,
-        spectrum.reference_energy
+        spectrum.reference_energy * e
     ));
     out.push_str(&format!(
         "expected: {source} ({} levels, energies {})\n",
@@ -370,7 +376,7 @@ fn report_header(
         if list.origin == 0.0 {
             "absolute".to_string()
         } else {
-            format!("relative to {} {unit}", list.origin)
+            format!("relative to {} {unit}", list.origin * e)
         }
     ));
     out.push_str(&format!(

@@ -165,7 +165,77 @@ pub struct Verdict {
     pub worst_fraction_of_allowed: f64,
 }
 
+impl NumericalLevel {
+    fn scale(&mut self, e: f64) {
+        self.energy *= e;
+        self.bound *= e;
+    }
+}
+
+impl ExpectedState {
+    fn scale(&mut self, e: f64) {
+        self.energy *= e;
+        self.allowance *= e;
+    }
+}
+
 impl Verdict {
+    /// The verdict in the output units `o`: every energy (reference energy, energy scale,
+    /// window, expected and numerical energies, bounds, allowances, deviations) times
+    /// [`crate::units::OutputUnits::energy_factor`]; counts, labels, the relative tolerance and
+    /// the fractions of the allowed deviation unchanged. Applied once, to a verdict in the model's
+    /// units; the outcome is decided before, so it cannot change.
+    ///
+    /// # Examples
+    /// ```
+    /// use ladderfan::units::{EnergyUnit, OutputUnits, Units};
+    /// use ladderfan::{models, verify, FieldPoint, Reference, Settings, Spectrum};
+    /// let m = models::pauli(models::PauliParams { mass_ratio: 0.5, g_factor: 3.0, charge: -1.0 })?;
+    /// let pt = FieldPoint::field(2.0);
+    /// let w = ladderfan::closed_form::cyclotron_energy_mev(0.5, 2.0, -1.0);
+    /// let z = 1.5 * ladderfan::units::BOHR_MAGNETON_MEV_PER_T * 2.0;
+    /// let ns: Vec<i64> = (0..=10).collect();
+    /// let expected = verify::ExpectedList::from_fn(&m, pt, Reference::Zero, &ns, &[-1, 1], |v| {
+    ///     Some(w * (v.n as f64 + 0.5) + v.s as f64 * z)
+    /// })?;
+    /// let spectrum = Spectrum::compute(&m, pt, &Settings::with_cutoff(40))?;
+    /// let v = verify::check(&spectrum, &expected, &verify::VerifySettings::default())?;
+    /// let ev = OutputUnits::new(Units::Lab, Some(EnergyUnit::ElectronVolt), None)?;
+    /// let shown = v.clone().in_units(ev);
+    /// // 1 eV = 1000 meV: every energy a thousand times smaller, the fractions unchanged
+    /// let (a, b) = (v.pairs[3].numerical.energy, shown.pairs[3].numerical.energy);
+    /// assert!((b - 1e-3 * a).abs() <= 1e-15 * a.abs());
+    /// assert_eq!(shown.worst_fraction_of_allowed, v.worst_fraction_of_allowed);
+    /// # Ok::<(), ladderfan::Error>(())
+    /// ```
+    pub fn in_units(mut self, o: crate::units::OutputUnits) -> Self {
+        let e = o.energy_factor();
+        self.reference_energy *= e;
+        self.energy_scale *= e;
+        self.window = (self.window.0 * e, self.window.1 * e);
+        for p in &mut self.pairs {
+            p.expected.scale(e);
+            p.numerical.scale(e);
+            p.deviation *= e;
+            p.allowed *= e;
+        }
+        for l in &mut self.unmatched_numerical {
+            l.scale(e);
+        }
+        for u in self
+            .missing_expected
+            .iter_mut()
+            .chain(&mut self.unresolved_expected)
+        {
+            u.expected.scale(e);
+            if let Some(n) = &mut u.nearest {
+                n.scale(e);
+            }
+        }
+        self.worst_deviation *= e;
+        self
+    }
+
     /// Whether the formula passed.
     pub fn passed(&self) -> bool {
         self.outcome == Outcome::Pass

@@ -368,9 +368,11 @@ fn dos_curve(a: &DosArgs, lm: &LoadedModel, ld: &LevelDensity) -> CliResult<Ener
     }
     let curve = ld.curve(emin, emax, a.energy_points)?;
     if let Some(&(e, g)) = curve.iter().find(|p| !per_cm2(u, p.1).is_finite()) {
+        // in the units the command shows (a DOS per energy divides by the energy factor)
+        let (f, eu) = (lm.shown.energy_factor(), lm.shown.energy.label());
         return Err(common::CliError::Input(ladderfan::Error::BadNumber {
-            name: format!("the DOS at {e:e} {} in 1/(meV cm^2)", u.energy_unit()),
-            value: per_cm2(u, g),
+            name: format!("the DOS at {:e} {eu} in 1/({eu} cm^2)", e * f),
+            value: per_cm2(u, g) / f,
             fix: format!(
                 "the line width {:e} is too small for double precision (the peak height goes \
                  as 1/width); give a larger --width",
@@ -473,7 +475,10 @@ fn volume_json(
         ));
     }
     // the library says why a model cannot be integrated; the flag that asked for it is this one
-    let v = VolumeDensity::compute(&lm.model, r.field, &s, &vs).map_err(|e| match e {
+    let v = Progress::while_running("dos --kz-integrate", || {
+        VolumeDensity::compute(&lm.model, r.field, &s, &vs)
+    })
+    .map_err(|e| match e {
         ladderfan::Error::Unsupported(m) => bad_flag("--kz-integrate", m),
         e => e.into(),
     })?;
