@@ -434,13 +434,14 @@ fn draw_curves(
         .zip(&px)
         .map(|(c, q)| breaks(p, c, &q.1, lay))
         .collect();
-    // where each line ends before thinning: a line that thinning cuts short does not end where
-    // its drawn part does, so it gets no label beside that cut
+    // where each line ends inside the frame before thinning: a line that thinning cuts short
+    // does not end where its drawn part does, so it gets no label beside that cut
     let drawn_to: Vec<f64> = px
         .iter()
         .map(|(_, q)| {
             q.iter()
                 .flatten()
+                .filter(|a| a.1 >= lay.top && a.1 <= lay.bottom)
                 .map(|a| a.0)
                 .fold(f64::NEG_INFINITY, f64::max)
         })
@@ -498,8 +499,9 @@ fn draw_curves(
             } else {
                 Side::Inside
             };
-            if side == Side::Inside && last.0 < full_x - 0.5 {
-                // cut short by thinning: its end is not here
+            if side != Side::Right && last.0 < full_x - 0.5 {
+                // cut short by thinning: its end is not here (inside the frame or in the top
+                // or bottom band); its neighbours' labels at the right edge name the sequence
                 continue;
             }
             let colour = match (by_value, cs) {

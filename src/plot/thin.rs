@@ -32,13 +32,16 @@ pub(crate) fn jump_breaks(pts: &[Option<P>], min_px: f64) -> Vec<bool> {
 /// Hide points where curves of one group (e.g. the computed lines, or the dashed overlays)
 /// crowd: in each half-pixel column, a curve's point is hidden when a point of an earlier
 /// curve of its group (the `curves` order is the priority) lies closer than `limit` pixels.
-/// Only points inside the band `top..=bottom` occupy room.
+/// A curve never hides its own points (a steep line has several points a column, closer than
+/// the limit, and would otherwise be drawn as dots). Only points inside the band
+/// `top..=bottom` occupy room.
 pub(crate) fn thin(curves: &mut [(u8, Vec<Option<P>>)], limit: f64, (top, bottom): (f64, f64)) {
     if limit <= 0.0 {
         return;
     }
-    let mut columns: HashMap<(u8, i64), Vec<f64>> = HashMap::new();
-    for (group, pts) in curves.iter_mut() {
+    // per (group, column): the kept heights with the curve they belong to
+    let mut columns: HashMap<(u8, i64), Vec<(usize, f64)>> = HashMap::new();
+    for (id, (group, pts)) in curves.iter_mut().enumerate() {
         for p in pts.iter_mut() {
             let Some((x, y, _)) = *p else { continue };
             if y < top || y > bottom {
@@ -47,10 +50,13 @@ pub(crate) fn thin(curves: &mut [(u8, Vec<Option<P>>)], limit: f64, (top, bottom
             let kept = columns
                 .entry((*group, (2.0 * x).round() as i64))
                 .or_default();
-            if kept.iter().any(|k| (k - y).abs() < limit) {
+            if kept
+                .iter()
+                .any(|&(k, ky)| k != id && (ky - y).abs() < limit)
+            {
                 *p = None;
             } else {
-                kept.push(y);
+                kept.push((id, y));
             }
         }
     }
@@ -180,5 +186,15 @@ mod tests {
         // another group (an overlay) keeps its own room
         assert!(c[3].1[0].is_some());
         assert!(c.iter().all(|(_, p)| p[1].is_some()));
+    }
+
+    #[test]
+    fn a_steep_curve_keeps_its_own_points() {
+        // regression: points of one steep curve 1 px apart in the same half-pixel column were
+        // hidden by each other, so steep lines were drawn as dots
+        let steep: Vec<(f64, f64)> = (0..8).map(|i| (0.1 * i as f64, i as f64)).collect();
+        let mut c = vec![(0, pts(&steep))];
+        thin(&mut c, 2.0, (-100.0, 100.0));
+        assert!(c[0].1.iter().all(|p| p.is_some()));
     }
 }
