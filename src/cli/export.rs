@@ -267,7 +267,9 @@ pub fn run(a: &ExportArgs) -> CliResult {
             h.element(m, al, n, be)
         }
     };
-    let (text, count) = mtx::write(&comments, states.len(), half_bandwidth, element);
+    let (text, count) = super::progress::Progress::while_running("export", || {
+        mtx::write(&comments, states.len(), half_bandwidth, element)
+    });
     // check the text parses back to the same matrix before writing it
     check_round_trip(&text, states.len(), count, element)?;
     let stem = match &a.sector {

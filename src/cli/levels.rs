@@ -58,7 +58,9 @@ pub fn weight_columns(lm: &LoadedModel) -> Vec<String> {
 /// Solve the one set-up problem of a command (no second assembly), refusing a spectrum that
 /// overflowed ([`common::finite_spectrum`]).
 pub fn solve(problem: &Problem<'_>) -> CliResult<Spectrum> {
-    common::finite_spectrum(Spectrum::solve(problem)?)
+    // one library call with no steps to count: a spinner on a terminal if it runs long
+    let s = super::progress::Progress::while_running("solve", || Spectrum::solve(problem))?;
+    common::finite_spectrum(s)
 }
 
 /// The aligned text table with a header block, from the record `rec` of `s` (energies and
