@@ -22,12 +22,15 @@
 //! * [`refine`]: Dongarra-Moler-Wilkinson refinement of one eigenpair in double-double: O(s^3)
 //!   per step, for small matrices.
 //! * [`dd`]: double-double numbers (about 32 significant digits), O(1) per operation.
+//! * [`root`]: a bracketed root of a function of one variable (Illinois regula falsi), at most
+//!   a given number of evaluations.
 
 pub mod banded;
 pub mod dd;
 pub mod dense;
 mod lanczos;
 pub mod refine;
+pub mod root;
 pub mod slicing;
 mod tridiag;
 pub mod window;

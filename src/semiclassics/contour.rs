@@ -19,6 +19,7 @@
 
 use super::bands::Bands;
 use crate::error::{Error, Result};
+use crate::numeric::root::{illinois, Stop};
 use std::f64::consts::PI;
 
 /// Radial samples per ray before bisection.
@@ -119,41 +120,17 @@ fn ray_crossings(bands: &Bands, s: &Search, energy: f64, dir: (f64, f64)) -> Res
     })
 }
 
-/// Root of a sign change of `f` on [a, b] (fa = f(a)) by the Illinois variant of regula falsi,
-/// bracketing kept, down to a relative width of 4 ulp or 100 steps (then bisection's midpoint).
-fn bisect(f: &impl Fn(f64) -> Result<f64>, mut a: f64, mut b: f64, fa: f64) -> Result<f64> {
-    let mut fa = fa;
-    let mut fb = f(b)?;
-    let mut side = 0i8;
-    for _ in 0..100 {
-        if (b - a).abs() <= 4.0 * f64::EPSILON * b.abs().max(a.abs()) {
-            break;
-        }
-        let mut m = (a * fb - b * fa) / (fb - fa);
-        if !(m > a && m < b) {
-            m = 0.5 * (a + b);
-        }
-        let fm = f(m)?;
-        if fm == 0.0 {
-            return Ok(m);
-        }
-        if (fm < 0.0) == (fa < 0.0) {
-            a = m;
-            fa = fm;
-            if side == -1 {
-                fb *= 0.5;
-            }
-            side = -1;
-        } else {
-            b = m;
-            fb = fm;
-            if side == 1 {
-                fa *= 0.5;
-            }
-            side = 1;
-        }
-    }
-    Ok(if fa.abs() < fb.abs() { a } else { b })
+/// Root of a sign change of `f` on [a, b] (fa = f(a)) by the Illinois variant of regula falsi
+/// ([`crate::numeric::root::illinois`]), bracketing kept, down to a relative width of 4 ulp or
+/// 100 steps.
+fn bisect(f: &impl Fn(f64) -> Result<f64>, a: f64, b: f64, fa: f64) -> Result<f64> {
+    let fb = f(b)?;
+    let stop = Stop {
+        rel_width: 4.0 * f64::EPSILON,
+        max_steps: 100,
+        small: 0.0,
+    };
+    illinois(f, (a, fa), (b, fb), stop)
 }
 
 /// All contours of `s.band` at `energy` with `rays` rays, innermost first.

@@ -13,6 +13,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::Model;
+use crate::numeric::root::{illinois, Stop};
 use crate::problem::Settings;
 use crate::units::{Units, ELEMENTARY_CHARGE, HBAR};
 use crate::{FieldPoint, Spectrum};
@@ -168,41 +169,13 @@ fn refine(model: &Model, setup: &FanSetup, k: usize, xa: f64, xb: f64) -> Result
             ),
         })
     };
-    let (mut a, mut b) = (xa, xb);
-    let (mut fa, mut fb) = (h(a)?, h(b)?);
-    if fa * fb > 0.0 {
-        return Ok(if fa.abs() < fb.abs() { a } else { b });
-    }
-    let mut side = 0i8;
-    for _ in 0..40 {
-        if (b - a).abs() <= 1e-12 * b.abs() {
-            break;
-        }
-        let mut m = (a * fb - b * fa) / (fb - fa);
-        if !(m > a.min(b) && m < a.max(b)) {
-            m = 0.5 * (a + b);
-        }
-        let fm = h(m)?;
-        if fm == 0.0 {
-            return Ok(m);
-        }
-        if (fm < 0.0) == (fa < 0.0) {
-            a = m;
-            fa = fm;
-            if side == -1 {
-                fb *= 0.5;
-            }
-            side = -1;
-        } else {
-            b = m;
-            fb = fm;
-            if side == 1 {
-                fa *= 0.5;
-            }
-            side = 1;
-        }
-    }
-    Ok(if fa.abs() < fb.abs() { a } else { b })
+    let (fa, fb) = (h(xa)?, h(xb)?);
+    let stop = Stop {
+        rel_width: 1e-12,
+        max_steps: 40,
+        small: 0.0,
+    };
+    illinois(h, (xa, fa), (xb, fb), stop)
 }
 
 /// A least-squares line y = slope x + intercept with standard errors.

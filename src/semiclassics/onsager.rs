@@ -28,6 +28,7 @@ use super::berry::wilson_loop;
 use super::contour::{contours, Search};
 use super::orbit::{orbit, Resolution};
 use crate::error::{Error, Result};
+use crate::numeric::root::{illinois, Stop};
 use crate::units::Units;
 use std::f64::consts::PI;
 
@@ -244,41 +245,18 @@ fn scan_levels(
 }
 
 /// g(t) = n between a = (ta, ga, fa) and b = (tb, gb, fb) (t, g, gamma/2pi) by regula falsi
-/// (Illinois).
+/// (Illinois, [`crate::numeric::root::illinois`]).
 fn solve_level(on: &Onsager, a: (f64, f64, f64), b: (f64, f64, f64), n: f64) -> Result<SemiLevel> {
-    let (mut ta, mut fa, mut tb, mut fb) = (a.0, a.1 - n, b.0, b.1 - n);
-    let mut best = b.0;
-    let mut side = 0i8;
-    for _ in 0..60 {
-        if (tb - ta).abs() <= 1e-13 * tb.abs() {
-            break;
-        }
-        let mut t = (ta * fb - tb * fa) / (fb - fa);
-        if !(t > ta && t < tb) {
-            t = 0.5 * (ta + tb);
-        }
+    let g = |t: f64| -> Result<f64> {
         let (area, f) = on.eval(t, a.2)?;
-        let gm = on.g(area, f) - n;
-        best = t;
-        if gm == 0.0 {
-            break;
-        }
-        if gm < 0.0 {
-            ta = t;
-            fa = gm;
-            if side == -1 {
-                fb *= 0.5;
-            }
-            side = -1;
-        } else {
-            tb = t;
-            fb = gm;
-            if side == 1 {
-                fa *= 0.5;
-            }
-            side = 1;
-        }
-    }
+        Ok(on.g(area, f) - n)
+    };
+    let stop = Stop {
+        rel_width: 1e-13,
+        max_steps: 60,
+        small: 0.0,
+    };
+    let best = illinois(g, (a.0, a.1 - n), (b.0, b.1 - n), stop)?;
     let (area, f) = on.eval(best, a.2)?;
     Ok(SemiLevel {
         n: n as usize,
