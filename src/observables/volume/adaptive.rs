@@ -26,16 +26,15 @@
 
 use super::mirror::kz_mirror;
 use super::quadrature::{check_volume_inputs, kz_limit, Change};
-use super::sheet::Sheet;
+use super::sheet::{sheet_of, Sheet, SheetPoint};
 use super::{
     settled, too_many_points, Frame, Integral, Line, VolumeDensity, VolumeSettings, CHECK_ENERGIES,
     FIRST_POINTS,
 };
 use crate::error::Result;
 use crate::hamiltonian::FieldPoint;
-use crate::levels::Spectrum;
 use crate::model::Model;
-use crate::solve::{Problem, Settings};
+use crate::solve::{converged_energies, LeanBuffers, Problem, Settings};
 use rayon::prelude::*;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
 
@@ -73,32 +72,63 @@ pub(super) fn compute(
         0.0
     };
     let template = Problem::new(model, FieldPoint { field, kz: generic }, settings)?;
-    let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
+    let lean = LeanSolve {
+        template: &template,
+        tolerance: settings.tolerance,
+        cutoff: settings.cutoff,
+    };
+    let frame = Frame::new(
+        model,
+        field,
+        vs,
+        (template.reference(), template.hamiltonian().magnetic_length),
+    )?;
+    let probe = |kz: &[f64]| -> Result<Vec<Vec<f64>>> {
         kz.par_iter()
-            .map(|&k| Spectrum::solve_unlabelled(&template.at_kz(k)?))
+            .map_init(LeanBuffers::default, |buf, &k| {
+                let mut e = Vec::new();
+                lean.energies(k, buf, &mut e)?;
+                Ok(e)
+            })
             .collect()
     };
-    let first = solve(&[0.0])?.remove(0);
-    let frame = Frame::new(model, field, vs, &first)?;
     let kz_max = kz_limit(
         vs,
         !even,
         frame.magnetic_length,
         (frame.lo, frame.hi),
-        &solve,
+        &probe,
     )?;
     let start = if even { 0.0 } else { -kz_max };
     let both = if even { 2.0 } else { 1.0 };
     let check: Vec<f64> = (0..CHECK_ENERGIES)
         .map(|i| vs.range.0 + (vs.range.1 - vs.range.0) * i as f64 / (CHECK_ENERGIES - 1) as f64)
         .collect();
+    // one job per kz point: solve, reduce to a sheet and sum it on the check energies, with
+    // the buffers of the thread's earlier jobs (the fields of a sweep run in the same pool)
     let nodes_at = |kz: &[f64]| -> Result<Vec<Node>> {
-        let sheets = frame.sheets(&solve(kz)?)?;
-        Ok(kz
-            .par_iter()
-            .zip(sheets)
-            .map(|(&kz, sheet)| node(kz, sheet, &frame.line, &check))
-            .collect())
+        kz.par_iter()
+            .map_init(
+                || (LeanBuffers::default(), Vec::new()),
+                |(buf, e), &k| {
+                    lean.energies(k, buf, e)?;
+                    let at = SheetPoint {
+                        kz: k,
+                        tolerance: lean.tolerance,
+                        cutoff: lean.cutoff,
+                    };
+                    let sheet = sheet_of(
+                        e,
+                        at,
+                        (frame.lo, frame.hi),
+                        frame.neutrality,
+                        frame.bounded,
+                        frame.line.width,
+                    )?;
+                    Ok(node(k, sheet, &frame.line, &check))
+                },
+            )
+            .collect()
     };
     let intervals = FIRST_POINTS - 1;
     let first_grid: Vec<f64> = (0..=intervals)
@@ -173,6 +203,21 @@ pub(super) fn compute(
                 model, field, settings, vs, frame, integral,
             ));
         }
+    }
+}
+
+/// The lean solve of one kz sheet: the field's set-up reused ([`Problem::at_kz`]) and only
+/// the converged energies kept ([`converged_energies`]).
+struct LeanSolve<'a, 'm> {
+    template: &'a Problem<'m>,
+    tolerance: f64,
+    cutoff: usize,
+}
+
+impl LeanSolve<'_, '_> {
+    /// The ascending energies of the converged levels at `kz` into `out`.
+    fn energies(&self, kz: f64, buffers: &mut LeanBuffers, out: &mut Vec<f64>) -> Result<()> {
+        converged_energies(&self.template.at_kz(kz)?, buffers, out)
     }
 }
 
