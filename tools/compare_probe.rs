@@ -437,11 +437,17 @@ fn volume_case(
         c_new += c / rounds as f64;
         new = r;
     }
-    let median = |mut v: Vec<f64>| {
+    let median = |v: &[f64]| {
+        let mut v = v.to_vec();
         v.sort_by(f64::total_cmp);
-        v[v.len() / 2]
+        let m = v.len() / 2;
+        if v.len() % 2 == 0 {
+            0.5 * (v[m - 1] + v[m])
+        } else {
+            v[m]
+        }
     };
-    let (t_old, t_new) = (median(ts_old), median(ts_new));
+    let (t_old, t_new) = (median(&ts_old), median(&ts_new));
     let mut max_def = 0.0f64;
     let mut max_ddos = 0.0f64;
     for (a, b) in old.iter().zip(&new) {
@@ -457,7 +463,8 @@ fn volume_case(
         "b_min": b_min, "b_max": b_max,
         "cutoff": 200, "width_meV": 1.0, "density_invnm3": n3,
         "uniform_seconds": t_old, "adaptive_seconds": t_new, "ratio": t_old / t_new,
-        "uniform_cpu": c_old, "adaptive_cpu": c_new,
+        "uniform_cpu": c_old, "adaptive_cpu": c_new, "cpu_ratio": c_old / c_new,
+        "uniform_runs_seconds": ts_old, "adaptive_runs_seconds": ts_new,
         "uniform_kz_points": kz_old, "adaptive_kz_points": kz_new,
         "max_fermi_difference_meV": max_def, "max_relative_dos_difference": max_ddos,
         "what": "volume::fermi_sweep of the Weyl node, Quadrature::Uniform vs Quadrature::Adaptive",

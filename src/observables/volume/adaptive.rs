@@ -7,9 +7,12 @@
 //!   multiple of 1/l_B, where every coupling any kz can have is present), its sector plan and
 //!   memory estimate reused at every kz ([`Problem::at_kz`]: one assembly per kz, the plan kept
 //!   when the couplings are covered), and each sheet solved by
-//!   [`Spectrum::solve_unlabelled`] (no label families: the densities only count levels).
-//!   Sheets are solved in parallel over kz (and the fields of a sweep in parallel over fields,
-//!   in the same rayon pool: work stealing, no second pool).
+//!   [`crate::solve::converged_energies`]: the same sector solves, bounds and convergence flags
+//!   as a full solve, on one thread in buffers reused by the thread's later jobs, keeping only
+//!   the energies of the converged levels (no level records, weights, labels or gather: the
+//!   densities only count levels). One kz point is one job (solve, sheet, sums on the check
+//!   energies); the jobs of all fields of a sweep share one rayon pool (work stealing over
+//!   fields and kz together, no nested parallelism inside a sheet).
 //! * Mirror: when [`super::kz_mirror`] finds U with U H(kz) U^-1 = H(-kz), only [0, K] is
 //!   solved and counted twice; otherwise [-K, K].
 //! * Grid: the first grid has [`super::FIRST_POINTS`] points; each round halves every interval
