@@ -568,7 +568,7 @@ def main():
           f"{vol['uniform_kz_points']} vs {vol['adaptive_kz_points']}; CPU s {vol['uniform_cpu']:.3g} "
           f"vs {vol['adaptive_cpu']:.3g}; max |dE_F| {vol['max_fermi_difference_meV']:.2g} meV, "
           f"max rel. dDOS(E_F) {vol['max_relative_dos_difference']:.2g}; peak RSS "
-          f"{vol_rss if vol_rss is None else round(vol_rss)} MiB")
+          f"{'n/a' if vol_rss is None else round(vol_rss)} MiB")
     if dense_out:
         print()
         print("Dense sector (unsplit 3+1 Dirac matrix; complex = D H D^H, D = diag(exp(i phi_k))): "

@@ -230,9 +230,10 @@ impl LeanSolve<'_, '_> {
 /// instead of four per check energy).
 ///
 /// # Formula
-/// g(E_k) = sum_l L(E_k - E_l); n(E_k) = base - sum_l f_l + sum_(l: E_k > E_l + r) 1
-/// + sum_(l: |E_k - E_l| <= r) C(E_k - E_l), with the cumulative line C, the reach r and the
-/// filled column f_l of the sheet (C = 1 beyond the reach to below 1e-17).
+/// g(E_k) = sum_l L(E_k - E_l) and
+/// n(E_k) = base - sum_l f_l + #{l: E_k > E_l + r} + sum over |E_k - E_l| <= r of
+/// C(E_k - E_l), with the cumulative line C, the reach r and the filled column f_l of the
+/// sheet (C = 1 beyond the reach to below 1e-17).
 fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
     let count = check.len();
     let (mut g, mut n) = (vec![0.0; count], vec![0.0; count]);

@@ -46,6 +46,9 @@ pub(super) fn check_volume_inputs(model: &Model, vs: &VolumeSettings) -> Result<
     Ok(odd)
 }
 
+/// The energies of the converged levels (ascending) at each of some kz points.
+pub(super) type ConvergedAt<'a> = dyn Fn(&[f64]) -> Result<Vec<Vec<f64>>> + 'a;
+
 /// The kz limit: the given one, or the first of 1/l_B, 2/l_B, 4/l_B, ... beyond which no
 /// converged level enters the padded energy range (`lo`, `hi`), probed at k and 2k (and -k,
 /// -2k for a model odd in kz).
@@ -54,7 +57,7 @@ pub(super) fn kz_limit(
     odd: bool,
     magnetic_length: f64,
     (lo, hi): (f64, f64),
-    solve: &dyn Fn(&[f64]) -> Result<Vec<Vec<f64>>>,
+    solve: &ConvergedAt,
 ) -> Result<f64> {
     match vs.kz_max {
         Some(k) if k.is_finite() && k > 0.0 => return Ok(k),
