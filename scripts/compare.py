@@ -445,6 +445,13 @@ def main():
     sw, sw_rss = run_measured([args.probe, "sweep", str(sweep_points), "--threads", str(nproc),
                                "--rounds", "3"], env)
 
+    # 5. kz-integrated (3D) Fermi-level sweep of the Weyl node: before = Quadrature::Uniform
+    # (full solves on a uniformly halved grid, the only path before the default existed),
+    # after = the default, alternating in one process
+    vol_fields = 40 if args.quick else 200
+    vol, vol_rss = run_measured([args.probe, "volume", str(vol_fields), "--threads", str(nproc),
+                                 "--rounds", "2"], env)
+
     def load(r, case):
         w = np.fromfile(r["values"], dtype="<f8")
         if case in reduced:  # the `count` values nearest the target
@@ -554,6 +561,14 @@ def main():
           f"(independent arithmetic, same pools) speed-up {sw['control_speedup_median']:.2f}x; "
           f"peak RSS {sw_rss if sw_rss is None else round(sw_rss)} MiB")
     ok = ok and sw["identical_to_serial"]
+    print(f"3D Fermi sweep, {vol_fields} fields {vol['b_min']:g}..{vol['b_max']:g} T (Weyl node, "
+          f"cutoff {vol['cutoff']}, 1e16 cm^-3, medians of {vol['rounds']} alternating rounds): "
+          f"before (Uniform) {vol['uniform_seconds']:.3g} s, after (default) "
+          f"{vol['adaptive_seconds']:.3g} s, ratio {vol['ratio']:.2f}x (goal 10x); kz points "
+          f"{vol['uniform_kz_points']} vs {vol['adaptive_kz_points']}; CPU s {vol['uniform_cpu']:.3g} "
+          f"vs {vol['adaptive_cpu']:.3g}; max |dE_F| {vol['max_fermi_difference_meV']:.2g} meV, "
+          f"max rel. dDOS(E_F) {vol['max_relative_dos_difference']:.2g}; peak RSS "
+          f"{'n/a' if vol_rss is None else round(vol_rss)} MiB")
     if dense_out:
         print()
         print("Dense sector (unsplit 3+1 Dirac matrix; complex = D H D^H, D = diag(exp(i phi_k))): "
@@ -593,7 +608,7 @@ def main():
     if args.json:
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,
-                       "matrix_check": matrix_check, "sweep": sw, "rows": out_rows,
+                       "matrix_check": matrix_check, "sweep": sw, "volume": vol, "rows": out_rows,
                        "dense": dense_out, "window_vs_eigsh": window_summary},
                       f, indent=1)
     return 0 if ok else 1

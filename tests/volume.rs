@@ -322,3 +322,107 @@ fn adaptive_path_uses_the_mirror_of_a_gapped_dirac_model_and_agrees_with_the_ref
     // range, below every level by 10 widths, is zero
     assert!(b.carrier_density(-0.05).abs() < 1e-9 * b.carrier_density(0.3));
 }
+
+/// Warped cone of tests/core.rs (J mod 3 sectors, invented parameters) with a tilt
+/// `tilt` kz sigma_0 along the field (invented), which no kz mirror can undo.
+fn tilted_warped_cone(tilt: f64) -> ladderfan::Model {
+    use ladderfan::matrix::pauli;
+    use ladderfan::Monomial;
+    ladderfan::Model::builder("tilted warped cone (invented)", 2)
+        .term("mass", 20.0, pauli("z").unwrap(), Monomial::ONE)
+        .term("kx2", 400.0, pauli("z").unwrap(), Monomial::new(2, 0, 0))
+        .term("ky2", 400.0, pauli("z").unwrap(), Monomial::new(0, 2, 0))
+        .term("kz2", 400.0, pauli("z").unwrap(), Monomial::new(0, 0, 2))
+        .term("vx", 300.0, pauli("x").unwrap(), Monomial::KX)
+        .term("vy", 300.0, pauli("y").unwrap(), Monomial::KY)
+        .term("tilt", tilt, pauli("0").unwrap(), Monomial::new(0, 0, 1))
+        .term("w1", 900.0, pauli("z").unwrap(), Monomial::new(3, 0, 0))
+        .term("w2", -2700.0, pauli("z").unwrap(), Monomial::new(1, 2, 0))
+        .build()
+        .unwrap()
+}
+
+#[test]
+fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
+    // Oracle: Spectrum::solve_unlabelled (the parallel solve with level records), whose
+    // converged levels the lean path must reproduce: same count (same convergence flags) and
+    // the same energies within a few eps of the largest level (same sector solves).
+    use ladderfan::solve::{converged_energies, LeanBuffers, Problem};
+    use ladderfan::{FieldPoint, Spectrum};
+    let weyl = models::weyl(WeylParams::default()).unwrap();
+    let dirac = models::dirac(models::RelativisticParams::default()).unwrap();
+    let warped = tilted_warped_cone(50.0);
+    let cases = [
+        (
+            &weyl,
+            FieldPoint {
+                field: 4.0,
+                kz: 0.1,
+            },
+            200,
+        ),
+        (
+            &dirac,
+            FieldPoint {
+                field: 0.05,
+                kz: 0.3,
+            },
+            80,
+        ),
+        (
+            &warped,
+            FieldPoint {
+                field: 3.0,
+                kz: -0.02,
+            },
+            60,
+        ),
+    ];
+    let mut buffers = LeanBuffers::default();
+    let mut lean = Vec::new();
+    for (model, point, cutoff) in cases {
+        let problem = Problem::new(model, point, &Settings::with_cutoff(cutoff)).unwrap();
+        // twice through the same buffers: the second call must not see the first's levels
+        for _ in 0..2 {
+            converged_energies(&problem, &mut buffers, &mut lean).unwrap();
+            let full: Vec<f64> = Spectrum::solve_unlabelled(&problem)
+                .unwrap()
+                .converged()
+                .map(|l| l.energy)
+                .collect();
+            assert!(!full.is_empty(), "{}", model.name());
+            assert_eq!(lean.len(), full.len(), "{}", model.name());
+            let scale = full.iter().fold(0.0f64, |m, e| m.max(e.abs()));
+            for (a, b) in lean.iter().zip(&full) {
+                assert!(
+                    (a - b).abs() <= 4.0 * f64::EPSILON * scale,
+                    "{}: {a} vs {b}",
+                    model.name()
+                );
+            }
+        }
+    }
+}
+
+#[test]
+fn adaptive_path_agrees_with_the_uniform_reference_on_a_tilted_j_mod_3_model() {
+    // Reference: Quadrature::Uniform (as the Weyl test above): both stop at a change of 1e-7
+    // of the peak, so they agree within 2e-7. A third kind of model: sectors of J mod 3
+    // (dense sectors, not 2x2), an even kz^2 mass and an odd tilt, so no kz mirror.
+    let m = tilted_warped_cone(50.0);
+    let settings = Settings::with_cutoff(60);
+    let fast = VolumeSettings::new(Broadening::gaussian(1.0), (-40.0, 40.0));
+    let reference = VolumeSettings {
+        quadrature: Quadrature::Uniform,
+        ..fast
+    };
+    let field = 3.0;
+    let a = VolumeDensity::compute(&m, field, &settings, &reference).unwrap();
+    let b = VolumeDensity::compute(&m, field, &settings, &fast).unwrap();
+    assert!(!b.even_in_kz, "a tilt along the field has no kz mirror");
+    let (dg, dn) = largest_differences(&a, &b, 161);
+    assert!(dg < 2e-7, "DOS differs by {dg:e} of its peak");
+    assert!(dn < 2e-7, "density differs by {dn:e} of its scale");
+    // the integral is not empty: a level lies in the range
+    assert!(a.dos(0.0).max(a.dos(30.0)).max(a.dos(-30.0)) > 0.0);
+}

@@ -10,9 +10,10 @@
 //! compare_probe sweep P [--threads T] [--rounds R]   P-point sweep, 1 thread vs T, alternately
 //! compare_probe window N [--target E] [--count K] [--values FILE]   K levels nearest E (1.01)
 //!                                                  of the unsplit 4N-state band matrix
-//! compare_probe volume P [--threads T] [--b-min B] [--b-max B]   P-field kz-integrated Fermi
-//!                                                  sweep of the Weyl node, fixed-grid reference
-//!                                                  path against the default path (see
+//! compare_probe volume P [--threads T] [--rounds R] [--b-min B] [--b-max B]   P-field
+//!                                                  kz-integrated Fermi sweep of the Weyl node,
+//!                                                  fixed-grid reference path against the
+//!                                                  default path, alternating R rounds (2) (see
 //!                                                  `volume_case`)
 //! ```
 //! Setup (model, assembly of the dense matrix) is not timed; each timing is the median of
@@ -368,7 +369,13 @@ fn main() {
                 "what": "numeric::window::nearest_pairs on the unsplit band matrix (values, real vectors, residuals)",
             })
         }
-        "volume" => volume_case(n, threads, (flag("--b-min"), flag("--b-max"))),
+        "volume" => {
+            let rounds = flag("--rounds")
+                .and_then(|r| r.parse::<usize>().ok())
+                .unwrap_or(2)
+                .max(1);
+            volume_case(n, threads, rounds, (flag("--b-min"), flag("--b-max")))
+        }
         other => fail(&format!(
             "unknown path {other}; use split, dense, sweep, window or volume"
         )),
@@ -379,12 +386,15 @@ fn main() {
 /// `volume P`: the kz-integrated Fermi level of the Weyl node (built-in `weyl`, v = 3e5 m/s,
 /// invented) at a fixed density of 1e16 cm^-3 on P fields from `--b-min` (2 T) to `--b-max`
 /// (10 T), cutoff 200, Gaussian lines of 1 meV, energies -40..40 meV: once with
-/// `Quadrature::Uniform` (the fixed-grid reference path: full solves, halved uniform grid) and
-/// once with the default `Quadrature::Adaptive`, on the same inputs in this one process. Prints
-/// both times, their ratio and the largest differences of the Fermi level and of the DOS there.
+/// `Quadrature::Uniform` (the fixed-grid reference path: full solves, halved uniform grid, the
+/// path of every kz integral before the default existed) and once with the default
+/// `Quadrature::Adaptive`, on the same inputs in this one process, alternating for `rounds`
+/// rounds. Prints the median times ("before" = Uniform, "after" = default), their ratio and the
+/// largest differences of the Fermi level and of the DOS there.
 fn volume_case(
     points: usize,
     threads: usize,
+    rounds: usize,
     (b_min, b_max): (Option<&str>, Option<&str>),
 ) -> serde_json::Value {
     use ladderfan::observables::dos::Broadening;
@@ -415,8 +425,29 @@ fn volume_case(
             .unwrap_or_else(|e| fail(&e.to_string()));
         (t.elapsed().as_secs_f64(), cpu_seconds() - c, r)
     };
-    let (t_old, c_old, old) = run(&reference);
-    let (t_new, c_new, new) = run(&fast);
+    let (mut ts_old, mut ts_new, mut c_old, mut c_new) = (Vec::new(), Vec::new(), 0.0, 0.0);
+    let (mut old, mut new) = (Vec::new(), Vec::new());
+    for _ in 0..rounds {
+        let (t, c, r) = run(&reference);
+        ts_old.push(t);
+        c_old += c / rounds as f64;
+        old = r;
+        let (t, c, r) = run(&fast);
+        ts_new.push(t);
+        c_new += c / rounds as f64;
+        new = r;
+    }
+    let median = |v: &[f64]| {
+        let mut v = v.to_vec();
+        v.sort_by(f64::total_cmp);
+        let m = v.len() / 2;
+        if v.len() % 2 == 0 {
+            0.5 * (v[m - 1] + v[m])
+        } else {
+            v[m]
+        }
+    };
+    let (t_old, t_new) = (median(&ts_old), median(&ts_new));
     let mut max_def = 0.0f64;
     let mut max_ddos = 0.0f64;
     for (a, b) in old.iter().zip(&new) {
@@ -428,10 +459,12 @@ fn volume_case(
     let kz_old: usize = old.iter().map(|p| p.kz_points).sum();
     let kz_new: usize = new.iter().map(|p| p.kz_points).sum();
     serde_json::json!({
-        "path": "volume", "points": points, "threads": threads, "b_min": b_min, "b_max": b_max,
+        "path": "volume", "points": points, "threads": threads, "rounds": rounds,
+        "b_min": b_min, "b_max": b_max,
         "cutoff": 200, "width_meV": 1.0, "density_invnm3": n3,
         "uniform_seconds": t_old, "adaptive_seconds": t_new, "ratio": t_old / t_new,
-        "uniform_cpu": c_old, "adaptive_cpu": c_new,
+        "uniform_cpu": c_old, "adaptive_cpu": c_new, "cpu_ratio": c_old / c_new,
+        "uniform_runs_seconds": ts_old, "adaptive_runs_seconds": ts_new,
         "uniform_kz_points": kz_old, "adaptive_kz_points": kz_new,
         "max_fermi_difference_meV": max_def, "max_relative_dos_difference": max_ddos,
         "what": "volume::fermi_sweep of the Weyl node, Quadrature::Uniform vs Quadrature::Adaptive",

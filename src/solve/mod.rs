@@ -147,13 +147,12 @@ fn refine_policy(problem: &Problem<'_>) -> RefinePolicy {
     }
 }
 
-/// Solve every sector of the problem's plan, rayon-parallel over chunks of sectors.
-fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
+/// What every sector of `problem` shares (the per-sector work of `sector.rs`).
+fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
     let settings = problem.settings();
     let h = problem.hamiltonian();
     let plan = problem.plan();
-    let ids = plan.sectors();
-    let job = Job {
+    Job {
         h,
         plan,
         form: problem.model().form(),
@@ -161,12 +160,103 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
         refine: refine_policy(problem),
         keep_vectors: settings.vectors == Vectors::Compute,
         keep_mean_n: settings.character == crate::problem::Character::Compute,
+        labels: true,
         real: h.is_real(),
         tolerance: settings.tolerance,
         target: settings.target,
         dense_max: settings.dense_max,
         dropped: h.dropped_norm(plan.cutoff),
-    };
+    }
+}
+
+/// Buffers of [`converged_energies`], reused from call to call on one thread (the sector
+/// matrix, the eigen-solve's output, the levels of one solve and the magnitudes of the energy
+/// scale): after the first call at a given cutoff no solve allocates.
+pub struct LeanBuffers {
+    scratch: Scratch,
+    acc: SectorResult,
+    mags: Vec<f64>,
+}
+
+impl Default for LeanBuffers {
+    fn default() -> Self {
+        LeanBuffers {
+            scratch: Scratch::new(),
+            acc: SectorResult {
+                levels: Vec::new(),
+                weights: Vec::new(),
+                mean_n: Vec::new(),
+                vectors: Vec::new(),
+            },
+            mags: Vec::new(),
+        }
+    }
+}
+
+/// The energies (relative to the reference) of the converged levels of `problem`, ascending,
+/// written into `out`: the same levels, bounds and convergence flags as
+/// [`Spectrum::solve_unlabelled`] followed by [`Spectrum::converged`], without the level
+/// records, weights, vectors and labels across sectors, on the calling thread only, in the
+/// reused `buffers`. For callers that solve many points in parallel and only count levels
+/// (the kz integrals of `observables::volume`). A partial [`Target`] takes the full path.
+///
+/// # Formula
+/// A level is converged when its deciding bound is at most tolerance x max(|E|, scale), with
+/// the energy scale of [`crate::levels::energy_scale`] over all levels of the solve
+/// ([`crate::levels::Level::convergence_at`]).
+///
+/// # Errors
+/// As [`Spectrum::solve`].
+///
+/// # Complexity
+/// As the sector solves of [`Spectrum::solve`] (O(N d^3) for exact-J sectors), sequential;
+/// then O(L log L) for the sort of the L converged energies.
+pub fn converged_energies(
+    problem: &Problem<'_>,
+    buffers: &mut LeanBuffers,
+    out: &mut Vec<f64>,
+) -> Result<()> {
+    out.clear();
+    if problem.settings().target != Target::All {
+        let s = Spectrum::solve_unlabelled(problem)?;
+        out.extend(s.converged().map(|l| l.energy));
+        return Ok(());
+    }
+    problem.check_memory()?;
+    let mut job = job(problem);
+    job.keep_vectors = false;
+    job.keep_mean_n = false;
+    job.labels = false;
+    let LeanBuffers { scratch, acc, mags } = buffers;
+    acc.levels.clear();
+    acc.weights.clear();
+    acc.mean_n.clear();
+    acc.vectors.clear();
+    for id in problem.plan().sectors() {
+        job.solve_sector(id, scratch, acc)?;
+    }
+    // the energy scale of `gather`: the median of the non-zero |E| among the 2d+1 smallest
+    mags.clear();
+    mags.extend(acc.levels.iter().map(|l| l.energy.abs()));
+    let d = problem.hamiltonian().dim;
+    let scale = crate::levels::median_of_smallest_nonzero(mags, 2 * d + 1).unwrap_or(1.0);
+    let tolerance = problem.settings().tolerance;
+    out.extend(
+        acc.levels
+            .iter()
+            .filter(|l| l.convergence_at(tolerance, scale) == crate::levels::Convergence::Converged)
+            .map(|l| l.energy),
+    );
+    out.sort_unstable_by(f64::total_cmp);
+    Ok(())
+}
+
+/// Solve every sector of the problem's plan, rayon-parallel over chunks of sectors.
+fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
+    let h = problem.hamiltonian();
+    let plan = problem.plan();
+    let ids = plan.sectors();
+    let job = job(problem);
     let branches = problem.shape().branches as usize;
     // many small sectors: chunks amortise the scheduling; few large ones: one per task
     let chunk = (ids.len() / (8 * rayon::current_num_threads())).clamp(1, 512);

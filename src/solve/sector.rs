@@ -79,6 +79,8 @@ pub(super) struct Job<'a> {
     pub(super) keep_vectors: bool,
     /// Keep <n> of every level ([`crate::problem::Character::Compute`]).
     pub(super) keep_mean_n: bool,
+    /// Label the levels of exact sectors n = J (off where only energies are wanted).
+    pub(super) labels: bool,
     pub(super) real: bool,
     /// Relative tolerance of the solve (also sets the cluster width of the artefact rotation).
     pub(super) tolerance: f64,
@@ -388,7 +390,7 @@ impl Job<'_> {
             bounds::SectorEdges::Complete
         };
         bounds::kato_temple_sector(levels, edges);
-        if self.plan.symmetry.classes[id.class].conservation.is_exact() {
+        if self.labels && self.plan.symmetry.classes[id.class].conservation.is_exact() {
             let family = self.plan.symmetry.classes[id.class].components[0];
             crate::labelling::label_exact_sector(levels, id.label, family);
         }

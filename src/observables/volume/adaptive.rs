@@ -7,9 +7,12 @@
 //!   multiple of 1/l_B, where every coupling any kz can have is present), its sector plan and
 //!   memory estimate reused at every kz ([`Problem::at_kz`]: one assembly per kz, the plan kept
 //!   when the couplings are covered), and each sheet solved by
-//!   [`Spectrum::solve_unlabelled`] (no label families: the densities only count levels).
-//!   Sheets are solved in parallel over kz (and the fields of a sweep in parallel over fields,
-//!   in the same rayon pool: work stealing, no second pool).
+//!   [`crate::solve::converged_energies`]: the same sector solves, bounds and convergence flags
+//!   as a full solve, on one thread in buffers reused by the thread's later jobs, keeping only
+//!   the energies of the converged levels (no level records, weights, labels or gather: the
+//!   densities only count levels). One kz point is one job (solve, sheet, sums on the check
+//!   energies); the jobs of all fields of a sweep share one rayon pool (work stealing over
+//!   fields and kz together, no nested parallelism inside a sheet).
 //! * Mirror: when [`super::kz_mirror`] finds U with U H(kz) U^-1 = H(-kz), only [0, K] is
 //!   solved and counted twice; otherwise [-K, K].
 //! * Grid: the first grid has [`super::FIRST_POINTS`] points; each round halves every interval
@@ -26,16 +29,15 @@
 
 use super::mirror::kz_mirror;
 use super::quadrature::{check_volume_inputs, kz_limit, Change};
-use super::sheet::Sheet;
+use super::sheet::{sheet_of, Sheet, SheetPoint};
 use super::{
     settled, too_many_points, Frame, Integral, Line, VolumeDensity, VolumeSettings, CHECK_ENERGIES,
     FIRST_POINTS,
 };
 use crate::error::Result;
 use crate::hamiltonian::FieldPoint;
-use crate::levels::Spectrum;
 use crate::model::Model;
-use crate::solve::{Problem, Settings};
+use crate::solve::{converged_energies, LeanBuffers, Problem, Settings};
 use rayon::prelude::*;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
 
@@ -73,32 +75,63 @@ pub(super) fn compute(
         0.0
     };
     let template = Problem::new(model, FieldPoint { field, kz: generic }, settings)?;
-    let solve = |kz: &[f64]| -> Result<Vec<Spectrum>> {
+    let lean = LeanSolve {
+        template: &template,
+        tolerance: settings.tolerance,
+        cutoff: settings.cutoff,
+    };
+    let frame = Frame::new(
+        model,
+        field,
+        vs,
+        (template.reference(), template.hamiltonian().magnetic_length),
+    )?;
+    let probe = |kz: &[f64]| -> Result<Vec<Vec<f64>>> {
         kz.par_iter()
-            .map(|&k| Spectrum::solve_unlabelled(&template.at_kz(k)?))
+            .map_init(LeanBuffers::default, |buf, &k| {
+                let mut e = Vec::new();
+                lean.energies(k, buf, &mut e)?;
+                Ok(e)
+            })
             .collect()
     };
-    let first = solve(&[0.0])?.remove(0);
-    let frame = Frame::new(model, field, vs, &first)?;
     let kz_max = kz_limit(
         vs,
         !even,
         frame.magnetic_length,
         (frame.lo, frame.hi),
-        &solve,
+        &probe,
     )?;
     let start = if even { 0.0 } else { -kz_max };
     let both = if even { 2.0 } else { 1.0 };
     let check: Vec<f64> = (0..CHECK_ENERGIES)
         .map(|i| vs.range.0 + (vs.range.1 - vs.range.0) * i as f64 / (CHECK_ENERGIES - 1) as f64)
         .collect();
+    // one job per kz point: solve, reduce to a sheet and sum it on the check energies, with
+    // the buffers of the thread's earlier jobs (the fields of a sweep run in the same pool)
     let nodes_at = |kz: &[f64]| -> Result<Vec<Node>> {
-        let sheets = frame.sheets(&solve(kz)?)?;
-        Ok(kz
-            .par_iter()
-            .zip(sheets)
-            .map(|(&kz, sheet)| node(kz, sheet, &frame.line, &check))
-            .collect())
+        kz.par_iter()
+            .map_init(
+                || (LeanBuffers::default(), Vec::new()),
+                |(buf, e), &k| {
+                    lean.energies(k, buf, e)?;
+                    let at = SheetPoint {
+                        kz: k,
+                        tolerance: lean.tolerance,
+                        cutoff: lean.cutoff,
+                    };
+                    let sheet = sheet_of(
+                        e,
+                        at,
+                        (frame.lo, frame.hi),
+                        frame.neutrality,
+                        frame.bounded,
+                        frame.line.width,
+                    )?;
+                    Ok(node(k, sheet, &frame.line, &check))
+                },
+            )
+            .collect()
     };
     let intervals = FIRST_POINTS - 1;
     let first_grid: Vec<f64> = (0..=intervals)
@@ -176,13 +209,53 @@ pub(super) fn compute(
     }
 }
 
-/// A grid point with its sums on the check energies (T = 0 densities, as the uniform check).
+/// The lean solve of one kz sheet: the field's set-up reused ([`Problem::at_kz`]) and only
+/// the converged energies kept ([`converged_energies`]).
+struct LeanSolve<'a, 'm> {
+    template: &'a Problem<'m>,
+    tolerance: f64,
+    cutoff: usize,
+}
+
+impl LeanSolve<'_, '_> {
+    /// The ascending energies of the converged levels at `kz` into `out`.
+    fn energies(&self, kz: f64, buffers: &mut LeanBuffers, out: &mut Vec<f64>) -> Result<()> {
+        converged_energies(&self.template.at_kz(kz)?, buffers, out)
+    }
+}
+
+/// A grid point with its sums on the check energies (T = 0 densities, as the uniform check):
+/// [`Sheet::lines`] and [`Sheet::occupied`] at each check energy, summed level by level over
+/// the check energies within the line's reach of the level (two binary searches per level
+/// instead of four per check energy).
+///
+/// # Formula
+/// g(E_k) = sum_l L(E_k - E_l) and
+/// n(E_k) = base - sum_l f_l + #{l: E_k > E_l + r} + sum over |E_k - E_l| <= r of
+/// C(E_k - E_l), with the cumulative line C, the reach r and the filled column f_l of the
+/// sheet (C = 1 beyond the reach to below 1e-17).
 fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
-    let g = check.iter().map(|&e| sheet.lines(line, e)).collect();
-    let n = check
-        .iter()
-        .map(|&e| sheet.occupied(line, e, 0.0))
-        .collect();
+    let count = check.len();
+    let (mut g, mut n) = (vec![0.0; count], vec![0.0; count]);
+    // steps[k]: levels whose reach ends just below check energy k (then full from k on)
+    let mut steps = vec![0.0; count + 1];
+    let b = line.broadening;
+    for &(el, _) in &sheet.near {
+        let k0 = check.partition_point(|&e| e < el - line.reach);
+        let k1 = check.partition_point(|&e| e <= el + line.reach).max(k0);
+        for k in k0..k1 {
+            let x = check[k] - el;
+            g[k] += b.line(x, line.width);
+            n[k] += b.cumulative(x, line.width);
+        }
+        steps[k1] += 1.0;
+    }
+    let offset = sheet.base - sheet.filled_before[sheet.near.len()];
+    let mut full = 0.0;
+    for k in 0..count {
+        full += steps[k];
+        n[k] += offset + full;
+    }
     Node { kz, sheet, g, n }
 }
 
@@ -226,4 +299,51 @@ fn merge(nodes: Vec<Node>, active: &[bool], fresh: Vec<Node>) -> (Vec<Node>, Vec
         }
     }
     (out, flags)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::sheet::{sheet_of, SheetPoint};
+    use super::super::Line;
+    use super::node;
+    use crate::observables::dos::Broadening;
+
+    #[test]
+    fn node_sums_level_by_level_equal_the_sheet_sums_energy_by_energy() {
+        // Oracle: Sheet::lines and Sheet::occupied at each check energy (the sums of the
+        // uniform reference path); the level-by-level sweep must give the same values up to
+        // rounding (1e-13 of the largest), with neutrality inside the range and for a band
+        // empty at neutrality. Energies invented, two of them closer than a width.
+        let b = Broadening::gaussian(1.0);
+        let line = Line {
+            broadening: b,
+            width: 1.0,
+            reach: b.reach(1.0).unwrap(),
+        };
+        let check: Vec<f64> = (0..401).map(|i| -40.0 + 0.2 * i as f64).collect();
+        let levels = [
+            -60.0, -30.3, -12.1, -0.4, 0.0, 3.3, 3.31, 25.0, 39.95, 47.9, 80.0,
+        ];
+        let at = SheetPoint {
+            kz: 0.0,
+            tolerance: 1e-9,
+            cutoff: 10,
+        };
+        for (neutrality, bounded) in [(Some(0.0), false), (None, true)] {
+            let sheet = sheet_of(&levels, at, (-50.0, 50.0), neutrality, bounded, 1.0).unwrap();
+            let n0 = node(0.0, sheet.clone(), &line, &check);
+            for (k, &e) in check.iter().enumerate() {
+                let (g, n) = (sheet.lines(&line, e), sheet.occupied(&line, e, 0.0));
+                assert!((n0.g[k] - g).abs() <= 1e-13, "g at {e}: {} vs {g}", n0.g[k]);
+                assert!(
+                    (n0.n[k] - n).abs() <= 1e-13 * 11.0,
+                    "n at {e}: {} vs {n}",
+                    n0.n[k]
+                );
+            }
+            // the sums are not trivial: a line peak and a filled level
+            assert!(n0.g.iter().cloned().fold(0.0, f64::max) > 0.3);
+            assert!(n0.n.iter().any(|&x| x.abs() > 0.5));
+        }
+    }
 }

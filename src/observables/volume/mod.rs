@@ -324,8 +324,14 @@ struct Frame {
 }
 
 impl Frame {
-    /// The frame of `model` at `field` from the kz = 0 spectrum `first`.
-    fn new(model: &Model, field: f64, vs: &VolumeSettings, first: &Spectrum) -> Result<Self> {
+    /// The frame of `model` at `field`, with the reference energy and magnetic length of its
+    /// solves.
+    fn new(
+        model: &Model,
+        field: f64,
+        vs: &VolumeSettings,
+        (reference_energy, magnetic_length): (f64, f64),
+    ) -> Result<Self> {
         let (from, to) = vs.range;
         let width = vs.broadening.width_at(field)?;
         let reach = vs.broadening.reach(width).unwrap_or(f64::INFINITY);
@@ -336,7 +342,7 @@ impl Frame {
             Neutrality::EmptyBand => None,
             Neutrality::Energy(e) => Some(e),
             Neutrality::Auto if bounded => None,
-            Neutrality::Auto => Some(0.0 - first.reference_energy),
+            Neutrality::Auto => Some(0.0 - reference_energy),
         };
         let pad = reach + THERMAL_REACH * kt;
         let (mut lo, mut hi) = (from - pad, to + pad);
@@ -357,8 +363,8 @@ impl Frame {
             hi,
             per_level: landau_degeneracy_per_area(units, field, model.charge())
                 * model.degeneracy() as f64,
-            reference_energy: first.reference_energy,
-            magnetic_length: first.magnetic_length,
+            reference_energy,
+            magnetic_length,
         })
     }
 
@@ -458,8 +464,25 @@ fn uniform(
     };
     // reference spectrum at kz = 0: reference energy, neutrality, length scale
     let first = solve(&[0.0])?.remove(0);
-    let frame = Frame::new(model, field, vs, &first)?;
-    let kz_max = kz_limit(vs, odd, frame.magnetic_length, (frame.lo, frame.hi), &solve)?;
+    let frame = Frame::new(
+        model,
+        field,
+        vs,
+        (first.reference_energy, first.magnetic_length),
+    )?;
+    let converged = |kz: &[f64]| -> Result<Vec<Vec<f64>>> {
+        Ok(solve(kz)?
+            .iter()
+            .map(|s| s.converged().map(|l| l.energy).collect())
+            .collect())
+    };
+    let kz_max = kz_limit(
+        vs,
+        odd,
+        frame.magnetic_length,
+        (frame.lo, frame.hi),
+        &converged,
+    )?;
     let start = if odd { -kz_max } else { 0.0 };
     let span = kz_max - start;
     let both = if odd { 1.0 } else { 2.0 };

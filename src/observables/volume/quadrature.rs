@@ -5,7 +5,6 @@ use super::{
     check_temperature, kz_powers, Line, Sheet, VolumeSettings, CHECK_ENERGIES, MAX_DOUBLINGS,
 };
 use crate::error::{Error, Result};
-use crate::levels::Spectrum;
 use crate::model::Model;
 use crate::observables::dos::LineShape;
 use rayon::prelude::*;
@@ -47,6 +46,9 @@ pub(super) fn check_volume_inputs(model: &Model, vs: &VolumeSettings) -> Result<
     Ok(odd)
 }
 
+/// The energies of the converged levels (ascending) at each of some kz points.
+pub(super) type ConvergedAt<'a> = dyn Fn(&[f64]) -> Result<Vec<Vec<f64>>> + 'a;
+
 /// The kz limit: the given one, or the first of 1/l_B, 2/l_B, 4/l_B, ... beyond which no
 /// converged level enters the padded energy range (`lo`, `hi`), probed at k and 2k (and -k,
 /// -2k for a model odd in kz).
@@ -55,7 +57,7 @@ pub(super) fn kz_limit(
     odd: bool,
     magnetic_length: f64,
     (lo, hi): (f64, f64),
-    solve: &dyn Fn(&[f64]) -> Result<Vec<Spectrum>>,
+    solve: &ConvergedAt,
 ) -> Result<f64> {
     match vs.kz_max {
         Some(k) if k.is_finite() && k > 0.0 => return Ok(k),
@@ -68,7 +70,8 @@ pub(super) fn kz_limit(
         }
         None => {}
     }
-    let clear = |s: &Spectrum| s.converged().all(|l| l.energy < lo || l.energy > hi);
+    // `solve` gives the energies of the converged levels of each kz
+    let clear = |s: &Vec<f64>| s.iter().all(|&e| e < lo || e > hi);
     let mut k = 1.0 / magnetic_length;
     for _ in 0..MAX_DOUBLINGS {
         let probe: Vec<f64> = if odd {

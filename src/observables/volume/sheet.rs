@@ -62,28 +62,54 @@ impl Sheet {
 /// Reduce one spectrum to a sheet, after checking that its converged levels cover [lo, hi].
 pub(super) fn sheet(
     s: &Spectrum,
-    (lo, hi): (f64, f64),
+    range: (f64, f64),
     neutrality: Option<f64>,
     bounded: bool,
     width: f64,
 ) -> Result<Sheet> {
     let conv: Vec<f64> = s.converged().map(|l| l.energy).collect();
+    let at = SheetPoint {
+        kz: s.point.kz,
+        tolerance: s.tolerance,
+        cutoff: s.cutoff,
+    };
+    sheet_of(&conv, at, range, neutrality, bounded, width)
+}
+
+/// Where a sheet was solved, for the messages of [`sheet_of`].
+#[derive(Debug, Clone, Copy)]
+pub(super) struct SheetPoint {
+    pub(super) kz: f64,
+    pub(super) tolerance: f64,
+    pub(super) cutoff: usize,
+}
+
+/// Reduce the ascending energies `conv` of the converged levels of one kz sheet to a sheet,
+/// after checking that they cover [lo, hi].
+pub(super) fn sheet_of(
+    conv: &[f64],
+    at_point: SheetPoint,
+    (lo, hi): (f64, f64),
+    neutrality: Option<f64>,
+    bounded: bool,
+    width: f64,
+) -> Result<Sheet> {
     let (Some(&first), Some(&last)) = (conv.first(), conv.last()) else {
         return Err(Error::NotConverged {
-            tolerance: s.tolerance,
+            tolerance: at_point.tolerance,
             detail: format!(
                 "no level is converged at kz = {}; raise the cutoff",
-                s.point.kz
+                at_point.kz
             ),
         });
     };
     if last < hi || (!bounded && first > lo) {
         return Err(Error::NotConverged {
-            tolerance: s.tolerance,
+            tolerance: at_point.tolerance,
             detail: format!(
                 "at kz = {:e} the converged levels span {first:e} to {last:e}, but the energies \
                  {lo:e} to {hi:e} are needed; raise the cutoff (now {})",
-                s.point.kz, s.cutoff
+                at_point.kz, at_point.cutoff
             ),
         });
     }
@@ -96,7 +122,7 @@ pub(super) fn sheet(
     };
     let mut near = Vec::new();
     let mut base = 0.0;
-    for el in conv {
+    for &el in conv {
         if el < lo {
             base += 1.0 - filled(el);
         } else if el > hi {
