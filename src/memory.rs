@@ -240,15 +240,27 @@ pub enum Footprint {
         extra_per_level: u64,
     },
     /// A streamed sweep (`fan`, `dispersion`; [`crate::sweep::stream`]): `in_flight` results
-    /// at once (two batches), and `extra_per_level` bytes of the command's own records per
-    /// level and point of all P points (at most every level at every point is shown).
+    /// at once (two batches), `extra_per_level` bytes of the command's own records per level
+    /// and held point (at most every level is shown), over `held_points` points (all P when
+    /// the whole record is kept, for JSON; the figure's thinned lines,
+    /// [`crate::plot::decimate::Decimation::max_values`], when the rows are written as they
+    /// come), and `buffer_bytes` of fixed buffers (the CSV rows grouped by track,
+    /// [`SWEEP_REGROUP_BYTES`]).
+    ///
+    /// # Formula
+    /// min(in_flight, P) kept results + levels x held_points x extra_per_level + buffer_bytes
+    /// + the solves' transients.
     Stream {
         /// Number of points P.
         points: u64,
         /// Results held at once.
         in_flight: u64,
-        /// Bytes the command adds per level and point.
+        /// Points whose values each level's record holds (at most P).
+        held_points: u64,
+        /// Bytes the command adds per level and held point.
         extra_per_level: u64,
+        /// Fixed bytes of buffers, independent of P.
+        buffer_bytes: u64,
     },
     /// One solve with eigenvectors and the velocity matrix elements between its levels
     /// (`optics` at one field), for `points` fields solved together.
@@ -278,6 +290,18 @@ pub const SWEEP_TRACK_BYTES: u64 = 64;
 /// against the measured peak at both ends: a 16-point fan at cutoff 20000 (tests/memory.rs,
 /// estimate / peak 1.2-1.3) and a 4000-point fan at cutoff 1000 (see the README, Memory).
 pub const SWEEP_STREAM_BYTES: u64 = 40;
+
+/// Bytes a streamed sweep that writes its rows as they come keeps per level and held point
+/// ([`Footprint::Stream`] with `held_points` the figure's thinned line,
+/// [`crate::plot::decimate::Decimation::max_values`]): a value of the line, its colour value
+/// and the closed-form overlay's value (3 x 16 bytes). An upper bound: only the levels near
+/// the window have a line.
+pub const SWEEP_OUTLINE_BYTES: u64 = 48;
+
+/// Bytes of CSV rows a streamed sweep's table reads back from its spill in one pass when it
+/// groups the rows by track before the atomic rename (the spill itself is on disk): 16 MiB,
+/// a few passes for the largest tables (71 MB at 4000 points of a fan at cutoff 1000).
+pub const SWEEP_REGROUP_BYTES: u64 = 16 << 20;
 
 /// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
 /// measured: about 420).
@@ -327,15 +351,18 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
         Footprint::Stream {
             points,
             in_flight,
+            held_points,
             extra_per_level,
+            buffer_bytes,
         } => {
             let held = (*in_flight).clamp(1, (*points).max(1));
-            let records = (*points)
-                .max(1)
+            let records = (*held_points)
+                .clamp(1, (*points).max(1))
                 .saturating_mul(shape.levels)
                 .saturating_mul(*extra_per_level);
             held.saturating_mul(shape.kept_bytes(false))
                 .saturating_add(records)
+                .saturating_add(*buffer_bytes)
                 .saturating_add(shape.sweep_transient_bytes(held, threads))
         }
         Footprint::Optics { points } => {
