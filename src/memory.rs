@@ -293,15 +293,19 @@ pub const SWEEP_STREAM_BYTES: u64 = 40;
 
 /// Bytes a streamed sweep that writes its rows as they come keeps per level and held point
 /// ([`Footprint::Stream`] with `held_points` the figure's thinned line,
-/// [`crate::plot::decimate::Decimation::max_values`]): a value of the line, its colour value
-/// and the closed-form overlay's value (3 x 16 bytes). An upper bound: only the levels near
-/// the window have a line.
-pub const SWEEP_OUTLINE_BYTES: u64 = 48;
+/// [`crate::plot::decimate::Decimation::max_values`]): the lines of the tracks and of the
+/// closed-form overlay (16 bytes per value), the figure's curves and its SVG text, for the
+/// levels near the window only (about a tenth of them at cutoff 1000). Calibrated on
+/// `fan --builtin dirac2d --b-max 5 --cutoff 1000 --out DIR` (debug build, 2026-12-04):
+/// estimate / measured peak 1.07-1.5 at 500 to 8000 points, never below (see the README,
+/// Streaming sweeps).
+pub const SWEEP_OUTLINE_BYTES: u64 = 14;
 
 /// Bytes of CSV rows a streamed sweep's table reads back from its spill in one pass when it
-/// groups the rows by track before the atomic rename (the spill itself is on disk): 16 MiB,
-/// a few passes for the largest tables (71 MB at 4000 points of a fan at cutoff 1000).
-pub const SWEEP_REGROUP_BYTES: u64 = 16 << 20;
+/// groups the rows by track before the atomic rename (the spill itself is on disk): 4 MiB,
+/// 18 passes over the largest tables (71 MB at 4000 points of a fan at cutoff 1000, read
+/// back from the page cache).
+pub const SWEEP_REGROUP_BYTES: u64 = 4 << 20;
 
 /// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
 /// measured: about 420).

@@ -147,7 +147,7 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let fig = sweep::figure(
         &lm,
         &o.json,
-        &sweep::outlines_of(&o.json),
+        sweep::outlines_of(&o.json),
         o.closed.as_deref(),
         false,
     );

@@ -2,9 +2,11 @@
 //! values one at a time, and the line keeps at most a few values per pixel column (the lowest
 //! and the highest of the column, so no extreme is lost), whatever the number of points.
 
-/// Columns of a figure's width: [`super::SIZE`] `.0` (960), at least one per pixel of the data
-/// area, which is narrower than the figure.
-pub const FIGURE_COLUMNS: usize = super::SIZE.0 as usize;
+/// Columns of a sweep's figure: half the figure's width [`super::SIZE`] `.0` (480). The data
+/// area is narrower than the figure (axis labels left, key and line labels right), so a
+/// column is at most 2 px wide there: the resolution at which the figure thins crowded lines
+/// ([`super::LinePlot::thin_px`] 2 px) and about a line's width (1.8 px).
+pub const FIGURE_COLUMNS: usize = super::SIZE.0 as usize / 2;
 
 /// Values a [`DecimatedLine`] holds at most per column: the lowest, the highest and one break.
 pub const VALUES_PER_COLUMN: usize = 3;
@@ -95,6 +97,8 @@ struct Open {
 #[derive(Debug, Clone, Default)]
 pub struct DecimatedLine {
     points: Vec<(f64, f64)>,
+    /// Colour values of `points`, held only from the first finite one on (before it, all NaN:
+    /// filled in by [`DecimatedLine::finish`]); empty for a line without colour values.
     values: Vec<f64>,
     last: Option<Sample>,
     open: Option<Open>,
@@ -108,7 +112,7 @@ impl DecimatedLine {
         if d.is_exact() {
             self.pad_to(d, index);
             self.points.push((x, y));
-            self.values.push(value);
+            self.keep_value(value);
             self.last = Some(s);
             return;
         }
@@ -126,7 +130,7 @@ impl DecimatedLine {
                 self.flush();
                 if self.last.is_some_and(|l| index > l.index + 1) {
                     self.points.push((x, f64::NAN));
-                    self.values.push(f64::NAN);
+                    self.keep_value(f64::NAN);
                 }
                 self.open = Some(Open {
                     column,
@@ -138,12 +142,23 @@ impl DecimatedLine {
         self.last = Some(s);
     }
 
+    /// Record the colour value of the point just pushed (the first finite one starts the
+    /// list, with NaN for the points before it).
+    fn keep_value(&mut self, value: f64) {
+        if self.values.is_empty() && value.is_nan() {
+            return;
+        }
+        // the point this value belongs to is pushed already
+        self.values.resize(self.points.len() - 1, f64::NAN);
+        self.values.push(value);
+    }
+
     /// Exact mode: the points before `index` that got no value, as breaks.
     fn pad_to(&mut self, d: &Decimation, index: usize) {
         let from = self.last.map_or(0, |l| l.index + 1);
         for &x in d.exact_xs.get(from..index).unwrap_or(&[]) {
             self.points.push((x, f64::NAN));
-            self.values.push(f64::NAN);
+            self.keep_value(f64::NAN);
         }
     }
 
@@ -156,10 +171,10 @@ impl DecimatedLine {
                 (o.high, o.low)
             };
             self.points.push((a.x, a.y));
-            self.values.push(a.value);
+            self.keep_value(a.value);
             if b.index != a.index {
                 self.points.push((b.x, b.y));
-                self.values.push(b.value);
+                self.keep_value(b.value);
             }
         }
     }
@@ -174,12 +189,16 @@ impl DecimatedLine {
         self.last.is_none()
     }
 
-    /// The finished line: its points (x, y) and the colour value of each.
+    /// The finished line: its points (x, y) and the colour value of each (empty when no
+    /// colour value was finite).
     pub fn finish(mut self, d: &Decimation) -> (Vec<(f64, f64)>, Vec<f64>) {
         if d.is_exact() {
             self.pad_to(d, d.total);
         } else {
             self.flush();
+        }
+        if !self.values.is_empty() {
+            self.values.resize(self.points.len(), f64::NAN);
         }
         (self.points, self.values)
     }

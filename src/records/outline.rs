@@ -109,6 +109,7 @@ impl TrackOutline {
             values += 1;
         }
         let (line, colours) = line.finish(d);
+        let line_len = line.len();
         TrackOutline {
             slot,
             track: t.track.clone(),
@@ -125,8 +126,17 @@ impl TrackOutline {
             colours: t
                 .weights
                 .is_some()
-                .then_some(if values > 0 { colours } else { Vec::new() }),
+                .then(|| full_colours(colours, if values > 0 { line_len } else { 0 })),
         }
+    }
+}
+
+/// The colour values of a line of `len` points: NaN throughout when none was finite.
+fn full_colours(colours: Vec<f64>, len: usize) -> Vec<f64> {
+    if colours.is_empty() {
+        vec![f64::NAN; len]
+    } else {
+        colours
     }
 }
 
@@ -296,6 +306,7 @@ impl OutlineCollector {
                 } else {
                     (Vec::new(), Vec::new())
                 };
+                let colours = character.then(|| full_colours(colours, line.len()));
                 let o = TrackOutline {
                     slot,
                     track: t.track,
@@ -309,13 +320,13 @@ impl OutlineCollector {
                     range: t.range,
                     values: t.values,
                     line,
-                    colours: character.then_some(colours),
+                    colours,
                 };
                 (t.key, o)
             })
             .collect();
         // the key order first, then stable by identity: as `TrackCollector::finish`
-        out.sort_by(|a, b| a.0.cmp(&b.0));
+        out.sort_by_key(|a| a.0);
         out.sort_by_key(|(k, _)| ids(k));
         out.into_iter().map(|(_, o)| o).collect()
     }

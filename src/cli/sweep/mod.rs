@@ -482,13 +482,7 @@ pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &
         let mut files = common::OutputFiles::default();
         files.add_csv(&format!("{stem}.csv"), csv(lm, &o.json)?)?;
         // with --character the figure is coloured by the weight of the first component
-        let fig = figure(
-            lm,
-            &o.json,
-            &outlines_of(&o.json),
-            o.closed.as_deref(),
-            true,
-        );
+        let fig = figure(lm, &o.json, outlines_of(&o.json), o.closed.as_deref(), true);
         super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         written = files.write_all(dir)?;
     }
@@ -673,9 +667,14 @@ pub fn run_streamed(
             shard: shard.map(|s| shard_header(lm, s, total, win)),
         },
     );
-    let mut written = Vec::new();
+    // the summary first: the figure takes the tracks' lines
+    let mut text = match &o.shard {
+        Some(h) => format!("{}\n", h.line()),
+        None => summary(lm, &o.json, &tracks),
+    };
     if let (Some(dir), Some(spill)) = (&output.out, spill) {
-        let (mut meta, columns) = render::csv_parts(lm, &o.json, a.character && !tracks.is_empty());
+        let character = a.character && !tracks.is_empty();
+        let (mut meta, columns) = render::csv_parts(lm, &o.json, character);
         let names: Vec<&str> = columns.iter().map(|c| c.name.as_str()).collect();
         let header = common::csv_line(&names);
         meta.columns = columns;
@@ -685,17 +684,12 @@ pub fn run_streamed(
         let mut files = common::OutputFiles::default();
         files.add_staged_csv(&csv_name, table, &meta)?;
         if o.shard.is_none() {
-            let fig = figure(lm, &o.json, &tracks, o.closed.as_deref(), true);
+            let fig = figure(lm, &o.json, tracks, o.closed.as_deref(), true);
             super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         }
-        written = files.write_all(dir)?;
-    }
-    let mut text = match &o.shard {
-        Some(h) => format!("{}\n", h.line()),
-        None => summary(lm, &o.json, &tracks),
-    };
-    for p in written {
-        text.push_str(&format!("wrote {}\n", p.display()));
+        for p in files.write_all(dir)? {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
     }
     common::emit(&text)?;
     if o.shard.is_some() {

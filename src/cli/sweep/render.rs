@@ -187,7 +187,7 @@ pub fn outlines_of(j: &SweepJson) -> Vec<TrackOutline> {
 pub fn figure(
     lm: &LoadedModel,
     j: &SweepJson,
-    tracks: &[TrackOutline],
+    tracks: Vec<TrackOutline>,
     closed: Option<&[Vec<(f64, f64)>]>,
     colour_by_weight: bool,
 ) -> LinePlot {
@@ -207,17 +207,19 @@ pub fn figure(
     });
     let mut order: Vec<usize> = (0..tracks.len()).collect();
     order.sort_by_key(|&i| (tracks[i].n.map(|n| n.unsigned_abs()).unwrap_or(u64::MAX), i));
+    // the lines move into the curves: a long sweep's figure holds them once
+    let mut tracks: Vec<Option<TrackOutline>> = tracks.into_iter().map(Some).collect();
     let mut curves: Vec<Curve> = order
         .iter()
-        .map(|&i| {
-            let t = &tracks[i];
-            Curve {
-                label: Some(t.label.clone()),
+        .filter_map(|&i| {
+            let t = tracks[i].take()?;
+            Some(Curve {
+                label: Some(t.label),
                 color_key: t.n.map(|n| n.unsigned_abs() as usize).unwrap_or(0),
-                points: t.line.clone(),
-                values: colour_name.as_ref().and_then(|_| t.colours.clone()),
+                points: t.line,
+                values: colour_name.as_ref().and(t.colours),
                 ..Curve::default()
-            }
+            })
         })
         .collect();
     let notes = vec![format!(
