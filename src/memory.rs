@@ -248,8 +248,8 @@ pub enum Footprint {
     /// [`SWEEP_REGROUP_BYTES`]).
     ///
     /// # Formula
-    /// min(in_flight, P) kept results + levels x held_points x extra_per_level + buffer_bytes
-    /// + the solves' transients.
+    /// min(in_flight, P) kept results + levels x (held_points x extra_per_level + per_level)
+    /// + buffer_bytes + the solves' transients.
     Stream {
         /// Number of points P.
         points: u64,
@@ -259,6 +259,9 @@ pub enum Footprint {
         held_points: u64,
         /// Bytes the command adds per level and held point.
         extra_per_level: u64,
+        /// Bytes per level independent of P (the entry of each level's track and of its
+        /// closed-form label: [`SWEEP_TRACK_ENTRY_BYTES`]).
+        per_level: u64,
         /// Fixed bytes of buffers, independent of P.
         buffer_bytes: u64,
     },
@@ -300,6 +303,12 @@ pub const SWEEP_STREAM_BYTES: u64 = 40;
 /// estimate / measured peak 1.07-1.5 at 500 to 8000 points, never below (see the README,
 /// Streaming sweeps).
 pub const SWEEP_OUTLINE_BYTES: u64 = 14;
+
+/// Bytes per level of a streamed sweep that do not grow with its points: every level's
+/// track entry (identity and label texts, label origin, its line's state) and its closed-form
+/// label, made when the level is first seen, kept to the end. Calibrated on a 16-point fan at
+/// cutoff 20000 (tests/memory.rs: without it the estimate was 0.95 of the peak).
+pub const SWEEP_TRACK_ENTRY_BYTES: u64 = 320;
 
 /// Bytes of CSV rows a streamed sweep's table reads back from its spill in one pass when it
 /// groups the rows by track before the atomic rename (the spill itself is on disk): 4 MiB,
@@ -357,13 +366,15 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
             in_flight,
             held_points,
             extra_per_level,
+            per_level,
             buffer_bytes,
         } => {
             let held = (*in_flight).clamp(1, (*points).max(1));
             let records = (*held_points)
                 .clamp(1, (*points).max(1))
-                .saturating_mul(shape.levels)
-                .saturating_mul(*extra_per_level);
+                .saturating_mul(*extra_per_level)
+                .saturating_add(*per_level)
+                .saturating_mul(shape.levels);
             held.saturating_mul(shape.kept_bytes(false))
                 .saturating_add(records)
                 .saturating_add(*buffer_bytes)

@@ -142,6 +142,7 @@ fn sweep_json(
             in_flight,
             held_points: points.len() as u64,
             extra_per_level: memory::SWEEP_TRACK_BYTES,
+            per_level: 0,
             buffer_bytes: 0,
         },
         rayon_threads(),

@@ -318,6 +318,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
             in_flight: held,
             held_points: block.len() as u64,
             extra_per_level: ladderfan::memory::SWEEP_STREAM_BYTES,
+            per_level: 0,
             buffer_bytes: 0,
         },
         a.threads,
@@ -562,6 +563,7 @@ pub fn run_streamed(
             in_flight: in_flight(a.threads, block.len()) as u64,
             held_points: decimation.max_values() as u64,
             extra_per_level: ladderfan::memory::SWEEP_OUTLINE_BYTES,
+            per_level: ladderfan::memory::SWEEP_TRACK_ENTRY_BYTES,
             buffer_bytes: if output.out.is_some() {
                 ladderfan::memory::SWEEP_REGROUP_BYTES
             } else {
