@@ -158,7 +158,18 @@ impl SpilledRows {
     /// Write the table, `header` (with its newline) then the rows of the groups `order`
     /// (other groups dropped), each group's rows in the order they were pushed, to the
     /// table's temporary; the spill is removed.
-    pub fn finish(mut self, header: &str, order: &[usize]) -> CliResult<StagedFile> {
+    pub fn finish(self, header: &str, order: &[usize]) -> CliResult<StagedFile> {
+        self.finish_in_passes(header, order, REGROUP_BYTES)
+    }
+
+    /// [`SpilledRows::finish`], reading at most `budget` bytes of rows per pass (one group
+    /// larger than that is read alone).
+    fn finish_in_passes(
+        mut self,
+        header: &str,
+        order: &[usize],
+        budget: u64,
+    ) -> CliResult<StagedFile> {
         let target = self.dir.join(&self.name);
         let err = |e: std::io::Error| out_error(&target, "write", &e);
         if let Some(out) = self.out.take() {
@@ -180,7 +191,7 @@ impl SpilledRows {
         while start < order.len() {
             let mut end = start;
             let mut chunk = 0;
-            while end < order.len() && (end == start || chunk + size(order[end]) <= REGROUP_BYTES) {
+            while end < order.len() && (end == start || chunk + size(order[end]) <= budget) {
                 chunk += size(order[end]);
                 end += 1;
             }
@@ -536,6 +547,72 @@ mod tests {
             Some("3")
         );
         let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn spilled_rows_come_out_grouped_in_order_over_several_passes() {
+        // rows of three groups pushed interleaved (as points finish); the table lists group
+        // 2, then 0 (group 1 dropped), each in push order, whatever the bytes per pass
+        let d = scratch("spill");
+        for budget in [1, 12, 1 << 20] {
+            let mut rows =
+                SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+            for (g, text) in [
+                (0, "a1\n"),
+                (2, "c1\n"),
+                (1, "b1\n"),
+                (0, "a2\n"),
+                (2, "c2\n"),
+                (0, "a3\n"),
+            ] {
+                rows.push(g, text)
+                    .unwrap_or_else(|e| panic!("{}", e.message()));
+            }
+            let staged = rows
+                .finish_in_passes("h\n", &[2, 0], budget)
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            // only the table's temporary is there, the spill is gone
+            let hidden: Vec<String> = names(&d)
+                .into_iter()
+                .filter(|n| n.starts_with('.'))
+                .collect();
+            assert!(
+                hidden.len() == 1 && hidden[0].contains(".tmp-"),
+                "{hidden:?}"
+            );
+            let mut f = OutputFiles::default();
+            f.files.push(("t.csv".into(), Content::Staged(staged)));
+            f.write_all(&d)
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            assert_eq!(
+                std::fs::read_to_string(d.join("t.csv")).ok().as_deref(),
+                Some("h\nc1\nc2\na1\na2\na3\n"),
+                "budget {budget}"
+            );
+            assert_eq!(names(&d), vec!["t.csv"]);
+        }
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn an_abandoned_spill_leaves_nothing_behind() {
+        // a sweep that fails after its rows began: the spill, a staged table and the
+        // directory this run created are all removed
+        let d = scratch("abandoned");
+        let mut rows =
+            SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+        rows.push(0, "x\n")
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d).len(), 1);
+        drop(rows);
+        assert!(!d.exists(), "{:?}", names(&d));
+        let rows = SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+        let staged = rows
+            .finish("h\n", &[])
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d).len(), 1);
+        drop(staged);
+        assert!(!d.exists(), "{:?}", names(&d));
     }
 
     #[test]
