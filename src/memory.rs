@@ -286,7 +286,8 @@ pub enum Footprint {
 /// a few more.
 pub const SWEEP_TRACK_BYTES: u64 = 64;
 
-/// Bytes a streamed sweep ([`Footprint::Stream`]) keeps per level and point: 32 for the track's
+/// Bytes a streamed sweep that keeps its whole record (`--json`; [`Footprint::Stream`] with
+/// `held_points` = P) keeps per level and point: 32 for the track's
 /// optional energy and bound (an upper bound: only the levels shown are kept) and 8 for the CSV
 /// row's text, built before the atomic write (about 9 measured per level and point over all of
 /// them, 71 MB for 4000 points of 2000 levels; the tracks' slack covers the difference). Checked
