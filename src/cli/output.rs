@@ -693,6 +693,8 @@ mod tests {
             .unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join(format!(".fan.csv.bak-{dead}")), "x")
             .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(format!(".fan.csv.spill-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join(".notes.tmp-abc"), "x").unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join("keep.csv"), "x").unwrap_or_else(|e| panic!("{e}"));
         let mut f = OutputFiles::default();
