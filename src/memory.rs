@@ -240,15 +240,30 @@ pub enum Footprint {
         extra_per_level: u64,
     },
     /// A streamed sweep (`fan`, `dispersion`; [`crate::sweep::stream`]): `in_flight` results
-    /// at once (two batches), and `extra_per_level` bytes of the command's own records per
-    /// level and point of all P points (at most every level at every point is shown).
+    /// at once (two batches), `extra_per_level` bytes of the command's own records per level
+    /// and held point (at most every level is shown), over `held_points` points (all P when
+    /// the whole record is kept, for JSON; the figure's thinned lines,
+    /// [`crate::plot::decimate::Decimation::max_values`], when the rows are written as they
+    /// come), and `buffer_bytes` of fixed buffers (the CSV rows grouped by track,
+    /// [`SWEEP_REGROUP_BYTES`]).
+    ///
+    /// # Formula
+    /// min(in_flight, P) kept results + levels x (held_points x extra_per_level + per_level)
+    /// + buffer_bytes + the solves' transients.
     Stream {
         /// Number of points P.
         points: u64,
         /// Results held at once.
         in_flight: u64,
-        /// Bytes the command adds per level and point.
+        /// Points whose values each level's record holds (at most P).
+        held_points: u64,
+        /// Bytes the command adds per level and held point.
         extra_per_level: u64,
+        /// Bytes per level independent of P (the entry of each level's track and of its
+        /// closed-form label: [`SWEEP_TRACK_ENTRY_BYTES`]).
+        per_level: u64,
+        /// Fixed bytes of buffers, independent of P.
+        buffer_bytes: u64,
     },
     /// One solve with eigenvectors and the velocity matrix elements between its levels
     /// (`optics` at one field), for `points` fields solved together.
@@ -271,13 +286,36 @@ pub enum Footprint {
 /// a few more.
 pub const SWEEP_TRACK_BYTES: u64 = 64;
 
-/// Bytes a streamed sweep ([`Footprint::Stream`]) keeps per level and point: 32 for the track's
+/// Bytes a streamed sweep that keeps its whole record (`--json`; [`Footprint::Stream`] with
+/// `held_points` = P) keeps per level and point: 32 for the track's
 /// optional energy and bound (an upper bound: only the levels shown are kept) and 8 for the CSV
 /// row's text, built before the atomic write (about 9 measured per level and point over all of
 /// them, 71 MB for 4000 points of 2000 levels; the tracks' slack covers the difference). Checked
 /// against the measured peak at both ends: a 16-point fan at cutoff 20000 (tests/memory.rs,
 /// estimate / peak 1.2-1.3) and a 4000-point fan at cutoff 1000 (see the README, Memory).
 pub const SWEEP_STREAM_BYTES: u64 = 40;
+
+/// Bytes a streamed sweep that writes its rows as they come keeps per level and held point
+/// ([`Footprint::Stream`] with `held_points` the figure's thinned line,
+/// [`crate::plot::decimate::Decimation::max_values`]): the lines of the tracks and of the
+/// closed-form overlay (16 bytes per value), the figure's curves and its SVG text, for the
+/// levels near the window only (about a tenth of them at cutoff 1000). Calibrated on
+/// `fan --builtin dirac2d --b-max 5 --cutoff 1000 --out DIR` (debug build, 2026-12-04):
+/// estimate / measured peak 1.07-1.5 at 500 to 8000 points, never below (see the README,
+/// Streaming sweeps).
+pub const SWEEP_OUTLINE_BYTES: u64 = 14;
+
+/// Bytes per level of a streamed sweep that do not grow with its points: every level's
+/// track entry (identity and label texts, label origin, its line's state) and its closed-form
+/// label, made when the level is first seen, kept to the end. Calibrated on a 16-point fan at
+/// cutoff 20000 (tests/memory.rs: without it the estimate was 0.95 of the peak).
+pub const SWEEP_TRACK_ENTRY_BYTES: u64 = 320;
+
+/// Bytes of CSV rows a streamed sweep's table reads back from its spill in one pass when it
+/// groups the rows by track before the atomic rename (the spill itself is on disk): 4 MiB,
+/// 18 passes over the largest tables (71 MB at 4000 points of a fan at cutoff 1000, read
+/// back from the page cache).
+pub const SWEEP_REGROUP_BYTES: u64 = 4 << 20;
 
 /// Bytes per listed level of the `levels` table or JSON (strings and records of one row;
 /// measured: about 420).
@@ -327,15 +365,20 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
         Footprint::Stream {
             points,
             in_flight,
+            held_points,
             extra_per_level,
+            per_level,
+            buffer_bytes,
         } => {
             let held = (*in_flight).clamp(1, (*points).max(1));
-            let records = (*points)
-                .max(1)
-                .saturating_mul(shape.levels)
-                .saturating_mul(*extra_per_level);
+            let records = (*held_points)
+                .clamp(1, (*points).max(1))
+                .saturating_mul(*extra_per_level)
+                .saturating_add(*per_level)
+                .saturating_mul(shape.levels);
             held.saturating_mul(shape.kept_bytes(false))
                 .saturating_add(records)
+                .saturating_add(*buffer_bytes)
                 .saturating_add(shape.sweep_transient_bytes(held, threads))
         }
         Footprint::Optics { points } => {

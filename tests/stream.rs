@@ -130,3 +130,215 @@ fn a_shard_collects_its_points_at_their_places_in_the_whole_sweep() {
     }
     assert!(values > 0);
 }
+
+#[test]
+fn outlines_hand_on_the_values_of_the_collected_tracks_and_draw_their_lines() {
+    // the bounded-memory collector keeps the same values, tracks and order as the whole-track
+    // collector; each value is handed on once, in point order per track; on a sweep shorter
+    // than the figure's columns the lines are the whole tracks
+    use ladderfan::plot::decimate::{Decimation, FIGURE_COLUMNS};
+    use ladderfan::records::{OutlineCollector, TrackOutline};
+    let m = cone();
+    let pts = points(30);
+    let xs: Vec<f64> = pts.iter().map(|p| p.field).collect();
+    let settings = Settings {
+        character: Character::Compute,
+        ..Settings::with_cutoff(60)
+    };
+    let all = sweep::run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));
+    let reference = pts.len() - 1;
+    let win = window_of(&all[reference]);
+    for keep in [KeepTracks::EnteringWindow, KeepTracks::All] {
+        let mut whole = TrackCollector::new(&m, pts.len(), Some(reference), win, keep);
+        let mut outlines =
+            OutlineCollector::new(&m, &xs, Some(reference), win, keep, FIGURE_COLUMNS);
+        // (slot, point, energy, bound) as handed on
+        let mut handed: Vec<(usize, usize, f64, f64, String)> = Vec::new();
+        for (i, s) in all.iter().enumerate() {
+            whole.add(i, s);
+            outlines.add(i, s, &mut |v| {
+                assert_eq!(s.levels[v.level].energy, v.energy);
+                handed.push((v.slot, v.point, v.energy, v.bound, v.track.to_string()));
+            });
+        }
+        assert_eq!(outlines.values_held(), whole.values_held());
+        let records = whole.finish();
+        let got = outlines.finish();
+        assert_eq!(got.len(), records.len());
+        let d = Decimation::new(&xs, FIGURE_COLUMNS);
+        assert!(d.is_exact());
+        for (k, (o, r)) in got.iter().zip(&records).enumerate() {
+            let from = TrackOutline::from_record(r, o.slot, &xs, reference, &d);
+            assert_eq!((&o.track, &o.label, o.n), (&r.track, &r.label, r.n));
+            assert_eq!(o.at_reference, from.at_reference, "track {k}");
+            assert_eq!(o.range, from.range);
+            assert_eq!(o.values, from.values);
+            assert_eq!(o.line.len(), pts.len());
+            // NaN marks a point without a value: compare the bits
+            let bits = |l: &[(f64, f64)]| -> Vec<(u64, u64)> {
+                l.iter().map(|p| (p.0.to_bits(), p.1.to_bits())).collect()
+            };
+            assert_eq!(bits(&o.line), bits(&from.line));
+            assert!(o.colours.is_some());
+            // the values handed on for this slot are the record's, in point order
+            let mine: Vec<(usize, f64, f64)> = handed
+                .iter()
+                .filter(|h| h.0 == o.slot)
+                .map(|h| (h.1, h.2, h.3))
+                .collect();
+            let expected: Vec<(usize, f64, f64)> = r
+                .energies
+                .iter()
+                .zip(&r.bounds)
+                .enumerate()
+                .filter_map(|(p, (e, b))| Some((p, (*e)?, (*b)?)))
+                .collect();
+            assert_eq!(mine, expected);
+            assert!(handed
+                .iter()
+                .filter(|h| h.0 == o.slot)
+                .all(|h| h.4 == r.track));
+        }
+    }
+}
+
+#[test]
+fn a_long_sweep_holds_thinned_lines_that_keep_every_extreme() {
+    // 5000 points, about five per column of the figure: every line holds at most 3 values
+    // per column (more than half of the values dropped), yet each track's lowest and highest
+    // value are on its line
+    use ladderfan::plot::decimate::{Decimation, FIGURE_COLUMNS};
+    use ladderfan::records::OutlineCollector;
+    let m = cone();
+    let pts: Vec<FieldPoint> = (1..=5000)
+        .map(|i| FieldPoint::field(0.002 * i as f64))
+        .collect();
+    let xs: Vec<f64> = pts.iter().map(|p| p.field).collect();
+    let settings = Settings::with_cutoff(30);
+    let last = Spectrum::compute(&m, pts[4999], &settings).unwrap_or_else(|e| panic!("{e}"));
+    let win = window_of(&last);
+    let mut c = OutlineCollector::new(
+        &m,
+        &xs,
+        Some(4999),
+        win,
+        KeepTracks::EnteringWindow,
+        FIGURE_COLUMNS,
+    );
+    let d = Decimation::new(&xs, FIGURE_COLUMNS);
+    assert!(!d.is_exact());
+    let mut handed = 0usize;
+    sweep::stream(&m, &pts, &settings, 0, None, &|| {}, &mut |i, s| {
+        c.add(i, &s, &mut |_| handed += 1);
+        Ok(())
+    })
+    .unwrap_or_else(|e| panic!("{e}"));
+    let tracks = c.finish();
+    assert!(!tracks.is_empty());
+    let mut thinned = 0;
+    for t in &tracks {
+        assert!(t.line.len() <= d.max_values(), "{}", t.line.len());
+        let (lo, hi) = t.range.unwrap_or_else(|| panic!("no values"));
+        let ys: Vec<f64> = t.line.iter().map(|p| p.1).collect();
+        assert!(ys.contains(&lo) && ys.contains(&hi), "{}", t.label);
+        thinned += t.values - ys.iter().filter(|y| y.is_finite()).count();
+    }
+    let kept: usize = tracks.iter().map(|t| t.values).sum();
+    assert!(kept <= handed);
+    assert!(thinned > kept / 2, "{thinned} of {kept} thinned");
+}
+
+/// Run the binary; its stdout.
+fn ladderfan(args: &[&str]) -> String {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_ladderfan"))
+        .args(args)
+        .output()
+        .unwrap_or_else(|e| panic!("run ladderfan: {e}"));
+    assert!(
+        out.status.success(),
+        "ladderfan {args:?}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+fn scratch(name: &str) -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("ladderfan-stream-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    d
+}
+
+fn files_of(dir: &std::path::Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(dir)
+        .into_iter()
+        .flatten()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
+/// The sidecar without its command line (which differs by the --json flag).
+fn sidecar_without_command(path: &std::path::Path) -> serde_json::Value {
+    let text = std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{e}"));
+    let mut v: serde_json::Value = serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}"));
+    if let Some(o) = v.as_object_mut() {
+        o.remove("command_line");
+    }
+    v
+}
+
+#[test]
+fn the_streamed_files_equal_the_files_of_the_whole_record() {
+    // `--json` keeps the whole record and writes the files from it (the path before
+    // streaming); without it the rows stream through the spill: the CSV is the same byte for
+    // byte, the figure and sidecar too, in lab and in converted units, with the character
+    for (stem, extra) in [
+        ("fan", vec!["--points", "40", "--cutoff", "80"]),
+        (
+            "fan",
+            vec![
+                "--points",
+                "25",
+                "--cutoff",
+                "60",
+                "--character",
+                "--energy-unit",
+                "K",
+            ],
+        ),
+        ("dispersion", vec!["--points", "31", "--cutoff", "60"]),
+    ] {
+        let (a, b) = (scratch(&format!("{stem}-a")), scratch(&format!("{stem}-b")));
+        let model = if stem == "fan" { "dirac2d" } else { "weyl" };
+        let mut args = vec![stem, "--builtin", model];
+        args.extend(&extra);
+        let aa = a.to_string_lossy().into_owned();
+        let bb = b.to_string_lossy().into_owned();
+        let mut with_json = args.clone();
+        with_json.extend(["--json", "--out", &aa]);
+        let mut streamed = args.clone();
+        streamed.extend(["--out", &bb]);
+        ladderfan(&with_json);
+        let text = ladderfan(&streamed);
+        assert!(text.contains("tracked levels in the window"), "{text}");
+        assert_eq!(files_of(&a), files_of(&b), "{stem} {extra:?}");
+        assert!(files_of(&b).iter().all(|n| !n.starts_with('.')));
+        for name in files_of(&a) {
+            let (x, y) = (a.join(&name), b.join(&name));
+            if name.ends_with(".meta.json") {
+                assert_eq!(sidecar_without_command(&x), sidecar_without_command(&y));
+            } else {
+                let (x, y) = (
+                    std::fs::read(x).unwrap_or_default(),
+                    std::fs::read(y).unwrap_or_default(),
+                );
+                assert!(!x.is_empty());
+                assert!(x == y, "{name} differs ({stem} {extra:?})");
+            }
+        }
+        let _ = std::fs::remove_dir_all(&a);
+        let _ = std::fs::remove_dir_all(&b);
+    }
+}

@@ -86,7 +86,8 @@ struct SweepOut {
 
 /// Levels over a sweep of the field (`swept = "field"`, `fixed` = kz) or of kz
 /// (`swept = "kz"`, `fixed` = field), solved in parallel on the library's rayon pool and
-/// tracked by their quantum numbers (`records::track_records`); the reference point (labels,
+/// tracked by their quantum numbers as the points finish (`records::TrackCollector`, equal to
+/// `records::track_records`; at most two batches of spectra held); the reference point (labels,
 /// memory check) is the largest |B| of a field sweep, the smallest |kz| of a kz sweep, as in
 /// `ladderfan fan` / `ladderfan dispersion`.
 #[pyfunction]
@@ -131,40 +132,79 @@ fn sweep_json(
     } else {
         points[0].field
     };
-    // every point's spectrum is kept until the tracks are built: one check for all of them
+    // the spectra stream (two batches in flight) into the tracks, which hold every converged
+    // value of every level: the result itself
+    let in_flight = 2 * ladderfan::sweep::default_batch() as u64;
     let probe = Problem::new(&model.model, points[reference_point], &settings).map_err(py_err)?;
     let bytes = probe.estimate(
-        &Footprint::Sweep {
+        &Footprint::Stream {
             points: points.len() as u64,
+            in_flight,
+            held_points: points.len() as u64,
             extra_per_level: memory::SWEEP_TRACK_BYTES,
+            per_level: 0,
+            buffer_bytes: 0,
         },
         rayon_threads(),
     );
     memory::check(
         &format!(
-            "{} points at cutoff {} ({} levels each, all kept until the end)",
+            "{} points at cutoff {} ({} levels each, {} in flight, every value kept)",
             points.len(),
             settings.cutoff,
-            probe.shape().levels
+            probe.shape().levels,
+            in_flight.min(points.len() as u64)
         ),
         bytes,
         settings.memory_limit_mib,
         memory::FIX_SWEEP,
     )
     .map_err(py_err)?;
-    let spectra = py
-        .detach(|| ladderfan::sweep::run(&model.model, &points, &settings))
-        .map_err(py_err)?
-        .into_iter()
-        .map(finite_spectrum)
-        .collect::<PyResult<Vec<_>>>()?;
+    // every track and every converged value: an unbounded window, every track kept
+    let mut collector = records::TrackCollector::new(
+        &model.model,
+        points.len(),
+        Some(reference_point),
+        (f64::NEG_INFINITY, f64::INFINITY),
+        records::KeepTracks::All,
+    );
+    let mut reference_energy = f64::NAN;
+    let mut failed: Option<PyErr> = None;
+    let result = py.detach(|| {
+        ladderfan::sweep::stream(
+            &model.model,
+            &points,
+            &settings,
+            0,
+            None,
+            &|| {},
+            &mut |i, s| match finite_spectrum(s) {
+                Ok(s) => {
+                    if i == reference_point {
+                        reference_energy = s.reference_energy;
+                    }
+                    collector.add(i, &s);
+                    Ok(())
+                }
+                Err(e) => {
+                    failed = Some(e);
+                    // stops the stream; the Python error above is the one raised
+                    Err(Error::Unsupported("a non-finite level".into()))
+                }
+            },
+        )
+    });
+    if let Some(e) = failed {
+        return Err(e);
+    }
+    result.map_err(py_err)?;
     json(&SweepOut {
         swept: if swept == "field" { "field" } else { "kz" },
         fixed,
         cutoff: settings.cutoff,
         reference_point,
-        reference_energy: spectra[reference_point].reference_energy,
-        tracks: records::track_records(&model.model, &spectra, reference_point),
+        reference_energy,
+        tracks: collector.finish(),
         values,
     })
 }

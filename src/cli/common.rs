@@ -10,11 +10,12 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-pub use super::output::{emit, emit_json, OutputFiles};
+pub use super::output::{emit, emit_json, OutputFiles, SpilledRows};
 pub use super::parse::{field_in, parse_count, parse_int_list};
 pub use super::render::{
-    branch_text, character_text, column_units, csv_file, csv_file_from_iter, csv_meta, fmt_num,
-    inverse_length, landau_branch_text, nearest_levels, table, weight_columns, CsvFile, Shown,
+    branch_text, character_text, column_units, csv_file, csv_file_from_iter, csv_line, csv_meta,
+    fmt_num, inverse_length, landau_branch_text, nearest_levels, table, weight_columns, CsvFile,
+    Shown,
 };
 
 /// Exit code for a run whose verification (closed form, convergence) failed.

@@ -144,7 +144,13 @@ pub fn run(a: &DemoArgs) -> CliResult {
     let rec = super::levels::to_json(&lm, &s, &idx);
     files.add_csv("levels.csv", super::levels::to_csv(&lm, &s, &rec)?)?;
     files.add_csv("fan.csv", sweep::csv(&lm, &o.json)?)?;
-    let fig = sweep::figure(&lm, &o.json, o.closed.as_deref(), None);
+    let fig = sweep::figure(
+        &lm,
+        &o.json,
+        sweep::outlines_of(&o.json),
+        o.closed.as_deref(),
+        false,
+    );
     let formats = ladderfan::plot::Format::parse_list(&a.format)
         .map_err(|e| common::bad_flag("--format", e.to_string()))?;
     super::plot::add_figure(&mut files, "fan", &fig, &formats)?;

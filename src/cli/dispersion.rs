@@ -76,6 +76,5 @@ pub fn run(a: &DispersionArgs) -> CliResult {
     let mut lm = load_model(&a.model)?;
     lm.show_in(&a.output)?;
     let p = plan(&lm, a)?;
-    let o = sweep::execute(&lm, &p, &a.sweep)?;
-    sweep::finish(&lm, o, &a.output, "dispersion")
+    sweep::run(&lm, &p, &a.sweep, &a.output, "dispersion")
 }

@@ -87,6 +87,5 @@ pub fn run(a: &FanArgs) -> CliResult {
     let mut lm = load_model(&a.model)?;
     lm.show_in(&a.output)?;
     let p = plan(&lm, a)?;
-    let o = sweep::execute(&lm, &p, &a.sweep)?;
-    sweep::finish(&lm, o, &a.output, "fan")
+    sweep::run(&lm, &p, &a.sweep, &a.output, "fan")
 }

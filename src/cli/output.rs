@@ -46,7 +46,230 @@ pub fn emit_json<T: Serialize>(value: &T) -> CliResult {
 /// succeeded, each through a temporary name and a rename.
 #[derive(Debug, Default)]
 pub struct OutputFiles {
-    files: Vec<(String, Vec<u8>)>,
+    files: Vec<(String, Content)>,
+}
+
+/// What a queued file holds: its bytes, or a temporary already written in full
+/// ([`SpilledRows::finish`]).
+#[derive(Debug)]
+enum Content {
+    Bytes(Vec<u8>),
+    Staged(StagedFile),
+}
+
+/// A file written in full under its temporary name (`.NAME.tmp-PID` in the output
+/// directory), waiting for [`OutputFiles::write_all`] to rename it into place. Dropped
+/// without that (an error on the way), it removes the temporary, and the output directory
+/// if this run created it and it is empty: a failed run leaves nothing behind.
+#[derive(Debug)]
+pub struct StagedFile {
+    tmp: Option<PathBuf>,
+    created_dir: Option<PathBuf>,
+}
+
+impl StagedFile {
+    /// The temporary's path, now owned by the caller (no longer removed on drop).
+    fn take(&mut self) -> Option<PathBuf> {
+        self.created_dir = None;
+        self.tmp.take()
+    }
+}
+
+impl Drop for StagedFile {
+    fn drop(&mut self) {
+        if let Some(t) = self.tmp.take() {
+            let _ = std::fs::remove_file(t);
+        }
+        if let Some(d) = self.created_dir.take() {
+            let _ = std::fs::remove_dir(d);
+        }
+    }
+}
+
+/// Bytes of the spill read back in one pass when [`SpilledRows::finish`] groups the rows by
+/// track ([`ladderfan::memory::SWEEP_REGROUP_BYTES`]).
+const REGROUP_BYTES: u64 = ladderfan::memory::SWEEP_REGROUP_BYTES;
+
+/// The rows of a CSV table written while a sweep runs: each row goes, as soon as its point is
+/// done (in point order), to a spill file in the output directory (`.NAME.spill-PID`), tagged
+/// with its group (a track's slot); [`SpilledRows::finish`] then writes the table, its rows
+/// grouped in a given order of the groups and in point order within each, to the table's
+/// temporary, ready for the atomic rename of [`OutputFiles::write_all`]. Memory: one buffered
+/// row at a time while writing, at most [`REGROUP_BYTES`] of rows while grouping (the spill
+/// is read once per that many bytes), whatever the number of points.
+#[derive(Debug)]
+pub struct SpilledRows {
+    dir: PathBuf,
+    name: String,
+    spill: PathBuf,
+    out: Option<std::io::BufWriter<std::fs::File>>,
+    /// Bytes of rows per group.
+    bytes: Vec<u64>,
+    created_dir: bool,
+}
+
+impl SpilledRows {
+    /// Create the output directory `dir` if missing and the spill of the table `name` in it.
+    pub fn create(dir: &Path, name: &str) -> CliResult<Self> {
+        let existed = dir.exists();
+        std::fs::create_dir_all(dir).map_err(|e| out_error(dir, "create the directory", &e))?;
+        remove_stale_temporaries(dir);
+        let target = dir.join(name);
+        if target.is_dir() {
+            if !existed {
+                let _ = std::fs::remove_dir(dir);
+            }
+            return Err(is_a_directory(&target));
+        }
+        let spill = sibling(&target, "spill");
+        let file = std::fs::File::create(&spill).map_err(|e| {
+            if !existed {
+                let _ = std::fs::remove_dir(dir);
+            }
+            out_error(&target, "write", &e)
+        })?;
+        Ok(SpilledRows {
+            dir: dir.to_path_buf(),
+            name: name.to_string(),
+            spill,
+            out: Some(std::io::BufWriter::new(file)),
+            bytes: Vec::new(),
+            created_dir: !existed,
+        })
+    }
+
+    /// Append the row `text` (one line, with its newline) of group `group`.
+    pub fn push(&mut self, group: usize, text: &str) -> CliResult {
+        if self.bytes.len() <= group {
+            self.bytes.resize(group + 1, 0);
+        }
+        self.bytes[group] += text.len() as u64;
+        let (g, n) = (group as u64, text.len() as u64);
+        let target = self.dir.join(&self.name);
+        let Some(out) = self.out.as_mut() else {
+            return Ok(());
+        };
+        out.write_all(&g.to_le_bytes())
+            .and_then(|_| out.write_all(&n.to_le_bytes()))
+            .and_then(|_| out.write_all(text.as_bytes()))
+            .map_err(|e| out_error(&target, "write", &e))
+    }
+
+    /// Write the table, `header` (with its newline) then the rows of the groups `order`
+    /// (other groups dropped), each group's rows in the order they were pushed, to the
+    /// table's temporary; the spill is removed.
+    pub fn finish(self, header: &str, order: &[usize]) -> CliResult<StagedFile> {
+        self.finish_in_passes(header, order, REGROUP_BYTES)
+    }
+
+    /// [`SpilledRows::finish`], reading at most `budget` bytes of rows per pass (one group
+    /// larger than that is read alone).
+    fn finish_in_passes(
+        mut self,
+        header: &str,
+        order: &[usize],
+        budget: u64,
+    ) -> CliResult<StagedFile> {
+        let target = self.dir.join(&self.name);
+        let err = |e: std::io::Error| out_error(&target, "write", &e);
+        if let Some(out) = self.out.take() {
+            out.into_inner().map_err(|e| err(e.into_error()))?;
+        }
+        let tmp = sibling(&target, "tmp");
+        let staged = StagedFile {
+            tmp: Some(tmp.clone()),
+            created_dir: self.created_dir.then(|| self.dir.clone()),
+        };
+        self.created_dir = false;
+        let file = std::fs::File::create(&tmp).map_err(err)?;
+        let mut w = std::io::BufWriter::new(file);
+        w.write_all(header.as_bytes()).map_err(err)?;
+        let size = |g: usize| self.bytes.get(g).copied().unwrap_or(0);
+        // place of each group in the current chunk (u32::MAX: not in it)
+        let mut place = vec![u32::MAX; self.bytes.len()];
+        let mut start = 0;
+        while start < order.len() {
+            let mut end = start;
+            let mut chunk = 0;
+            while end < order.len() && (end == start || chunk + size(order[end]) <= budget) {
+                chunk += size(order[end]);
+                end += 1;
+            }
+            if chunk > 0 {
+                let mut buffers: Vec<Vec<u8>> = order[start..end]
+                    .iter()
+                    .map(|&g| Vec::with_capacity(size(g) as usize))
+                    .collect();
+                for (k, &g) in order[start..end].iter().enumerate() {
+                    if let Some(p) = place.get_mut(g) {
+                        *p = k as u32;
+                    }
+                }
+                self.read_spill(&place, &mut buffers).map_err(err)?;
+                for b in &buffers {
+                    w.write_all(b).map_err(err)?;
+                }
+                for &g in &order[start..end] {
+                    if let Some(p) = place.get_mut(g) {
+                        *p = u32::MAX;
+                    }
+                }
+            }
+            start = end;
+        }
+        let file = w.into_inner().map_err(|e| err(e.into_error()))?;
+        file.sync_all().map_err(err)?;
+        Ok(staged)
+    }
+
+    /// One pass over the spill: each row of a group with a place goes to its buffer.
+    fn read_spill(&self, place: &[u32], buffers: &mut [Vec<u8>]) -> std::io::Result<()> {
+        use std::io::{BufRead, Read};
+        let mut r = std::io::BufReader::with_capacity(1 << 16, std::fs::File::open(&self.spill)?);
+        let mut head = [0u8; 16];
+        loop {
+            if r.fill_buf()?.is_empty() {
+                return Ok(());
+            }
+            r.read_exact(&mut head)?;
+            let mut g = [0u8; 8];
+            let mut n = [0u8; 8];
+            g.copy_from_slice(&head[..8]);
+            n.copy_from_slice(&head[8..]);
+            let (g, n) = (u64::from_le_bytes(g) as usize, u64::from_le_bytes(n));
+            match place.get(g).copied().filter(|&p| p != u32::MAX) {
+                Some(p) => {
+                    let b = &mut buffers[p as usize];
+                    let at = b.len();
+                    b.resize(at + n as usize, 0);
+                    r.read_exact(&mut b[at..])?;
+                }
+                None => r.seek_relative(n as i64)?,
+            }
+        }
+    }
+}
+
+impl Drop for SpilledRows {
+    fn drop(&mut self) {
+        self.out = None;
+        let _ = std::fs::remove_file(&self.spill);
+        if self.created_dir {
+            let _ = std::fs::remove_dir(&self.dir);
+        }
+    }
+}
+
+/// The error for an output file whose place is taken by a directory.
+fn is_a_directory(path: &Path) -> CliError {
+    bad_flag(
+        "--out",
+        format!(
+            "{} is a directory, where this command writes a file; remove or rename \
+             it, or choose another --out; no file was changed",
+            path.display()
+        ),
+    )
 }
 
 /// A `--out` problem with its remedy, located at the flag.
@@ -68,8 +291,8 @@ fn process_alive(pid: u32) -> bool {
     !proc_dir.is_dir() || proc_dir.join(pid.to_string()).exists()
 }
 
-/// Remove the temporaries (`.NAME.tmp-PID`) and backups (`.NAME.bak-PID`) that a killed run
-/// left in `dir`: those whose process no longer runs.
+/// Remove the temporaries (`.NAME.tmp-PID`), backups (`.NAME.bak-PID`) and row spills
+/// (`.NAME.spill-PID`) that a killed run left in `dir`: those whose process no longer runs.
 pub fn remove_stale_temporaries(dir: &Path) {
     let Ok(entries) = std::fs::read_dir(dir) else {
         return;
@@ -79,7 +302,7 @@ pub fn remove_stale_temporaries(dir: &Path) {
         if !name.starts_with('.') {
             continue;
         }
-        let pid = [".tmp-", ".bak-"].iter().find_map(|tag| {
+        let pid = [".tmp-", ".bak-", ".spill-"].iter().find_map(|tag| {
             name.rsplit_once(tag)
                 .and_then(|(_, p)| p.parse::<u32>().ok())
         });
@@ -94,7 +317,23 @@ pub fn remove_stale_temporaries(dir: &Path) {
 impl OutputFiles {
     /// Queue a file.
     pub fn add(&mut self, name: &str, content: impl Into<Vec<u8>>) {
-        self.files.push((name.to_string(), content.into()));
+        self.files
+            .push((name.to_string(), Content::Bytes(content.into())));
+    }
+
+    /// Queue a CSV file `NAME.csv` already written in full to its temporary
+    /// ([`SpilledRows::finish`]) and its metadata sidecar: both are renamed into place, or
+    /// neither.
+    pub fn add_staged_csv(
+        &mut self,
+        name: &str,
+        file: StagedFile,
+        meta: &ladderfan::records::meta::CsvMeta,
+    ) -> CliResult {
+        let json = meta.to_json()?;
+        self.files.push((name.to_string(), Content::Staged(file)));
+        self.add(&ladderfan::records::meta::sidecar_name(name), json);
+        Ok(())
     }
 
     /// Queue a CSV file `NAME.csv` and its metadata sidecar `NAME.meta.json`
@@ -113,8 +352,18 @@ impl OutputFiles {
     /// exists is first linked to a backup (`.NAME.bak-PID`), so that when a later rename fails
     /// every earlier file is put back as it was: a failed run changes no file. Temporaries and
     /// backups of a run that was killed are removed by the next run writing into `dir`.
-    pub fn write_all(self, dir: &Path) -> CliResult<Vec<PathBuf>> {
-        let existed = dir.exists();
+    pub fn write_all(mut self, dir: &Path) -> CliResult<Vec<PathBuf>> {
+        // a staged file's run created the directory: on failure it goes again
+        let created_for_staged = self.files.iter().any(|(_, c)| {
+            matches!(
+                c,
+                Content::Staged(StagedFile {
+                    created_dir: Some(_),
+                    ..
+                })
+            )
+        });
+        let existed = dir.exists() && !created_for_staged;
         std::fs::create_dir_all(dir).map_err(|e| out_error(dir, "create the directory", &e))?;
         remove_stale_temporaries(dir);
         let remove_dir = || {
@@ -127,20 +376,19 @@ impl OutputFiles {
             let path = dir.join(name);
             if path.is_dir() {
                 remove_dir();
-                return Err(bad_flag(
-                    "--out",
-                    format!(
-                        "{} is a directory, where this command writes a file; remove or rename \
-                         it, or choose another --out; no file was changed",
-                        path.display()
-                    ),
-                ));
+                return Err(is_a_directory(&path));
             }
         }
         let mut staged: Vec<(PathBuf, PathBuf)> = Vec::new();
-        for (name, content) in &self.files {
-            let path = dir.join(name);
-            match write_temp(&path, content) {
+        for (name, content) in &mut self.files {
+            let path = dir.join(&*name);
+            let written = match content {
+                Content::Bytes(bytes) => write_temp(&path, bytes),
+                Content::Staged(file) => file
+                    .take()
+                    .ok_or_else(|| out_error(&path, "write", &std::io::Error::other("gone"))),
+            };
+            match written {
                 Ok(tmp) => staged.push((tmp, path)),
                 Err(e) => {
                     for (tmp, _) in &staged {
@@ -302,6 +550,72 @@ mod tests {
     }
 
     #[test]
+    fn spilled_rows_come_out_grouped_in_order_over_several_passes() {
+        // rows of three groups pushed interleaved (as points finish); the table lists group
+        // 2, then 0 (group 1 dropped), each in push order, whatever the bytes per pass
+        let d = scratch("spill");
+        for budget in [1, 12, 1 << 20] {
+            let mut rows =
+                SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+            for (g, text) in [
+                (0, "a1\n"),
+                (2, "c1\n"),
+                (1, "b1\n"),
+                (0, "a2\n"),
+                (2, "c2\n"),
+                (0, "a3\n"),
+            ] {
+                rows.push(g, text)
+                    .unwrap_or_else(|e| panic!("{}", e.message()));
+            }
+            let staged = rows
+                .finish_in_passes("h\n", &[2, 0], budget)
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            // only the table's temporary is there, the spill is gone
+            let hidden: Vec<String> = names(&d)
+                .into_iter()
+                .filter(|n| n.starts_with('.'))
+                .collect();
+            assert!(
+                hidden.len() == 1 && hidden[0].contains(".tmp-"),
+                "{hidden:?}"
+            );
+            let mut f = OutputFiles::default();
+            f.files.push(("t.csv".into(), Content::Staged(staged)));
+            f.write_all(&d)
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            assert_eq!(
+                std::fs::read_to_string(d.join("t.csv")).ok().as_deref(),
+                Some("h\nc1\nc2\na1\na2\na3\n"),
+                "budget {budget}"
+            );
+            assert_eq!(names(&d), vec!["t.csv"]);
+        }
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn an_abandoned_spill_leaves_nothing_behind() {
+        // a sweep that fails after its rows began: the spill, a staged table and the
+        // directory this run created are all removed
+        let d = scratch("abandoned");
+        let mut rows =
+            SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+        rows.push(0, "x\n")
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d).len(), 1);
+        drop(rows);
+        assert!(!d.exists(), "{:?}", names(&d));
+        let rows = SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+        let staged = rows
+            .finish("h\n", &[])
+            .unwrap_or_else(|e| panic!("{}", e.message()));
+        assert_eq!(names(&d).len(), 1);
+        drop(staged);
+        assert!(!d.exists(), "{:?}", names(&d));
+    }
+
+    #[test]
     fn a_csv_is_written_with_its_sidecar() {
         let d = scratch("sidecar");
         let mut meta = ladderfan::records::meta::CsvMeta::new("test", vec!["ladderfan".into()]);
@@ -378,6 +692,8 @@ mod tests {
         std::fs::write(d.join(format!(".fan.csv.tmp-{dead}")), "x")
             .unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join(format!(".fan.csv.bak-{dead}")), "x")
+            .unwrap_or_else(|e| panic!("{e}"));
+        std::fs::write(d.join(format!(".fan.csv.spill-{dead}")), "x")
             .unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join(".notes.tmp-abc"), "x").unwrap_or_else(|e| panic!("{e}"));
         std::fs::write(d.join("keep.csv"), "x").unwrap_or_else(|e| panic!("{e}"));

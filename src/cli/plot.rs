@@ -21,8 +21,15 @@ pub fn add_figure(
     formats: &[Format],
 ) -> CliResult {
     let svg = ladderfan::plot::line_plot(plot)?;
-    for &f in formats {
-        files.add(&format!("{stem}.{}", f.extension()), render(&svg, f)?);
+    let mut svg = Some(svg);
+    for (k, &f) in formats.iter().enumerate() {
+        let name = format!("{stem}.{}", f.extension());
+        // the last format, an SVG: the text itself is the file, moved rather than copied (a
+        // long sweep's figure is megabytes)
+        match svg.take_if(|_| f == Format::Svg && k + 1 == formats.len()) {
+            Some(text) => files.add(&name, text),
+            None => files.add(&name, render(svg.as_deref().unwrap_or_default(), f)?),
+        }
     }
     Ok(())
 }

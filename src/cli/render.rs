@@ -62,6 +62,20 @@ pub fn csv_cell(text: &str) -> String {
         .collect()
 }
 
+/// One CSV line: the cells through [`csv_cell`], joined by commas, with its newline (the
+/// lines of [`csv_file_from_iter`], for a table written row by row).
+pub fn csv_line<S: AsRef<str>>(cells: &[S]) -> String {
+    let mut text = String::new();
+    for (k, c) in cells.iter().enumerate() {
+        if k > 0 {
+            text.push(',');
+        }
+        text.push_str(&csv_cell(c.as_ref()));
+    }
+    text.push('\n');
+    text
+}
+
 /// The CSV file of `rows` under `columns` with sidecar `meta` (its columns set to `columns`).
 /// Cells pass through [`csv_cell`]; every row must have one cell per column.
 pub fn csv_file(

@@ -13,6 +13,7 @@
 
 pub mod axis;
 pub mod colour;
+pub mod decimate;
 pub mod geometry;
 mod line;
 pub mod render;

@@ -15,6 +15,8 @@ use std::collections::BTreeMap;
 mod collect;
 mod commands;
 pub use collect::{KeepTracks, TrackCollector};
+mod outline;
+pub use outline::{KeptValue, OutlineCollector, TrackOutline};
 pub mod meta;
 mod observables;
 pub use commands::{

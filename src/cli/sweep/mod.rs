@@ -14,7 +14,9 @@ use ladderfan::verify;
 use ladderfan::{FieldPoint, Settings, Spectrum};
 
 mod render;
-pub use render::{csv, figure, summary};
+use ladderfan::plot::decimate::{DecimatedLine, Decimation, FIGURE_COLUMNS};
+use ladderfan::records::OutlineCollector;
+pub use render::{csv, figure, outlines_of, summary};
 use std::collections::BTreeMap;
 
 /// Flags shared by every sweep.
@@ -80,7 +82,7 @@ pub fn in_flight(threads: Option<usize>, points: usize) -> usize {
 }
 
 /// Solve at every point, in parallel over points, handing each spectrum (checked finite) to
-/// `sink` in point order as soon as it and the points before it are done; at most
+/// `sink` (whose error stops the sweep) in point order as soon as it and the points before it are done; at most
 /// [`in_flight`] spectra are held at once. `reuse` is a spectrum already solved at one of the
 /// points (its index). Each point's spectrum does not depend on the number of threads.
 pub fn stream_points(
@@ -90,7 +92,7 @@ pub fn stream_points(
     what: &str,
     threads: Option<usize>,
     reuse: Option<(usize, Spectrum)>,
-    sink: &mut (dyn FnMut(usize, &Spectrum) + Send),
+    sink: &mut (dyn FnMut(usize, &Spectrum) -> CliResult + Send),
 ) -> CliResult<ladderfan::sweep::StreamStats> {
     let bar = crate::cli::progress::Progress::new(what, points.len(), "points");
     if reuse.is_some() {
@@ -100,16 +102,17 @@ pub fn stream_points(
     let mut levels = 0usize;
     let mut failed: Option<CliError> = None;
     let mut take = |i: usize, s: Spectrum| -> ladderfan::Result<()> {
-        match super::common::finite_spectrum(s) {
-            Ok(s) => {
-                levels += s.levels.len();
-                sink(i, &s);
-                Ok(())
-            }
+        match super::common::finite_spectrum(s).and_then(|s| {
+            levels += s.levels.len();
+            sink(i, &s)
+        }) {
+            Ok(()) => Ok(()),
             Err(e) => {
                 failed = Some(e);
                 // stops the stream; the CLI error above is the one reported
-                Err(ladderfan::Error::Unsupported("a non-finite level".into()))
+                Err(ladderfan::Error::Unsupported(
+                    "a non-finite level or an output error".into(),
+                ))
             }
         }
     };
@@ -164,7 +167,9 @@ pub fn window(a: &SweepArgs, reference: &Spectrum) -> CliResult<(f64, f64)> {
 
 /// Closed-form overlay curves for the swept points, if the model has a closed form
 /// ([`ladderfan::models::expected_levels`]): one curve per closed-form label, values outside the
-/// window (widened by half its width) dropped.
+/// window (widened by half its width) dropped, curves that never enter the window left out.
+/// A sweep longer than the figure's columns (`d`) keeps per curve only its thinned line
+/// ([`DecimatedLine`]), so memory does not grow with the number of points.
 pub fn closed_form_curves(
     lm: &LoadedModel,
     points: &[FieldPoint],
@@ -172,23 +177,45 @@ pub fn closed_form_curves(
     reference_energy: f64,
     cutoff: usize,
     (lo, hi): (f64, f64),
+    d: &Decimation,
 ) -> Option<Vec<Vec<(f64, f64)>>> {
     let margin = 0.5 * (hi - lo);
-    let mut curves: BTreeMap<(i64, i8, String), Vec<(f64, f64)>> = BTreeMap::new();
+    if d.is_exact() {
+        let mut curves: BTreeMap<(i64, i8, String), Vec<(f64, f64)>> = BTreeMap::new();
+        for (i, (p, &x)) in points.iter().zip(xs).enumerate() {
+            let levels = models::expected_levels(&lm.model, *p, reference_energy, cutoff)?;
+            for l in levels {
+                let c = curves
+                    .entry((l.n, l.s, l.label.clone()))
+                    .or_insert_with(|| vec![(f64::NAN, f64::NAN); points.len()]);
+                let keep = l.energy >= lo - margin && l.energy <= hi + margin;
+                c[i] = (x, if keep { l.energy } else { f64::NAN });
+            }
+        }
+        return Some(
+            curves
+                .into_values()
+                .filter(|c| c.iter().any(|&(_, e)| e >= lo && e <= hi))
+                .collect(),
+        );
+    }
+    let mut curves: BTreeMap<(i64, i8, String), (DecimatedLine, bool)> = BTreeMap::new();
     for (i, (p, &x)) in points.iter().zip(xs).enumerate() {
         let levels = models::expected_levels(&lm.model, *p, reference_energy, cutoff)?;
         for l in levels {
-            let c = curves
-                .entry((l.n, l.s, l.label.clone()))
-                .or_insert_with(|| vec![(f64::NAN, f64::NAN); points.len()]);
-            let keep = l.energy >= lo - margin && l.energy <= hi + margin;
-            c[i] = (x, if keep { l.energy } else { f64::NAN });
+            if l.energy < lo - margin || l.energy > hi + margin {
+                continue;
+            }
+            let c = curves.entry((l.n, l.s, l.label.clone())).or_default();
+            c.0.push(d, i, x, l.energy, f64::NAN);
+            c.1 |= l.energy >= lo && l.energy <= hi;
         }
     }
     Some(
         curves
             .into_values()
-            .filter(|c| c.iter().any(|&(_, e)| e >= lo && e <= hi))
+            .filter(|c| c.1)
+            .map(|c| c.0.finish(d).0)
             .collect(),
     )
 }
@@ -258,7 +285,9 @@ fn shard_header(lm: &LoadedModel, s: Shard, total: usize, win: (f64, f64)) -> Sh
     }
 }
 
-/// Solve, track and select.
+/// Solve, track and select, keeping the whole record (every kept value of every track at
+/// every point: the JSON result, `--json`); see [`run_streamed`] for the files and summary
+/// in memory that does not grow with the points.
 pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcome> {
     // flag problems first: a bad window must not cost a sweep
     check_window_flags(a)?;
@@ -287,7 +316,10 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         &ladderfan::memory::Footprint::Stream {
             points: block.len() as u64,
             in_flight: held,
+            held_points: block.len() as u64,
             extra_per_level: ladderfan::memory::SWEEP_STREAM_BYTES,
+            per_level: 0,
+            buffer_bytes: 0,
         },
         a.threads,
     )?;
@@ -319,6 +351,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
             if tally.as_mut().and_then(|t| t.add(s)).is_none() {
                 tally = None;
             }
+            Ok(())
         },
     )?;
     let reference = &reference;
@@ -331,6 +364,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         reference.reference_energy,
         plan.cutoff,
         win,
+        &Decimation::new(&plan.values, FIGURE_COLUMNS),
     );
     let check = tally.map(verify::ClosedFormTally::finish);
     let json = sweep_json(lm, plan, a, reference, win, check, tracks);
@@ -449,32 +483,232 @@ pub fn finish(lm: &LoadedModel, o: Outcome, output: &common::OutputArgs, stem: &
         let mut files = common::OutputFiles::default();
         files.add_csv(&format!("{stem}.csv"), csv(lm, &o.json)?)?;
         // with --character the figure is coloured by the weight of the first component
-        let weights = first_weights(&o.json);
-        let name = format!(
-            "weight of component {}",
-            lm.model
-                .component_names()
-                .first()
-                .map_or("0", String::as_str)
-        );
-        let colours = weights.as_ref().map(|values| render::PointColours {
-            name: &name,
-            values,
-        });
-        let fig = figure(lm, &o.json, o.closed.as_deref(), colours);
+        let fig = figure(lm, &o.json, outlines_of(&o.json), o.closed.as_deref(), true);
         super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
         written = files.write_all(dir)?;
     }
     if output.json {
         common::emit_json(&o.json)?;
     } else {
-        let mut text = summary(lm, &o.json);
+        let mut text = summary(lm, &o.json, &outlines_of(&o.json));
         for p in written {
             text.push_str(&format!("wrote {}\n", p.display()));
         }
         common::emit(&text)?;
     }
     verdict(o.json.closed_form.as_ref())
+}
+
+/// Run a sweep and write its result (files of `--out`, text or JSON on stdout): with
+/// `--json` the whole record is built ([`execute`], [`finish`]); otherwise the sweep streams
+/// ([`run_streamed`]).
+pub fn run(
+    lm: &LoadedModel,
+    plan: &Plan,
+    a: &SweepArgs,
+    output: &common::OutputArgs,
+    stem: &str,
+) -> CliResult {
+    if output.json {
+        let o = execute(lm, plan, a)?;
+        finish(lm, o, output, stem)
+    } else {
+        run_streamed(lm, plan, a, output, stem)
+    }
+}
+
+/// Solve, track, select and write in memory that does not grow with the number of points:
+/// each point's CSV rows are written as the point is handed on (in point order) to a spill in
+/// the output directory ([`common::SpilledRows`]), which becomes the table (rows grouped by
+/// track, as [`csv`] writes them) under its temporary name when the sweep is done and is
+/// renamed into place with the other files only when everything succeeded; the figure and the
+/// summary come from the tracks' outlines ([`OutlineCollector`]: lines thinned to
+/// [`FIGURE_COLUMNS`] columns). The files and text equal those of [`execute`] and [`finish`]:
+/// the CSV byte for byte, the figure too for a sweep of at most [`FIGURE_COLUMNS`] points.
+pub fn run_streamed(
+    lm: &LoadedModel,
+    plan: &Plan,
+    a: &SweepArgs,
+    output: &common::OutputArgs,
+    stem: &str,
+) -> CliResult {
+    check_window_flags(a)?;
+    let mut settings = Settings::with_cutoff(plan.cutoff);
+    settings.memory_limit_mib = plan.memory_limit_mib;
+    if a.character {
+        settings.character = ladderfan::Character::Compute;
+    }
+    let shard = parse_shard(a)?;
+    if shard.is_some() && output.out.is_none() {
+        return Err(bad_flag(
+            "--shard",
+            "a shard run writes its CSV for `ladderfan merge`: give --out DIR",
+        ));
+    }
+    let total = plan.points.len();
+    let block = match shard {
+        Some(s) => s.range(total)?,
+        None => 0..total,
+    };
+    let decimation = Decimation::new(&plan.values, FIGURE_COLUMNS);
+    common::check_memory(
+        lm,
+        plan.command,
+        "--points",
+        plan.points[plan.reference_point],
+        plan.cutoff,
+        plan.memory_limit_mib,
+        &ladderfan::memory::Footprint::Stream {
+            points: block.len() as u64,
+            in_flight: in_flight(a.threads, block.len()) as u64,
+            held_points: decimation.max_values() as u64,
+            extra_per_level: ladderfan::memory::SWEEP_OUTLINE_BYTES,
+            per_level: ladderfan::memory::SWEEP_TRACK_ENTRY_BYTES,
+            buffer_bytes: if output.out.is_some() {
+                ladderfan::memory::SWEEP_REGROUP_BYTES
+            } else {
+                0
+            },
+        },
+        a.threads,
+    )?;
+    let csv_name = format!("{stem}.csv");
+    // the rows go to the output directory as the points finish
+    let mut spill = match &output.out {
+        Some(dir) => Some(common::SpilledRows::create(dir, &csv_name)?),
+        None => None,
+    };
+    let reference = with_threads(a.threads, || {
+        Spectrum::compute(&lm.model, plan.points[plan.reference_point], &settings)
+    })??;
+    let reference = common::finite_spectrum(reference)?;
+    let win = window(a, &reference)?;
+    let keep = match shard {
+        Some(_) => records::KeepTracks::All,
+        None => records::KeepTracks::EnteringWindow,
+    };
+    let mut collector = OutlineCollector::new(
+        &lm.model,
+        &plan.values,
+        Some(plan.reference_point),
+        win,
+        keep,
+        FIGURE_COLUMNS,
+    );
+    let mut tally = Some(verify::ClosedFormTally::new(&lm.model, win));
+    let reuse = block
+        .contains(&plan.reference_point)
+        .then(|| (plan.reference_point - block.start, reference.clone()));
+    let (energy_factor, x_factor) = output_factors(lm, plan.swept);
+    let dim = lm.model.dim();
+    stream_points(
+        lm,
+        &plan.points[block.clone()],
+        &settings,
+        plan.command,
+        a.threads,
+        reuse,
+        &mut |i, s| {
+            let point = block.start + i;
+            let x = plan.values[point] * x_factor;
+            let mut failed: Option<CliError> = None;
+            collector.add(point, s, &mut |v| {
+                let Some(spill) = spill.as_mut().filter(|_| failed.is_none()) else {
+                    return;
+                };
+                let mut cells = render::row_cells(
+                    x,
+                    v.track,
+                    v.label,
+                    v.n,
+                    v.branch,
+                    v.energy * energy_factor,
+                    v.bound * energy_factor,
+                );
+                if a.character {
+                    cells.extend(render::weight_cells(
+                        s.mean_n.is_some().then(|| s.weights_of(v.level)),
+                        s.mean_n_of(v.level),
+                        dim,
+                    ));
+                }
+                if let Err(e) = spill.push(v.slot, &common::csv_line(&cells)) {
+                    failed = Some(e);
+                }
+            });
+            if tally.as_mut().and_then(|t| t.add(s)).is_none() {
+                tally = None;
+            }
+            failed.map_or(Ok(()), Err)
+        },
+    )?;
+    if a.character && !collector.has_character() {
+        return Err(CliError::Input(ladderfan::Error::Unsupported(
+            "internal: a point of the sweep has no level character; please report".into(),
+        )));
+    }
+    let mut tracks = collector.finish();
+    for t in &mut tracks {
+        t.scale(x_factor, energy_factor);
+    }
+    let closed = closed_form_curves(
+        lm,
+        &plan.points,
+        &plan.values,
+        reference.reference_energy,
+        plan.cutoff,
+        win,
+        &decimation,
+    );
+    let check = tally.map(verify::ClosedFormTally::finish);
+    let o = in_output_units(
+        lm,
+        Outcome {
+            json: sweep_json(lm, plan, a, &reference, win, check, Vec::new()),
+            closed,
+            shard: shard.map(|s| shard_header(lm, s, total, win)),
+        },
+    );
+    // the summary first: the figure takes the tracks' lines
+    let mut text = match &o.shard {
+        Some(h) => format!("{}\n", h.line()),
+        None => summary(lm, &o.json, &tracks),
+    };
+    if let (Some(dir), Some(spill)) = (&output.out, spill) {
+        let character = a.character && !tracks.is_empty();
+        let (mut meta, columns) = render::csv_parts(lm, &o.json, character);
+        let names: Vec<&str> = columns.iter().map(|c| c.name.as_str()).collect();
+        let header = common::csv_line(&names);
+        meta.columns = columns;
+        meta.shard = o.shard.clone();
+        let order: Vec<usize> = tracks.iter().map(|t| t.slot).collect();
+        let table = spill.finish(&header, &order)?;
+        let mut files = common::OutputFiles::default();
+        files.add_staged_csv(&csv_name, table, &meta)?;
+        if o.shard.is_none() {
+            let fig = figure(lm, &o.json, tracks, o.closed.as_deref(), true);
+            super::plot::add_figure(&mut files, stem, &fig, &super::plot::formats(output)?)?;
+        }
+        for p in files.write_all(dir)? {
+            text.push_str(&format!("wrote {}\n", p.display()));
+        }
+    }
+    common::emit(&text)?;
+    if o.shard.is_some() {
+        return Ok(());
+    }
+    verdict(o.json.closed_form.as_ref())
+}
+
+/// The factors from the model's units to the output units `lm.shown` of a sweep's energies
+/// and of its swept values (the field of a fan; kz is not converted).
+fn output_factors(lm: &LoadedModel, swept: Swept) -> (f64, f64) {
+    let u = lm.shown;
+    let x = match swept {
+        Swept::Field => u.field_factor(),
+        Swept::Kz => 1.0,
+    };
+    (u.energy_factor(), x)
 }
 
 /// Exit status of a closed-form comparison: a disagreement is a failed verification; levels
@@ -487,30 +721,6 @@ pub fn verdict(c: Option<&verify::ClosedFormCheck>) -> CliResult {
         ))),
         _ => Ok(()),
     }
-}
-
-/// Per track and swept point, the weight of the model's first component (NaN where the track
-/// has no value there), when the sweep computed the level character; `None` otherwise.
-fn first_weights(j: &SweepJson) -> Option<Vec<Vec<f64>>> {
-    if !j.tracks.iter().any(|t| t.weights.is_some()) {
-        return None;
-    }
-    Some(
-        j.tracks
-            .iter()
-            .map(|t| {
-                (0..j.values.len())
-                    .map(|i| {
-                        t.weights
-                            .as_ref()
-                            .and_then(|w| w.get(i).cloned().flatten())
-                            .and_then(|w| w.first().copied())
-                            .unwrap_or(f64::NAN)
-                    })
-                    .collect()
-            })
-            .collect(),
-    )
 }
 
 #[cfg(test)]

@@ -1,6 +1,9 @@
 //! The views of a sweep: the CSV file, the SVG fan (or dispersion) plot and the text summary.
 
 use super::*;
+use ladderfan::plot::decimate::{Decimation, FIGURE_COLUMNS};
+use ladderfan::records::meta::CsvMeta;
+use ladderfan::records::TrackOutline;
 
 /// The columns of a sweep's CSV (`fan.csv`, `dispersion.csv`), in order.
 pub fn sweep_columns(lm: &LoadedModel, swept: Swept) -> Vec<Column> {
@@ -44,9 +47,9 @@ pub fn sweep_columns(lm: &LoadedModel, swept: Swept) -> Vec<Column> {
     ]
 }
 
-/// The CSV of a sweep (long format: one row per point and track); grid, window and
-/// conventions go to its sidecar.
-pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
+/// The sidecar and columns of a sweep's CSV (its notes from the record `j`; its tracks are
+/// not read), with the `weight_<component>` and `mean_n` columns when `character`.
+pub fn csv_parts(lm: &LoadedModel, j: &SweepJson, character: bool) -> (CsvMeta, Vec<Column>) {
     let u = lm.model.units();
     let (xname, xunit) = match j.swept {
         Swept::Field => ("field", j.units.field.clone()),
@@ -85,7 +88,6 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
             ),
         ],
     );
-    let character = j.tracks.iter().any(|t| t.weights.is_some());
     let mut columns = sweep_columns(lm, j.swept);
     if character {
         columns.extend(common::weight_columns(&lm.model));
@@ -95,20 +97,21 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
             "mean orbital index <n> = sum_n n |psi_n|^2 of the state",
         ));
     }
+    (meta, columns)
+}
+
+/// The CSV of a sweep (long format: one row per point and track, grouped by track in the
+/// order of the record, points in order within a track); grid, window and conventions go to
+/// its sidecar. A streamed sweep writes the same bytes row by row ([`row`], [`super::run_streamed`]).
+pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
+    let character = j.tracks.iter().any(|t| t.weights.is_some());
+    let (meta, columns) = csv_parts(lm, j, character);
     // rows made as the text is written: a long sweep never holds all its cells
     let dim = lm.model.dim();
     let rows = j.tracks.iter().flat_map(|t| {
-        j.values.iter().enumerate().filter_map(move |(i, x)| {
+        j.values.iter().enumerate().filter_map(move |(i, &x)| {
             let (en, b) = (t.energies[i]?, t.bounds[i]?);
-            let mut row = vec![
-                format!("{x:e}"),
-                t.track.clone(),
-                t.label.clone(),
-                t.n.map(|n| n.to_string()).unwrap_or_default(),
-                common::landau_branch_text(t.branch),
-                format!("{en:e}"),
-                format!("{b:e}"),
-            ];
+            let mut row = row_cells(x, &t.track, &t.label, t.n, t.branch, en, b);
             if character {
                 row.extend(character_cells(t, i, dim));
             }
@@ -118,69 +121,105 @@ pub fn csv(lm: &LoadedModel, j: &SweepJson) -> CliResult<CsvFile> {
     common::csv_file_from_iter(meta, columns, rows)
 }
 
-/// The weight cells (`dim` of them) and the <n> cell of track `t` at point `i` (empty where
-/// the track carries no character there).
-fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
-    let mut cells = match t.weights.as_ref().and_then(|w| w[i].as_ref()) {
+/// The cells of one row of a sweep's CSV before the character cells: swept value, track,
+/// label, Landau index, branch, energy and bound (in the output units).
+pub fn row_cells(
+    x: f64,
+    track: &str,
+    label: &str,
+    n: Option<i64>,
+    branch: ladderfan::levels::Branch,
+    energy: f64,
+    bound: f64,
+) -> Vec<String> {
+    vec![
+        format!("{x:e}"),
+        track.to_string(),
+        label.to_string(),
+        n.map(|n| n.to_string()).unwrap_or_default(),
+        common::landau_branch_text(branch),
+        format!("{energy:e}"),
+        format!("{bound:e}"),
+    ]
+}
+
+/// The character cells of one row: the `weights` of the level (empty cells when `None`,
+/// `dim` of them) and its <n> (empty when `None` or NaN).
+pub fn weight_cells(weights: Option<&[f64]>, mean_n: Option<f64>, dim: usize) -> Vec<String> {
+    let mut cells = match weights {
         Some(w) => w.iter().map(|x| format!("{x:e}")).collect(),
         None => vec![String::new(); dim],
     };
     cells.push(
-        t.mean_n
-            .as_ref()
-            .and_then(|m| m[i])
+        mean_n
+            .filter(|m| !m.is_nan())
             .map_or_else(String::new, |m| format!("{m:e}")),
     );
     cells
 }
 
-/// A per-point quantity that colours the lines of a sweep figure on a continuous scale with a
-/// colour bar: its name (with unit) and, per track, one value per swept point (NaN: none).
-/// `fan`/`dispersion --character` pass the weight of the model's first component.
-pub struct PointColours<'a> {
-    /// The quantity, e.g. `weight of component 1`.
-    pub name: &'a str,
-    /// `values[track][point]`, in the order of `SweepJson::tracks` and `SweepJson::values`.
-    pub values: &'a [Vec<f64>],
+/// The weight cells (`dim` of them) and the <n> cell of track `t` at point `i` (empty where
+/// the track carries no character there).
+fn character_cells(t: &TrackRecord, i: usize, dim: usize) -> Vec<String> {
+    weight_cells(
+        t.weights.as_ref().and_then(|w| w[i].as_deref()),
+        t.mean_n.as_ref().and_then(|m| m[i]),
+        dim,
+    )
 }
 
-/// The figure of the tracks: lines labelled by their Landau labels at the right edge,
-/// coloured by |n| (or by `colours`), the closed form dashed when given, lines thinned where
-/// they crowd closer than 2 px (the low-field corner of a fan).
+/// The outlines of the tracks of a whole sweep record (figure and summary of a sweep whose
+/// record is kept, as for JSON), lines thinned as a streamed sweep thins them.
+pub fn outlines_of(j: &SweepJson) -> Vec<TrackOutline> {
+    let d = Decimation::new(&j.values, FIGURE_COLUMNS);
+    j.tracks
+        .iter()
+        .enumerate()
+        .map(|(k, t)| TrackOutline::from_record(t, k, &j.values, j.reference_point, &d))
+        .collect()
+}
+
+/// The figure of the tracks (`tracks`, in the order of the record; `j` gives the axes,
+/// window and caption): lines labelled by their Landau labels at the right edge, coloured by
+/// |n| or, with `colour_by_weight` and tracks that carry the character, by the weight of the
+/// model's first component on a colour bar; the closed form dashed when given; lines thinned
+/// where they crowd closer than 2 px (the low-field corner of a fan).
 pub fn figure(
     lm: &LoadedModel,
     j: &SweepJson,
+    tracks: Vec<TrackOutline>,
     closed: Option<&[Vec<(f64, f64)>]>,
-    colours: Option<PointColours<'_>>,
+    colour_by_weight: bool,
 ) -> LinePlot {
     let u = lm.model.units();
     let x_label = match j.swept {
         Swept::Field => format!("B [{}]", j.units.field),
         Swept::Kz => format!("kz [{}]", common::inverse_length(u)),
     };
-    let mut order: Vec<usize> = (0..j.tracks.len()).collect();
-    order.sort_by_key(|&i| {
-        (
-            j.tracks[i].n.map(|n| n.unsigned_abs()).unwrap_or(u64::MAX),
-            i,
+    let colour_name = (colour_by_weight && tracks.iter().any(|t| t.colours.is_some())).then(|| {
+        format!(
+            "weight of component {}",
+            lm.model
+                .component_names()
+                .first()
+                .map_or("0", String::as_str)
         )
     });
+    let mut order: Vec<usize> = (0..tracks.len()).collect();
+    order.sort_by_key(|&i| (tracks[i].n.map(|n| n.unsigned_abs()).unwrap_or(u64::MAX), i));
+    // the lines move into the curves: a long sweep's figure holds them once
+    let mut tracks: Vec<Option<TrackOutline>> = tracks.into_iter().map(Some).collect();
     let mut curves: Vec<Curve> = order
         .iter()
-        .map(|&i| {
-            let t = &j.tracks[i];
-            Curve {
-                label: Some(t.label.clone()),
+        .filter_map(|&i| {
+            let t = tracks[i].take()?;
+            Some(Curve {
+                label: Some(t.label),
                 color_key: t.n.map(|n| n.unsigned_abs() as usize).unwrap_or(0),
-                points: j
-                    .values
-                    .iter()
-                    .zip(&t.energies)
-                    .map(|(&x, e)| (x, e.unwrap_or(f64::NAN)))
-                    .collect(),
-                values: colours.as_ref().and_then(|c| c.values.get(i).cloned()),
+                points: t.line,
+                values: colour_name.as_ref().and(t.colours),
                 ..Curve::default()
-            }
+            })
         })
         .collect();
     let notes = vec![format!(
@@ -193,14 +232,14 @@ pub fn figure(
     keys.sort_unstable();
     keys.dedup();
     let mut legend: Vec<LegendEntry> = Vec::new();
-    let colouring = match &colours {
+    let colouring = match &colour_name {
         Some(c) => {
             legend.push(LegendEntry::solid(
                 "level (colour: scale)",
                 Rgb(120, 120, 120),
             ));
             Colouring::Values {
-                name: c.name.to_string(),
+                name: c.clone(),
                 range: None,
             }
         }
@@ -262,7 +301,6 @@ pub fn figure(
     }
 }
 
-/// Human-readable summary: the tracks at the reference point.
 /// The closed-form lines of the summary: the comparison's verdict and its note, or that none
 /// is known.
 fn closed_form_lines(j: &SweepJson, unit: &str) -> String {
@@ -298,7 +336,12 @@ const MAX_TRACK_ROWS: usize = 40;
 /// The summary's table (header row first) of the tracks inside the window at the reference
 /// point `x_ref`, in ascending energy there, at most [`MAX_TRACK_ROWS`]; and how many tracks
 /// it lists.
-fn track_rows(j: &SweepJson, unit: &str, x_ref: f64) -> (Vec<Vec<String>>, usize) {
+fn track_rows(
+    j: &SweepJson,
+    tracks: &[TrackOutline],
+    unit: &str,
+    x_ref: f64,
+) -> (Vec<Vec<String>>, usize) {
     let mut rows = vec![vec![
         "level".to_string(),
         "n".into(),
@@ -310,30 +353,23 @@ fn track_rows(j: &SweepJson, unit: &str, x_ref: f64) -> (Vec<Vec<String>>, usize
     ]];
     // the table lists the tracks inside the window at the reference point
     let (lo, hi) = j.window;
-    let mut tracks: Vec<&TrackRecord> = j
-        .tracks
+    let mut tracks: Vec<&TrackOutline> = tracks
         .iter()
-        .filter(|t| t.energies[j.reference_point].is_some_and(|e| e >= lo && e <= hi))
+        .filter(|t| t.at_reference.is_some_and(|e| e >= lo && e <= hi))
         .collect();
     tracks.sort_by(|a, b| {
-        let ea = a.energies[j.reference_point].unwrap_or(f64::INFINITY);
-        let eb = b.energies[j.reference_point].unwrap_or(f64::INFINITY);
+        let ea = a.at_reference.unwrap_or(f64::INFINITY);
+        let eb = b.at_reference.unwrap_or(f64::INFINITY);
         ea.total_cmp(&eb)
     });
     for t in tracks.iter().take(MAX_TRACK_ROWS) {
-        let (lo, hi) = t
-            .energies
-            .iter()
-            .flatten()
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
-                (a.min(e), b.max(e))
-            });
+        let (lo, hi) = t.range.unwrap_or((f64::INFINITY, f64::NEG_INFINITY));
         rows.push(vec![
             t.label.clone(),
             t.n.map(|n| n.to_string()).unwrap_or_else(|| "?".into()),
             common::landau_branch_text(t.branch),
             t.component.clone().unwrap_or_default(),
-            t.energies[j.reference_point]
+            t.at_reference
                 .map(|e| fmt_num(e, 8))
                 .unwrap_or_else(|| "-".into()),
             fmt_num(lo, 8),
@@ -344,7 +380,9 @@ fn track_rows(j: &SweepJson, unit: &str, x_ref: f64) -> (Vec<Vec<String>>, usize
     (rows, listed)
 }
 
-pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
+/// Human-readable summary of the sweep `j` (its header; the tracks are `tracks`): model,
+/// points, symmetry, window, the closed-form verdict and the tracks at the reference point.
+pub fn summary(lm: &LoadedModel, j: &SweepJson, tracks: &[TrackOutline]) -> String {
     let u = lm.model.units();
     let mut s = format!(
         "model: {} ({}), cutoff {}, {} points from {} to {} ({})\n",
@@ -362,17 +400,17 @@ pub fn summary(lm: &LoadedModel, j: &SweepJson) -> String {
     s.push_str(&format!(
         "symmetry: {}\n{} tracked levels in the window [{}, {}] {}\n",
         j.symmetry.description,
-        j.tracks.len(),
+        tracks.len(),
         fmt_num(j.window.0, 6),
         fmt_num(j.window.1, 6),
         j.units.energy
     ));
     s.push_str(&closed_form_lines(j, &j.units.energy));
     let x_ref = j.values[j.reference_point];
-    let (rows, listed) = track_rows(j, &j.units.energy, x_ref);
+    let (rows, listed) = track_rows(j, tracks, &j.units.energy, x_ref);
     s.push('\n');
     s.push_str(&common::table(&rows));
-    let hidden = j.tracks.len() - listed;
+    let hidden = tracks.len() - listed;
     if hidden > 0 {
         s.push_str(&format!(
             "({hidden} more tracks, outside the window at {} or beyond {MAX_TRACK_ROWS} rows: see --json or --out)\n",
