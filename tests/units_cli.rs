@@ -486,20 +486,10 @@ fn orbits_and_verify_convert_energies_and_fields() {
     // energy a thousand times smaller (1 eV = 1000 meV by definition of the prefix), every
     // field divided by B_c (CODATA 2018, above), indices and phases unchanged
     let orbits = |extra: &[&str]| {
-        let mut a = vec![
-            "orbits",
-            "--builtin",
-            "schrodinger",
-            "--set",
-            "mass_ratio=0.1",
-            "--density",
-            "1e12",
-            "--levels",
-            "3",
-            "--json",
-        ];
-        a.extend_from_slice(extra);
-        json(&a)
+        json(&with_flags(
+            &ORBITS_PARABOLIC,
+            &with_flags(&["--levels", "3", "--json"], extra),
+        ))
     };
     let native = orbits(&["--field", "2"]);
     let shown = orbits(&["--field", "2T", "--energy-unit", "eV", "--field-unit", "Bc"]);
@@ -534,19 +524,10 @@ fn orbits_and_verify_convert_energies_and_fields() {
     };
     assert_scaled(&exact(&native), &exact(&shown), 1e-3, 1e-12);
     // the text names the units it prints in
-    let r = run(&[
-        "orbits",
-        "--builtin",
-        "schrodinger",
-        "--set",
-        "mass_ratio=0.1",
-        "--density",
-        "1e12",
-        "--levels",
-        "3",
-        "--energy-unit",
-        "K",
-    ]);
+    let r = run(&with_flags(
+        &ORBITS_PARABOLIC,
+        &["--levels", "3", "--energy-unit", "K"],
+    ));
     assert_eq!(r.code, 0, "{}", r.stderr);
     assert!(r.stdout.contains("units: energy K"), "{}", r.stdout);
 

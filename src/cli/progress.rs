@@ -98,6 +98,8 @@ impl Progress {
                 .is_ok()
         {
             self.bar.set_draw_target(ProgressDrawTarget::stderr());
+            // draw now: the next step may never come (a spinner's work can end first)
+            self.bar.tick();
         }
     }
 

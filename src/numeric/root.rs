@@ -1,6 +1,7 @@
 //! A bracketed root of a real function of one variable: regula falsi with the Illinois
 //! modification, the one root finder behind the semiclassical contours, Onsager levels and fan
-//! crossings (and any other sign change that must stay bracketed).
+//! crossings, and the 3D Fermi level at a temperature (and any other sign change that must stay
+//! bracketed).
 //!
 //! # References
 //! M. Dowell and P. Jarratt, "A modified regula falsi method for computing the root of an
@@ -27,7 +28,7 @@ pub struct Stop {
 /// m = (a f(b) - b f(a)) / (f(b) - f(a)); m replaces the end whose f has the sign of f(m); when
 /// the same end is kept twice in a row its stored f is halved (Illinois).
 ///
-/// Returns the point where |f| <= `stop.small` was found, or, when the bracket is narrow enough
+/// Returns an end or a point where |f| <= `stop.small` (the ends are looked at first), or, when the bracket is narrow enough
 /// or the steps are spent, the end of the bracket with the smaller |f|. Ends of equal sign are
 /// not a bracket: then the end with the smaller |f| is returned without any evaluation.
 ///
@@ -53,10 +54,10 @@ pub fn illinois<E>(
     stop: Stop,
 ) -> Result<f64, E> {
     let (mut a, mut fa, mut b, mut fb) = (a, fa, b, fb);
-    if fa == 0.0 {
+    if fa.abs() <= stop.small || fa == 0.0 {
         return Ok(a);
     }
-    if fb == 0.0 {
+    if fb.abs() <= stop.small || fb == 0.0 {
         return Ok(b);
     }
     if (fa < 0.0) == (fb < 0.0) {

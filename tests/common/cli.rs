@@ -18,6 +18,23 @@ pub const MEV_J: f64 = 1.602_176_634e-22;
 
 pub const NM_M: f64 = 1e-9;
 
+/// `orbits` on an invented parabolic band (m* = 0.1 m_e) at 1e12 cm^-2: a small, quick run that
+/// several end-to-end tests share; extend it with [`with_flags`].
+pub const ORBITS_PARABOLIC: [&str; 7] = [
+    "orbits",
+    "--builtin",
+    "schrodinger",
+    "--set",
+    "mass_ratio=0.1",
+    "--density",
+    "1e12",
+];
+
+/// `base` followed by `extra`.
+pub fn with_flags<'a>(base: &[&'a str], extra: &[&'a str]) -> Vec<&'a str> {
+    base.iter().chain(extra).copied().collect()
+}
+
 pub fn hbar() -> f64 {
     H_PLANCK / (2.0 * std::f64::consts::PI)
 }

@@ -4,6 +4,7 @@
 use super::{VolumeDensity, VolumeSettings};
 use crate::error::{Error, Result};
 use crate::model::Model;
+use crate::numeric::root::{illinois, Stop};
 use crate::solve::Settings;
 use rayon::prelude::*;
 use serde::Serialize;
@@ -32,40 +33,13 @@ impl VolumeDensity {
         if self.thermal_energy > 0.0 {
             // n(mu) is smooth and strictly increasing: regula falsi with the Illinois
             // modification (superlinear; every evaluation costs a thermal convolution per level)
-            let f = |m: f64| self.carrier_density(m) - target;
-            let (mut a, mut b) = (lo, hi);
-            let (mut fa, mut fb) = (n_lo - target, n_hi - target);
-            let small = 1e-13 * (n_hi - n_lo).abs().max(target.abs());
-            let mut side = 0;
-            for _ in 0..200 {
-                if fa.abs() <= small {
-                    return Ok(a);
-                }
-                if fb.abs() <= small || fb == fa {
-                    return Ok(b);
-                }
-                let c = (a * fb - b * fa) / (fb - fa);
-                let fc = f(c);
-                if fc.abs() <= small || (b - a).abs() <= 1e-15 * (a.abs() + b.abs()) {
-                    return Ok(c);
-                }
-                if fc > 0.0 {
-                    b = c;
-                    fb = fc;
-                    if side == -1 {
-                        fa *= 0.5;
-                    }
-                    side = -1;
-                } else {
-                    a = c;
-                    fa = fc;
-                    if side == 1 {
-                        fb *= 0.5;
-                    }
-                    side = 1;
-                }
-            }
-            return Ok(0.5 * (a + b));
+            let f = |m: f64| Ok::<_, Error>(self.carrier_density(m) - target);
+            let stop = Stop {
+                rel_width: 2e-15,
+                max_steps: 200,
+                small: 1e-13 * (n_hi - n_lo).abs().max(target.abs()),
+            };
+            return illinois(f, (lo, n_lo - target), (hi, n_hi - target), stop);
         }
         // T = 0: n may be flat in a gap; the lowest mu with n >= target and the highest with
         // n <= target, then their middle
