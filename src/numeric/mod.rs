@@ -27,6 +27,7 @@ pub mod banded;
 pub mod dd;
 pub mod dense;
 mod lanczos;
+pub mod ldl;
 pub mod refine;
 pub mod slicing;
 mod tridiag;
