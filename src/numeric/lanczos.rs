@@ -16,7 +16,9 @@
 //! restarts. Memory: the basis of m + 1 vectors, m = k + max(k/2, 12) capped at n, and one
 //! work vector; the restart and the final Ritz vectors are computed in place in the basis,
 //! a block of rows at a time (no n x m temporary). The Gram–Schmidt passes are blocked over
-//! rows so that each reads every basis column once and the vector once.
+//! rows so that each reads every basis column once and the vector once; they, the norms and
+//! the restart run in parallel over fixed chunks of rows (partial sums added in chunk order,
+//! so the result does not depend on the number of threads).
 //!
 //! # References
 //! G. W. Stewart, "A Krylov–Schur algorithm for large eigenproblems", SIAM J. Matrix Anal.

@@ -3,8 +3,10 @@
 //!
 //! # Method
 //! Shift-invert Krylov–Schur (thick-restart) Lanczos with full reorthogonalisation:
-//! 1. factor H - sigma I = P^T L U once ([`BandedHermitian::lu`], partial pivoting), in real
-//!    arithmetic when H is real;
+//! 1. factor H - sigma I once, in real arithmetic when H is real: by the two-sided
+//!    L D L^H of [`super::ldl`] (top half downwards and bottom half upwards on two threads,
+//!    n (b + 1) numbers) when its growth is at most [`super::ldl::GROWTH_MAX`], else by
+//!    P^T L U with partial pivoting ([`BandedHermitian::lu`], n (3b + 1) numbers);
 //! 2. run Lanczos on the Hermitian operator (H - sigma I)^(-1), whose largest eigenvalues
 //!    theta = 1/(lambda - sigma) belong to the lambda nearest sigma; each step removes the
 //!    three-term part, then orthogonalises against the whole basis by classical Gram–Schmidt,
@@ -38,14 +40,16 @@
 //!
 //! # Complexity
 //! One factorisation O(n b^2), then per Lanczos step one O(n b) solve and O(n m) for the
-//! reorthogonalisation; in all O(n b^2 + (r + 1) n m^2) for r restarts, plus two O(n b^2)
+//! reorthogonalisation (both spread over two threads: the solve by its two halves, the
+//! Gram–Schmidt passes over row chunks); in all O(n b^2 + (r + 1) n m^2) for r restarts, plus two O(n b^2)
 //! inertia counts. The basis has m = k + max(k/2, 12) vectors for k wanted (a smaller basis
 //! than the usual 2k: shift-invert separates the wanted eigenvalues well, and each vector
 //! less saves n numbers and one pass over n numbers per step). For a real matrix everything
 //! is real (8 bytes a number). Memory, in numbers of the matrix's type: n (b + 1) for H (the
 //! caller's), n (3b + 1) for the LU factors (one buffer, also during the factorisation), n
 //! (m + 1) for the basis, which also holds the refinement block and becomes the returned
-//! eigenvectors (no copy), and three work vectors. Where the time goes (perf, 4N = 4e5
+//! eigenvectors (no copy), and three work vectors; with the L D L^H the factors take n (b + 1)
+//! numbers instead of n (3b + 1). Where the time goes (perf, 4N = 4e5
 //! Dirac matrix, b = 7, k = 20): the reorthogonalisation passes over the basis and the
 //! triangular solves, both bound by memory bandwidth; the kernels read each basis column
 //! once per pass in cache-sized row blocks.
