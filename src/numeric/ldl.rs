@@ -61,6 +61,16 @@ pub struct PartitionedLdl<T: Scalar> {
     growth: f64,
 }
 
+/// The shape of one block's elimination: `len` rows eliminated, `sp` spill rows, half-bandwidth
+/// `b`, pivots of modulus at most `tiny` refused.
+#[derive(Clone, Copy)]
+struct Block {
+    len: usize,
+    sp: usize,
+    b: usize,
+    tiny: f64,
+}
+
 /// Statistics of one elimination sweep.
 struct Sweep {
     negative: usize,
@@ -74,10 +84,7 @@ struct Sweep {
 /// local step k at row `pos(k)` (rows of b + 1 numbers).
 /// Returns `None` at a pivot of modulus <= `tiny` or a non-finite one.
 fn sweep<T: Scalar>(
-    len: usize,
-    sp: usize,
-    b: usize,
-    tiny: f64,
+    Block { len, sp, b, tiny }: Block,
     get: impl Fn(usize, usize) -> T,
     pos: impl Fn(usize) -> usize,
     out: &mut [T],
@@ -107,7 +114,7 @@ fn sweep<T: Scalar>(
     for k in 0..len {
         let sk = (k % w) * w;
         let d = ring[sk + b].real();
-        if !(d.abs() > tiny) || !d.is_finite() {
+        if d.abs() <= tiny || !d.is_finite() {
             return None;
         }
         if d < 0.0 {
@@ -186,7 +193,15 @@ impl<T: Scalar> PartitionedLdl<T> {
         let mut spill_t = vec![T::zero(); sb * sb];
         let mut spill_b = vec![T::zero(); sb * sb];
         let (rt, rb) = rayon::join(
-            || sweep(s, sb, b, tiny, elem, |k| k, top, &mut spill_t),
+            || {
+                let block = Block {
+                    len: s,
+                    sp: sb,
+                    b,
+                    tiny,
+                };
+                sweep(block, elem, |k| k, top, &mut spill_t)
+            },
             || {
                 if nb == 0 {
                     return Some(Sweep {
@@ -197,11 +212,14 @@ impl<T: Scalar> PartitionedLdl<T> {
                 // local row i' is original n - 1 - i'; (i', j'), j' <= i', is the upper
                 // element (n-1-i', n-1-j') = conj of the stored (n-1-j', n-1-i'); local step
                 // k' is stored at original row n - 1 - k', row nb - 1 - k' of the bottom
-                sweep(
-                    nb,
-                    sb,
+                let block = Block {
+                    len: nb,
+                    sp: sb,
                     b,
                     tiny,
+                };
+                sweep(
+                    block,
                     |i, j| elem(n - 1 - j, n - 1 - i).conjugate(),
                     |k| nb - 1 - k,
                     bottom,
@@ -238,7 +256,7 @@ impl<T: Scalar> PartitionedLdl<T> {
             let Some(q) = e.vectors else {
                 return Ok(None);
             };
-            if e.values.iter().any(|l| !(l.abs() > tiny)) {
+            if e.values.iter().any(|l| l.abs() <= tiny || l.is_nan()) {
                 return Ok(None);
             }
             below += e.values.iter().filter(|&&l| l < 0.0).count();
