@@ -333,7 +333,9 @@ fn partitioned_ldl_solves_and_counts_like_the_dense_oracle() {
                 let x: Vec<Complex64> = (0..n)
                     .map(|_| Complex64::new(rng.next(), rng.next()))
                     .collect();
-                if let Some(f) = PartitionedLdl::<Complex64>::factor(&band, sigma).unwrap() {
+                if let Some(f) =
+                    PartitionedLdl::<Complex64>::factor(&band, sigma, f64::INFINITY).unwrap()
+                {
                     assert_eq!(f.below(), below, "n {n} b {b} sigma {sigma}: inertia");
                     let mut z = x.clone();
                     f.solve_in_place(&mut z).unwrap();
@@ -347,7 +349,9 @@ fn partitioned_ldl_solves_and_counts_like_the_dense_oracle() {
                     checked += 1;
                 }
                 if field == Field::Real {
-                    if let Some(f) = PartitionedLdl::<f64>::factor(&band, sigma).unwrap() {
+                    if let Some(f) =
+                        PartitionedLdl::<f64>::factor(&band, sigma, f64::INFINITY).unwrap()
+                    {
                         assert_eq!(f.below(), below);
                         let mut zr: Vec<f64> = x.iter().map(|c| c.re).collect();
                         f.solve_in_place(&mut zr).unwrap();
@@ -380,7 +384,9 @@ fn partitioned_ldl_refuses_a_zero_pivot_and_the_window_solver_pivots_instead() {
         Complex64::new(if i == j { 0.0 } else { 1.0 }, 0.0)
     })
     .unwrap();
-    assert!(PartitionedLdl::<f64>::factor(&band, 0.0).unwrap().is_none());
+    assert!(PartitionedLdl::<f64>::factor(&band, 0.0, f64::INFINITY)
+        .unwrap()
+        .is_none());
     let e = nearest(&band, 0.0, 4).unwrap();
     let mut exact: Vec<f64> = (1..=n)
         .map(|k| 2.0 * (std::f64::consts::PI * k as f64 / (n + 1) as f64).cos())

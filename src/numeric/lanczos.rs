@@ -347,23 +347,48 @@ pub(super) fn transform_columns<T: Scalar>(
     });
 }
 
-/// sum conj(a_i) b_i with four partial sums (vectorisable).
+/// sum conj(a_i) b_i with eight partial sums (independent chains, vectorisable).
 #[inline]
 pub(super) fn dotc<T: Scalar>(a: &[T], b: &[T]) -> T {
-    let mut s = [T::zero(); 4];
-    let (ca, cb) = (a.chunks_exact(4), b.chunks_exact(4));
+    let mut s = [T::zero(); 8];
+    let (ca, cb) = (a.chunks_exact(8), b.chunks_exact(8));
     let (ra, rb) = (ca.remainder(), cb.remainder());
     for (x, y) in ca.zip(cb) {
-        s[0] += x[0].conjugate() * y[0];
-        s[1] += x[1].conjugate() * y[1];
-        s[2] += x[2].conjugate() * y[2];
-        s[3] += x[3].conjugate() * y[3];
+        for i in 0..8 {
+            s[i] += x[i].conjugate() * y[i];
+        }
     }
-    let mut t = (s[0] + s[1]) + (s[2] + s[3]);
+    let mut t = ((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]));
     for (x, y) in ra.iter().zip(rb) {
         t += x.conjugate() * *y;
     }
     t
+}
+
+/// Four dot products conj(a_q) . b sharing one pass over b (two partial sums each).
+#[inline]
+fn dotc4<T: Scalar>(a: [&[T]; 4], b: &[T]) -> [T; 4] {
+    let mut s = [[T::zero(); 2]; 4];
+    let len = b.len();
+    let a = [&a[0][..len], &a[1][..len], &a[2][..len], &a[3][..len]];
+    let even = len - len % 2;
+    let mut i = 0;
+    while i < even {
+        let (b0, b1) = (b[i], b[i + 1]);
+        for q in 0..4 {
+            s[q][0] += a[q][i].conjugate() * b0;
+            s[q][1] += a[q][i + 1].conjugate() * b1;
+        }
+        i += 2;
+    }
+    let mut out = [T::zero(); 4];
+    for q in 0..4 {
+        out[q] = s[q][0] + s[q][1];
+        if even < len {
+            out[q] += a[q][even].conjugate() * b[even];
+        }
+    }
+    out
 }
 
 /// y -= c x.
@@ -465,8 +490,24 @@ pub(super) fn project<T: Scalar>(v: &[T], cols: usize, w: &[T], c: &mut [T]) {
         while r0 < b {
             let r1 = (r0 + ROW_BLOCK).min(b);
             let wb = &w[r0..r1];
-            for (j, cj) in part.iter_mut().enumerate() {
-                *cj += dotc(&v[j * n + r0..j * n + r1], wb);
+            let mut j = 0;
+            while j + 4 <= cols {
+                let d = dotc4(
+                    [
+                        &v[j * n + r0..j * n + r1],
+                        &v[(j + 1) * n + r0..(j + 1) * n + r1],
+                        &v[(j + 2) * n + r0..(j + 2) * n + r1],
+                        &v[(j + 3) * n + r0..(j + 3) * n + r1],
+                    ],
+                    wb,
+                );
+                for (q, dq) in d.into_iter().enumerate() {
+                    part[j + q] += dq;
+                }
+                j += 4;
+            }
+            for (jj, cj) in part.iter_mut().enumerate().skip(j) {
+                *cj += dotc(&v[jj * n + r0..jj * n + r1], wb);
             }
             r0 = r1;
         }

@@ -69,6 +69,8 @@ struct Block {
     sp: usize,
     b: usize,
     tiny: f64,
+    /// Growth (absolute, sum_k |l_ik|^2 |d_k|) at which the sweep gives up.
+    limit: f64,
 }
 
 /// Statistics of one elimination sweep.
@@ -84,7 +86,13 @@ struct Sweep {
 /// local step k at row `pos(k)` (rows of b + 1 numbers).
 /// Returns `None` at a pivot of modulus <= `tiny` or a non-finite one.
 fn sweep<T: Scalar>(
-    Block { len, sp, b, tiny }: Block,
+    Block {
+        len,
+        sp,
+        b,
+        tiny,
+        limit,
+    }: Block,
     get: impl Fn(usize, usize) -> T,
     pos: impl Fn(usize) -> usize,
     out: &mut [T],
@@ -121,6 +129,10 @@ fn sweep<T: Scalar>(
             negative += 1;
         }
         growth = growth.max(g[k % w] + d.abs());
+        if growth > limit {
+            // too much growth to be used: stop early rather than finish a refused factorisation
+            return None;
+        }
         let o = pos(k);
         let row = &mut out[o * w..(o + 1) * w];
         let inv = 1.0 / d;
@@ -159,8 +171,9 @@ fn sweep<T: Scalar>(
 impl<T: Scalar> PartitionedLdl<T> {
     /// Factor H - sigma I without pivoting, the two blocks on two threads (rayon `join`).
     /// Returns `Ok(None)` when a pivot or a separator eigenvalue has modulus at most
-    /// eps ||H||_max-row-sum (use the pivoted LU then); the growth of a successful
-    /// factorisation is [`PartitionedLdl::growth`].
+    /// eps ||H||_max-row-sum, or as soon as the growth exceeds `max_growth` (use the pivoted
+    /// LU then; pass `f64::INFINITY` for no limit); the growth of a successful factorisation
+    /// is [`PartitionedLdl::growth`].
     ///
     /// # Errors
     /// [`Error::Numerical`] when the dense separator eigen-solve fails.
@@ -168,7 +181,7 @@ impl<T: Scalar> PartitionedLdl<T> {
     /// # Complexity
     /// About n b^2 / 2 multiply-adds, half on each thread, plus O(b^3); memory n (b + 1)
     /// numbers.
-    pub fn factor(h: &BandedHermitian, sigma: f64) -> Result<Option<Self>> {
+    pub fn factor(h: &BandedHermitian, sigma: f64, max_growth: f64) -> Result<Option<Self>> {
         let (n, b) = (h.size(), h.half_bandwidth());
         let w = b + 1;
         let tiny = f64::EPSILON * h.norm_bound().max(f64::MIN_POSITIVE);
@@ -180,6 +193,11 @@ impl<T: Scalar> PartitionedLdl<T> {
             }
             z
         };
+        let hmax = (0..n)
+            .flat_map(|i| (i.saturating_sub(b)..=i).map(move |j| (i, j)))
+            .fold(0.0f64, |a, (i, j)| a.max(elem(i, j).modulus()))
+            .max(f64::MIN_POSITIVE);
+        let limit = max_growth * hmax;
         // two blocks only when each is long enough to be worth a thread
         let (s, sb) = if n >= 8 * w && b > 0 {
             (n / 2, b)
@@ -199,6 +217,7 @@ impl<T: Scalar> PartitionedLdl<T> {
                     sp: sb,
                     b,
                     tiny,
+                    limit,
                 };
                 sweep(block, elem, |k| k, top, &mut spill_t)
             },
@@ -217,6 +236,7 @@ impl<T: Scalar> PartitionedLdl<T> {
                     sp: sb,
                     b,
                     tiny,
+                    limit,
                 };
                 sweep(
                     block,
@@ -267,9 +287,9 @@ impl<T: Scalar> PartitionedLdl<T> {
             });
             sep_inv = inv.iter().map(|&z| T::from_c64(z)).collect();
         }
-        let hmax = (0..n)
-            .flat_map(|i| (i.saturating_sub(b)..=i).map(move |j| (i, j)))
-            .fold(0.0f64, |a, (i, j)| a.max(elem(i, j).modulus()));
+        if growth > limit {
+            return Ok(None);
+        }
         Ok(Some(PartitionedLdl {
             n,
             b,
@@ -278,7 +298,7 @@ impl<T: Scalar> PartitionedLdl<T> {
             f,
             sep_inv,
             below,
-            growth: growth / hmax.max(f64::MIN_POSITIVE),
+            growth: growth / hmax,
         }))
     }
 
@@ -483,10 +503,8 @@ impl<T: Scalar> ShiftInverse<T> {
     /// # Errors
     /// As [`BandedLu`]'s factorisation (no pivot in a column: sigma is an eigenvalue).
     pub(crate) fn factor(h: &BandedHermitian, sigma: f64) -> Result<Self> {
-        if let Some(ldl) = PartitionedLdl::<T>::factor(h, sigma)? {
-            if ldl.growth() <= GROWTH_MAX {
-                return Ok(ShiftInverse::Ldl(ldl));
-            }
+        if let Some(ldl) = PartitionedLdl::<T>::factor(h, sigma, GROWTH_MAX)? {
+            return Ok(ShiftInverse::Ldl(ldl));
         }
         BandedLu::<T>::factor_pub(h, sigma).map(ShiftInverse::Lu)
     }
