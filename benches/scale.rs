@@ -7,8 +7,10 @@
 //!   minutes per sample on a shared 2-core machine). `scripts/compare.sh` times the same
 //!   matrices against LAPACK.
 //! * `window`: the 20 levels nearest 1.01 m c^2 of the unsplit 3+1 Dirac band matrix (4N
-//!   states, half-bandwidth 7) by the shift-invert window solver, N = 1e4 and 1e5 (and 1e6
-//!   with `LADDERFAN_BENCH_1E6=1`: about a minute per sample).
+//!   states, half-bandwidth 7) by the shift-invert window solver in the matrix's own (real)
+//!   arithmetic with real eigenvectors (`window::nearest_pairs`, what `scripts/compare.py`
+//!   times against scipy), N = 1e4 and 1e5 (and 1e6 with `LADDERFAN_BENCH_1E6=1`: about half
+//!   a minute per sample).
 //! * `sweep_1000`: 1000 field points of the split 3+1 Dirac model (N = 1000), serially in a
 //!   1-thread rayon pool and in a 2-thread pool, same inputs. Before timing, the 2-thread
 //!   result is checked to equal the serial one exactly (the sweep's determinism claim: each
@@ -91,7 +93,7 @@ fn window_solver(c: &mut Criterion) {
             BandedHermitian::from_fn(n * d, half, |i, j| h.element(i / d, i % d, j / d, j % d))
                 .expect("band matrix");
         g.bench_with_input(BenchmarkId::new("nearest_20", n), &band, |b, band| {
-            b.iter(|| window::nearest(black_box(band), 1.01, 20).expect("window"))
+            b.iter(|| window::nearest_pairs(black_box(band), 1.01, 20).expect("window"))
         });
     }
     g.finish();

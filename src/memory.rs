@@ -120,22 +120,29 @@ impl SolveShape {
     }
 
     /// Peak bytes of a window solve ([`crate::numeric::window`]) of the largest sector, with
-    /// `half_bandwidth` (states) and `wanted` levels, including [`BASE_BYTES`].
+    /// `half_bandwidth` b (states), `wanted` levels w, in real arithmetic (`real`, 8 bytes a
+    /// number) or complex (16), including [`BASE_BYTES`].
     ///
     /// # Formula
-    /// 16 s (4 b + 4 + 3 w + 20) bytes for a sector of s states: the banded matrix and its LU
-    /// (about 4 b + 4 numbers a row), a Krylov basis of about 3 w vectors for w wanted levels,
-    /// and a few work vectors.
-    pub fn window_bytes(&self, half_bandwidth: u64, wanted: u64) -> u64 {
-        self.largest_sector
-            .saturating_mul(
-                half_bandwidth
-                    .saturating_mul(4)
-                    .saturating_add(4)
-                    .saturating_add(wanted.saturating_mul(3))
-                    .saturating_add(20),
-            )
-            .saturating_mul(16)
+    /// For a sector of s states and z bytes a number, m = w + max(w/2, 12) basis vectors:
+    /// z s (b + 1) for the band matrix, plus the larger of the solve phase,
+    /// z s (3b + 1) + 4 s (the pivoted LU, the larger of the two factorisations; the two-sided
+    /// L D L^H needs z s (b + 1)) + z s (m + 1) (the Krylov basis) + 4 z s (work vectors), and
+    /// the hand-over phase, z s w + 16 s w (the found vectors and their complex copy for the
+    /// level records).
+    pub fn window_bytes(&self, half_bandwidth: u64, wanted: u64, real: bool) -> u64 {
+        let s = self.largest_sector;
+        let z: u64 = if real { 8 } else { 16 };
+        let b = half_bandwidth;
+        let m = wanted.saturating_add((wanted / 2).max(12));
+        let band = z.saturating_mul(b.saturating_add(1));
+        let solve = z
+            .saturating_mul(b.saturating_mul(3).saturating_add(1))
+            .saturating_add(4)
+            .saturating_add(z.saturating_mul(m.saturating_add(1)))
+            .saturating_add(z.saturating_mul(4));
+        let hand_over = z.saturating_add(16).saturating_mul(wanted);
+        s.saturating_mul(band.saturating_add(solve.max(hand_over)))
             .saturating_add(BASE_BYTES)
     }
 

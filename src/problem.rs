@@ -402,7 +402,8 @@ impl<'m> Problem<'m> {
                 _ => WINDOW_MAX_LEVELS.min(64),
             };
             let hbw = ((self.hamiltonian.band + 2) * self.hamiltonian.dim) as u64;
-            self.shape.window_bytes(hbw, wanted as u64)
+            self.shape
+                .window_bytes(hbw, wanted as u64, self.hamiltonian.is_real())
         } else {
             self.estimate(
                 &Footprint::Solve {

@@ -11,6 +11,7 @@ use ladderfan::matrix::pauli;
 use ladderfan::model::{Model, Monomial};
 use ladderfan::numeric::banded::BandedHermitian;
 use ladderfan::numeric::dense::{eigh, Vectors};
+use ladderfan::numeric::ldl::PartitionedLdl;
 use ladderfan::numeric::window::{in_window, nearest};
 use ladderfan::units::Units;
 use nalgebra::{DMatrix, SymmetricEigen};
@@ -262,6 +263,142 @@ fn banded_product_factorisation_and_inertia_match_dense() {
     }
 }
 
+/// A random banded Hermitian matrix (seeded) as a band and densely.
+fn random_band(
+    n: usize,
+    b: usize,
+    field: Field,
+    seed: u64,
+) -> (BandedHermitian, DMatrix<Complex64>) {
+    let mut rng = Rng(seed);
+    let mut dense = DMatrix::<Complex64>::zeros(n, n);
+    for i in 0..n {
+        for j in i.saturating_sub(b)..=i {
+            let re = rng.next();
+            let im = if i == j || field == Field::Real {
+                0.0
+            } else {
+                rng.next()
+            };
+            dense[(i, j)] = Complex64::new(re, im);
+            dense[(j, i)] = Complex64::new(re, -im);
+        }
+    }
+    let band = BandedHermitian::from_fn(n, b, |i, j| dense[(i, j)]).unwrap();
+    (band, dense)
+}
+
+/// Residual ||(H - sigma) z - x|| / (||H - sigma||_F ||z|| + ||x||) of a solve, densely.
+fn relative_residual(
+    dense: &DMatrix<Complex64>,
+    sigma: f64,
+    x: &[Complex64],
+    z: &[Complex64],
+) -> f64 {
+    let n = x.len();
+    let shifted = dense - DMatrix::<Complex64>::identity(n, n) * Complex64::new(sigma, 0.0);
+    let zd = nalgebra::DVector::from_column_slice(z);
+    let xd = nalgebra::DVector::from_column_slice(x);
+    (&shifted * &zd - &xd).norm() / (frobenius(&shifted) * zd.norm() + xd.norm())
+}
+
+#[test]
+fn partitioned_ldl_solves_and_counts_like_the_dense_oracle() {
+    // sizes with and without the two-block split (n >= 8 (b + 1)), b = 0 (diagonal) to 7,
+    // shifts between eigenvalues and very close to one (1e-6 of the local spacing)
+    let mut checked = 0;
+    for (n, b) in [
+        (5, 1),
+        (40, 3),
+        (64, 7),
+        (65, 7),
+        (200, 7),
+        (301, 4),
+        (50, 0),
+        (97, 1),
+    ] {
+        for field in [Field::Real, Field::Complex] {
+            let (band, dense) = random_band(n, b, field, 17 + n as u64 + b as u64);
+            let values = oracle(&dense);
+            let mid = n / 2;
+            let gap = values[mid + 1] - values[mid];
+            for sigma in [
+                0.5 * (values[mid] + values[mid + 1]),
+                values[mid] + 1e-6 * gap,
+                values[0] - 1.0,
+                values[n - 1] + 0.25,
+            ] {
+                let below = values.iter().filter(|&&v| v < sigma).count();
+                let mut rng = Rng(5 + n as u64);
+                let x: Vec<Complex64> = (0..n)
+                    .map(|_| Complex64::new(rng.next(), rng.next()))
+                    .collect();
+                if let Some(f) =
+                    PartitionedLdl::<Complex64>::factor(&band, sigma, f64::INFINITY).unwrap()
+                {
+                    assert_eq!(f.below(), below, "n {n} b {b} sigma {sigma}: inertia");
+                    let mut z = x.clone();
+                    f.solve_in_place(&mut z).unwrap();
+                    // backward error of the order of eps times the growth (Higham 2002, sec. 10.4)
+                    let eta = relative_residual(&dense, sigma, &x, &z);
+                    assert!(
+                        eta <= 1e-14 * (1.0 + f.growth()) * (b as f64 + 1.0),
+                        "n {n} b {b} sigma {sigma}: backward error {eta:e}, growth {}",
+                        f.growth()
+                    );
+                    checked += 1;
+                }
+                if field == Field::Real {
+                    if let Some(f) =
+                        PartitionedLdl::<f64>::factor(&band, sigma, f64::INFINITY).unwrap()
+                    {
+                        assert_eq!(f.below(), below);
+                        let mut zr: Vec<f64> = x.iter().map(|c| c.re).collect();
+                        f.solve_in_place(&mut zr).unwrap();
+                        let xr: Vec<Complex64> =
+                            x.iter().map(|c| Complex64::new(c.re, 0.0)).collect();
+                        let zc: Vec<Complex64> =
+                            zr.iter().map(|&r| Complex64::new(r, 0.0)).collect();
+                        let eta = relative_residual(&dense, sigma, &xr, &zc);
+                        assert!(
+                            eta <= 1e-14 * (1.0 + f.growth()) * (b as f64 + 1.0),
+                            "real: {eta:e}"
+                        );
+                        assert!(f.solve_in_place(&mut zr[1..]).is_err());
+                    }
+                }
+            }
+        }
+    }
+    // the random matrices factor without pivoting at almost every shift
+    assert!(checked >= 56, "only {checked} of 64 factorisations existed");
+}
+
+#[test]
+fn partitioned_ldl_refuses_a_zero_pivot_and_the_window_solver_pivots_instead() {
+    // zero diagonal, unit off-diagonal: the first pivot of H - 0 I is exactly 0, so the
+    // unpivoted factorisation must refuse and the window solver must use the pivoted LU;
+    // eigenvalues 2 cos(pi k / (n + 1)) (the path graph, common practice)
+    let n = 400;
+    let band = BandedHermitian::from_fn(n, 1, |i, j| {
+        Complex64::new(if i == j { 0.0 } else { 1.0 }, 0.0)
+    })
+    .unwrap();
+    assert!(PartitionedLdl::<f64>::factor(&band, 0.0, f64::INFINITY)
+        .unwrap()
+        .is_none());
+    let e = nearest(&band, 0.0, 4).unwrap();
+    let mut exact: Vec<f64> = (1..=n)
+        .map(|k| 2.0 * (std::f64::consts::PI * k as f64 / (n + 1) as f64).cos())
+        .collect();
+    exact.sort_by(|a, b| a.abs().total_cmp(&b.abs()));
+    let mut want = exact[..4].to_vec();
+    want.sort_by(f64::total_cmp);
+    for (v, x) in e.values.iter().zip(&want) {
+        assert!((v - x).abs() <= 1e-12 * 2.0, "{v} vs {x}");
+    }
+}
+
 fn nearest_oracle(values: &[f64], target: f64, count: usize) -> Vec<f64> {
     let mut v = values.to_vec();
     v.sort_by(|a, b| (a - target).abs().total_cmp(&(b - target).abs()));
@@ -411,4 +548,47 @@ fn window_rejects_bad_requests() {
     // the whole spectrum of a small matrix: count = n exhausts the Krylov space
     let e = nearest(&band, 0.0, n).unwrap();
     assert_eq!(e.values.len(), n);
+}
+
+#[test]
+fn window_parallel_kernels_match_the_closed_form_on_any_thread_count() {
+    // 40000 rows: several row chunks of the parallel Gram-Schmidt and both halves of the
+    // two-sided factorisation. Second-difference matrix 2 - 2cos(pi k/(n+1)), k = 1..n
+    // (common practice); the result must not depend on the number of threads (fixed chunks,
+    // partial sums added in chunk order, fixed split of the factorisation)
+    let n = 40_000;
+    let band = BandedHermitian::from_fn(n, 1, |i, j| {
+        Complex64::new(if i == j { 2.0 } else { -1.0 }, 0.0)
+    })
+    .unwrap();
+    let target = 1.0;
+    let count = 6;
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| nearest(&band, target, count).unwrap())
+    };
+    let (one, two) = (run(1), run(2));
+    let mut exact: Vec<f64> = (1..=n)
+        .map(|k| 2.0 - 2.0 * (std::f64::consts::PI * k as f64 / (n + 1) as f64).cos())
+        .collect();
+    exact.sort_by(|a, b| (a - target).abs().total_cmp(&(b - target).abs()));
+    let mut want = exact[..count].to_vec();
+    want.sort_by(f64::total_cmp);
+    for i in 0..count {
+        assert!(
+            (one.values[i] - want[i]).abs() <= 1e-12 * 4.0,
+            "{} vs {}",
+            one.values[i],
+            want[i]
+        );
+        assert!(one.residuals[i] <= 1e-10 * 4.0);
+        assert_eq!(
+            one.values[i].to_bits(),
+            two.values[i].to_bits(),
+            "thread count changed level {i}"
+        );
+    }
 }

@@ -361,8 +361,10 @@ fn main() {
             });
             write_values(values_path, eig.values());
             let max_res = eig.residuals().iter().copied().fold(0.0, f64::max);
+            let work = eig.work();
             serde_json::json!({
                 "path": "window", "cutoff": n, "size": d * n, "threads": threads,
+                "ldl": work.ldl, "lanczos_steps": work.lanczos_steps, "restarts": work.restarts,
                 "seconds": t, "repeats": reps, "build_seconds": build,
                 "target": target, "count": count, "max_residual": max_res,
                 "half_bandwidth": half,

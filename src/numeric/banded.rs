@@ -170,6 +170,13 @@ impl BandedHermitian {
         }
     }
 
+    /// Stored element H_ij of the lower band (j <= i, i - j <= b; caller checks), in the
+    /// kernel's scalar type.
+    #[inline]
+    pub(crate) fn lower<T: Scalar>(&self, i: usize, j: usize) -> T {
+        self.at::<T>(i * (self.b + 1) + (j + self.b - i))
+    }
+
     /// Element H_ij for any i, j < n (zero outside the band, conjugate in the upper band).
     pub fn get(&self, i: usize, j: usize) -> Complex64 {
         if i >= self.n || j >= self.n || i.abs_diff(j) > self.b {

@@ -3,7 +3,7 @@
 //! the shift, checks completeness by inertia counts and refines the Ritz vectors in H.
 //!
 //! # Method
-//! Each step applies the factored inverse ([`BandedLu`]) to the newest basis vector, removes the
+//! Each step applies the factored inverse (`ShiftInverse`: two-sided L D L^H or pivoted LU) to the newest basis vector, removes the
 //! three-term part, then orthogonalises against the whole basis (and any locked vectors) by
 //! classical Gram–Schmidt with the DGKS test; when the basis reaches m vectors it is contracted
 //! to the (m + k)/2 Ritz vectors of largest |theta| plus the residual vector (Krylov–Schur
@@ -16,15 +16,18 @@
 //! restarts. Memory: the basis of m + 1 vectors, m = k + max(k/2, 12) capped at n, and one
 //! work vector; the restart and the final Ritz vectors are computed in place in the basis,
 //! a block of rows at a time (no n x m temporary). The Gram–Schmidt passes are blocked over
-//! rows so that each reads every basis column once and the vector once.
+//! rows so that each reads every basis column once and the vector once; they, the norms and
+//! the restart run in parallel over fixed chunks of rows (partial sums added in chunk order,
+//! so the result does not depend on the number of threads).
 //!
 //! # References
 //! G. W. Stewart, "A Krylov–Schur algorithm for large eigenproblems", SIAM J. Matrix Anal.
 //! Appl. 23, 601 (2001); J. W. Daniel, W. B. Gragg, L. Kaufman and G. W. Stewart, Math. Comp.
 //! 30, 772 (1976) (DGKS reorthogonalisation).
 
-use super::banded::{BandedLu, Scalar};
+use super::banded::Scalar;
 use super::dense::{eigh, Vectors};
+use super::ldl::ShiftInverse;
 use crate::error::{Error, Result};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -38,7 +41,14 @@ pub(super) const MAX_RESTARTS: usize = 200;
 pub(super) enum Krylov<T: Scalar> {
     /// The basis buffer (n rows); its first `count` columns hold the wanted unit Ritz vectors,
     /// by decreasing |theta|. Returning the buffer itself keeps the peak memory at the basis.
-    Done { basis: DMatrix<T>, count: usize },
+    Done {
+        basis: DMatrix<T>,
+        count: usize,
+        /// Operator applications (Lanczos steps) of this run.
+        steps: usize,
+        /// Restarts of this run.
+        restarts: usize,
+    },
     /// An eigenvalue sits almost on the shift; `radius` is the distance of the k-th one.
     ShiftTooClose { radius: f64 },
 }
@@ -56,7 +66,7 @@ pub(super) fn basis_size(want: usize, room: usize) -> usize {
 /// Krylov–Schur Lanczos on (H - sigma)^(-1) restricted to the complement of `locked`;
 /// returns the `want` Ritz vectors of largest |theta| (unit vectors) in place in the basis.
 pub(super) fn krylov_schur<T: Scalar>(
-    lu: &BandedLu<T>,
+    lu: &ShiftInverse<T>,
     n: usize,
     want: usize,
     locked: &[&[T]],
@@ -78,6 +88,7 @@ pub(super) fn krylov_schur<T: Scalar>(
     scale_into(&w, 1.0 / nw, &mut v.as_mut_slice()[..n]);
     let mut start = 0;
     let mut restarts = 0;
+    let mut steps = 0;
     loop {
         let mut j = start;
         let (m, beta, ritz) = loop {
@@ -88,6 +99,7 @@ pub(super) fn krylov_schur<T: Scalar>(
                 start,
             };
             let (beta, exhausted) = basis.step(&mut v, &mut tm, &mut w, j, rng);
+            steps += 1;
             let m = j + 1;
             // Ritz pairs: at a full basis, and every few steps once k of them can exist
             if exhausted || m == mmax || (m >= k + 2 && (m - start) % 2 == 0) {
@@ -105,6 +117,8 @@ pub(super) fn krylov_schur<T: Scalar>(
                         return Ok(Krylov::Done {
                             basis: v,
                             count: kk,
+                            steps,
+                            restarts,
                         });
                     }
                     Verdict::ShiftTooClose(radius) => {
@@ -136,7 +150,7 @@ pub(super) fn krylov_schur<T: Scalar>(
 /// What one Lanczos step needs besides the basis: the factored operator, the locked vectors,
 /// the room left beside them, and the first column after the last restart.
 struct Basis<'a, T: Scalar> {
-    lu: &'a BandedLu<T>,
+    lu: &'a ShiftInverse<T>,
     locked: &'a [&'a [T]],
     room: usize,
     start: usize,
@@ -290,43 +304,91 @@ pub(super) fn transform_in_place<T: Scalar>(v: &mut DMatrix<T>, m: usize, y: &DM
     transform_columns(v, 0, m, y);
 }
 
-/// Columns c0..c0+k of `v` become V[:, c0..c0+m] Y, in place, blocked over rows.
+/// Columns c0..c0+k of `v` become V[:, c0..c0+m] Y, in place, blocked over rows: the row
+/// chunks of [`PAR_ROWS`] rows in parallel, each copied a block of rows at a time into a small
+/// buffer that the product reads (no n x k temporary).
 pub(super) fn transform_columns<T: Scalar>(
     v: &mut DMatrix<T>,
     c0: usize,
     m: usize,
     y: &DMatrix<T>,
 ) {
+    use rayon::prelude::*;
     let (n, k) = (v.nrows(), y.ncols());
-    let rb = ROW_BLOCK.min(n);
-    let mut tmp = DMatrix::<T>::zeros(rb, k);
-    let mut r0 = 0;
-    while r0 < n {
-        let r = rb.min(n - r0);
-        let mut t = tmp.view_mut((0, 0), (r, k));
-        t.gemm(T::one(), &v.view((r0, c0), (r, m)), y, T::zero());
-        v.view_mut((r0, c0), (r, k)).copy_from(&t);
-        r0 += r;
+    if n == 0 || m == 0 || k == 0 {
+        return;
     }
+    // pieces[chunk][column]: the rows of one chunk in each of the columns c0..c0+m
+    let chunks = n.div_ceil(PAR_ROWS);
+    let mut pieces: Vec<Vec<&mut [T]>> = (0..chunks).map(|_| Vec::with_capacity(m)).collect();
+    for col in v.as_mut_slice().chunks_mut(n).skip(c0).take(m) {
+        for (c, p) in col.chunks_mut(PAR_ROWS).enumerate() {
+            pieces[c].push(p);
+        }
+    }
+    pieces.into_par_iter().for_each(|mut pc| {
+        let len = pc[0].len();
+        let rb = ROW_BLOCK.min(len);
+        let mut a = DMatrix::<T>::zeros(rb, m);
+        let mut t = DMatrix::<T>::zeros(rb, k);
+        let mut r0 = 0;
+        while r0 < len {
+            let r = rb.min(len - r0);
+            for (j, p) in pc.iter().enumerate() {
+                a.as_mut_slice()[j * rb..j * rb + r].copy_from_slice(&p[r0..r0 + r]);
+            }
+            t.view_mut((0, 0), (r, k))
+                .gemm(T::one(), &a.view((0, 0), (r, m)), y, T::zero());
+            for (j, p) in pc.iter_mut().enumerate().take(k) {
+                p[r0..r0 + r].copy_from_slice(&t.as_slice()[j * rb..j * rb + r]);
+            }
+            r0 += r;
+        }
+    });
 }
 
-/// sum conj(a_i) b_i with four partial sums (vectorisable).
+/// sum conj(a_i) b_i with eight partial sums (independent chains, vectorisable).
 #[inline]
 pub(super) fn dotc<T: Scalar>(a: &[T], b: &[T]) -> T {
-    let mut s = [T::zero(); 4];
-    let (ca, cb) = (a.chunks_exact(4), b.chunks_exact(4));
+    let mut s = [T::zero(); 8];
+    let (ca, cb) = (a.chunks_exact(8), b.chunks_exact(8));
     let (ra, rb) = (ca.remainder(), cb.remainder());
     for (x, y) in ca.zip(cb) {
-        s[0] += x[0].conjugate() * y[0];
-        s[1] += x[1].conjugate() * y[1];
-        s[2] += x[2].conjugate() * y[2];
-        s[3] += x[3].conjugate() * y[3];
+        for i in 0..8 {
+            s[i] += x[i].conjugate() * y[i];
+        }
     }
-    let mut t = (s[0] + s[1]) + (s[2] + s[3]);
+    let mut t = ((s[0] + s[1]) + (s[2] + s[3])) + ((s[4] + s[5]) + (s[6] + s[7]));
     for (x, y) in ra.iter().zip(rb) {
         t += x.conjugate() * *y;
     }
     t
+}
+
+/// Four dot products conj(a_q) . b sharing one pass over b (two partial sums each).
+#[inline]
+fn dotc4<T: Scalar>(a: [&[T]; 4], b: &[T]) -> [T; 4] {
+    let mut s = [[T::zero(); 2]; 4];
+    let len = b.len();
+    let a = [&a[0][..len], &a[1][..len], &a[2][..len], &a[3][..len]];
+    let even = len - len % 2;
+    let mut i = 0;
+    while i < even {
+        let (b0, b1) = (b[i], b[i + 1]);
+        for q in 0..4 {
+            s[q][0] += a[q][i].conjugate() * b0;
+            s[q][1] += a[q][i + 1].conjugate() * b1;
+        }
+        i += 2;
+    }
+    let mut out = [T::zero(); 4];
+    for q in 0..4 {
+        out[q] = s[q][0] + s[q][1];
+        if even < len {
+            out[q] += a[q][even].conjugate() * b[even];
+        }
+    }
+    out
 }
 
 /// y -= c x.
@@ -337,8 +399,71 @@ pub(super) fn sub_scaled<T: Scalar>(y: &mut [T], c: T, x: &[T]) {
     }
 }
 
-/// Euclidean norm of a slice.
+/// Euclidean norm of a slice (parallel over row chunks for long slices).
 pub(super) fn norm<T: Scalar>(a: &[T]) -> f64 {
+    chunk_sum::<Complex64>(a.len(), 1, |r0, r1| {
+        vec![Complex64::new(norm2_seq(&a[r0..r1]), 0.0)]
+    })[0]
+        .re
+        .sqrt()
+}
+
+/// out = a * x.
+fn scale_into<T: Scalar>(x: &[T], a: f64, out: &mut [T]) {
+    let a = T::from_real(a);
+    for (o, &xi) in out.iter_mut().zip(x) {
+        *o = xi * a;
+    }
+}
+
+/// Rows per parallel chunk of the vector kernels: fixed (not derived from the thread count),
+/// so the sums are added in the same order on any number of threads and the results do not
+/// depend on it. 16384 rows = 128 KiB real, large enough to hide rayon's task overhead.
+const PAR_ROWS: usize = 16384;
+
+/// Sum over the row chunks [r0, r1) of `part(r0, r1)` (a vector of `len` numbers), the chunks
+/// in parallel, the partial sums added in chunk order.
+fn chunk_sum<T: Scalar>(
+    n: usize,
+    len: usize,
+    part: impl Fn(usize, usize) -> Vec<T> + Sync,
+) -> Vec<T> {
+    use rayon::prelude::*;
+    let chunks = n.div_ceil(PAR_ROWS).max(1);
+    let parts: Vec<Vec<T>> = if chunks == 1 {
+        vec![part(0, n)]
+    } else {
+        (0..chunks)
+            .into_par_iter()
+            .map(|c| part(c * PAR_ROWS, ((c + 1) * PAR_ROWS).min(n)))
+            .collect()
+    };
+    let mut out = vec![T::zero(); len];
+    for p in parts {
+        for (o, x) in out.iter_mut().zip(p) {
+            *o += x;
+        }
+    }
+    out
+}
+
+/// Apply `f(r0, chunk of w)` to the row chunks of `w` in parallel and return the sum of its
+/// results (added in chunk order).
+fn chunk_apply<T: Scalar>(w: &mut [T], f: impl Fn(usize, &mut [T]) -> f64 + Sync) -> f64 {
+    use rayon::prelude::*;
+    if w.len() <= PAR_ROWS {
+        return f(0, w);
+    }
+    let parts: Vec<f64> = w
+        .par_chunks_mut(PAR_ROWS)
+        .enumerate()
+        .map(|(c, wc)| f(c * PAR_ROWS, wc))
+        .collect();
+    parts.into_iter().sum()
+}
+
+/// Squared norm of a slice, sequential.
+fn norm2_seq<T: Scalar>(a: &[T]) -> f64 {
     let mut s = [0.0f64; 4];
     let c = a.chunks_exact(4);
     let r = c.remainder();
@@ -352,45 +477,64 @@ pub(super) fn norm<T: Scalar>(a: &[T]) -> f64 {
     for x in r {
         t += x.modulus_squared();
     }
-    t.sqrt()
-}
-
-/// out = a * x.
-fn scale_into<T: Scalar>(x: &[T], a: f64, out: &mut [T]) {
-    let a = T::from_real(a);
-    for (o, &xi) in out.iter_mut().zip(x) {
-        *o = xi * a;
-    }
+    t
 }
 
 /// c_j = v_j^H w for the first `cols` columns of the column-major basis `v` (n = w.len()
-/// rows), blocked over rows.
+/// rows), in parallel over row chunks, each blocked over rows.
 pub(super) fn project<T: Scalar>(v: &[T], cols: usize, w: &[T], c: &mut [T]) {
     let n = w.len();
-    c.iter_mut().for_each(|x| *x = T::zero());
-    let mut r0 = 0;
-    while r0 < n {
-        let r1 = (r0 + ROW_BLOCK).min(n);
-        let wb = &w[r0..r1];
-        for (j, cj) in c.iter_mut().enumerate().take(cols) {
-            *cj += dotc(&v[j * n + r0..j * n + r1], wb);
+    let sums = chunk_sum(n, cols, |a, b| {
+        let mut part = vec![T::zero(); cols];
+        let mut r0 = a;
+        while r0 < b {
+            let r1 = (r0 + ROW_BLOCK).min(b);
+            let wb = &w[r0..r1];
+            let mut j = 0;
+            while j + 4 <= cols {
+                let d = dotc4(
+                    [
+                        &v[j * n + r0..j * n + r1],
+                        &v[(j + 1) * n + r0..(j + 1) * n + r1],
+                        &v[(j + 2) * n + r0..(j + 2) * n + r1],
+                        &v[(j + 3) * n + r0..(j + 3) * n + r1],
+                    ],
+                    wb,
+                );
+                for (q, dq) in d.into_iter().enumerate() {
+                    part[j + q] += dq;
+                }
+                j += 4;
+            }
+            for (jj, cj) in part.iter_mut().enumerate().skip(j) {
+                *cj += dotc(&v[jj * n + r0..jj * n + r1], wb);
+            }
+            r0 = r1;
         }
-        r0 = r1;
-    }
+        part
+    });
+    c[..cols].copy_from_slice(&sums);
 }
 
-/// w -= sum_j c_j v_j over the first `cols` columns of `v`, blocked over rows.
-fn subtract<T: Scalar>(v: &[T], cols: usize, c: &[T], w: &mut [T]) {
+/// w -= sum_j c_j v_j over the columns `idx` of `v` (coefficients `c[j]`), in parallel over
+/// row chunks, blocked over rows; returns ||w||^2 after the update (fused, no extra pass).
+fn subtract_norm2<T: Scalar>(v: &[T], idx: &[usize], c: &[T], w: &mut [T]) -> f64 {
     let n = w.len();
-    let mut r0 = 0;
-    while r0 < n {
-        let r1 = (r0 + ROW_BLOCK).min(n);
-        let wb = &mut w[r0..r1];
-        for (j, &cj) in c.iter().enumerate().take(cols) {
-            sub_scaled(wb, cj, &v[j * n + r0..j * n + r1]);
+    chunk_apply(w, |a, wc| {
+        let mut s = 0.0;
+        let len = wc.len();
+        let mut r0 = 0;
+        while r0 < len {
+            let r1 = (r0 + ROW_BLOCK).min(len);
+            let wb = &mut wc[r0..r1];
+            for &j in idx {
+                sub_scaled(wb, c[j], &v[j * n + a + r0..j * n + a + r1]);
+            }
+            s += norm2_seq(wb);
+            r0 = r1;
         }
-        r0 = r1;
-    }
+        s
+    })
 }
 
 /// Orthogonalise `w` against the locked vectors and the first `cols` columns of the
@@ -399,7 +543,8 @@ fn subtract<T: Scalar>(v: &[T], cols: usize, c: &[T], w: &mut [T]) {
 /// Daniel, Gragg, Kaufman and Stewart, Math. Comp. 30, 772 (1976)); returns the projections
 /// on the columns of `v`. With `local = Some((p, j))` the projections on columns p and j (the
 /// Lanczos three-term part) are removed first, so that the full pass acts on a small
-/// remainder and rarely needs repeating. Each pass reads the basis once (blocked kernels).
+/// remainder and rarely needs repeating. Each pass reads the basis once (blocked kernels,
+/// parallel over row chunks), and the norms are fused into the subtractions.
 pub(super) fn orthogonalize<T: Scalar>(
     w: &mut [T],
     locked: &[&[T]],
@@ -407,32 +552,41 @@ pub(super) fn orthogonalize<T: Scalar>(
     cols: usize,
     local: Option<(usize, usize)>,
 ) -> Vec<T> {
-    let n = w.len();
     let mut h = vec![T::zero(); cols];
-    if let Some((p, j)) = local {
-        let idx: &[usize] = if p == j { &[j] } else { &[p, j] };
-        for &i in idx {
-            let col = &v[i * n..(i + 1) * n];
-            let c = dotc(col, w);
-            sub_scaled(w, c, col);
-            h[i] += c;
+    let mut before = match local {
+        Some((p, j)) => {
+            let idx: Vec<usize> = if p == j { vec![j] } else { vec![p, j] };
+            let mut c = vec![T::zero(); cols];
+            let n = w.len();
+            let sums = chunk_sum(n, idx.len(), |a, b| {
+                idx.iter()
+                    .map(|&i| dotc(&v[i * n + a..i * n + b], &w[a..b]))
+                    .collect()
+            });
+            for (&i, &ci) in idx.iter().zip(&sums) {
+                c[i] = ci;
+                h[i] += ci;
+            }
+            subtract_norm2(v, &idx, &c, w).sqrt()
         }
-    }
-    let mut before = norm(w);
+        None => norm(w),
+    };
+    let all: Vec<usize> = (0..cols).collect();
     let mut c = vec![T::zero(); cols];
     for _pass in 0..3 {
         for x in locked {
             let cx = dotc(x, w);
             sub_scaled(w, cx, x);
         }
-        if cols > 0 {
+        let after = if cols > 0 {
             project(v, cols, w, &mut c);
-            subtract(v, cols, &c, w);
             for (hi, ci) in h.iter_mut().zip(c.iter()) {
                 *hi += *ci;
             }
-        }
-        let after = norm(w);
+            subtract_norm2(v, &all, &c, w).sqrt()
+        } else {
+            norm(w)
+        };
         if after > std::f64::consts::FRAC_1_SQRT_2 * before {
             break;
         }

@@ -13,6 +13,9 @@
 //!   on: about (4/3) s^3 flops, one read of the trailing triangle per column.
 //! * [`banded`]: banded Hermitian storage, shifted LU with partial pivoting and Sylvester
 //!   inertia counts: O(n b^2) time, O(n b) memory.
+//! * [`ldl`]: the two-sided (partitioned) L D L^H of a shifted band matrix, both halves on two
+//!   threads meeting in a b x b separator: O(n b^2) time, n (b + 1) numbers, no pivoting
+//!   (used by the window solver when its growth is small).
 //! * [`window`]: the eigenvalues nearest a target or in an interval of a huge banded matrix,
 //!   by shift-invert Krylov-Schur Lanczos (the iteration itself in the private `lanczos`):
 //!   O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
@@ -29,6 +32,7 @@ pub mod banded;
 pub mod dd;
 pub mod dense;
 mod lanczos;
+pub mod ldl;
 pub mod refine;
 pub mod root;
 pub mod slicing;

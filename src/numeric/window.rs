@@ -3,8 +3,10 @@
 //!
 //! # Method
 //! Shift-invert Krylov–Schur (thick-restart) Lanczos with full reorthogonalisation:
-//! 1. factor H - sigma I = P^T L U once ([`BandedHermitian::lu`], partial pivoting), in real
-//!    arithmetic when H is real;
+//! 1. factor H - sigma I once, in real arithmetic when H is real: by the two-sided
+//!    L D L^H of [`super::ldl`] (top half downwards and bottom half upwards on two threads,
+//!    n (b + 1) numbers) when its growth is at most [`super::ldl::GROWTH_MAX`], else by
+//!    P^T L U with partial pivoting ([`BandedHermitian::lu`], n (3b + 1) numbers);
 //! 2. run Lanczos on the Hermitian operator (H - sigma I)^(-1), whose largest eigenvalues
 //!    theta = 1/(lambda - sigma) belong to the lambda nearest sigma; each step removes the
 //!    three-term part, then orthogonalises against the whole basis by classical Gram–Schmidt,
@@ -38,14 +40,16 @@
 //!
 //! # Complexity
 //! One factorisation O(n b^2), then per Lanczos step one O(n b) solve and O(n m) for the
-//! reorthogonalisation; in all O(n b^2 + (r + 1) n m^2) for r restarts, plus two O(n b^2)
+//! reorthogonalisation (both spread over two threads: the solve by its two halves, the
+//! Gram–Schmidt passes over row chunks); in all O(n b^2 + (r + 1) n m^2) for r restarts, plus two O(n b^2)
 //! inertia counts. The basis has m = k + max(k/2, 12) vectors for k wanted (a smaller basis
 //! than the usual 2k: shift-invert separates the wanted eigenvalues well, and each vector
 //! less saves n numbers and one pass over n numbers per step). For a real matrix everything
 //! is real (8 bytes a number). Memory, in numbers of the matrix's type: n (b + 1) for H (the
 //! caller's), n (3b + 1) for the LU factors (one buffer, also during the factorisation), n
 //! (m + 1) for the basis, which also holds the refinement block and becomes the returned
-//! eigenvectors (no copy), and three work vectors. Where the time goes (perf, 4N = 4e5
+//! eigenvectors (no copy), and three work vectors; with the L D L^H the factors take n (b + 1)
+//! numbers instead of n (3b + 1). Where the time goes (perf, 4N = 4e5
 //! Dirac matrix, b = 7, k = 20): the reorthogonalisation passes over the basis and the
 //! triangular solves, both bound by memory bandwidth; the kernels read each basis column
 //! once per pass in cache-sized row blocks.
@@ -59,12 +63,13 @@
 //! eigenvalue problems", SIAM J. Matrix Anal. Appl. 22, 602 (2000); T. Ericsson and A. Ruhe,
 //! "The spectral transformation Lanczos method", Math. Comp. 35, 1251 (1980).
 
-use super::banded::{BandedHermitian, BandedLu, Scalar};
+use super::banded::{BandedHermitian, Scalar};
 use super::dense::{eigh, Vectors};
 use super::lanczos::{
     breakdown, dotc, krylov_schur, norm, orthogonalize, project, sub_scaled, transform_columns,
     Krylov, SplitMix, TOL,
 };
+use super::ldl::ShiftInverse;
 use crate::error::{Error, Result};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -95,6 +100,21 @@ pub struct WindowPairs<T: Scalar> {
     pub residuals: Vec<f64>,
     /// The shift sigma actually factored.
     pub shift: f64,
+    /// What was done: the factorisation used, operator applications and restarts.
+    pub work: WindowWork,
+}
+
+/// The work of one window solve, for timing probes and reports.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct WindowWork {
+    /// Whether the last shift was factored by the two-sided L D L^H
+    /// ([`super::ldl::PartitionedLdl`]) rather than the pivoted LU.
+    pub ldl: bool,
+    /// Applications of (H - sigma I)^(-1) in the Lanczos iterations (one per step), over all
+    /// shifts and locking rounds; the refinement adds one per returned pair.
+    pub lanczos_steps: usize,
+    /// Krylov–Schur restarts, over all shifts and locking rounds.
+    pub restarts: usize,
 }
 
 /// The result of [`nearest_pairs`]: real pairs for a real matrix, complex ones otherwise.
@@ -120,6 +140,14 @@ impl WindowSolution {
         match self {
             WindowSolution::Real(p) => &p.residuals,
             WindowSolution::Complex(p) => &p.residuals,
+        }
+    }
+
+    /// The work done (factorisation, Lanczos steps, restarts).
+    pub fn work(&self) -> WindowWork {
+        match self {
+            WindowSolution::Real(p) => p.work,
+            WindowSolution::Complex(p) => p.work,
         }
     }
 
@@ -233,9 +261,11 @@ fn nearest_t<T: Scalar>(
     let mut sigma = target;
     let mut extra = 0;
     let mut offsets = SHIFT_OFFSETS.iter();
+    let mut work = WindowWork::default();
     loop {
         let (lu, s) = factor_near::<T>(h, sigma, norm)?;
-        match search(h, &lu, target, s, count, extra, norm)? {
+        work.ldl = matches!(lu, ShiftInverse::Ldl(_));
+        match search(h, (&lu, s), target, count, extra, norm, &mut work)? {
             Search::Done(w) => return Ok(w),
             Search::ShiftTooClose { radius } => {
                 // an eigenvalue sits on the shift: (H - sigma)^(-1) is so ill-conditioned that
@@ -348,11 +378,11 @@ fn factor_near<T: Scalar>(
     h: &BandedHermitian,
     target: f64,
     norm: f64,
-) -> Result<(BandedLu<T>, f64)> {
+) -> Result<(ShiftInverse<T>, f64)> {
     let mut last = None;
     for attempt in 0..4 {
         let sigma = target + (attempt as f64) * 1e-9 * norm;
-        match BandedLu::<T>::factor_pub(h, sigma) {
+        match ShiftInverse::<T>::factor(h, sigma) {
             Ok(lu) => return Ok((lu, sigma)),
             Err(e) => last = Some(e),
         }
@@ -379,12 +409,12 @@ fn col<T: Scalar>(m: &DMatrix<T>, c: usize) -> &[T] {
 
 fn search<T: Scalar>(
     h: &BandedHermitian,
-    lu: &BandedLu<T>,
+    (lu, sigma): (&ShiftInverse<T>, f64),
     target: f64,
-    sigma: f64,
     count: usize,
     extra: usize,
     norm: f64,
+    work: &mut WindowWork,
 ) -> Result<Search<T>> {
     let n = h.size();
     let mut rng = SplitMix(0x1a2b_3c4d_5e6f_7081);
@@ -398,7 +428,16 @@ fn search<T: Scalar>(
             break;
         }
         let (basis, k) = match krylov_schur(lu, n, want.min(room), &locked, &mut rng)? {
-            Krylov::Done { basis, count } => (basis, count),
+            Krylov::Done {
+                basis,
+                count,
+                steps,
+                restarts,
+            } => {
+                work.lanczos_steps += steps;
+                work.restarts += restarts;
+                (basis, count)
+            }
             Krylov::ShiftTooClose { radius } => return Ok(Search::ShiftTooClose { radius }),
         };
         let (block, values, residuals) = refine(h, lu, basis, k, &locked)?;
@@ -447,6 +486,7 @@ fn search<T: Scalar>(
     found.sort_by(|a, b| a.value.total_cmp(&b.value));
     let vectors = gather(blocks, &found);
     Ok(Search::Done(WindowPairs {
+        work: *work,
         values: found.iter().map(|f| f.value).collect(),
         residuals: found.iter().map(|f| f.residual).collect(),
         vectors,
@@ -526,7 +566,7 @@ fn missing_count(h: &BandedHermitian, found: &[Found], target: f64, norm: f64) -
 /// kept if the refined block has the larger worst residual; otherwise it works in place.
 fn refine<T: Scalar>(
     h: &BandedHermitian,
-    lu: &BandedLu<T>,
+    lu: &ShiftInverse<T>,
     mut basis: DMatrix<T>,
     k: usize,
     locked: &[&[T]],
