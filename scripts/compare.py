@@ -307,7 +307,7 @@ def print_streaming_fan(rows):
 
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
-    ap.add_argument("--probe", required=True,
+    ap.add_argument("--probe",
                     help="release executable of the bench target compare_probe (compare.sh finds it)")
     ap.add_argument("--ladderfan", default="target/release/ladderfan",
                     help="binary whose `export` is checked against the numpy matrix")
@@ -333,6 +333,9 @@ def main():
     args = ap.parse_args()
     if args.worker:
         return worker(args)
+    if not args.probe:
+        # the workers re-run this file without it; the comparison itself needs it
+        ap.error("the following arguments are required: --probe")
 
     import numpy as np
 
