@@ -5,7 +5,7 @@
 //! Parameters are invented unless a source is named.
 
 mod common;
-use common::cli::{run, scratch};
+use common::cli::{run, scratch, with_flags, ORBITS_PARABOLIC};
 use ladderfan::plot::{
     geometry, line_plot, render, Colouring, Curve, Format, LegendEntry, LinePlot, Rgb, Scale,
 };
@@ -259,19 +259,7 @@ fn demo_and_orbits_figures_in_three_formats() {
     every_csv_has_a_figure(&d);
     let d = figures_of(
         "fig-orbits",
-        &[
-            "orbits",
-            "--builtin",
-            "schrodinger",
-            "--set",
-            "mass_ratio=0.1",
-            "--density",
-            "1e12",
-            "--field",
-            "2",
-            "--levels",
-            "3",
-        ],
+        &with_flags(&ORBITS_PARABOLIC, &["--field", "2", "--levels", "3"]),
     );
     check_figure(&d, "orbits_fan", &["1/B [1/T]", "Landau index n"]);
     check_figure(&d, "orbits_levels", &["Landau index n"]);

@@ -252,19 +252,9 @@ fn progress_never_reaches_a_pipe() {
     // stderr is a pipe here, as in scripts and CI: the long commands (a kz-integrated Fermi
     // sweep of several seconds, past the bar's 0.8 s delay; an optics fan; a convergence
     // study; a fan; the semiclassical orbits) write no progress, with or without --json.
+    let orbits = with_flags(&ORBITS_PARABOLIC, &["--field", "2", "--json"]);
     let runs: [&[&str]; 6] = [
-        &[
-            "orbits",
-            "--builtin",
-            "schrodinger",
-            "--set",
-            "mass_ratio=0.1",
-            "--density",
-            "1e12",
-            "--field",
-            "2",
-            "--json",
-        ],
+        &orbits,
         &[
             "dos",
             "--builtin",
