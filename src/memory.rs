@@ -272,11 +272,21 @@ pub enum Footprint {
         /// Fixed bytes of buffers, independent of P.
         buffer_bytes: u64,
     },
-    /// One solve with eigenvectors and the velocity matrix elements between its levels
-    /// (`optics` at one field), for `points` fields solved together.
+    /// Solves with eigenvectors and the velocity matrix elements between their levels
+    /// (`optics`): `in_flight` fields solved at once (each spectrum is dropped as soon as its
+    /// transitions are found), the transitions of `held_points` fields kept.
     Optics {
-        /// Number of fields.
+        /// Number of fields of the run.
         points: u64,
+        /// Fields whose spectrum (with eigenvectors) is alive at once: at most the worker
+        /// threads.
+        in_flight: u64,
+        /// Fields whose transitions are held: every field when the whole record is kept
+        /// (`--json`, the Python module), two batches of a streamed run.
+        held_points: u64,
+        /// Transitions of one held field, at most (0 before any was counted; `optics` counts
+        /// those at its probe field and scales them to the lowest field of the sweep).
+        transitions: u64,
     },
     /// A MatrixMarket text of at most `entries` stored entries of at most `line_bytes` bytes,
     /// parsed back once to check it (`export`): no solve.
@@ -337,6 +347,11 @@ pub const FILES_BYTES_PER_LEVEL: u64 = 160;
 /// of levels by state and the transition records.
 const OPTICS_BYTES_PER_LEVEL: u64 = 380;
 
+/// Bytes of one transition a field of `optics` keeps after its spectrum is dropped: the
+/// library's transition (its two level keys and labels) and its record (three strings), both
+/// alive while the record is built, with the allocator's slack.
+pub const OPTICS_TRANSITION_BYTES: u64 = 640;
+
 /// Bytes per stored entry of an exported matrix besides its text line: the parsed entry
 /// (i, j, z: 32 bytes) and the parser's temporaries (measured: about 60 in all).
 const EXPORT_PARSED_BYTES: u64 = 60;
@@ -388,14 +403,24 @@ pub fn estimate(shape: &SolveShape, f: &Footprint, threads: u64) -> u64 {
                 .saturating_add(*buffer_bytes)
                 .saturating_add(shape.sweep_transient_bytes(held, threads))
         }
-        Footprint::Optics { points } => {
-            let p = (*points).max(1);
-            let per_point = shape
+        Footprint::Optics {
+            points,
+            in_flight,
+            held_points,
+            transitions,
+        } => {
+            let live = (*in_flight).min(threads).min(*points).max(1);
+            let per_solve = shape
                 .kept_bytes(true)
                 .saturating_add(shape.levels.saturating_mul(OPTICS_BYTES_PER_LEVEL));
+            let held = (*held_points)
+                .min(*points)
+                .saturating_mul(*transitions)
+                .saturating_mul(OPTICS_TRANSITION_BYTES);
             // a probe solve at the top field comes first and is dropped before the sweep
-            p.saturating_mul(per_point)
-                .saturating_add(shape.sweep_transient_bytes(p, threads))
+            live.saturating_mul(per_solve)
+                .saturating_add(shape.sweep_transient_bytes(live, threads))
+                .saturating_add(held)
         }
         Footprint::Export {
             entries,

@@ -159,23 +159,72 @@ pub fn stream(
     tick: &(dyn Fn() + Sync),
     sink: &mut (dyn FnMut(usize, Spectrum) -> Result<()> + Send),
 ) -> Result<StreamStats> {
+    let compute = |i: usize| {
+        let r = Spectrum::compute(model, points[i], settings);
+        tick();
+        r
+    };
+    stream_map(points.len(), batch, reuse, &compute, sink)
+}
+
+/// The engine of [`stream`] for any per-point result: compute `compute(i)` for every
+/// i < `count` in parallel and hand each result to `sink` in index order as soon as it and
+/// every one before it are done, holding at most `2 batch` results (0: [`default_batch`]): a
+/// batch is computed while the one before it is handed on. A result offered in `reuse` (its
+/// index) is not computed again. Used where a point's spectrum is reduced to something smaller
+/// before it is handed on (the transitions of `optics`:
+/// [`crate::observables::optics::transition_stream`]), so that at most one spectrum per
+/// worker thread is alive.
+///
+/// # Errors
+/// The first error in index order, of `compute` or of `sink`; results after it are not handed
+/// on. A `reuse` index at or beyond `count` is [`crate::Error::BadNumber`].
+///
+/// # Complexity
+/// The work of `count` calls of `compute`, in parallel; the handing on overlaps the next batch.
+///
+/// # Examples
+/// ```
+/// use ladderfan::sweep;
+/// let mut seen = Vec::new();
+/// let stats = sweep::stream_map(10, 3, None, &|i| Ok(i * i), &mut |i, sq| {
+///     seen.push((i, sq));
+///     Ok(())
+/// })?;
+/// assert_eq!(seen, (0..10).map(|i| (i, i * i)).collect::<Vec<_>>());
+/// assert!(stats.max_held <= 6);
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn stream_map<T: Send>(
+    count: usize,
+    batch: usize,
+    reuse: Option<(usize, T)>,
+    compute: &(dyn Fn(usize) -> Result<T> + Sync),
+    sink: &mut (dyn FnMut(usize, T) -> Result<()> + Send),
+) -> Result<StreamStats> {
     let batch = if batch == 0 { default_batch() } else { batch };
+    if let Some((i, _)) = &reuse {
+        if *i >= count {
+            // a reused result whose index is not a point is an error of the caller
+            return Err(crate::Error::BadNumber {
+                name: "reused point index".into(),
+                value: *i as f64,
+                fix: format!("give an index below the {count} points"),
+            });
+        }
+    }
     let mut reuse = reuse;
     let mut stats = StreamStats {
         batch,
         max_held: 0,
         points: 0,
     };
-    let solve = |range: std::ops::Range<usize>, given: Option<(usize, Spectrum)>| {
+    let solve = |range: std::ops::Range<usize>, given: Option<(usize, T)>| {
         let skip = given.as_ref().map(|g| g.0);
-        let mut out: Vec<(usize, Result<Spectrum>)> = range
+        let mut out: Vec<(usize, Result<T>)> = range
             .into_par_iter()
             .filter(|&i| Some(i) != skip)
-            .map(|i| {
-                let r = Spectrum::compute(model, points[i], settings);
-                tick();
-                (i, r)
-            })
+            .map(|i| (i, compute(i)))
             .collect();
         if let Some((i, s)) = given {
             let at = out.partition_point(|(j, _)| *j < i);
@@ -183,10 +232,10 @@ pub fn stream(
         }
         out
     };
-    let mut pending: Vec<(usize, Result<Spectrum>)> = Vec::new();
+    let mut pending: Vec<(usize, Result<T>)> = Vec::new();
     let mut start = 0;
     loop {
-        let next = start..(start + batch).min(points.len());
+        let next = start..(start + batch).min(count);
         stats.max_held = stats.max_held.max(pending.len() + next.len());
         let given = match &reuse {
             Some((i, _)) if next.contains(i) => reuse.take(),
@@ -204,14 +253,6 @@ pub fn stream(
         );
         stats.points += fed?;
         if solved.is_empty() {
-            // a reused spectrum whose index is not a point is an error of the caller
-            if let Some((i, _)) = reuse {
-                return Err(crate::Error::BadNumber {
-                    name: "reused point index".into(),
-                    value: i as f64,
-                    fix: format!("give an index below the {} points", points.len()),
-                });
-            }
             return Ok(stats);
         }
         pending = solved;

@@ -278,24 +278,7 @@ fn sweep_refused_when_all_points_together_exceed_the_limit() {
         "2",
     ]);
     assert!(two < 4096, "two points: {two} MiB");
-    // the optics and dos sweeps are guarded the same way
-    let o = run(
-        &[
-            "optics",
-            "--builtin",
-            "dirac2d",
-            "--b-max",
-            "5",
-            "--cutoff",
-            "100000",
-            "--points",
-            "400",
-            "--density-cm2",
-            "1e12",
-        ],
-        Some(CAP_BYTES),
-    );
-    assert_refused(&o, &["optics", "400 points"]);
+    // the dos sweep is guarded the same way
     let o = run(
         &[
             "dos",
@@ -313,6 +296,55 @@ fn sweep_refused_when_all_points_together_exceed_the_limit() {
         Some(CAP_BYTES),
     );
     assert_refused(&o, &["dos --b-max", "400 points"]);
+}
+
+// `optics --b-max` solves one field with eigenvectors per thread at a time: what grows with the
+// fields is only the transitions kept, all of them with --json, two batches when streamed. The
+// transitions per field are counted at the probe (here 37 at 5 T, 30 K) and scaled to the
+// lowest field (x10).
+#[test]
+fn transition_fan_refused_only_when_its_kept_transitions_exceed_the_limit() {
+    let args = |points: &'static str, json: bool| {
+        let mut a = vec![
+            "optics",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "5",
+            "--cutoff",
+            "200",
+            "--density-cm2",
+            "1e12",
+            "--temperature",
+            "30",
+            "--memory-limit-mib",
+            "40",
+            "--points",
+            points,
+        ];
+        if json {
+            a.push("--json");
+        }
+        a
+    };
+    let o = run(&args("2000", true), Some(CAP_BYTES));
+    assert_refused(
+        &o,
+        &[
+            "optics",
+            "2000 fields",
+            "the transitions of 2000 kept",
+            "--points",
+        ],
+    );
+    // streamed, the same limit holds the sweep (run here with fewer fields, to stay quick)
+    let o = run(&args("40", false), Some(CAP_BYTES));
+    assert_eq!(o.code, Some(0), "{}", o.stderr);
+    assert!(
+        o.stdout.contains("transition fan: 40 fields"),
+        "{}",
+        o.stdout
+    );
 }
 
 /// Estimate and measured peak of one command line: the estimate must not be below the peak and
@@ -359,5 +391,28 @@ fn estimate_is_not_below_the_peak_of_a_sweep() {
             "16",
         ],
         4,
+    );
+}
+
+#[test]
+fn estimate_is_not_below_the_peak_of_a_streamed_transition_fan() {
+    // `optics --b-max` solves one field with eigenvectors per thread at a time and drops it
+    // once its transitions are found (the probe's eigenvectors are dropped before the sweep):
+    // the estimate counts the fields in flight, not every field
+    assert_estimate_tracks_peak(
+        &[
+            "optics",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "8",
+            "--cutoff",
+            "20000",
+            "--density-cm2",
+            "1e12",
+            "--points",
+            "24",
+        ],
+        3,
     );
 }

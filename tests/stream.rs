@@ -342,3 +342,85 @@ fn the_streamed_files_equal_the_files_of_the_whole_record() {
         let _ = std::fs::remove_dir_all(&b);
     }
 }
+
+#[test]
+fn the_streamed_transition_fan_equals_the_whole_record() {
+    // `optics --b-max` without --json streams its transitions through the spill (relative
+    // strengths written absolute and divided by the run's strongest at the end); with --json
+    // the whole record is kept and written: the table and figure must be the same bytes, the
+    // sidecar the same but for the command line; at T > 0 (many transitions per field) and in
+    // converted units
+    for extra in [
+        vec!["--points", "24", "--cutoff", "120"],
+        vec![
+            "--points",
+            "17",
+            "--cutoff",
+            "90",
+            "--temperature",
+            "40",
+            "--energy-unit",
+            "invcm",
+        ],
+    ] {
+        let (a, b) = (scratch("optics-a"), scratch("optics-b"));
+        let mut args = vec![
+            "optics",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "9",
+            "--density-cm2",
+            "2e12",
+        ];
+        args.extend(&extra);
+        let aa = a.to_string_lossy().into_owned();
+        let bb = b.to_string_lossy().into_owned();
+        let mut with_json = args.clone();
+        with_json.extend(["--json", "--out", &aa]);
+        let mut streamed = args.clone();
+        streamed.extend(["--out", &bb]);
+        let record: serde_json::Value =
+            serde_json::from_str(&ladderfan(&with_json)).unwrap_or_else(|e| panic!("{e}"));
+        let text = ladderfan(&streamed);
+        // the summary counts every transition of the record
+        let count: usize = record["points"]
+            .as_array()
+            .map(|p| {
+                p.iter()
+                    .map(|q| q["transitions"].as_array().map_or(0, Vec::len))
+                    .sum()
+            })
+            .unwrap_or(0);
+        assert!(count > 0);
+        assert!(
+            text.contains(&format!(", {count} allowed transitions below")),
+            "{text}"
+        );
+        assert_eq!(files_of(&a), files_of(&b), "{extra:?}");
+        assert_eq!(files_of(&b).len(), 3, "{:?}", files_of(&b));
+        for name in files_of(&a) {
+            let (x, y) = (a.join(&name), b.join(&name));
+            if name.ends_with(".meta.json") {
+                assert_eq!(sidecar_without_command(&x), sidecar_without_command(&y));
+            } else {
+                let (x, y) = (
+                    std::fs::read(x).unwrap_or_default(),
+                    std::fs::read(y).unwrap_or_default(),
+                );
+                assert!(!x.is_empty());
+                assert!(x == y, "{name} differs ({extra:?})");
+            }
+        }
+        // the strongest transition of the run has relative strength 1 in the table
+        let table = std::fs::read_to_string(b.join("transitions.csv")).unwrap_or_default();
+        let top = table
+            .lines()
+            .skip(1)
+            .filter_map(|l| l.split(',').nth(16).and_then(|c| c.parse::<f64>().ok()))
+            .fold(0.0, f64::max);
+        assert!((top - 1.0).abs() < 1e-15, "{top}");
+        let _ = std::fs::remove_dir_all(&a);
+        let _ = std::fs::remove_dir_all(&b);
+    }
+}

@@ -9,11 +9,10 @@ use ladderfan::observables::dos::{
     WidthScaling,
 };
 use ladderfan::observables::filling::{fermi_level, FermiSettings, Neutrality};
-use ladderfan::observables::optics::{transition_sweep, OpticsSettings, TransitionPoint};
+use ladderfan::observables::optics::{transition_sweep, OpticsSettings};
 use ladderfan::problem::Problem;
 use ladderfan::records::{
-    transition_record, DosRecord, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord,
-    UnitsRecord, VerifyJson,
+    DosRecord, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord, VerifyJson,
 };
 use ladderfan::units::Units;
 use ladderfan::verify::{self, EnergyScale, ExpectedList, LevelFormula, VerifySettings};
@@ -372,28 +371,6 @@ fn optics_json(
         temperature_k: fs.temperature_k,
         max_energy,
         convention: CONVENTION,
-        points: point_records(&fan, u),
+        points: OpticsPointRecord::fan(&fan, u),
     })
-}
-
-/// The records of a transition fan, strengths relative to the strongest transition of the
-/// whole fan (as `ladderfan optics`).
-fn point_records(fan: &[TransitionPoint], u: Units) -> Vec<OpticsPointRecord> {
-    let max = fan
-        .iter()
-        .flat_map(|p| p.transitions.iter())
-        .map(|t| t.strength_x + t.strength_y)
-        .fold(0.0, f64::max)
-        .max(f64::MIN_POSITIVE);
-    fan.iter()
-        .map(|p| OpticsPointRecord {
-            field: p.field,
-            fermi: FermiRecord::new(u, &p.fermi),
-            transitions: p
-                .transitions
-                .iter()
-                .map(|t| transition_record(t, max))
-                .collect(),
-        })
-        .collect()
 }

@@ -595,7 +595,22 @@ pub fn check_footprint(
             format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
             memory::FIX_SOLVE,
         ),
-        Footprint::Sweep { points, .. } | Footprint::Optics { points }
+        Footprint::Optics {
+            points,
+            in_flight,
+            held_points,
+            ..
+        } if *points > 1 && !solve_alone => (
+            format!(
+                "{path}: {points} fields at cutoff {cutoff} ({} levels each with eigenvectors, {} \
+                 solved at once, the transitions of {} kept)",
+                shape.levels,
+                (*in_flight).min(*points),
+                (*held_points).min(*points)
+            ),
+            memory::FIX_SWEEP,
+        ),
+        Footprint::Sweep { points, .. }
             if *points > 1 && !solve_alone =>
         {
             (

@@ -159,7 +159,19 @@ impl SpilledRows {
     /// (other groups dropped), each group's rows in the order they were pushed, to the
     /// table's temporary; the spill is removed.
     pub fn finish(self, header: &str, order: &[usize]) -> CliResult<StagedFile> {
-        self.finish_in_passes(header, order, REGROUP_BYTES)
+        self.finish_in_passes(header, order, REGROUP_BYTES, None)
+    }
+
+    /// [`SpilledRows::finish`], each row (one line, without its newline) written as
+    /// `rewrite` returns it: for a cell known only when the sweep is done (the relative
+    /// strength of `optics`, whose unit is the strongest transition of the run).
+    pub fn finish_rewriting(
+        self,
+        header: &str,
+        order: &[usize],
+        rewrite: &dyn Fn(&str) -> String,
+    ) -> CliResult<StagedFile> {
+        self.finish_in_passes(header, order, REGROUP_BYTES, Some(rewrite))
     }
 
     /// [`SpilledRows::finish`], reading at most `budget` bytes of rows per pass (one group
@@ -169,6 +181,7 @@ impl SpilledRows {
         header: &str,
         order: &[usize],
         budget: u64,
+        rewrite: Option<&dyn Fn(&str) -> String>,
     ) -> CliResult<StagedFile> {
         let target = self.dir.join(&self.name);
         let err = |e: std::io::Error| out_error(&target, "write", &e);
@@ -207,7 +220,15 @@ impl SpilledRows {
                 }
                 self.read_spill(&place, &mut buffers).map_err(err)?;
                 for b in &buffers {
-                    w.write_all(b).map_err(err)?;
+                    match rewrite {
+                        None => w.write_all(b).map_err(err)?,
+                        Some(f) => {
+                            for line in String::from_utf8_lossy(b).lines() {
+                                w.write_all(f(line).as_bytes()).map_err(err)?;
+                                w.write_all(b"\n").map_err(err)?;
+                            }
+                        }
+                    }
                 }
                 for &g in &order[start..end] {
                     if let Some(p) = place.get_mut(g) {
@@ -569,7 +590,7 @@ mod tests {
                     .unwrap_or_else(|e| panic!("{}", e.message()));
             }
             let staged = rows
-                .finish_in_passes("h\n", &[2, 0], budget)
+                .finish_in_passes("h\n", &[2, 0], budget, None)
                 .unwrap_or_else(|e| panic!("{}", e.message()));
             // only the table's temporary is there, the spill is gone
             let hidden: Vec<String> = names(&d)
@@ -590,6 +611,37 @@ mod tests {
                 "budget {budget}"
             );
             assert_eq!(names(&d), vec!["t.csv"]);
+        }
+        let _ = std::fs::remove_dir_all(&d);
+    }
+
+    #[test]
+    fn spilled_rows_are_rewritten_line_by_line_over_several_passes() {
+        // the rewrite sees each row without its newline, in the table's order, in every pass
+        let d = scratch("spill-rewrite");
+        for budget in [1, 7, 1 << 20] {
+            let mut rows =
+                SpilledRows::create(&d, "t.csv").unwrap_or_else(|e| panic!("{}", e.message()));
+            for (g, text) in [(1, "b1,2\n"), (0, "a1,4\n"), (1, "b2,8\n")] {
+                rows.push(g, text)
+                    .unwrap_or_else(|e| panic!("{}", e.message()));
+            }
+            let halve = |line: &str| -> String {
+                let (name, v) = line.split_once(',').unwrap_or((line, "nan"));
+                format!("{name},{}", v.parse::<f64>().unwrap_or(f64::NAN) / 2.0)
+            };
+            let staged = rows
+                .finish_in_passes("h\n", &[0, 1], budget, Some(&halve))
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            let mut f = OutputFiles::default();
+            f.files.push(("t.csv".into(), Content::Staged(staged)));
+            f.write_all(&d)
+                .unwrap_or_else(|e| panic!("{}", e.message()));
+            assert_eq!(
+                std::fs::read_to_string(d.join("t.csv")).ok().as_deref(),
+                Some("h\na1,2\nb1,1\nb2,4\n"),
+                "budget {budget}"
+            );
         }
         let _ = std::fs::remove_dir_all(&d);
     }

@@ -529,20 +529,68 @@ pub fn transition_sweep_with(
     tick: &(dyn Fn() + Sync),
 ) -> Result<Vec<TransitionPoint>> {
     use rayon::prelude::*;
-    let mut s = settings.clone();
-    s.vectors = Vectors::Compute;
+    let s = with_vectors(settings);
     points
         .par_iter()
         .map(|&p| {
-            let spec = Spectrum::compute(model, p, &s)?;
-            let sol = fermi_level(model, &spec, fermi)?;
-            let tr = transitions(model, &spec, &sol.occupation, optics)?;
+            let r = transition_point(model, p, &s, fermi, optics);
             tick();
-            Ok(TransitionPoint {
-                field: p.field,
-                fermi: sol,
-                transitions: tr,
-            })
+            r
         })
         .collect()
+}
+
+/// [`transition_sweep_with`] streamed: each point's [`TransitionPoint`] is handed to `sink`
+/// in point order as soon as it and every point before it are done
+/// ([`crate::sweep::stream_map`], batches of [`crate::sweep::default_batch`] points). A point's
+/// spectrum and eigenvectors are dropped as soon as its transitions are found, so at most
+/// one spectrum per worker thread and two batches of points' transitions are alive, whatever the
+/// number of points. The sink sees exactly the points [`transition_sweep`] returns.
+///
+/// # Errors
+/// The first error in point order, of a solve, a Fermi level or `sink`.
+///
+/// # Complexity
+/// One solve with eigenvectors and one velocity-matrix pass per point, in parallel.
+pub fn transition_stream(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    fermi: &FermiSettings,
+    optics: &OpticsSettings,
+    tick: &(dyn Fn() + Sync),
+    sink: &mut (dyn FnMut(usize, TransitionPoint) -> Result<()> + Send),
+) -> Result<crate::sweep::StreamStats> {
+    let s = with_vectors(settings);
+    let compute = |i: usize| {
+        let r = transition_point(model, points[i], &s, fermi, optics);
+        tick();
+        r
+    };
+    crate::sweep::stream_map(points.len(), 0, None, &compute, sink)
+}
+
+/// `settings` with eigenvectors on (the velocity matrix elements need them).
+fn with_vectors(settings: &Settings) -> Settings {
+    let mut s = settings.clone();
+    s.vectors = Vectors::Compute;
+    s
+}
+
+/// One point of the transition fan: solve, Fermi level, transitions; the spectrum is dropped.
+fn transition_point(
+    model: &Model,
+    p: FieldPoint,
+    s: &Settings,
+    fermi: &FermiSettings,
+    optics: &OpticsSettings,
+) -> Result<TransitionPoint> {
+    let spec = Spectrum::compute(model, p, s)?;
+    let sol = fermi_level(model, &spec, fermi)?;
+    let tr = transitions(model, &spec, &sol.occupation, optics)?;
+    Ok(TransitionPoint {
+        field: p.field,
+        fermi: sol,
+        transitions: tr,
+    })
 }

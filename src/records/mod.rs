@@ -24,8 +24,8 @@ pub use commands::{
     Swept, VerifyJson,
 };
 pub use observables::{
-    transition_record, transition_text, DosRecord, FermiRecord, OpticsPointRecord, OpticsRecord,
-    TransitionRecord, VolumeFermiRecord, VolumeFermiSweepRecord, VolumeRecord,
+    strongest, transition_record, transition_text, DosRecord, FermiRecord, OpticsPointRecord,
+    OpticsRecord, TransitionRecord, VolumeFermiRecord, VolumeFermiSweepRecord, VolumeRecord,
 };
 
 /// The model block every result starts with.

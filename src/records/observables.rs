@@ -4,7 +4,7 @@
 use super::{ModelRecord, UnitsRecord};
 use crate::observables::dos::{per_cm2, LineShape};
 use crate::observables::filling::FermiSolution;
-use crate::observables::optics::{Polarisation, Transition};
+use crate::observables::optics::{Polarisation, Transition, TransitionPoint};
 use crate::units::{OutputUnits, Units};
 use serde::Serialize;
 
@@ -138,6 +138,52 @@ pub struct OpticsPointRecord {
     pub fermi: FermiRecord,
     /// Allowed transitions, ascending in energy.
     pub transitions: Vec<TransitionRecord>,
+}
+
+impl OpticsPointRecord {
+    /// The record of the point `p` in the model's units `u`, strengths relative to `max`
+    /// (the largest strength_x + strength_y of the run, [`transition_record`]).
+    pub fn new(p: &TransitionPoint, u: Units, max: f64) -> Self {
+        OpticsPointRecord {
+            field: p.field,
+            fermi: FermiRecord::new(u, &p.fermi),
+            transitions: p
+                .transitions
+                .iter()
+                .map(|t| transition_record(t, max))
+                .collect(),
+        }
+    }
+
+    /// The records of a transition fan (or of one field), strengths relative to the
+    /// strongest transition of the whole fan: [`strongest`] of all its points.
+    pub fn fan(points: &[TransitionPoint], u: Units) -> Vec<Self> {
+        let max = strongest(points.iter().flat_map(|p| p.transitions.iter()));
+        points.iter().map(|p| Self::new(p, u, max)).collect()
+    }
+
+    /// Transition and level energies times `energy_factor`, the Fermi record by
+    /// [`FermiRecord::scale`], the field times `field_factor`; strengths unchanged (the output
+    /// edge: [`OpticsRecord::in_units`]).
+    pub fn scale(&mut self, energy_factor: f64, field_factor: f64) {
+        self.field *= field_factor;
+        self.fermi.scale(energy_factor, field_factor);
+        for t in &mut self.transitions {
+            t.energy *= energy_factor;
+            t.from_energy *= energy_factor;
+            t.to_energy *= energy_factor;
+        }
+    }
+}
+
+/// The unit of [`TransitionRecord::relative_strength`]: the largest strength_x + strength_y of
+/// `transitions` (at least the smallest positive f64, so that a run without any transition
+/// divides by a positive number).
+pub fn strongest<'a>(transitions: impl Iterator<Item = &'a Transition>) -> f64 {
+    transitions
+        .map(|t| t.strength_x + t.strength_y)
+        .fold(0.0, f64::max)
+        .max(f64::MIN_POSITIVE)
 }
 
 /// `LL(-2) -> LL(+3)`: initial and final Landau level by their labels.
@@ -314,13 +360,7 @@ impl OpticsRecord {
         self.reference_energy *= e;
         self.max_energy *= e;
         for p in &mut self.points {
-            p.field *= f;
-            p.fermi.scale(e, f);
-            for t in &mut p.transitions {
-                t.energy *= e;
-                t.from_energy *= e;
-                t.to_energy *= e;
-            }
+            p.scale(e, f);
         }
         self
     }

@@ -2,24 +2,26 @@
 //! against the field (the transition-energy fan) with `--b-max`.
 
 use super::common::{
-    self, bad_flag, csv_file, csv_meta, emit, emit_json, fmt_num, load_model, CliResult, CsvFile,
+    self, bad_flag, csv_meta, emit, emit_json, fmt_num, load_model, CliResult, CsvFile,
     LoadedModel, ModelArgs, OutputArgs, OutputFiles, SolveArgs,
 };
 use super::dos::FermiArgs;
 use super::progress::Progress;
 use clap::Args;
+use ladderfan::observables::filling::{fermi_level, FermiSettings};
 use ladderfan::observables::optics::{
-    transition_sweep_with, OpticsSettings, Polarisation, TransitionPoint,
+    transition_sweep_with, transitions, OpticsSettings, Polarisation,
 };
 use ladderfan::records::meta::Column;
-use ladderfan::records::{
-    transition_record, FermiRecord, ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord,
-};
+use ladderfan::records::{ModelRecord, OpticsPointRecord, OpticsRecord, UnitsRecord};
 use ladderfan::{FieldPoint, Settings, Spectrum};
 
 mod plot;
-use plot::{fan_plot, stick_plot};
+mod stream;
+mod table;
+use plot::{fan_plot, stick_plot, FanOutline};
 use std::collections::BTreeMap;
+use table::{point_rows, to_csv, transition_columns};
 
 /// Flags of `ladderfan optics`.
 #[derive(Debug, Clone, Args)]
@@ -93,52 +95,77 @@ fn fields(
     Ok(fields)
 }
 
-/// The records of every field, strengths relative to the strongest transition of the run.
-fn point_records(fan: &[TransitionPoint], u: ladderfan::units::Units) -> Vec<OpticsPointRecord> {
-    let max = fan
-        .iter()
-        .flat_map(|p| p.transitions.iter())
-        .map(|t| t.strength_x + t.strength_y)
-        .fold(0.0, f64::max)
-        .max(f64::MIN_POSITIVE);
-    fan.iter()
-        .map(|p| OpticsPointRecord {
-            field: p.field,
-            fermi: FermiRecord::new(u, &p.fermi),
-            transitions: p
-                .transitions
-                .iter()
-                .map(|t| transition_record(t, max))
-                .collect(),
-        })
-        .collect()
-}
-
-/// The one set-up at the highest field `top`: it sizes the memory check of the whole run
-/// (`points` fields, eigenvectors and velocity elements kept) and its solve, the probe,
-/// gives the typical Landau spacing that sets the default width and window.
-fn probe(
+/// The one set-up at the highest field `top` and its solve with eigenvectors, the probe: the
+/// set-up sizes the memory check of the whole run (`points` fields, one solve with
+/// eigenvectors and velocity elements per worker thread at a time; the transitions the run
+/// holds are checked once the probe has counted them, [`check_held`]); the probe's typical
+/// Landau spacing sets the default width and window.
+fn probe<'m>(
     a: &OpticsArgs,
-    lm: &LoadedModel,
+    lm: &'m LoadedModel,
     top: FieldPoint,
     points: usize,
     settings: &Settings,
-) -> CliResult<Spectrum> {
-    // the one set-up at the highest field: it sizes the memory check of the whole run and its
-    // solve (the typical Landau spacing there) sets the default width and window
-    let probe = common::set_up(lm, a.solve.trunc.cutoff, top, settings)?;
-    // eigenvectors and velocity elements of every field are kept (src/memory.rs)
+) -> CliResult<(ladderfan::problem::Problem<'m>, Spectrum)> {
+    let mut settings = settings.clone();
+    settings.vectors = ladderfan::Vectors::Compute;
+    let probe = common::set_up(lm, a.solve.trunc.cutoff, top, &settings)?;
     common::check_footprint(
         lm,
         &probe,
         "optics",
         if points > 1 { "--points" } else { "--cutoff" },
-        &ladderfan::memory::Footprint::Optics {
-            points: points as u64,
-        },
+        &optics_footprint(points, 0, 0),
         None,
     )?;
-    Ok(Spectrum::solve(&probe)?)
+    let spectrum = Spectrum::solve(&probe)?;
+    Ok((probe, spectrum))
+}
+
+/// The memory of `optics` over `points` fields (src/memory.rs): one spectrum with
+/// eigenvectors per worker thread at a time, the transitions (`transitions` per field at
+/// most) of `held` fields kept.
+fn optics_footprint(points: usize, held: usize, transitions: u64) -> ladderfan::memory::Footprint {
+    ladderfan::memory::Footprint::Optics {
+        points: points as u64,
+        in_flight: rayon::current_num_threads() as u64,
+        held_points: held as u64,
+        transitions,
+    }
+}
+
+/// The memory check of the transitions the run holds (`held` of its fields: all of them for
+/// the whole record, two batches when streamed), counted at the probe (the highest field
+/// `top`, whose Landau levels are the sparsest) and scaled by `|top| / |lowest|`, since the
+/// levels in a fixed energy window grow at most as 1/B (a parabolic band; sqrt(1/B) for a
+/// Dirac cone).
+#[allow(clippy::too_many_arguments)]
+fn check_held(
+    lm: &LoadedModel,
+    problem: &ladderfan::problem::Problem<'_>,
+    probe: &Spectrum,
+    fermi: &FermiSettings,
+    optics: &OpticsSettings,
+    values: &[f64],
+    top: f64,
+    held: usize,
+) -> CliResult {
+    let sol = fermi_level(&lm.model, probe, fermi)?;
+    let at_top = transitions(&lm.model, probe, &sol.occupation, optics)?.len();
+    let lowest = values.iter().map(|v| v.abs()).fold(f64::INFINITY, f64::min);
+    let per_field = (at_top as f64 * (top.abs() / lowest).max(1.0)).ceil() as u64 + 1;
+    common::check_footprint(
+        lm,
+        problem,
+        "optics",
+        if values.len() > 1 {
+            "--points"
+        } else {
+            "--cutoff"
+        },
+        &optics_footprint(values.len(), held, per_field),
+        None,
+    )
 }
 
 /// Write the files of `--out` and print the result (JSON or the text summary).
@@ -148,7 +175,8 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
         let mut files = OutputFiles::default();
         files.add_csv("transitions.csv", to_csv(lm, json)?)?;
         let fig = if json.points.len() > 1 {
-            fan_plot(lm, json)
+            let density = json.points[0].fermi.density_cm2;
+            fan_plot(lm, json, density, FanOutline::of_record(json), 1.0)
         } else {
             stick_plot(lm, json)
         };
@@ -159,7 +187,14 @@ fn output(a: &OpticsArgs, lm: &LoadedModel, json: &OpticsRecord) -> CliResult {
     if a.output.json {
         return emit_json(json);
     }
-    let mut text = summary(lm, json, a.count);
+    let mut text = summary_head(lm, json);
+    text.push_str(&match json.points.as_slice() {
+        [one] => field_table(lm, json, one, a.count),
+        [first, .., last] => fan_line(lm, json, first.field, last.field, json.points.len(), {
+            json.points.iter().map(|p| p.transitions.len()).sum()
+        }),
+        [] => String::new(),
+    });
     for p in written {
         text.push_str(&format!("wrote {}\n", p.display()));
     }
@@ -180,7 +215,14 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         .unwrap_or(r.field);
     let mut settings = Settings::with_cutoff(cutoff);
     settings.memory_limit_mib = mem;
-    let probe = probe(
+    // a sweep without --json streams: its transitions are written as the fields finish
+    let streamed = values.len() > 1 && !a.output.json;
+    let held = if streamed {
+        2 * ladderfan::sweep::default_batch()
+    } else {
+        values.len()
+    };
+    let (problem, probe) = probe(
         a,
         &lm,
         FieldPoint {
@@ -211,11 +253,11 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         max_energy: Some(max_energy),
         min_relative_strength: a.min_strength,
     };
-    let bar = Progress::new("optics", pts.len(), "fields");
-    let fan = transition_sweep_with(&lm.model, &pts, &settings, &fs, &opts, &|| bar.tick());
-    bar.finish();
-    let fan = fan?;
-    let json = OpticsRecord {
+    check_held(&lm, &problem, &probe, &fs, &opts, &values, top, held)?;
+    let reference_energy = probe.reference_energy;
+    // the probe's eigenvectors and set-up are not needed any more
+    drop((problem, probe));
+    let mut json = OpticsRecord {
         command: "optics",
         model: ModelRecord::new(&lm.model, &lm.origin),
         units: UnitsRecord::new(&lm.model),
@@ -225,12 +267,25 @@ pub fn run(a: &OpticsArgs) -> CliResult {
         },
         kz: r.kz,
         cutoff,
-        reference_energy: probe.reference_energy,
+        reference_energy,
         temperature_k: fs.temperature_k,
         max_energy,
         convention: CONVENTION,
-        points: point_records(&fan, u),
+        points: Vec::new(),
     };
+    let job = stream::Job {
+        points: &pts,
+        settings: &settings,
+        fermi: &fs,
+        optics: &opts,
+    };
+    if streamed {
+        return stream::run(a, &lm, json.in_units(lm.shown), &job);
+    }
+    let bar = Progress::new("optics", pts.len(), "fields");
+    let fan = transition_sweep_with(&lm.model, &pts, &settings, &fs, &opts, &|| bar.tick());
+    bar.finish();
+    json.points = OpticsPointRecord::fan(&fan?, u);
     output(a, &lm, &json.in_units(lm.shown))
 }
 
@@ -242,10 +297,10 @@ fn pol_name(p: Polarisation) -> &'static str {
     }
 }
 
-fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
+/// The first lines of the text: model, kz, cutoff, temperature, convention, units.
+fn summary_head(lm: &LoadedModel, j: &OpticsRecord) -> String {
     let u = lm.model.units();
     let eu = lm.shown.energy.label();
-    let fu = lm.shown.field.label();
     let mut s = format!(
         "model: {} ({}), kz {} {}, cutoff {}, T = {} K\n{CONVENTION}\n",
         lm.model.name(),
@@ -259,19 +314,32 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
         "energies in {eu} relative to {} {eu}; strengths relative to the strongest line; only converged levels\n",
         j.reference_energy
     ));
-    if j.points.len() > 1 {
-        let n: usize = j.points.iter().map(|p| p.transitions.len()).sum();
-        s.push_str(&format!(
-            "transition fan: {} fields from {} to {} {}, {n} allowed transitions below {} {eu}\n",
-            j.points.len(),
-            j.points[0].field,
-            j.points[j.points.len() - 1].field,
-            fu,
-            fmt_num(j.max_energy, 6)
-        ));
-        return s;
-    }
-    let p = &j.points[0];
+    s
+}
+
+/// The line of a transition fan: `points` fields from `first` to `last` (output unit),
+/// `transitions` allowed transitions in all.
+fn fan_line(
+    lm: &LoadedModel,
+    j: &OpticsRecord,
+    first: f64,
+    last: f64,
+    points: usize,
+    transitions: usize,
+) -> String {
+    let eu = lm.shown.energy.label();
+    format!(
+        "transition fan: {points} fields from {first} to {last} {}, {transitions} allowed transitions below {} {eu}\n",
+        lm.shown.field.label(),
+        fmt_num(j.max_energy, 6)
+    )
+}
+
+/// The table of the transitions at one field, the `count` strongest (0: all) in energy order.
+fn field_table(lm: &LoadedModel, j: &OpticsRecord, p: &OpticsPointRecord, count: usize) -> String {
+    let eu = lm.shown.energy.label();
+    let fu = lm.shown.field.label();
+    let mut s = String::new();
     s.push_str(&format!(
         "field {} {}: Fermi level {} {eu}, filling factor {}, {} allowed transitions below {} {eu}\n\n",
         p.field,
@@ -314,121 +382,4 @@ fn summary(lm: &LoadedModel, j: &OpticsRecord, count: usize) -> String {
     }
     s.push_str(&common::table(&rows));
     s
-}
-
-/// The columns of `transitions.csv`, in order (`vu`: the velocity unit, e.g. `m/s`).
-fn transition_columns(lm: &LoadedModel, vu: &str) -> Vec<Column> {
-    let cu = common::column_units(lm);
-    let e = cu.energy_unit;
-    let v = vu.replace('/', "_per_").replace(' ', "_");
-    let sq = format!("({vu})^2");
-    vec![
-        Column::new(cu.field_column(), cu.field_unit, "magnetic field B"),
-        Column::new(
-            cu.energy_valued("fermi_energy"),
-            e,
-            "Fermi level at this field",
-        ),
-        Column::new("filling_factor", "1", "filling factor nu at this field"),
-        Column::new(cu.energy_column(), e, "transition energy E_to - E_from"),
-        Column::new("from_label", "", "Landau label of the initial level"),
-        Column::new("to_label", "", "Landau label of the final level"),
-        Column::new(
-            "transition",
-            "",
-            "the transition as printed, LL(from) -> LL(to)",
-        ),
-        Column::new("from_orbital", "1", "dominant orbital of the initial level"),
-        Column::new("to_orbital", "1", "dominant orbital of the final level"),
-        Column::new(
-            cu.energy_valued("from_energy"),
-            e,
-            "energy of the initial level",
-        ),
-        Column::new(
-            cu.energy_valued("to_energy"),
-            e,
-            "energy of the final level",
-        ),
-        Column::new("occupation_difference", "1", "o_i - o_f"),
-        Column::new(
-            format!("strength_x_{v}_sq"),
-            sq.clone(),
-            "|<f|v_x|i>|^2 (o_i - o_f)",
-        ),
-        Column::new(
-            format!("strength_y_{v}_sq"),
-            sq.clone(),
-            "|<f|v_y|i>|^2 (o_i - o_f)",
-        ),
-        Column::new(
-            format!("strength_sigma_plus_{v}_sq"),
-            sq.clone(),
-            "|<f|e+.v|i>|^2 (o_i - o_f), e+ = (x + i y)/sqrt2",
-        ),
-        Column::new(
-            format!("strength_sigma_minus_{v}_sq"),
-            sq,
-            "|<f|e-.v|i>|^2 (o_i - o_f), e- = (x - i y)/sqrt2",
-        ),
-        Column::new(
-            "relative_strength",
-            "1",
-            "strength relative to the strongest at this field",
-        ),
-        Column::new(
-            "oscillator_strength_x",
-            "1",
-            "dimensionless oscillator strength, x polarisation",
-        ),
-        Column::new(
-            "polarisation",
-            "",
-            "the circular polarisation that carries it (or both)",
-        ),
-    ]
-}
-
-/// `transitions.csv`: one row per field and transition; conventions go to its sidecar.
-fn to_csv(lm: &LoadedModel, j: &OpticsRecord) -> CliResult<CsvFile> {
-    let eu = lm.shown.energy.label();
-    let meta = csv_meta(
-        lm,
-        "optics",
-        vec![
-            CONVENTION.to_string(),
-            format!("energies relative to {} {eu}", j.reference_energy),
-        ],
-        vec![format!(
-            "kz {}, cutoff {}, T {} K",
-            j.kz, j.cutoff, j.temperature_k
-        )],
-    );
-    let mut rec = Vec::new();
-    for p in &j.points {
-        for t in &p.transitions {
-            rec.push(vec![
-                format!("{:e}", p.field),
-                format!("{:e}", p.fermi.fermi_energy),
-                format!("{:e}", p.fermi.filling_factor),
-                format!("{:e}", t.energy),
-                t.from.clone(),
-                t.to.clone(),
-                t.transition.clone(),
-                t.from_orbital.to_string(),
-                t.to_orbital.to_string(),
-                format!("{:e}", t.from_energy),
-                format!("{:e}", t.to_energy),
-                format!("{:e}", t.occupation_difference),
-                format!("{:e}", t.strength_x),
-                format!("{:e}", t.strength_y),
-                format!("{:e}", t.strength_plus),
-                format!("{:e}", t.strength_minus),
-                format!("{:e}", t.relative_strength),
-                format!("{:e}", t.oscillator_strength_x),
-                pol_name(t.polarisation).into(),
-            ]);
-        }
-    }
-    csv_file(meta, transition_columns(lm, j.velocity_unit), &rec)
 }

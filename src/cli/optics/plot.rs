@@ -2,8 +2,8 @@
 //! (sigma+ up, sigma- down: a mirror, so the two never overlap).
 
 use super::*;
+use ladderfan::plot::decimate::{DecimatedLine, Decimation, FIGURE_COLUMNS};
 use ladderfan::plot::{Colouring, Curve, LegendEntry, LinePlot, Rgb, Stroke};
-use ladderfan::records::TransitionRecord;
 
 pub(super) fn pol_color(p: Polarisation) -> Rgb {
     match p {
@@ -21,52 +21,99 @@ fn pol_legend() -> Vec<LegendEntry> {
     ]
 }
 
-/// The fan's lines: each (from, to) pair's (field, transition) points in field order.
-type Lines<'j> = BTreeMap<(String, String), Vec<(f64, &'j TransitionRecord)>>;
+/// One line of the transition fan being built: its thinned points, its strongest relative
+/// strength so far and the polarisation at its last point.
+struct FanLine {
+    line: DecimatedLine,
+    strongest: f64,
+    polarisation: Polarisation,
+}
 
-/// Group the transitions of every field by their (from, to) pair.
-fn transition_lines(j: &OpticsRecord) -> Lines<'_> {
-    let mut lines: Lines<'_> = BTreeMap::new();
-    for p in &j.points {
-        for t in &p.transitions {
-            lines
-                .entry((t.from.clone(), t.to.clone()))
-                .or_default()
-                .push((p.field, t));
+/// What the fan figure needs of a transition sweep, built one field at a time in field order:
+/// per (from, to) pair its line (field, transition energy) thinned to the figure's columns
+/// ([`Decimation`]: every field kept for a sweep of at most [`FIGURE_COLUMNS`] fields, a break
+/// where the transition is absent), its strongest relative strength and polarisation. The
+/// whole-record and the streamed runs build it the same way, so their figures are equal.
+pub(super) struct FanOutline {
+    decimation: Decimation,
+    lines: BTreeMap<(String, String), FanLine>,
+}
+
+impl FanOutline {
+    /// An outline for the fields `xs` (output unit, point order).
+    pub(super) fn new(xs: &[f64]) -> Self {
+        FanOutline {
+            decimation: Decimation::new(xs, FIGURE_COLUMNS),
+            lines: BTreeMap::new(),
         }
     }
-    lines
+
+    /// Add the transitions of field `index` (record in the output units).
+    pub(super) fn add(&mut self, index: usize, p: &OpticsPointRecord) {
+        for t in &p.transitions {
+            let l = self
+                .lines
+                .entry((t.from.clone(), t.to.clone()))
+                .or_insert_with(|| FanLine {
+                    line: DecimatedLine::default(),
+                    strongest: 0.0,
+                    polarisation: t.polarisation,
+                });
+            l.line
+                .push(&self.decimation, index, p.field, t.energy, f64::NAN);
+            l.strongest = l.strongest.max(t.relative_strength);
+            l.polarisation = t.polarisation;
+        }
+    }
+
+    /// The outline of a whole record (fields in point order).
+    pub(super) fn of_record(j: &OpticsRecord) -> Self {
+        let xs: Vec<f64> = j.points.iter().map(|p| p.field).collect();
+        let mut o = FanOutline::new(&xs);
+        for (i, p) in j.points.iter().enumerate() {
+            o.add(i, p);
+        }
+        o
+    }
+
+    /// The curves, strongest first (so thinning keeps them), their relative strengths divided
+    /// by `unit` (1 when the records held relative strengths already): width and opacity grow
+    /// with the strength, colour by polarisation, label `from→to`.
+    fn curves(self, unit: f64) -> Vec<Curve> {
+        let d = self.decimation;
+        let mut lines: Vec<(f64, Curve)> = self
+            .lines
+            .into_iter()
+            .map(|((from, to), l)| {
+                let s = l.strongest / unit;
+                let curve = Curve {
+                    points: l.line.finish(&d).0,
+                    colour: Some(pol_color(l.polarisation)),
+                    width: 0.8 + 3.2 * s.sqrt(),
+                    opacity: 0.3 + 0.7 * s.sqrt(),
+                    label: Some(format!("{from}→{to}")),
+                    ..Curve::default()
+                };
+                (s, curve)
+            })
+            .collect();
+        lines.sort_by(|a, b| b.0.total_cmp(&a.0));
+        lines.into_iter().map(|l| l.1).collect()
+    }
 }
 
 /// The fan: transition energy against field, one line per (from, to) pair labelled
 /// `from→to`, width and opacity growing with the strength, colour by polarisation; strong
-/// lines first, so thinning keeps them.
-pub(super) fn fan_plot(lm: &LoadedModel, j: &OpticsRecord) -> LinePlot {
+/// lines first, so thinning keeps them. `j` gives the run's settings (its points may be
+/// empty), `density_cm2` the carrier density, `unit` the divisor of the outline's strengths.
+pub(super) fn fan_plot(
+    lm: &LoadedModel,
+    j: &OpticsRecord,
+    density_cm2: f64,
+    outline: FanOutline,
+    unit: f64,
+) -> LinePlot {
     let eu = lm.shown.energy.label();
-    let mut lines: Vec<(f64, Curve)> = transition_lines(j)
-        .into_iter()
-        .map(|((from, to), pts)| {
-            let s = pts
-                .iter()
-                .map(|p| p.1.relative_strength)
-                .fold(0.0, f64::max);
-            let pol = pts
-                .last()
-                .map(|p| p.1.polarisation)
-                .unwrap_or(Polarisation::Mixed);
-            let curve = Curve {
-                points: pts.iter().map(|(b, t)| (*b, t.energy)).collect(),
-                colour: Some(pol_color(pol)),
-                width: 0.8 + 3.2 * s.sqrt(),
-                opacity: 0.3 + 0.7 * s.sqrt(),
-                label: Some(format!("{from}→{to}")),
-                ..Curve::default()
-            };
-            (s, curve)
-        })
-        .collect();
-    lines.sort_by(|a, b| b.0.total_cmp(&a.0));
-    let p0 = &j.points[0];
     let mut legend = pol_legend();
     legend.push(LegendEntry {
         text: "width, opacity: strength".into(),
@@ -77,13 +124,13 @@ pub(super) fn fan_plot(lm: &LoadedModel, j: &OpticsRecord) -> LinePlot {
         title: format!("Magneto-optical transitions: {}", lm.model.name()),
         x_label: format!("B [{}]", lm.shown.field.label()),
         y_label: format!("transition energy [{eu}]"),
-        curves: lines.into_iter().map(|l| l.1).collect(),
+        curves: outline.curves(unit),
         y_range: Some((0.0, j.max_energy * 1.02)),
         notes: vec![format!(
             "{} ({}); n = {} cm^-2, T = {} K; cutoff {}",
             lm.model.name(),
             lm.origin,
-            fmt_num(p0.fermi.density_cm2, 4),
+            fmt_num(density_cm2, 4),
             j.temperature_k,
             j.cutoff
         )],
