@@ -2,7 +2,7 @@
 //! position), then one parallel gather from the per-chunk buffers.
 
 use super::sector::SectorResult;
-use super::{Target, Vectors};
+use super::{Target, Vectors, Weights};
 use crate::error::{Error, Result};
 use crate::levels::{median_of_smallest_nonzero, Level, LevelVector};
 use rayon::prelude::*;
@@ -14,7 +14,8 @@ const GATHER_GRAIN: usize = 1 << 14;
 /// The levels of all chunks in ascending order of energy (ties broken by the position in
 /// sector order, so the result does not depend on the thread count), cut to `target`, with
 /// their convergence states at `tolerance`, their weights (d per level) and, when `vectors`,
-/// their eigenvectors; and the energy scale of the sorted levels.
+/// their eigenvectors (their weights only when `weights` is [`Weights::Compute`]); and the
+/// energy scale of the sorted levels.
 ///
 /// # Errors
 /// [`Error::MemoryLimit`] beyond 2^32 levels or chunks (the sort key's positions).
@@ -28,7 +29,7 @@ pub(super) fn gather(
     dim: usize,
     target: Target,
     tolerance: f64,
-    (vectors, character): (Vectors, crate::problem::Character),
+    (vectors, character, weights): (Vectors, crate::problem::Character, Weights),
     memory_limit_mib: u64,
 ) -> Result<Gathered> {
     let keys = sorted_keys(&parts, target, memory_limit_mib)?;
@@ -40,20 +41,25 @@ pub(super) fn gather(
         .par_iter()
         .with_min_len(GATHER_GRAIN)
         .map(|k| {
-            let mut l = parts[k.part()].levels[k.index()];
+            let p = &parts[k.part()];
+            let mut l = p.levels[k.index()].unpack(&p.sectors);
             l.convergence = l.convergence_at(tolerance, energy_scale);
             l
         })
         .collect();
-    let mut weights = vec![0.0; keys.len() * d];
-    weights
-        .par_chunks_mut(d.max(1))
-        .zip(keys.par_iter())
-        .with_min_len(GATHER_GRAIN)
-        .for_each(|(w, k)| {
-            let i = k.index();
-            w.copy_from_slice(&parts[k.part()].weights[i * d..(i + 1) * d]);
-        });
+    let weights = if weights == Weights::Compute && d > 0 {
+        let mut w = vec![0.0; keys.len() * d];
+        w.par_chunks_mut(d)
+            .zip(keys.par_iter())
+            .with_min_len(GATHER_GRAIN)
+            .for_each(|(w, k)| {
+                let i = k.index();
+                w.copy_from_slice(&parts[k.part()].weights[i * d..(i + 1) * d]);
+            });
+        w
+    } else {
+        Vec::new()
+    };
     let mean_n = (character == crate::problem::Character::Compute).then(|| {
         keys.par_iter()
             .with_min_len(GATHER_GRAIN)
@@ -108,11 +114,84 @@ fn sorted_keys(
             fix: crate::memory::FIX_SOLVE.into(),
         });
     }
-    // each chunk writes its keys into its own slice of one array, in parallel (a zeroed
-    // integer array is allocated lazily, so its pages are first touched by the workers)
     let mut raw: Vec<u128> = vec![0; total];
+    match rank_layout(parts) {
+        Some(layout) => fill_by_rank(&mut raw, parts, &layout),
+        None => fill_by_part(&mut raw, parts),
+    }
+    let mut keys: Vec<SortKey> = raw.into_iter().map(SortKey).collect();
+    if few_runs(&keys) {
+        // a merge of the natural runs (std's stable sort finds them): O(L log runs)
+        keys.sort();
+    } else {
+        keys.par_sort_unstable();
+    }
+    select_target(&mut keys, target);
+    Ok(keys)
+}
+
+/// Most levels a sector may have for the rank-major key layout of [`rank_layout`] (exactly
+/// conserved J: at most d states per sector, times two Klein-Gordon roots).
+const MAX_RANKS: usize = 64;
+
+/// Most direction changes (ascending to descending or back) of the laid-out keys for which the
+/// natural-run merge is used instead of the parallel general sort.
+const MAX_TURNS: usize = 256;
+
+/// Where the keys of each (rank in sector, chunk) go in the rank-major layout: for R ranks and
+/// P chunks, `counts[p * R + r]` levels of chunk p have rank r, and the layout is rank by rank,
+/// chunk by chunk within a rank, sector order within a chunk.
+struct RankLayout {
+    ranks: usize,
+    counts: Vec<usize>,
+}
+
+/// The rank-major layout of the keys, or `None` when a sector has more than [`MAX_RANKS`]
+/// levels (few large sectors: the chunk order is as good).
+///
+/// # Why
+/// The k-th level of the sectors J = 0, 1, 2, ... of an exactly conserved J is usually
+/// monotone in J (E ~ ±sqrt(J) for a Dirac model), so laid out rank by rank the keys form a
+/// few long natural runs, which a merge sorts in O(L log runs) instead of O(L log L).
+fn rank_layout(parts: &[SectorResult]) -> Option<RankLayout> {
+    let sector_len = |p: &SectorResult, s: usize| -> usize {
+        let end = p
+            .sector_starts
+            .get(s + 1)
+            .map_or(p.levels.len(), |&e| e as usize);
+        end - p.sector_starts[s] as usize
+    };
+    let mut ranks = 0;
+    for p in parts {
+        if p.sector_starts
+            .first()
+            .map_or(!p.levels.is_empty(), |&f| f != 0)
+        {
+            return None; // levels outside any recorded sector
+        }
+        for s in 0..p.sector_starts.len() {
+            ranks = ranks.max(sector_len(p, s));
+        }
+    }
+    if ranks > MAX_RANKS {
+        return None;
+    }
+    let mut counts = vec![0usize; parts.len() * ranks];
+    for (pi, p) in parts.iter().enumerate() {
+        for s in 0..p.sector_starts.len() {
+            for c in &mut counts[pi * ranks..pi * ranks + sector_len(p, s)] {
+                *c += 1;
+            }
+        }
+    }
+    Some(RankLayout { ranks, counts })
+}
+
+/// Each chunk writes its keys into its own slice of `raw`, in chunk order (a zeroed integer
+/// array is allocated lazily, so its pages are first touched by the workers).
+fn fill_by_part(raw: &mut [u128], parts: &[SectorResult]) {
     let mut slices = Vec::with_capacity(parts.len());
-    let mut rest = raw.as_mut_slice();
+    let mut rest = raw;
     for p in parts {
         let (head, tail) = rest.split_at_mut(p.levels.len());
         slices.push(head);
@@ -127,10 +206,51 @@ fn sorted_keys(
                 *k = SortKey::new(l.energy, pi as u32, i as u32).0;
             }
         });
-    let mut keys: Vec<SortKey> = raw.into_iter().map(SortKey).collect();
-    keys.par_sort_unstable();
-    select_target(&mut keys, target);
-    Ok(keys)
+}
+
+/// Each chunk writes its keys into its slices of `raw` in the rank-major `layout`, in
+/// parallel over chunks. The keys themselves (energy, chunk, index) do not depend on the
+/// layout, so neither does the sorted order.
+fn fill_by_rank(raw: &mut [u128], parts: &[SectorResult], layout: &RankLayout) {
+    let r_max = layout.ranks;
+    // slices[p * R + r]: the keys of chunk p at rank r
+    let mut slices: Vec<&mut [u128]> = Vec::with_capacity(parts.len() * r_max);
+    slices.resize_with(parts.len() * r_max, Default::default);
+    let mut rest = raw;
+    for r in 0..r_max {
+        for pi in 0..parts.len() {
+            let (head, tail) = rest.split_at_mut(layout.counts[pi * r_max + r]);
+            slices[pi * r_max + r] = head;
+            rest = tail;
+        }
+    }
+    slices
+        .par_chunks_mut(r_max.max(1))
+        .zip(parts.par_iter())
+        .enumerate()
+        .for_each(|(pi, (by_rank, p))| {
+            let mut cursor = [0usize; MAX_RANKS];
+            for (s, &start) in p.sector_starts.iter().enumerate() {
+                let start = start as usize;
+                let end = p
+                    .sector_starts
+                    .get(s + 1)
+                    .map_or(p.levels.len(), |&e| e as usize);
+                for (r, i) in (start..end).enumerate() {
+                    by_rank[r][cursor[r]] = SortKey::new(p.levels[i].energy, pi as u32, i as u32).0;
+                    cursor[r] += 1;
+                }
+            }
+        });
+}
+
+/// Whether `keys` consist of at most [`MAX_TURNS`] + 1 monotone runs (counted as the places
+/// where the direction changes).
+fn few_runs(keys: &[SortKey]) -> bool {
+    keys.par_windows(3)
+        .filter(|w| (w[0] < w[1]) != (w[1] < w[2]))
+        .count()
+        <= MAX_TURNS
 }
 
 /// Sort key of a level: its energy mapped to an unsigned integer with the order of

@@ -44,8 +44,8 @@ use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::levels::Spectrum;
 use crate::model::Model;
 pub use crate::problem::{
-    Character, Precision, Problem, Reference, Settings, Splitting, Target, DENSE_MAX_DEFAULT,
-    WINDOW_MAX_LEVELS,
+    Character, Precision, Problem, Reference, Settings, Splitting, Target, Weights,
+    DENSE_MAX_DEFAULT, WINDOW_MAX_LEVELS,
 };
 pub use dense::Vectors;
 use rayon::prelude::*;
@@ -109,7 +109,7 @@ impl Spectrum {
             h.dim,
             settings.target,
             settings.tolerance,
-            (settings.vectors, settings.character),
+            (settings.vectors, settings.character, settings.weights),
             settings.memory_limit_mib,
         )?;
         let model = problem.model();
@@ -160,6 +160,7 @@ fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
         refine: refine_policy(problem),
         keep_vectors: settings.vectors == Vectors::Compute,
         keep_mean_n: settings.character == crate::problem::Character::Compute,
+        keep_weights: settings.weights == Weights::Compute,
         labels: true,
         real: h.is_real(),
         tolerance: settings.tolerance,
@@ -182,12 +183,7 @@ impl Default for LeanBuffers {
     fn default() -> Self {
         LeanBuffers {
             scratch: Scratch::new(),
-            acc: SectorResult {
-                levels: Vec::new(),
-                weights: Vec::new(),
-                mean_n: Vec::new(),
-                vectors: Vec::new(),
-            },
+            acc: SectorResult::with_capacity(0, 0),
             mags: Vec::new(),
         }
     }
@@ -226,12 +222,10 @@ pub fn converged_energies(
     let mut job = job(problem);
     job.keep_vectors = false;
     job.keep_mean_n = false;
+    job.keep_weights = false;
     job.labels = false;
     let LeanBuffers { scratch, acc, mags } = buffers;
-    acc.levels.clear();
-    acc.weights.clear();
-    acc.mean_n.clear();
-    acc.vectors.clear();
+    acc.clear();
     for id in problem.plan().sectors() {
         job.solve_sector(id, scratch, acc)?;
     }
@@ -244,7 +238,10 @@ pub fn converged_energies(
     out.extend(
         acc.levels
             .iter()
-            .filter(|l| l.convergence_at(tolerance, scale) == crate::levels::Convergence::Converged)
+            .filter(|l| {
+                l.unpack(&acc.sectors).convergence_at(tolerance, scale)
+                    == crate::levels::Convergence::Converged
+            })
             .map(|l| l.energy),
     );
     out.sort_unstable_by(f64::total_cmp);
@@ -276,12 +273,10 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
                     }
                 })
                 .sum();
-            let mut acc = SectorResult {
-                levels: Vec::with_capacity(expected),
-                weights: Vec::with_capacity(expected * h.dim),
-                mean_n: Vec::new(),
-                vectors: Vec::new(),
-            };
+            let d = if job.keep_weights { h.dim } else { 0 };
+            let mut acc = SectorResult::with_capacity(expected, d);
+            acc.sector_starts.reserve(chunk_ids.len());
+            acc.sectors.reserve(chunk_ids.len());
             for &id in chunk_ids {
                 job.solve_sector(id, &mut scratch, &mut acc)?;
             }
