@@ -154,6 +154,7 @@ fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
     let plan = problem.plan();
     Job {
         h,
+        couplings: sector::Couplings::new(h),
         plan,
         form: problem.model().form(),
         reference: problem.reference(),

@@ -207,9 +207,70 @@ pub(super) enum RefinePolicy {
     Adaptive(f64),
 }
 
+/// The non-zero spinor entries of the operators of a [`LadderHamiltonian`], grouped by
+/// component pair (alpha, beta) in operator order, so that a sector matrix element visits only
+/// the operators that couple its two components.
+///
+/// # Formula
+/// H_(m alpha, n beta) = sum over operators a^dagger^j a^k with j - k = m - n of
+/// A_jk[alpha, beta] <m| a^dagger^j a^k |n>, summed in operator order exactly as
+/// [`LadderHamiltonian::element`] sums it (the same terms in the same order: the same bits).
+pub(super) struct Couplings {
+    dim: usize,
+    /// Entries of pair (alpha, beta) are `entries[start[alpha d + beta]..start[alpha d + beta + 1]]`.
+    start: Vec<usize>,
+    /// (shift j - k, j, k, A_jk[alpha, beta]).
+    entries: Vec<(i64, u32, u32, Complex64)>,
+}
+
+impl Couplings {
+    /// The table of `h`.
+    ///
+    /// # Complexity
+    /// O(ops d^2).
+    pub(super) fn new(h: &LadderHamiltonian) -> Self {
+        let d = h.dim;
+        let mut start = Vec::with_capacity(d * d + 1);
+        let mut entries = Vec::new();
+        for alpha in 0..d {
+            for beta in 0..d {
+                start.push(entries.len());
+                for op in &h.ops {
+                    let a = op.matrix[(alpha, beta)];
+                    if a.re != 0.0 || a.im != 0.0 {
+                        entries.push((op.shift(), op.j, op.k, a));
+                    }
+                }
+            }
+        }
+        start.push(entries.len());
+        Couplings {
+            dim: d,
+            start,
+            entries,
+        }
+    }
+
+    /// H_(m alpha, n beta), bit for bit [`LadderHamiltonian::element`].
+    #[inline]
+    fn element(&self, m: usize, alpha: usize, n: usize, beta: usize) -> Complex64 {
+        let pair = alpha * self.dim + beta;
+        let shift = m as i64 - n as i64;
+        let mut sum = Complex64::new(0.0, 0.0);
+        for &(s, j, k, a) in &self.entries[self.start[pair]..self.start[pair + 1]] {
+            if s == shift {
+                sum += a * crate::ladder::ladder_element(j, k, n);
+            }
+        }
+        sum
+    }
+}
+
 /// What every sector of one solve shares.
 pub(super) struct Job<'a> {
     pub(super) h: &'a LadderHamiltonian,
+    /// The operators of `h` by component pair, for the sector matrices.
+    pub(super) couplings: Couplings,
     pub(super) plan: &'a SectorPlan,
     pub(super) form: SpectrumForm,
     pub(super) reference: f64,
@@ -312,7 +373,7 @@ impl Job<'_> {
     fn element(&self, states: &[(usize, usize)], r: usize, c: usize) -> Complex64 {
         let (m, a) = states[r];
         let (n, b) = states[c];
-        let z = self.h.element(m, a, n, b);
+        let z = self.couplings.element(m, a, n, b);
         if self.real {
             Complex64::new(z.re, 0.0)
         } else {
