@@ -1,5 +1,6 @@
-//! Collecting the levels of all sectors: one parallel sort of integer keys (energy, then
-//! position), then one parallel gather from the per-chunk buffers.
+//! Collecting the levels of all sectors: one sort of integer keys (energy, then position),
+//! laid out rank by rank within the sectors so that a merge of their natural runs usually
+//! suffices, then one parallel gather from the per-chunk buffers.
 
 use super::sector::SectorResult;
 use super::{Target, Vectors, Weights};
@@ -21,7 +22,8 @@ const GATHER_GRAIN: usize = 1 << 14;
 /// [`Error::MemoryLimit`] beyond 2^32 levels or chunks (the sort key's positions).
 ///
 /// # Complexity
-/// O(L log L) for L levels: a parallel sort of 16-byte integer keys, then one parallel gather
+/// O(L log runs) for L levels laid out in few monotone runs (exact-J sectors, see
+/// [`rank_layout`]), else O(L log L): a sort of 16-byte integer keys, then one parallel gather
 /// from the per-chunk buffers (no unsorted concatenation is ever built: at 4e6 levels each
 /// extra pass over fresh memory costs about 0.1 s in page faults).
 pub(super) fn gather(

@@ -17,14 +17,18 @@
 //! * J mod m conserved, or no symmetry: m (or 1) dense sectors of size s ~ N d / m, O(s^3) each
 //!   ([`dense`]), or the window solver for sectors too large to diagonalise densely.
 //!
-//! * Collecting the levels: O(L log L) for L levels (a parallel sort of 16-byte integer keys,
-//!   energy then position), then one parallel gather of the levels and weights from the
-//!   per-chunk buffers, with the convergence flags set on the way. Each level is written twice
-//!   (chunk buffer, final array), about 2 x (96 + 8 d) bytes plus a 16-byte key.
+//! * Collecting the levels: 16-byte integer sort keys (energy then position) laid out rank by
+//!   rank within the sectors, which for exact-J sectors makes a few long monotone runs: a merge
+//!   of those runs, O(L log runs), else a parallel sort, O(L log L), for L levels; then one
+//!   parallel gather of the levels and weights from the per-chunk buffers, with the
+//!   convergence flags set on the way. Each level is written twice: packed in its chunk buffer
+//!   (88 bytes, `sector::Packed`) and as a [`crate::levels::Level`] in the final array, plus
+//!   8 d bytes of weights each time unless [`Weights::Skip`] is asked for.
 //!
-//! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels): on two
-//! free cores the whole split solve takes about 1.5x a single-threaded bare loop of 1e6
-//! fixed-size 4x4 complex solves; on one core about 2.9x, of which the sector eigen-solves are
+//! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels, before the
+//! packed records and the run merge): on two free cores the whole split solve took about 1.5x a
+//! single-threaded bare loop of 1e6 fixed-size 4x4 complex solves; on one core about 2.9x, of
+//! which the sector eigen-solves are
 //! about a fifth, the rest building the sector matrices, residuals, leakage, labels and
 //! Kato-Temple bounds, and moving 4e6 levels through memory (page faults of fresh memory are a
 //! large share on a virtual machine).
