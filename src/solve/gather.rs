@@ -345,6 +345,99 @@ fn energy_scale_sorted(keys: &[SortKey], dim: usize) -> f64 {
 mod tests {
     use super::SortKey;
 
+    use super::super::sector::{Packed, SectorResult};
+    use super::{sorted_keys, Target};
+    use crate::levels::{Convergence, LandauLabel, Level, Root};
+    use crate::sectors::SectorId;
+
+    fn level(energy: f64) -> Level {
+        Level {
+            energy,
+            bound: 0.0,
+            kato_temple: None,
+            leakage: 0.0,
+            in_space_residual: 0.0,
+            convergence: Convergence::NotConverged,
+            sector: SectorId { class: 0, label: 0 },
+            orbital: 0,
+            component: 0,
+            branch: Root::Direct,
+            label: LandauLabel::UNLABELLED,
+            top_weight: 0.0,
+            tail_weight: 0.0,
+        }
+    }
+
+    /// Chunks of `sectors_per_chunk` sectors whose level r in sector J has energy `e(J, r)`.
+    fn parts(
+        chunks: usize,
+        sectors_per_chunk: usize,
+        per_sector: usize,
+        e: impl Fn(usize, usize) -> f64,
+    ) -> Vec<SectorResult> {
+        (0..chunks)
+            .map(|c| {
+                let mut p = SectorResult::with_capacity(0, 0);
+                for s in 0..sectors_per_chunk {
+                    let j = c * sectors_per_chunk + s;
+                    p.sector_starts.push(p.levels.len() as u32);
+                    p.sectors.push(SectorId {
+                        class: 0,
+                        label: j as i64,
+                    });
+                    // the first sector has fewer levels, as at J = 0
+                    let k = if j == 0 { per_sector / 2 } else { per_sector };
+                    for r in 0..k {
+                        p.levels
+                            .push(Packed::pack(&level(e(j, r)), p.sectors.len() as u32 - 1));
+                    }
+                }
+                p
+            })
+            .collect()
+    }
+
+    /// (energy, chunk, index) of every level, sorted as the keys must be.
+    fn expected(parts: &[SectorResult]) -> Vec<(u64, usize, usize)> {
+        let mut all: Vec<(f64, usize, usize)> = parts
+            .iter()
+            .enumerate()
+            .flat_map(|(pi, p)| {
+                p.levels
+                    .iter()
+                    .enumerate()
+                    .map(move |(i, l)| (l.energy, pi, i))
+            })
+            .collect();
+        all.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)).then(a.2.cmp(&b.2)));
+        all.into_iter()
+            .map(|(e, p, i)| (e.to_bits(), p, i))
+            .collect()
+    }
+
+    #[test]
+    fn keys_sort_like_energy_then_position_with_few_or_many_runs() {
+        // invented spectra: monotone in J per rank (few runs, the merge), with ties between
+        // sectors, and scrambled (many runs, the parallel sort)
+        let cases: Vec<Box<dyn Fn(usize, usize) -> f64>> = vec![
+            Box::new(|j, r| {
+                let s = ((j + 1) as f64).sqrt();
+                [-s - 0.1, -s, s, s + 0.1][r]
+            }),
+            Box::new(|j, r| [-1.0, (j % 3) as f64, 2.0, (j / 4) as f64][r]),
+            Box::new(|j, r| (((j * 7919 + r * 104_729) % 1009) as f64) - 500.0),
+        ];
+        for e in &cases {
+            let p = parts(5, 37, 4, e);
+            let keys = sorted_keys(&p, Target::All, 1).unwrap();
+            let got: Vec<(u64, usize, usize)> = keys
+                .iter()
+                .map(|k| (k.energy().to_bits(), k.part(), k.index()))
+                .collect();
+            assert_eq!(got, expected(&p));
+        }
+    }
+
     #[test]
     fn sort_key_orders_like_total_cmp_and_round_trips() {
         let xs = [

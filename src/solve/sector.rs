@@ -132,7 +132,7 @@ pub(super) struct Packed {
 
 impl Packed {
     /// Pack `l`, a level of the chunk's sector number `sector`.
-    fn pack(l: &Level, sector: u32) -> Packed {
+    pub(super) fn pack(l: &Level, sector: u32) -> Packed {
         let (label_side, label_count) = match l.label.branch {
             Branch::Lower(k) => (0, k),
             Branch::Unpaired => (1, 0),
@@ -654,4 +654,65 @@ fn weigh(
     }
     let mean_n = if norm > 0.0 { first_moment / norm } else { 0.0 };
     (best, top, tail, mean_n)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Packed;
+    use crate::levels::{Branch, Convergence, LabelOrigin, LandauLabel, Level, Root};
+    use crate::sectors::SectorId;
+
+    #[test]
+    fn packed_levels_unpack_to_the_same_record() {
+        let sectors = [
+            SectorId { class: 0, label: 7 },
+            SectorId {
+                class: 2,
+                label: -3,
+            },
+        ];
+        let labels = [
+            LandauLabel::UNLABELLED,
+            LandauLabel {
+                n: 12,
+                branch: Branch::Upper(2),
+                origin: LabelOrigin::ExactSector,
+                family: 1,
+            },
+            LandauLabel {
+                n: 0,
+                branch: Branch::Unpaired,
+                origin: LabelOrigin::Continuation,
+                family: 0,
+            },
+            LandauLabel {
+                n: 5,
+                branch: Branch::Lower(1),
+                origin: LabelOrigin::ExactSector,
+                family: 3,
+            },
+        ];
+        let roots = [Root::Antiparticle, Root::Direct, Root::Particle];
+        for (i, label) in labels.into_iter().enumerate() {
+            for (r, branch) in roots.into_iter().enumerate() {
+                let l = Level {
+                    energy: -1.25 + i as f64,
+                    bound: 3e-12,
+                    kato_temple: (r != 1).then_some(1e-20 * (r + 1) as f64),
+                    leakage: 1e-13,
+                    in_space_residual: 2e-15,
+                    convergence: Convergence::NotConverged,
+                    sector: sectors[r % 2],
+                    orbital: 123_456 + i,
+                    component: r,
+                    branch,
+                    label,
+                    top_weight: 0.25,
+                    tail_weight: 0.5,
+                };
+                assert_eq!(Packed::pack(&l, (r % 2) as u32).unpack(&sectors), l);
+            }
+        }
+        assert!(std::mem::size_of::<Packed>() < std::mem::size_of::<Level>());
+    }
 }
