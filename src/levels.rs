@@ -368,7 +368,8 @@ pub struct Spectrum {
     pub energy_scale: f64,
     /// Levels, ascending in energy.
     pub levels: Vec<Level>,
-    /// Component weights, `dim` per level, in the order of `levels`.
+    /// Component weights, `dim` per level, in the order of `levels`; empty when the solve
+    /// skipped them ([`crate::problem::Weights::Skip`]).
     pub weights: Vec<f64>,
     /// Mean orbital index <n> = sum_(n, alpha) n |psi_(n alpha)|^2 per level, in the order of
     /// `levels`, when the solve was asked for it ([`crate::problem::Character::Compute`]).
@@ -380,8 +381,15 @@ pub struct Spectrum {
 
 impl Spectrum {
     /// Component weights of level `i` (sum 1): its component (spin, sublattice, band)
-    /// character.
+    /// character; empty when the solve skipped the weights
+    /// ([`crate::problem::Weights::Skip`]).
+    ///
+    /// # Panics
+    /// When the weights were computed and `i` is not a level index.
     pub fn weights_of(&self, i: usize) -> &[f64] {
+        if self.weights.is_empty() {
+            return &[];
+        }
         &self.weights[i * self.dim..(i + 1) * self.dim]
     }
 

@@ -70,7 +70,7 @@ pub use error::{Error, Result};
 pub use hamiltonian::FieldPoint;
 pub use levels::{Level, Spectrum};
 pub use model::{Model, Monomial};
-pub use solve::{Character, Reference, Settings, Splitting, Target, Vectors};
+pub use solve::{Character, Reference, Settings, Splitting, Target, Vectors, Weights};
 
 /// The README's Rust snippet, compiled and run as a doc test so that it stays true.
 #[cfg(doctest)]

@@ -89,15 +89,32 @@ pub struct Settings {
     /// [`Target::All`]; smaller ones are diagonalised densely and then filtered.
     pub dense_max: usize,
     /// Whether the solve also reports each level's mean orbital index <n>
-    /// ([`crate::levels::Spectrum::mean_n`]); the component weights are always reported.
+    /// ([`crate::levels::Spectrum::mean_n`]).
     pub character: Character,
+    /// Whether the solve reports the component weights of every level
+    /// ([`crate::levels::Spectrum::weights`], 8 d bytes per level).
+    pub weights: Weights,
+}
+
+/// Whether a solve reports the component weights |psi_alpha|^2 = sum_n |psi_(n alpha)|^2 of
+/// each level ([`crate::levels::Spectrum::weights`]). The dominant state, the top and tail
+/// weights and the convergence states of the levels do not depend on it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Weights {
+    /// d weights per level (the default: the tables, figures and the component character of
+    /// the output read them).
+    #[default]
+    Compute,
+    /// No weights ([`crate::levels::Spectrum::weights`] is empty): for callers that only
+    /// read energies, bounds and labels; saves 8 d bytes per level, written twice.
+    Skip,
 }
 
 /// Whether a solve reports the orbital character of its levels: the mean orbital index
 /// <n> = sum_(n, alpha) n |psi_(n alpha)|^2 of each eigenvector.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Character {
-    /// Only the component weights (the default; nothing extra is stored).
+    /// No <n> (the default; nothing extra is stored).
     #[default]
     Skip,
     /// Also <n> per level (8 bytes per level).
@@ -142,6 +159,7 @@ impl Settings {
             target: Target::All,
             dense_max: DENSE_MAX_DEFAULT,
             character: Character::Skip,
+            weights: Weights::Compute,
         }
     }
 

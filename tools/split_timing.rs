@@ -7,7 +7,8 @@
 //! Prints, per round, the bare loop of N - 1 fixed-size 4x4 Hermitian solves with vectors (one
 //! thread, matrices built outside the timed region, as in `benches/engine.rs`) and
 //! `Spectrum::compute` on the same model and point with double precision and with the default
-//! precision, then the medians and the ratios split / bare.
+//! precision, and with double precision without the component weights
+//! ([`ladderfan::Weights::Skip`]), then the medians and the ratios split / bare.
 use ladderfan::hamiltonian::LadderHamiltonian;
 use ladderfan::solve::Precision;
 use ladderfan::*;
@@ -41,7 +42,9 @@ fn main() -> Result<()> {
     let mut double = Settings::with_cutoff(n);
     double.precision = Precision::Double;
     let auto = Settings::with_cutoff(n);
-    let (mut tb, mut td, mut ta) = (Vec::new(), Vec::new(), Vec::new());
+    let mut lean = double.clone();
+    lean.weights = Weights::Skip;
+    let (mut tb, mut td, mut ta, mut tl) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
     for _ in 0..rounds {
         let t = Instant::now();
         let mut acc = 0.0;
@@ -56,13 +59,18 @@ fn main() -> Result<()> {
         let t = Instant::now();
         black_box(Spectrum::compute(&m, point, &auto)?);
         ta.push(t.elapsed().as_secs_f64());
+        let t = Instant::now();
+        black_box(Spectrum::compute(&m, point, &lean)?);
+        tl.push(t.elapsed().as_secs_f64());
     }
-    let (b, d, a) = (median(tb), median(td), median(ta));
+    let (b, d, a, l) = (median(tb), median(td), median(ta), median(tl));
     println!(
-        "N = {n}, {} threads, medians of {rounds}: bare 4x4 loop (1 thread) {b:.3} s, split double {d:.3} s ({:.2}x), split default precision {a:.3} s ({:.2}x)",
+        "N = {n}, {} threads, medians of {rounds}: bare 4x4 loop (1 thread) {b:.3} s, split double {d:.3} s ({:.2}x), split default precision {a:.3} s ({:.2}x), split double without weights {l:.3} s ({:.2}x); level record {} bytes",
         rayon::current_num_threads(),
         d / b,
-        a / b
+        a / b,
+        l / b,
+        std::mem::size_of::<Level>()
     );
     Ok(())
 }

@@ -52,26 +52,44 @@ pub const CONTINUATION_MAX_STATES: usize = 200;
 /// assert_eq!(branches(2), vec![Branch::Lower(1), Branch::Upper(1)]);
 /// ```
 pub fn branches(count: usize) -> Vec<Branch> {
+    (0..count).map(|i| branch_at(i, count)).collect()
+}
+
+/// The branch of the `i`-th of `count` levels sorted by ascending energy ([`branches`]).
+fn branch_at(i: usize, count: usize) -> Branch {
     let half = count / 2;
-    (0..count)
-        .map(|i| {
-            if i < half {
-                Branch::Lower((half - i) as u32)
-            } else if count % 2 == 1 && i == half {
-                Branch::Unpaired
-            } else {
-                Branch::Upper((i + 1 - (count - half)) as u32)
-            }
-        })
-        .collect()
+    if i < half {
+        Branch::Lower((half - i) as u32)
+    } else if count % 2 == 1 && i == half {
+        Branch::Unpaired
+    } else {
+        Branch::Upper((i + 1 - (count - half)) as u32)
+    }
+}
+
+/// Level indices of a sector: on the stack up to this many (every exactly conserved sector of
+/// the shipped models), so labelling 1e6 sectors allocates nothing.
+const SMALL_SECTOR: usize = 32;
+
+/// `f` applied to a scratch index buffer of `len` entries (on the stack when small).
+fn with_indices<R>(len: usize, f: impl FnOnce(&mut [usize]) -> R) -> R {
+    if len <= SMALL_SECTOR {
+        f(&mut [0usize; SMALL_SECTOR][..len])
+    } else {
+        f(&mut vec![0usize; len])
+    }
 }
 
 /// Label the levels of one exact sector of Landau index `n` (see the module docs). `levels`
 /// holds every level of the sector, in any order; Klein-Gordon levels (`branch` = ±1) are
 /// numbered away from the gap within their own sign.
 pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
-    let all: Vec<usize> = (0..levels.len()).collect();
-    label_group(levels, &all, n, family);
+    with_indices(levels.len(), |all| {
+        for (i, a) in all.iter_mut().enumerate() {
+            *a = i;
+        }
+        label_group(levels, all, n, family);
+    });
 }
 
 /// [`label_exact_sector`] for the levels at indices `group` of `levels`.
@@ -79,46 +97,56 @@ fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: usize) {
     let kg = group.iter().any(|&i| levels[i].branch.sign() != 0);
     if kg {
         for sign in [1i8, -1] {
-            let mut idx: Vec<usize> = group
+            let count = group
                 .iter()
-                .copied()
-                .filter(|&i| levels[i].branch.sign() == sign)
-                .collect();
-            // away from the gap: ascending for +, descending for -
-            idx.sort_by(|&a, &b| {
-                let o = levels[a].energy.total_cmp(&levels[b].energy);
-                if sign > 0 {
-                    o
-                } else {
-                    o.reverse()
+                .filter(|&&i| levels[i].branch.sign() == sign)
+                .count();
+            with_indices(count, |idx| {
+                let same_sign = group
+                    .iter()
+                    .copied()
+                    .filter(|&i| levels[i].branch.sign() == sign);
+                for (slot, i) in idx.iter_mut().zip(same_sign) {
+                    *slot = i;
+                }
+                // away from the gap: ascending for +, descending for -
+                idx.sort_by(|&a, &b| {
+                    let o = levels[a].energy.total_cmp(&levels[b].energy);
+                    if sign > 0 {
+                        o
+                    } else {
+                        o.reverse()
+                    }
+                });
+                for (k, &i) in idx.iter().enumerate() {
+                    let k = k as u32 + 1;
+                    levels[i].label = LandauLabel {
+                        n,
+                        branch: if sign > 0 {
+                            Branch::Upper(k)
+                        } else {
+                            Branch::Lower(k)
+                        },
+                        origin: LabelOrigin::ExactSector,
+                        family,
+                    };
                 }
             });
-            for (k, i) in idx.into_iter().enumerate() {
-                let k = k as u32 + 1;
-                levels[i].label = LandauLabel {
-                    n,
-                    branch: if sign > 0 {
-                        Branch::Upper(k)
-                    } else {
-                        Branch::Lower(k)
-                    },
-                    origin: LabelOrigin::ExactSector,
-                    family,
-                };
-            }
         }
         return;
     }
-    let mut idx: Vec<usize> = group.to_vec();
-    idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
-    for (i, b) in idx.into_iter().zip(branches(group.len())) {
-        levels[i].label = LandauLabel {
-            n,
-            branch: b,
-            origin: LabelOrigin::ExactSector,
-            family,
-        };
-    }
+    with_indices(group.len(), |idx| {
+        idx.copy_from_slice(group);
+        idx.sort_by(|&a, &b| levels[a].energy.total_cmp(&levels[b].energy));
+        for (k, &i) in idx.iter().enumerate() {
+            levels[i].label = LandauLabel {
+                n,
+                branch: branch_at(k, group.len()),
+                origin: LabelOrigin::ExactSector,
+                family,
+            };
+        }
+    });
 }
 
 /// Relabel the exact sectors of `spectrum` by the sector families of the model at a generic

@@ -17,14 +17,18 @@
 //! * J mod m conserved, or no symmetry: m (or 1) dense sectors of size s ~ N d / m, O(s^3) each
 //!   ([`dense`]), or the window solver for sectors too large to diagonalise densely.
 //!
-//! * Collecting the levels: O(L log L) for L levels (a parallel sort of 16-byte integer keys,
-//!   energy then position), then one parallel gather of the levels and weights from the
-//!   per-chunk buffers, with the convergence flags set on the way. Each level is written twice
-//!   (chunk buffer, final array), about 2 x (96 + 8 d) bytes plus a 16-byte key.
+//! * Collecting the levels: 16-byte integer sort keys (energy then position) laid out rank by
+//!   rank within the sectors, which for exact-J sectors makes a few long monotone runs: a merge
+//!   of those runs, O(L log runs), else a parallel sort, O(L log L), for L levels; then one
+//!   parallel gather of the levels and weights from the per-chunk buffers, with the
+//!   convergence flags set on the way. Each level is written twice: packed in its chunk buffer
+//!   (88 bytes, `sector::Packed`) and as a [`crate::levels::Level`] in the final array, plus
+//!   8 d bytes of weights each time unless [`Weights::Skip`] is asked for.
 //!
-//! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels): on two
-//! free cores the whole split solve takes about 1.5x a single-threaded bare loop of 1e6
-//! fixed-size 4x4 complex solves; on one core about 2.9x, of which the sector eigen-solves are
+//! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels, before the
+//! packed records and the run merge): on two free cores the whole split solve took about 1.5x a
+//! single-threaded bare loop of 1e6 fixed-size 4x4 complex solves; on one core about 2.9x, of
+//! which the sector eigen-solves are
 //! about a fifth, the rest building the sector matrices, residuals, leakage, labels and
 //! Kato-Temple bounds, and moving 4e6 levels through memory (page faults of fresh memory are a
 //! large share on a virtual machine).
@@ -44,8 +48,8 @@ use crate::hamiltonian::{FieldPoint, LadderHamiltonian};
 use crate::levels::Spectrum;
 use crate::model::Model;
 pub use crate::problem::{
-    Character, Precision, Problem, Reference, Settings, Splitting, Target, DENSE_MAX_DEFAULT,
-    WINDOW_MAX_LEVELS,
+    Character, Precision, Problem, Reference, Settings, Splitting, Target, Weights,
+    DENSE_MAX_DEFAULT, WINDOW_MAX_LEVELS,
 };
 pub use dense::Vectors;
 use rayon::prelude::*;
@@ -109,7 +113,7 @@ impl Spectrum {
             h.dim,
             settings.target,
             settings.tolerance,
-            (settings.vectors, settings.character),
+            (settings.vectors, settings.character, settings.weights),
             settings.memory_limit_mib,
         )?;
         let model = problem.model();
@@ -154,12 +158,14 @@ fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
     let plan = problem.plan();
     Job {
         h,
+        couplings: sector::Couplings::new(h),
         plan,
         form: problem.model().form(),
         reference: problem.reference(),
         refine: refine_policy(problem),
         keep_vectors: settings.vectors == Vectors::Compute,
         keep_mean_n: settings.character == crate::problem::Character::Compute,
+        keep_weights: settings.weights == Weights::Compute,
         labels: true,
         real: h.is_real(),
         tolerance: settings.tolerance,
@@ -182,12 +188,7 @@ impl Default for LeanBuffers {
     fn default() -> Self {
         LeanBuffers {
             scratch: Scratch::new(),
-            acc: SectorResult {
-                levels: Vec::new(),
-                weights: Vec::new(),
-                mean_n: Vec::new(),
-                vectors: Vec::new(),
-            },
+            acc: SectorResult::with_capacity(0, 0),
             mags: Vec::new(),
         }
     }
@@ -226,12 +227,10 @@ pub fn converged_energies(
     let mut job = job(problem);
     job.keep_vectors = false;
     job.keep_mean_n = false;
+    job.keep_weights = false;
     job.labels = false;
     let LeanBuffers { scratch, acc, mags } = buffers;
-    acc.levels.clear();
-    acc.weights.clear();
-    acc.mean_n.clear();
-    acc.vectors.clear();
+    acc.clear();
     for id in problem.plan().sectors() {
         job.solve_sector(id, scratch, acc)?;
     }
@@ -244,7 +243,10 @@ pub fn converged_energies(
     out.extend(
         acc.levels
             .iter()
-            .filter(|l| l.convergence_at(tolerance, scale) == crate::levels::Convergence::Converged)
+            .filter(|l| {
+                l.unpack(&acc.sectors).convergence_at(tolerance, scale)
+                    == crate::levels::Convergence::Converged
+            })
             .map(|l| l.energy),
     );
     out.sort_unstable_by(f64::total_cmp);
@@ -276,12 +278,10 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
                     }
                 })
                 .sum();
-            let mut acc = SectorResult {
-                levels: Vec::with_capacity(expected),
-                weights: Vec::with_capacity(expected * h.dim),
-                mean_n: Vec::new(),
-                vectors: Vec::new(),
-            };
+            let d = if job.keep_weights { h.dim } else { 0 };
+            let mut acc = SectorResult::with_capacity(expected, d);
+            acc.sector_starts.reserve(chunk_ids.len());
+            acc.sectors.reserve(chunk_ids.len());
             for &id in chunk_ids {
                 job.solve_sector(id, &mut scratch, &mut acc)?;
             }

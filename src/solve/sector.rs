@@ -13,7 +13,9 @@ use super::{banded, bounds, cluster, dense, refine, window};
 use super::{Target, Vectors, EXPLICIT_RESIDUAL_MAX_SECTOR, REFINE_MAX_SECTOR, WINDOW_MAX_LEVELS};
 use crate::error::{Error, Result};
 use crate::hamiltonian::{leakage, LadderHamiltonian};
-use crate::levels::{kg_energy, Convergence, Level, LevelVector, Root};
+use crate::levels::{
+    kg_energy, Branch, Convergence, LabelOrigin, LandauLabel, Level, LevelVector, Root,
+};
 use crate::model::SpectrumForm;
 use crate::numeric::dd::DdComplex;
 use crate::sectors::{SectorId, SectorPlan};
@@ -34,6 +36,8 @@ pub(super) struct Scratch {
     hs: DMatrix<Complex64>,
     eig: dense::DenseEigen,
     v: Vec<Complex64>,
+    /// The levels of the sector being solved, before they are packed into the chunk.
+    levels: Vec<Level>,
 }
 
 impl Scratch {
@@ -46,17 +50,151 @@ impl Scratch {
                 vectors: None,
             },
             v: Vec::new(),
+            levels: Vec::new(),
         }
     }
 }
 
 /// The levels of a chunk of sectors, with their weights (d per level) and vectors (if kept).
 pub(super) struct SectorResult {
-    pub(super) levels: Vec<Level>,
+    /// The levels, packed ([`Packed`]), sector by sector in sector order.
+    pub(super) levels: Vec<Packed>,
+    /// The sectors that have levels, in the order of `sector_starts` ([`Packed::unpack`]).
+    pub(super) sectors: Vec<SectorId>,
     pub(super) weights: Vec<f64>,
     /// Mean orbital index <n> per level, when the job keeps it (else empty).
     pub(super) mean_n: Vec<f64>,
     pub(super) vectors: Vec<LevelVector>,
+    /// Index in `levels` of the first level of each solved sector that has levels, in sector
+    /// order (the levels of one sector run from its start to the next one's). The gather lays
+    /// out its sort keys by rank within the sector from these ([`super::gather`]).
+    pub(super) sector_starts: Vec<u32>,
+}
+
+impl SectorResult {
+    /// An empty result whose level and weight buffers hold `levels` levels of `dim` weights
+    /// without regrowing.
+    pub(super) fn with_capacity(levels: usize, dim: usize) -> Self {
+        SectorResult {
+            levels: Vec::with_capacity(levels),
+            weights: Vec::with_capacity(levels * dim),
+            mean_n: Vec::new(),
+            vectors: Vec::new(),
+            sectors: Vec::new(),
+            sector_starts: Vec::new(),
+        }
+    }
+
+    /// Empty every buffer, keeping their capacity.
+    pub(super) fn clear(&mut self) {
+        self.levels.clear();
+        self.weights.clear();
+        self.mean_n.clear();
+        self.vectors.clear();
+        self.sectors.clear();
+        self.sector_starts.clear();
+    }
+}
+
+/// A level as a chunk buffer holds it between the sector solve and the gather: the fields of
+/// [`Level`] except the convergence state (the gather sets it; inside the solve it is always
+/// [`Convergence::NotConverged`]), with the sector as its index in the chunk's
+/// [`SectorResult::sectors`], the optional Kato-Temple bound as a value and a flag, and the
+/// orbital, component, family and branch count as 32-bit integers: 88 bytes instead of the
+/// `size_of::<Level>()` of the record, so fewer fresh pages are written and read per level.
+///
+/// The orbital (below the cutoff N) fits in 32 bits whenever the solve can finish: N d levels
+/// beyond 2^32 are refused by the gather ([`super::gather`]); components and families are below
+/// d, branch counts below the sector size.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct Packed {
+    pub(super) energy: f64,
+    bound: f64,
+    kato_temple: f64,
+    leakage: f64,
+    in_space_residual: f64,
+    top_weight: f64,
+    tail_weight: f64,
+    label_n: i64,
+    orbital: u32,
+    sector: u32,
+    component: u32,
+    family: u32,
+    label_count: u32,
+    /// 0 lower, 1 unpaired, 2 upper ([`Branch`]).
+    label_side: u8,
+    /// 0 exact sector, 1 continuation, 2 unlabelled ([`LabelOrigin`]).
+    label_origin: u8,
+    /// [`Root::sign`].
+    root: i8,
+    has_kato_temple: bool,
+}
+
+impl Packed {
+    /// Pack `l`, a level of the chunk's sector number `sector`.
+    pub(super) fn pack(l: &Level, sector: u32) -> Packed {
+        let (label_side, label_count) = match l.label.branch {
+            Branch::Lower(k) => (0, k),
+            Branch::Unpaired => (1, 0),
+            Branch::Upper(k) => (2, k),
+        };
+        Packed {
+            energy: l.energy,
+            bound: l.bound,
+            kato_temple: l.kato_temple.unwrap_or(0.0),
+            leakage: l.leakage,
+            in_space_residual: l.in_space_residual,
+            top_weight: l.top_weight,
+            tail_weight: l.tail_weight,
+            label_n: l.label.n,
+            orbital: l.orbital as u32,
+            sector,
+            component: l.component as u32,
+            family: l.label.family as u32,
+            label_count,
+            label_side,
+            label_origin: match l.label.origin {
+                LabelOrigin::ExactSector => 0,
+                LabelOrigin::Continuation => 1,
+                LabelOrigin::Unlabelled => 2,
+            },
+            root: l.branch.sign(),
+            has_kato_temple: l.kato_temple.is_some(),
+        }
+    }
+
+    /// The level record, with the sector read from the chunk's `sectors` and the convergence
+    /// state [`Convergence::NotConverged`].
+    pub(super) fn unpack(&self, sectors: &[SectorId]) -> Level {
+        Level {
+            energy: self.energy,
+            bound: self.bound,
+            kato_temple: self.has_kato_temple.then_some(self.kato_temple),
+            leakage: self.leakage,
+            in_space_residual: self.in_space_residual,
+            convergence: Convergence::NotConverged,
+            sector: sectors[self.sector as usize],
+            orbital: self.orbital as usize,
+            component: self.component as usize,
+            branch: Root::from_sign(self.root),
+            label: LandauLabel {
+                n: self.label_n,
+                branch: match self.label_side {
+                    0 => Branch::Lower(self.label_count),
+                    1 => Branch::Unpaired,
+                    _ => Branch::Upper(self.label_count),
+                },
+                origin: match self.label_origin {
+                    0 => LabelOrigin::ExactSector,
+                    1 => LabelOrigin::Continuation,
+                    _ => LabelOrigin::Unlabelled,
+                },
+                family: self.family as usize,
+            },
+            top_weight: self.top_weight,
+            tail_weight: self.tail_weight,
+        }
+    }
 }
 
 /// When the double-double refinement runs.
@@ -69,9 +207,70 @@ pub(super) enum RefinePolicy {
     Adaptive(f64),
 }
 
+/// The non-zero spinor entries of the operators of a [`LadderHamiltonian`], grouped by
+/// component pair (alpha, beta) in operator order, so that a sector matrix element visits only
+/// the operators that couple its two components.
+///
+/// # Formula
+/// H_(m alpha, n beta) = sum over operators a^dagger^j a^k with j - k = m - n of
+/// A_jk[alpha, beta] <m| a^dagger^j a^k |n>, summed in operator order exactly as
+/// [`LadderHamiltonian::element`] sums it (the same terms in the same order: the same bits).
+pub(super) struct Couplings {
+    dim: usize,
+    /// Entries of pair (alpha, beta) are `entries[start[alpha d + beta]..start[alpha d + beta + 1]]`.
+    start: Vec<usize>,
+    /// (shift j - k, j, k, A_jk[alpha, beta]).
+    entries: Vec<(i64, u32, u32, Complex64)>,
+}
+
+impl Couplings {
+    /// The table of `h`.
+    ///
+    /// # Complexity
+    /// O(ops d^2).
+    pub(super) fn new(h: &LadderHamiltonian) -> Self {
+        let d = h.dim;
+        let mut start = Vec::with_capacity(d * d + 1);
+        let mut entries = Vec::new();
+        for alpha in 0..d {
+            for beta in 0..d {
+                start.push(entries.len());
+                for op in &h.ops {
+                    let a = op.matrix[(alpha, beta)];
+                    if a.re != 0.0 || a.im != 0.0 {
+                        entries.push((op.shift(), op.j, op.k, a));
+                    }
+                }
+            }
+        }
+        start.push(entries.len());
+        Couplings {
+            dim: d,
+            start,
+            entries,
+        }
+    }
+
+    /// H_(m alpha, n beta), bit for bit [`LadderHamiltonian::element`].
+    #[inline]
+    fn element(&self, m: usize, alpha: usize, n: usize, beta: usize) -> Complex64 {
+        let pair = alpha * self.dim + beta;
+        let shift = m as i64 - n as i64;
+        let mut sum = Complex64::new(0.0, 0.0);
+        for &(s, j, k, a) in &self.entries[self.start[pair]..self.start[pair + 1]] {
+            if s == shift {
+                sum += a * crate::ladder::ladder_element(j, k, n);
+            }
+        }
+        sum
+    }
+}
+
 /// What every sector of one solve shares.
 pub(super) struct Job<'a> {
     pub(super) h: &'a LadderHamiltonian,
+    /// The operators of `h` by component pair, for the sector matrices.
+    pub(super) couplings: Couplings,
     pub(super) plan: &'a SectorPlan,
     pub(super) form: SpectrumForm,
     pub(super) reference: f64,
@@ -79,6 +278,8 @@ pub(super) struct Job<'a> {
     pub(super) keep_vectors: bool,
     /// Keep <n> of every level ([`crate::problem::Character::Compute`]).
     pub(super) keep_mean_n: bool,
+    /// Keep the d component weights of every level ([`crate::problem::Weights`]).
+    pub(super) keep_weights: bool,
     /// Label the levels of exact sectors n = J (off where only energies are wanted).
     pub(super) labels: bool,
     pub(super) real: bool,
@@ -125,7 +326,13 @@ impl Job<'_> {
             return Ok(());
         }
         let diag = self.diagonalise(id, scratch)?;
-        let Scratch { states, hs, eig, v } = scratch;
+        let Scratch {
+            states,
+            hs,
+            eig,
+            v,
+            levels,
+        } = scratch;
         let states: &[(usize, usize)] = states;
         let cutoff = self.plan.cutoff;
         // rotate degenerate clusters so cutoff artefacts separate (src/solve/cluster.rs)
@@ -143,14 +350,22 @@ impl Job<'_> {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
         })?;
-        let first_level = out.levels.len();
+        levels.clear();
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
             v.extend(vecs.column(i).iter().copied());
             let pair = self.eigenpair(states, hs, &diag, i, lam0, v);
-            self.push_levels(id, states, v, &pair, out);
+            self.push_levels(id, states, v, &pair, levels, out);
         }
-        self.finish_sector(id, &mut out.levels[first_level..], diag.windowed);
+        self.finish_sector(id, levels, diag.windowed);
+        if !levels.is_empty() {
+            // beyond 2^32 levels (or chunks) the gather refuses the solve before reading these
+            out.sector_starts.push(out.levels.len() as u32);
+            let sector = out.sectors.len() as u32;
+            out.sectors.push(id);
+            out.levels
+                .extend(levels.iter().map(|l| Packed::pack(l, sector)));
+        }
         Ok(())
     }
 
@@ -158,7 +373,7 @@ impl Job<'_> {
     fn element(&self, states: &[(usize, usize)], r: usize, c: usize) -> Complex64 {
         let (m, a) = states[r];
         let (n, b) = states[c];
-        let z = self.h.element(m, a, n, b);
+        let z = self.couplings.element(m, a, n, b);
         if self.real {
             Complex64::new(z.re, 0.0)
         } else {
@@ -288,14 +503,16 @@ impl Job<'_> {
         }
     }
 
-    /// Append the level(s) of one eigenpair to `out`: its weights, dominant state, top and
-    /// tail weights, leakage and bound; one level (direct form) or both roots (Klein-Gordon).
+    /// Append the level(s) of one eigenpair to `levels` (the sector's) and its weights, <n>
+    /// and vectors (as kept) to `out`: its weights, dominant state, top and tail weights,
+    /// leakage and bound; one level (direct form) or both roots (Klein-Gordon).
     fn push_levels(
         &self,
         id: SectorId,
         states: &[(usize, usize)],
         v: &[Complex64],
         pair: &Eigenpair,
+        levels: &mut Vec<Level>,
         out: &mut SectorResult,
     ) {
         let d = self.h.dim;
@@ -308,9 +525,13 @@ impl Job<'_> {
         let r =
             (pair.in_res * pair.in_res + out_res * out_res).sqrt() + pair.rounding + self.dropped;
         let w0 = out.weights.len();
-        out.weights.resize(w0 + d, 0.0);
-        let (best, top, tail, mean_n) =
-            weigh(states, v, &mut out.weights[w0..], top_from, tail_from);
+        let weights = if self.keep_weights {
+            out.weights.resize(w0 + d, 0.0);
+            Some(&mut out.weights[w0..])
+        } else {
+            None
+        };
+        let (best, top, tail, mean_n) = weigh(states, v, weights, top_from, tail_from);
         // one value per level pushed below: both roots of the Klein-Gordon form share it
         if self.keep_mean_n {
             let roots = match self.form {
@@ -342,7 +563,7 @@ impl Job<'_> {
         match self.form {
             SpectrumForm::Direct => {
                 // lam is already relative to the reference (subtracted in assembly)
-                out.levels.push(Level {
+                levels.push(Level {
                     energy: lam_full,
                     bound: r,
                     ..base
@@ -362,13 +583,13 @@ impl Job<'_> {
                         self.reference,
                     );
                     let bound = (ep - e).abs().max((e - em).abs());
-                    out.levels.push(Level {
+                    levels.push(Level {
                         energy: e,
                         bound,
                         branch,
                         ..base
                     });
-                    if branch == Root::Antiparticle {
+                    if branch == Root::Antiparticle && self.keep_weights {
                         // the second branch shares the weights of the first
                         let w: Vec<f64> = out.weights[w0..w0 + d].to_vec();
                         out.weights.extend_from_slice(&w);
@@ -397,14 +618,15 @@ impl Job<'_> {
     }
 }
 
-/// Add the component weights |v_(n alpha)|^2 of `v` over `states` into `weights` (d entries);
+/// Add the component weights |v_(n alpha)|^2 of `v` over `states` into `weights` (d entries,
+/// when given);
 /// return the dominant state (weight, n, alpha), the weight on orbitals n >= `top_from`, the
 /// weight on orbitals n >= `tail_from` and the mean orbital index
 /// <n> = sum n |v_(n alpha)|^2 / sum |v_(n alpha)|^2.
 fn weigh(
     states: &[(usize, usize)],
     v: &[Complex64],
-    weights: &mut [f64],
+    mut weights: Option<&mut [f64]>,
     top_from: usize,
     tail_from: usize,
 ) -> ((f64, usize, usize), f64, f64, f64) {
@@ -415,7 +637,9 @@ fn weigh(
     let mut first_moment = 0.0;
     for (idx, &(n, a)) in states.iter().enumerate() {
         let p = v[idx].norm_sqr();
-        weights[a] += p;
+        if let Some(w) = weights.as_deref_mut() {
+            w[a] += p;
+        }
         norm += p;
         first_moment += n as f64 * p;
         if p > best.0 {
@@ -430,4 +654,65 @@ fn weigh(
     }
     let mean_n = if norm > 0.0 { first_moment / norm } else { 0.0 };
     (best, top, tail, mean_n)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::Packed;
+    use crate::levels::{Branch, Convergence, LabelOrigin, LandauLabel, Level, Root};
+    use crate::sectors::SectorId;
+
+    #[test]
+    fn packed_levels_unpack_to_the_same_record() {
+        let sectors = [
+            SectorId { class: 0, label: 7 },
+            SectorId {
+                class: 2,
+                label: -3,
+            },
+        ];
+        let labels = [
+            LandauLabel::UNLABELLED,
+            LandauLabel {
+                n: 12,
+                branch: Branch::Upper(2),
+                origin: LabelOrigin::ExactSector,
+                family: 1,
+            },
+            LandauLabel {
+                n: 0,
+                branch: Branch::Unpaired,
+                origin: LabelOrigin::Continuation,
+                family: 0,
+            },
+            LandauLabel {
+                n: 5,
+                branch: Branch::Lower(1),
+                origin: LabelOrigin::ExactSector,
+                family: 3,
+            },
+        ];
+        let roots = [Root::Antiparticle, Root::Direct, Root::Particle];
+        for (i, label) in labels.into_iter().enumerate() {
+            for (r, branch) in roots.into_iter().enumerate() {
+                let l = Level {
+                    energy: -1.25 + i as f64,
+                    bound: 3e-12,
+                    kato_temple: (r != 1).then_some(1e-20 * (r + 1) as f64),
+                    leakage: 1e-13,
+                    in_space_residual: 2e-15,
+                    convergence: Convergence::NotConverged,
+                    sector: sectors[r % 2],
+                    orbital: 123_456 + i,
+                    component: r,
+                    branch,
+                    label,
+                    top_weight: 0.25,
+                    tail_weight: 0.5,
+                };
+                assert_eq!(Packed::pack(&l, (r % 2) as u32).unpack(&sectors), l);
+            }
+        }
+        assert!(std::mem::size_of::<Packed>() < std::mem::size_of::<Level>());
+    }
 }
