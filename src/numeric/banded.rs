@@ -396,7 +396,7 @@ fn check_finite(name: &str, x: f64) -> Result<()> {
 /// LAPACK's `gbtrf`), all in one buffer.
 ///
 /// # Storage
-/// Row k of the buffer holds w = 3b + 1 numbers: U_kk, U_k,k+1, ..., U_k,k+2b (the pivoted
+/// Row k of the buffer holds w = 3b + 1 numbers: 1 / U_kk, U_k,k+1, ..., U_k,k+2b (the pivoted
 /// upper factor gains at most b super-diagonals beyond the band), then the b multipliers
 /// l_(k+1),k .. l_(k+b),k of elimination step k. The pivot row of step k is k + `piv[k]`.
 /// The factorisation runs in a ring of the b + 1 rows still active (a few kilobytes, resident
@@ -500,6 +500,9 @@ impl<T: Scalar> BandedLu<T> {
             let pivot = urow[0];
             let out = &mut f[k * w..(k + 1) * w];
             out[..len].copy_from_slice(urow);
+            // the diagonal is stored inverted: the backward sweep multiplies (no division
+            // on its serial dependency chain)
+            out[0] = T::one() / pivot;
             for i in k + 1..=last {
                 let si = slot(i);
                 let l = ring[si + (k + b - i)] / pivot;
@@ -550,7 +553,11 @@ impl<T: Scalar> BandedLu<T> {
     #[inline]
     pub(crate) fn upper(&self, k: usize, j: usize) -> T {
         let w = 3 * self.b + 1;
-        self.f[k * w + (j - k)]
+        if j == k {
+            T::one() / self.f[k * w]
+        } else {
+            self.f[k * w + (j - k)]
+        }
     }
 
     /// The forward sweep x <- L^(-1) P^T x (row interchanges and multipliers). With `REV` the
@@ -584,7 +591,9 @@ impl<T: Scalar> BandedLu<T> {
         }
     }
 
-    /// The backward sweep x <- U^(-1) x (local indices as in [`BandedLu::forward`]).
+    /// The backward sweep x <- U^(-1) x (local indices as in [`BandedLu::forward`]). The terms
+    /// of the far columns k + 2..=k + 2b are summed first, off the serial chain; only the
+    /// newest x_(k+1) and the stored 1 / U_kk sit on it.
     pub(crate) fn backward<const REV: bool>(&self, x: &mut [T]) {
         let (n, b) = (self.n, self.b);
         let wu = 2 * b + 1;
@@ -592,19 +601,24 @@ impl<T: Scalar> BandedLu<T> {
         for k in (0..n).rev() {
             let jmax = (k + 2 * b).min(n - 1);
             let row = &self.f[k * w..k * w + (jmax - k) + 1];
+            let mut far = T::zero();
             if REV {
                 let rk = n - 1 - k;
-                let mut s = x[rk];
-                for (uj, &xj) in row.iter().skip(1).zip(x[n - 1 - jmax..rk].iter().rev()) {
-                    s -= *uj * xj;
+                if jmax > k {
+                    for (uj, &xj) in row[2..].iter().zip(x[n - 1 - jmax..rk - 1].iter().rev()) {
+                        far += *uj * xj;
+                    }
+                    x[rk] = (x[rk] - far - row[1] * x[rk - 1]) * row[0];
+                } else {
+                    x[rk] *= row[0];
                 }
-                x[rk] = s / row[0];
+            } else if jmax > k {
+                for (uj, &xj) in row[2..].iter().zip(x[k + 2..=jmax].iter()) {
+                    far += *uj * xj;
+                }
+                x[k] = (x[k] - far - row[1] * x[k + 1]) * row[0];
             } else {
-                let mut s = x[k];
-                for (uj, &xj) in row.iter().skip(1).zip(x[k + 1..=jmax].iter()) {
-                    s -= *uj * xj;
-                }
-                x[k] = s / row[0];
+                x[k] *= row[0];
             }
         }
     }
