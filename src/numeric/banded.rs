@@ -259,11 +259,17 @@ impl BandedHermitian {
         let (n, b, w) = (self.n, self.b, self.b + 1);
         for (i, o) in (r0..r1).zip(out.iter_mut()) {
             let mut acc = T::zero();
-            for j in i.saturating_sub(b)..=i {
-                acc += self.at::<T>(i * w + (j + b - i)) * x[j];
+            let j0 = i.saturating_sub(b);
+            for (j, &xj) in x[j0..=i].iter().enumerate().map(|(d, xj)| (j0 + d, xj)) {
+                acc += self.at::<T>(i * w + (j + b - i)) * xj;
             }
-            for j in i + 1..=(i + b).min(n - 1) {
-                acc += self.at::<T>(j * w + (i + b - j)).conjugate() * x[j];
+            let j1 = (i + b).min(n - 1);
+            for (j, &xj) in x[i + 1..=j1]
+                .iter()
+                .enumerate()
+                .map(|(d, xj)| (i + 1 + d, xj))
+            {
+                acc += self.at::<T>(j * w + (i + b - j)).conjugate() * xj;
             }
             *o = acc;
         }

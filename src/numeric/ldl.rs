@@ -495,7 +495,7 @@ pub(crate) enum ShiftInverse<T: Scalar> {
     /// [`PartitionedLdl`] (two threads, n (b + 1) numbers).
     Ldl(PartitionedLdl<T>),
     /// [`PartitionedLu`] (two threads, n (3b + 1) numbers).
-    SplitLu(PartitionedLu<T>),
+    SplitLu(Box<PartitionedLu<T>>),
     /// [`BandedLu`] (one thread, n (3b + 1) numbers).
     Lu(BandedLu<T>),
 }
@@ -518,7 +518,7 @@ impl<T: Scalar> ShiftInverse<T> {
         }
         if h.size() >= SPLIT_LU_MIN {
             if let Some(plu) = PartitionedLu::<T>::factor(h, sigma)? {
-                return Ok(ShiftInverse::SplitLu(plu));
+                return Ok(ShiftInverse::SplitLu(Box::new(plu)));
             }
         }
         BandedLu::<T>::factor_pub(h, sigma).map(ShiftInverse::Lu)

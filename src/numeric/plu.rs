@@ -217,7 +217,7 @@ impl<T: Scalar> PartitionedLu<T> {
     fn checked(&self, h: &BandedHermitian, sigma: f64) -> bool {
         let n = self.n;
         let mut y = vec![T::zero(); n];
-        random_fill(&mut y, &mut SplitMix(0x5eed_0f_c0ffee));
+        random_fill(&mut y, &mut SplitMix(0x5eed_0fc0_ffee));
         let mut x = y.clone();
         self.solve_unchecked(&mut x);
         let mut r = vec![T::zero(); n];

@@ -732,7 +732,7 @@ fn cholesky_qr2<T: Scalar>(basis: &mut DMatrix<T>, q0: usize, k: usize) -> bool 
             return false;
         };
         let l = chol.l();
-        if (0..k).any(|i| !(l[(i, i)].re > 1e-5)) {
+        if (0..k).any(|i| l[(i, i)].re.is_nan() || l[(i, i)].re <= 1e-5) {
             return false;
         }
         let Some(linv) = l.solve_lower_triangular(&DMatrix::identity(k, k)) else {
