@@ -12,7 +12,8 @@ use ladderfan::model::{Model, Monomial};
 use ladderfan::numeric::banded::BandedHermitian;
 use ladderfan::numeric::dense::{eigh, Vectors};
 use ladderfan::numeric::ldl::PartitionedLdl;
-use ladderfan::numeric::window::{in_window, nearest};
+use ladderfan::numeric::plu::{min_size, PartitionedLu};
+use ladderfan::numeric::window::{in_window, nearest, nearest_pairs};
 use ladderfan::units::Units;
 use nalgebra::{DMatrix, SymmetricEigen};
 use num_complex::Complex64;
@@ -372,6 +373,119 @@ fn partitioned_ldl_solves_and_counts_like_the_dense_oracle() {
     }
     // the random matrices factor without pivoting at almost every shift
     assert!(checked >= 56, "only {checked} of 64 factorisations existed");
+}
+
+#[test]
+fn partitioned_lu_solves_like_the_dense_oracle_or_declines() {
+    // sizes at and above the partition minimum 8b + 8, b = 1 to 7, shifts between eigenvalues,
+    // very close to one (1e-6 of the local spacing) and outside the spectrum; where it
+    // factors, the backward error must be that of a pivoted banded LU (eps times a small
+    // multiple of the bandwidth; Golub and Van Loan 2013, sec. 4.3)
+    let mut checked = 0;
+    let mut tried = 0;
+    for (n, b) in [
+        (64, 7),
+        (65, 7),
+        (200, 7),
+        (301, 4),
+        (97, 1),
+        (40, 3),
+        (16, 1),
+        (12, 1),
+    ] {
+        for field in [Field::Real, Field::Complex] {
+            let (band, dense) = random_band(n, b, field, 29 + n as u64 + b as u64);
+            let values = oracle(&dense);
+            let mid = n / 2;
+            let gap = values[mid + 1] - values[mid];
+            for sigma in [
+                0.5 * (values[mid] + values[mid + 1]),
+                values[mid] + 1e-6 * gap,
+                values[0] - 1.0,
+                values[n - 1] + 0.25,
+            ] {
+                let mut rng = Rng(7 + n as u64);
+                let x: Vec<Complex64> = (0..n)
+                    .map(|_| Complex64::new(rng.next(), rng.next()))
+                    .collect();
+                let bound = 1e-14 * (2.0 * b as f64 + 1.0);
+                let fc = PartitionedLu::<Complex64>::factor(&band, sigma).unwrap();
+                if n < min_size(b) {
+                    assert!(fc.is_none(), "n {n} b {b}: partitioned below the minimum");
+                    continue;
+                }
+                tried += 1;
+                if let Some(f) = fc {
+                    let mut z = x.clone();
+                    f.solve_in_place(&mut z).unwrap();
+                    let eta = relative_residual(&dense, sigma, &x, &z);
+                    assert!(
+                        eta <= bound,
+                        "n {n} b {b} sigma {sigma}: backward error {eta:e}"
+                    );
+                    assert!(f.solve_in_place(&mut z[1..]).is_err());
+                    checked += 1;
+                }
+                if field == Field::Real {
+                    if let Some(f) = PartitionedLu::<f64>::factor(&band, sigma).unwrap() {
+                        let mut zr: Vec<f64> = x.iter().map(|c| c.re).collect();
+                        f.solve_in_place(&mut zr).unwrap();
+                        let xr: Vec<Complex64> =
+                            x.iter().map(|c| Complex64::new(c.re, 0.0)).collect();
+                        let zc: Vec<Complex64> =
+                            zr.iter().map(|&r| Complex64::new(r, 0.0)).collect();
+                        let eta = relative_residual(&dense, sigma, &xr, &zc);
+                        assert!(eta <= bound, "real n {n} b {b} sigma {sigma}: {eta:e}");
+                    }
+                }
+            }
+        }
+    }
+    // random blocks are almost never singular at these shifts
+    assert!(
+        checked + 4 >= tried,
+        "only {checked} of {tried} factorisations existed"
+    );
+    assert!(PartitionedLu::<f64>::factor(&random_band(64, 7, Field::Real, 1).0, f64::NAN).is_err());
+}
+
+#[test]
+fn window_solver_uses_the_partitioned_lu_where_ldl_refuses() {
+    // zero diagonal, unit off-diagonal (the path graph, eigenvalues 2 cos(pi k / (n + 1)),
+    // common practice): at sigma = 0 the first unpivoted pivot is exactly zero, so the
+    // L D L^H refuses; n = 20001 makes both halves (10000 rows) non-singular at 0, so the
+    // two-threaded pivoted LU is used. Same levels on one thread and on two.
+    let n = 20_001;
+    let band = BandedHermitian::from_fn(n, 1, |i, j| {
+        Complex64::new(if i == j { 0.0 } else { 1.0 }, 0.0)
+    })
+    .unwrap();
+    let count = 6;
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| nearest_pairs(&band, 0.0, count).unwrap())
+    };
+    let (one, two) = (run(1), run(2));
+    assert!(one.work().split_lu && !one.work().ldl, "{:?}", one.work());
+    let mut exact: Vec<f64> = (1..=n)
+        .map(|k| 2.0 * (std::f64::consts::PI * k as f64 / (n + 1) as f64).cos())
+        .collect();
+    exact.sort_by(|a, b| a.abs().total_cmp(&b.abs()));
+    let mut want = exact[..count].to_vec();
+    want.sort_by(f64::total_cmp);
+    for i in 0..count {
+        assert!(
+            (one.values()[i] - want[i]).abs() <= 1e-12 * 2.0,
+            "{} vs {}",
+            one.values()[i],
+            want[i]
+        );
+        assert!(one.residuals()[i] <= 1e-10 * 2.0);
+        assert_eq!(one.values()[i].to_bits(), two.values()[i].to_bits());
+    }
 }
 
 #[test]

@@ -364,7 +364,7 @@ fn main() {
             let work = eig.work();
             serde_json::json!({
                 "path": "window", "cutoff": n, "size": d * n, "threads": threads,
-                "ldl": work.ldl, "lanczos_steps": work.lanczos_steps, "restarts": work.restarts,
+                "ldl": work.ldl, "split_lu": work.split_lu, "lanczos_steps": work.lanczos_steps, "restarts": work.restarts,
                 "seconds": t, "repeats": reps, "build_seconds": build,
                 "target": target, "count": count, "max_residual": max_res,
                 "half_bandwidth": half,

@@ -249,6 +249,32 @@ impl BandedHermitian {
         }
     }
 
+    /// Rows r0..r1 of y = H x: `out[i - r0] = sum_j H_ij x_j` for i in r0..r1 (x of length n,
+    /// `out` of length r1 - r0; caller checks). Each row gathers its 2b + 1 products (the
+    /// upper part from the stored conjugates), so disjoint row ranges can run in parallel.
+    ///
+    /// # Complexity
+    /// O((r1 - r0) b).
+    pub(crate) fn mul_rows<T: Scalar>(&self, x: &[T], r0: usize, r1: usize, out: &mut [T]) {
+        let (n, b, w) = (self.n, self.b, self.b + 1);
+        for (i, o) in (r0..r1).zip(out.iter_mut()) {
+            let mut acc = T::zero();
+            let j0 = i.saturating_sub(b);
+            for (j, &xj) in x[j0..=i].iter().enumerate().map(|(d, xj)| (j0 + d, xj)) {
+                acc += self.at::<T>(i * w + (j + b - i)) * xj;
+            }
+            let j1 = (i + b).min(n - 1);
+            for (j, &xj) in x[i + 1..=j1]
+                .iter()
+                .enumerate()
+                .map(|(d, xj)| (i + 1 + d, xj))
+            {
+                acc += self.at::<T>(j * w + (i + b - j)).conjugate() * xj;
+            }
+            *o = acc;
+        }
+    }
+
     /// LU factorisation with partial pivoting of H - sigma I in complex arithmetic.
     ///
     /// # Errors
@@ -376,7 +402,7 @@ fn check_finite(name: &str, x: f64) -> Result<()> {
 /// LAPACK's `gbtrf`), all in one buffer.
 ///
 /// # Storage
-/// Row k of the buffer holds w = 3b + 1 numbers: U_kk, U_k,k+1, ..., U_k,k+2b (the pivoted
+/// Row k of the buffer holds w = 3b + 1 numbers: 1 / U_kk, U_k,k+1, ..., U_k,k+2b (the pivoted
 /// upper factor gains at most b super-diagonals beyond the band), then the b multipliers
 /// l_(k+1),k .. l_(k+b),k of elimination step k. The pivot row of step k is k + `piv[k]`.
 /// The factorisation runs in a ring of the b + 1 rows still active (a few kilobytes, resident
@@ -398,33 +424,48 @@ impl<T: Scalar> BandedLu<T> {
         Self::factor(h, sigma)
     }
 
-    /// Row i of H - sigma I, columns i-b..=i+b, into a ring slot that holds columns
-    /// i-b..=i+2b (offset j - i + b); the fill columns start at zero.
-    fn load_row(h: &BandedHermitian, sigma: f64, i: usize, slot: &mut [T]) {
-        let (n, b) = (h.n, h.b);
-        let hw = b + 1;
-        slot.iter_mut().for_each(|z| *z = T::zero());
-        // lower part and diagonal from row i: H_ij, j = i-b..=i
-        for j in i.saturating_sub(b)..=i {
-            slot[j + b - i] = h.at::<T>(i * hw + (j + b - i));
+    /// Element (i, j) of H - sigma I for |i - j| <= b, i, j < n (caller checks).
+    #[inline]
+    pub(crate) fn shifted(h: &BandedHermitian, sigma: f64, i: usize, j: usize) -> T {
+        let hw = h.b + 1;
+        if j < i {
+            h.at::<T>(i * hw + (j + h.b - i))
+        } else if j > i {
+            h.at::<T>(j * hw + (i + h.b - j)).conjugate()
+        } else {
+            h.at::<T>(i * hw + h.b) - T::from_real(sigma)
         }
-        slot[b] -= T::from_real(sigma);
-        // upper part from the rows below: H_ij = conj(H_ji), j = i+1..=i+b
-        for j in i + 1..=(i + b).min(n - 1) {
-            slot[j + b - i] = h.at::<T>(j * hw + (i + b - j)).conjugate();
+    }
+
+    /// Row i of the n x n band matrix `get`, columns i-b..=i+b, into a ring slot that holds
+    /// columns i-b..=i+2b (offset j - i + b); the fill columns start at zero.
+    fn load_row(n: usize, b: usize, get: &impl Fn(usize, usize) -> T, i: usize, slot: &mut [T]) {
+        slot.iter_mut().for_each(|z| *z = T::zero());
+        for j in i.saturating_sub(b)..=(i + b).min(n - 1) {
+            slot[j + b - i] = get(i, j);
         }
     }
 
     fn factor(h: &BandedHermitian, sigma: f64) -> Result<Self> {
         check_finite("shift sigma", sigma)?;
-        let (n, b) = (h.n, h.b);
+        Self::factor_fn(h.n, h.b, sigma, |i, j| Self::shifted(h, sigma, i, j))
+    }
+
+    /// LU with partial pivoting of the n x n band matrix of half-bandwidth b whose element
+    /// (i, j), |i - j| <= b, is `get(i, j)` (`sigma` only names the shift in the error).
+    pub(crate) fn factor_fn(
+        n: usize,
+        b: usize,
+        sigma: f64,
+        get: impl Fn(usize, usize) -> T,
+    ) -> Result<Self> {
         let sw = 3 * b + 1; // ring slot: columns i-b..=i+2b of active row i
         let wu = 2 * b + 1;
         let w = wu + b;
         let mut ring = vec![T::zero(); (b + 1) * sw];
         for i in 0..(b + 1).min(n) {
             let s = (i % (b + 1)) * sw;
-            Self::load_row(h, sigma, i, &mut ring[s..s + sw]);
+            Self::load_row(n, b, &get, i, &mut ring[s..s + sw]);
         }
         let mut f = vec![T::zero(); n * w];
         let mut piv = vec![0u32; n];
@@ -465,6 +506,9 @@ impl<T: Scalar> BandedLu<T> {
             let pivot = urow[0];
             let out = &mut f[k * w..(k + 1) * w];
             out[..len].copy_from_slice(urow);
+            // the diagonal is stored inverted: the backward sweep multiplies (no division
+            // on its serial dependency chain)
+            out[0] = T::one() / pivot;
             for i in k + 1..=last {
                 let si = slot(i);
                 let l = ring[si + (k + b - i)] / pivot;
@@ -480,7 +524,7 @@ impl<T: Scalar> BandedLu<T> {
             }
             // the slot of row k takes row k + b + 1
             if k + b + 1 < n {
-                Self::load_row(h, sigma, k + b + 1, &mut ring[sk..sk + sw]);
+                Self::load_row(n, b, &get, k + b + 1, &mut ring[sk..sk + sw]);
             }
         }
         Ok(BandedLu { n, b, f, piv })
@@ -507,29 +551,81 @@ impl<T: Scalar> BandedLu<T> {
     }
 
     pub(crate) fn solve_unchecked(&self, x: &mut [T]) {
+        self.forward::<false>(x);
+        self.backward::<false>(x);
+    }
+
+    /// U_kj of the upper factor, j in k..=k + 2b (caller checks; zero past the stored width).
+    #[inline]
+    pub(crate) fn upper(&self, k: usize, j: usize) -> T {
+        let w = 3 * self.b + 1;
+        if j == k {
+            T::one() / self.f[k * w]
+        } else {
+            self.f[k * w + (j - k)]
+        }
+    }
+
+    /// The forward sweep x <- L^(-1) P^T x (row interchanges and multipliers). With `REV` the
+    /// local index i is element n - 1 - i of `x` (a matrix factored in reversed order).
+    pub(crate) fn forward<const REV: bool>(&self, x: &mut [T]) {
         let (n, b) = (self.n, self.b);
         let wu = 2 * b + 1;
         let w = wu + b;
         for k in 0..n {
             let p = k + self.piv[k] as usize;
-            if p != k {
-                x.swap(k, p);
-            }
-            let xk = x[k];
             let last = (k + b).min(n - 1);
             let mult = &self.f[k * w + wu..k * w + wu + (last - k)];
-            for (xi, &l) in x[k + 1..=last].iter_mut().zip(mult) {
-                *xi -= l * xk;
+            if REV {
+                let (rk, rp) = (n - 1 - k, n - 1 - p);
+                if p != k {
+                    x.swap(rk, rp);
+                }
+                let xk = x[rk];
+                for (xi, &l) in x[n - 1 - last..rk].iter_mut().rev().zip(mult) {
+                    *xi -= l * xk;
+                }
+            } else {
+                if p != k {
+                    x.swap(k, p);
+                }
+                let xk = x[k];
+                for (xi, &l) in x[k + 1..=last].iter_mut().zip(mult) {
+                    *xi -= l * xk;
+                }
             }
         }
+    }
+
+    /// The backward sweep x <- U^(-1) x (local indices as in [`BandedLu::forward`]). The terms
+    /// of the far columns k + 2..=k + 2b are summed first, off the serial chain; only the
+    /// newest x_(k+1) and the stored 1 / U_kk sit on it.
+    pub(crate) fn backward<const REV: bool>(&self, x: &mut [T]) {
+        let (n, b) = (self.n, self.b);
+        let wu = 2 * b + 1;
+        let w = wu + b;
         for k in (0..n).rev() {
             let jmax = (k + 2 * b).min(n - 1);
             let row = &self.f[k * w..k * w + (jmax - k) + 1];
-            let mut s = x[k];
-            for (uj, &xj) in row.iter().skip(1).zip(x[k + 1..=jmax].iter()) {
-                s -= *uj * xj;
+            let mut far = T::zero();
+            if REV {
+                let rk = n - 1 - k;
+                if jmax > k {
+                    for (uj, &xj) in row[2..].iter().zip(x[n - 1 - jmax..rk - 1].iter().rev()) {
+                        far += *uj * xj;
+                    }
+                    x[rk] = (x[rk] - far - row[1] * x[rk - 1]) * row[0];
+                } else {
+                    x[rk] *= row[0];
+                }
+            } else if jmax > k {
+                for (uj, &xj) in row[2..].iter().zip(x[k + 2..=jmax].iter()) {
+                    far += *uj * xj;
+                }
+                x[k] = (x[k] - far - row[1] * x[k + 1]) * row[0];
+            } else {
+                x[k] *= row[0];
             }
-            x[k] = s / row[0];
         }
     }
 }

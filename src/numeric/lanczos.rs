@@ -296,7 +296,7 @@ impl Ritz {
 /// Rows per block of the blocked kernels: a block of the vector being orthogonalised (16 or
 /// 32 KiB) stays in cache while the basis columns stream past, so each pass over the basis
 /// reads it once and the vector once.
-const ROW_BLOCK: usize = 2048;
+pub(super) const ROW_BLOCK: usize = 2048;
 
 /// Columns 0..k of the column-major n x c matrix `v` become V[:, 0..m] Y for the m x k matrix
 /// `y` (k <= m), in place, one block of rows at a time (no n x k temporary).
@@ -419,11 +419,11 @@ fn scale_into<T: Scalar>(x: &[T], a: f64, out: &mut [T]) {
 /// Rows per parallel chunk of the vector kernels: fixed (not derived from the thread count),
 /// so the sums are added in the same order on any number of threads and the results do not
 /// depend on it. 16384 rows = 128 KiB real, large enough to hide rayon's task overhead.
-const PAR_ROWS: usize = 16384;
+pub(super) const PAR_ROWS: usize = 16384;
 
 /// Sum over the row chunks [r0, r1) of `part(r0, r1)` (a vector of `len` numbers), the chunks
 /// in parallel, the partial sums added in chunk order.
-fn chunk_sum<T: Scalar>(
+pub(super) fn chunk_sum<T: Scalar>(
     n: usize,
     len: usize,
     part: impl Fn(usize, usize) -> Vec<T> + Sync,

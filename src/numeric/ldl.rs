@@ -39,6 +39,7 @@
 
 use super::banded::{BandedHermitian, BandedLu, Scalar};
 use super::dense::{eigh, Vectors};
+use super::plu::PartitionedLu;
 use crate::error::{Error, Result};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -487,24 +488,38 @@ fn backward_bottom<T: Scalar>(f: &[T], b: usize, sep: &[T], x: &mut [T]) {
 pub const GROWTH_MAX: f64 = 64.0;
 
 /// The factored shift-invert operator (H - sigma I)^(-1) the Lanczos iteration applies: the
-/// two-sided L D L^H when its growth is small, else the pivoted LU.
+/// two-sided L D L^H when its growth is small, else the two-sided pivoted LU when it passes
+/// its check, else the serial pivoted LU.
 #[derive(Debug, Clone)]
 pub(crate) enum ShiftInverse<T: Scalar> {
     /// [`PartitionedLdl`] (two threads, n (b + 1) numbers).
     Ldl(PartitionedLdl<T>),
+    /// [`PartitionedLu`] (two threads, n (3b + 1) numbers).
+    SplitLu(Box<PartitionedLu<T>>),
     /// [`BandedLu`] (one thread, n (3b + 1) numbers).
     Lu(BandedLu<T>),
 }
 
+/// Smallest matrix size for which the window solver uses the two-threaded
+/// [`PartitionedLu`]: below it a solve takes tens of microseconds and the two joins per solve
+/// would not pay (common practice; the probe sizes are far above it).
+pub(crate) const SPLIT_LU_MIN: usize = 16384;
+
 impl<T: Scalar> ShiftInverse<T> {
     /// Factor H - sigma I: the partitioned L D L^H if it exists with growth at most
-    /// [`GROWTH_MAX`], else the pivoted LU.
+    /// [`GROWTH_MAX`], else the partitioned pivoted LU (n >= [`SPLIT_LU_MIN`]) if it passes its
+    /// check, else the serial pivoted LU.
     ///
     /// # Errors
     /// As [`BandedLu`]'s factorisation (no pivot in a column: sigma is an eigenvalue).
     pub(crate) fn factor(h: &BandedHermitian, sigma: f64) -> Result<Self> {
         if let Some(ldl) = PartitionedLdl::<T>::factor(h, sigma, GROWTH_MAX)? {
             return Ok(ShiftInverse::Ldl(ldl));
+        }
+        if h.size() >= SPLIT_LU_MIN {
+            if let Some(plu) = PartitionedLu::<T>::factor(h, sigma)? {
+                return Ok(ShiftInverse::SplitLu(Box::new(plu)));
+            }
         }
         BandedLu::<T>::factor_pub(h, sigma).map(ShiftInverse::Lu)
     }
@@ -513,6 +528,7 @@ impl<T: Scalar> ShiftInverse<T> {
     pub(crate) fn solve_unchecked(&self, x: &mut [T]) {
         match self {
             ShiftInverse::Ldl(f) => f.solve_unchecked(x),
+            ShiftInverse::SplitLu(f) => f.solve_unchecked(x),
             ShiftInverse::Lu(f) => f.solve_unchecked(x),
         }
     }

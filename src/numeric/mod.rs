@@ -16,6 +16,9 @@
 //! * [`ldl`]: the two-sided (partitioned) L D L^H of a shifted band matrix, both halves on two
 //!   threads meeting in a b x b separator: O(n b^2) time, n (b + 1) numbers, no pivoting
 //!   (used by the window solver when its growth is small).
+//! * [`plu`]: the two-sided LU with partial pivoting inside each half, meeting in a b x b
+//!   separator (two threads; checked by one solve, else the serial pivoted LU): O(n b^2)
+//!   time, n (3b + 1) numbers (the window solver's operator when the L D L^H grows too much).
 //! * [`window`]: the eigenvalues nearest a target or in an interval of a huge banded matrix,
 //!   by shift-invert Krylov-Schur Lanczos (the iteration itself in the private `lanczos`):
 //!   O(n b^2 + (r + 1) n m^2) for r restarts and a basis of m vectors.
@@ -33,6 +36,7 @@ pub mod dd;
 pub mod dense;
 mod lanczos;
 pub mod ldl;
+pub mod plu;
 pub mod refine;
 pub mod root;
 pub mod slicing;
