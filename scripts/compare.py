@@ -305,6 +305,80 @@ def print_streaming_fan(rows):
         print(f"| {r['points']} | {r['cutoff']} | {r['seconds']:.1f} | {rss} | {ratio} |")
 
 
+# the 3D sweep of the before/after row: the same `ladderfan dos` command for both binaries
+SWEEP_3D_ARGS = ["dos", "--builtin", "weyl", "--field", "10", "--cutoff", "200", "--width", "1",
+                 "--emin", "-40", "--emax", "40", "--kz-integrate", "--density-cm3", "1e16",
+                 "--b-min", "2", "--b-max", "10", "--json"]
+
+
+def sweep_3d_before_after(before, after, points, rounds):
+    """The kz-integrated Fermi-level sweep of the Weyl node (built-in `weyl`, v = 3e5 m/s,
+    invented; cutoff 200, 1 meV Gaussian lines, energies -40..40 meV, 1e16 cm^-3, `points`
+    fields 2-10 T) by the `ladderfan dos --kz-integrate` command of two release binaries, e.g.
+    one built from an older commit (`before`) and this checkout's (`after`), alternating for
+    `rounds` rounds in this process. Wall time from the clock, CPU time (user + system) of the
+    child from getrusage; the Fermi levels of both at every field are compared."""
+    import resource
+
+    def run(binary):
+        cmd = [binary] + SWEEP_3D_ARGS + ["--points", str(points)]
+        c0 = resource.getrusage(resource.RUSAGE_CHILDREN)
+        t0 = time.perf_counter()
+        p = subprocess.run(cmd, capture_output=True, text=True)
+        wall = time.perf_counter() - t0
+        c1 = resource.getrusage(resource.RUSAGE_CHILDREN)
+        if p.returncode != 0:
+            sys.stderr.write(p.stderr)
+            raise SystemExit(f"compare.py: {' '.join(cmd)} failed ({p.returncode})")
+        cpu = (c1.ru_utime - c0.ru_utime) + (c1.ru_stime - c0.ru_stime)
+        sweep = json.loads(p.stdout)["volume"]["fermi_sweep"]
+        return wall, cpu, sweep
+
+    times = {"before": [], "after": []}
+    cpus = {"before": [], "after": []}
+    sweeps = {}
+    for _ in range(rounds):
+        for side, binary in (("before", before), ("after", after)):
+            wall, cpu, sweep = run(binary)
+            times[side].append(wall)
+            cpus[side].append(cpu)
+            sweeps[side] = sweep
+
+    def median(v):
+        v = sorted(v)
+        n = len(v)
+        return v[n // 2] if n % 2 else 0.5 * (v[n // 2 - 1] + v[n // 2])
+
+    b, a = sweeps["before"], sweeps["after"]
+    if [x["field"] for x in b] != [x["field"] for x in a]:
+        raise SystemExit("compare.py: the two binaries swept different fields")
+    de = max(abs(x["fermi_energy"] - y["fermi_energy"]) for x, y in zip(b, a))
+    ddos = max(abs(x["dos_at_fermi_per_cm3"] - y["dos_at_fermi_per_cm3"])
+               / abs(x["dos_at_fermi_per_cm3"]) for x, y in zip(b, a))
+    tb, ta = median(times["before"]), median(times["after"])
+    cb, ca = median(cpus["before"]), median(cpus["after"])
+    return {"points": points, "rounds": rounds, "before_bin": before, "after_bin": after,
+            "command": " ".join(["ladderfan"] + SWEEP_3D_ARGS + ["--points", str(points)]),
+            "before_seconds": tb, "after_seconds": ta, "ratio": tb / ta,
+            "before_cpu": cb, "after_cpu": ca, "cpu_ratio": cb / ca,
+            "before_runs_seconds": times["before"], "after_runs_seconds": times["after"],
+            "before_kz_points": sum(x["kz_points"] for x in b),
+            "after_kz_points": sum(x["kz_points"] for x in a),
+            "max_fermi_difference_meV": de, "max_relative_dos_difference": ddos,
+            "load_average": os.getloadavg()}
+
+
+def print_sweep_3d(r):
+    print(f"3D sweep before/after ({r['command']}; medians of {r['rounds']} alternating "
+          f"rounds): before ({r['before_bin']}) {r['before_seconds']:.3g} s, CPU "
+          f"{r['before_cpu']:.3g} s, {r['before_kz_points']} kz points; after "
+          f"({r['after_bin']}) {r['after_seconds']:.3g} s, CPU {r['after_cpu']:.3g} s, "
+          f"{r['after_kz_points']} kz points; ratio {r['ratio']:.2f}x (CPU {r['cpu_ratio']:.2f}x, "
+          f"goal 10x); max |dE_F| {r['max_fermi_difference_meV']:.2g} meV, max rel. dDOS(E_F) "
+          f"{r['max_relative_dos_difference']:.2g}; load at the end "
+          f"{' '.join(f'{x:.2f}' for x in r['load_average'])}")
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--probe",
@@ -324,6 +398,17 @@ def main():
                     help="skip the streaming fan memory rows (500 and 4000 points at cutoff 1000)")
     ap.add_argument("--stream-points", default="500,4000",
                     help="numbers of points of the streaming fan memory rows")
+    ap.add_argument("--before-bin",
+                    help="release `ladderfan` of an older commit (e.g. 852de3c, built outside this "
+                         "script): adds the row '3D sweep before/after', the same `dos "
+                         "--kz-integrate` Fermi sweep by it and by --after-bin; without it the "
+                         "row is left out")
+    ap.add_argument("--after-bin",
+                    help="release `ladderfan` of this checkout for that row (compare.sh builds "
+                         "it when --before-bin is given)")
+    ap.add_argument("--only-3d", action="store_true",
+                    help="run only the 3D sweep before/after row (needs --before-bin and "
+                         "--after-bin; no probe, numpy or scipy)")
     ap.add_argument("--worker", help=argparse.SUPPRESS)
     ap.add_argument("--cutoff", type=int, help=argparse.SUPPRESS)
     ap.add_argument("--values", help=argparse.SUPPRESS)
@@ -333,6 +418,17 @@ def main():
     args = ap.parse_args()
     if args.worker:
         return worker(args)
+    if args.before_bin and not args.after_bin:
+        ap.error("--before-bin needs --after-bin (this checkout's release ladderfan)")
+    if args.only_3d:
+        if not args.before_bin:
+            ap.error("--only-3d needs --before-bin and --after-bin")
+        r = sweep_3d_before_after(args.before_bin, args.after_bin, 40 if args.quick else 200, 2)
+        print_sweep_3d(r)
+        if args.json:
+            with open(args.json, "w") as f:
+                json.dump({"sweep_3d_before_after": r}, f, indent=1)
+        return 0
     if not args.probe:
         # the workers re-run this file without it; the comparison itself needs it
         ap.error("the following arguments are required: --probe")
@@ -466,6 +562,9 @@ def main():
     vol_fields = 40 if args.quick else 200
     vol, vol_rss = run_measured([args.probe, "volume", str(vol_fields), "--threads", str(nproc),
                                  "--rounds", "2"], env)
+    # 5b. the same kind of sweep by an older release binary (--before-bin) and this checkout's
+    sweep_3d = (sweep_3d_before_after(args.before_bin, args.after_bin, vol_fields, 2)
+                if args.before_bin else None)
 
     def load(r, case):
         w = np.fromfile(r["values"], dtype="<f8")
@@ -584,6 +683,11 @@ def main():
           f"vs {vol['adaptive_cpu']:.3g}; max |dE_F| {vol['max_fermi_difference_meV']:.2g} meV, "
           f"max rel. dDOS(E_F) {vol['max_relative_dos_difference']:.2g}; peak RSS "
           f"{'n/a' if vol_rss is None else round(vol_rss)} MiB")
+    if sweep_3d:
+        print_sweep_3d(sweep_3d)
+    else:
+        print("3D sweep before/after: left out (give --before-bin, a release ladderfan of the "
+              "older commit)")
     if dense_out:
         print()
         print("Dense sector (unsplit 3+1 Dirac matrix; complex = D H D^H, D = diag(exp(i phi_k))): "
@@ -628,7 +732,8 @@ def main():
     if args.json:
         with open(args.json, "w") as f:
             json.dump({"date": now, "nproc": nproc, "load_average": load_avg,
-                       "matrix_check": matrix_check, "sweep": sw, "volume": vol, "rows": out_rows,
+                       "matrix_check": matrix_check, "sweep": sw, "volume": vol, "sweep_3d_before_after": sweep_3d,
+                       "rows": out_rows,
                        "dense": dense_out, "window_vs_eigsh": window_summary},
                       f, indent=1)
     return 0 if ok else 1

@@ -2,6 +2,7 @@
 # Side-by-side timing of ladderfan against numpy/scipy on the same matrices, measured in one run.
 #
 # Usage: scripts/compare.sh [--quick] [--skip-window] [--dense-sizes 500,1000,2000,4000]
+#                          [--before-bin PATH]
 #   --quick        smaller sizes (a smoke test of the script, not for the docs)
 #   --skip-window  do not time the window solver at N = 1e5 / 1e6 even if it exists
 #   --dense-sizes  dense sector sizes (multiples of 4; default 500,1000,2000,4000, with --quick
@@ -13,6 +14,11 @@
 #  * installs GNU time (/usr/bin/time, Debian package `time`) if missing, for peak memory;
 #  * pins OpenBLAS / OpenMP / MKL to one thread (two OpenBLAS threads on a shared 2-core machine
 #    ran 3-4x slower when measured; one thread is also what one ladderfan sector solve uses);
+#  * with --before-bin PATH (a release `ladderfan` built from an older commit, e.g. 852de3c, outside
+#    this script: `git worktree add ../old 852de3c && cargo build --release --bin ladderfan` there)
+#    also builds this checkout's release `ladderfan` and adds the row "3D sweep before/after": the
+#    same `dos --kz-integrate` Fermi sweep (Weyl node, 200 fields) by both, alternating; without
+#    --before-bin that row is left out (the old commit is never built here);
 #  * builds the bench target tools/compare_probe.rs in release mode (its executable path is
 #    read from cargo's JSON messages; CARGO_TARGET_DIR is honoured) and runs scripts/compare.py, which checks
 #    its numpy matrix against `ladderfan export`, times both sides, checks that the eigenvalues
@@ -51,4 +57,11 @@ if [ -z "$PROBE" ] || [ -z "$LADDERFAN" ]; then
     echo "compare.sh: cargo did not report the compare_probe or ladderfan executable" >&2
     exit 1
 fi
-exec "$VENV/bin/python" scripts/compare.py --probe "$PROBE" --ladderfan "$LADDERFAN" "$@"
+AFTER=()
+for arg in "$@"; do
+    if [ "$arg" = "--before-bin" ] || [[ "$arg" == --before-bin=* ]]; then
+        AFTER_BIN=$(cargo build --release --quiet --bin ladderfan --message-format=json | executable ladderfan)
+        AFTER=(--after-bin "$AFTER_BIN")
+    fi
+done
+exec "$VENV/bin/python" scripts/compare.py --probe "$PROBE" --ladderfan "$LADDERFAN" "${AFTER[@]}" "$@"

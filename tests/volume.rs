@@ -426,3 +426,49 @@ fn adaptive_path_agrees_with_the_uniform_reference_on_a_tilted_j_mod_3_model() {
     // the integral is not empty: a level lies in the range
     assert!(a.dos(0.0).max(a.dos(30.0)).max(a.dos(-30.0)) > 0.0);
 }
+
+#[test]
+fn adaptive_path_with_a_three_part_first_round_agrees_with_the_uniform_reference() {
+    // Reference: Quadrature::Uniform (as above; both stop at a change of 1e-7 of the peak, so
+    // they agree within 2e-7). At 2 T the first kz grid of the Weyl node (v = 3e5 m/s,
+    // invented) has steps of 2.7 line widths in kz (w / hbar v), so the first round cuts each
+    // interval into three (`first_parts`), not two: the grid must hold points at a third of
+    // a first-grid step, and the Fermi levels of both paths agree.
+    let m = models::weyl(WeylParams::default()).unwrap();
+    let settings = Settings::with_cutoff(200);
+    let fast = VolumeSettings::new(Broadening::gaussian(1.0), (-40.0, 40.0));
+    let reference = VolumeSettings {
+        quadrature: Quadrature::Uniform,
+        ..fast
+    };
+    let field = 2.0;
+    let a = VolumeDensity::compute(&m, field, &settings, &reference).unwrap();
+    let b = VolumeDensity::compute(&m, field, &settings, &fast).unwrap();
+    let h0 = 2.0 * b.kz_max / 64.0;
+    let thirds =
+        b.kz.iter()
+            .filter(|&&k| {
+                let f = ((k + b.kz_max) / h0).fract();
+                (f - 1.0 / 3.0).abs() < 1e-9 || (f - 2.0 / 3.0).abs() < 1e-9
+            })
+            .count();
+    assert!(thirds > 0, "no point at a third of a first-grid step");
+    let (dg, dn) = largest_differences(&a, &b, 161);
+    assert!(dg < 2e-7, "DOS differs by {dg:e} of its peak");
+    assert!(dn < 2e-7, "density differs by {dn:e} of its scale");
+    let n3 = from_per_cm3(Units::Lab, 1e16);
+    let (ea, eb) = (a.fermi_level(n3).unwrap(), b.fermi_level(n3).unwrap());
+    assert!((ea - eb).abs() < 1e-6, "E_F {ea} vs {eb} meV");
+    // the reported error is the last change, within the tolerance of the peak DOS
+    let peak = b
+        .curve(-40.0, 40.0, 401)
+        .unwrap()
+        .iter()
+        .map(|p| p.1)
+        .fold(0.0, f64::max);
+    assert!(
+        b.quadrature_error <= 1.001e-7 * peak,
+        "{:e}",
+        b.quadrature_error
+    );
+}

@@ -17,8 +17,11 @@
 //!   solved and counted twice; otherwise [-K, K].
 //! * Grid: the first grid has [`super::FIRST_POINTS`] points; each round halves every interval
 //!   that is still active and adds the change of the trapezoid sums on the check energies,
-//!   (h/4) (2 f(m) - f(a) - f(b)) for an interval [a, b] with midpoint m. An interval is
-//!   frozen (never halved again) when its ends and its midpoint were all inert sheets (no
+//!   (h/4) (2 f(m) - f(a) - f(b)) for an interval [a, b] with midpoint m. The first round cuts
+//!   every interval into 2, 3 or 4 equal parts instead, chosen from the steepest level slope
+//!   seen on the first grid (`first_parts`) so that the next round can already settle; the
+//!   change is then the trapezoid sum over the parts minus the old one. An interval is
+//!   frozen (never halved again) when its ends and its new points were all inert sheets (no
 //!   converged level within reach of the padded range) with the same count of levels
 //!   outside: the integrand is constant there to the line's reach (below 1e-17 of a line), so
 //!   its trapezoid sum is exact, and at its ends every derivative vanishes, so the uniform
@@ -26,7 +29,12 @@
 //!   refinement stops when one round changes the sums by at most the tolerance, as for the
 //!   uniform grid (the change is reported as the quadrature error); the result is the finer
 //!   grid, with the weights of the trapezoid rule on the non-uniform grid.
+//! * Check sums: the Gaussian line and its cumulative at each (level, check energy) pair come
+//!   from a shared table with Taylor polynomials (`gauss.rs`, the same values to rounding)
+//!   instead of an `exp` and an `erfc` each; the sums only steer the refinement and give the
+//!   reported change, the densities themselves are evaluated with `exp` and `erfc`.
 
+use super::gauss::{GaussTable, COVER};
 use super::mirror::kz_mirror;
 use super::quadrature::{check_volume_inputs, kz_limit, Change};
 use super::sheet::{sheet_of, Sheet, SheetPoint};
@@ -37,6 +45,7 @@ use super::{
 use crate::error::Result;
 use crate::hamiltonian::FieldPoint;
 use crate::model::Model;
+use crate::observables::dos::LineShape;
 use crate::solve::{converged_energies, LeanBuffers, Problem, Settings};
 use rayon::prelude::*;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
@@ -150,23 +159,37 @@ pub(super) fn compute(
     }
     let scale = frame.per_level * both / (2.0 * PI);
     let mut last_change = f64::INFINITY;
+    // the first round cuts each interval into `parts` (2 to 4, from the steepest level seen),
+    // every later round halves
+    let mut parts = first_parts(&nodes, frame.line.width, vs.tolerance);
     loop {
         let refine: Vec<usize> = (0..active.len()).filter(|&i| active[i]).collect();
-        if nodes.len() + refine.len() > vs.max_points {
+        if nodes.len() + refine.len() * (parts - 1) > vs.max_points {
             return Err(too_many_points(vs, last_change));
         }
         let mids: Vec<f64> = refine
             .iter()
-            .map(|&i| 0.5 * (nodes[i].kz + nodes[i + 1].kz))
+            .flat_map(|&i| {
+                let (a, b) = (nodes[i].kz, nodes[i + 1].kz);
+                (1..parts).map(move |j| a + (b - a) * j as f64 / parts as f64)
+            })
             .collect();
         let fresh = nodes_at(&mids)?;
         let (mut dg, mut dn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
-        for (&i, m) in refine.iter().zip(&fresh) {
+        for (&i, inner) in refine.iter().zip(fresh.chunks(parts - 1)) {
+            // trapezoid sum over the `parts` sub-intervals minus the old (h/2)(f(a) + f(b))
             let (a, b) = (&nodes[i], &nodes[i + 1]);
-            let q = 0.25 * (b.kz - a.kz);
+            let h = b.kz - a.kz;
+            let sub = h / parts as f64;
+            let ends = 0.5 * sub - 0.5 * h;
             for k in 0..check.len() {
-                dg[k] += q * (2.0 * m.g[k] - a.g[k] - b.g[k]);
-                dn[k] += q * (2.0 * m.n[k] - a.n[k] - b.n[k]);
+                let (mut ig, mut inn) = (0.0, 0.0);
+                for m in inner {
+                    ig += m.g[k];
+                    inn += m.n[k];
+                }
+                dg[k] += sub * ig + ends * (a.g[k] + b.g[k]);
+                dn[k] += sub * inn + ends * (a.n[k] + b.n[k]);
             }
         }
         let mut change = Change {
@@ -183,7 +206,8 @@ pub(super) fn compute(
             change.gmax = change.gmax.max(scale * sg[k].abs());
             change.nmax = change.nmax.max(scale * sn[k].abs());
         }
-        (nodes, active) = merge(nodes, &active, fresh);
+        (nodes, active) = merge(nodes, &active, fresh, parts);
+        parts = 2;
         last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
         if settled(&change, vs) || !active.contains(&true) {
             let kz: Vec<f64> = nodes.iter().map(|n| n.kz).collect();
@@ -233,20 +257,38 @@ impl LeanSolve<'_, '_> {
 /// g(E_k) = sum_l L(E_k - E_l) and
 /// n(E_k) = base - sum_l f_l + #{l: E_k > E_l + r} + sum over |E_k - E_l| <= r of
 /// C(E_k - E_l), with the cumulative line C, the reach r and the filled column f_l of the
-/// sheet (C = 1 beyond the reach to below 1e-17).
+/// sheet (C = 1 beyond the reach to below 1e-17). L and C of a Gaussian line come from the
+/// shared table of `gauss.rs` (the same values to rounding, without an `exp` and an `erfc`
+/// per pair of level and check energy).
 fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
     let count = check.len();
     let (mut g, mut n) = (vec![0.0; count], vec![0.0; count]);
     // steps[k]: levels whose reach ends just below check energy k (then full from k on)
     let mut steps = vec![0.0; count + 1];
     let b = line.broadening;
+    // the Gaussian line and its cumulative from the shared table when the reach is inside it
+    // (always for the Gaussian's 9 widths), else directly
+    let inv_w = 1.0 / line.width;
+    let table =
+        (b.shape == LineShape::Gaussian && line.reach * inv_w <= COVER).then(GaussTable::get);
     for &(el, _) in &sheet.near {
         let k0 = check.partition_point(|&e| e < el - line.reach);
         let k1 = check.partition_point(|&e| e <= el + line.reach).max(k0);
-        for k in k0..k1 {
-            let x = check[k] - el;
-            g[k] += b.line(x, line.width);
-            n[k] += b.cumulative(x, line.width);
+        match table {
+            Some(tab) => {
+                for k in k0..k1 {
+                    let (phi, cum) = tab.at((check[k] - el) * inv_w);
+                    g[k] += phi * inv_w;
+                    n[k] += cum;
+                }
+            }
+            None => {
+                for k in k0..k1 {
+                    let x = check[k] - el;
+                    g[k] += b.line(x, line.width);
+                    n[k] += b.cumulative(x, line.width);
+                }
+            }
         }
         steps[k1] += 1.0;
     }
@@ -259,46 +301,77 @@ fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
     Node { kz, sheet, g, n }
 }
 
-/// The grid after a round: each halved interval i (active[i]) gets its midpoint from `fresh`
-/// (in order); its two halves stay active unless the ends and the midpoint are all inert with
-/// the same count of levels outside. Frozen intervals stay frozen.
-fn merge(nodes: Vec<Node>, active: &[bool], fresh: Vec<Node>) -> (Vec<Node>, Vec<bool>) {
+/// The grid after a round: each refined interval i (active[i]) gets its `parts` - 1 new
+/// points from `fresh` (in order); its sub-intervals stay active unless its ends and its new
+/// points are all inert with the same count of levels outside. Frozen intervals stay frozen.
+fn merge(
+    nodes: Vec<Node>,
+    active: &[bool],
+    fresh: Vec<Node>,
+    parts: usize,
+) -> (Vec<Node>, Vec<bool>) {
+    // which refined intervals freeze, decided before the nodes move
+    let mut freeze = Vec::with_capacity(active.len());
+    let mut inner = fresh.chunks(parts - 1);
+    for (i, &on) in active.iter().enumerate() {
+        let group = if on { inner.next() } else { None };
+        let Some(group) = group else {
+            freeze.push(false);
+            continue;
+        };
+        let (a, b) = (&nodes[i], &nodes[i + 1]);
+        let base = a.sheet.base;
+        let alike = |n: &Node| n.inert() && n.sheet.base == base;
+        freeze.push(alike(a) && alike(b) && group.iter().all(alike));
+    }
     let mut out: Vec<Node> = Vec::with_capacity(nodes.len() + fresh.len());
     let mut flags = Vec::with_capacity(active.len() + fresh.len());
     let mut fresh = fresh.into_iter();
     let last = nodes.len() - 1;
     for (i, a) in nodes.into_iter().enumerate() {
-        // the interval to the left of `a` (between the previous node and a) is settled here
         out.push(a);
-        if i == last || !active[i] {
-            if i < last {
-                flags.push(false);
-            }
-            continue;
+        if i == last {
+            break;
         }
-        if let Some(m) = fresh.next() {
-            out.push(m);
-            // the right end is not pushed yet: flags are fixed once it is (below)
-            flags.push(true);
-            flags.push(true);
-        }
-    }
-    // freeze the halves of halved intervals whose three points are inert alike
-    let mut i = 0;
-    while i + 1 < out.len() {
-        if flags[i] && i + 2 < out.len() && flags[i + 1] {
-            let (a, m, b) = (&out[i], &out[i + 1], &out[i + 2]);
-            let alike = a.sheet.base == m.sheet.base && m.sheet.base == b.sheet.base;
-            if a.inert() && m.inert() && b.inert() && alike {
-                flags[i] = false;
-                flags[i + 1] = false;
-            }
-            i += 2;
+        if active[i] {
+            out.extend(fresh.by_ref().take(parts - 1));
+            flags.extend(std::iter::repeat(!freeze[i]).take(parts));
         } else {
-            i += 1;
+            flags.push(false);
         }
     }
     (out, flags)
+}
+
+/// Into how many parts the first round cuts each interval of the first grid (2 to 4): the
+/// steepest |dE/dkz| seen between neighbouring first-grid nodes, s (the k-th near levels of
+/// two nodes with as many near levels, paired in order), turns a line of width w into a
+/// Gaussian of width sigma = w/s in kz, which the trapezoid rule with step h integrates to
+/// 2 exp(-2 pi^2 sigma^2/h^2) of its weight (Poisson summation, common practice). The parts are
+/// chosen so that the step after the first round is at most the h at which that error is
+/// `tolerance`, sigma pi sqrt(2 / ln(2/tolerance)): the round after it then settles when s
+/// was not underestimated (else later halvings follow as usual). Capped at 4, which gives the
+/// grid of two halvings; 2 when no slope is seen.
+fn first_parts(nodes: &[Node], width: f64, tolerance: f64) -> usize {
+    let steepest = nodes
+        .windows(2)
+        .filter(|w| w[0].sheet.near.len() == w[1].sheet.near.len())
+        .flat_map(|w| {
+            let h = (w[1].kz - w[0].kz).abs();
+            w[0].sheet
+                .near
+                .iter()
+                .zip(&w[1].sheet.near)
+                .map(move |(x, y)| (y.0 - x.0).abs() / h)
+        })
+        .fold(0.0, f64::max);
+    let step = nodes.get(1).map_or(0.0, |n| n.kz - nodes[0].kz).abs();
+    if !(steepest > 0.0 && step > 0.0 && width > 0.0) {
+        return 2;
+    }
+    let sigma = width / steepest;
+    let h_star = sigma * PI * (2.0 / (2.0 / tolerance).ln()).sqrt();
+    ((step / h_star).ceil() as usize).clamp(2, 4)
 }
 
 #[cfg(test)]

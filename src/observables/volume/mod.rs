@@ -62,6 +62,7 @@
 
 mod adaptive;
 mod fermi;
+mod gauss;
 pub mod mirror;
 mod quadrature;
 mod sheet;
@@ -274,6 +275,19 @@ impl VolumeDensity {
             .map(|(s, &wt)| wt * s.occupied(&self.line, mu, self.thermal_energy))
             .sum();
         self.per_level * sum
+    }
+
+    /// The T = 0 carrier density and the DOS at `mu` in one pass over the sheets:
+    /// ([`VolumeDensity::carrier_density`] at zero temperature, [`VolumeDensity::dos`]), the
+    /// function and derivative of the T = 0 Fermi-level search.
+    fn density_and_dos(&self, mu: f64) -> (f64, f64) {
+        let (mut n, mut g) = (0.0, 0.0);
+        for (s, &wt) in self.sheets.iter().zip(&self.weights) {
+            let (sn, sg) = s.occupied_and_lines(&self.line, mu);
+            n += wt * sn;
+            g += wt * sg;
+        }
+        (self.per_level * n, self.per_level * g)
     }
 
     /// The DOS on `count` energies from `from` to `to` (inside the range): (E, g3(E)).

@@ -57,6 +57,21 @@ impl Sheet {
             .sum();
         self.base + below + inside + above
     }
+
+    /// [`Sheet::occupied`] at zero temperature and [`Sheet::lines`] at `mu`, from one search
+    /// of the levels within reach.
+    pub(super) fn occupied_and_lines(&self, line: &Line, mu: f64) -> (f64, f64) {
+        let (i0, i1) = self.span(mu, line.reach);
+        let total = self.filled_before[self.near.len()];
+        let below = i0 as f64 - self.filled_before[i0];
+        let above = -(total - self.filled_before[i1]);
+        let (mut inside, mut g) = (0.0, 0.0);
+        for &(el, filled) in &self.near[i0..i1] {
+            inside += line.broadening.cumulative(mu - el, line.width) - filled;
+            g += line.broadening.line(mu - el, line.width);
+        }
+        (self.base + below + inside + above, g)
+    }
 }
 
 /// Reduce one spectrum to a sheet, after checking that its converged levels cover [lo, hi].
