@@ -289,6 +289,26 @@ fn sidecar_without_command(path: &std::path::Path) -> serde_json::Value {
     v
 }
 
+/// The directories `a` (whole record) and `b` (streamed) hold the same files, none hidden: the
+/// same bytes, and the same sidecars but for the command line.
+fn assert_same_files(a: &std::path::Path, b: &std::path::Path, what: &str) {
+    assert_eq!(files_of(a), files_of(b), "{what}");
+    assert!(files_of(b).iter().all(|n| !n.starts_with('.')));
+    for name in files_of(a) {
+        let (x, y) = (a.join(&name), b.join(&name));
+        if name.ends_with(".meta.json") {
+            assert_eq!(sidecar_without_command(&x), sidecar_without_command(&y));
+        } else {
+            let (x, y) = (
+                std::fs::read(x).unwrap_or_default(),
+                std::fs::read(y).unwrap_or_default(),
+            );
+            assert!(!x.is_empty());
+            assert!(x == y, "{name} differs ({what})");
+        }
+    }
+}
+
 #[test]
 fn the_streamed_files_equal_the_files_of_the_whole_record() {
     // `--json` keeps the whole record and writes the files from it (the path before
@@ -323,21 +343,7 @@ fn the_streamed_files_equal_the_files_of_the_whole_record() {
         ladderfan(&with_json);
         let text = ladderfan(&streamed);
         assert!(text.contains("tracked levels in the window"), "{text}");
-        assert_eq!(files_of(&a), files_of(&b), "{stem} {extra:?}");
-        assert!(files_of(&b).iter().all(|n| !n.starts_with('.')));
-        for name in files_of(&a) {
-            let (x, y) = (a.join(&name), b.join(&name));
-            if name.ends_with(".meta.json") {
-                assert_eq!(sidecar_without_command(&x), sidecar_without_command(&y));
-            } else {
-                let (x, y) = (
-                    std::fs::read(x).unwrap_or_default(),
-                    std::fs::read(y).unwrap_or_default(),
-                );
-                assert!(!x.is_empty());
-                assert!(x == y, "{name} differs ({stem} {extra:?})");
-            }
-        }
+        assert_same_files(&a, &b, &format!("{stem} {extra:?}"));
         let _ = std::fs::remove_dir_all(&a);
         let _ = std::fs::remove_dir_all(&b);
     }
@@ -397,21 +403,8 @@ fn the_streamed_transition_fan_equals_the_whole_record() {
             text.contains(&format!(", {count} allowed transitions below")),
             "{text}"
         );
-        assert_eq!(files_of(&a), files_of(&b), "{extra:?}");
         assert_eq!(files_of(&b).len(), 3, "{:?}", files_of(&b));
-        for name in files_of(&a) {
-            let (x, y) = (a.join(&name), b.join(&name));
-            if name.ends_with(".meta.json") {
-                assert_eq!(sidecar_without_command(&x), sidecar_without_command(&y));
-            } else {
-                let (x, y) = (
-                    std::fs::read(x).unwrap_or_default(),
-                    std::fs::read(y).unwrap_or_default(),
-                );
-                assert!(!x.is_empty());
-                assert!(x == y, "{name} differs ({extra:?})");
-            }
-        }
+        assert_same_files(&a, &b, &format!("{extra:?}"));
         // the strongest transition of the run has relative strength 1 in the table
         let table = std::fs::read_to_string(b.join("transitions.csv")).unwrap_or_default();
         let top = table

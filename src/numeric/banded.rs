@@ -539,13 +539,7 @@ impl<T: Scalar> BandedLu<T> {
     /// O(n b): one forward and one backward sweep, reading the 3b + 1 numbers of each row of
     /// the factors once.
     pub fn solve_in_place(&self, x: &mut [T]) -> Result<()> {
-        if x.len() != self.n {
-            return Err(Error::BadNumber {
-                name: "vector length".into(),
-                value: x.len() as f64,
-                fix: format!("the vector must have {} elements, the matrix size", self.n),
-            });
-        }
+        check_length(x.len(), self.n)?;
         self.solve_unchecked(x);
         Ok(())
     }
@@ -628,4 +622,17 @@ impl<T: Scalar> BandedLu<T> {
             }
         }
     }
+}
+
+/// A vector of `len` elements handed to a solve of an `n` x `n` factorisation: an error that
+/// names the size it must have unless `len == n`.
+pub(crate) fn check_length(len: usize, n: usize) -> Result<()> {
+    if len != n {
+        return Err(Error::BadNumber {
+            name: "vector length".into(),
+            value: len as f64,
+            fix: format!("the vector must have {n} elements, the matrix size"),
+        });
+    }
+    Ok(())
 }

@@ -40,7 +40,7 @@
 use super::banded::{BandedHermitian, BandedLu, Scalar};
 use super::dense::{eigh, Vectors};
 use super::plu::PartitionedLu;
-use crate::error::{Error, Result};
+use crate::error::Result;
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
@@ -323,13 +323,7 @@ impl<T: Scalar> PartitionedLdl<T> {
     /// # Complexity
     /// 2 n b multiply-adds, reading the factors (n (b + 1) numbers) twice, plus O(b^2).
     pub fn solve_in_place(&self, x: &mut [T]) -> Result<()> {
-        if x.len() != self.n {
-            return Err(Error::BadNumber {
-                name: "vector length".into(),
-                value: x.len() as f64,
-                fix: format!("the vector must have {} elements, the matrix size", self.n),
-            });
-        }
+        super::banded::check_length(x.len(), self.n)?;
         self.solve_unchecked(x);
         Ok(())
     }

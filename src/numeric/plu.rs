@@ -240,13 +240,7 @@ impl<T: Scalar> PartitionedLu<T> {
     /// # Complexity
     /// About 3 n b multiply-adds, half on each thread, plus O(b^2) for the separator.
     pub fn solve_in_place(&self, x: &mut [T]) -> Result<()> {
-        if x.len() != self.n {
-            return Err(Error::BadNumber {
-                name: "vector length".into(),
-                value: x.len() as f64,
-                fix: format!("the vector must have {} elements, the matrix size", self.n),
-            });
-        }
+        super::banded::check_length(x.len(), self.n)?;
         self.solve_unchecked(x);
         Ok(())
     }

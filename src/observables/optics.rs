@@ -528,16 +528,12 @@ pub fn transition_sweep_with(
     optics: &OpticsSettings,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Vec<TransitionPoint>> {
-    use rayon::prelude::*;
-    let s = with_vectors(settings);
-    points
-        .par_iter()
-        .map(|&p| {
-            let r = transition_point(model, p, &s, fermi, optics);
-            tick();
-            r
-        })
-        .collect()
+    let mut out = Vec::with_capacity(points.len());
+    transition_stream(model, points, settings, fermi, optics, tick, &mut |_, p| {
+        out.push(p);
+        Ok(())
+    })?;
+    Ok(out)
 }
 
 /// [`transition_sweep_with`] streamed: each point's [`TransitionPoint`] is handed to `sink`
