@@ -322,6 +322,17 @@ pub const SWEEP_STREAM_BYTES: u64 = 40;
 /// Streaming sweeps).
 pub const SWEEP_OUTLINE_BYTES: u64 = 14;
 
+/// Bytes per level and held value of the Fermi-level sweep's figure (`dos --b-max`, held values
+/// [`crate::plot::decimate::Decimation::max_values`]): every converged level's line keeps its
+/// (field, energy) pairs, 16 bytes, in a buffer that grows by doubling (24 on average over
+/// its growth). An upper bound: levels that are not converged get no line.
+pub const FERMI_LINE_BYTES: u64 = 24;
+
+/// Bytes per level of the Fermi-level sweep's figure that do not grow with its points: the
+/// line's entry in the map of tracks (its key, its state while thinning, the map's node
+/// share).
+pub const FERMI_LINE_ENTRY_BYTES: u64 = 256;
+
 /// Bytes per level of a streamed sweep that do not grow with its points: every level's
 /// track entry (identity and label texts, label origin, its line's state) and its closed-form
 /// label, made when the level is first seen, kept to the end. Calibrated on a 16-point fan at
@@ -476,9 +487,8 @@ pub fn to_mib(bytes: u64) -> u64 {
 /// The usual remedy of a refused solve.
 pub const FIX_SOLVE: &str = "lower the cutoff, narrow the window, or raise the memory limit";
 
-/// The remedy of a refused sweep (every point is kept until the sweep ends).
-pub const FIX_SWEEP: &str =
-    "lower the cutoff, use fewer points (or --shard K/N), or raise the memory limit";
+/// The remedy of a refused sweep (its points in flight, or every point when all are kept).
+pub const FIX_SWEEP: &str = "lower the cutoff, use fewer points, or raise the memory limit";
 
 /// Refuse work whose estimate (bytes) exceeds `limit_mib`.
 ///

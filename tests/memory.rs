@@ -112,8 +112,14 @@ fn assert_refused(o: &Outcome, must_contain: &[&str]) {
 /// The estimate in MiB the guard compares, read from the refusal of the same command line
 /// with a limit of 1 MiB.
 fn estimate_mib(args: &[&str]) -> u64 {
+    estimate_mib_at(args, "1")
+}
+
+/// [`estimate_mib`] with a limit of `limit_mib`: a sweep whose one solve alone is refused at
+/// 1 MiB shows the estimate of the whole sweep only above that solve's.
+fn estimate_mib_at(args: &[&str], limit_mib: &str) -> u64 {
     let mut a: Vec<&str> = args.to_vec();
-    a.extend(["--memory-limit-mib", "1"]);
+    a.extend(["--memory-limit-mib", limit_mib]);
     let o = run(&a, Some(CAP_BYTES));
     assert_refused(&o, &[]);
     let tail = o.stderr.split("needs about ").nth(1).expect("estimate");
@@ -355,7 +361,13 @@ fn transition_fan_refused_only_when_its_kept_transitions_exceed_the_limit() {
 /// one finishes): the estimate is an upper bound for every schedule, so it is held against
 /// the largest peak of the runs.
 fn assert_estimate_tracks_peak(args: &[&str], runs: usize) {
-    let est_kib = estimate_mib(args) * 1024;
+    assert_estimate_tracks_peak_at(args, runs, "1");
+}
+
+/// [`assert_estimate_tracks_peak`] with the estimate read at a limit of `probe_limit_mib`
+/// ([`estimate_mib_at`]).
+fn assert_estimate_tracks_peak_at(args: &[&str], runs: usize, probe_limit_mib: &str) {
+    let est_kib = estimate_mib_at(args, probe_limit_mib) * 1024;
     let mut peak_kib = 0;
     for _ in 0..runs.max(1) {
         let o = run(args, None);
@@ -414,5 +426,64 @@ fn estimate_is_not_below_the_peak_of_a_streamed_transition_fan() {
             "24",
         ],
         3,
+    );
+}
+
+// `dos --b-max` streams its fields: each spectrum is dropped once its Fermi level is found and
+// its converged levels are added to the figure's lines, thinned to the figure's columns. The
+// estimate counts two batches of spectra in flight and every level's line at its most values;
+// the single solve at cutoff 2000 (10 MiB) is below the probe's limit of 11 MiB, the sweep
+// above it.
+#[test]
+fn estimate_is_not_below_the_peak_of_a_streamed_fermi_sweep() {
+    assert_estimate_tracks_peak_at(
+        &[
+            "dos",
+            "--builtin",
+            "dirac2d",
+            "--b-max",
+            "8",
+            "--cutoff",
+            "2000",
+            "--density-cm2",
+            "1e12",
+            "--points",
+            "600",
+        ],
+        3,
+        "11",
+    );
+}
+
+// Flat in the number of fields: 4x the fields of a Fermi-level sweep add at most 10% to its peak
+// (when every spectrum was kept, 2400 fields at cutoff 300 peaked at 226 MB against 63 MB for
+// 600; streamed, 22 MB against 21 MB, debug build, 2026-12-05).
+#[test]
+fn a_streamed_fermi_sweep_holds_flat_memory_in_its_fields() {
+    let peak = |points: &str| {
+        let o = run(
+            &[
+                "dos",
+                "--builtin",
+                "dirac2d",
+                "--b-max",
+                "8",
+                "--cutoff",
+                "300",
+                "--density-cm2",
+                "1e12",
+                "--points",
+                points,
+            ],
+            None,
+        );
+        assert_eq!(o.code, Some(0), "{}", o.stderr);
+        o.peak_kib
+    };
+    let (few, many) = (peak("600"), peak("2400"));
+    eprintln!("dos --b-max at cutoff 300: peak {few} KiB at 600 fields, {many} KiB at 2400");
+    assert!(
+        (many as f64) < 1.1 * few as f64,
+        "600 fields: {few} KiB, 2400 fields: {many} KiB"
     );
 }

@@ -547,6 +547,10 @@ pub fn check_memory(
     check_footprint(lm, &problem, path, flag, footprint, threads)
 }
 
+/// The remedy of a refused `fan` or `dispersion`, which can also be cut into shards.
+const FIX_SHARDED_SWEEP: &str =
+    "lower the cutoff, use fewer points (or cut the sweep with --shard K/N), or raise the memory limit";
+
 /// The memory check of a whole command (src/memory.rs): `footprint` of solves shaped like
 /// `problem` (its cutoff, its memory limit) on `threads` workers (the pool's size when
 /// `None`); a refusal names `path` and is located at `flag`. A command that solves at one
@@ -590,6 +594,12 @@ pub fn check_footprint(
     } else {
         flag.to_string()
     };
+    // the sweeps that can be cut into shards (`SweepArgs::shard`) say so
+    let fix_sweep = if matches!(path, "fan" | "dispersion") {
+        FIX_SHARDED_SWEEP
+    } else {
+        memory::FIX_SWEEP
+    };
     let (what, fix) = match footprint {
         Footprint::Solve { .. } | Footprint::Table { .. } => (
             format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),
@@ -608,7 +618,7 @@ pub fn check_footprint(
                 (*in_flight).min(*points),
                 (*held_points).min(*points)
             ),
-            memory::FIX_SWEEP,
+            fix_sweep,
         ),
         Footprint::Sweep { points, .. }
             if *points > 1 && !solve_alone =>
@@ -618,7 +628,7 @@ pub fn check_footprint(
                 "{path}: {points} points at cutoff {cutoff} ({} levels each, all kept until the end)",
                 shape.levels
             ),
-            memory::FIX_SWEEP,
+            fix_sweep,
             )
         }
         Footprint::Stream {
@@ -629,7 +639,7 @@ pub fn check_footprint(
                 shape.levels,
                 (*in_flight).min(*points)
             ),
-            memory::FIX_SWEEP,
+            fix_sweep,
         ),
         Footprint::Sweep { .. } | Footprint::Optics { .. } | Footprint::Stream { .. } => (
             format!("{path}: a solve at cutoff {cutoff} ({} levels)", shape.levels),

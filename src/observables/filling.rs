@@ -521,7 +521,7 @@ pub fn fermi_sweep(
 }
 
 /// [`fermi_sweep`], calling `tick` once per finished point (from any worker thread; a front
-/// end draws its progress from it).
+/// end draws its progress from it). Collects [`fermi_sweep_stream`].
 ///
 /// # Errors
 /// As [`fermi_sweep`].
@@ -532,16 +532,63 @@ pub fn fermi_sweep_with(
     fermi: &FermiSettings,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Vec<FermiPoint>> {
-    use rayon::prelude::*;
-    let spectra = crate::sweep::run_with(model, points, settings, tick)?;
-    spectra
-        .into_par_iter()
-        .map(|s| {
-            let solution = fermi_level(model, &s, fermi)?;
-            Ok(FermiPoint {
-                spectrum: s,
-                solution,
-            })
-        })
-        .collect()
+    let mut all = Vec::with_capacity(points.len());
+    fermi_sweep_stream(model, points, settings, fermi, tick, &mut |_, p| {
+        all.push(p);
+        Ok(())
+    })?;
+    Ok(all)
+}
+
+/// [`fermi_sweep_with`] in bounded memory: each point's spectrum is solved and its Fermi level
+/// found in parallel, and the point is handed to `sink` (with its index) in the order of
+/// `points` as soon as it and every point before it are done; at most two batches of
+/// [`crate::sweep::default_batch`] points are alive at once, whatever the number of points
+/// ([`crate::sweep::stream_map`]). A sink that keeps only what it needs of each spectrum (a
+/// figure's thinned lines, the solutions) makes the sweep's memory flat in its length.
+///
+/// # Errors
+/// As [`fermi_sweep`], and the first error of `sink`; points after an error are not handed on.
+///
+/// # Complexity
+/// The solves and Fermi-level searches of every point, in parallel over points.
+///
+/// # Examples
+/// ```
+/// use ladderfan::observables::dos::Broadening;
+/// use ladderfan::observables::filling::{fermi_sweep_stream, FermiSettings, Neutrality};
+/// use ladderfan::{models, FieldPoint, Settings};
+/// let m = models::schrodinger(models::MassParams::default())?;
+/// let pts: Vec<_> = (1..=6).map(|b| FieldPoint::field(b as f64)).collect();
+/// // 1e-2 electrons per nm^2 (invented), Gaussian lines 0.1 meV wide, at 0 K
+/// let f = FermiSettings {
+///     carrier_density: 1e-2,
+///     temperature_k: 0.0,
+///     broadening: Broadening::gaussian(0.1),
+///     neutrality: Neutrality::Auto,
+/// };
+/// let mut levels = Vec::new();
+/// fermi_sweep_stream(&m, &pts, &Settings::with_cutoff(60), &f, &|| (), &mut |i, p| {
+///     levels.push((i, p.solution.fermi_energy));
+///     Ok(())
+/// })?;
+/// assert_eq!(levels.iter().map(|p| p.0).collect::<Vec<_>>(), (0..6).collect::<Vec<_>>());
+/// assert!(levels.iter().all(|p| p.1 > 0.0));
+/// # Ok::<(), ladderfan::Error>(())
+/// ```
+pub fn fermi_sweep_stream(
+    model: &Model,
+    points: &[FieldPoint],
+    settings: &Settings,
+    fermi: &FermiSettings,
+    tick: &(dyn Fn() + Sync),
+    sink: &mut (dyn FnMut(usize, FermiPoint) -> Result<()> + Send),
+) -> Result<crate::sweep::StreamStats> {
+    let compute = |i: usize| {
+        let spectrum = Spectrum::compute(model, points[i], settings)?;
+        let solution = fermi_level(model, &spectrum, fermi)?;
+        tick();
+        Ok(FermiPoint { spectrum, solution })
+    };
+    crate::sweep::stream_map(points.len(), 0, None, &compute, sink)
 }

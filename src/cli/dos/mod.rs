@@ -11,7 +11,7 @@ use ladderfan::observables::dos::{
     from_per_cm2, per_cm2, Broadening, LevelDensity, LineShape, WidthScaling,
 };
 use ladderfan::observables::filling::{
-    carrier_density, fermi_level, fermi_sweep_with, FermiPoint, FermiSettings, Neutrality,
+    carrier_density, fermi_level, fermi_sweep_stream, FermiSettings, FermiSolution, Neutrality,
     Occupation,
 };
 use ladderfan::observables::volume::{
@@ -28,7 +28,7 @@ use ladderfan::{FieldPoint, Settings, Spectrum};
 mod render;
 use render::{
     dos3d_csv, dos3d_plot, dos_csv, dos_plot_of, fermi3d_csv, fermi3d_plot, fermi_csv, fermi_plot,
-    summary,
+    summary, LevelLines,
 };
 
 /// Line shape flag.
@@ -245,6 +245,8 @@ pub fn run(a: &DosArgs) -> CliResult {
         common::default_field(&lm.model),
         common::Resolved::settings,
     )?;
+    // the sweep's flags and memory are checked before anything is solved
+    let sweep_fields = sweep_fields(a, &lm, &r)?;
     let spec = crate::cli::levels::solve(&problem)?;
     let broadening = a.fermi.broadening(spec.energy_scale)?;
     let ld = LevelDensity::new(&lm.model, &spec, broadening)?;
@@ -257,7 +259,12 @@ pub fn run(a: &DosArgs) -> CliResult {
         )?),
         None => None,
     };
-    let (sweep_points, sweep_fields) = field_sweep(a, &lm, &r, broadening)?;
+    let sweep = match &sweep_fields {
+        Some(fields) if a.fermi.density_cm2.is_some() => {
+            fermi_sweep_2d(a, &lm, &r, fields, broadening)?
+        }
+        _ => FermiSweep::default(),
+    };
     let volume = if a.kz_integrate {
         Some(volume_json(
             a,
@@ -288,14 +295,15 @@ pub fn run(a: &DosArgs) -> CliResult {
         converged_window: ld.window,
         dos: curve.iter().map(|&(e, g)| (e, per_cm2(u, g))).collect(),
         fermi: fermi.as_ref().map(|f| FermiRecord::new(u, f)),
-        fermi_sweep: sweep_points
+        fermi_sweep: sweep
+            .solutions
             .iter()
-            .map(|p| FermiRecord::new(u, &p.solution))
+            .map(|p| FermiRecord::new(u, p))
             .collect(),
         volume,
     }
     .in_units(lm.shown);
-    let written = write_files(a, &lm, &json, &spec, &ld, &sweep_points, &broadening)?;
+    let written = write_files(a, &lm, &json, &spec, &ld, &sweep.lines, &broadening)?;
     if a.output.json {
         return emit_json(&json);
     }
@@ -314,7 +322,7 @@ fn write_files(
     json: &DosRecord,
     spec: &Spectrum,
     ld: &LevelDensity,
-    sweep_points: &[FermiPoint],
+    level_lines: &[Vec<(f64, f64)>],
     broadening: &Broadening,
 ) -> CliResult<Vec<std::path::PathBuf>> {
     let Some(dir) = &a.output.out else {
@@ -336,13 +344,12 @@ fn write_files(
             fig(&mut files, "fermi3d", &fermi3d_plot(lm, json, v))?;
         }
     }
-    if !sweep_points.is_empty() {
+    if !json.fermi_sweep.is_empty() {
         files.add_csv("fermi.csv", fermi_csv(lm, json)?)?;
-        let spectra: Vec<&Spectrum> = sweep_points.iter().map(|p| &p.spectrum).collect();
         fig(
             &mut files,
             "fermi",
-            &fermi_plot(lm, json, &spectra, broadening),
+            &fermi_plot(lm, json, level_lines, broadening),
         )?;
     }
     files.write_all(dir)
@@ -383,70 +390,107 @@ fn dos_curve(a: &DosArgs, lm: &LoadedModel, ld: &LevelDensity) -> CliResult<Ener
     Ok((emin, emax, curve))
 }
 
-/// The Fermi level against the field for `--b-max` (2D density), and the sweep's fields.
-fn field_sweep(
+/// The fields of the `--b-max` sweep (checked: one sign, a fixed density given), `None`
+/// without `--b-max`; for a 2D density (`--density-cm2`) the memory of the streamed sweep is
+/// checked too (two batches of spectra in flight and the figure's thinned lines,
+/// src/memory.rs), before anything is solved.
+fn sweep_fields(
     a: &DosArgs,
     lm: &LoadedModel,
     r: &common::Resolved,
-    broadening: Broadening,
-) -> CliResult<(Vec<FermiPoint>, Option<Vec<f64>>)> {
-    let mut sweep_points = Vec::new();
-    let mut sweep_fields = None;
-    if let Some(b_max) = common::field_in(lm, a.b_max) {
-        let b_max = common::finite_flag("--b-max", b_max)?;
-        let b_min = common::finite_flag(
+) -> CliResult<Option<Vec<f64>>> {
+    let Some(b_max) = common::field_in(lm, a.b_max) else {
+        return Ok(None);
+    };
+    let b_max = common::finite_flag("--b-max", b_max)?;
+    let b_min = common::finite_flag(
+        "--b-min",
+        common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
+    )?;
+    let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
+    if values.contains(&0.0) || b_min.signum() != b_max.signum() {
+        return Err(bad_flag(
             "--b-min",
-            common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
-        )?;
-        let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-        if values.contains(&0.0) || b_min.signum() != b_max.signum() {
-            return Err(bad_flag(
-                "--b-min",
-                "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
-            ));
-        }
-        let per_volume = a.kz_integrate && a.density_cm3.is_some();
-        if a.fermi.density_cm2.is_none() && !per_volume {
-            return Err(bad_flag(
-                "--b-max",
-                "a Fermi-level sweep needs a fixed density: --density-cm2, or --kz-integrate with --density-cm3",
-            ));
-        }
-        if a.fermi.density_cm2.is_some() {
-            let (cutoff, mem) = common::resolve_trunc(lm, &a.solve.trunc)?;
-            let n = a.fermi.density(lm, b_max)?.unwrap_or(0.0);
-            let pts: Vec<FieldPoint> = values
-                .iter()
-                .map(|&field| FieldPoint { field, kz: r.kz })
-                .collect();
-            // every point's spectrum is kept with its Fermi level (src/memory.rs)
-            common::check_memory(
-                lm,
-                "dos --b-max",
-                "--points",
-                FieldPoint {
-                    field: b_max,
-                    kz: r.kz,
-                },
-                cutoff,
-                mem,
-                &ladderfan::memory::Footprint::Sweep {
-                    points: pts.len() as u64,
-                    extra_per_level: 0,
-                },
-                None,
-            )?;
-            let mut s = Settings::with_cutoff(cutoff);
-            s.memory_limit_mib = mem;
-            let fermi = a.fermi.settings(n, broadening)?;
-            let bar = Progress::new("dos --b-max", pts.len(), "fields");
-            let swept = fermi_sweep_with(&lm.model, &pts, &s, &fermi, &|| bar.tick());
-            bar.finish();
-            sweep_points = swept?;
-        }
-        sweep_fields = Some(values);
+            "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
+        ));
     }
-    Ok((sweep_points, sweep_fields))
+    let per_volume = a.kz_integrate && a.density_cm3.is_some();
+    if a.fermi.density_cm2.is_none() && !per_volume {
+        return Err(bad_flag(
+            "--b-max",
+            "a Fermi-level sweep needs a fixed density: --density-cm2, or --kz-integrate with --density-cm3",
+        ));
+    }
+    if a.fermi.density_cm2.is_some() {
+        let (cutoff, mem) = common::resolve_trunc(lm, &a.solve.trunc)?;
+        let n = values.len();
+        common::check_memory(
+            lm,
+            "dos --b-max",
+            "--points",
+            FieldPoint {
+                field: b_max,
+                kz: r.kz,
+            },
+            cutoff,
+            mem,
+            &ladderfan::memory::Footprint::Stream {
+                points: n as u64,
+                in_flight: (2 * ladderfan::sweep::default_batch()).min(n) as u64,
+                held_points: LevelLines::new(&values).decimation().max_values() as u64,
+                extra_per_level: ladderfan::memory::FERMI_LINE_BYTES,
+                per_level: ladderfan::memory::FERMI_LINE_ENTRY_BYTES,
+                buffer_bytes: 0,
+            },
+            None,
+        )?;
+    }
+    Ok(Some(values))
+}
+
+/// What a 2D Fermi-level sweep (`--b-max` with `--density-cm2`) keeps: the solution at each
+/// field and the converged levels thinned to the figure ([`LevelLines`]); the spectra are
+/// dropped as the points finish.
+#[derive(Default)]
+struct FermiSweep {
+    solutions: Vec<FermiSolution>,
+    lines: Vec<Vec<(f64, f64)>>,
+}
+
+/// The Fermi level at fixed 2D density at every field of `fields`, streamed
+/// ([`fermi_sweep_stream`]): memory flat in the number of fields.
+fn fermi_sweep_2d(
+    a: &DosArgs,
+    lm: &LoadedModel,
+    r: &common::Resolved,
+    fields: &[f64],
+    broadening: Broadening,
+) -> CliResult<FermiSweep> {
+    let (cutoff, mem) = common::resolve_trunc(lm, &a.solve.trunc)?;
+    // the grid runs from --b-min to --b-max
+    let b_max = fields.last().copied().unwrap_or(r.field);
+    let n = a.fermi.density(lm, b_max)?.unwrap_or(0.0);
+    let pts: Vec<FieldPoint> = fields
+        .iter()
+        .map(|&field| FieldPoint { field, kz: r.kz })
+        .collect();
+    let mut s = Settings::with_cutoff(cutoff);
+    s.memory_limit_mib = mem;
+    let fermi = a.fermi.settings(n, broadening)?;
+    let mut lines = LevelLines::new(fields);
+    let mut solutions = Vec::with_capacity(pts.len());
+    let bar = Progress::new("dos --b-max", pts.len(), "fields");
+    let swept = fermi_sweep_stream(&lm.model, &pts, &s, &fermi, &|| bar.tick(), &mut |i, p| {
+        lines.add(i, &p.spectrum);
+        solutions.push(p.solution);
+        Ok(())
+    });
+    bar.finish();
+    swept?;
+    Ok(FermiSweep {
+        solutions,
+        lines: lines.finish(),
+    })
 }
 
 /// The kz-integrated densities on the DOS energy grid, and the 3D Fermi level if asked for.

@@ -1,6 +1,9 @@
 //! The views of a `dos` result: the text summary, the CSV files and the SVG plots.
 
 use super::*;
+use ladderfan::observables::labels::{self, TrackKey};
+use ladderfan::plot::decimate::{DecimatedLine, Decimation, FIGURE_COLUMNS};
+use std::collections::BTreeMap;
 
 /// The energy unit as printed in the sidecars' notes.
 pub(super) fn energy_unit(lm: &LoadedModel) -> String {
@@ -499,10 +502,58 @@ pub(super) fn fermi_csv(lm: &LoadedModel, j: &DosRecord) -> CliResult<CsvFile> {
     csv_file(meta, columns, &rec)
 }
 
+/// The converged Landau levels of a Fermi-level sweep as the figure draws them, built point by
+/// point: each genuine level's energy is added to its track's line ([`TrackKey`] from
+/// [`labels::track_keys`], as [`labels::tracks`] groups a whole sweep), thinned to the figure's
+/// columns ([`Decimation`]), so the sweep's spectra can be dropped as they arrive and the
+/// memory does not grow with the number of fields. A level that is not converged, or a track
+/// absent at a point, breaks its line there.
+pub(super) struct LevelLines {
+    decimation: Decimation,
+    lines: BTreeMap<TrackKey, DecimatedLine>,
+}
+
+impl LevelLines {
+    /// Lines for a sweep over `fields` (in point order, model units).
+    pub(super) fn new(fields: &[f64]) -> Self {
+        LevelLines {
+            decimation: Decimation::new(fields, FIGURE_COLUMNS),
+            lines: BTreeMap::new(),
+        }
+    }
+
+    /// The decimation of the lines (for the memory estimate: values held per line).
+    pub(super) fn decimation(&self) -> &Decimation {
+        &self.decimation
+    }
+
+    /// Add the converged genuine levels of point `index` (ascending over calls).
+    pub(super) fn add(&mut self, index: usize, s: &Spectrum) {
+        let d = &self.decimation;
+        for (key, l) in labels::track_keys(s).into_iter().zip(&s.levels) {
+            if labels::is_artefact(l) || !l.is_converged() {
+                continue;
+            }
+            self.lines
+                .entry(key)
+                .or_default()
+                .push(d, index, s.point.field, l.energy, f64::NAN);
+        }
+    }
+
+    /// The finished lines, (field, energy) in model units, in track-key order.
+    pub(super) fn finish(self) -> Vec<Vec<(f64, f64)>> {
+        let d = self.decimation;
+        self.lines.into_values().map(|l| l.finish(&d).0).collect()
+    }
+}
+
+/// The Fermi level of a `--b-max` sweep against the field over the converged Landau levels
+/// (`lines`: [`LevelLines::finish`], model units), framed around the Fermi levels.
 pub(super) fn fermi_plot(
     lm: &LoadedModel,
     j: &DosRecord,
-    spectra: &[&Spectrum],
+    lines: &[Vec<(f64, f64)>],
     broadening: &Broadening,
 ) -> LinePlot {
     let eu = lm.shown.energy.label();
@@ -517,33 +568,28 @@ pub(super) fn fermi_plot(
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
             (a.min(p.1), b.max(p.1))
         });
-    // the spectra and the broadening are in the model's units, the record in the output's
+    // the lines and the broadening are in the model's units, the record in the output's
     let (ke, kf) = (lm.shown.energy_factor(), lm.shown.field_factor());
     let pad = 0.25 * (hi - lo).max(1e-9 * ke) + 2.0 * j.width;
     let (ylo, yhi) = (lo - pad, hi + pad);
-    // the converged Landau levels in the window, thin, followed by their track keys
-    let owned: Vec<Spectrum> = spectra.iter().map(|s| (*s).clone()).collect();
-    let mut curves: Vec<Curve> = ladderfan::observables::labels::tracks(&owned)
-        .into_iter()
-        .filter(|t| {
-            t.points
-                .iter()
-                .any(|p| p.converged && p.energy * ke > ylo && p.energy * ke < yhi)
-        })
-        .map(|t| Curve {
+    // the converged Landau levels that cross the window, thin, in track-key order; the
+    // renderer clips each segment at the frame (a thinned steep line may have no kept point
+    // inside the window and still cross it)
+    let crosses = |l: &[(f64, f64)]| {
+        l.iter().any(|p| p.1 * ke > ylo && p.1 * ke < yhi)
+            || l.windows(2).any(|w| {
+                let (a, b) = (w[0].1 * ke, w[1].1 * ke);
+                a.min(b) < yhi && a.max(b) > ylo
+            })
+    };
+    let mut curves: Vec<Curve> = lines
+        .iter()
+        .filter(|l| crosses(l))
+        .map(|l| Curve {
             colour: Some(Rgb(150, 150, 150)),
             width: 1.0,
             stroke: Stroke::Dotted,
-            points: t
-                .points
-                .iter()
-                .map(|p| {
-                    // outside the frame: break the line (never clamped to the border)
-                    let e = p.energy * ke;
-                    let inside = p.converged && e > ylo && e < yhi;
-                    (p.field * kf, if inside { e } else { f64::NAN })
-                })
-                .collect(),
+            points: l.iter().map(|p| (p.0 * kf, p.1 * ke)).collect(),
             ..Curve::default()
         })
         .collect();
@@ -628,5 +674,89 @@ pub(super) fn fermi3d_plot(lm: &LoadedModel, j: &DosRecord, v: &VolumeRecord) ->
         labels: false,
         split_jumps: false,
         ..LinePlot::default()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use ladderfan::{models, sweep};
+
+    /// The spectra of a sweep of `n` fields from 1 to 8 T of the built-in dirac2d model.
+    fn spectra(n: usize, cutoff: usize) -> (Vec<f64>, Vec<Spectrum>) {
+        let m = models::dirac2d(models::Dirac2dParams::default()).unwrap();
+        let fields: Vec<f64> = (0..n)
+            .map(|i| 1.0 + 7.0 * i as f64 / (n - 1) as f64)
+            .collect();
+        let pts: Vec<FieldPoint> = fields.iter().map(|&b| FieldPoint::field(b)).collect();
+        let s = sweep::run(&m, &pts, &Settings::with_cutoff(cutoff)).unwrap();
+        (fields, s)
+    }
+
+    /// The converged points of each track of the whole sweep with at least one, in key order.
+    fn whole_sweep_lines(spectra: &[Spectrum]) -> Vec<Vec<(f64, f64, bool)>> {
+        labels::tracks(spectra)
+            .into_iter()
+            .filter(|t| t.points.iter().any(|p| p.converged))
+            .map(|t| {
+                t.points
+                    .iter()
+                    .map(|p| (p.field, p.energy, p.converged))
+                    .collect()
+            })
+            .collect()
+    }
+
+    #[test]
+    fn level_lines_of_a_short_sweep_are_the_converged_tracks_point_by_point() {
+        let (fields, spectra) = spectra(12, 60);
+        let mut lines = LevelLines::new(&fields);
+        for (i, s) in spectra.iter().enumerate() {
+            lines.add(i, s);
+        }
+        let got = lines.finish();
+        let want = whole_sweep_lines(&spectra);
+        assert_eq!(got.len(), want.len());
+        assert!(got.len() > 10, "{} lines", got.len());
+        for (g, w) in got.iter().zip(&want) {
+            // one value per field: the converged energy, NaN where the track is absent or
+            // not converged
+            assert_eq!(g.len(), fields.len());
+            for (k, &(b, e)) in g.iter().enumerate() {
+                assert_eq!(b, fields[k]);
+                match w.iter().find(|p| p.0 == b && p.2) {
+                    Some(p) => assert_eq!(e, p.1),
+                    None => assert!(e.is_nan(), "field {b}: {e}"),
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn level_lines_of_a_long_sweep_keep_each_columns_extremes_and_nothing_else() {
+        let (fields, spectra) = spectra(1500, 24);
+        let mut lines = LevelLines::new(&fields);
+        let max = lines.decimation().max_values();
+        for (i, s) in spectra.iter().enumerate() {
+            lines.add(i, s);
+        }
+        let got = lines.finish();
+        let want = whole_sweep_lines(&spectra);
+        assert_eq!(got.len(), want.len());
+        for (g, w) in got.iter().zip(&want) {
+            assert!(g.len() <= max, "{} values, at most {max}", g.len());
+            let converged: Vec<(f64, f64)> = w.iter().filter(|p| p.2).map(|p| (p.0, p.1)).collect();
+            // every kept value is a converged point of the track
+            for p in g.iter().filter(|p| p.1.is_finite()) {
+                assert!(converged.contains(p), "{p:?} is not a point of the track");
+            }
+            // the track's lowest and highest converged energies are kept
+            let lo = converged.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
+            let hi = converged
+                .iter()
+                .map(|p| p.1)
+                .fold(f64::NEG_INFINITY, f64::max);
+            assert!(g.iter().any(|p| p.1 == lo) && g.iter().any(|p| p.1 == hi));
+        }
     }
 }
