@@ -429,6 +429,23 @@ fn estimate_is_not_below_the_peak_of_a_streamed_transition_fan() {
     );
 }
 
+/// `dos --b-max`: a Fermi-level sweep of the built-in dirac2d model at 1e12 cm^-2.
+fn fermi_sweep_args<'a>(cutoff: &'a str, points: &'a str) -> [&'a str; 11] {
+    [
+        "dos",
+        "--builtin",
+        "dirac2d",
+        "--b-max",
+        "8",
+        "--cutoff",
+        cutoff,
+        "--density-cm2",
+        "1e12",
+        "--points",
+        points,
+    ]
+}
+
 // `dos --b-max` streams its fields: each spectrum is dropped once its Fermi level is found and
 // its converged levels are added to the figure's lines, thinned to the figure's columns. The
 // estimate counts two batches of spectra in flight and every level's line at its most values;
@@ -436,23 +453,7 @@ fn estimate_is_not_below_the_peak_of_a_streamed_transition_fan() {
 // above it.
 #[test]
 fn estimate_is_not_below_the_peak_of_a_streamed_fermi_sweep() {
-    assert_estimate_tracks_peak_at(
-        &[
-            "dos",
-            "--builtin",
-            "dirac2d",
-            "--b-max",
-            "8",
-            "--cutoff",
-            "2000",
-            "--density-cm2",
-            "1e12",
-            "--points",
-            "600",
-        ],
-        3,
-        "11",
-    );
+    assert_estimate_tracks_peak_at(&fermi_sweep_args("2000", "600"), 3, "11");
 }
 
 // Flat in the number of fields: 4x the fields of a Fermi-level sweep add at most 10% to its peak
@@ -461,22 +462,7 @@ fn estimate_is_not_below_the_peak_of_a_streamed_fermi_sweep() {
 #[test]
 fn a_streamed_fermi_sweep_holds_flat_memory_in_its_fields() {
     let peak = |points: &str| {
-        let o = run(
-            &[
-                "dos",
-                "--builtin",
-                "dirac2d",
-                "--b-max",
-                "8",
-                "--cutoff",
-                "300",
-                "--density-cm2",
-                "1e12",
-                "--points",
-                points,
-            ],
-            None,
-        );
+        let o = run(&fermi_sweep_args("300", points), None);
         assert_eq!(o.code, Some(0), "{}", o.stderr);
         o.peak_kib
     };

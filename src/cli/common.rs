@@ -653,6 +653,30 @@ pub fn check_footprint(
     memory::check(&what, bytes, limit_mib, fix).map_err(|e| bad_flag(&flag, e.to_string()))
 }
 
+/// The fields of a `--b-min` .. `--b-max` sweep of `points` evenly spaced values in the
+/// model's field unit (`--b-min` defaults to a tenth of `--b-max`), or `None` without
+/// `--b-max`. Refused when a bound is not finite or the grid reaches or crosses B = 0.
+pub fn field_sweep_grid(
+    lm: &LoadedModel,
+    b_min: Option<ladderfan::units::FieldValue>,
+    b_max: Option<ladderfan::units::FieldValue>,
+    points: usize,
+) -> CliResult<Option<Vec<f64>>> {
+    let Some(b_max) = field_in(lm, b_max) else {
+        return Ok(None);
+    };
+    let b_max = finite_flag("--b-max", b_max)?;
+    let b_min = finite_flag("--b-min", field_in(lm, b_min).unwrap_or(b_max / 10.0))?;
+    let values = grid_values("--b-min", b_min, b_max, points, Grid::Linear)?;
+    if values.contains(&0.0) || b_min.signum() != b_max.signum() {
+        return Err(bad_flag(
+            "--b-min",
+            "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
+        ));
+    }
+    Ok(Some(values))
+}
+
 /// Grid spacing of a sweep.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum, Serialize)]
 #[serde(rename_all = "lowercase")]

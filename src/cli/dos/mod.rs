@@ -399,21 +399,10 @@ fn sweep_fields(
     lm: &LoadedModel,
     r: &common::Resolved,
 ) -> CliResult<Option<Vec<f64>>> {
-    let Some(b_max) = common::field_in(lm, a.b_max) else {
+    let Some(values) = common::field_sweep_grid(lm, a.b_min, a.b_max, a.points)? else {
         return Ok(None);
     };
-    let b_max = common::finite_flag("--b-max", b_max)?;
-    let b_min = common::finite_flag(
-        "--b-min",
-        common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
-    )?;
-    let values = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-    if values.contains(&0.0) || b_min.signum() != b_max.signum() {
-        return Err(bad_flag(
-            "--b-min",
-            "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
-        ));
-    }
+    let b_max = values.last().copied().unwrap_or(r.field);
     let per_volume = a.kz_integrate && a.density_cm3.is_some();
     if a.fermi.density_cm2.is_none() && !per_volume {
         return Err(bad_flag(

@@ -67,21 +67,9 @@ fn fields(
     lm: &LoadedModel,
     r: &common::Resolved,
 ) -> CliResult<(Vec<f64>, usize, u64)> {
-    let fields = match common::field_in(lm, a.b_max) {
+    let fields = match common::field_sweep_grid(lm, a.b_min, a.b_max, a.points)? {
         None => (vec![r.field], r.cutoff, r.memory_limit_mib),
-        Some(b_max) => {
-            let b_max = common::finite_flag("--b-max", b_max)?;
-            let b_min = common::finite_flag(
-                "--b-min",
-                common::field_in(lm, a.b_min).unwrap_or(b_max / 10.0),
-            )?;
-            let v = common::grid_values("--b-min", b_min, b_max, a.points, common::Grid::Linear)?;
-            if v.contains(&0.0) || b_min.signum() != b_max.signum() {
-                return Err(bad_flag(
-                    "--b-min",
-                    "the sweep crosses B = 0, where there are no Landau levels; choose --b-min and --b-max of one sign",
-                ));
-            }
+        Some(v) => {
             let (c, m) = common::resolve_trunc(lm, &a.solve.trunc)?;
             (v, c, m)
         }
