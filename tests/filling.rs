@@ -129,15 +129,14 @@ fn integrating_the_dos_to_the_fermi_level_returns_the_density_dirac() {
     }
 }
 
-#[test]
-fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
-    // o = int L(E - E_l) f(E - mu) dE (definition), by Simpson's rule over +-60 widths with the
-    // Lorentzian tails beyond added in closed form (f = 1 below, 0 above, up to e^-40):
-    // atan tails, 1/2 - atan(X/w)/pi each.
+/// The library's thermal occupation of lines of shape `b` (width `w`) against the definition
+/// o = int L(E - E_l) f(E - mu) dE, by Simpson's rule over +-(60 widths + 45 kT) with the tails
+/// beyond added in closed form (f = 1 below, 0 above, up to e^-45): the line's cumulative
+/// C(x) below, nothing above (a Lorentzian's atan tail, 1/2 - atan(X/w)/pi, or a Gaussian's
+/// erfc tail, below 1e-300 there). `offsets` are E_l - mu, besides those of every test.
+fn assert_thermal_occupation_matches_direct_quadrature(b: Broadening, w: f64, offsets: &[f64]) {
     let m = models::schrodinger(MassParams::default()).unwrap();
-    let spec = Spectrum::compute(&m, FieldPoint::field(10.0), &Settings::with_cutoff(40)).unwrap();
-    let w = 0.05;
-    let b = Broadening::lorentzian(w);
+    let spec = Spectrum::compute(&m, FieldPoint::field(10.0), &Settings::with_cutoff(200)).unwrap();
     for t_k in [0.5, 5.0, 50.0] {
         let kt = thermal_energy(Units::Lab, t_k);
         let fs = FermiSettings {
@@ -148,7 +147,8 @@ fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
         };
         let sol = fermi_level(&m, &spec, &fs).unwrap();
         let mu = sol.fermi_energy;
-        for el in [mu - 0.3, mu - 0.01, mu, mu + 0.02, mu + 1.0] {
+        for off in [-0.3, -0.01, 0.0, 0.02, 1.0].iter().chain(offsets) {
+            let el = mu + off;
             let reach = 60.0 * w + 45.0 * kt;
             let (a, z) = (mu - reach, mu + reach);
             let core = simpson(
@@ -162,11 +162,31 @@ fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
             let lib = sol.occupation.of_level(el);
             assert!(
                 (lib - o).abs() < 1e-8,
-                "T = {t_k}, E_l - mu = {}: {lib} vs {o}",
-                el - mu
+                "{:?} T = {t_k}, E_l - mu = {off}: {lib} vs {o}",
+                b.shape
             );
         }
     }
+}
+
+#[test]
+fn thermal_occupation_matches_direct_quadrature_for_lorentzian_lines() {
+    assert_thermal_occupation_matches_direct_quadrature(Broadening::lorentzian(0.05), 0.05, &[]);
+}
+
+#[test]
+fn thermal_occupation_matches_direct_quadrature_for_gaussian_lines() {
+    // the library integrates a Gaussian line only within 9 w of its centre: levels just inside
+    // and just outside that reach of mu, and far beyond the thermal window's edge
+    let w = 0.05;
+    let offsets = [9.0 * w * 0.99, -9.0 * w * 1.01, 2.0 * w, -0.7, 3.5];
+    assert_thermal_occupation_matches_direct_quadrature(Broadening::gaussian(w), w, &offsets);
+    // a line wider than kT at every temperature tested but the highest
+    assert_thermal_occupation_matches_direct_quadrature(
+        Broadening::gaussian(2.0),
+        2.0,
+        &[-15.0, 12.0],
+    );
 }
 
 #[test]
