@@ -217,6 +217,24 @@ pub fn converged_energies(
     buffers: &mut LeanBuffers,
     out: &mut Vec<f64>,
 ) -> Result<()> {
+    converged_energies_unsorted(problem, buffers, out)?;
+    out.sort_unstable_by(f64::total_cmp);
+    Ok(())
+}
+
+/// [`converged_energies`] without the final sort: the same energies in sector order (for a
+/// caller that only sorts the few it keeps, as the kz sheets of `observables::volume` do).
+///
+/// # Errors
+/// As [`Spectrum::solve`].
+///
+/// # Complexity
+/// As the sector solves of [`Spectrum::solve`], sequential; no sort.
+pub fn converged_energies_unsorted(
+    problem: &Problem<'_>,
+    buffers: &mut LeanBuffers,
+    out: &mut Vec<f64>,
+) -> Result<()> {
     out.clear();
     if problem.settings().target != Target::All {
         let s = Spectrum::solve_unlabelled(problem)?;
@@ -243,13 +261,9 @@ pub fn converged_energies(
     out.extend(
         acc.levels
             .iter()
-            .filter(|l| {
-                l.unpack(&acc.sectors).convergence_at(tolerance, scale)
-                    == crate::levels::Convergence::Converged
-            })
+            .filter(|l| l.converged(tolerance, scale))
             .map(|l| l.energy),
     );
-    out.sort_unstable_by(f64::total_cmp);
     Ok(())
 }
 

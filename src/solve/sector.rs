@@ -163,6 +163,21 @@ impl Packed {
         }
     }
 
+    /// Whether the level is converged at `tolerance` with energy scale `scale`: the same
+    /// decision as `self.unpack(..).convergence_at(tolerance, scale) ==
+    /// Convergence::Converged` ([`Level::convergence_at`]: the deciding bound, the Kato-Temple
+    /// bound when known and sharper, else the residual bound, at most tolerance x
+    /// max(|E|, scale)), without building the record.
+    #[inline]
+    pub(super) fn converged(&self, tolerance: f64, scale: f64) -> bool {
+        let deciding = if self.has_kato_temple && self.kato_temple < self.bound {
+            self.kato_temple
+        } else {
+            self.bound
+        };
+        deciding <= tolerance * self.energy.abs().max(scale)
+    }
+
     /// The level record, with the sector read from the chunk's `sectors` and the convergence
     /// state [`Convergence::NotConverged`].
     pub(super) fn unpack(&self, sectors: &[SectorId]) -> Level {
@@ -714,5 +729,42 @@ mod tests {
             }
         }
         assert!(std::mem::size_of::<Packed>() < std::mem::size_of::<Level>());
+    }
+
+    #[test]
+    fn packed_convergence_is_the_level_convergence() {
+        // Oracle: Level::convergence_at on the unpacked record, over bounds below, at and
+        // above the threshold, with and without a (sharper or looser) Kato-Temple bound
+        let sectors = [SectorId { class: 0, label: 0 }];
+        let mut seen = [false; 2];
+        for &energy in &[-3.0, -1e-7, 0.0, 2e-3, 5.0] {
+            for &bound in &[1e-12, 1e-9, 2e-9, 5e-9, 1e-3] {
+                for kt in [None, Some(1e-15), Some(3e-9), Some(1.0)] {
+                    for &scale in &[1.0, 1e-4] {
+                        let l = Level {
+                            energy,
+                            bound,
+                            kato_temple: kt,
+                            leakage: 0.0,
+                            in_space_residual: 0.0,
+                            convergence: Convergence::NotConverged,
+                            sector: sectors[0],
+                            orbital: 3,
+                            component: 0,
+                            branch: Root::Direct,
+                            label: LandauLabel::UNLABELLED,
+                            top_weight: 0.9,
+                            tail_weight: 0.9,
+                        };
+                        let p = Packed::pack(&l, 0);
+                        let want = p.unpack(&sectors).convergence_at(1e-9, scale)
+                            == Convergence::Converged;
+                        assert_eq!(p.converged(1e-9, scale), want, "{l:?} at scale {scale}");
+                        seen[want as usize] = true;
+                    }
+                }
+            }
+        }
+        assert_eq!(seen, [true, true], "both outcomes occur");
     }
 }
