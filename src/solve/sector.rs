@@ -340,7 +340,68 @@ impl Job<'_> {
         if scratch.states.is_empty() {
             return Ok(());
         }
+        let diag = self.prepare(id, scratch)?;
+        self.finish_levels(id, scratch, &diag, out)
+    }
+
+    /// [`Job::solve_sector`], except that a sector whose every level lies outside the window
+    /// `outside` (above `hi`, or below `lo` when `below_too`) is left out: its |E| are added
+    /// to `mags` and `Ok(true)` returned, with no level in `out`. Only in the direct form and
+    /// when no eigenvalue of the sector would be refined, so that the energies left out are
+    /// bit for bit the levels' energies (the eigenvalues after the cluster rotation).
+    pub(super) fn solve_sector_unless_outside(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        out: &mut SectorResult,
+        (lo, hi, below_too): (f64, f64, bool),
+        mags: &mut Vec<f64>,
+    ) -> Result<bool> {
+        self.plan.states(id, &mut scratch.states);
+        if scratch.states.is_empty() {
+            return Ok(false);
+        }
+        let diag = self.prepare(id, scratch)?;
+        let s = scratch.states.len();
+        let outside = self.form == SpectrumForm::Direct
+            && !diag.windowed
+            && scratch.eig.values.iter().all(|&lam| {
+                (lam > hi || (below_too && lam < lo)) && !self.refines(s, diag.hs_norm, lam)
+            });
+        if outside {
+            mags.extend(scratch.eig.values.iter().map(|lam| lam.abs()));
+            return Ok(true);
+        }
+        self.finish_levels(id, scratch, &diag, out)?;
+        Ok(false)
+    }
+
+    /// Diagonalise the sector whose states are in the scratch and rotate its degenerate
+    /// clusters so that cutoff artefacts separate (src/solve/cluster.rs).
+    fn prepare(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
         let diag = self.diagonalise(id, scratch)?;
+        let Scratch { states, eig, .. } = scratch;
+        if let Some(vectors) = eig.vectors.as_mut() {
+            cluster::separate_leaking(
+                self.h,
+                self.plan.cutoff,
+                states,
+                &mut eig.values,
+                vectors,
+                self.tolerance,
+            );
+        }
+        Ok(diag)
+    }
+
+    /// The levels of the prepared sector ([`Job::prepare`]) into `out`.
+    fn finish_levels(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        diag: &Diagonalised,
+        out: &mut SectorResult,
+    ) -> Result<()> {
         let Scratch {
             states,
             hs,
@@ -349,18 +410,6 @@ impl Job<'_> {
             levels,
         } = scratch;
         let states: &[(usize, usize)] = states;
-        let cutoff = self.plan.cutoff;
-        // rotate degenerate clusters so cutoff artefacts separate (src/solve/cluster.rs)
-        if let Some(vectors) = eig.vectors.as_mut() {
-            cluster::separate_leaking(
-                self.h,
-                cutoff,
-                states,
-                &mut eig.values,
-                vectors,
-                self.tolerance,
-            );
-        }
         let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
@@ -369,7 +418,7 @@ impl Job<'_> {
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
             v.extend(vecs.column(i).iter().copied());
-            let pair = self.eigenpair(states, hs, &diag, i, lam0, v);
+            let pair = self.eigenpair(states, hs, diag, i, lam0, v);
             self.push_levels(id, states, v, &pair, levels, out);
         }
         self.finish_sector(id, levels, diag.windowed);

@@ -7,10 +7,13 @@
 //!   multiple of 1/l_B, where every coupling any kz can have is present), its sector plan and
 //!   memory estimate reused at every kz ([`Problem::at_kz`]: one assembly per kz, the plan kept
 //!   when the couplings are covered), and each sheet solved by
-//!   [`crate::solve::converged_energies_unsorted`]: the same sector solves, bounds and convergence flags
-//!   as a full solve, on one thread in buffers reused by the thread's later jobs, keeping only
-//!   the energies of the converged levels (no level records, weights, labels or gather: the
-//!   densities only count levels). One kz point is one job (solve, sheet, sums on the check
+//!   [`crate::solve::converged_energies_near`]: the same sector solves, bounds and convergence
+//!   flags as a full solve, on one thread in buffers reused by the thread's later jobs, keeping
+//!   only the energies of the converged levels (no level records, weights, labels or gather:
+//!   the densities only count levels), and of those only the levels that can change the
+//!   sheet: a sector whose every level lies above the padded range (or below it, when the
+//!   neutrality is inside it) adds nothing to the densities and gets no bounds (its energies
+//!   still set the energy scale of the convergence test). One kz point is one job (solve, sheet, sums on the check
 //!   energies); the jobs of all fields of a sweep share one rayon pool (work stealing over
 //!   fields and kz together, no nested parallelism inside a sheet).
 //! * Mirror: when [`super::kz_mirror`] finds U with U H(kz) U^-1 = H(-kz), only [0, K] is
@@ -49,7 +52,7 @@ use crate::error::Result;
 use crate::hamiltonian::FieldPoint;
 use crate::model::Model;
 use crate::observables::dos::LineShape;
-use crate::solve::{converged_energies_unsorted, LeanBuffers, Problem, Settings};
+use crate::solve::{converged_energies_near, LeanBuffers, Problem, Settings};
 use rayon::prelude::*;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
 
@@ -87,17 +90,19 @@ pub(super) fn compute(
         0.0
     };
     let template = Problem::new(model, FieldPoint { field, kz: generic }, settings)?;
-    let lean = LeanSolve {
-        template: &template,
-        tolerance: settings.tolerance,
-        cutoff: settings.cutoff,
-    };
     let frame = Frame::new(
         model,
         field,
         vs,
         (template.reference(), template.hamiltonian().magnetic_length),
     )?;
+    let lean = LeanSolve {
+        template: &template,
+        tolerance: settings.tolerance,
+        cutoff: settings.cutoff,
+        window: (frame.lo, frame.hi),
+        below_too: frame.neutrality.is_some(),
+    };
     let probe = |kz: &[f64]| -> Result<Vec<Vec<f64>>> {
         kz.par_iter()
             .map_init(LeanBuffers::default, |buf, &k| {
@@ -257,18 +262,30 @@ pub(super) fn compute(
 }
 
 /// The lean solve of one kz sheet: the field's set-up reused ([`Problem::at_kz`]) and only
-/// the converged energies kept ([`converged_energies_unsorted`]).
+/// the converged energies the sheet needs kept ([`converged_energies_near`]).
 struct LeanSolve<'a, 'm> {
     template: &'a Problem<'m>,
     tolerance: f64,
     cutoff: usize,
+    /// The padded range of the sheets: sectors wholly above it (or below it, when
+    /// `below_too`) add nothing to a sheet and are left out ([`converged_energies_near`]).
+    window: (f64, f64),
+    /// Whether the neutrality lies inside the window (then a level below it adds nothing).
+    below_too: bool,
 }
 
 impl LeanSolve<'_, '_> {
-    /// The energies of the converged levels at `kz` into `out`, in sector order (not sorted:
-    /// [`sheet_of`] sorts the few it keeps, and the kz limit only asks whether any is inside).
+    /// The energies of the converged levels at `kz` that the sheet needs into `out`, in
+    /// sector order ([`converged_energies_near`]; not sorted: [`sheet_of`] sorts the few it
+    /// keeps, and the kz limit only asks whether any is inside the window).
     fn energies(&self, kz: f64, buffers: &mut LeanBuffers, out: &mut Vec<f64>) -> Result<()> {
-        converged_energies_unsorted(&self.template.at_kz(kz)?, buffers, out)
+        converged_energies_near(
+            &self.template.at_kz(kz)?,
+            buffers,
+            out,
+            self.window,
+            self.below_too,
+        )
     }
 }
 
