@@ -348,7 +348,10 @@ impl Job<'_> {
     /// `outside` (above `hi`, or below `lo` when `below_too`) is left out: its |E| are added
     /// to `mags` and `Ok(true)` returned, with no level in `out`. Only in the direct form and
     /// when no eigenvalue of the sector would be refined, so that the energies left out are
-    /// bit for bit the levels' energies (the eigenvalues after the cluster rotation).
+    /// bit for bit the levels' energies (the eigenvalues after the cluster rotation). A sector
+    /// of one or two states with no state within the band of the cutoff is first solved for
+    /// its eigenvalues only (the closed forms give the same bits with or without vectors, and
+    /// the cluster rotation leaves such a sector alone), and for its vectors only when kept.
     pub(super) fn solve_sector_unless_outside(
         &self,
         id: SectorId,
@@ -361,14 +364,28 @@ impl Job<'_> {
         if scratch.states.is_empty() {
             return Ok(false);
         }
-        let diag = self.prepare(id, scratch)?;
         let s = scratch.states.len();
-        let outside = self.form == SpectrumForm::Direct
-            && !diag.windowed
-            && scratch.eig.values.iter().all(|&lam| {
-                (lam > hi || (below_too && lam < lo)) && !self.refines(s, diag.hs_norm, lam)
-            });
-        if outside {
+        let outside = |values: &[f64], diag: &Diagonalised| {
+            self.form == SpectrumForm::Direct
+                && !diag.windowed
+                && values.iter().all(|&lam| {
+                    (lam > hi || (below_too && lam < lo)) && !self.refines(s, diag.hs_norm, lam)
+                })
+        };
+        // a sector of one or two states away from the cutoff: its eigenvalues first, without
+        // vectors (the closed forms give the same values either way, and no cluster rotation
+        // can move them: no state lies within the band of the cutoff)
+        let band = self.h.band;
+        let cutoff = self.plan.cutoff;
+        if s <= 2 && scratch.states.iter().all(|&(n, _)| n + band < cutoff) {
+            let diag = self.diagonalise(id, scratch, Vectors::Skip)?;
+            if outside(&scratch.eig.values, &diag) {
+                mags.extend(scratch.eig.values.iter().map(|lam| lam.abs()));
+                return Ok(true);
+            }
+        }
+        let diag = self.prepare(id, scratch)?;
+        if outside(&scratch.eig.values, &diag) {
             mags.extend(scratch.eig.values.iter().map(|lam| lam.abs()));
             return Ok(true);
         }
@@ -379,7 +396,7 @@ impl Job<'_> {
     /// Diagonalise the sector whose states are in the scratch and rotate its degenerate
     /// clusters so that cutoff artefacts separate (src/solve/cluster.rs).
     fn prepare(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
-        let diag = self.diagonalise(id, scratch)?;
+        let diag = self.diagonalise(id, scratch, Vectors::Compute)?;
         let Scratch { states, eig, .. } = scratch;
         if let Some(vectors) = eig.vectors.as_mut() {
             cluster::separate_leaking(
@@ -447,7 +464,12 @@ impl Job<'_> {
 
     /// Eigenvalues and eigenvectors of the sector into the scratch: the window solver for a
     /// sector larger than `dense_max` when only some levels are wanted, else a dense solve.
-    fn diagonalise(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
+    fn diagonalise(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        vectors: Vectors,
+    ) -> Result<Diagonalised> {
         let Scratch {
             states, hs, eig, ..
         } = scratch;
@@ -482,7 +504,7 @@ impl Job<'_> {
                 hs[(r, c)] = element(r, c);
             }
         }
-        dense::eigh_into(hs, Vectors::Compute, eig)?;
+        dense::eigh_into(hs, vectors, eig)?;
         Ok(Diagonalised {
             have_hs: true,
             hs_norm: hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt(),
