@@ -405,6 +405,97 @@ fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
 }
 
 #[test]
+fn sheet_levels_near_a_window_are_those_of_the_full_solve() {
+    // Oracle: Spectrum::solve_unlabelled (the parallel solve with level records). The lean
+    // path that leaves out sectors wholly outside a window must keep every converged level
+    // inside it (same count, same energies within a few eps of the largest level), keep only
+    // levels of the full solve, and answer "is there a converged level at or beyond each end"
+    // as the full solve does; and it must leave something out somewhere (or it tests
+    // nothing). Models: a Weyl node (2x2 sectors, chiral level), the gapped 3+1 Dirac model
+    // (4x4 sectors), the tilted warped cone (dense J mod 3 sectors, odd tilt); windows inside
+    // the spectrum, straddling zero, off to one side, and above every converged level.
+    use ladderfan::solve::{converged_energies_near, LeanBuffers, Problem};
+    use ladderfan::{FieldPoint, Spectrum};
+    let weyl = models::weyl(WeylParams::default()).unwrap();
+    let dirac = models::dirac(models::RelativisticParams::default()).unwrap();
+    let warped = tilted_warped_cone(50.0);
+    let cases = [
+        (
+            &weyl,
+            4.0,
+            0.1,
+            200,
+            [(-49.0, 49.0), (10.0, 30.0), (-3.0, 2.0), (1e6, 2e6)],
+        ),
+        (
+            &dirac,
+            0.05,
+            0.3,
+            80,
+            [(-1.5, 1.5), (1.0, 1.2), (-0.2, 0.2), (1e6, 2e6)],
+        ),
+        (
+            &warped,
+            3.0,
+            -0.02,
+            60,
+            [(-40.0, 40.0), (-60.0, -20.0), (5.0, 9.0), (1e7, 2e7)],
+        ),
+    ];
+    let mut buffers = LeanBuffers::default();
+    let mut near = Vec::new();
+    let mut left_out_somewhere = false;
+    for (model, field, kz, cutoff, windows) in cases {
+        let problem = Problem::new(
+            model,
+            FieldPoint { field, kz },
+            &Settings::with_cutoff(cutoff),
+        )
+        .unwrap();
+        let full: Vec<f64> = Spectrum::solve_unlabelled(&problem)
+            .unwrap()
+            .converged()
+            .map(|l| l.energy)
+            .collect();
+        assert!(!full.is_empty(), "{}", model.name());
+        let scale = full.iter().fold(0.0f64, |m, e| m.max(e.abs()));
+        let close = |a: f64, b: f64| (a - b).abs() <= 4.0 * f64::EPSILON * scale;
+        for (lo, hi) in windows {
+            for below_too in [false, true] {
+                converged_energies_near(&problem, &mut buffers, &mut near, (lo, hi), below_too)
+                    .unwrap();
+                let what = format!("{} in [{lo}, {hi}], below_too {below_too}", model.name());
+                let inside = |v: &[f64]| {
+                    let mut w: Vec<f64> =
+                        v.iter().copied().filter(|&e| e >= lo && e <= hi).collect();
+                    w.sort_by(f64::total_cmp);
+                    w
+                };
+                let (a, b) = (inside(&near), inside(&full));
+                assert_eq!(a.len(), b.len(), "{what}");
+                assert!(a.iter().zip(&b).all(|(&x, &y)| close(x, y)), "{what}");
+                assert!(
+                    near.iter().all(|&x| full.iter().any(|&y| close(x, y))),
+                    "{what}: a level not in the full solve"
+                );
+                let above = |v: &[f64]| v.iter().any(|&e| e >= hi);
+                let below = |v: &[f64]| v.iter().any(|&e| e <= lo);
+                assert_eq!(above(&near), above(&full), "{what}: cover above");
+                if below_too {
+                    assert_eq!(below(&near), below(&full), "{what}: cover below");
+                } else {
+                    // nothing below is left out: the same levels below as the full solve
+                    let n = |v: &[f64]| v.iter().filter(|&&e| e < lo).count();
+                    assert_eq!(n(&near), n(&full), "{what}: levels below");
+                }
+                left_out_somewhere |= near.len() < full.len();
+            }
+        }
+    }
+    assert!(left_out_somewhere, "no sector was ever left out");
+}
+
+#[test]
 fn adaptive_path_agrees_with_the_uniform_reference_on_a_tilted_j_mod_3_model() {
     // Reference: Quadrature::Uniform (as the Weyl test above): both stop at a change of 1e-7
     // of the peak, so they agree within 2e-7. A third kind of model: sectors of J mod 3
@@ -471,4 +562,56 @@ fn adaptive_path_with_a_three_part_first_round_agrees_with_the_uniform_reference
         "{:e}",
         b.quadrature_error
     );
+}
+
+#[test]
+fn adaptive_path_agrees_with_the_uniform_reference_on_a_four_band_zeeman_model() {
+    // Reference: Quadrature::Uniform (full solves, every sector; both stop at a change of
+    // 1e-7 of the peak, so they agree within 2e-7). A model without a closed form, invented:
+    // two Weyl cones of opposite chirality (tau_z kz sigma_z) offset in energy by +-8 meV,
+    // coupled by 5 meV tau_x, with a tilt 60 kz and a Zeeman term 1.5 meV/T sigma_z: four
+    // bands, level crossings between the blocks, no kz mirror. Both the densities and the
+    // Fermi level at a fixed density must agree, and the reported quadrature error must be
+    // at least the actual difference of the DOS (relative to its peak) less the reference's
+    // own tolerance.
+    use ladderfan::matrix::pauli;
+    use ladderfan::Monomial;
+    let m = ladderfan::Model::builder("two coupled Weyl cones with Zeeman (invented)", 4)
+        .term("vx", 200.0, pauli("0⊗x").unwrap(), Monomial::KX)
+        .term("vy", 200.0, pauli("0⊗y").unwrap(), Monomial::KY)
+        .term("vz", 200.0, pauli("z⊗z").unwrap(), Monomial::new(0, 0, 1))
+        .term("offset", 8.0, pauli("z⊗0").unwrap(), Monomial::ONE)
+        .term("coupling", 5.0, pauli("x⊗0").unwrap(), Monomial::ONE)
+        .term("tilt", 60.0, pauli("0⊗0").unwrap(), Monomial::new(0, 0, 1))
+        .term("zeeman", 1.5, pauli("0⊗z").unwrap(), Monomial::B)
+        .build()
+        .unwrap();
+    let settings = Settings::with_cutoff(100);
+    let fast = VolumeSettings::new(Broadening::gaussian(1.0), (-40.0, 40.0));
+    let reference = VolumeSettings {
+        quadrature: Quadrature::Uniform,
+        ..fast
+    };
+    let field = 3.0;
+    let a = VolumeDensity::compute(&m, field, &settings, &reference).unwrap();
+    let b = VolumeDensity::compute(&m, field, &settings, &fast).unwrap();
+    assert!(!b.even_in_kz, "the tilt leaves no kz mirror");
+    let (dg, dn) = largest_differences(&a, &b, 161);
+    assert!(dg < 2e-7, "DOS differs by {dg:e} of its peak");
+    assert!(dn < 2e-7, "density differs by {dn:e} of its scale");
+    let peak = (0..161)
+        .map(|i| a.dos(-40.0 + 0.5 * i as f64).abs())
+        .fold(0.0, f64::max);
+    assert!(peak > 0.0, "a level lies in the range");
+    assert!(
+        b.quadrature_error / peak + 1e-7 >= dg,
+        "reported {:e} of the peak, actual {dg:e}",
+        b.quadrature_error / peak
+    );
+    let target = 0.5 * (a.carrier_density(-20.0) + a.carrier_density(25.0));
+    let (ea, eb) = (
+        a.fermi_level(target).unwrap(),
+        b.fermi_level(target).unwrap(),
+    );
+    assert!((ea - eb).abs() < 1e-5 * a.width, "Fermi level {ea} vs {eb}");
 }

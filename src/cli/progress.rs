@@ -71,16 +71,22 @@ impl Progress {
         if let Ok(style) = ProgressStyle::with_template("{msg} {spinner} {elapsed}") {
             p.bar.set_style(style);
         }
-        let done = AtomicBool::new(false);
+        // the spinner waits on a channel rather than sleeping, so that it ends as soon as the
+        // work does (a sleep of 100 ms held the command up to 100 ms after its work)
+        let (done, wait) = std::sync::mpsc::channel::<()>();
+        let bar = &p;
         let out = std::thread::scope(|scope| {
-            scope.spawn(|| {
-                while !done.load(Ordering::Relaxed) {
-                    p.tick();
-                    std::thread::sleep(Duration::from_millis(100));
+            scope.spawn(move || loop {
+                bar.tick();
+                // Err(Disconnected) when the work is done (its sender dropped)
+                if wait.recv_timeout(Duration::from_millis(100))
+                    != Err(std::sync::mpsc::RecvTimeoutError::Timeout)
+                {
+                    break;
                 }
             });
             let out = work();
-            done.store(true, Ordering::Relaxed);
+            drop(done);
             out
         });
         p.finish();

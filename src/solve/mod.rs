@@ -182,6 +182,8 @@ pub struct LeanBuffers {
     scratch: Scratch,
     acc: SectorResult,
     mags: Vec<f64>,
+    /// The sectors [`converged_energies_near`] left out.
+    left_out: Vec<crate::sectors::SectorId>,
 }
 
 impl Default for LeanBuffers {
@@ -190,6 +192,7 @@ impl Default for LeanBuffers {
             scratch: Scratch::new(),
             acc: SectorResult::with_capacity(0, 0),
             mags: Vec::new(),
+            left_out: Vec::new(),
         }
     }
 }
@@ -217,6 +220,24 @@ pub fn converged_energies(
     buffers: &mut LeanBuffers,
     out: &mut Vec<f64>,
 ) -> Result<()> {
+    converged_energies_unsorted(problem, buffers, out)?;
+    out.sort_unstable_by(f64::total_cmp);
+    Ok(())
+}
+
+/// [`converged_energies`] without the final sort: the same energies in sector order (for a
+/// caller that only sorts the few it keeps, as the kz sheets of `observables::volume` do).
+///
+/// # Errors
+/// As [`Spectrum::solve`].
+///
+/// # Complexity
+/// As the sector solves of [`Spectrum::solve`], sequential; no sort.
+pub fn converged_energies_unsorted(
+    problem: &Problem<'_>,
+    buffers: &mut LeanBuffers,
+    out: &mut Vec<f64>,
+) -> Result<()> {
     out.clear();
     if problem.settings().target != Target::All {
         let s = Spectrum::solve_unlabelled(problem)?;
@@ -229,7 +250,9 @@ pub fn converged_energies(
     job.keep_mean_n = false;
     job.keep_weights = false;
     job.labels = false;
-    let LeanBuffers { scratch, acc, mags } = buffers;
+    let LeanBuffers {
+        scratch, acc, mags, ..
+    } = buffers;
     acc.clear();
     for id in problem.plan().sectors() {
         job.solve_sector(id, scratch, acc)?;
@@ -243,13 +266,95 @@ pub fn converged_energies(
     out.extend(
         acc.levels
             .iter()
-            .filter(|l| {
-                l.unpack(&acc.sectors).convergence_at(tolerance, scale)
-                    == crate::levels::Convergence::Converged
-            })
+            .filter(|l| l.converged(tolerance, scale))
             .map(|l| l.energy),
     );
-    out.sort_unstable_by(f64::total_cmp);
+    Ok(())
+}
+
+/// The energies of the converged levels of `problem` that a kz sheet of
+/// `observables::volume` needs, unsorted, written into `out`: those of
+/// [`converged_energies_unsorted`] (the same solves, bounds, energy scale and convergence
+/// flags), except the levels of sectors that lie wholly above `hi`, or, when `below_too`,
+/// wholly below `lo` (every eigenvalue outside, direct form, none refined): such a sector is
+/// diagonalised for its energies (which enter the energy scale as before) but gets no
+/// bounds, and its levels are left out. While the levels kept hold no converged level at or
+/// above `hi` (or, with `below_too`, at or below `lo`), the sectors left out are solved in
+/// full one by one in plan order and their converged levels added, so that a sheet's check
+/// that its levels cover [lo, hi] gets the same answer as with every level.
+///
+/// # Formula
+/// A level is converged as in [`converged_energies`]. A sheet counts a converged level
+/// outside [lo, hi] only through 1 - f below and -f above, with f the filled fraction at
+/// neutrality, which is 1 below and 0 above when the neutrality lies inside [lo, hi] (as
+/// `observables::volume` pads it), and 0 above for a band empty at neutrality (there
+/// `below_too` must be false): the levels left out add zero, converged or not.
+///
+/// # Errors
+/// As [`Spectrum::solve`].
+///
+/// # Complexity
+/// The eigen-solve of every sector (O(N d^3) for exact-J sectors), sequential; the residuals,
+/// leakage and Kato-Temple bounds only of the sectors with a level inside [lo, hi].
+pub fn converged_energies_near(
+    problem: &Problem<'_>,
+    buffers: &mut LeanBuffers,
+    out: &mut Vec<f64>,
+    (lo, hi): (f64, f64),
+    below_too: bool,
+) -> Result<()> {
+    if problem.settings().target != Target::All {
+        return converged_energies_unsorted(problem, buffers, out);
+    }
+    out.clear();
+    problem.check_memory()?;
+    let mut job = job(problem);
+    job.keep_vectors = false;
+    job.keep_mean_n = false;
+    job.keep_weights = false;
+    job.labels = false;
+    let LeanBuffers {
+        scratch,
+        acc,
+        mags,
+        left_out,
+    } = buffers;
+    acc.clear();
+    mags.clear();
+    left_out.clear();
+    for id in problem.plan().sectors() {
+        if job.solve_sector_unless_outside(id, scratch, acc, (lo, hi, below_too), mags)? {
+            left_out.push(id);
+        }
+    }
+    // the energy scale of `gather` over every level, those left out included
+    mags.extend(acc.levels.iter().map(|l| l.energy.abs()));
+    let d = problem.hamiltonian().dim;
+    let scale = crate::levels::median_of_smallest_nonzero(mags, 2 * d + 1).unwrap_or(1.0);
+    let tolerance = problem.settings().tolerance;
+    out.extend(
+        acc.levels
+            .iter()
+            .filter(|l| l.converged(tolerance, scale))
+            .map(|l| l.energy),
+    );
+    let covered =
+        |out: &[f64]| out.iter().any(|&e| e >= hi) && (!below_too || out.iter().any(|&e| e <= lo));
+    // the sectors left out, in plan order, until the levels kept reach beyond the window
+    // (one or two sectors next to the window when the levels there are converged)
+    for &id in left_out.iter() {
+        if covered(out) {
+            break;
+        }
+        let from = acc.levels.len();
+        job.solve_sector(id, scratch, acc)?;
+        out.extend(
+            acc.levels[from..]
+                .iter()
+                .filter(|l| l.converged(tolerance, scale))
+                .map(|l| l.energy),
+        );
+    }
     Ok(())
 }
 

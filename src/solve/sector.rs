@@ -163,6 +163,21 @@ impl Packed {
         }
     }
 
+    /// Whether the level is converged at `tolerance` with energy scale `scale`: the same
+    /// decision as `self.unpack(..).convergence_at(tolerance, scale) ==
+    /// Convergence::Converged` ([`Level::convergence_at`]: the deciding bound, the Kato-Temple
+    /// bound when known and sharper, else the residual bound, at most tolerance x
+    /// max(|E|, scale)), without building the record.
+    #[inline]
+    pub(super) fn converged(&self, tolerance: f64, scale: f64) -> bool {
+        let deciding = if self.has_kato_temple && self.kato_temple < self.bound {
+            self.kato_temple
+        } else {
+            self.bound
+        };
+        deciding <= tolerance * self.energy.abs().max(scale)
+    }
+
     /// The level record, with the sector read from the chunk's `sectors` and the convergence
     /// state [`Convergence::NotConverged`].
     pub(super) fn unpack(&self, sectors: &[SectorId]) -> Level {
@@ -325,7 +340,85 @@ impl Job<'_> {
         if scratch.states.is_empty() {
             return Ok(());
         }
-        let diag = self.diagonalise(id, scratch)?;
+        let diag = self.prepare(id, scratch)?;
+        self.finish_levels(id, scratch, &diag, out)
+    }
+
+    /// [`Job::solve_sector`], except that a sector whose every level lies outside the window
+    /// `outside` (above `hi`, or below `lo` when `below_too`) is left out: its |E| are added
+    /// to `mags` and `Ok(true)` returned, with no level in `out`. Only in the direct form and
+    /// when no eigenvalue of the sector would be refined, so that the energies left out are
+    /// bit for bit the levels' energies (the eigenvalues after the cluster rotation). A sector
+    /// of one or two states with no state within the band of the cutoff is first solved for
+    /// its eigenvalues only (the closed forms give the same bits with or without vectors, and
+    /// the cluster rotation leaves such a sector alone), and for its vectors only when kept.
+    pub(super) fn solve_sector_unless_outside(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        out: &mut SectorResult,
+        (lo, hi, below_too): (f64, f64, bool),
+        mags: &mut Vec<f64>,
+    ) -> Result<bool> {
+        self.plan.states(id, &mut scratch.states);
+        if scratch.states.is_empty() {
+            return Ok(false);
+        }
+        let s = scratch.states.len();
+        let outside = |values: &[f64], diag: &Diagonalised| {
+            self.form == SpectrumForm::Direct
+                && !diag.windowed
+                && values.iter().all(|&lam| {
+                    (lam > hi || (below_too && lam < lo)) && !self.refines(s, diag.hs_norm, lam)
+                })
+        };
+        // a sector of one or two states away from the cutoff: its eigenvalues first, without
+        // vectors (the closed forms give the same values either way, and no cluster rotation
+        // can move them: no state lies within the band of the cutoff)
+        let band = self.h.band;
+        let cutoff = self.plan.cutoff;
+        if s <= 2 && scratch.states.iter().all(|&(n, _)| n + band < cutoff) {
+            let diag = self.diagonalise(id, scratch, Vectors::Skip)?;
+            if outside(&scratch.eig.values, &diag) {
+                mags.extend(scratch.eig.values.iter().map(|lam| lam.abs()));
+                return Ok(true);
+            }
+        }
+        let diag = self.prepare(id, scratch)?;
+        if outside(&scratch.eig.values, &diag) {
+            mags.extend(scratch.eig.values.iter().map(|lam| lam.abs()));
+            return Ok(true);
+        }
+        self.finish_levels(id, scratch, &diag, out)?;
+        Ok(false)
+    }
+
+    /// Diagonalise the sector whose states are in the scratch and rotate its degenerate
+    /// clusters so that cutoff artefacts separate (src/solve/cluster.rs).
+    fn prepare(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
+        let diag = self.diagonalise(id, scratch, Vectors::Compute)?;
+        let Scratch { states, eig, .. } = scratch;
+        if let Some(vectors) = eig.vectors.as_mut() {
+            cluster::separate_leaking(
+                self.h,
+                self.plan.cutoff,
+                states,
+                &mut eig.values,
+                vectors,
+                self.tolerance,
+            );
+        }
+        Ok(diag)
+    }
+
+    /// The levels of the prepared sector ([`Job::prepare`]) into `out`.
+    fn finish_levels(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        diag: &Diagonalised,
+        out: &mut SectorResult,
+    ) -> Result<()> {
         let Scratch {
             states,
             hs,
@@ -334,18 +427,6 @@ impl Job<'_> {
             levels,
         } = scratch;
         let states: &[(usize, usize)] = states;
-        let cutoff = self.plan.cutoff;
-        // rotate degenerate clusters so cutoff artefacts separate (src/solve/cluster.rs)
-        if let Some(vectors) = eig.vectors.as_mut() {
-            cluster::separate_leaking(
-                self.h,
-                cutoff,
-                states,
-                &mut eig.values,
-                vectors,
-                self.tolerance,
-            );
-        }
         let vecs = eig.vectors.as_ref().ok_or_else(|| Error::Numerical {
             stage: "sector solve".into(),
             detail: "eigenvectors missing".into(),
@@ -354,7 +435,7 @@ impl Job<'_> {
         for (i, &lam0) in eig.values.iter().enumerate() {
             v.clear();
             v.extend(vecs.column(i).iter().copied());
-            let pair = self.eigenpair(states, hs, &diag, i, lam0, v);
+            let pair = self.eigenpair(states, hs, diag, i, lam0, v);
             self.push_levels(id, states, v, &pair, levels, out);
         }
         self.finish_sector(id, levels, diag.windowed);
@@ -383,7 +464,12 @@ impl Job<'_> {
 
     /// Eigenvalues and eigenvectors of the sector into the scratch: the window solver for a
     /// sector larger than `dense_max` when only some levels are wanted, else a dense solve.
-    fn diagonalise(&self, id: SectorId, scratch: &mut Scratch) -> Result<Diagonalised> {
+    fn diagonalise(
+        &self,
+        id: SectorId,
+        scratch: &mut Scratch,
+        vectors: Vectors,
+    ) -> Result<Diagonalised> {
         let Scratch {
             states, hs, eig, ..
         } = scratch;
@@ -418,7 +504,7 @@ impl Job<'_> {
                 hs[(r, c)] = element(r, c);
             }
         }
-        dense::eigh_into(hs, Vectors::Compute, eig)?;
+        dense::eigh_into(hs, vectors, eig)?;
         Ok(Diagonalised {
             have_hs: true,
             hs_norm: hs.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt(),
@@ -714,5 +800,42 @@ mod tests {
             }
         }
         assert!(std::mem::size_of::<Packed>() < std::mem::size_of::<Level>());
+    }
+
+    #[test]
+    fn packed_convergence_is_the_level_convergence() {
+        // Oracle: Level::convergence_at on the unpacked record, over bounds below, at and
+        // above the threshold, with and without a (sharper or looser) Kato-Temple bound
+        let sectors = [SectorId { class: 0, label: 0 }];
+        let mut seen = [false; 2];
+        for &energy in &[-3.0, -1e-7, 0.0, 2e-3, 5.0] {
+            for &bound in &[1e-12, 1e-9, 2e-9, 5e-9, 1e-3] {
+                for kt in [None, Some(1e-15), Some(3e-9), Some(1.0)] {
+                    for &scale in &[1.0, 1e-4] {
+                        let l = Level {
+                            energy,
+                            bound,
+                            kato_temple: kt,
+                            leakage: 0.0,
+                            in_space_residual: 0.0,
+                            convergence: Convergence::NotConverged,
+                            sector: sectors[0],
+                            orbital: 3,
+                            component: 0,
+                            branch: Root::Direct,
+                            label: LandauLabel::UNLABELLED,
+                            top_weight: 0.9,
+                            tail_weight: 0.9,
+                        };
+                        let p = Packed::pack(&l, 0);
+                        let want = p.unpack(&sectors).convergence_at(1e-9, scale)
+                            == Convergence::Converged;
+                        assert_eq!(p.converged(1e-9, scale), want, "{l:?} at scale {scale}");
+                        seen[want as usize] = true;
+                    }
+                }
+            }
+        }
+        assert_eq!(seen, [true, true], "both outcomes occur");
     }
 }

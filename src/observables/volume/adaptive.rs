@@ -7,10 +7,13 @@
 //!   multiple of 1/l_B, where every coupling any kz can have is present), its sector plan and
 //!   memory estimate reused at every kz ([`Problem::at_kz`]: one assembly per kz, the plan kept
 //!   when the couplings are covered), and each sheet solved by
-//!   [`crate::solve::converged_energies`]: the same sector solves, bounds and convergence flags
-//!   as a full solve, on one thread in buffers reused by the thread's later jobs, keeping only
-//!   the energies of the converged levels (no level records, weights, labels or gather: the
-//!   densities only count levels). One kz point is one job (solve, sheet, sums on the check
+//!   [`crate::solve::converged_energies_near`]: the same sector solves, bounds and convergence
+//!   flags as a full solve, on one thread in buffers reused by the thread's later jobs, keeping
+//!   only the energies of the converged levels (no level records, weights, labels or gather:
+//!   the densities only count levels), and of those only the levels that can change the
+//!   sheet: a sector whose every level lies above the padded range (or below it, when the
+//!   neutrality is inside it) adds nothing to the densities and gets no bounds (its energies
+//!   still set the energy scale of the convergence test). One kz point is one job (solve, sheet, sums on the check
 //!   energies); the jobs of all fields of a sweep share one rayon pool (work stealing over
 //!   fields and kz together, no nested parallelism inside a sheet).
 //! * Mirror: when [`super::kz_mirror`] finds U with U H(kz) U^-1 = H(-kz), only [0, K] is
@@ -20,7 +23,10 @@
 //!   (h/4) (2 f(m) - f(a) - f(b)) for an interval [a, b] with midpoint m. The first round cuts
 //!   every interval into 2, 3 or 4 equal parts instead, chosen from the steepest level slope
 //!   seen on the first grid (`first_parts`) so that the next round can already settle; the
-//!   change is then the trapezoid sum over the parts minus the old one. An interval is
+//!   change is then the trapezoid sum over the parts minus the old one; an interval whose
+//!   two ends are inert sheets with the same count of levels outside is only halved in that
+//!   round (its midpoint is the check a later halving would make, and its trapezoid sum is
+//!   the same however it is cut when it stays inert). An interval is
 //!   frozen (never halved again) when its ends and its new points were all inert sheets (no
 //!   converged level within reach of the padded range) with the same count of levels
 //!   outside: the integrand is constant there to the line's reach (below 1e-17 of a line), so
@@ -46,7 +52,7 @@ use crate::error::Result;
 use crate::hamiltonian::FieldPoint;
 use crate::model::Model;
 use crate::observables::dos::LineShape;
-use crate::solve::{converged_energies, LeanBuffers, Problem, Settings};
+use crate::solve::{converged_energies_near, LeanBuffers, Problem, Settings};
 use rayon::prelude::*;
 use std::f64::consts::{FRAC_1_SQRT_2, PI};
 
@@ -84,17 +90,19 @@ pub(super) fn compute(
         0.0
     };
     let template = Problem::new(model, FieldPoint { field, kz: generic }, settings)?;
-    let lean = LeanSolve {
-        template: &template,
-        tolerance: settings.tolerance,
-        cutoff: settings.cutoff,
-    };
     let frame = Frame::new(
         model,
         field,
         vs,
         (template.reference(), template.hamiltonian().magnetic_length),
     )?;
+    let lean = LeanSolve {
+        template: &template,
+        tolerance: settings.tolerance,
+        cutoff: settings.cutoff,
+        window: (frame.lo, frame.hi),
+        below_too: frame.neutrality.is_some(),
+    };
     let probe = |kz: &[f64]| -> Result<Vec<Vec<f64>>> {
         kz.par_iter()
             .map_init(LeanBuffers::default, |buf, &k| {
@@ -160,27 +168,46 @@ pub(super) fn compute(
     let scale = frame.per_level * both / (2.0 * PI);
     let mut last_change = f64::INFINITY;
     // the first round cuts each interval into `parts` (2 to 4, from the steepest level seen),
-    // every later round halves
+    // except an interval between two inert nodes with the same count of levels outside, which
+    // is only halved (its midpoint checks it as a later round's halving would); every later
+    // round halves
     let mut parts = first_parts(&nodes, frame.line.width, vs.tolerance);
+    let mut first_round = true;
     loop {
         let refine: Vec<usize> = (0..active.len()).filter(|&i| active[i]).collect();
-        if nodes.len() + refine.len() * (parts - 1) > vs.max_points {
+        let cuts: Vec<usize> = refine
+            .iter()
+            .map(|&i| {
+                let (a, b) = (&nodes[i], &nodes[i + 1]);
+                if first_round && a.inert() && b.inert() && a.sheet.base == b.sheet.base {
+                    2
+                } else {
+                    parts
+                }
+            })
+            .collect();
+        let added: usize = cuts.iter().map(|&p| p - 1).sum();
+        if nodes.len() + added > vs.max_points {
             return Err(too_many_points(vs, last_change));
         }
         let mids: Vec<f64> = refine
             .iter()
-            .flat_map(|&i| {
+            .zip(&cuts)
+            .flat_map(|(&i, &p)| {
                 let (a, b) = (nodes[i].kz, nodes[i + 1].kz);
-                (1..parts).map(move |j| a + (b - a) * j as f64 / parts as f64)
+                (1..p).map(move |j| a + (b - a) * j as f64 / p as f64)
             })
             .collect();
         let fresh = nodes_at(&mids)?;
         let (mut dg, mut dn) = (vec![0.0; check.len()], vec![0.0; check.len()]);
-        for (&i, inner) in refine.iter().zip(fresh.chunks(parts - 1)) {
-            // trapezoid sum over the `parts` sub-intervals minus the old (h/2)(f(a) + f(b))
+        let mut from = 0;
+        for (&i, &p) in refine.iter().zip(&cuts) {
+            // trapezoid sum over the `p` sub-intervals minus the old (h/2)(f(a) + f(b))
+            let inner = &fresh[from..from + p - 1];
+            from += p - 1;
             let (a, b) = (&nodes[i], &nodes[i + 1]);
             let h = b.kz - a.kz;
-            let sub = h / parts as f64;
+            let sub = h / p as f64;
             let ends = 0.5 * sub - 0.5 * h;
             for k in 0..check.len() {
                 let (mut ig, mut inn) = (0.0, 0.0);
@@ -206,8 +233,9 @@ pub(super) fn compute(
             change.gmax = change.gmax.max(scale * sg[k].abs());
             change.nmax = change.nmax.max(scale * sn[k].abs());
         }
-        (nodes, active) = merge(nodes, &active, fresh, parts);
+        (nodes, active) = merge(nodes, &active, fresh, &cuts);
         parts = 2;
+        first_round = false;
         last_change = change.dg / change.gmax.max(f64::MIN_POSITIVE);
         if settled(&change, vs) || !active.contains(&true) {
             let kz: Vec<f64> = nodes.iter().map(|n| n.kz).collect();
@@ -234,17 +262,30 @@ pub(super) fn compute(
 }
 
 /// The lean solve of one kz sheet: the field's set-up reused ([`Problem::at_kz`]) and only
-/// the converged energies kept ([`converged_energies`]).
+/// the converged energies the sheet needs kept ([`converged_energies_near`]).
 struct LeanSolve<'a, 'm> {
     template: &'a Problem<'m>,
     tolerance: f64,
     cutoff: usize,
+    /// The padded range of the sheets: sectors wholly above it (or below it, when
+    /// `below_too`) add nothing to a sheet and are left out ([`converged_energies_near`]).
+    window: (f64, f64),
+    /// Whether the neutrality lies inside the window (then a level below it adds nothing).
+    below_too: bool,
 }
 
 impl LeanSolve<'_, '_> {
-    /// The ascending energies of the converged levels at `kz` into `out`.
+    /// The energies of the converged levels at `kz` that the sheet needs into `out`, in
+    /// sector order ([`converged_energies_near`]; not sorted: [`sheet_of`] sorts the few it
+    /// keeps, and the kz limit only asks whether any is inside the window).
     fn energies(&self, kz: f64, buffers: &mut LeanBuffers, out: &mut Vec<f64>) -> Result<()> {
-        converged_energies(&self.template.at_kz(kz)?, buffers, out)
+        converged_energies_near(
+            &self.template.at_kz(kz)?,
+            buffers,
+            out,
+            self.window,
+            self.below_too,
+        )
     }
 }
 
@@ -301,24 +342,27 @@ fn node(kz: f64, sheet: Sheet, line: &Line, check: &[f64]) -> Node {
     Node { kz, sheet, g, n }
 }
 
-/// The grid after a round: each refined interval i (active[i]) gets its `parts` - 1 new
+/// The grid after a round: the k-th refined interval i (active[i]) gets its `cuts[k]` - 1 new
 /// points from `fresh` (in order); its sub-intervals stay active unless its ends and its new
 /// points are all inert with the same count of levels outside. Frozen intervals stay frozen.
 fn merge(
     nodes: Vec<Node>,
     active: &[bool],
     fresh: Vec<Node>,
-    parts: usize,
+    cuts: &[usize],
 ) -> (Vec<Node>, Vec<bool>) {
     // which refined intervals freeze, decided before the nodes move
     let mut freeze = Vec::with_capacity(active.len());
-    let mut inner = fresh.chunks(parts - 1);
+    let mut cut = cuts.iter();
+    let mut from = 0;
     for (i, &on) in active.iter().enumerate() {
-        let group = if on { inner.next() } else { None };
-        let Some(group) = group else {
+        if !on {
             freeze.push(false);
             continue;
-        };
+        }
+        let p = *cut.next().expect("one cut per refined interval");
+        let group = &fresh[from..from + p - 1];
+        from += p - 1;
         let (a, b) = (&nodes[i], &nodes[i + 1]);
         let base = a.sheet.base;
         let alike = |n: &Node| n.inert() && n.sheet.base == base;
@@ -327,6 +371,7 @@ fn merge(
     let mut out: Vec<Node> = Vec::with_capacity(nodes.len() + fresh.len());
     let mut flags = Vec::with_capacity(active.len() + fresh.len());
     let mut fresh = fresh.into_iter();
+    let mut cut = cuts.iter();
     let last = nodes.len() - 1;
     for (i, a) in nodes.into_iter().enumerate() {
         out.push(a);
@@ -334,8 +379,9 @@ fn merge(
             break;
         }
         if active[i] {
-            out.extend(fresh.by_ref().take(parts - 1));
-            flags.extend(std::iter::repeat(!freeze[i]).take(parts));
+            let p = *cut.next().expect("one cut per refined interval");
+            out.extend(fresh.by_ref().take(p - 1));
+            flags.extend(std::iter::repeat(!freeze[i]).take(p));
         } else {
             flags.push(false);
         }

@@ -99,8 +99,9 @@ pub(super) struct SheetPoint {
     pub(super) cutoff: usize,
 }
 
-/// Reduce the ascending energies `conv` of the converged levels of one kz sheet to a sheet,
-/// after checking that they cover [lo, hi].
+/// Reduce the energies `conv` of the converged levels of one kz sheet (in any order) to a
+/// sheet, after checking that they cover [lo, hi]; only the levels kept in [`Sheet::near`]
+/// are sorted.
 pub(super) fn sheet_of(
     conv: &[f64],
     at_point: SheetPoint,
@@ -109,7 +110,12 @@ pub(super) fn sheet_of(
     bounded: bool,
     width: f64,
 ) -> Result<Sheet> {
-    let (Some(&first), Some(&last)) = (conv.first(), conv.last()) else {
+    let (first, last) = conv
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &e| {
+            (a.min(e), b.max(e))
+        });
+    if conv.is_empty() {
         return Err(Error::NotConverged {
             tolerance: at_point.tolerance,
             detail: format!(
@@ -117,7 +123,7 @@ pub(super) fn sheet_of(
                 at_point.kz
             ),
         });
-    };
+    }
     if last < hi || (!bounded && first > lo) {
         return Err(Error::NotConverged {
             tolerance: at_point.tolerance,
@@ -146,6 +152,7 @@ pub(super) fn sheet_of(
             near.push((el, filled(el)));
         }
     }
+    near.sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
     let mut filled_before = Vec::with_capacity(near.len() + 1);
     let mut acc = 0.0;
     filled_before.push(acc);
