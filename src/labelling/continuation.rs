@@ -10,6 +10,7 @@ use crate::numeric::dense::{self, Vectors};
 use crate::sectors::{SectorPlan, Symmetry};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
+use rayon::prelude::*;
 use std::collections::BTreeMap;
 
 /// Steps of the path t = 0 .. 1 before any halving.
@@ -143,21 +144,30 @@ pub fn continue_labels(
             by_sector.entry(l.sector).or_default().push(i);
         }
     }
-    let mut states = Vec::new();
-    for (id, members) in by_sector {
-        // cutoff of the continuation: the spectrum's own, or lower for a large sector
-        let mut cutoff = spectrum.cutoff;
-        loop {
-            SectorPlan::new(spectrum.symmetry.clone(), cutoff).states(id, &mut states);
-            if states.len() <= CONTINUATION_MAX_STATES || cutoff <= h.band + 1 {
-                break;
+    // the sectors are followed in parallel (each is independent), then assigned in order
+    let symmetry = &spectrum.symmetry;
+    let full_cutoff = spectrum.cutoff;
+    let sectors: Vec<_> = by_sector.into_iter().collect();
+    let followed: Vec<(Followed, bool)> = sectors
+        .par_iter()
+        .map(|(id, _)| -> Result<(Followed, bool)> {
+            // cutoff of the continuation: the spectrum's own, or lower for a large sector
+            let mut states = Vec::new();
+            let mut cutoff = full_cutoff;
+            loop {
+                SectorPlan::new(symmetry.clone(), cutoff).states(*id, &mut states);
+                if states.len() <= CONTINUATION_MAX_STATES || cutoff <= h.band + 1 {
+                    break;
+                }
+                cutoff = (cutoff * CONTINUATION_MAX_STATES / states.len()).max(h.band + 1);
             }
-            cutoff = (cutoff * CONTINUATION_MAX_STATES / states.len()).max(h.band + 1);
-        }
-        let same_cutoff = cutoff == spectrum.cutoff;
-        let top_from = cutoff.saturating_sub(h.band.max(1));
-        let followed = follow(h, h0, sym.is_some(), &states, &shift_of, top_from)?;
-        assign(spectrum, &members, &followed, form, same_cutoff);
+            let top_from = cutoff.saturating_sub(h.band.max(1));
+            let followed = follow(h, h0, sym.is_some(), &states, &shift_of, top_from)?;
+            Ok((followed, cutoff == full_cutoff))
+        })
+        .collect::<Result<_>>()?;
+    for ((_, members), (followed, same_cutoff)) in sectors.iter().zip(&followed) {
+        assign(spectrum, members, followed, form, *same_cutoff);
     }
     Ok(())
 }

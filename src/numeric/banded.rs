@@ -196,7 +196,9 @@ impl BandedHermitian {
         let w = self.b + 1;
         for i in 0..self.n {
             for j in i.saturating_sub(self.b)..=i {
-                let a = self.at::<Complex64>(i * w + (j + self.b - i)).norm();
+                let z = self.at::<Complex64>(i * w + (j + self.b - i));
+                // |z| without hypot for a real element (the same value)
+                let a = if z.im == 0.0 { z.re.abs() } else { z.norm() };
                 rows[i] += a;
                 if j != i {
                     rows[j] += a;

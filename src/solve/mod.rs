@@ -15,7 +15,10 @@
 //! * Exactly conserved J (e.g. 3+1 Dirac, 2D Dirac, Pauli): O(N) sectors of size s <= d, each a
 //!   dense solve of O(d^3): total O(N d^3) time, O(N d) memory, rayon-parallel over sectors.
 //! * J mod m conserved, or no symmetry: m (or 1) dense sectors of size s ~ N d / m, O(s^3) each
-//!   ([`dense`]), or the window solver for sectors too large to diagonalise densely.
+//!   ([`dense`]), or the window solver for sectors too large to diagonalise densely; for a
+//!   [`Target::Nearest`] with several such sectors they are solved ahead by
+//!   [`window::nearest_joint`], each asked for about its share of the count (certified by
+//!   inertia counts at the joint radius) instead of the whole count.
 //!
 //! * Collecting the levels: 16-byte integer sort keys (energy then position) laid out rank by
 //!   rank within the sectors, which for exact-J sectors makes a few long monotone runs: a merge
@@ -172,6 +175,7 @@ fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
         target: settings.target,
         dense_max: settings.dense_max,
         dropped: h.dropped_norm(plan.cutoff),
+        windows: std::sync::Mutex::new(Vec::new()),
     }
 }
 
@@ -363,8 +367,9 @@ fn solve_sectors(problem: &Problem<'_>) -> Result<Vec<SectorResult>> {
     let h = problem.hamiltonian();
     let plan = problem.plan();
     let ids = plan.sectors();
-    let job = job(problem);
+    let mut job = job(problem);
     let branches = problem.shape().branches as usize;
+    job.solve_windows_jointly(&ids, branches)?;
     // many small sectors: chunks amortise the scheduling; few large ones: one per task
     let chunk = (ids.len() / (8 * rayon::current_num_threads())).clamp(1, 512);
     ids.par_chunks(chunk)

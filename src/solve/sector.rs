@@ -21,6 +21,7 @@ use crate::numeric::dd::DdComplex;
 use crate::sectors::{SectorId, SectorPlan};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
+use std::sync::Mutex;
 
 /// The tail of the basis for [`Level::tail_weight`]: the top 1/TAIL_DENOMINATOR of the orbitals.
 const TAIL_DENOMINATOR: usize = 4;
@@ -305,6 +306,10 @@ pub(super) struct Job<'a> {
     /// Norm of the cancelling terms dropped at assembly over the truncated space
     /// ([`LadderHamiltonian::dropped_norm`]).
     pub(super) dropped: f64,
+    /// Window solutions of large sectors solved ahead, jointly over the sectors
+    /// ([`Job::solve_windows_jointly`]); [`Job::diagonalise`] takes a sector's from here.
+    /// With each, the norm bound of the sector's band matrix.
+    pub(super) windows: Mutex<Vec<(SectorId, window::WindowSolution, f64)>>,
 }
 
 /// What the eigen-solve of a sector leaves besides the eigenpairs (in the scratch).
@@ -477,8 +482,23 @@ impl Job<'_> {
         let s = states.len();
         let element = |r: usize, c: usize| self.element(states, r, c);
         if s > self.dense_max && self.target != Target::All {
-            let hbw = self.plan.half_bandwidth(id, self.h.band).min(s - 1);
-            let banded = banded::BandedHermitian::from_fn(s, hbw, element)?;
+            let ahead = {
+                let mut windows = self.windows.lock().unwrap_or_else(|e| e.into_inner());
+                let at = windows.iter().position(|w| w.0 == id);
+                at.map(|at| windows.swap_remove(at))
+            };
+            if let Some((_, w, hs_norm)) = ahead {
+                let w = w.into_complex();
+                eig.values = w.values;
+                eig.vectors = Some(w.vectors);
+                return Ok(Diagonalised {
+                    have_hs: false,
+                    hs_norm,
+                    window_residuals: Some(w.residuals),
+                    windowed: true,
+                });
+            }
+            let banded = self.sector_banded(id, states)?;
             let w = match self.target {
                 Target::Nearest { energy, count } => {
                     window::nearest(&banded, energy, count.min(s))?
@@ -511,6 +531,73 @@ impl Job<'_> {
             window_residuals: None,
             windowed: false,
         })
+    }
+
+    /// The band matrix of sector `id` over its `states`, for the window solver.
+    fn sector_banded(
+        &self,
+        id: SectorId,
+        states: &[(usize, usize)],
+    ) -> Result<banded::BandedHermitian> {
+        let s = states.len();
+        let hbw = self.plan.half_bandwidth(id, self.h.band).min(s.max(1) - 1);
+        banded::BandedHermitian::from_fn(s, hbw, |r, c| self.element(states, r, c))
+    }
+
+    /// For a [`Target::Nearest`] with two or more sectors on the window path (larger than
+    /// `dense_max`): solve those sectors ahead by [`window::nearest_joint`], each asked for
+    /// about its share of the count with a certified radius instead of the whole count, and
+    /// keep the solutions for [`Job::diagonalise`]. Sectors of exact classes no larger than
+    /// `dense_max` are not even listed. Does nothing for other targets.
+    ///
+    /// # Errors
+    /// As [`window::nearest_joint`].
+    ///
+    /// # Complexity
+    /// O(states) to list the sector sizes of inexact classes, then as
+    /// [`window::nearest_joint`].
+    pub(super) fn solve_windows_jointly(
+        &mut self,
+        ids: &[SectorId],
+        branches: usize,
+    ) -> Result<()> {
+        let Target::Nearest { energy, count } = self.target else {
+            return Ok(());
+        };
+        let mut large = Vec::new();
+        let mut states = Vec::new();
+        for &id in ids {
+            let c = &self.plan.symmetry.classes[id.class];
+            if c.conservation.is_exact() && c.components.len() * branches <= self.dense_max {
+                continue;
+            }
+            self.plan.states(id, &mut states);
+            if states.len() > self.dense_max {
+                large.push((id, states.len()));
+            }
+        }
+        if large.len() < 2 {
+            return Ok(());
+        }
+        let sizes: Vec<usize> = large.iter().map(|l| l.1).collect();
+        let total: usize = sizes.iter().sum();
+        let norms = Mutex::new(vec![0.0; large.len()]);
+        let build = |i: usize| {
+            let mut states = Vec::new();
+            self.plan.states(large[i].0, &mut states);
+            let banded = self.sector_banded(large[i].0, &states)?;
+            norms.lock().unwrap_or_else(|e| e.into_inner())[i] = banded.norm_bound();
+            Ok(banded)
+        };
+        let solved = window::nearest_joint(&sizes, build, energy, count.min(total))?;
+        let norms = norms.into_inner().unwrap_or_else(|e| e.into_inner());
+        *self.windows.get_mut().unwrap_or_else(|e| e.into_inner()) = large
+            .iter()
+            .zip(solved)
+            .zip(norms)
+            .map(|((l, w), norm)| (l.0, w, norm))
+            .collect();
+        Ok(())
     }
 
     /// Whether eigenvalue `lam0` of a sector of `s` states with norm `hs_norm` is refined in
