@@ -23,7 +23,8 @@ const GATHER_GRAIN: usize = 1 << 14;
 ///
 /// # Complexity
 /// O(L log runs) for L levels laid out in few monotone runs (exact-J sectors, see
-/// [`rank_layout`]), else O(L log L): a sort of 16-byte integer keys, then one parallel gather
+/// [`rank_layout`]; a parallel merge), else O(L log L): a sort of 16-byte integer keys, then
+/// one parallel gather
 /// from the per-chunk buffers (no unsorted concatenation is ever built: at 4e6 levels each
 /// extra pass over fresh memory costs about 0.1 s in page faults).
 pub(super) fn gather(
@@ -123,8 +124,9 @@ fn sorted_keys(
     }
     let mut keys: Vec<SortKey> = raw.into_iter().map(SortKey).collect();
     if few_runs(&keys) {
-        // a merge of the natural runs (std's stable sort finds them): O(L log runs)
-        keys.sort();
+        // a merge of the natural runs (rayon's stable sort finds them in each of its parts and
+        // merges the parts in parallel): O(L log runs) work, no longer a serial pass
+        keys.par_sort();
     } else {
         keys.par_sort_unstable();
     }
