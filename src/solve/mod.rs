@@ -261,18 +261,9 @@ pub fn converged_energies_unsorted(
     for id in problem.plan().sectors() {
         job.solve_sector(id, scratch, acc)?;
     }
-    // the energy scale of `gather`: the median of the non-zero |E| among the 2d+1 smallest
     mags.clear();
-    mags.extend(acc.levels.iter().map(|l| l.energy.abs()));
-    let d = problem.hamiltonian().dim;
-    let scale = crate::levels::median_of_smallest_nonzero(mags, 2 * d + 1).unwrap_or(1.0);
-    let tolerance = problem.settings().tolerance;
-    out.extend(
-        acc.levels
-            .iter()
-            .filter(|l| l.converged(tolerance, scale))
-            .map(|l| l.energy),
-    );
+    let scale = lean_energy_scale(problem, acc, mags);
+    push_converged(out, &acc.levels, problem.settings().tolerance, scale);
     Ok(())
 }
 
@@ -331,17 +322,10 @@ pub fn converged_energies_near(
             left_out.push(id);
         }
     }
-    // the energy scale of `gather` over every level, those left out included
-    mags.extend(acc.levels.iter().map(|l| l.energy.abs()));
-    let d = problem.hamiltonian().dim;
-    let scale = crate::levels::median_of_smallest_nonzero(mags, 2 * d + 1).unwrap_or(1.0);
+    // over every level, those left out included (their energies are in `mags` already)
+    let scale = lean_energy_scale(problem, acc, mags);
     let tolerance = problem.settings().tolerance;
-    out.extend(
-        acc.levels
-            .iter()
-            .filter(|l| l.converged(tolerance, scale))
-            .map(|l| l.energy),
-    );
+    push_converged(out, &acc.levels, tolerance, scale);
     let covered =
         |out: &[f64]| out.iter().any(|&e| e >= hi) && (!below_too || out.iter().any(|&e| e <= lo));
     // the sectors left out, in plan order, until the levels kept reach beyond the window
@@ -352,14 +336,27 @@ pub fn converged_energies_near(
         }
         let from = acc.levels.len();
         job.solve_sector(id, scratch, acc)?;
-        out.extend(
-            acc.levels[from..]
-                .iter()
-                .filter(|l| l.converged(tolerance, scale))
-                .map(|l| l.energy),
-        );
+        push_converged(out, &acc.levels[from..], tolerance, scale);
     }
     Ok(())
+}
+
+/// The energy scale of `gather` (the median of the non-zero |E| among the 2d+1 smallest) over
+/// the levels of `acc` and the magnitudes already in `mags`.
+fn lean_energy_scale(problem: &Problem<'_>, acc: &SectorResult, mags: &mut Vec<f64>) -> f64 {
+    mags.extend(acc.levels.iter().map(|l| l.energy.abs()));
+    let d = problem.hamiltonian().dim;
+    crate::levels::median_of_smallest_nonzero(mags, 2 * d + 1).unwrap_or(1.0)
+}
+
+/// Append the energies of the converged levels of `levels` to `out`.
+fn push_converged(out: &mut Vec<f64>, levels: &[sector::Packed], tolerance: f64, scale: f64) {
+    out.extend(
+        levels
+            .iter()
+            .filter(|l| l.converged(tolerance, scale))
+            .map(|l| l.energy),
+    );
 }
 
 /// Solve every sector of the problem's plan, rayon-parallel over chunks of sectors.
