@@ -371,7 +371,7 @@ pub struct Spectrum {
     /// Component weights, `dim` per level, in the order of `levels`; empty when the solve
     /// skipped them ([`crate::problem::Weights::Skip`]).
     pub weights: Vec<f64>,
-    /// Mean orbital index <n> = sum_(n, alpha) n |psi_(n alpha)|^2 per level, in the order of
+    /// Mean orbital index `<n>` = sum_(n, alpha) n |psi_(n alpha)|^2 per level, in the order of
     /// `levels`, when the solve was asked for it ([`crate::problem::Character::Compute`]).
     pub mean_n: Option<Vec<f64>>,
     /// Eigenvectors in the order of `levels`, if requested.
@@ -393,7 +393,7 @@ impl Spectrum {
         &self.weights[i * self.dim..(i + 1) * self.dim]
     }
 
-    /// Mean orbital index <n> = sum_(n, alpha) n |psi_(n alpha)|^2 of level `i`, when the solve
+    /// Mean orbital index `<n>` = sum_(n, alpha) n |psi_(n alpha)|^2 of level `i`, when the solve
     /// computed it ([`crate::problem::Character::Compute`]); for a level of the Schrodinger
     /// model in Landau level n it is n.
     pub fn mean_n_of(&self, i: usize) -> Option<f64> {

@@ -88,7 +88,7 @@ pub struct Settings {
     /// Sectors larger than this (states) use the window solver when `target` is not
     /// [`Target::All`]; smaller ones are diagonalised densely and then filtered.
     pub dense_max: usize,
-    /// Whether the solve also reports each level's mean orbital index <n>
+    /// Whether the solve also reports each level's mean orbital index `<n>`
     /// ([`crate::levels::Spectrum::mean_n`]).
     pub character: Character,
     /// Whether the solve reports the component weights of every level
@@ -111,13 +111,13 @@ pub enum Weights {
 }
 
 /// Whether a solve reports the orbital character of its levels: the mean orbital index
-/// <n> = sum_(n, alpha) n |psi_(n alpha)|^2 of each eigenvector.
+/// `<n>` = sum_(n, alpha) n |psi_(n alpha)|^2 of each eigenvector.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Character {
-    /// No <n> (the default; nothing extra is stored).
+    /// No `<n>` (the default; nothing extra is stored).
     #[default]
     Skip,
-    /// Also <n> per level (8 bytes per level).
+    /// Also `<n>` per level (8 bytes per level).
     Compute,
 }
 

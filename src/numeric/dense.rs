@@ -9,7 +9,7 @@
 //! - size 2: closed form with half-trace m = (a + d)/2, half-difference delta = (a - d)/2 and
 //!   r = sqrt(delta^2 + |c|^2): lambda = m -/+ r. The eigenvectors are built from |delta| + r,
 //!   which never cancels, so they are accurate to rounding for every input. The square roots
-//!   are [`norm3`] (a plain sqrt of the sum of squares, rescaled by a power of two only outside
+//!   are `norm3` (a plain sqrt of the sum of squares, rescaled by a power of two only outside
 //!   2^-500..2^500) instead of libm's `hypot`: relative error at most 2 eps against `hypot`'s
 //!   1 ulp, far inside the rounding floor 4 eps ||H|| of a dense level (`solve::sector`).
 //! - sizes 3 and 4: nalgebra's fixed-size `SymmetricEigen` on `Matrix3`/`Matrix4` (stack

@@ -177,7 +177,7 @@ impl<T: Scalar> PartitionedLdl<T> {
     /// is [`PartitionedLdl::growth`].
     ///
     /// # Errors
-    /// [`Error::Numerical`] when the dense separator eigen-solve fails.
+    /// [`crate::Error::Numerical`] when the dense separator eigen-solve fails.
     ///
     /// # Complexity
     /// About n b^2 / 2 multiply-adds, half on each thread, plus O(b^3); memory n (b + 1)
@@ -318,7 +318,7 @@ impl<T: Scalar> PartitionedLdl<T> {
     /// the separator solve, backward sweeps of both blocks (two threads).
     ///
     /// # Errors
-    /// [`Error::BadNumber`] when `x` does not have n elements.
+    /// [`crate::Error::BadNumber`] when `x` does not have n elements.
     ///
     /// # Complexity
     /// 2 n b multiply-adds, reading the factors (n (b + 1) numbers) twice, plus O(b^2).

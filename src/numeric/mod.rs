@@ -34,6 +34,7 @@
 pub mod banded;
 pub mod dd;
 pub mod dense;
+mod joint;
 mod lanczos;
 pub mod ldl;
 pub mod plu;

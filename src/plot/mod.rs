@@ -1,6 +1,6 @@
 //! Figures: fan diagrams, dispersions, level diagrams, densities of states, optical spectra
 //! and convergence plots, written as SVG by our own small writer ([`svg`]) with `f64`
-//! coordinates, then rendered to PNG or PDF ([`render`]) with the font shipped in
+//! coordinates, then rendered to PNG or PDF ([`mod@render`]) with the font shipped in
 //! `assets/fonts/` (DejaVu Sans, embedded), so text never depends on system fonts.
 //!
 //! A figure is a [`LinePlot`]: curves of (x, y) points in data units, drawn on a linear, log

@@ -3,7 +3,7 @@
 
 use std::fmt::Write as _;
 
-/// The font family every figure names; [`super::render`] loads this font from
+/// The font family every figure names; [`mod@super::render`] loads this font from
 /// `assets/fonts/` before rasterising, so no system font is ever needed.
 pub const FONT_FAMILY: &str = "DejaVu Sans";
 

@@ -158,7 +158,7 @@ pub struct LevelRecord {
     pub family: usize,
     /// Weight on each component (sum 1), in the model's component order.
     pub weights: Vec<f64>,
-    /// Mean orbital index <n> = sum n |psi_n|^2, when the solve computed it (`--character`).
+    /// Mean orbital index `<n>` = sum n |psi_n|^2, when the solve computed it (`--character`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mean_n: Option<f64>,
 }
@@ -254,7 +254,7 @@ pub struct TrackRecord {
     /// energy is), present when the sweep computed the character (`--character`).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub weights: Option<Vec<Option<Vec<f64>>>>,
-    /// Mean orbital index <n> per sweep point, present with `weights`.
+    /// Mean orbital index `<n>` per sweep point, present with `weights`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mean_n: Option<Vec<Option<f64>>>,
 }

@@ -163,7 +163,7 @@ impl OpticsPointRecord {
     }
 
     /// Transition and level energies times `energy_factor`, the Fermi record by
-    /// [`FermiRecord::scale`], the field times `field_factor`; strengths unchanged (the output
+    /// `FermiRecord::scale`, the field times `field_factor`; strengths unchanged (the output
     /// edge: [`OpticsRecord::in_units`]).
     pub fn scale(&mut self, energy_factor: f64, field_factor: f64) {
         self.field *= field_factor;

@@ -29,7 +29,7 @@ pub struct KeptValue<'a> {
     pub branch: Branch,
     /// Point index in the whole sweep.
     pub point: usize,
-    /// Index of the level in its spectrum (for its weights and <n>).
+    /// Index of the level in its spectrum (for its weights and `<n>`).
     pub level: usize,
     /// Energy, model units.
     pub energy: f64,

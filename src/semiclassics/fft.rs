@@ -5,7 +5,7 @@
 //! D(B) = (1 / 2 pi l_B^2) sum_levels L(E_F - E_l(B)) with a normalised line L of the stated
 //! broadening ([`Broadening`]: Lorentzian half width or Gaussian standard deviation), sampled
 //! on N points uniform in x = 1/B. After removing the mean and a Hann window,
-//! |sum_j w_j (D_j - <D>) exp(-2 pi i F x_j)| is evaluated on a grid 8 times finer than the
+//! |sum_j w_j (D_j - `<D>`) exp(-2 pi i F x_j)| is evaluated on a grid 8 times finer than the
 //! natural resolution 1 / (x_max - x_min) and the highest peak above `f_min` is refined by a
 //! parabola through its three samples. The frequency's uncertainty is quoted as half the natural
 //! resolution, 1 / (2 (x_max - x_min)).

@@ -347,7 +347,8 @@ fn energy_scale_sorted(keys: &[SortKey], dim: usize) -> f64 {
 mod tests {
     use super::SortKey;
 
-    use super::super::sector::{Packed, SectorResult};
+    use super::super::packed::Packed;
+    use super::super::sector::SectorResult;
     use super::{sorted_keys, Target};
     use crate::levels::{Convergence, LandauLabel, Level, Root};
     use crate::sectors::SectorId;

@@ -42,6 +42,7 @@
 pub mod bounds;
 pub mod cluster;
 mod gather;
+mod packed;
 mod sector;
 
 use crate::numeric::{banded, dense, refine, window};
@@ -350,7 +351,7 @@ fn lean_energy_scale(problem: &Problem<'_>, acc: &SectorResult, mags: &mut Vec<f
 }
 
 /// Append the energies of the converged levels of `levels` to `out`.
-fn push_converged(out: &mut Vec<f64>, levels: &[sector::Packed], tolerance: f64, scale: f64) {
+fn push_converged(out: &mut Vec<f64>, levels: &[packed::Packed], tolerance: f64, scale: f64) {
     out.extend(
         levels
             .iter()
