@@ -1,6 +1,7 @@
 //! Quick wall-clock probe of the main solver paths (release build; not a test):
 //! `cargo bench --bench timing_probe`.
-use ladderfan::matrix::pauli;
+#[path = "shared/warping.rs"]
+mod warping;
 use ladderfan::*;
 use std::time::Instant;
 
@@ -44,15 +45,7 @@ fn main() -> Result<()> {
         t_dense / t_split
     );
     // invented two-band model with cubic warping (J mod 3 only)
-    let w = Model::builder("warped (invented)", 2)
-        .term("mass", 20.0, pauli("z")?, Monomial::ONE)
-        .term("kx2", 400.0, pauli("z")?, Monomial::new(2, 0, 0))
-        .term("ky2", 400.0, pauli("z")?, Monomial::new(0, 2, 0))
-        .term("vx", 300.0, pauli("x")?, Monomial::KX)
-        .term("vy", 300.0, pauli("y")?, Monomial::KY)
-        .term("w1", 900.0, pauli("z")?, Monomial::new(3, 0, 0))
-        .term("w2", -2700.0, pauli("z")?, Monomial::new(1, 2, 0))
-        .build()?;
+    let w = warping::warped()?;
     for n in [100_000usize, 1_000_000] {
         for split in [Splitting::Auto, Splitting::Off] {
             let mut s = Settings::with_cutoff(n);

@@ -1,8 +1,9 @@
 //! Wall-clock probe of the window solver on the invented warping model of
-//! `tools/timing_probe.rs` (release build; not a test, asserts nothing):
+//! `tools/shared/warping.rs` (release build; not a test, asserts nothing):
 //! `cargo bench --bench warp_probe -- N [auto|off] [REPEATS]`.
 //! Prints one line per run: time, level count, first level.
-use ladderfan::matrix::pauli;
+#[path = "shared/warping.rs"]
+mod warping;
 use ladderfan::*;
 use std::time::Instant;
 
@@ -21,15 +22,7 @@ fn main() -> Result<()> {
     };
     let repeats: usize = args.get(2).and_then(|a| a.parse().ok()).unwrap_or(1);
     // invented two-band model with cubic warping (J mod 3 only), as in timing_probe
-    let w = Model::builder("warped (invented)", 2)
-        .term("mass", 20.0, pauli("z")?, Monomial::ONE)
-        .term("kx2", 400.0, pauli("z")?, Monomial::new(2, 0, 0))
-        .term("ky2", 400.0, pauli("z")?, Monomial::new(0, 2, 0))
-        .term("vx", 300.0, pauli("x")?, Monomial::KX)
-        .term("vy", 300.0, pauli("y")?, Monomial::KY)
-        .term("w1", 900.0, pauli("z")?, Monomial::new(3, 0, 0))
-        .term("w2", -2700.0, pauli("z")?, Monomial::new(1, 2, 0))
-        .build()?;
+    let w = warping::warped()?;
     for _ in 0..repeats {
         let mut s = Settings::with_cutoff(n);
         s.target = Target::Nearest {

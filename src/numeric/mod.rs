@@ -39,6 +39,7 @@ mod lanczos;
 pub mod ldl;
 pub mod plu;
 pub mod refine;
+mod ritz;
 pub mod root;
 pub mod slicing;
 mod tridiag;

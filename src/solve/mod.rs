@@ -155,6 +155,17 @@ fn refine_policy(problem: &Problem<'_>) -> RefinePolicy {
     }
 }
 
+/// [`job`] for the lean energy-only solves: no vectors, <n>, weights or labels.
+fn lean_job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
+    Job {
+        keep_vectors: false,
+        keep_mean_n: false,
+        keep_weights: false,
+        labels: false,
+        ..job(problem)
+    }
+}
+
 /// What every sector of `problem` shares (the per-sector work of `sector.rs`).
 fn job<'a>(problem: &'a Problem<'_>) -> Job<'a> {
     let settings = problem.settings();
@@ -250,11 +261,7 @@ pub fn converged_energies_unsorted(
         return Ok(());
     }
     problem.check_memory()?;
-    let mut job = job(problem);
-    job.keep_vectors = false;
-    job.keep_mean_n = false;
-    job.keep_weights = false;
-    job.labels = false;
+    let job = lean_job(problem);
     let LeanBuffers {
         scratch, acc, mags, ..
     } = buffers;
@@ -304,11 +311,7 @@ pub fn converged_energies_near(
     }
     out.clear();
     problem.check_memory()?;
-    let mut job = job(problem);
-    job.keep_vectors = false;
-    job.keep_mean_n = false;
-    job.keep_weights = false;
-    job.labels = false;
+    let job = lean_job(problem);
     let LeanBuffers {
         scratch,
         acc,
