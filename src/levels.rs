@@ -393,6 +393,13 @@ impl Spectrum {
         &self.weights[i * self.dim..(i + 1) * self.dim]
     }
 
+    /// Whether the spectrum carries the character of every level: its component weights
+    /// ([`crate::problem::Weights::Compute`]) and its `<n>` ([`crate::problem::Character::Compute`]),
+    /// as the track records of a sweep report them.
+    pub fn has_character(&self) -> bool {
+        self.mean_n.is_some() && self.weights.len() == self.levels.len() * self.dim
+    }
+
     /// Mean orbital index `<n>` = sum_(n, alpha) n |psi_(n alpha)|^2 of level `i`, when the solve
     /// computed it ([`crate::problem::Character::Compute`]); for a level of the Schrodinger
     /// model in Landau level n it is n.

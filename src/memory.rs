@@ -7,7 +7,8 @@
 //! For a model of d components and B branches (2 in Klein-Gordon form, else 1) at cutoff N the
 //! truncated basis holds N d states and a solve returns L = B N d levels, whatever the
 //! splitting. With `l` = `size_of::<Level>()` bytes per level record and 8 d bytes of
-//! component weights, the peak resident set of one solve is
+//! component weights (0 when the solve skips them, [`crate::problem::Weights::Skip`]), the
+//! peak resident set of one solve is
 //!
 //! ```text
 //! solve = L (l + 8d)              the levels kept in the result
@@ -47,7 +48,9 @@ pub const BASE_BYTES: u64 = 8 << 20;
 /// Bytes of one level record in a result.
 pub const LEVEL_BYTES: u64 = std::mem::size_of::<Level>() as u64;
 
-/// Bytes of one sort key of the final gather.
+/// Bytes of one sort key of the final gather. The stable merge that sorts keys laid out in
+/// natural runs (`solve::gather`) borrows as much again, but frees it before the level records
+/// are allocated, so it does not add to the peak.
 const KEY_BYTES: u64 = 16;
 
 /// Bytes per entry of a dense sector solve: the matrix, the eigenvectors and the solver's
@@ -78,6 +81,9 @@ pub struct SolveShape {
     pub largest_count: u64,
     /// Whether every class conserves J exactly (chunk buffers reserved once).
     pub exact: bool,
+    /// Whether the solve keeps 8 d bytes of component weights per level
+    /// ([`crate::problem::Weights`]); [`SolveShape::new`] assumes it does (the larger estimate).
+    pub weights: bool,
 }
 
 impl SolveShape {
@@ -116,6 +122,7 @@ impl SolveShape {
             largest_sector: largest,
             largest_count: count,
             exact: symmetry.is_exact(),
+            weights: true,
         }
     }
 
@@ -149,12 +156,17 @@ impl SolveShape {
     /// Bytes of the result a solve returns: the level records and their weights, plus the
     /// eigenvectors when `vectors` is true.
     pub fn kept_bytes(&self, vectors: bool) -> u64 {
-        let per_level = LEVEL_BYTES + 8 * self.dim;
+        let per_level = self.level_bytes();
         let mut b = self.levels.saturating_mul(per_level);
         if vectors {
             b = b.saturating_add(self.vector_bytes());
         }
         b
+    }
+
+    /// Bytes of one level of the result: its record and, when kept, its d weights.
+    fn level_bytes(&self) -> u64 {
+        LEVEL_BYTES + if self.weights { 8 * self.dim } else { 0 }
     }
 
     /// Bytes of the eigenvectors: each level keeps the states and coefficients of its sector
@@ -169,7 +181,7 @@ impl SolveShape {
     /// Bytes a solve holds on top of its result while it runs, with `threads` workers: the
     /// chunk buffers, the sort keys and the dense sectors in flight (see the module docs).
     pub fn transient_bytes(&self, threads: u64) -> u64 {
-        let per_level = LEVEL_BYTES + 8 * self.dim;
+        let per_level = self.level_bytes();
         let growth = if self.exact { 1 } else { 2 };
         let buffers = self
             .levels
@@ -324,9 +336,11 @@ pub const SWEEP_OUTLINE_BYTES: u64 = 14;
 
 /// Bytes per level and held value of the Fermi-level sweep's figure (`dos --b-max`, held values
 /// [`crate::plot::decimate::Decimation::max_values`]): every converged level's line keeps its
-/// (field, energy) pairs, 16 bytes, in a buffer that grows by doubling (24 on average over
-/// its growth). An upper bound: levels that are not converged get no line.
-pub const FERMI_LINE_BYTES: u64 = 24;
+/// (field, energy) pairs, 16 bytes, in a buffer that grows by doubling, so its capacity is
+/// below twice its length: 32 bytes per held value at most (with 24, the average over the
+/// growth, a sweep of 600 fields held 16 KiB per line against 14.4 KiB estimated). An upper
+/// bound: levels that are not converged get no line.
+pub const FERMI_LINE_BYTES: u64 = 32;
 
 /// Bytes per level of the Fermi-level sweep's figure that do not grow with its points: the
 /// line's entry in the map of tracks (its key, its state while thinning, the map's node

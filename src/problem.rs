@@ -101,12 +101,14 @@ pub struct Settings {
 /// weights and the convergence states of the levels do not depend on it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Weights {
-    /// d weights per level (the default: the tables, figures and the component character of
-    /// the output read them).
-    #[default]
+    /// d weights per level, on request: the level tables, the track records of sweeps and
+    /// [`crate::observables::labels::pattern_expectation`] read them (the command line and the
+    /// Python module ask for them where their output shows the component character).
     Compute,
-    /// No weights ([`crate::levels::Spectrum::weights`] is empty): for callers that only
-    /// read energies, bounds and labels; saves 8 d bytes per level, written twice.
+    /// No weights ([`crate::levels::Spectrum::weights`] is empty; the default): energies,
+    /// bounds, labels, dominant states and convergence states are the same; saves 8 d bytes
+    /// per level, written twice (at 4e6 levels of a 4-component model, 256 MB of fresh pages).
+    #[default]
     Skip,
 }
 
@@ -145,8 +147,8 @@ pub enum Target {
 }
 
 impl Settings {
-    /// Defaults with the given cutoff: split, model reference, no vectors, tolerance 1e-9,
-    /// automatic precision, 4096 MiB.
+    /// Defaults with the given cutoff: split, model reference, no vectors, no component
+    /// weights, no `<n>`, tolerance 1e-9, automatic precision, 4096 MiB.
     pub fn with_cutoff(cutoff: usize) -> Self {
         Settings {
             cutoff,
@@ -159,7 +161,7 @@ impl Settings {
             target: Target::All,
             dense_max: DENSE_MAX_DEFAULT,
             character: Character::Skip,
-            weights: Weights::Compute,
+            weights: Weights::Skip,
         }
     }
 
@@ -347,7 +349,8 @@ impl<'m> Problem<'m> {
                 ),
             });
         }
-        let shape = SolveShape::new(&symmetry, settings.cutoff, memory::branches(model));
+        let mut shape = SolveShape::new(&symmetry, settings.cutoff, memory::branches(model));
+        shape.weights = settings.weights == Weights::Compute;
         let plan = SectorPlan::new(symmetry, settings.cutoff);
         Ok(Problem {
             model,

@@ -1,15 +1,16 @@
 //! The character of a level: component weights sum_n |psi_(n alpha)|^2 and the mean orbital
 //! index <n> = sum n |psi_n|^2, computed by the solver when asked
-//! (`Settings::character = Character::Compute`), checked against models whose eigenvectors are
+//! (`Settings::weights = Weights::Compute`, `Settings::character = Character::Compute`), checked against models whose eigenvectors are
 //! known in closed form.
 
 use ladderfan::models::{self, Dirac2dParams, MassParams, PauliParams};
-use ladderfan::{Character, FieldPoint, Model, Settings, Spectrum};
+use ladderfan::{Character, FieldPoint, Model, Settings, Spectrum, Weights};
 
-/// The spectrum of `m` at `field` (T) with the character computed.
+/// The spectrum of `m` at `field` (T) with the weights and <n> computed.
 fn solve(m: &Model, field: f64, cutoff: usize) -> Spectrum {
     let settings = Settings {
         character: Character::Compute,
+        weights: Weights::Compute,
         ..Settings::with_cutoff(cutoff)
     };
     Spectrum::compute(m, FieldPoint::field(field), &settings)
@@ -53,13 +54,19 @@ fn weights_sum_to_one_and_mean_n_lies_in_the_basis() {
 }
 
 #[test]
-fn the_default_solve_stores_no_mean_n() {
-    // Settings::with_cutoff leaves Character::Skip: nothing extra is stored.
+fn the_default_solve_stores_no_mean_n_and_no_weights() {
+    // Settings::with_cutoff leaves Character::Skip and Weights::Skip: nothing extra is stored,
+    // and what needs the weights says how to ask for them
     let m = models::schrodinger(MassParams::default()).unwrap_or_else(|e| panic!("{e}"));
     let s = Spectrum::compute(&m, FieldPoint::field(2.0), &Settings::with_cutoff(30))
         .unwrap_or_else(|e| panic!("{e}"));
     assert!(s.mean_n.is_none());
     assert_eq!(s.mean_n_of(0), None);
+    assert!(s.weights.is_empty());
+    assert!(s.weights_of(0).is_empty());
+    let e = ladderfan::observables::labels::pattern_expectation(&s, &[1.0])
+        .expect_err("no weights to read");
+    assert!(e.to_string().contains("Weights::Compute"), "{e}");
 }
 
 #[test]

@@ -210,7 +210,11 @@ fn dirac_ground_level_spin_flips_with_the_sign_of_qb() {
             ..Default::default()
         })
         .unwrap();
-        let s = Spectrum::compute(&m, FieldPoint::field(b), &Settings::with_cutoff(30)).unwrap();
+        let settings = Settings {
+            weights: ladderfan::Weights::Compute,
+            ..Settings::with_cutoff(30)
+        };
+        let s = Spectrum::compute(&m, FieldPoint::field(b), &settings).unwrap();
         let ground: Vec<_> = s.converged().filter(|l| l.energy.abs() < 1e-9).collect();
         assert_eq!(ground.len(), 1, "q {q} B {b}");
         let i = s.levels.iter().position(|l| l == ground[0]).unwrap();

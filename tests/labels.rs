@@ -164,7 +164,12 @@ fn labels_equal_the_closed_form_quantum_numbers_for_every_built_in_model() {
                     field: field(&m, b),
                     kz: 0.0,
                 };
-                let s = ok(Spectrum::compute(&m, point, &Settings::with_cutoff(cutoff)));
+                // the Pauli spin is read from the component weights
+                let settings = Settings {
+                    weights: ladderfan::Weights::Compute,
+                    ..Settings::with_cutoff(cutoff)
+                };
+                let s = ok(Spectrum::compute(&m, point, &settings));
                 let got = computed_groups(&m, &s);
                 let want = expected_groups(&m, &s);
                 let ctx = format!("{} q = {charge} B = {b}", m.name());

@@ -279,7 +279,11 @@ fn spin_and_pseudospin_expectations() {
         charge: -1.0,
     })
     .unwrap();
-    let s = Spectrum::compute(&m, FieldPoint::field(2.0), &with_vectors(30)).unwrap();
+    let settings = Settings {
+        weights: ladderfan::Weights::Compute,
+        ..with_vectors(30)
+    };
+    let s = Spectrum::compute(&m, FieldPoint::field(2.0), &settings).unwrap();
     let sz = pattern_expectation(&s, &[1.0, -1.0]).unwrap();
     let sz_m = matrix_expectation(&s, &ladderfan::matrix::pauli("z").unwrap()).unwrap();
     let sx = matrix_expectation(&s, &ladderfan::matrix::pauli("x").unwrap()).unwrap();
@@ -294,7 +298,11 @@ fn spin_and_pseudospin_expectations() {
     // massless 2D Dirac: the n = 0 level lives on one sublattice (<sigma_z> = ±1), every other
     // level equally on both (<sigma_z> = 0) (McClure 1956; common practice)
     let d = dirac(1.0e6, -1.0);
-    let s = Spectrum::compute(&d, FieldPoint::field(1.0), &Settings::with_cutoff(50)).unwrap();
+    let with_weights = Settings {
+        weights: ladderfan::Weights::Compute,
+        ..Settings::with_cutoff(50)
+    };
+    let s = Spectrum::compute(&d, FieldPoint::field(1.0), &with_weights).unwrap();
     let pz = pattern_expectation(&s, &[1.0, -1.0]).unwrap();
     let e1 = dirac_e1_mev(1.0e6, 1.0);
     for (l, p) in s.levels.iter().zip(&pz) {

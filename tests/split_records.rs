@@ -15,9 +15,11 @@ fn skipping_the_weights_leaves_levels_labels_and_bounds_unchanged() {
             field: 0.02,
             kz: 0.1,
         };
-        let with = Settings::with_cutoff(60);
-        let mut without = with.clone();
-        without.weights = Weights::Skip;
+        let without = Settings::with_cutoff(60);
+        // the default skips the weights; asked for, they change nothing else
+        assert_eq!(without.weights, Weights::Skip);
+        let mut with = without.clone();
+        with.weights = Weights::Compute;
         let a = Spectrum::compute(&model, point, &with).unwrap();
         let b = Spectrum::compute(&model, point, &without).unwrap();
         assert_eq!(a.weights.len(), a.levels.len() * a.dim, "{}", model.name());

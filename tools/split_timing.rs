@@ -27,6 +27,17 @@ fn main() -> Result<()> {
         .and_then(|a| a.parse().ok())
         .unwrap_or(1_000_000);
     let rounds: usize = args.next().and_then(|a| a.parse().ok()).unwrap_or(5);
+    // `profile` as third argument: only the default-precision solve, for a profiler
+    if args.next().as_deref() == Some("profile") {
+        let m = models::dirac(models::RelativisticParams::default())?;
+        let point = FieldPoint { field: 1e-3, kz: 0.05 };
+        for _ in 0..rounds {
+            let t = Instant::now();
+            black_box(Spectrum::compute(&m, point, &Settings::with_cutoff(n))?);
+            println!("{:.3} s", t.elapsed().as_secs_f64());
+        }
+        return Ok(());
+    }
     let m = models::dirac(models::RelativisticParams::default())?;
     let point = FieldPoint {
         field: 1e-3,

@@ -235,6 +235,8 @@ pub(crate) fn settings(
     }
     let mut s = Settings::with_cutoff(cutoff);
     s.memory_limit_mib = limit;
+    // the spectra and records handed to Python carry the component weights
+    s.weights = ladderfan::Weights::Compute;
     Ok(s)
 }
 

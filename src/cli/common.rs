@@ -349,10 +349,12 @@ pub struct Resolved {
 }
 
 impl Resolved {
-    /// Solver settings for these values.
+    /// Solver settings for these values, with the component weights kept (the level tables
+    /// show them).
     pub fn settings(&self) -> Settings {
         let mut s = Settings::with_cutoff(self.cutoff);
         s.memory_limit_mib = self.memory_limit_mib;
+        s.weights = ladderfan::Weights::Compute;
         s
     }
     /// The field point.
@@ -528,22 +530,19 @@ pub fn default_field(m: &Model) -> f64 {
 }
 
 /// The memory check of a whole command (src/memory.rs) whose solves are shaped like the one
-/// at `point` and `cutoff` (a sweep: each point sets up its own problem later): sets up that
-/// problem for the estimate and calls [`check_footprint`].
-#[allow(clippy::too_many_arguments)]
+/// at `point` with `settings` (a sweep: each point sets up its own problem later; the cutoff,
+/// the memory limit and whether weights are kept count): sets up that problem for the estimate
+/// and calls [`check_footprint`].
 pub fn check_memory(
     lm: &LoadedModel,
     path: &str,
     flag: &str,
     point: FieldPoint,
-    cutoff: usize,
-    limit_mib: u64,
+    settings: &Settings,
     footprint: &ladderfan::memory::Footprint,
     threads: Option<usize>,
 ) -> CliResult {
-    let mut settings = Settings::with_cutoff(cutoff);
-    settings.memory_limit_mib = limit_mib;
-    let problem = Problem::new(&lm.model, point, &settings)?;
+    let problem = Problem::new(&lm.model, point, settings)?;
     check_footprint(lm, &problem, path, flag, footprint, threads)
 }
 

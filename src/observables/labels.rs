@@ -182,7 +182,9 @@ pub fn tracks(spectra: &[Spectrum]) -> Vec<Track> {
 /// diag(pattern) (e.g. <sigma_z> with pattern (+1, -1)).
 ///
 /// # Errors
-/// [`Error::InvalidModel`] when the pattern does not have one entry per component.
+/// [`Error::InvalidModel`] when the pattern does not have one entry per component;
+/// [`Error::Unsupported`] when the solve skipped the weights (ask for them with
+/// `Settings.weights = Weights::Compute`).
 pub fn pattern_expectation(spectrum: &Spectrum, pattern: &[f64]) -> Result<Vec<f64>> {
     if pattern.len() != spectrum.dim {
         return Err(Error::InvalidModel {
@@ -194,6 +196,12 @@ pub fn pattern_expectation(spectrum: &Spectrum, pattern: &[f64]) -> Result<Vec<f
             fix: "give one number per component (e.g. 1,-1 for sigma_z of a 2-component model)"
                 .into(),
         });
+    }
+    if spectrum.weights.is_empty() && !spectrum.levels.is_empty() {
+        return Err(Error::Unsupported(
+            "this needs the component weights: compute the spectrum with Settings.weights = Weights::Compute"
+                .into(),
+        ));
     }
     Ok((0..spectrum.levels.len())
         .map(|i| {

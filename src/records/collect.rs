@@ -84,7 +84,7 @@ impl TrackCollector {
     pub fn add(&mut self, index: usize, s: &Spectrum) {
         let (lo, hi) = self.window;
         let margin = 0.5 * (hi - lo);
-        let with_character = s.mean_n.is_some();
+        let with_character = s.has_character();
         self.character &= with_character;
         self.seen += 1;
         for (i, (key, l)) in labels::track_keys(s).into_iter().zip(&s.levels).enumerate() {

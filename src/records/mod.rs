@@ -276,7 +276,7 @@ fn ids(k: &labels::TrackKey) -> [i64; 4] {
 /// identity [`TrackRecord::track`], the order of a shard merge.
 pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> Vec<TrackRecord> {
     let np = spectra.len();
-    let character = spectra.iter().all(|s| s.mean_n.is_some()) && !spectra.is_empty();
+    let character = spectra.iter().all(Spectrum::has_character) && !spectra.is_empty();
     let mut all = labels::tracks(spectra);
     // the order of the integer identity, which is also the order of a shard merge
     all.sort_by_key(|t| ids(&t.key));

@@ -212,7 +212,7 @@ impl OutlineCollector {
     pub fn add(&mut self, index: usize, s: &Spectrum, each: &mut dyn FnMut(KeptValue<'_>)) {
         let (lo, hi) = self.window;
         let margin = 0.5 * (hi - lo);
-        self.character &= s.mean_n.is_some();
+        self.character &= s.has_character();
         self.seen += 1;
         let at_reference = Some(index) == self.reference;
         let x = self.xs.get(index).copied().unwrap_or(f64::NAN);
@@ -253,7 +253,7 @@ impl OutlineCollector {
                 continue;
             }
             t.enters |= e >= lo && e <= hi;
-            let colour = if s.mean_n.is_some() {
+            let colour = if s.has_character() {
                 s.weights_of(i).first().copied().unwrap_or(f64::NAN)
             } else {
                 f64::NAN

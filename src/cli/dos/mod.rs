@@ -421,8 +421,7 @@ fn sweep_fields(
                 field: b_max,
                 kz: r.kz,
             },
-            cutoff,
-            mem,
+            &sweep_settings(cutoff, mem),
             &ladderfan::memory::Footprint::Stream {
                 points: n as u64,
                 in_flight: (2 * ladderfan::sweep::default_batch()).min(n) as u64,
@@ -448,6 +447,14 @@ struct FermiSweep {
 
 /// The Fermi level at fixed 2D density at every field of `fields`, streamed
 /// ([`fermi_sweep_stream`]): memory flat in the number of fields.
+/// Solver settings of a Fermi-level sweep over fields: energies, bounds and labels only (the
+/// component weights are not read).
+fn sweep_settings(cutoff: usize, memory_limit_mib: u64) -> Settings {
+    let mut s = Settings::with_cutoff(cutoff);
+    s.memory_limit_mib = memory_limit_mib;
+    s
+}
+
 fn fermi_sweep_2d(
     a: &DosArgs,
     lm: &LoadedModel,
@@ -463,8 +470,7 @@ fn fermi_sweep_2d(
         .iter()
         .map(|&field| FieldPoint { field, kz: r.kz })
         .collect();
-    let mut s = Settings::with_cutoff(cutoff);
-    s.memory_limit_mib = mem;
+    let s = sweep_settings(cutoff, mem);
     let fermi = a.fermi.settings(n, broadening)?;
     let mut lines = LevelLines::new(fields);
     let mut solutions = Vec::with_capacity(pts.len());

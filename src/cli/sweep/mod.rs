@@ -293,6 +293,8 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
+    // the track records carry each level's component weights
+    settings.weights = ladderfan::Weights::Compute;
     if a.character {
         settings.character = ladderfan::Character::Compute;
     }
@@ -311,8 +313,7 @@ pub fn execute(lm: &LoadedModel, plan: &Plan, a: &SweepArgs) -> CliResult<Outcom
         plan.command,
         "--points",
         plan.points[plan.reference_point],
-        plan.cutoff,
-        plan.memory_limit_mib,
+        &settings,
         &ladderfan::memory::Footprint::Stream {
             points: block.len() as u64,
             in_flight: held,
@@ -535,6 +536,8 @@ pub fn run_streamed(
     check_window_flags(a)?;
     let mut settings = Settings::with_cutoff(plan.cutoff);
     settings.memory_limit_mib = plan.memory_limit_mib;
+    // the track records carry each level's component weights
+    settings.weights = ladderfan::Weights::Compute;
     if a.character {
         settings.character = ladderfan::Character::Compute;
     }
@@ -556,8 +559,7 @@ pub fn run_streamed(
         plan.command,
         "--points",
         plan.points[plan.reference_point],
-        plan.cutoff,
-        plan.memory_limit_mib,
+        &settings,
         &ladderfan::memory::Footprint::Stream {
             points: block.len() as u64,
             in_flight: in_flight(a.threads, block.len()) as u64,
@@ -627,7 +629,7 @@ pub fn run_streamed(
                 );
                 if a.character {
                     cells.extend(render::weight_cells(
-                        s.mean_n.is_some().then(|| s.weights_of(v.level)),
+                        s.has_character().then(|| s.weights_of(v.level)),
                         s.mean_n_of(v.level),
                         dim,
                     ));
