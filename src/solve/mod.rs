@@ -26,7 +26,8 @@
 //!   parallel gather of the levels and weights from the per-chunk buffers, with the
 //!   convergence flags set on the way. Each level is written twice: packed in its chunk buffer
 //!   (88 bytes, `sector::Packed`) and as a [`crate::levels::Level`] in the final array, plus
-//!   8 d bytes of weights each time unless [`Weights::Skip`] is asked for.
+//!   8 d bytes of weights each time when [`Weights::Compute`] is asked for (the default skips
+//!   them).
 //!
 //! Measured (`tools/split_timing.rs`, 3+1 Dirac, N = 1e6 orbitals, 4e6 levels, before the
 //! packed records and the run merge): on two free cores the whole split solve took about 1.5x a
