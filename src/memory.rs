@@ -334,13 +334,25 @@ pub const SWEEP_STREAM_BYTES: u64 = 40;
 /// Streaming sweeps).
 pub const SWEEP_OUTLINE_BYTES: u64 = 14;
 
-/// Bytes per level and held value of the Fermi-level sweep's figure (`dos --b-max`, held values
-/// [`crate::plot::decimate::Decimation::max_values`]): every converged level's line keeps its
-/// (field, energy) pairs, 16 bytes, in a buffer that grows by doubling, so its capacity is
-/// below twice its length: 32 bytes per held value at most (with 24, the average over the
-/// growth, a sweep of 600 fields held 16 KiB per line against 14.4 KiB estimated). An upper
-/// bound: levels that are not converged get no line.
-pub const FERMI_LINE_BYTES: u64 = 32;
+/// Bytes per level and held value of the Fermi-level sweep's figure (`dos --b-max`) when each
+/// line holds at most `held_values` values ([`crate::plot::decimate::Decimation::max_values`],
+/// at most one per field): every converged level's line keeps its (field, energy) pairs, 16
+/// bytes, in a buffer that grows by doubling from 4, so its capacity is at most the next power
+/// of two of `held_values`, and the bytes per held value are ceil(16 next_pow2(h) / h). An
+/// upper bound: levels that are not converged get no line. (With 24, the average over the
+/// growth, a sweep of 600 fields held 16 KiB per line against 14.4 KiB estimated.)
+///
+/// ```
+/// use ladderfan::memory::fermi_line_bytes;
+/// assert_eq!(fermi_line_bytes(512), 16);
+/// assert_eq!(fermi_line_bytes(600), 28); // 1024 slots of 16 bytes for 600 values
+/// assert_eq!(fermi_line_bytes(1), 64); // the first growth reserves 4
+/// ```
+pub fn fermi_line_bytes(held_values: u64) -> u64 {
+    let h = held_values.max(1);
+    let slots = h.max(4).checked_next_power_of_two().unwrap_or(u64::MAX);
+    slots.saturating_mul(16).div_ceil(h)
+}
 
 /// Bytes per level of the Fermi-level sweep's figure that do not grow with its points: the
 /// line's entry in the map of tracks (its key, its state while thinning, the map's node

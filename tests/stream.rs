@@ -6,7 +6,7 @@
 use ladderfan::models::{self, Dirac2dParams};
 use ladderfan::records::{self, KeepTracks, TrackCollector};
 use ladderfan::verify::{self, ClosedFormTally};
-use ladderfan::{sweep, Character, FieldPoint, Model, Settings, Spectrum};
+use ladderfan::{sweep, Character, FieldPoint, Model, Settings, Spectrum, Weights};
 
 /// A massive 2D Dirac cone (invented mass), which has a closed form.
 fn cone() -> Model {
@@ -38,6 +38,7 @@ fn streamed_tracks_equal_the_tracks_of_the_whole_sweep() {
     let pts = points(30);
     let settings = Settings {
         character: Character::Compute,
+        weights: Weights::Compute,
         ..Settings::with_cutoff(60)
     };
     let all = sweep::run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));
@@ -143,6 +144,7 @@ fn outlines_hand_on_the_values_of_the_collected_tracks_and_draw_their_lines() {
     let xs: Vec<f64> = pts.iter().map(|p| p.field).collect();
     let settings = Settings {
         character: Character::Compute,
+        weights: Weights::Compute,
         ..Settings::with_cutoff(60)
     };
     let all = sweep::run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));

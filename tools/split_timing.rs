@@ -32,7 +32,10 @@ fn main() -> Result<()> {
     // `profile` as third argument: only the default-precision solve, for a profiler
     if args.next().as_deref() == Some("profile") {
         let m = models::dirac(models::RelativisticParams::default())?;
-        let point = FieldPoint { field: 1e-3, kz: 0.05 };
+        let point = FieldPoint {
+            field: 1e-3,
+            kz: 0.05,
+        };
         for _ in 0..rounds {
             let t = Instant::now();
             black_box(Spectrum::compute(&m, point, &Settings::with_cutoff(n))?);

@@ -413,6 +413,7 @@ fn sweep_fields(
     if a.fermi.density_cm2.is_some() {
         let (cutoff, mem) = common::resolve_trunc(lm, &a.solve.trunc)?;
         let n = values.len();
+        let held_values = LevelLines::new(&values).decimation().max_values().min(n) as u64;
         common::check_memory(
             lm,
             "dos --b-max",
@@ -425,8 +426,8 @@ fn sweep_fields(
             &ladderfan::memory::Footprint::Stream {
                 points: n as u64,
                 in_flight: (2 * ladderfan::sweep::default_batch()).min(n) as u64,
-                held_points: LevelLines::new(&values).decimation().max_values() as u64,
-                extra_per_level: ladderfan::memory::FERMI_LINE_BYTES,
+                held_points: held_values,
+                extra_per_level: ladderfan::memory::fermi_line_bytes(held_values),
                 per_level: ladderfan::memory::FERMI_LINE_ENTRY_BYTES,
                 buffer_bytes: 0,
             },
