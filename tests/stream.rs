@@ -99,6 +99,41 @@ fn streamed_tracks_equal_the_tracks_of_the_whole_sweep() {
 }
 
 #[test]
+fn tracks_carry_no_character_when_the_weights_were_not_asked_for() {
+    // <n> asked for, the weights not (the library's default): the records, whole or streamed,
+    // carry energies and bounds only, the same as without <n>, instead of empty weights
+    let m = cone();
+    let pts = points(12);
+    let mean_n_only = Settings {
+        character: Character::Compute,
+        ..Settings::with_cutoff(60)
+    };
+    let all = sweep::run(&m, &pts, &mean_n_only).unwrap_or_else(|e| panic!("{e}"));
+    assert!(all.iter().all(|s| s.mean_n.is_some() && !s.has_character()));
+    let reference = pts.len() - 1;
+    let win = window_of(&all[reference]);
+    let whole = records::track_records(&m, &all, reference);
+    assert!(!whole.is_empty());
+    assert!(whole
+        .iter()
+        .all(|t| t.weights.is_none() && t.mean_n.is_none()));
+    let mut streamed = TrackCollector::new(&m, pts.len(), Some(reference), win, KeepTracks::All);
+    for (i, s) in all.iter().enumerate() {
+        streamed.add(i, s);
+    }
+    let streamed = streamed.finish();
+    assert!(!streamed.is_empty());
+    assert!(streamed
+        .iter()
+        .all(|t| t.weights.is_none() && t.mean_n.is_none()));
+    let plain = sweep::run(&m, &pts, &Settings::with_cutoff(60)).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(
+        serde_json::to_string(&whole).unwrap_or_default(),
+        serde_json::to_string(&records::track_records(&m, &plain, reference)).unwrap_or_default()
+    );
+}
+
+#[test]
 fn a_shard_collects_its_points_at_their_places_in_the_whole_sweep() {
     // points 10..20 of 30, the reference (last point) outside the shard
     let m = cone();
