@@ -84,8 +84,11 @@ fn pauli_levels_are_pure_spin() {
     let tol = tol(&s);
     for (i, l) in s.levels.iter().enumerate() {
         let w = s.weights_of(i);
-        assert!((w[l.component] - 1.0).abs() < tol, "level {i}: {w:?}");
-        assert!(w[1 - l.component].abs() < tol, "level {i}: {w:?}");
+        assert!(
+            (w[l.component as usize] - 1.0).abs() < tol,
+            "level {i}: {w:?}"
+        );
+        assert!(w[1 - l.component as usize].abs() < tol, "level {i}: {w:?}");
         let n = s.mean_n_of(i).unwrap_or(f64::NAN);
         assert!((n - l.orbital as f64).abs() < tol, "level {i}: <n> = {n}");
     }

@@ -299,7 +299,7 @@ fn start_basis(
                 n: j,
                 branch: b,
                 origin: LabelOrigin::Continuation,
-                family,
+                family: family as u32,
             });
             values.push(e.values[k]);
             col += 1;

@@ -83,7 +83,7 @@ fn with_indices<R>(len: usize, f: impl FnOnce(&mut [usize]) -> R) -> R {
 /// Label the levels of one exact sector of Landau index `n` (see the module docs). `levels`
 /// holds every level of the sector, in any order; Klein-Gordon levels (`branch` = ±1) are
 /// numbered away from the gap within their own sign.
-pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
+pub fn label_exact_sector(levels: &mut [Level], n: i64, family: u32) {
     with_indices(levels.len(), |all| {
         for (i, a) in all.iter_mut().enumerate() {
             *a = i;
@@ -93,7 +93,7 @@ pub fn label_exact_sector(levels: &mut [Level], n: i64, family: usize) {
 }
 
 /// [`label_exact_sector`] for the levels at indices `group` of `levels`.
-fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: usize) {
+fn label_group(levels: &mut [Level], group: &[usize], n: i64, family: u32) {
     let kg = group.iter().any(|&i| levels[i].branch.sign() != 0);
     if kg {
         for sign in [1i8, -1] {
@@ -188,7 +188,7 @@ pub fn join_kz_families(generic: &LadderHamiltonian, spectrum: &mut Spectrum) {
         }
     }
     for ((gc, j), idx) in groups {
-        let family = g.classes[gc].components[0];
+        let family = g.classes[gc].components[0] as u32;
         label_group(&mut spectrum.levels, &idx, j, family);
     }
 }

@@ -45,7 +45,7 @@ impl TrackKey {
                 n,
                 branch: self.branch,
                 origin,
-                family: self.family,
+                family: self.family as u32,
             },
             None => LandauLabel::UNLABELLED,
         }
@@ -90,7 +90,7 @@ pub fn track_keys(spectrum: &Spectrum) -> Vec<TrackKey> {
         .iter()
         .map(|l| {
             let (family, n, branch) = if l.label.is_known() {
-                (l.label.family, Some(l.label.n), l.label.branch)
+                (l.label.family as usize, Some(l.label.n), l.label.branch)
             } else {
                 let b = match l.branch {
                     Root::Particle => Branch::Upper(1),

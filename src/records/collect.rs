@@ -97,7 +97,7 @@ impl TrackCollector {
                 t.origin = Some(l.label.origin);
             }
             if at_reference {
-                t.component = self.components.get(l.component).cloned();
+                t.component = self.components.get(l.component as usize).cloned();
             }
             let e = l.energy;
             if !l.is_converged() || e < lo - margin || e > hi + margin {

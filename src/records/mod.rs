@@ -184,10 +184,10 @@ pub fn level_records(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelRec
                 sector_label: l.sector.label,
                 branch: l.branch.sign(),
                 orbital: l.orbital,
-                component: l.component,
+                component: l.component as usize,
                 component_name: model
                     .component_names()
-                    .get(l.component)
+                    .get(l.component as usize)
                     .cloned()
                     .unwrap_or_default(),
                 rank: r[i],
@@ -195,7 +195,7 @@ pub fn level_records(model: &Model, s: &Spectrum, idx: &[usize]) -> Vec<LevelRec
                 landau_branch: l.label.branch,
                 label: l.label.to_string(),
                 label_origin: l.label.origin,
-                family: l.label.family,
+                family: l.label.family as usize,
                 weights: s.weights_of(i).to_vec(),
                 mean_n: s.mean_n_of(i),
             }
@@ -303,7 +303,7 @@ pub fn track_records(model: &Model, spectra: &[Spectrum], reference: usize) -> V
                     origin = Some(l.label.origin);
                 }
                 if p.point == reference {
-                    component = model.component_names().get(l.component).cloned();
+                    component = model.component_names().get(l.component as usize).cloned();
                 }
             }
             let id = ids(&t.key);

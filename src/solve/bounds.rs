@@ -202,7 +202,7 @@ fn lower_edge(l: &Level, energy: f64) -> f64 {
 /// artefact by its top weight, or by its weight on the top quarter of the basis), not of the
 /// untruncated operator.
 fn stands_for_nothing(l: &Level) -> bool {
-    is_cutoff_artefact(l) || l.tail_weight >= ARTEFACT_TOP_WEIGHT
+    is_cutoff_artefact(l) || f64::from(l.tail_weight) >= ARTEFACT_TOP_WEIGHT
 }
 
 /// Half-width of the neighbour's exclusion interval (see [`upper_edge`]): its residual bound,

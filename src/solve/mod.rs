@@ -25,7 +25,8 @@
 //!   of those runs, O(L log runs), else a parallel sort, O(L log L), for L levels; then one
 //!   parallel gather of the levels and weights from the per-chunk buffers, with the
 //!   convergence flags set on the way. Each level is written twice: packed in its chunk buffer
-//!   (88 bytes, `sector::Packed`) and as a [`crate::levels::Level`] in the final array, plus
+//!   (80 bytes, `sector::Packed`) and as a [`crate::levels::Level`] (112 bytes) in the final
+//!   array, plus
 //!   8 d bytes of weights each time when [`Weights::Compute`] is asked for (the default skips
 //!   them).
 //!

@@ -8,8 +8,9 @@ use crate::sectors::SectorId;
 /// [`Level`] except the convergence state (the gather sets it; inside the solve it is always
 /// [`Convergence::NotConverged`]), with the sector as its index in the chunk's
 /// [`SectorResult::sectors`], the optional Kato-Temple bound as a value and a flag, and the
-/// orbital, component, family and branch count as 32-bit integers: 88 bytes instead of the
-/// `size_of::<Level>()` of the record, so fewer fresh pages are written and read per level.
+/// orbital, component, family and branch count as 32-bit integers: 80 bytes instead of the
+/// 112 of the public record (`size_of::<Level>()` on a 64-bit target), so fewer fresh pages
+/// are written and read per level.
 ///
 /// The orbital (below the cutoff N) fits in 32 bits whenever the solve can finish: N d levels
 /// beyond 2^32 are refused by the gather ([`super::gather`]); components and families are below
@@ -21,9 +22,9 @@ pub(super) struct Packed {
     kato_temple: f64,
     leakage: f64,
     in_space_residual: f64,
-    top_weight: f64,
-    tail_weight: f64,
     label_n: i64,
+    top_weight: f32,
+    tail_weight: f32,
     orbital: u32,
     sector: u32,
     component: u32,
@@ -57,8 +58,8 @@ impl Packed {
             label_n: l.label.n,
             orbital: l.orbital as u32,
             sector,
-            component: l.component as u32,
-            family: l.label.family as u32,
+            component: l.component,
+            family: l.label.family,
             label_count,
             label_side,
             label_origin: match l.label.origin {
@@ -98,7 +99,7 @@ impl Packed {
             convergence: Convergence::NotConverged,
             sector: sectors[self.sector as usize],
             orbital: self.orbital as usize,
-            component: self.component as usize,
+            component: self.component,
             branch: Root::from_sign(self.root),
             label: LandauLabel {
                 n: self.label_n,
@@ -112,7 +113,7 @@ impl Packed {
                     1 => LabelOrigin::Continuation,
                     _ => LabelOrigin::Unlabelled,
                 },
-                family: self.family as usize,
+                family: self.family,
             },
             top_weight: self.top_weight,
             tail_weight: self.tail_weight,
@@ -168,7 +169,7 @@ mod tests {
                     convergence: Convergence::NotConverged,
                     sector: sectors[r % 2],
                     orbital: 123_456 + i,
-                    component: r,
+                    component: r as u32,
                     branch,
                     label,
                     top_weight: 0.25,
@@ -178,6 +179,12 @@ mod tests {
             }
         }
         assert!(std::mem::size_of::<Packed>() < std::mem::size_of::<Level>());
+        // the sizes the docs and the memory estimate quote (64-bit targets): a field added to
+        // either record must update them
+        if cfg!(target_pointer_width = "64") {
+            assert_eq!(std::mem::size_of::<Packed>(), 80);
+            assert_eq!(std::mem::size_of::<Level>(), 112);
+        }
     }
 
     #[test]

@@ -605,11 +605,12 @@ impl Job<'_> {
             convergence: Convergence::NotConverged,
             sector: id,
             orbital: best.1,
-            component: best.2,
+            component: best.2 as u32,
             branch: Root::Direct,
             label: crate::levels::LandauLabel::UNLABELLED,
-            top_weight: top,
-            tail_weight: tail,
+            // single precision: a diagnostic weight, compared with ARTEFACT_TOP_WEIGHT
+            top_weight: top as f32,
+            tail_weight: tail as f32,
         };
         let lam_full = pair.lam + pair.lam_lo;
         let vector = || LevelVector {
@@ -669,7 +670,7 @@ impl Job<'_> {
         bounds::kato_temple_sector(levels, edges);
         if self.labels && self.plan.symmetry.classes[id.class].conservation.is_exact() {
             let family = self.plan.symmetry.classes[id.class].components[0];
-            crate::labelling::label_exact_sector(levels, id.label, family);
+            crate::labelling::label_exact_sector(levels, id.label, family as u32);
         }
     }
 }

@@ -313,7 +313,7 @@ pub fn study_with(
         levels.push(TrackedLevel {
             sector: top.sector,
             orbital: top.orbital,
-            component: top.component,
+            component: top.component as usize,
             branch: top.branch,
             reference_value,
             exact: kind,

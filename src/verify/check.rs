@@ -16,7 +16,7 @@ fn numerical(spectrum: &Spectrum, i: usize) -> NumericalLevel {
         energy: l.energy,
         bound: l.bound,
         orbital: l.orbital,
-        component: l.component,
+        component: l.component as usize,
         sector: l.sector,
         label: l.label,
         state: l.convergence,

@@ -185,7 +185,7 @@ fn auto_json<'a>(
                     state: l.convergence,
                     sector: format!("{}:{}", l.sector.class, l.sector.label),
                     orbital: l.orbital,
-                    component: l.component,
+                    component: l.component as usize,
                 }
             })
             .collect(),
