@@ -337,8 +337,11 @@ pub const SWEEP_OUTLINE_BYTES: u64 = 14;
 /// Bytes per level and held value of the Fermi-level sweep's figure (`dos --b-max`) when each
 /// line holds at most `held_values` values ([`crate::plot::decimate::Decimation::max_values`],
 /// at most one per field): every converged level's line keeps its (field, energy) pairs, 16
-/// bytes, in a buffer that grows by doubling from 4, so its capacity is at most the next power
-/// of two of `held_values`, and the bytes per held value are ceil(16 next_pow2(h) / h). An
+/// bytes, in a buffer that grows by doubling from 4 (`Vec::push` of the Rust standard library:
+/// at least 4 slots for elements of this size, then twice the capacity; from memory of its
+/// `RawVec`, and held by the peak measured in tests/memory.rs), so its capacity is at most the
+/// next power of two of `held_values`, and the bytes per held value are
+/// ceil(16 next_pow2(h) / h). An
 /// upper bound: levels that are not converged get no line. (With 24, the average over the
 /// growth, a sweep of 600 fields held 16 KiB per line against 14.4 KiB estimated.)
 ///

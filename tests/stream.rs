@@ -32,15 +32,20 @@ fn window_of(s: &Spectrum) -> (f64, f64) {
     (0.1 * lo, 0.15 * hi)
 }
 
+/// Settings at cutoff 60 with <n> asked for, and the component weights as `weights` says.
+fn with_character(weights: Weights) -> Settings {
+    Settings {
+        character: Character::Compute,
+        weights,
+        ..Settings::with_cutoff(60)
+    }
+}
+
 #[test]
 fn streamed_tracks_equal_the_tracks_of_the_whole_sweep() {
     let m = cone();
     let pts = points(30);
-    let settings = Settings {
-        character: Character::Compute,
-        weights: Weights::Compute,
-        ..Settings::with_cutoff(60)
-    };
+    let settings = with_character(Weights::Compute);
     let all = sweep::run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));
     let reference = pts.len() - 1;
     let win = window_of(&all[reference]);
@@ -104,10 +109,7 @@ fn tracks_carry_no_character_when_the_weights_were_not_asked_for() {
     // carry energies and bounds only, the same as without <n>, instead of empty weights
     let m = cone();
     let pts = points(12);
-    let mean_n_only = Settings {
-        character: Character::Compute,
-        ..Settings::with_cutoff(60)
-    };
+    let mean_n_only = with_character(Weights::Skip);
     let all = sweep::run(&m, &pts, &mean_n_only).unwrap_or_else(|e| panic!("{e}"));
     assert!(all.iter().all(|s| s.mean_n.is_some() && !s.has_character()));
     let reference = pts.len() - 1;
@@ -177,11 +179,7 @@ fn outlines_hand_on_the_values_of_the_collected_tracks_and_draw_their_lines() {
     let m = cone();
     let pts = points(30);
     let xs: Vec<f64> = pts.iter().map(|p| p.field).collect();
-    let settings = Settings {
-        character: Character::Compute,
-        weights: Weights::Compute,
-        ..Settings::with_cutoff(60)
-    };
+    let settings = with_character(Weights::Compute);
     let all = sweep::run(&m, &pts, &settings).unwrap_or_else(|e| panic!("{e}"));
     let reference = pts.len() - 1;
     let win = window_of(&all[reference]);

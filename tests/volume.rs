@@ -342,19 +342,14 @@ fn tilted_warped_cone(tilt: f64) -> ladderfan::Model {
         .unwrap()
 }
 
-#[test]
-fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
-    // Oracle: Spectrum::solve_unlabelled (the parallel solve with level records), whose
-    // converged levels the lean path must reproduce: same count (same convergence flags) and
-    // the same energies within a few eps of the largest level (same sector solves).
-    use ladderfan::solve::{converged_energies, LeanBuffers, Problem};
-    use ladderfan::{FieldPoint, Spectrum};
-    let weyl = models::weyl(WeylParams::default()).unwrap();
-    let dirac = models::dirac(models::RelativisticParams::default()).unwrap();
-    let warped = tilted_warped_cone(50.0);
-    let cases = [
+/// The models and points of the lean-path tests: a Weyl node (2x2 sectors, chiral level), the
+/// gapped 3+1 Dirac model (4x4 sectors) and the tilted warped cone (dense J mod 3 sectors, odd
+/// tilt), each with its cutoff.
+fn lean_cases() -> [(ladderfan::Model, ladderfan::FieldPoint, usize); 3] {
+    use ladderfan::FieldPoint;
+    [
         (
-            &weyl,
+            models::weyl(WeylParams::default()).unwrap(),
             FieldPoint {
                 field: 4.0,
                 kz: 0.1,
@@ -362,7 +357,7 @@ fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
             200,
         ),
         (
-            &dirac,
+            models::dirac(models::RelativisticParams::default()).unwrap(),
             FieldPoint {
                 field: 0.05,
                 kz: 0.3,
@@ -370,29 +365,44 @@ fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
             80,
         ),
         (
-            &warped,
+            tilted_warped_cone(50.0),
             FieldPoint {
                 field: 3.0,
                 kz: -0.02,
             },
             60,
         ),
-    ];
+    ]
+}
+
+/// The oracle of the lean-path tests: the converged energies of `Spectrum::solve_unlabelled`
+/// (the parallel solve with level records), ascending, and the largest of their magnitudes.
+fn full_converged(problem: &ladderfan::solve::Problem<'_>) -> (Vec<f64>, f64) {
+    let full: Vec<f64> = ladderfan::Spectrum::solve_unlabelled(problem)
+        .unwrap()
+        .converged()
+        .map(|l| l.energy)
+        .collect();
+    assert!(!full.is_empty(), "{}", problem.model().name());
+    let scale = full.iter().fold(0.0f64, |m, e| m.max(e.abs()));
+    (full, scale)
+}
+
+#[test]
+fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
+    // Oracle: full_converged, whose converged levels the lean path must reproduce: same count
+    // (same convergence flags) and the same energies within a few eps of the largest level
+    // (same sector solves).
+    use ladderfan::solve::{converged_energies, LeanBuffers, Problem};
     let mut buffers = LeanBuffers::default();
     let mut lean = Vec::new();
-    for (model, point, cutoff) in cases {
-        let problem = Problem::new(model, point, &Settings::with_cutoff(cutoff)).unwrap();
+    for (model, point, cutoff) in lean_cases() {
+        let problem = Problem::new(&model, point, &Settings::with_cutoff(cutoff)).unwrap();
         // twice through the same buffers: the second call must not see the first's levels
         for _ in 0..2 {
             converged_energies(&problem, &mut buffers, &mut lean).unwrap();
-            let full: Vec<f64> = Spectrum::solve_unlabelled(&problem)
-                .unwrap()
-                .converged()
-                .map(|l| l.energy)
-                .collect();
-            assert!(!full.is_empty(), "{}", model.name());
+            let (full, scale) = full_converged(&problem);
             assert_eq!(lean.len(), full.len(), "{}", model.name());
-            let scale = full.iter().fold(0.0f64, |m, e| m.max(e.abs()));
             for (a, b) in lean.iter().zip(&full) {
                 assert!(
                     (a - b).abs() <= 4.0 * f64::EPSILON * scale,
@@ -406,59 +416,24 @@ fn lean_sheet_energies_are_the_converged_levels_of_the_full_solve() {
 
 #[test]
 fn sheet_levels_near_a_window_are_those_of_the_full_solve() {
-    // Oracle: Spectrum::solve_unlabelled (the parallel solve with level records). The lean
-    // path that leaves out sectors wholly outside a window must keep every converged level
-    // inside it (same count, same energies within a few eps of the largest level), keep only
-    // levels of the full solve, and answer "is there a converged level at or beyond each end"
-    // as the full solve does; and it must leave something out somewhere (or it tests
-    // nothing). Models: a Weyl node (2x2 sectors, chiral level), the gapped 3+1 Dirac model
-    // (4x4 sectors), the tilted warped cone (dense J mod 3 sectors, odd tilt); windows inside
-    // the spectrum, straddling zero, off to one side, and above every converged level.
+    // Oracle: full_converged. The lean path that leaves out sectors wholly outside a window
+    // must keep every converged level inside it (same count, same energies within a few eps of
+    // the largest level), keep only levels of the full solve, and answer "is there a converged
+    // level at or beyond each end" as the full solve does; and it must leave something out
+    // somewhere (or it tests nothing). Models of lean_cases; windows inside the spectrum,
+    // straddling zero, off to one side, and above every converged level.
     use ladderfan::solve::{converged_energies_near, LeanBuffers, Problem};
-    use ladderfan::{FieldPoint, Spectrum};
-    let weyl = models::weyl(WeylParams::default()).unwrap();
-    let dirac = models::dirac(models::RelativisticParams::default()).unwrap();
-    let warped = tilted_warped_cone(50.0);
-    let cases = [
-        (
-            &weyl,
-            4.0,
-            0.1,
-            200,
-            [(-49.0, 49.0), (10.0, 30.0), (-3.0, 2.0), (1e6, 2e6)],
-        ),
-        (
-            &dirac,
-            0.05,
-            0.3,
-            80,
-            [(-1.5, 1.5), (1.0, 1.2), (-0.2, 0.2), (1e6, 2e6)],
-        ),
-        (
-            &warped,
-            3.0,
-            -0.02,
-            60,
-            [(-40.0, 40.0), (-60.0, -20.0), (5.0, 9.0), (1e7, 2e7)],
-        ),
+    let windows = [
+        [(-49.0, 49.0), (10.0, 30.0), (-3.0, 2.0), (1e6, 2e6)],
+        [(-1.5, 1.5), (1.0, 1.2), (-0.2, 0.2), (1e6, 2e6)],
+        [(-40.0, 40.0), (-60.0, -20.0), (5.0, 9.0), (1e7, 2e7)],
     ];
     let mut buffers = LeanBuffers::default();
     let mut near = Vec::new();
     let mut left_out_somewhere = false;
-    for (model, field, kz, cutoff, windows) in cases {
-        let problem = Problem::new(
-            model,
-            FieldPoint { field, kz },
-            &Settings::with_cutoff(cutoff),
-        )
-        .unwrap();
-        let full: Vec<f64> = Spectrum::solve_unlabelled(&problem)
-            .unwrap()
-            .converged()
-            .map(|l| l.energy)
-            .collect();
-        assert!(!full.is_empty(), "{}", model.name());
-        let scale = full.iter().fold(0.0f64, |m, e| m.max(e.abs()));
+    for ((model, point, cutoff), windows) in lean_cases().into_iter().zip(windows) {
+        let problem = Problem::new(&model, point, &Settings::with_cutoff(cutoff)).unwrap();
+        let (full, scale) = full_converged(&problem);
         let close = |a: f64, b: f64| (a - b).abs() <= 4.0 * f64::EPSILON * scale;
         for (lo, hi) in windows {
             for below_too in [false, true] {

@@ -48,12 +48,7 @@ fn main() -> Result<()> {
     let w = warping::warped()?;
     for n in [100_000usize, 1_000_000] {
         for split in [Splitting::Auto, Splitting::Off] {
-            let mut s = Settings::with_cutoff(n);
-            s.target = Target::Nearest {
-                energy: 100.0,
-                count: 20,
-            };
-            s.splitting = split;
+            let s = warping::window_settings(n, split);
             let t = Instant::now();
             let sp = Spectrum::compute(&w, FieldPoint::field(10.0), &s)?;
             println!(

@@ -24,12 +24,7 @@ fn main() -> Result<()> {
     // invented two-band model with cubic warping (J mod 3 only), as in timing_probe
     let w = warping::warped()?;
     for _ in 0..repeats {
-        let mut s = Settings::with_cutoff(n);
-        s.target = Target::Nearest {
-            energy: 100.0,
-            count: 20,
-        };
-        s.splitting = split;
+        let s = warping::window_settings(n, split);
         let t = Instant::now();
         let sp = Spectrum::compute(&w, FieldPoint::field(10.0), &s)?;
         let e: Vec<String> = sp
