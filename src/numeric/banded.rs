@@ -66,6 +66,9 @@ pub struct BandedHermitian {
     /// Imaginary parts in the same layout, or empty when every element is real (a real
     /// matrix is stored in 8 bytes an element, half the complex storage).
     im: Vec<f64>,
+    /// [`BandedHermitian::norm_bound`], computed at its first use (the matrix never changes
+    /// after it is built, and the window solver, its factorisations and the caller each ask).
+    norm: std::sync::OnceLock<f64>,
 }
 
 /// Inertia of H - sigma I: how many eigenvalues of H lie below sigma.
@@ -142,7 +145,13 @@ impl BandedHermitian {
                 }
             }
         }
-        Ok(BandedHermitian { n, b, re, im })
+        Ok(BandedHermitian {
+            n,
+            b,
+            re,
+            im,
+            norm: std::sync::OnceLock::new(),
+        })
     }
 
     /// Matrix size n.
@@ -190,8 +199,13 @@ impl BandedHermitian {
     }
 
     /// The largest absolute row sum, max_i sum_j |H_ij|: an upper bound of the 2-norm, used to
-    /// scale tolerances. O(n b).
+    /// scale tolerances. O(n b) at the first call, then kept with the matrix.
     pub fn norm_bound(&self) -> f64 {
+        *self.norm.get_or_init(|| self.row_sum_max())
+    }
+
+    /// max_i sum_j |H_ij| over the stored band (both triangles).
+    fn row_sum_max(&self) -> f64 {
         let mut rows = vec![0.0f64; self.n];
         let w = self.b + 1;
         for i in 0..self.n {

@@ -15,7 +15,9 @@ use num_complex::Complex64;
 
 /// One step of subspace iteration with Rayleigh–Ritz in H on the `k` Lanczos Ritz vectors in
 /// the first columns of `basis`: X' = (H - sigma)^(-1) X, orthonormalised (against the locked
-/// vectors too), then the Ritz pairs of H in span X'. Returns the buffer with the chosen
+/// vectors too), then the Ritz pairs of H in span X'. `guess` holds the Lanczos estimates
+/// sigma + 1/theta of the k eigenvalues (the Rayleigh quotients of the Lanczos pairs are
+/// computed from them in one pass when they are close). Returns the buffer with the chosen
 /// vectors in its first k columns, their Rayleigh quotients and explicit residuals.
 ///
 /// Why: the Lanczos Ritz vectors carry rounding in directions far from sigma, where ||H|| is
@@ -35,6 +37,7 @@ pub(super) fn refine<T: Scalar>(
     lu: &ShiftInverse<T>,
     mut basis: DMatrix<T>,
     k: usize,
+    guess: &[f64],
     locked: &[&[T]],
 ) -> Result<(DMatrix<T>, Vec<f64>, Vec<f64>)> {
     use rayon::prelude::*;
@@ -42,7 +45,8 @@ pub(super) fn refine<T: Scalar>(
     let backup = basis.ncols() >= 2 * k;
     let q0 = if backup { k } else { 0 };
     // the Lanczos pairs are only a fallback when they survive beside the refined block
-    let old: Option<Vec<(f64, f64)>> = backup.then(|| rayleigh_exact(h, basis.as_slice(), k));
+    let old: Option<Vec<(f64, f64)>> =
+        backup.then(|| rayleigh_guessed(h, basis.as_slice(), k, guess));
     if backup {
         basis.as_mut_slice().copy_within(0..k * n, k * n);
     }
@@ -241,10 +245,95 @@ fn rayleigh_near<T: Scalar>(
         .collect()
 }
 
-/// Rayleigh quotients and explicit residuals of the first k unit columns of `q`: one pass for
-/// the quotients, one for the residuals ([`rayleigh_near`] from them).
-fn rayleigh_exact<T: Scalar>(h: &BandedHermitian, q: &[T], k: usize) -> Vec<(f64, f64)> {
-    let first = rayleigh_near(h, q, k, &vec![0.0; k]);
+/// Rayleigh quotients and explicit residuals of the first k unit columns of `q` from guesses
+/// of the quotients: one pass of [`rayleigh_near`], and a second from the quotients of the
+/// first only when a guess was far off. Close means |lambda - g| <= 1e3 r (r the residual):
+/// then ||r_g||^2 = r^2 + (lambda - g)^2 <= (1 + 1e6) r^2, and the rounding of the sum,
+/// about eps ||r_g||^2, changes r^2 by at most about 2e-10 of itself. A guess far off (0, say,
+/// or an unconverged estimate) fails the test because the cancellation then leaves at least
+/// about sqrt(eps) |lambda - g| in the computed r.
+fn rayleigh_guessed<T: Scalar>(
+    h: &BandedHermitian,
+    q: &[T],
+    k: usize,
+    guess: &[f64],
+) -> Vec<(f64, f64)> {
+    let first = rayleigh_near(h, q, k, guess);
+    let close = first.iter().zip(guess).all(|(p, g)| {
+        let d = p.0 - g;
+        d.is_finite() && d * d <= 1e6 * p.1 * p.1
+    });
+    if close {
+        return first;
+    }
     let values: Vec<f64> = first.iter().map(|p| p.0).collect();
     rayleigh_near(h, q, k, &values)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::numeric::lanczos::SplitMix;
+
+    /// A real band matrix (b = 2) with a random diagonal, and a unit vector near one of its
+    /// eigenvectors: the eigenvector plus a perturbation of size `eps_pert`.
+    fn case(eps_pert: f64) -> (BandedHermitian, Vec<f64>, f64) {
+        let n = 300;
+        let mut rng = SplitMix(7);
+        let diag: Vec<f64> = (0..n).map(|_| 4.0 * rng.uniform()).collect();
+        let h = BandedHermitian::from_fn(n, 2, |i, j| {
+            Complex64::new(
+                match i - j {
+                    0 => diag[i],
+                    1 => -1.0,
+                    _ => 0.25,
+                },
+                0.0,
+            )
+        })
+        .unwrap();
+        let e = crate::numeric::window::nearest(&h, 1.3, 1).unwrap();
+        let mut q: Vec<f64> = (0..n).map(|i| e.vectors[(i, 0)].re).collect();
+        for z in q.iter_mut() {
+            *z += eps_pert * rng.uniform();
+        }
+        let nq = q.iter().map(|z| z * z).sum::<f64>().sqrt();
+        q.iter_mut().for_each(|z| *z /= nq);
+        (h, q, e.values[0])
+    }
+
+    /// The quotient and residual computed directly: q^T H q and ||H q - lambda q||.
+    fn direct(h: &BandedHermitian, q: &[f64]) -> (f64, f64) {
+        let mut hq = vec![0.0; q.len()];
+        h.mul_into(q, &mut hq);
+        let lam: f64 = q.iter().zip(&hq).map(|(a, b)| a * b).sum();
+        let r = hq
+            .iter()
+            .zip(q)
+            .map(|(a, b)| (a - lam * b).powi(2))
+            .sum::<f64>()
+            .sqrt();
+        (lam, r)
+    }
+
+    #[test]
+    fn one_pass_from_a_close_guess_and_two_from_a_far_one_agree_with_the_direct_values() {
+        for pert in [1e-9, 1e-5, 1e-2] {
+            let (h, q, lam) = case(pert);
+            let (l0, r0) = direct(&h, &q);
+            // close (the eigenvalue itself), far (0 and 1e3) and exact guesses
+            for g in [lam, 0.0, 1e3, l0] {
+                let got = rayleigh_guessed(&h, &q, 1, &[g]);
+                let (l, r) = got[0];
+                assert!(
+                    (l - l0).abs() <= 1e-13 * (1.0 + l0.abs()),
+                    "{pert} {g}: {l} vs {l0}"
+                );
+                assert!(
+                    (r - r0).abs() <= 1e-6 * r0 + 1e-13,
+                    "{pert} {g}: residual {r} vs {r0}"
+                );
+            }
+        }
+    }
 }

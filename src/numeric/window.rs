@@ -439,20 +439,24 @@ fn search<T: Scalar>(
         if room == 0 {
             break;
         }
-        let (basis, k) = match krylov_schur(lu, n, want.min(room), &locked, &mut rng)? {
+        let (basis, k, thetas) = match krylov_schur(lu, n, want.min(room), &locked, &mut rng)? {
             Krylov::Done {
                 basis,
                 count,
+                thetas,
                 steps,
                 restarts,
             } => {
                 work.lanczos_steps += steps;
                 work.restarts += restarts;
-                (basis, count)
+                (basis, count, thetas)
             }
             Krylov::ShiftTooClose { radius } => return Ok(Search::ShiftTooClose { radius }),
         };
-        let (block, values, residuals) = refine(h, lu, basis, k, &locked)?;
+        // the Lanczos eigenvalue estimates sigma + 1/theta, the guesses of their Rayleigh
+        // quotients in H
+        let guess: Vec<f64> = thetas.iter().map(|t| sigma + 1.0 / t).collect();
+        let (block, values, residuals) = refine(h, lu, basis, k, &guess, &locked)?;
         blocks.push(block);
         for c in 0..k {
             found.push(Found {
