@@ -12,9 +12,12 @@
 //!   are `norm3` (a plain sqrt of the sum of squares, rescaled by a power of two only outside
 //!   2^-500..2^500) instead of libm's `hypot`: relative error at most 2 eps against `hypot`'s
 //!   1 ulp, far inside the rounding floor 4 eps ||H|| of a dense level (`solve::sector`).
-//! - sizes 3 and 4: nalgebra's fixed-size `SymmetricEigen` on `Matrix3`/`Matrix4` (stack
-//!   storage; measured in `tools/window_timing.rs` on a loaded machine at 2.5 s and 4.2 s
-//!   per million solves with vectors, on par with nalgebra's dynamic solver).
+//! - sizes 3 and 4, real symmetric: cyclic Jacobi on the stack ([`super::jacobi`]; residuals
+//!   and orthogonality to a few eps ||H||); complex Hermitian (and the real case in the
+//!   never-seen event that Jacobi does not converge): nalgebra's fixed-size `SymmetricEigen`
+//!   on `Matrix3`/`Matrix4` (stack storage; measured in `tools/window_timing.rs` on a loaded
+//!   machine at 2.5 s and 4.2 s per million solves with vectors, on par with nalgebra's
+//!   dynamic solver).
 //! - sizes 5 to 255 (to 639 for real values only): faer's self-adjoint eigensolver (unblocked Householder
 //!   tridiagonalisation, then QR iteration for values or divide and conquer for vectors), in
 //!   real arithmetic (faer `Mat<f64>`) when every imaginary part of the lower triangle is
@@ -57,7 +60,8 @@ pub struct DenseEigen {
 /// Eigenvalues (ascending) and optionally eigenvectors of the Hermitian matrix `h`, whose lower
 /// triangle (diagonal included) is read; the strict upper triangle is ignored.
 ///
-/// The path is chosen by size: closed form for sizes 1 and 2, nalgebra fixed-size for 3 and 4,
+/// The path is chosen by size: closed form for sizes 1 and 2, cyclic Jacobi (real) or nalgebra
+/// fixed-size (complex) for 3 and 4,
 /// faer for 5 to 255 and a blocked Householder reduction with faer's tridiagonal solvers from
 /// 256 on (both in real arithmetic when every imaginary part is exactly zero). See the module
 /// documentation for the formulas.
@@ -134,18 +138,26 @@ pub fn eigh_into(h: &DMatrix<Complex64>, vectors: Vectors, out: &mut DenseEigen)
             out.vectors = want.then(|| DMatrix::from_element(s, s, Complex64::new(1.0, 0.0)));
         }
         2 => eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors, out),
-        3 if real => fixed(
-            Matrix3::from_fn(|i, j| lower(h, i, j).re),
-            vectors,
-            real_to_c,
-            out,
-        ),
-        4 if real => fixed(
-            Matrix4::from_fn(|i, j| lower(h, i, j).re),
-            vectors,
-            real_to_c,
-            out,
-        ),
+        3 if real => {
+            if !small_real::<3>(h, vectors, out) {
+                fixed(
+                    Matrix3::from_fn(|i, j| lower(h, i, j).re),
+                    vectors,
+                    real_to_c,
+                    out,
+                );
+            }
+        }
+        4 if real => {
+            if !small_real::<4>(h, vectors, out) {
+                fixed(
+                    Matrix4::from_fn(|i, j| lower(h, i, j).re),
+                    vectors,
+                    real_to_c,
+                    out,
+                );
+            }
+        }
         3 => fixed(Matrix3::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
         4 => fixed(Matrix4::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
         _ if real => *out = faer_real(h, vectors)?,
@@ -254,6 +266,44 @@ fn eigh2(a: f64, c: Complex64, d: f64, vectors: Vectors, out: &mut DenseEigen) {
         }
     }
     out.vectors = Some(v);
+}
+
+/// Real symmetric sizes 3 and 4 by cyclic Jacobi ([`super::jacobi`]), sorted ascending;
+/// false (with `out` untouched but for its values cleared) when Jacobi declines.
+fn small_real<const N: usize>(
+    h: &DMatrix<Complex64>,
+    vectors: Vectors,
+    out: &mut DenseEigen,
+) -> bool {
+    let mut a = [[0.0; N]; N];
+    for (i, row) in a.iter_mut().enumerate() {
+        for (j, x) in row.iter_mut().enumerate() {
+            *x = lower(h, i, j).re;
+        }
+    }
+    let mut v = [[0.0; N]; N];
+    let want = vectors == Vectors::Compute;
+    let Some(d) = super::jacobi::jacobi(a, want.then_some(&mut v)) else {
+        return false;
+    };
+    let mut order = [0usize; N];
+    for (k, o) in order.iter_mut().enumerate() {
+        *o = k;
+    }
+    order.sort_by(|&x, &y| d[x].total_cmp(&d[y]));
+    out.values.extend(order.iter().map(|&k| d[k]));
+    if want {
+        let mut m = reuse(&mut out.vectors, N);
+        for (j, &k) in order.iter().enumerate() {
+            for (i, row) in v.iter().enumerate() {
+                m[(i, j)] = Complex64::new(row[k], 0.0);
+            }
+        }
+        out.vectors = Some(m);
+    } else {
+        out.vectors = None;
+    }
+    true
 }
 
 /// nalgebra fixed-size path (sizes 3 and 4), sorted ascending; `T` is f64 for a real

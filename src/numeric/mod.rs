@@ -9,6 +9,8 @@
 //! # Paths and complexity (s = matrix size, n = banded size, b = half-bandwidth)
 //! * [`dense`]: one Hermitian eigen-solve, the fastest exact path chosen by size: O(s^3) time,
 //!   O(s^2) memory.
+//! * `jacobi` (private): cyclic Jacobi for the real symmetric sizes 3 and 4 behind [`dense`]:
+//!   O(s^3) a sweep, a few sweeps, no heap memory.
 //! * `tridiag` (private): the blocked Householder tridiagonal reduction behind [`dense`] from size 256
 //!   on: about (4/3) s^3 flops, one read of the trailing triangle per column.
 //! * [`banded`]: banded Hermitian storage, shifted LU with partial pivoting and Sylvester
@@ -34,6 +36,7 @@
 pub mod banded;
 pub mod dd;
 pub mod dense;
+mod jacobi;
 mod joint;
 mod lanczos;
 pub mod ldl;
