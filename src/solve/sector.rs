@@ -402,9 +402,14 @@ impl Job<'_> {
         if hs.shape() != (s, s) {
             *hs = DMatrix::zeros(s, s);
         }
+        // the lower triangle from the couplings, the upper as its conjugate: the eigen-solve
+        // reads the lower triangle only, and the residuals then use the same Hermitian matrix
         for c in 0..s {
-            for r in 0..s {
-                hs[(r, c)] = element(r, c);
+            hs[(c, c)] = element(c, c);
+            for r in c + 1..s {
+                let z = element(r, c);
+                hs[(r, c)] = z;
+                hs[(c, r)] = z.conj();
             }
         }
         dense::eigh_into(hs, vectors, eig)?;
