@@ -12,12 +12,12 @@
 //!   are `norm3` (a plain sqrt of the sum of squares, rescaled by a power of two only outside
 //!   2^-500..2^500) instead of libm's `hypot`: relative error at most 2 eps against `hypot`'s
 //!   1 ulp, far inside the rounding floor 4 eps ||H|| of a dense level (`solve::sector`).
-//! - sizes 3 and 4, real symmetric: cyclic Jacobi on the stack ([`super::jacobi`]; residuals
-//!   and orthogonality to a few eps ||H||); complex Hermitian (and the real case in the
-//!   never-seen event that Jacobi does not converge): nalgebra's fixed-size `SymmetricEigen`
-//!   on `Matrix3`/`Matrix4` (stack storage; measured in `tools/window_timing.rs` on a loaded
-//!   machine at 2.5 s and 4.2 s per million solves with vectors, on par with nalgebra's
-//!   dynamic solver).
+//! - sizes 3 and 4, real symmetric: cyclic Jacobi on the stack (the private module
+//!   `numeric::jacobi`; residuals and orthogonality to a few eps ||H||); complex Hermitian
+//!   (and the real case in the never-seen event that Jacobi does not converge): nalgebra's
+//!   fixed-size `SymmetricEigen` on `Matrix3`/`Matrix4` (stack storage; measured in
+//!   `tools/window_timing.rs` on a loaded machine at 2.5 s and 4.2 s per million solves with
+//!   vectors, on par with nalgebra's dynamic solver).
 //! - sizes 5 to 255 (to 639 for real values only): faer's self-adjoint eigensolver (unblocked Householder
 //!   tridiagonalisation, then QR iteration for values or divide and conquer for vectors), in
 //!   real arithmetic (faer `Mat<f64>`) when every imaginary part of the lower triangle is
