@@ -138,26 +138,21 @@ pub fn eigh_into(h: &DMatrix<Complex64>, vectors: Vectors, out: &mut DenseEigen)
             out.vectors = want.then(|| DMatrix::from_element(s, s, Complex64::new(1.0, 0.0)));
         }
         2 => eigh2(h[(0, 0)].re, h[(1, 0)].conj(), h[(1, 1)].re, vectors, out),
-        3 if real => {
-            if !small_real::<3>(h, vectors, out) {
-                fixed(
-                    Matrix3::from_fn(|i, j| lower(h, i, j).re),
-                    vectors,
-                    real_to_c,
-                    out,
-                );
-            }
-        }
-        4 if real => {
-            if !small_real::<4>(h, vectors, out) {
-                fixed(
-                    Matrix4::from_fn(|i, j| lower(h, i, j).re),
-                    vectors,
-                    real_to_c,
-                    out,
-                );
-            }
-        }
+        // real 3 and 4 by Jacobi; the nalgebra arms below only if it declines
+        3 if real && small_real::<3>(h, vectors, out) => {}
+        4 if real && small_real::<4>(h, vectors, out) => {}
+        3 if real => fixed(
+            Matrix3::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+            real_to_c,
+            out,
+        ),
+        4 if real => fixed(
+            Matrix4::from_fn(|i, j| lower(h, i, j).re),
+            vectors,
+            real_to_c,
+            out,
+        ),
         3 => fixed(Matrix3::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
         4 => fixed(Matrix4::from_fn(|i, j| lower(h, i, j)), vectors, |z| z, out),
         _ if real => *out = faer_real(h, vectors)?,

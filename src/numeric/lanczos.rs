@@ -63,13 +63,7 @@ pub(super) enum Krylov<T: Scalar> {
 /// over n numbers per Lanczos step (the reorthogonalisation dominates the time; measured in
 /// `tools/window_timing.rs` and `scripts/compare.sh`).
 pub(super) fn basis_size(want: usize, room: usize) -> usize {
-    let extra = std::env::var("LF_EXTRA")
-        .ok()
-        .and_then(|v| v.parse::<usize>().ok());
-    match extra {
-        Some(e) => (want + (want / 2).max(e)).min(room),
-        None => (want + (want / 2).max(12)).min(room),
-    }
+    (want + (want / 2).max(12)).min(room)
 }
 
 /// Krylov–Schur Lanczos on (H - sigma)^(-1) restricted to the complement of `locked`;
